@@ -1,0 +1,167 @@
+"""Intervals and tests for shares of respondents, and their multiple-testing correction.
+
+Every share in an export is a share of *respondents* (k of n people), so the
+interval is a binomial one: the Wilson score interval, which stays inside [0, 1]
+and behaves well for the small groups and the 0 or n counts that interview
+studies produce. Differences between groups (women vs men, farmers vs traders)
+are tested on a contingency table of groups x (yes, no), with the test chosen by
+the expected-count rule (Cochran's rule, common practice):
+
+* Pearson's chi-square (no continuity correction) when no expected count is
+  below 1 and no more than 20% of expected counts are below 5;
+* otherwise Fisher's exact test: scipy's exact 2x2 test, or for larger tables
+  scipy's ``fisher_exact`` with a Monte-Carlo p-value over random tables with the
+  observed margins (``scipy.stats.MonteCarloMethod``, fixed seed, so a workbook
+  written twice carries the same p-values).
+
+p-values across traits are adjusted with the Benjamini-Hochberg procedure.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from typing import NamedTuple
+
+import numpy as np
+from scipy import stats as sps
+from scipy.stats.contingency import expected_freq
+from statsmodels.stats.multitest import multipletests
+from statsmodels.stats.proportion import proportion_confint
+
+from extractor.errors import InputError
+
+CHI_SQUARE = "chi-square"
+FISHER_2X2 = "Fisher exact"
+NO_TEST = "no test"
+MONTE_CARLO_RESAMPLES = 9999
+MONTE_CARLO_SEED = 20240601
+"""Fixed seed of the Monte-Carlo Fisher test, so reruns give identical p-values."""
+
+
+def fisher_monte_carlo_name(n_resamples: int = MONTE_CARLO_RESAMPLES,
+                            seed: int = MONTE_CARLO_SEED) -> str:
+    """Return the name under which a Monte-Carlo Fisher test is reported."""
+    return f"Fisher exact (Monte Carlo, {n_resamples:,} random tables, seed {seed})"
+
+
+class GroupTest(NamedTuple):
+    """The outcome of a test of difference between groups."""
+
+    test: str
+    statistic: float
+    p_value: float
+
+
+def wilson_interval(k: int, n: int, alpha: float = 0.05) -> tuple[float, float]:
+    """Return the Wilson score interval for ``k`` successes out of ``n``.
+
+    Args:
+        k: Number of respondents with the property, ``0 <= k <= n``.
+        n: Number of respondents, at least 1.
+        alpha: One minus the confidence level (0.05 for a 95% interval).
+
+    Returns:
+        ``(low, high)``, both within [0, 1].
+
+    Raises:
+        InputError: If the counts or ``alpha`` are out of range.
+    """
+    if not (0 < alpha < 1):
+        raise InputError(f"The confidence parameter alpha must be between 0 and 1; got {alpha!r}.")
+    if int(n) != n or n < 1:
+        raise InputError(f"The number of respondents n must be a whole number of at least 1; got {n!r}.")
+    if int(k) != k or not (0 <= k <= n):
+        raise InputError(f"The count k must be a whole number between 0 and n={n}; got {k!r}.")
+    low, high = proportion_confint(int(k), int(n), alpha=alpha, method="wilson")
+    # At k = 0 and k = n the Wilson bound is exactly 0 or 1; floating point gives
+    # 1e-17 or 1 - 1e-16, which would print as a strange non-zero bound.
+    low = 0.0 if k == 0 else max(0.0, float(low))
+    high = 1.0 if k == n else min(1.0, float(high))
+    return low, high
+
+
+def _clean_table(table: Sequence[Sequence[int]] | np.ndarray) -> np.ndarray:
+    """Return the table as integers without all-zero rows and columns, or raise."""
+    arr = np.asarray(table)
+    if arr.ndim != 2:
+        raise InputError(f"A contingency table must be two-dimensional; got {arr.ndim} dimension(s).")
+    if arr.size and (not np.all(np.isfinite(arr.astype(float))) or np.any(arr < 0)
+                     or np.any(arr != np.round(arr))):
+        raise InputError("A contingency table must hold non-negative whole counts.")
+    arr = arr.astype(np.int64)
+    # A group nobody belongs to, or an outcome nobody has, carries no information
+    # and would make expected counts zero.
+    arr = arr[arr.sum(axis=1) > 0]
+    if arr.size:
+        arr = arr[:, arr.sum(axis=0) > 0]
+    return arr
+
+
+def chi_square_allowed(table: Sequence[Sequence[int]] | np.ndarray) -> bool:
+    """Return whether the expected-count rule allows the chi-square test.
+
+    The rule (Cochran; common practice): no expected count below 1, and no more
+    than 20% of expected counts below 5. Expected counts are computed from the
+    table's margins after all-zero rows and columns are removed.
+    """
+    arr = _clean_table(table)
+    if arr.shape[0] < 2 or arr.shape[1] < 2:
+        return False
+    expected = expected_freq(arr)
+    return bool(expected.min() >= 1 and np.mean(expected < 5) <= 0.20)
+
+
+def group_difference(table: Sequence[Sequence[int]] | np.ndarray, *,
+                     n_resamples: int = MONTE_CARLO_RESAMPLES,
+                     seed: int = MONTE_CARLO_SEED) -> GroupTest:
+    """Test whether a share differs between groups, choosing the test by expected counts.
+
+    Args:
+        table: Counts with one row per group and one column per outcome,
+            typically ``[[yes, no], [yes, no], ...]``.
+        n_resamples: Random tables drawn for the Monte-Carlo Fisher test.
+        seed: Seed of that Monte-Carlo draw.
+
+    Returns:
+        ``GroupTest(test, statistic, p_value)``. ``test`` is ``"chi-square"``
+        (statistic: Pearson's X²), ``"Fisher exact"`` (2x2; statistic: sample odds
+        ratio), the Monte-Carlo Fisher name (statistic: probability of the observed
+        table), or ``"no test"`` with NaNs when fewer than two groups or two
+        outcomes have any respondents.
+
+    Raises:
+        InputError: If the table is not a 2-D table of non-negative counts.
+    """
+    arr = _clean_table(table)
+    if arr.shape[0] < 2 or arr.shape[1] < 2:
+        return GroupTest(NO_TEST, math.nan, math.nan)
+    if chi_square_allowed(arr):
+        res = sps.chi2_contingency(arr, correction=False)
+        return GroupTest(CHI_SQUARE, float(res.statistic), float(res.pvalue))
+    if arr.shape == (2, 2):
+        res = sps.fisher_exact(arr)
+        return GroupTest(FISHER_2X2, float(res.statistic), float(res.pvalue))
+    method = sps.MonteCarloMethod(n_resamples=n_resamples, rng=np.random.default_rng(seed))
+    res = sps.fisher_exact(arr, method=method)
+    return GroupTest(fisher_monte_carlo_name(n_resamples, seed), float(res.statistic),
+                     float(res.pvalue))
+
+
+def bh_adjust(pvalues: Sequence[float]) -> list[float]:
+    """Return Benjamini-Hochberg adjusted p-values, in the input order.
+
+    NaN entries (no test was possible) stay NaN and do not count towards the
+    number of tests.
+
+    Raises:
+        InputError: If a p-value lies outside [0, 1].
+    """
+    p = np.asarray(pvalues, dtype=float)
+    out = np.full(p.shape, np.nan)
+    ok = ~np.isnan(p)
+    if np.any((p[ok] < 0) | (p[ok] > 1)):
+        raise InputError("Every p-value must lie between 0 and 1.")
+    if ok.any():
+        out[ok] = multipletests(p[ok], method="fdr_bh")[1]
+    return [float(x) for x in out]
