@@ -1,0 +1,162 @@
+"""Loading and validating a concept list (traits or varieties) from CSV or XLSX.
+
+A concept list has the columns ``id, label, lang, synonyms, parent, definition``
+(``lang``, ``synonyms``, ``parent``, ``definition`` optional; an optional ``hidden``
+column holds hidden labels such as common misspellings, as in SKOS). There may be
+several rows per concept, one per language. Synonyms are separated by ``|`` or ``;``.
+
+The label of a row becomes the concept's preferred alias in that language, synonyms
+become alternative aliases, hidden labels hidden aliases (SKOS prefLabel, altLabel,
+hiddenLabel).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+from collections import defaultdict
+from pathlib import Path
+from typing import Any, NamedTuple
+
+import pandas as pd
+
+from extractor.errors import InputError
+from extractor.ingest.language import normalise_tag
+
+REQUIRED = ("id", "label")
+OPTIONAL = ("lang", "synonyms", "hidden", "parent", "definition")
+_SPLIT = re.compile(r"\s*[|;]\s*")
+
+
+class ConceptList(NamedTuple):
+    """A validated concept list, ready for the store."""
+
+    concepts: list[dict[str, Any]]
+    aliases: list[dict[str, Any]]
+    sha256: str
+    warnings: list[str]
+
+
+def file_sha256(path: Path) -> str:
+    """Return the SHA-256 of a file's bytes."""
+    digest = hashlib.sha256()
+    with path.open("rb") as handle:
+        for block in iter(lambda: handle.read(1 << 16), b""):
+            digest.update(block)
+    return digest.hexdigest()
+
+
+def read_table(path: Path) -> pd.DataFrame:
+    """Read a CSV, TSV or XLSX file as strings, with an encoding fallback for CSV."""
+    if not path.exists():
+        raise InputError(f"{path} does not exist; check the path.")
+    suffix = path.suffix.lower()
+    try:
+        if suffix == ".xlsx":
+            return pd.read_excel(path, dtype=str, keep_default_na=False)
+        if suffix in (".csv", ".tsv"):
+            raw = path.read_bytes()
+            if not raw.strip():
+                raise InputError(f"{path} is empty; give a file with a header row and concepts.")
+            header = raw.splitlines()[0]
+            sep = "\t" if suffix == ".tsv" else (";" if header.count(b";") > header.count(b",")
+                                                  else ",")
+            for encoding in ("utf-8-sig", "cp1252", "latin-1"):
+                try:
+                    return pd.read_csv(
+                        path, dtype=str, keep_default_na=False, sep=sep, encoding=encoding
+                    )
+                except UnicodeDecodeError:
+                    continue
+    except pd.errors.EmptyDataError as exc:
+        raise InputError(f"{path} is empty; give a file with a header row and concepts.") from exc
+    except (ValueError, OSError, KeyError) as exc:
+        raise InputError(
+            f"{path} could not be read as a {suffix} table ({exc}); save it again as CSV or XLSX."
+        ) from exc
+    raise InputError(f"{path} has suffix {suffix!r}; a concept list must be .csv, .tsv or .xlsx.")
+
+
+def split_synonyms(cell: str) -> list[str]:
+    """Split a synonyms cell on ``|`` or ``;`` and drop empty parts."""
+    return [part.strip() for part in _SPLIT.split(cell or "") if part.strip()]
+
+
+def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
+    """Read and validate a concept list.
+
+    Raises:
+        InputError: a required column is missing, an ID is empty, one ID has two
+            different labels in one language, or a language tag is unknown.
+    """
+    frame = read_table(path)
+    frame.columns = [str(c).strip().lower() for c in frame.columns]
+    missing = [c for c in REQUIRED if c not in frame.columns]
+    if missing:
+        raise InputError(
+            f"{path} has no {' or '.join(repr(c) for c in missing)} column; a concept list "
+            f"needs the columns id, label (and optionally {', '.join(OPTIONAL)}); "
+            f"found {', '.join(map(repr, frame.columns))}."
+        )
+    if frame.empty:
+        raise InputError(f"{path} has a header but no concepts; add one row per concept.")
+
+    concepts: dict[str, dict[str, Any]] = {}
+    labels: dict[tuple[str, str], tuple[str, int]] = {}
+    aliases: dict[tuple[str, str, str], dict[str, Any]] = {}
+    for index, row in frame.iterrows():
+        line = int(str(index)) + 2  # the header is row 1, as a spreadsheet user counts
+        cid = str(row["id"]).strip()
+        label = str(row["label"]).strip()
+        if not cid:
+            raise InputError(f"{path}, row {line}: the id is empty; give every concept an ID.")
+        if not label:
+            raise InputError(f"{path}, row {line}: concept {cid} has no label; add one.")
+        raw_lang = str(row.get("lang", "") or "").strip() or default_lang
+        try:
+            lang = normalise_tag(raw_lang)
+        except InputError as exc:
+            raise InputError(
+                f"{path}, row {line}: {raw_lang!r} is not a known language tag; use a BCP 47 "
+                "tag such as en, fr, es-419 or sw."
+            ) from exc
+        seen = labels.get((cid, lang))
+        if seen is not None and seen[0] != label:
+            raise InputError(
+                f"{path}, rows {seen[1]} and {line}: concept {cid} has two labels in {lang} "
+                f"({seen[0]!r} and {label!r}); keep one and move the other to synonyms."
+            )
+        labels[(cid, lang)] = (label, line)
+        concept = concepts.setdefault(cid, {"id": cid, "parent": None, "definition": None})
+        for key in ("parent", "definition"):
+            value = str(row.get(key, "") or "").strip()
+            if value and not concept[key]:
+                concept[key] = value
+        forms = [(label, "preferred")]
+        forms += [(s, "alternative") for s in split_synonyms(str(row.get("synonyms", "") or ""))]
+        forms += [(s, "hidden") for s in split_synonyms(str(row.get("hidden", "") or ""))]
+        for text, kind in forms:
+            key = (cid, text.casefold(), lang)
+            if key not in aliases or kind == "preferred":
+                aliases[key] = {"concept_id": cid, "text": text, "lang": lang, "kind": kind}
+
+    warnings = _shared_alias_warnings(path, aliases.values())
+    warnings += [
+        f"{path}: concept {c['id']} names parent {c['parent']}, which is not in the list."
+        for c in concepts.values()
+        if c["parent"] and c["parent"] not in concepts
+    ]
+    return ConceptList(list(concepts.values()), list(aliases.values()), file_sha256(path), warnings)
+
+
+def _shared_alias_warnings(path: Path, aliases: Any) -> list[str]:
+    """Warn about alias texts that two different concepts share in one language."""
+    owners: dict[tuple[str, str], set[str]] = defaultdict(set)
+    for alias in aliases:
+        owners[(alias["text"].casefold(), alias["lang"])].add(alias["concept_id"])
+    return [
+        f"{path}: {text!r} ({lang}) is a synonym of {', '.join(sorted(ids))}; the dictionary "
+        "will not link it to either until a label decides."
+        for (text, lang), ids in sorted(owners.items())
+        if len(ids) > 1
+    ]

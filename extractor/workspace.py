@@ -1,0 +1,179 @@
+"""Workspaces: a folder with ``traits.toml``, ``traits.sqlite``, ``models/`` and ``exports/``.
+
+The repository root is itself the demo workspace: when a folder holds
+``sample_interviews/`` and no ``traits.toml``, :func:`init_workspace` writes settings
+that point at the demo inputs.
+"""
+
+from __future__ import annotations
+
+import copy
+import sqlite3
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from extractor import store
+from extractor.errors import WorkspaceError
+
+SETTINGS_FILE = "traits.toml"
+STORE_FILE = "traits.sqlite"
+
+DEFAULTS: dict[str, Any] = {
+    "workspace": {
+        "default_language": "en",
+        "languages": ["en", "fr", "es"],
+        "interviews": "interviews",
+        "concepts": "concepts.csv",
+        "varieties": "varieties.csv",
+    },
+    "columns": {},
+    "tagger": {"c1": 0.05, "c2": 0.05, "max_iterations": 150, "gold_weight": 3},
+    "linking": {"threshold": 0.35},
+    "active": {
+        "strategy": "default",
+        "batch_size": 5,
+        "retrain_every": 10,
+        "evaluation_share": 0.10,
+        "evaluation_min": 30,
+        "stop_set_size": 500,
+        "stop_kappa": 0.99,
+        "stop_rounds": 3,
+    },
+    "export": {
+        "group_by": ["gender", "sex", "role", "occupation", "district", "age_group"],
+        "identifying_columns": ["name", "phone", "village", "address"],
+        "names_file": "",
+        "min_confidence": 0.0,
+    },
+}
+
+_TEMPLATE = """\
+# trait-extractor workspace settings. Paths are relative to this folder.
+
+[workspace]
+default_language = "en"          # BCP 47 tag used when a language cannot be told
+languages = ["en", "fr", "es"]   # languages expected in the answers (for detection)
+interviews = "{interviews}"      # folder that `traits run` reads new interview files from
+concepts = "{concepts}"          # the validated trait concept list
+varieties = "{varieties}"        # optional list of variety names
+
+# Explicit column mapping for interview tables, when headers are not recognised:
+[columns]
+# respondent = "Code"
+# answer = "Verbatim"
+# question = "Item"
+# language = "Lang"
+# variety = "Variety"
+
+[tagger]
+c1 = 0.05                        # L1 penalty of the CRF
+c2 = 0.05                        # L2 penalty of the CRF
+max_iterations = 150
+gold_weight = 3                  # a labeled sentence counts this many times a silver one
+
+[linking]
+threshold = 0.35                 # below this link probability a mention stays unlinked
+
+[active]
+strategy = "default"
+batch_size = 5
+retrain_every = 10               # retrain in the background after this many labels
+evaluation_share = 0.10          # fixed random evaluation sample, never queried
+evaluation_min = 30
+stop_set_size = 500
+stop_kappa = 0.99                # "further labels are changing little" above this...
+stop_rounds = 3                  # ...for this many successive models
+
+[export]
+group_by = ["gender", "sex", "role", "occupation", "district", "age_group"]
+identifying_columns = ["name", "phone", "village", "address"]
+names_file = ""                  # a text file of names to screen out of pseudonymised quotes
+min_confidence = 0.0
+"""
+
+
+def merge_settings(base: dict[str, Any], override: dict[str, Any]) -> dict[str, Any]:
+    """Return ``base`` updated section by section with ``override``."""
+    merged = copy.deepcopy(base)
+    for key, value in override.items():
+        if isinstance(value, dict) and isinstance(merged.get(key), dict):
+            merged[key] = merge_settings(merged[key], value)
+        else:
+            merged[key] = value
+    return merged
+
+
+def load_settings(path: Path) -> dict[str, Any]:
+    """Read ``traits.toml`` over the defaults."""
+    try:
+        with path.open("rb") as handle:
+            found = tomllib.load(handle)
+    except tomllib.TOMLDecodeError as exc:
+        raise WorkspaceError(f"{path} is not valid TOML ({exc}); fix the line it names.") from exc
+    return merge_settings(DEFAULTS, found)
+
+
+def is_workspace(root: Path) -> bool:
+    """Return True when ``root`` holds a workspace's settings and store."""
+    return (root / SETTINGS_FILE).is_file() and (root / STORE_FILE).is_file()
+
+
+def init_workspace(root: Path) -> Path:
+    """Create a workspace in ``root`` (idempotent: existing files are kept)."""
+    root.mkdir(parents=True, exist_ok=True)
+    settings = root / SETTINGS_FILE
+    if not settings.exists():
+        demo = (root / "sample_interviews").is_dir()
+        settings.write_text(
+            _TEMPLATE.format(
+                interviews="sample_interviews/interviews" if demo else "interviews",
+                concepts="sample_interviews/concepts.csv" if demo else "concepts.csv",
+                varieties="sample_interviews/varieties.csv" if demo else "varieties.csv",
+            ),
+            encoding="utf-8",
+        )
+    for folder in ("models", "exports"):
+        (root / folder).mkdir(exist_ok=True)
+    store.connect(root / STORE_FILE, create=True).close()
+    return root
+
+
+class Workspace:
+    """An open workspace: its folder, settings and store connection."""
+
+    def __init__(self, root: Path) -> None:
+        if not root.is_dir():
+            raise WorkspaceError(f"{root} is not a folder; create a workspace with `traits init`.")
+        if not is_workspace(root):
+            raise WorkspaceError(
+                f"{root} is not a trait-extractor workspace (no {SETTINGS_FILE} and "
+                f"{STORE_FILE}); run `traits init {root}` first."
+            )
+        self.root = root
+        self.settings = load_settings(root / SETTINGS_FILE)
+        self.conn: sqlite3.Connection = store.connect(root / STORE_FILE)
+
+    def path(self, setting: str) -> Path:
+        """Return a workspace path setting (``interviews``, ``concepts``...) as a Path."""
+        return self.root / str(self.settings["workspace"][setting])
+
+    @property
+    def models_dir(self) -> Path:
+        """The folder of saved model versions."""
+        return self.root / "models"
+
+    @property
+    def exports_dir(self) -> Path:
+        """The folder exports are written to."""
+        return self.root / "exports"
+
+    def close(self) -> None:
+        """Close the store connection."""
+        self.conn.close()
+
+    def __enter__(self) -> Workspace:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
