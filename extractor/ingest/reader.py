@@ -1,0 +1,114 @@
+"""One entry point for interview files: check the path, dispatch on the suffix, add languages.
+
+Every reader returns the same row dicts (see :func:`read_interviews`), so the store
+never needs to know which kind of file an answer came from.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+from extractor.errors import InputError
+from extractor.ingest.language import normalise_tag
+from extractor.ingest.tables import (
+    MAPPING_KEYS,
+    ReadResult,
+    fill_languages,
+    read_delimited,
+    read_workbook,
+)
+from extractor.ingest.transcripts import docx_lines, parse_transcript, text_lines
+
+SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
+"""File suffixes :func:`read_interviews` can read."""
+
+
+def _check_mapping(mapping: dict[str, Any] | None) -> None:
+    """Reject mapping keys that mean nothing, naming the allowed ones."""
+    for key, value in (mapping or {}).items():
+        if key not in MAPPING_KEYS:
+            raise InputError(
+                f"The column mapping has an unknown key {key!r}; "
+                f"allowed keys are {', '.join(MAPPING_KEYS)}."
+            )
+        if key == "questions" and (isinstance(value, str) or not isinstance(value, Sequence)):
+            raise InputError(
+                f"The column mapping's 'questions' must be a list of column headers, got {value!r}."
+            )
+
+
+def _setting_tag(tag: str, setting: str) -> str:
+    """Normalise a language tag given as a setting, naming the setting when it is wrong."""
+    try:
+        return normalise_tag(tag)
+    except InputError as err:
+        raise InputError(f"The setting {setting!r} is wrong: {err}") from err
+
+
+def read_interviews(
+    path: Path,
+    *,
+    sheet: str | None = None,
+    mapping: dict[str, Any] | None = None,
+    default_lang: str = "en",
+    languages: Sequence[str] | None = None,
+) -> ReadResult:
+    """Read the answers of one interview file.
+
+    Args:
+        path: An .xlsx, .csv, .tsv, .txt or .docx file.
+        sheet: For .xlsx, the only sheet to read; by default every visible sheet.
+        mapping: Explicit column roles overriding header recognition, e.g.
+            ``{"respondent": "Code", "answer": "Verbatim", "question": ...,
+            "language": ..., "variety": ..., "group": ...}``, or
+            ``{"respondent": "Code", "questions": ["Why?", ...]}`` for a wide table.
+        default_lang: The language of answers whose language is neither given nor
+            detectable.
+        languages: The workspace's languages, the candidates of detection.
+
+    Returns:
+        A :class:`ReadResult`. Each row is ``{"respondent": str, "question": str | None,
+        "answer": str (exactly as in the file), "lang": str (BCP 47), "lang_origin":
+        "column" | "detected" | "default", "variety": str | None, "metadata":
+        dict[str, str], "sheet": str | None, "row": int, "is_group": bool}``; ``row`` is
+        the spreadsheet row (header = 1) or the transcript line (the paragraph in .docx).
+
+    Raises:
+        InputError: For a missing, empty, unreadable or unrecognisable file, a bad
+            mapping or setting, or a bad row; the message names the file and place.
+    """
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise InputError(
+            f"File '{path.name}' has the suffix {suffix or '(none)'!r}, which cannot be read; "
+            f"allowed are {', '.join(SUFFIXES)} (save older .xls/.doc files in the new format)."
+        )
+    if not path.is_file():
+        raise InputError(f"File '{path}' does not exist; check the path and the spelling.")
+    _check_mapping(mapping)
+    default = _setting_tag(default_lang, "default language")
+    candidates = [_setting_tag(t, "languages") for t in languages] if languages else None
+    data = path.read_bytes()
+    if not data.strip() or data.strip() == b"\xef\xbb\xbf":
+        raise InputError(f"File '{path.name}' is empty; check that it is the right file.")
+    kind = suffix.lstrip(".")
+    encoding: str | None = None
+    if suffix in (".csv", ".tsv"):
+        rows, layout, encoding, warnings = read_delimited(path, data, mapping)
+        if sheet is not None:
+            warnings.append(f"File '{path.name}' has no sheets; the sheet {sheet!r} was ignored.")
+    elif suffix == ".xlsx":
+        rows, layout, warnings = read_workbook(path, data, sheet, mapping)
+    else:
+        if suffix == ".txt":
+            lines, encoding, warnings = text_lines(path, data)
+        else:
+            lines, warnings = docx_lines(path, data)
+        rows, layout = parse_transcript(path, lines), "transcript"
+        if not rows:
+            warnings.append(f"File '{path.name}' has no respondent turns.")
+    fill_languages(rows, candidates, default)
+    return ReadResult(rows, kind, layout, encoding, warnings)
