@@ -289,6 +289,15 @@ def test_read_txt_without_header_uses_file_stem(tmp_path: Path) -> None:
     ]
 
 
+def test_read_txt_numbered_question_labels_are_interviewer(tmp_path: Path) -> None:
+    path = tmp_path / "minde.txt"
+    path.write_text(f"Respondent: M-9\n\nQ1: Why Kibali?\nR: {EN_2}\n", encoding="utf-8")
+    rows = read(path).rows
+    assert [(r["question"], r["answer"], r["metadata"]) for r in rows] == [
+        ("Why Kibali?", EN_2, {"speaker": "R"}),
+    ]
+
+
 def test_read_docx_transcript_one_line_per_paragraph(tmp_path: Path) -> None:
     path = write_docx(tmp_path / "lowa.docx", [
         "Respondent: LW-2", "Gender: male", "", "Enquêteur: Pourquoi cette variété ?",

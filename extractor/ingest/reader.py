@@ -87,11 +87,19 @@ def read_interviews(
             f"allowed are {', '.join(SUFFIXES)} (save older .xls/.doc files in the new format)."
         )
     if not path.is_file():
-        raise InputError(f"File '{path}' does not exist; check the path and the spelling.")
+        raise InputError(
+            f"File '{path}' does not exist or is not a file; check the path and the spelling."
+        )
     _check_mapping(mapping)
     default = _setting_tag(default_lang, "default language")
     candidates = [_setting_tag(t, "languages") for t in languages] if languages else None
-    data = path.read_bytes()
+    try:
+        data = path.read_bytes()
+    except OSError as err:
+        raise InputError(
+            f"File '{path.name}' cannot be read ({err.strerror}); check that it is not open "
+            "elsewhere and that you may read it."
+        ) from err
     if not data.strip() or data.strip() == b"\xef\xbb\xbf":
         raise InputError(f"File '{path.name}' is empty; check that it is the right file.")
     kind = suffix.lstrip(".")

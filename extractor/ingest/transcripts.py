@@ -43,6 +43,8 @@ INTERVIEWER_SPEAKERS = frozenset({
 })  # fmt: skip
 """Folded speaker labels of the interviewer; any other speaker is the respondent."""
 
+# Numbered question labels ("Q1", "Q 2b", "Question 3", "Pregunta 4") are the interviewer too.
+_NUMBERED_QUESTION = re.compile(r"(?:q|question|pregunta)\s?\d+[a-z]?")
 _RESPONDENT_KEYS = frozenset({"respondent", "respondent id", "repondant", "encuestado"})
 _GROUP_KEYS = frozenset({"focus group", "group", "fg", "grupo focal", "groupe focal"})
 _PREFIX = re.compile(r"^\s*([^\W\d_][\w.'’ -]{0,39}?)\s*:[ \t]*(.*)$")
@@ -50,6 +52,12 @@ _MAX_LABEL_WORDS = 3
 
 Lines = list[tuple[int, str]]
 """Transcript lines as ``(line number, text)``; for .docx the number is the paragraph's."""
+
+
+def is_interviewer(label: str) -> bool:
+    """Return whether a speaker label names the interviewer (case- and accent-insensitive)."""
+    folded = fold(label)
+    return folded in INTERVIEWER_SPEAKERS or _NUMBERED_QUESTION.fullmatch(folded) is not None
 
 
 def _speaker(line: str) -> tuple[str, str] | None:
@@ -64,7 +72,7 @@ def _speaker(line: str) -> tuple[str, str] | None:
     label, text = match.group(1).strip(), match.group(2)
     words = label.split()
     capitalised = all(w[0].isupper() or w[0].isdigit() for w in words)
-    if len(words) > _MAX_LABEL_WORDS or not (capitalised or fold(label) in INTERVIEWER_SPEAKERS):
+    if len(words) > _MAX_LABEL_WORDS or not (capitalised or is_interviewer(label)):
         return None
     return label, text
 
@@ -107,7 +115,7 @@ class _TranscriptParser:
             return
         text = "\n".join(self.turn)
         self.turn = []
-        if self.speaker is not None and fold(self.speaker) in INTERVIEWER_SPEAKERS:
+        if self.speaker is not None and is_interviewer(self.speaker):
             self.question = text.strip() or self.question
             return
         if not text.strip():
@@ -131,7 +139,7 @@ class _TranscriptParser:
     def _header_line(self, number: int, line: str) -> bool:
         """Record a ``Key: value`` header line; ``False`` when the line is not one."""
         match = _PREFIX.match(line)
-        if match is None or fold(match.group(1)) in INTERVIEWER_SPEAKERS:
+        if match is None or is_interviewer(match.group(1)):
             return False
         key, value = fold(match.group(1)), match.group(2).strip()
         if key in ("language", "langue", "idioma"):
