@@ -32,10 +32,18 @@ def spacy_code(tag: str) -> str:
     return code
 
 
-@lru_cache(maxsize=None)
 def blank_pipeline(tag: str) -> Language:
-    """Return a cached blank spaCy pipeline for the language, with a rule-based sentencizer."""
-    nlp = spacy.blank(spacy_code(tag))
+    """Return a cached blank spaCy pipeline for the language, with a rule-based sentencizer.
+
+    Pipelines are cached per spaCy language code, so ``es`` and ``es-419`` share one
+    (building one costs seconds: spaCy compiles its tokenizer exceptions).
+    """
+    return _pipeline(spacy_code(tag))
+
+
+@lru_cache(maxsize=None)
+def _pipeline(code: str) -> Language:
+    nlp = spacy.blank(code)
     nlp.add_pipe("sentencizer")
     return nlp
 
