@@ -12,6 +12,9 @@ from functools import lru_cache
 import spacy
 from spacy.language import Language
 
+OPENING_MARKS = "¿¡"
+"""Punctuation that opens a sentence (Spanish)."""
+
 MULTI = "xx"
 """spaCy's multi-language code, used where spaCy has no pipeline for a language."""
 
@@ -65,9 +68,21 @@ def split_sentences(text: str, lang: str) -> list[tuple[int, int]]:
     ``text[start:end]`` is always the sentence exactly as written; blank stretches
     yield no sentence.
     """
+    bounds = [(sent.start_char, sent.end_char) for sent in blank_pipeline(lang)(text).sents]
+    # spaCy's sentencizer leaves Spanish opening marks (¿ ¡) at the end of the sentence
+    # before the one they open; hand them to the sentence they belong to.
+    for i in range(len(bounds) - 1):
+        (a_start, a_end), (_, b_end) = bounds[i], bounds[i + 1]
+        cut = a_end
+        while cut > a_start and (text[cut - 1] in OPENING_MARKS or text[cut - 1].isspace()):
+            cut -= 1
+        if any(ch in OPENING_MARKS for ch in text[cut:a_end]):
+            first_mark = cut + min(
+                j for j, ch in enumerate(text[cut:a_end]) if ch in OPENING_MARKS
+            )
+            bounds[i], bounds[i + 1] = (a_start, first_mark), (first_mark, b_end)
     out: list[tuple[int, int]] = []
-    for sent in blank_pipeline(lang)(text).sents:
-        start, end = sent.start_char, sent.end_char
+    for start, end in bounds:
         while start < end and text[start].isspace():
             start += 1
         while end > start and text[end - 1].isspace():
