@@ -1,0 +1,166 @@
+"""A fake tagger with fixed probabilities and a small invented study, for session tests.
+
+Nothing here is trained: the fake predictor proposes a span wherever a known phrase
+occurs and gives each sentence a path probability that the test chooses, so the order
+in which a strategy asks is known in advance. All places, people, varieties and trait
+IDs are invented.
+"""
+
+from __future__ import annotations
+
+import re
+import sqlite3
+import time
+from collections.abc import Callable, Sequence
+from pathlib import Path
+
+from extractor import store
+from extractor.session import Prediction, Suggestion, TrainingData
+from extractor.types import Sentence, Span
+
+CONCEPTS = [
+    {"id": "BTX:0002", "parent": None, "definition": "Time on the fire until soft."},
+    {"id": "BTX:0007", "parent": None, "definition": "Bitter taste of grain or leaves."},
+    {"id": "BTX:0011", "parent": None, "definition": "Size of the dry grain."},
+    {"id": "BTX:0015", "parent": None, "definition": "Amount harvested per plot."},
+    {"id": "BTX:0020", "parent": None, "definition": "Survives dry spells."},
+]
+
+ALIASES = [
+    ("BTX:0002", "cooking time", "en", "preferred"),
+    ("BTX:0002", "temps de cuisson", "fr", "preferred"),
+    ("BTX:0002", "cooks fast", "en", "alternative"),
+    ("BTX:0007", "bitterness", "en", "preferred"),
+    ("BTX:0007", "amertume", "fr", "preferred"),
+    ("BTX:0007", "bitter", "en", "alternative"),
+    ("BTX:0011", "grain size", "en", "preferred"),
+    ("BTX:0011", "gros grains", "fr", "alternative"),
+    ("BTX:0015", "yield", "en", "preferred"),
+    ("BTX:0015", "rendement", "fr", "preferred"),
+    ("BTX:0015", "harvest", "en", "alternative"),
+    ("BTX:0020", "drought tolerance", "en", "preferred"),
+]
+
+# Ten answers of two sentences each: twenty sentences, IDs 1..20 in this order.
+ANSWERS = [
+    ("Zamaro Red cooks fast on the fire.", "The children like it."),
+    ("The harvest is small this year.", "Rain came late in Tinsoka."),
+    ("The leaves are bitter when old.", "We sell the rest at Kalowa market."),
+    ("It has big grains that traders want.", "Big grains fetch more money."),
+    ("We would like a bean that survives the dry spell.", "The last one died."),
+    ("My husband planted it near the river.", "It cooks fast and the broth is thick."),
+    ("Lintu Yellow is bitter after storage.", "Nobody buys it then."),
+    ("I want a bigger harvest from one plot.", "Land is short."),
+    ("The soup turns dark.", "Customers complain about that."),
+    ("It cooks fast but it is bitter.", "Still we grow it."),
+]
+
+KNOWN = {"cooks fast": ("BTX:0002", "liked"), "big grains": ("BTX:0011", "liked"),
+         "bitter": ("BTX:0007", "disliked")}
+"""Phrases the fake model recognises, with the concept and stance it suggests."""
+
+
+def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sqlite3.Connection:
+    """Create a store holding the invented answers (sentence IDs 1..N) and concept list."""
+    conn = store.connect(path, create=True)
+    rows, offsets = [], []
+    for k, parts in enumerate(answers):
+        text = " ".join(parts)
+        spans, pos = [], 0
+        for part in parts:
+            start = text.index(part, pos)
+            spans.append((start, start + len(part)))
+            pos = start + len(part)
+        rows.append({
+            "respondent": f"TS-{k % 4:03d}", "question": "Why do you grow this bean?",
+            "answer": text, "lang": "en", "lang_origin": "column",
+            "variety": "Zamaro Red" if k % 2 else None,
+            "metadata": {"role": "farmer" if k % 3 else "trader",
+                         "gender": "woman" if k % 2 else "man", "district": "Tinsoka"},
+            "sheet": None, "row": k + 2, "is_group": k == 3,
+        })
+        offsets.append(spans)
+    store.add_source(conn, path="invented.csv", sha256=f"{len(answers)}", kind="csv",
+                     options={}, rows=rows, sentence_offsets=offsets)
+    store.replace_concept_list(
+        conn, kind="trait", path="traits.csv", sha256="x", concepts=CONCEPTS,
+        aliases=[{"concept_id": c, "text": t, "lang": lang, "kind": kind}
+                 for c, t, lang, kind in ALIASES],
+    )
+    return conn
+
+
+def words(text: str) -> list[tuple[int, int]]:
+    """Whitespace tokens with punctuation split off, as character offsets."""
+    return [m.span() for m in re.finditer(r"\w+|[^\w\s]", text)]
+
+
+class FakeModel:
+    """A predictor with fixed probabilities.
+
+    Args:
+        path_prob: gives each sentence's best-path probability; by default it rises with
+            the sentence ID, so least confidence asks sentence 1 first.
+        delay: seconds to sleep per call, to imitate a slow model.
+        flip_every: tag every k-th token ``B-TRAIT`` as well (0 = never), to make
+            successive models disagree on the stop set.
+    """
+
+    def __init__(
+        self,
+        path_prob: Callable[[Sentence], float] | None = None,
+        delay: float = 0.0,
+        flip_every: int = 0,
+    ) -> None:
+        self.path_prob = path_prob or (lambda s: 1.0 - 1.0 / (s.id + 1))
+        self.delay = delay
+        self.flip_every = flip_every
+        self.calls = 0
+
+    def __call__(self, sentences: Sequence[Sentence]) -> list[Prediction]:
+        """Tag sentences, after the configured delay."""
+        self.calls += 1
+        if self.delay:
+            time.sleep(self.delay)
+        return [self.predict(s) for s in sentences]
+
+    def predict(self, sentence: Sentence) -> Prediction:
+        """Tag one sentence."""
+        tokens = words(sentence.text)
+        prob = self.path_prob(sentence)
+        suggestions = []
+        tags = ["O"] * len(tokens)
+        for phrase, (concept, stance) in KNOWN.items():
+            for m in re.finditer(re.escape(phrase), sentence.text, flags=re.IGNORECASE):
+                suggestions.append(Suggestion(
+                    Span(m.start(), m.end(), concept, stance), confidence=0.8,
+                    concept_probs={concept: 0.7, "BTX:0015": 0.3},
+                    stance_probs={stance: 0.9, "neutral": 0.1},
+                ))
+                inside = [k for k, (s, e) in enumerate(tokens) if s >= m.start() and e <= m.end()]
+                for n, k in enumerate(inside):
+                    tags[k] = "B-TRAIT" if n == 0 else "I-TRAIT"
+        if self.flip_every:
+            for k in range(0, len(tags), self.flip_every):
+                tags[k] = "B-TRAIT"
+        # Each token's best tag gets the n-th root of the path probability.
+        p = prob ** (1.0 / max(len(tokens), 1))
+        marginals = tuple(
+            {t: (p if t == tag else (1.0 - p) / 2) for t in ("O", "B-TRAIT", "I-TRAIT")}
+            for tag in tags
+        )
+        suggestions.sort(key=lambda s: s.span.start)
+        return Prediction(tuple(tags), marginals, prob, tuple(suggestions))
+
+
+def fake_retrain(delay: float = 0.0, flip_every: int = 0) -> Callable[[TrainingData], FakeModel]:
+    """Return a retrain callable that records what it was given and returns a FakeModel."""
+
+    def retrain(data: TrainingData) -> FakeModel:
+        retrain.seen.append(len(data))  # type: ignore[attr-defined]
+        if delay:
+            time.sleep(delay)
+        return FakeModel(flip_every=flip_every)
+
+    retrain.seen = []  # type: ignore[attr-defined]
+    return retrain
