@@ -44,7 +44,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 from openpyxl import Workbook
-from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE
 from openpyxl.chart import BarChart, Reference
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
@@ -221,41 +221,44 @@ def _respondent_type(is_group: bool) -> str:
     return "focus group" if is_group else "individual"
 
 
-def _ranked_traits(rows: pd.DataFrame, stance: str, labels: Mapping[str, str]) -> str:
-    """Return "label (ID); ..." for one stance, most-mentioned first, then by label."""
-    picked = rows.loc[(rows["stance"] == stance) & rows["concept_id"].notna(), "concept_id"]
-    counts = picked.astype(str).value_counts()
-    order = sorted(counts.index, key=lambda c: (-counts[c], trait_name(c, labels).casefold()))
-    return "; ".join(trait_name(c, labels) for c in order)
-
-
 def preferred_traits(mentions: pd.DataFrame, respondents: pd.DataFrame,
                      concepts: pd.DataFrame) -> pd.DataFrame:
     """Return one row per respondent and variety with liked, disliked and wanted traits.
 
+    Each list reads "label (ID); ...", most-mentioned first, then by label.
     Respondents without any mention still get one row, so the table lists everyone
     interviewed. Variety is blank where the statement names none.
     """
     labels = concept_labels(mentions, concepts)
     meta = metadata_columns(respondents)
+    variety = mentions["variety"].where(mentions["variety"].notna(), "").astype(str)
+    keyed = mentions.assign(_variety=variety)
+    totals = keyed.groupby(["respondent", "_variety"]).size()
+    said = keyed.loc[keyed["concept_id"].notna()
+                     & keyed["stance"].isin(["liked", "disliked", "wanted"])]
+    lists: dict[tuple[str, str, str], str] = {}
+    if len(said):
+        counts = (said.groupby(["respondent", "_variety", "stance",
+                                said["concept_id"].astype(str)]).size().reset_index(name="n"))
+        counts["name"] = counts["concept_id"].map(lambda c: trait_name(c, labels))
+        counts["key"] = counts["name"].str.casefold()
+        counts = counts.sort_values(["n", "key"], ascending=[False, True], kind="stable")
+        for key, grp in counts.groupby(["respondent", "_variety", "stance"], sort=False):
+            lists[key] = "; ".join(grp["name"])
+    by_resp: dict[str, list[tuple[str, int]]] = {}
+    for (resp, var), n in totals.items():
+        by_resp.setdefault(resp, []).append((var, int(n)))
     rows = []
-    by_resp = dict(list(mentions.groupby("respondent", sort=False)))
     for rec in respondents.to_dict("records"):
         resp = rec["respondent"]
         base = {"Respondent": resp, "Type": _respondent_type(rec["is_group"])}
         base.update({m: rec[m] for m in meta})
-        group = by_resp.get(resp)
-        if group is None:
-            rows.append({**base, "Variety": None, "Liked": "", "Disliked": "", "Wanted": "",
-                         "Mentions": 0})
-            continue
-        variety = group["variety"].where(group["variety"].notna(), "")
-        for var, sub in group.groupby(variety, sort=True):
+        for var, n in sorted(by_resp.get(resp, [("", 0)])):
             rows.append({**base, "Variety": var or None,
-                         "Liked": _ranked_traits(sub, "liked", labels),
-                         "Disliked": _ranked_traits(sub, "disliked", labels),
-                         "Wanted": _ranked_traits(sub, "wanted", labels),
-                         "Mentions": len(sub)})
+                         "Liked": lists.get((resp, var, "liked"), ""),
+                         "Disliked": lists.get((resp, var, "disliked"), ""),
+                         "Wanted": lists.get((resp, var, "wanted"), ""),
+                         "Mentions": n})
     columns = ["Respondent", "Type", *meta, "Variety", "Liked", "Disliked", "Wanted", "Mentions"]
     return pd.DataFrame(rows, columns=columns)
 
@@ -364,6 +367,26 @@ def _share_row(k: int, n: int) -> dict[str, Any]:
             "95% CI low": low, "95% CI high": high, "Caution": _caution(k, n)}
 
 
+def outcome_matrix(mentions: pd.DataFrame, respondent_ids: Sequence[str],
+                   concept_ids: Sequence[str], outcome: str) -> np.ndarray:
+    """Return a respondents x concepts boolean array: who has ``outcome`` for which trait."""
+    flags = respondent_concepts(mentions)
+    if flags.empty:
+        return np.zeros((len(respondent_ids), len(concept_ids)), dtype=bool)
+    wide = flags.pivot_table(index="respondent", columns="concept_id", values=outcome,
+                             aggfunc="any", fill_value=False)
+    wide = wide.reindex(index=list(respondent_ids), columns=list(concept_ids), fill_value=False)
+    return wide.to_numpy(dtype=bool)
+
+
+def _group_codes(values: pd.Series) -> tuple[list[str], np.ndarray]:
+    """Return the sorted group labels (not recorded last) and each row's group index."""
+    labels = values.map(lambda v: NOT_RECORDED if pd.isna(v) else str(v))
+    groups = sorted(labels.unique(), key=lambda v: (v == NOT_RECORDED, v))
+    index = {g: i for i, g in enumerate(groups)}
+    return groups, labels.map(index).to_numpy(dtype=int)
+
+
 def trait_summary(mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: pd.DataFrame,
                   group_by: Sequence[str] = ()) -> pd.DataFrame:
     """Return shares of respondents per concept, outcome and group, with tests.
@@ -382,48 +405,49 @@ def trait_summary(mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: p
             raise InputError(f"The grouping column {g!r} is not among the respondent columns "
                              f"({', '.join(metadata_columns(respondents)) or 'none'}).")
     labels = concept_labels(mentions, concepts)
-    flags = respondent_concepts(mentions)
-    individuals = respondents.loc[~respondents["is_group"]]
-    groups = respondents.loc[respondents["is_group"]]
+    order = concept_order(mentions)
+    is_group = respondents["is_group"].to_numpy(dtype=bool)
+    individuals = respondents.loc[~is_group]
+    codes = {g: _group_codes(individuals[g]) for g in group_by}
     rows: list[dict[str, Any]] = []
-    for cid in concept_order(mentions):
-        f = flags.loc[flags["concept_id"] == cid].set_index("respondent")
-        for outcome in OUTCOMES:
-            yes = set(f.index[f[outcome]])
+    for outcome in OUTCOMES:
+        mat = outcome_matrix(mentions, respondents["respondent"].tolist(), order, outcome)
+        ind, grp = mat[~is_group], mat[is_group]
+        # counts[g][i, j]: respondents of group i of grouping g with the outcome for concept j
+        counts = {g: (np.array([ind[c == i].sum(axis=0) for i in range(len(groups))],
+                               dtype=int).reshape(len(groups), len(order)),
+                      np.bincount(c, minlength=len(groups)))
+                  for g, (groups, c) in codes.items()}
+        for j, cid in enumerate(order):
             base = {"Trait": labels.get(cid), "Concept ID": cid, "Outcome": outcome}
-            k = int(individuals["respondent"].isin(yes).sum())
             rows.append({**base, "Grouping": ALL_INDIVIDUALS, "Group": "all",
-                         **_share_row(k, len(individuals))})
-            for g in group_by:
-                values = individuals[g].map(lambda v: NOT_RECORDED if pd.isna(v) else str(v))
-                table, group_rows = [], []
-                for value in sorted(values.unique(), key=lambda v: (v == NOT_RECORDED, v)):
-                    members = individuals.loc[values == value, "respondent"]
-                    k, n = int(members.isin(yes).sum()), len(members)
-                    if value != NOT_RECORDED:
-                        table.append([k, n - k])
-                    group_rows.append({**base, "Grouping": g, "Group": value,
-                                       **_share_row(k, n)})
+                         **_share_row(int(ind[:, j].sum()), len(ind))})
+            for g, (groups, _) in codes.items():
+                k_by, n_by = counts[g]
+                table = [[int(k_by[i, j]), int(n_by[i] - k_by[i, j])]
+                         for i, name in enumerate(groups) if name != NOT_RECORDED]
                 test = (group_difference(table) if len(table) >= 2
                         else GroupTest(NO_TEST, math.nan, math.nan))
-                for row in group_rows:
-                    # Repeated on every group row so a filtered view still shows it.
-                    row.update({"Test": test.test, "Statistic": test.statistic,
-                                "p": test.p_value})
-                rows.extend(group_rows)
-            if len(groups):
-                k = int(groups["respondent"].isin(yes).sum())
+                for i, name in enumerate(groups):
+                    # The test is repeated on every group row so a filtered view still shows it.
+                    rows.append({**base, "Grouping": g, "Group": name,
+                                 **_share_row(int(k_by[i, j]), int(n_by[i])),
+                                 "Test": test.test, "Statistic": test.statistic,
+                                 "p": test.p_value})
+            if len(grp):
                 rows.append({**base, "Grouping": FOCUS_GROUPS, "Group": "focus groups",
-                             **_share_row(k, len(groups))})
+                             **_share_row(int(grp[:, j].sum()), len(grp))})
     columns = ["Trait", "Concept ID", "Outcome", "Grouping", "Group", "Respondents in group",
                "Respondents", "Share", "95% CI low", "95% CI high", "Caution", "Test",
                "Statistic", "p", "p (BH-adjusted)"]
     out = pd.DataFrame(rows, columns=columns)
     if out.empty:
         return out
-    out["Test"] = out["Test"].where(out["Test"].notna(), None)
+    rank = {c: i for i, c in enumerate(order)}
+    out = out.sort_values("Concept ID", key=lambda s: s.map(rank), kind="stable",
+                          ignore_index=True)
     # BH family: one grouping and one outcome, across traits; one p-value per trait.
-    for (g, outcome), part in out.loc[out["p"].notna()].groupby(["Grouping", "Outcome"]):
+    for _, part in out.loc[out["p"].notna()].groupby(["Grouping", "Outcome"]):
         first = part.drop_duplicates("Concept ID")
         adjusted = dict(zip(first["Concept ID"], bh_adjust(first["p"].tolist()), strict=True))
         out.loc[part.index, "p (BH-adjusted)"] = part["Concept ID"].map(adjusted)
@@ -541,13 +565,38 @@ def put(ws: Worksheet, row: int, col: int, value: Any) -> None:
     value = _plain(value)
     cell = ws.cell(row=row, column=col)
     if isinstance(value, str):
-        text = safe_text(value)
-        cell.value = text
-        cell.data_type = "s"
-        if text.startswith(RISKY_FIRST):
-            cell.quotePrefix = True
+        cell.value = safe_text(value)
+        _force_text(cell)
     else:
         cell.value = value
+
+
+def _force_text(cell: Any) -> None:
+    cell.data_type = "s"
+    if isinstance(cell.value, str) and cell.value.startswith(RISKY_FIRST):
+        cell.quotePrefix = True
+
+
+def _needs_forcing(value: Any) -> bool:
+    """Return whether openpyxl would store this string as something other than text."""
+    return isinstance(value, str) and (value.startswith(RISKY_FIRST) or value in ERROR_CODES)
+
+
+def append_row(ws: Worksheet, values: Iterable[Any]) -> None:
+    """Append one row of values, with the same text guarantee as :func:`put`.
+
+    ``ws.append`` is several times faster than cell-by-cell writing; only the
+    strings openpyxl would misread are fixed afterwards.
+    """
+    plain = [_plain(v) for v in values]
+    plain = [safe_text(v) if isinstance(v, str) else v for v in plain]
+    ws.append(plain)
+    row = ws._current_row
+    for j, v in enumerate(plain, start=1):
+        if _needs_forcing(v):
+            cell = ws.cell(row=row, column=j)
+            cell.value = v
+            _force_text(cell)
 
 
 HEADER_FONT = Font(bold=True)
@@ -561,36 +610,40 @@ PROBABILITY_COLUMNS = {"p", "p (BH-adjusted)", "Link probability", "Stance proba
                        "Tagger confidence", "Statistic"}
 
 
-def write_table(ws: Worksheet, frame: pd.DataFrame, *, first_row: int = 1,
-                notes: Sequence[str] = (), freeze_columns: int = 1) -> None:
-    """Write notes, a bold header and the rows of ``frame``, with filter, freeze and widths."""
-    for i, note in enumerate(notes):
-        put(ws, first_row + i, 1, note)
-        ws.cell(row=first_row + i, column=1).font = NOTE_FONT
-    header = first_row + len(notes) + (1 if notes else 0)
+def write_table(ws: Worksheet, frame: pd.DataFrame, *, notes: Sequence[str] = (),
+                freeze_columns: int = 1) -> None:
+    """Write notes, a bold header and the rows of ``frame``, with filter, freeze and widths.
+
+    The sheet must be empty: rows are appended.
+    """
+    for note in notes:
+        append_row(ws, [note])
+        ws.cell(row=ws._current_row, column=1).font = NOTE_FONT
+    if notes:
+        ws.append([])
     columns = [str(c) for c in frame.columns]
-    for j, name in enumerate(columns, start=1):
-        put(ws, header, j, name)
+    append_row(ws, columns)
+    header = ws._current_row
+    for j in range(1, len(columns) + 1):
         ws.cell(row=header, column=j).font = HEADER_FONT
         ws.cell(row=header, column=j).fill = HEADER_FILL
     values = frame.to_numpy(dtype=object)
-    for i, record in enumerate(values, start=header + 1):
-        for j, value in enumerate(record, start=1):
-            put(ws, i, j, value)
+    for record in values:
+        append_row(ws, record)
     last_row = header + max(len(frame), 1)
     if columns:
         ws.auto_filter.ref = f"A{header}:{get_column_letter(len(columns))}{last_row}"
         ws.freeze_panes = ws.cell(row=header + 1, column=min(freeze_columns, len(columns)) + 1)
     for j, name in enumerate(columns, start=1):
         letter = get_column_letter(j)
-        sample = [len(str(v)) for v in values[:200, j - 1] if v is not None] if len(values) else []
-        width = max([len(name), *sample]) + 2 if sample else len(name) + 2
+        sample = [len(str(v)) for v in values[:200, j - 1] if _plain(v) is not None]
+        width = max([len(name), *sample]) + 2
         wrapped = name in WRAPPED_COLUMNS
         ws.column_dimensions[letter].width = min(60 if wrapped else 40, max(8, width))
         if wrapped or name in PERCENT_COLUMNS or name in PROBABILITY_COLUMNS:
             fmt = "0.0%" if name in PERCENT_COLUMNS else "0.0000"
-            for i in range(header + 1, header + 1 + len(frame)):
-                cell = ws.cell(row=i, column=j)
+            for (cell,) in ws.iter_rows(min_row=header + 1, max_row=header + len(frame),
+                                        min_col=j, max_col=j):
                 if wrapped:
                     cell.alignment = WRAP
                 elif isinstance(cell.value, float):
