@@ -174,3 +174,14 @@ def test_detect_languages_matches_single_calls() -> None:
     expected = [detect_language(t, ["en", "fr", "es"], "en") for t in texts]
     assert detect_languages(texts, ["en", "fr", "es"], "en") == expected
     assert [tag for tag, _ in expected] == ["en", "en", "es", "fr"]
+
+
+@pytest.mark.parametrize(
+    ("tag", "expected"),
+    [("ha", "ha"), ("rw", "rw"), ("wo", "wo"), ("hau", "ha"), ("cmn", "cmn"), ("qu", "qu")],
+    ids=["hausa", "kinyarwanda", "wolof", "hausa-639-3", "mandarin", "quechua"],
+)
+def test_normalise_tag_knows_languages_beyond_the_detector(tag: str, expected: str) -> None:
+    # ISO 639-3 code tables (SIL, the registration authority), as shipped by pycountry;
+    # the pairs hau/ha are the standard's own ISO 639-1 equivalents.
+    assert normalise_tag(tag) == expected

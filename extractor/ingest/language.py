@@ -18,6 +18,7 @@ import unicodedata
 from collections.abc import Sequence
 from functools import lru_cache
 
+import pycountry
 import spacy.lang
 from lingua import Language, LanguageDetector, LanguageDetectorBuilder
 
@@ -147,7 +148,11 @@ def is_well_formed(tag: str) -> bool:
 @lru_cache(maxsize=1)
 def known_languages() -> frozenset[str]:
     """Return the primary language subtags this installation recognises (see module docs)."""
-    codes = {lang.iso_code_639_1.name.lower() for lang in Language.all()}
+    # pycountry ships the whole ISO 639-3 table (with ISO 639-1 equivalents), so tags such
+    # as ha, ig, rw, wo, bm, ny, qu, cmn and yue are known, not only lingua's languages.
+    codes = {lang.alpha_3 for lang in pycountry.languages}
+    codes |= {lang.alpha_2 for lang in pycountry.languages if hasattr(lang, "alpha_2")}
+    codes |= {lang.iso_code_639_1.name.lower() for lang in Language.all()}
     codes |= {lang.iso_code_639_3.name.lower() for lang in Language.all()}
     codes |= {m.name for m in pkgutil.iter_modules(spacy.lang.__path__) if m.ispkg}
     codes.discard("xx")  # spaCy's multi-language pipeline, not an ISO 639 code
@@ -156,8 +161,11 @@ def known_languages() -> frozenset[str]:
 
 @lru_cache(maxsize=1)
 def _three_to_two() -> dict[str, str]:
-    """Map ISO 639-3 codes to their ISO 639-1 equivalent, where lingua knows both."""
-    return {
+    """Map ISO 639-3 codes to their ISO 639-1 equivalent (ISO 639 tables from pycountry)."""
+    pairs = {
+        lang.alpha_3: lang.alpha_2 for lang in pycountry.languages if hasattr(lang, "alpha_2")
+    }
+    return pairs | {
         lang.iso_code_639_3.name.lower(): lang.iso_code_639_1.name.lower()
         for lang in Language.all()
     }
