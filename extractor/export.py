@@ -501,7 +501,8 @@ def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
     ax.set_yticks(ypos + height * (len(series) - 1) / 2, labels=data["Trait"].tolist())
     ax.invert_yaxis()  # top trait at the top, as in the workbook table
     ax.set_xlabel("% of respondents")
-    ax.set_xlim(0, 100)
+    top = float(np.nanmax(data[series].to_numpy(dtype=float))) * 100 if len(data) else 0.0
+    ax.set_xlim(0, min(100.0, max(10.0, math.ceil(top * 1.15 / 10) * 10)))
     ax.set_title(title)
     if len(series) > 1:
         ax.legend()
@@ -770,7 +771,7 @@ def write_workbook(path: Path | str, mentions: pd.DataFrame, respondents: pd.Dat
     for title, frame, notes, freeze in tables:
         write_table(wb.create_sheet(title), frame, notes=notes, freeze_columns=freeze)
     ws = wb.create_sheet(SHEETS["chart"])
-    chart_title = (f"Share of respondents liking each trait, by {grouping}" if grouping
+    chart_title = (f"Share of individual respondents liking each trait, by {grouping}" if grouping
                    else "Share of individual respondents liking each trait")
     write_table(ws, chart, freeze_columns=1)
     for j in range(2, chart.shape[1] + 1):
