@@ -144,8 +144,9 @@ def group_difference(table: Sequence[Sequence[int]] | np.ndarray, *,
         return GroupTest(FISHER_2X2, float(res.statistic), float(res.pvalue))
     method = sps.MonteCarloMethod(n_resamples=n_resamples, rng=np.random.default_rng(seed))
     res = sps.fisher_exact(arr, method=method)
-    return GroupTest(fisher_monte_carlo_name(n_resamples, seed), float(res.statistic),
-                     float(res.pvalue))
+    # scipy returns a one-element array instead of a scalar for some sparse tables.
+    return GroupTest(fisher_monte_carlo_name(n_resamples, seed),
+                     float(np.ravel(res.statistic)[0]), float(np.ravel(res.pvalue)[0]))
 
 
 def bh_adjust(pvalues: Sequence[float]) -> list[float]:

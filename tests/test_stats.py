@@ -193,3 +193,15 @@ def test_bh_adjust_keeps_nan_out_of_the_count() -> None:
 def test_bh_adjust_rejects_out_of_range() -> None:
     with pytest.raises(InputError, match="between 0 and 1"):
         bh_adjust([0.2, 1.2])
+
+
+def test_group_difference_handles_many_single_respondent_groups() -> None:
+    # Fourteen groups of one or two respondents: scipy's Monte-Carlo Fisher test returns
+    # its statistic as a one-element array here; the p-value must agree with scipy's.
+    table = [[1, 0], [0, 1], [1, 0], [0, 1], [1, 0], [1, 0], [1, 0], [1, 0], [1, 0],
+             [0, 1], [0, 1], [1, 0], [2, 0], [0, 1]]
+    result = group_difference(table, n_resamples=999, seed=3)
+    reference = sps.fisher_exact(
+        np.array(table), method=sps.MonteCarloMethod(n_resamples=999,
+                                                     rng=np.random.default_rng(3)))
+    assert result.p_value == pytest.approx(float(np.ravel(reference.pvalue)[0]))
