@@ -15,6 +15,7 @@ import math
 
 import numpy as np
 import pytest
+from modAL.batch import ranked_batch
 from modAL.density import information_density
 from modAL.uncertainty import classifier_entropy, classifier_uncertainty
 from sklearn.metrics import cohen_kappa_score
@@ -161,9 +162,24 @@ def test_density_equals_modal_information_density() -> None:
     assert active.density(vectors) == pytest.approx(information_density(vectors))
 
 
-def test_density_chunked_path_equals_modal(monkeypatch: pytest.MonkeyPatch) -> None:
-    vectors = np.random.default_rng(4).normal(size=(60, 4))
+def test_density_of_large_pool_estimates_modal_from_a_sample(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    vectors = np.random.default_rng(4).normal(size=(600, 4))
+    monkeypatch.setattr(active, "_DENSE_LIMIT", 100)
+    monkeypatch.setattr(active, "_REFERENCE", 300)
+    exact = information_density(vectors)
+    estimate = active.density(vectors)
+    assert estimate == pytest.approx(exact, rel=0.03)
+    assert np.corrcoef(estimate, exact)[0, 1] > 0.99
+
+
+def test_density_with_reference_of_whole_pool_equals_modal(
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
+    vectors = np.random.default_rng(5).normal(size=(60, 4))
     monkeypatch.setattr(active, "_DENSE_LIMIT", 10)
+    monkeypatch.setattr(active, "_REFERENCE", 60)
     assert active.density(vectors) == pytest.approx(information_density(vectors))
 
 
@@ -224,6 +240,27 @@ def test_select_with_diversity_avoids_near_duplicates(labeled: bool) -> None:
     assert len({0, 1, 2, 3, 4} & set(picked)) < 5
 
 
+class _Learner:
+    """The two attributes modAL's ranked_batch reads from a learner."""
+
+    on_transformed = False
+
+    def __init__(self, labeled: np.ndarray | None) -> None:
+        self.X_training = labeled
+
+
+@pytest.mark.parametrize("labeled", [False, True], ids=["cold-start", "with-labels"])
+@pytest.mark.parametrize("seed", [0, 1, 2], ids=["pool-0", "pool-1", "pool-2"])
+def test_ranked_batch_indices_equals_modal_ranked_batch(labeled: bool, seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    pool, uncertainty = rng.normal(size=(30, 6)), rng.uniform(size=30)
+    known = rng.normal(size=(4, 6)) if labeled else None
+    reference, _ = ranked_batch(_Learner(known), pool, uncertainty, n_instances=8,
+                                metric="euclidean", n_jobs=None)
+    ours = active.ranked_batch_indices(pool, uncertainty, known, 8)
+    assert ours == [int(i) for i in reference]
+
+
 def test_select_with_diversity_works_at_cold_start() -> None:
     _, vectors = _near_duplicate_pool()
     picked = select(np.zeros(len(vectors)), vectors, 4, diversity=True)
@@ -246,7 +283,7 @@ def test_select_returns_nothing_from_exhausted_pool() -> None:
 
 def test_sentence_vectors_are_unit_length_and_one_per_sentence() -> None:
     texts = [f"The beans from plot {k} cook fast and taste sweet" for k in range(12)]
-    vectors = active.sentence_vectors(texts + ["Leaves turn bitter in Tinsoka"], dims=4)
+    vectors = active.sentence_vectors(texts + ["Leaves turn bitter in Tinsoka"], dims=8)
     assert vectors.shape[0] == 13
     assert np.linalg.norm(vectors, axis=1) == pytest.approx(np.ones(13))
 
