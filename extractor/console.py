@@ -436,7 +436,7 @@ def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str
 
         def read_terminal(prompt: str) -> str | None:
             try:
-                return console.input(prompt)
+                return console.input(Text(prompt))
             except EOFError:
                 return None
 
@@ -444,7 +444,7 @@ def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str
     source = stream if stream is not None else sys.stdin
 
     def read_stream(prompt: str) -> str | None:
-        console.print(prompt, end="")
+        console.print(Text(prompt), end="")
         line = source.readline()
         if line == "":
             return None

@@ -346,3 +346,11 @@ def test_rank_concepts_shows_label_in_sentence_language() -> None:
 def test_rank_concepts_returns_nothing_for_blank_or_unknown() -> None:
     assert rank_concepts("  ", ENTRIES) == []
     assert rank_concepts("zzqx", ENTRIES) == []
+
+
+@pytest.mark.parametrize("strategy", ["default", "least_confidence"], ids=["diverse", "plain"])
+def test_session_over_empty_store_has_nothing_to_ask(tmp_path: Path, strategy: str) -> None:
+    conn = store.connect(tmp_path / "empty.sqlite", create=True)
+    session = Session(conn, annotator="Ama", strategy=strategy, predictor=FakeModel())
+    assert session.next() is None
+    assert session.quit()["labeled"] == 0
