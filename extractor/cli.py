@@ -359,6 +359,188 @@ def _register_model_commands(sub: Any, concepts: Any) -> None:
 _EXTRA_COMMANDS.append(_register_model_commands)
 
 
+
+# --------------------------------------------------------------------------- labels
+
+
+def cmd_label(args: argparse.Namespace, console: Console) -> int:
+    """Label the most informative sentences in the terminal."""
+    from extractor.pipeline import label
+
+    with _workspace(args) as ws:
+        summary = label(ws, annotator=args.annotator, batch_size=args.batch,
+                        strategy=args.strategy, console=console)
+    console.print(
+        f"Saved {summary['labeled']} labels this session ({summary['total_labels']} in all). "
+        "Run `traits train` (or `traits run`) to build a model version from them."
+    )
+    return 0
+
+
+def cmd_import_labels(args: argparse.Namespace, console: Console) -> int:
+    """Import gold labels from JSON Lines or CoNLL IOB2 columns."""
+    from extractor.labels_io import import_labels, read_labels
+
+    path = Path(args.file)
+    with _workspace(args) as ws:
+        default_lang = ws.settings["workspace"]["default_language"]
+        records = read_labels(path, default_lang=default_lang)
+        counts = import_labels(ws.conn, records, annotator=args.annotator,
+                               default_lang=default_lang, source=path.name)
+    console.print(
+        f"Imported {counts['labels']} labels ({counts['spans']} spans) from {path.name}: "
+        f"{counts['matched']} matched stored sentences, {counts['added_sentences']} were added."
+    )
+    return 0
+
+
+def cmd_evaluate(args: argparse.Namespace, console: Console) -> int:
+    """Cross-validate on the labeled sentences and score the evaluation sample."""
+    from extractor.pipeline import evaluate_workspace
+
+    with _workspace(args) as ws:
+        results = evaluate_workspace(ws, k=args.folds)
+    from extractor.evaluate import format_tables
+
+    for title, part in (("cross-validation", results.get("cross_validation")),
+                        ("evaluation sample", results.get("evaluation_sample"))):
+        if not part:
+            console.print(f"No {title} figures: {results.get('notes', {}).get(title, '')}")
+            continue
+        console.rule(title)
+        for table in format_tables(part):
+            console.print(table)
+    if results.get("version"):
+        console.print(f"Stored with model version {results['version']}.")
+    return 0
+
+
+def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
+    """Learning curves with a simulated annotator answering from gold labels."""
+    import json as _json
+
+    from extractor.concepts import load_concept_list
+    from extractor.labels_io import read_labels
+    from extractor.simulate import curve_table, plot, simulate
+
+    pool = read_labels(Path(args.pool), default_lang=args.lang)
+    test = read_labels(Path(args.test), default_lang=args.lang)
+    aliases = []
+    if args.concepts:
+        loaded = load_concept_list(Path(args.concepts), default_lang=args.lang)
+        aliases = [(a["concept_id"], a["text"], a["lang"]) for a in loaded.aliases]
+    results = simulate(
+        pool, test, aliases, strategies=args.strategies.split(","),
+        budgets=[int(b) for b in args.budgets.split(",")], repeats=args.repeats,
+        seed=args.seed, batch_size=args.batch, jobs=args.jobs,
+    )
+    Path(args.out).write_text(_json.dumps(results, indent=1), encoding="utf-8")
+    table = Table(title="Span F1 by strategy and budget (mean over repeats)")
+    rows = curve_table(results)
+    for column in rows[0] if rows else ():
+        table.add_column(str(column))
+    for row in rows:
+        table.add_row(*(f"{v:.3f}" if isinstance(v, float) else str(v) for v in row.values()))
+    console.print(table)
+    if args.plot:
+        plot(results, Path(args.plot))
+        console.print(f"Plot: {args.plot}")
+    console.print(f"Results: {args.out}")
+    return 0
+
+
+# --------------------------------------------------------------------------- concept curation
+
+
+def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
+    """List frequent unlinked terms with examples and their nearest concepts."""
+    from extractor.pipeline import suggest_terms
+
+    with _workspace(args) as ws:
+        found = suggest_terms(ws, min_count=args.min_count)
+    if not found:
+        console.print("No unlinked term occurs often enough; nothing to suggest.")
+        return 0
+    table = Table(title="Unlinked terms (accept one with `traits concepts accept TERM ID`)")
+    for column in ("term", "count", "nearest concepts", "nearest by word use", "example"):
+        table.add_column(column, overflow="fold")
+    for item in found[: args.limit]:
+        nearest = ", ".join(f"{c} {p:.2f}" for c, p in item.get("nearest", [])[:3])
+        similar = ", ".join(f"{c} {p:.2f}" for c, p in item.get("nearest_by_vectors", [])[:3])
+        examples = item.get("examples") or [""]
+        table.add_row(item["term"], str(item["count"]), nearest, similar, str(examples[0]))
+    console.print(table)
+    return 0
+
+
+def cmd_concepts_accept(args: argparse.Namespace, console: Console) -> int:
+    """Add a term as an annotator alias of a concept."""
+    with _workspace(args) as ws:
+        lang = args.lang or ws.settings["workspace"]["default_language"]
+        added = store.add_alias(ws.conn, args.concept, args.term, lang, args.annotator)
+    console.print(
+        f"Added {args.term!r} ({lang}) as an alias of {args.concept}."
+        if added else f"{args.term!r} ({lang}) is already an alias of {args.concept}."
+    )
+    return 0
+
+
+def cmd_concepts_export(args: argparse.Namespace, console: Console) -> int:
+    """Write the concept list with accepted aliases for curators."""
+    from extractor.pipeline import export_concepts
+
+    with _workspace(args) as ws:
+        path = export_concepts(ws, Path(args.out) if args.out else None)
+    console.print(f"Wrote {path}; aliases accepted by annotators are marked in 'origin'.")
+    return 0
+
+
+def _register_label_commands(sub: Any, concepts: Any) -> None:
+    p = sub.add_parser("label", help="label the most informative sentences in the terminal")
+    p.add_argument("--annotator", required=True, help="your name, stored with every label")
+    p.add_argument("--batch", type=int, help="sentences chosen together (default from settings)")
+    p.add_argument("--strategy", help="query strategy (default from settings)")
+    p.set_defaults(handler=cmd_label)
+    p = sub.add_parser("import-labels", help="import labels (gold JSON Lines or CoNLL IOB2)")
+    p.add_argument("file")
+    p.add_argument("--annotator", default="import", help="who the labels are attributed to")
+    p.set_defaults(handler=cmd_import_labels)
+    p = sub.add_parser("evaluate", help="cross-validated quality and the evaluation sample")
+    p.add_argument("--folds", type=int, default=5)
+    p.set_defaults(handler=cmd_evaluate)
+    p = sub.add_parser("simulate", help="learning curves with a simulated annotator")
+    p.add_argument("--pool", required=True, help="gold labels the annotator answers from")
+    p.add_argument("--test", required=True, help="gold labels to score on")
+    p.add_argument("--concepts", help="concept list (CSV or XLSX)")
+    p.add_argument("--strategies", default="default,random")
+    p.add_argument("--budgets", default="0,50,100,200")
+    p.add_argument("--repeats", type=int, default=3)
+    p.add_argument("--seed", type=int, default=0)
+    p.add_argument("--batch", type=int, default=5, help="sentences queried together")
+    p.add_argument("--jobs", type=int, default=1, help="runs in parallel (cores)")
+    p.add_argument("--lang", default="en", help="language of records that name none")
+    p.add_argument("--out", default="results.json")
+    p.add_argument("--plot", help="PNG of F1 against labeled sentences and tokens")
+    p.set_defaults(handler=cmd_simulate)
+
+    p = concepts.add_parser("suggest", help="frequent unlinked terms and their nearest concepts")
+    p.add_argument("--min-count", type=int, default=2)
+    p.add_argument("--limit", type=int, default=30)
+    p.set_defaults(handler=cmd_concepts_suggest)
+    p = concepts.add_parser("accept", help="add a term as an alias of a concept")
+    p.add_argument("term")
+    p.add_argument("concept")
+    p.add_argument("--lang", help="language of the term (default: the workspace's)")
+    p.add_argument("--annotator", default="curator")
+    p.set_defaults(handler=cmd_concepts_accept)
+    p = concepts.add_parser("export", help="the concept list with accepted aliases, for curators")
+    p.add_argument("--out", help="output CSV (default: exports/concepts_with_accepted_aliases.csv)")
+    p.set_defaults(handler=cmd_concepts_export)
+
+
+_EXTRA_COMMANDS.append(_register_label_commands)
+
+
 def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -> int:
     """Run the ``traits`` command; return its exit code."""
     console = console or Console()

@@ -26,7 +26,7 @@ from extractor.errors import ModelError, NotFittedError
 from extractor.linking import ConceptLinker
 from extractor.stance import StanceModel
 from extractor.tagger import TagResult, TraitTagger, fit_tagger, tag_sentences
-from extractor.types import Sentence, Span
+from extractor.types import STANCES, Sentence, Span
 
 Alias = tuple[str, str, str]
 """(concept_id, alias text, language)."""
@@ -46,6 +46,8 @@ class Mention(NamedTuple):
     link_prob: float
     stance: str
     stance_prob: float
+    concept_probs: dict[str, float] | None = None
+    stance_probs: dict[str, float] | None = None
 
 
 class SentencePrediction(NamedTuple):
@@ -175,17 +177,20 @@ class TraitModels:
             (gold_concepts or {}).get(s.id, {}).get((span.start, span.end)) for s, span in items
         ]
         links = self.linker_.link_many(items, given) if items else []
-        stances = self.stance_.predict_many(items) if items else []
+        stance_probs = self.stance_.predict_proba_many(items) if items else []
         out = []
         k = 0
         for result in tagged:
             mentions = []
             for span in result.spans:
-                link, (stance, stance_prob) = links[k], stances[k]
+                link, probs = links[k], stance_probs[k]
                 k += 1
+                best = int(probs.argmax())
                 mentions.append(
                     Mention(span.start, span.end, span_confidence(result, span), link.concept,
-                            float(link.probability), stance, float(stance_prob))
+                            float(link.probability), STANCES[best], float(probs[best]),
+                            dict(link.candidates),
+                            {stance: float(p) for stance, p in zip(STANCES, probs, strict=True)})
                 )
             out.append(SentencePrediction(mentions, result))
         return out

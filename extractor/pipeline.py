@@ -19,6 +19,7 @@ from extractor.errors import ModelError, TraitsError
 from extractor.intake import add_files, import_concepts, interview_files
 from extractor.modeling import TraitModels, entropy_scores
 from extractor.progress import track
+from extractor.session import Prediction, Predictor, Retrain, Suggestion
 from extractor.types import Sentence, Span
 from extractor.workspace import Workspace
 
@@ -97,7 +98,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     metrics: dict[str, Any] = {}
     if cross_validate and len(gold) >= MIN_LABELS_FOR_CV:
         metrics["cross_validation"] = _cross_validate(gold, corpus, aliases, tagger_params,
-                                                      settings)
+                                                      settings, models.clusters_)
     version = new_version_name(ws)
     folder = ws.models_dir / version
     concept_version = store.current_concept_version(ws.conn)
@@ -124,14 +125,16 @@ def _cross_validate(
     aliases: list[tuple[str, str, str]],
     tagger_params: dict[str, Any],
     settings: dict[str, Any],
+    clusters: dict[str, Any],
 ) -> dict[str, Any]:
-    """Cross-validate when the evaluation module is available."""
+    """Return 5-fold cross-validated figures, reusing the version's word clusters."""
     from extractor import evaluate
 
     return evaluate.cross_validate(
         gold, corpus, aliases, k=5, seed=0,
         model_params={"tagger_params": tagger_params,
                       "link_threshold": float(settings["linking"]["threshold"])},
+        clusters=clusters,
     )
 
 
@@ -169,7 +172,11 @@ def tag(ws: Workspace, models: TraitModels, version: str) -> dict[str, Any]:
                 "sentence_id": sentence.id,
                 "path_prob": prediction.tagged.probability,
                 "scores": entropy_scores(prediction.tagged),
-                "mentions": [m._asdict() | {"source": "predicted"} for m in prediction.mentions],
+                "mentions": [
+                    m._asdict() | {"source": "predicted", "concept_probs": None,
+                                   "stance_probs": None}
+                    for m in prediction.mentions
+                ],
             })
     store.store_predictions(ws.conn, version, rows)
     mentions = sum(len(r["mentions"]) for r in rows)
@@ -207,3 +214,156 @@ def run(ws: Workspace) -> dict[str, Any]:
     report["export"] = export_workbook(ws, trained["version"])
     report["counts"] = after
     return report
+
+
+# --------------------------------------------------------------------------- labeling
+
+
+def predictor_for(models: TraitModels) -> Predictor:
+    """Return the labeling session's view of a model version: paths, marginals, suggestions."""
+
+    def predict(sentences: Sequence[Sentence]) -> list[Prediction]:
+        out = []
+        for found in models.predict(sentences):
+            suggestions = tuple(
+                Suggestion(Span(m.start, m.end, m.concept, m.stance), m.confidence,
+                           m.concept_probs, m.stance_probs)
+                for m in found.mentions
+            )
+            out.append(Prediction(tuple(found.tagged.tags), tuple(found.tagged.marginals),
+                                  found.tagged.probability, suggestions))
+        return out
+
+    return predict
+
+
+def retrainer(ws: Workspace) -> Retrain:
+    """Return a function that fits new models on the session's labels, off the main thread.
+
+    The corpus, aliases and settings are read now, so the background thread never
+    touches the store.
+    """
+    corpus = store.sentences(ws.conn)
+    aliases = alias_tuples(ws)
+    params = dict(ws.settings["tagger"])
+    threshold = float(ws.settings["linking"]["threshold"])
+    clusters_box: dict[str, Any] = {}
+
+    def retrain(gold: Sequence[tuple[Sentence, Sequence[Span]]]) -> Predictor:
+        models = TraitModels(tagger_params=params, link_threshold=threshold)
+        models.fit(list(gold), corpus, aliases, clusters=clusters_box.get("clusters"))
+        clusters_box["clusters"] = models.clusters_
+        return predictor_for(models)
+
+    return retrain
+
+
+def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: str | None,
+          console: Any = None, input_stream: Any = None) -> dict[str, Any]:
+    """Run a labeling session over the newest model version (or a cold start)."""
+    from extractor.console import run_console
+    from extractor.session import SessionSettings
+
+    active = ws.settings["active"]
+    predictor = None
+    if store.models(ws.conn):
+        _, models = load_version(ws)
+        predictor = predictor_for(models)
+    settings = SessionSettings(
+        retrain_every=int(active["retrain_every"]),
+        evaluation_fraction=float(active["evaluation_share"]),
+        evaluation_min=int(active["evaluation_min"]),
+        stop_set_size=int(active["stop_set_size"]),
+        kappa_threshold=float(active["stop_kappa"]),
+        kappa_rounds=int(active["stop_rounds"]),
+    )
+    return run_console(
+        ws.conn, annotator=annotator, batch_size=batch_size or int(active["batch_size"]),
+        strategy=strategy or str(active["strategy"]), model_provider=predictor,
+        retrain=retrainer(ws), console=console, input_stream=input_stream, settings=settings,
+    )
+
+
+# --------------------------------------------------------------------------- quality, curation
+
+
+def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
+    """Cross-validate on every labeled sentence and score the newest version on the evaluation
+    sample; store both figures with the newest model version."""
+    from extractor import evaluate
+
+    gold = gold_examples(ws)
+    results: dict[str, Any] = {"notes": {}}
+    if len(gold) < MIN_LABELS_FOR_CV:
+        results["notes"]["cross-validation"] = (
+            f"only {len(gold)} sentences are labeled; label at least {MIN_LABELS_FOR_CV} "
+            "(`traits label` or `traits import-labels`)."
+        )
+    else:
+        corpus = store.sentences(ws.conn)
+        results["cross_validation"] = evaluate.cross_validate(
+            gold, corpus, alias_tuples(ws), k=k, seed=0,
+            model_params={"tagger_params": dict(ws.settings["tagger"]),
+                          "link_threshold": float(ws.settings["linking"]["threshold"])},
+            clusters=_reusable_clusters(ws, corpus),
+        )
+    latest = store.latest_model(ws.conn)
+    sample = set(store.sample_ids(ws.conn, "evaluation"))
+    held_out = [(s, spans) for s, spans in gold if s.id in sample]
+    if latest is None:
+        results["notes"]["evaluation sample"] = "no model version yet; run `traits train`."
+    elif not held_out:
+        results["notes"]["evaluation sample"] = (
+            "none of the fixed evaluation sample is labeled yet; `traits label` offers it."
+        )
+    else:
+        version, models = load_version(ws)
+        results["evaluation_sample"] = evaluate.evaluate_on(models, held_out)
+    if latest is not None:
+        results["version"] = latest["version"]
+        store.set_model_metrics(ws.conn, latest["version"], {
+            key: results[key] for key in ("cross_validation", "evaluation_sample")
+            if key in results
+        })
+    return results
+
+
+def suggest_terms(ws: Workspace, *, min_count: int = 2) -> list[dict[str, Any]]:
+    """Return frequent mentions of the newest version that no concept was linked to."""
+    from extractor.linking import suggest_terms as rank_terms
+
+    version, models = load_version(ws)
+    predicted = store.predictions(ws.conn, version)
+    sentences = {s.id: s for s in store.sentences(ws.conn, predicted)}
+    unlinked = [
+        (sentences[sid], Span(m["start"], m["end"]))
+        for sid, row in predicted.items() if sid in sentences
+        for m in row["mentions"] if m.get("concept") is None
+    ]
+    return rank_terms(unlinked, models.linker_, models.clusters_, min_count=min_count)
+
+
+def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
+    """Write the concept list in its import format, plus accepted aliases, for curators."""
+    import csv
+
+    out = out or ws.exports_dir / "concepts_with_accepted_aliases.csv"
+    out.parent.mkdir(parents=True, exist_ok=True)
+    concepts = {c["id"]: c for c in store.concepts(ws.conn)}
+    with out.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.writer(handle)
+        writer.writerow(["id", "label", "lang", "synonyms", "hidden", "parent", "definition",
+                         "origin", "added_by"])
+        for alias in store.aliases(ws.conn):
+            concept = concepts.get(alias["concept_id"], {})
+            if alias["kind"] == "preferred":
+                continue
+            label = concept.get("labels", {}).get(alias["lang"], "")
+            writer.writerow([
+                alias["concept_id"], label, alias["lang"],
+                alias["text"] if alias["kind"] == "alternative" else "",
+                alias["text"] if alias["kind"] == "hidden" else "",
+                concept.get("parent") or "", concept.get("definition") or "",
+                alias["origin"], alias["added_by"] or "",
+            ])
+    return out
