@@ -1,0 +1,128 @@
+"""The whole job on a small invented workspace: run, labels win, re-run, label over a pipe."""
+
+from __future__ import annotations
+
+import io
+import json
+from pathlib import Path
+
+import openpyxl
+import pandas as pd
+import pytest
+from rich.console import Console
+
+from extractor import store
+from extractor.cli import main
+from extractor.workspace import Workspace
+
+ANSWERS = [
+    ("KA-01", "woman", "farmer", "It cooks fast and the broth is thick. I like the taste."),
+    ("KA-02", "man", "trader", "The grains are too small. Buyers want big grains."),
+    ("KA-03", "woman", "consumer", "It does not cook fast. The taste is bitter."),
+    ("KA-04", "man", "farmer", "I wish it matured earlier. The yield is good."),
+    ("KA-05", "woman", "processor", "Weevils eat it in the store. We planted after the rains."),
+    ("KA-06", "man", "farmer", "Good yield even in drought. It cooks fast."),
+]
+CONCEPTS = (
+    "id,label,lang,synonyms\n"
+    "BTX:0001,cooking time,en,cooks fast|cook fast|quick to cook\n"
+    "BTX:0002,broth thickness,en,broth|thick broth\n"
+    "BTX:0003,taste,en,flavour|tasty\n"
+    "BTX:0004,grain size,en,small grains|big grains|grain size\n"
+    "BTX:0005,yield,en,harvest\n"
+    "BTX:0006,earliness,en,matures early|matured earlier\n"
+    "BTX:0007,storability,en,weevils|stores well\n"
+    "BTX:0008,drought tolerance,en,drought\n"
+)
+
+
+def run(*argv: str, stdin: str | None = None, monkeypatch: pytest.MonkeyPatch | None = None
+        ) -> tuple[int, str]:
+    if stdin is not None and monkeypatch is not None:
+        monkeypatch.setattr("sys.stdin", io.StringIO(stdin))
+    buffer = io.StringIO()
+    code = main(list(argv), console=Console(file=buffer, width=160, force_terminal=False))
+    return code, buffer.getvalue()
+
+
+@pytest.fixture
+def study(tmp_path: Path) -> Path:
+    root = tmp_path / "study"
+    (root / "interviews").mkdir(parents=True)
+    lines = ["respondent,gender,role,language,question,answer"]
+    lines += [f'{r},{g},{role},en,Why do you grow it?,"{a}"' for r, g, role, a in ANSWERS]
+    (root / "interviews" / "survey.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
+    (root / "concepts.csv").write_text(CONCEPTS, encoding="utf-8")
+    assert run("init", str(root))[0] == 0
+    return root
+
+
+def test_run_writes_workbook_and_model_version(study: Path) -> None:
+    code, out = run("-w", str(study), "run")
+    assert code == 0, out
+    assert "review" in out  # the caution is shown with the results
+    book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
+    assert len(book.sheetnames) >= 5
+    with Workspace(study) as ws:
+        version = store.latest_model(ws.conn)["version"]
+        assert (study / "models" / version / "meta.json").is_file()
+        predicted = store.predictions(ws.conn, version)
+    mentions = [m for p in predicted.values() for m in p["mentions"]]
+    assert mentions and all(m["model_version"] if "model_version" in m else True for m in mentions)
+    assert {m["stance"] for m in mentions} <= {"liked", "disliked", "wanted", "neutral"}
+
+
+def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: Path) -> None:
+    run("-w", str(study), "run")
+    labels = tmp_path / "labels.jsonl"
+    labels.write_text(json.dumps({
+        "respondent": "KA-01", "lang": "en",
+        "text": "It cooks fast and the broth is thick.",
+        "spans": [{"start": 3, "end": 13, "concept": "BTX:0001", "stance": "liked"}],
+    }) + "\n", encoding="utf-8")
+    assert run("-w", str(study), "import-labels", str(labels))[0] == 0
+    code, out = run("-w", str(study), "run")
+    assert code == 0 and "No new interviews" in out
+    with Workspace(study) as ws:
+        assert len(store.current_labels(ws.conn)) == 1
+        assert len(store.models(ws.conn)) == 2
+
+
+def test_person_labels_override_predictions_in_the_workbook(study: Path, tmp_path: Path) -> None:
+    labels = tmp_path / "labels.jsonl"
+    labels.write_text(json.dumps({
+        "respondent": "KA-05", "lang": "en",
+        "text": "We planted after the rains.", "spans": [],
+    }) + "\n" + json.dumps({
+        "respondent": "KA-02", "lang": "en", "text": "The grains are too small.",
+        "spans": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}],
+    }) + "\n", encoding="utf-8")
+    run("-w", str(study), "run")
+    run("-w", str(study), "import-labels", str(labels))
+    run("-w", str(study), "train", "--no-cv")
+    run("-w", str(study), "export")
+    frame = pd.read_excel(study / "exports" / "preferred_traits.xlsx", sheet_name="Mentions")
+    small = frame[frame["Sentence"] == "The grains are too small."]
+    assert list(small["Source"]) == ["person"]
+    assert list(small["Concept ID"]) == ["BTX:0004"]
+    assert list(small["Stance"]) == ["disliked"]
+    assert frame[frame["Sentence"] == "We planted after the rains."].empty
+
+
+def test_label_over_a_pipe_stores_one_label_per_enter(
+    study: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    run("-w", str(study), "run")
+    code, out = run("-w", str(study), "label", "--annotator", "tester",
+                    stdin="\n" * 3 + "q\n", monkeypatch=monkeypatch)
+    assert code == 0, out
+    with Workspace(study) as ws:
+        labels = store.current_labels(ws.conn)
+    assert len(labels) == 3 and {v["annotator"] for v in labels.values()} == {"tester"}
+
+
+def test_train_without_concepts_or_labels_says_what_to_do(tmp_path: Path) -> None:
+    root = tmp_path / "empty"
+    run("init", str(root))
+    code, out = run("-w", str(root), "train")
+    assert code == 1 and "concepts import" in out
