@@ -1,22 +1,60 @@
 """trait-extractor: preferred, disliked and wanted crop traits from verbatim interview answers.
 
-The public surface is re-exported here as modules land; everything the ``traits``
-command does can be done from Python through these functions.
+Everything the ``traits`` command does can be done from Python. The public surface:
+
+- workspaces: :func:`init_workspace`, :class:`Workspace`;
+- the whole job and its steps: :func:`add_files`, :func:`import_concepts`, :func:`train`,
+  :func:`tag`, :func:`run`, :func:`export_workbook`, :func:`evaluate_workspace`;
+- the models: :class:`TraitModels` (dictionary, clusters, CRF tagger, linker, stance);
+- labeling: :func:`run_console` over a :class:`Session`;
+- value types: :class:`Sentence`, :class:`Span`, :data:`STANCES`, :data:`TAGS`;
+- errors: :class:`TraitsError` and its subclasses.
+
+Submodules are imported on first use, so ``import extractor`` stays cheap.
 """
 
-from extractor.errors import InputError, ModelError, TraitsError, WorkspaceError
+from __future__ import annotations
+
+from importlib import import_module
+from typing import Any
+
+from extractor.errors import InputError, ModelError, NotFittedError, TraitsError, WorkspaceError
 from extractor.types import STANCES, TAGS, Sentence, Span
 
 __version__ = "0.1.0"
+
+_LAZY = {
+    "init_workspace": "extractor.workspace",
+    "Workspace": "extractor.workspace",
+    "add_files": "extractor.intake",
+    "import_concepts": "extractor.intake",
+    "train": "extractor.pipeline",
+    "tag": "extractor.pipeline",
+    "run": "extractor.pipeline",
+    "evaluate_workspace": "extractor.pipeline",
+    "export_workbook": "extractor.results",
+    "TraitModels": "extractor.modeling",
+    "run_console": "extractor.console",
+    "Session": "extractor.session",
+}
 
 __all__ = [
     "STANCES",
     "TAGS",
     "InputError",
     "ModelError",
+    "NotFittedError",
     "Sentence",
     "Span",
     "TraitsError",
     "WorkspaceError",
     "__version__",
+    *_LAZY,
 ]
+
+
+def __getattr__(name: str) -> Any:
+    """Import a public name from its module on first use."""
+    if name in _LAZY:
+        return getattr(import_module(_LAZY[name]), name)
+    raise AttributeError(f"module 'extractor' has no attribute {name!r}")

@@ -1,0 +1,102 @@
+"""Benchmark of the tagger: throughput end to end, training time, peak memory.
+
+Not part of the test suite. Run from the repository root:
+
+    .venv/bin/python tests/bench/bench_tagger.py [--sizes 20000,100000] [--train 2000]
+
+The corpus is synthetic: sentences of the demo study recombined (clauses of two demo
+sentences joined), so that vocabulary and lengths look like real answers. Goals:
+>= 3,000 sentences/s tagging on one core (features + CRF), <= 5 s to train on 2,000
+sentences, <= 1 GB peak memory at 100k sentences.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import random
+import resource
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+from extractor.clusters import learn_clusters  # noqa: E402
+from extractor.concepts import load_concept_list  # noqa: E402
+from extractor.dictionary import build_dictionary  # noqa: E402
+from extractor.tagger import fit_tagger, tag_sentences  # noqa: E402
+from extractor.types import Sentence, Span  # noqa: E402
+
+
+def demo_gold() -> list[dict]:
+    """Return the demo's gold sentences (the recombination material)."""
+    path = ROOT / "sample_interviews" / "gold.jsonl"
+    return [json.loads(line) for line in path.read_text(encoding="utf-8").splitlines()]
+
+
+def synthetic(records: list[dict], n: int, seed: int = 0) -> list[Sentence]:
+    """Return ``n`` sentences made by joining the first half of one demo sentence of a
+    language with the second half of another."""
+    rng = random.Random(seed)
+    by_lang: dict[str, list[str]] = {}
+    for r in records:
+        by_lang.setdefault(r["lang"].split("-")[0], []).append(r["text"])
+    langs = sorted(by_lang)
+    out = []
+    for i in range(n):
+        lang = rng.choice(langs)
+        a, b = rng.choice(by_lang[lang]), rng.choice(by_lang[lang])
+        wa, wb = a.split(), b.split()
+        text = " ".join(wa[: max(1, len(wa) // 2)] + wb[len(wb) // 2 :])
+        out.append(Sentence(id=i, text=text, lang=lang))
+    return out
+
+
+def peak_mb() -> float:
+    """Peak resident memory of this process so far, in MB (Linux reports KiB)."""
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+
+
+def main() -> None:
+    """Run the benchmark and print its figures as a table and JSON."""
+    parser = argparse.ArgumentParser(description=__doc__)
+    parser.add_argument("--sizes", default="20000,100000")
+    parser.add_argument("--train", type=int, default=2000)
+    args = parser.parse_args()
+
+    records = demo_gold()
+    aliases = [(a["concept_id"], a["text"], a["lang"])
+               for a in load_concept_list(ROOT / "sample_interviews" / "concepts.csv").aliases]
+    dictionary = build_dictionary(aliases)
+    gold = [
+        (Sentence(id=-(i + 1), text=r["text"], lang=r["lang"]),
+         [Span(s["start"], s["end"], s.get("concept"), s.get("stance")) for s in r["spans"]])
+        for i, r in enumerate(records[: args.train])
+    ]
+    figures: dict[str, float] = {}
+    for size in (int(s) for s in args.sizes.split(",")):
+        corpus = synthetic(records, size)
+        t0 = time.perf_counter()
+        clusters = learn_clusters([(s.text, s.lang) for s in corpus])
+        figures[f"clusters_s_{size}"] = time.perf_counter() - t0
+        silver = synthetic(records, max(0, args.train - len(gold)), seed=1)
+        t0 = time.perf_counter()
+        tagger = fit_tagger(gold, silver, dictionary, clusters)
+        figures[f"train_s_{args.train}"] = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        for start in range(0, size, 1000):
+            tag_sentences(tagger, corpus[start : start + 1000], dictionary, clusters)
+        seconds = time.perf_counter() - t0
+        figures[f"tag_sentences_per_s_{size}"] = size / seconds
+        figures[f"peak_mb_after_{size}"] = peak_mb()
+        print(f"{size:>7} sentences: clusters {figures[f'clusters_s_{size}']:.1f} s, "
+              f"train on {args.train} {figures[f'train_s_{args.train}']:.1f} s, "
+              f"tagging {size / seconds:,.0f} sentences/s, peak {peak_mb():,.0f} MB",
+              flush=True)
+    print(json.dumps(figures, indent=1))
+
+
+if __name__ == "__main__":
+    main()
