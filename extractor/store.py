@@ -54,6 +54,7 @@ CREATE TABLE answers (
     lang TEXT NOT NULL,
     lang_origin TEXT NOT NULL CHECK (lang_origin IN ('column', 'detected', 'default')),
     variety TEXT,
+    speaker TEXT,
     sheet TEXT,
     row INTEGER,
     fingerprint TEXT NOT NULL UNIQUE
@@ -278,8 +279,8 @@ def add_source(
             fingerprint = answer_fingerprint(row["respondent"], row.get("question"), row["answer"])
             cur = conn.execute(
                 "INSERT OR IGNORE INTO answers (respondent_id, source_id, question, text, lang, "
-                "lang_origin, variety, sheet, row, fingerprint) "
-                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                "lang_origin, variety, speaker, sheet, row, fingerprint) "
+                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
                 (
                     respondent_id,
                     source_id,
@@ -288,6 +289,7 @@ def add_source(
                     row["lang"],
                     row["lang_origin"],
                     row.get("variety"),
+                    row.get("speaker"),
                     row.get("sheet"),
                     row.get("row"),
                     fingerprint,

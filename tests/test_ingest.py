@@ -272,11 +272,12 @@ def test_read_txt_transcript_turns_become_answers(tmp_path: Path) -> None:
         ("KB-08", "¿Qué le gusta?", ES_1, 18),
     ]  # fmt: skip
     first, last = result.rows[0], result.rows[-1]
-    assert first["metadata"] == {"gender": "female", "age_group": "30-45", "speaker": "Woman 1"}
+    assert first["metadata"] == {"gender": "female", "age_group": "30-45"}
+    assert first["speaker"] == "Woman 1"
     assert (first["variety"], first["is_group"], first["lang_origin"]) == ("Tamu Njano", True,
                                                                           "detected")  # fmt: skip
     assert (last["lang"], last["lang_origin"], last["is_group"]) == ("es", "column", False)
-    assert last["metadata"] == {"speaker": "Agricultor"}
+    assert (last["metadata"], last["speaker"]) == ({}, "Agricultor")
 
 
 def test_read_txt_without_header_uses_file_stem(tmp_path: Path) -> None:
@@ -293,8 +294,8 @@ def test_read_txt_numbered_question_labels_are_interviewer(tmp_path: Path) -> No
     path = tmp_path / "minde.txt"
     path.write_text(f"Respondent: M-9\n\nQ1: Why Kibali?\nR: {EN_2}\n", encoding="utf-8")
     rows = read(path).rows
-    assert [(r["question"], r["answer"], r["metadata"]) for r in rows] == [
-        ("Why Kibali?", EN_2, {"speaker": "R"}),
+    assert [(r["question"], r["answer"], r["speaker"]) for r in rows] == [
+        ("Why Kibali?", EN_2, "R"),
     ]
 
 
@@ -312,7 +313,8 @@ def test_read_docx_transcript_one_line_per_paragraph(tmp_path: Path) -> None:
         5,
     )
     assert row["answer"] == f"{FR_1}\nElle se conserve bien."
-    assert (row["lang"], row["metadata"]) == ("fr", {"gender": "male", "speaker": "Répondant 1"})
+    assert (row["lang"], row["metadata"]) == ("fr", {"gender": "male"})
+    assert row["speaker"] == "Répondant 1"
 
 
 # --- bad inputs -------------------------------------------------------------------

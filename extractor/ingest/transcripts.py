@@ -121,9 +121,8 @@ class _TranscriptParser:
         if not text.strip():
             return
         metadata = dict(self.metadata)
-        if self.speaker is not None:
-            metadata["speaker"] = self.speaker
         self.rows.append({
+            "speaker": self.speaker,
             "respondent": self.respondent,
             "question": self.question,
             "answer": text,
