@@ -259,14 +259,16 @@ def evaluate_on(models: _Predictor, gold: Gold) -> dict[str, Any]:
         gold: The evaluation sentences and their gold spans.
 
     Returns:
-        A :func:`score` result, plus ``"summary"`` (:func:`summary`).
+        A :func:`score` result, plus ``"summary"`` (:func:`summary`) and the summary's
+        figures at the top level too (``"span_f1"``...), where ``traits models`` reads them.
     """
     if not gold:
         raise InputError(
             "The evaluation sample holds no labeled sentence; label some sentences of it first."
         )
     result = score(gold, predicted_mentions(models.predict([s for s, _ in gold])))
-    return result | {"summary": summary(result)}
+    figures = summary(result)
+    return result | {"summary": figures} | figures
 
 
 def group_folds(groups: Sequence[str], k: int, seed: int = 0) -> list[list[int]]:
@@ -337,9 +339,9 @@ def cross_validate(
 
     Returns:
         ``{"k", "seed", "grouped_by": "respondent", "mean": {...}, "sd": {...},
-        "folds": [{"fold", "n_train", "n_test", "seconds", "summary", "result"}]}``, where
-        ``mean`` and ``sd`` are over folds of each :func:`summary` figure (``None`` when
-        it applies to no fold).
+        "span_f1": {"mean", "sd"}, ... (each summary figure), "folds": [{"fold",
+        "n_train", "n_test", "seconds", "summary", "result"}]}``, where ``mean`` and ``sd``
+        are over folds of each :func:`summary` figure (``None`` when it applies to no fold).
     """
     folds = group_folds([respondent_key(s) for s, _ in gold], k, seed)
     per_fold = []
@@ -356,12 +358,15 @@ def cross_validate(
             "seconds": round(time.perf_counter() - started, 2),
             "summary": result["summary"], "result": result,
         })  # fmt: skip
+    mean = _aggregate(per_fold, statistics.fmean)
+    sd = _aggregate(per_fold, lambda v: statistics.stdev(v) if len(v) > 1 else 0.0)
     return {
         "k": len(folds),
         "seed": seed,
         "grouped_by": "respondent",
-        "mean": _aggregate(per_fold, statistics.fmean),
-        "sd": _aggregate(per_fold, lambda v: statistics.stdev(v) if len(v) > 1 else 0.0),
+        "mean": mean,
+        "sd": sd,
+        **{key: {"mean": mean[key], "sd": sd[key]} for key in SUMMARY_KEYS},
         "folds": per_fold,
     }
 

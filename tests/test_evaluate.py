@@ -197,6 +197,7 @@ def test_evaluate_on_scores_the_model() -> None:
     # Hand count: 2 predicted, 1 correct, 1 gold: P 0.5, R 1.
     assert result["summary"]["span_f1"] == pytest.approx(2 / 3)
     assert result["summary"]["stance_accuracy"] == 1.0
+    assert result["span_f1"] == result["summary"]["span_f1"]
 
 
 def test_cross_validate_never_trains_on_the_held_out_fold() -> None:
@@ -209,6 +210,7 @@ def test_cross_validate_never_trains_on_the_held_out_fold() -> None:
         assert len(trained) == fold["n_train"] == 9
     assert result["mean"]["span_f1"] == pytest.approx(1.0)
     assert result["mean"]["respondent_f1"] == pytest.approx(1.0)
+    assert result["span_f1"] == {"mean": pytest.approx(1.0), "sd": pytest.approx(0.0)}
 
 
 def test_format_tables_render_every_part() -> None:

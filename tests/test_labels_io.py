@@ -204,3 +204,16 @@ def test_import_is_all_or_nothing(workspace: Workspace, tmp_path: Path) -> None:
     assert store.sentences(workspace.conn) == []
     assert store.current_labels(workspace.conn) == {}
     assert store.sources(workspace.conn) == []
+
+
+def test_reads_what_interchange_writes(tmp_path: Path) -> None:
+    from extractor.interchange import write_conll
+    from extractor.types import Sentence
+
+    gold = [(Sentence(1, "The Zanobi beans cook fast, really.", "en"),
+             [Span(17, 26, "BTX:9002", "liked")]),
+            (Sentence(2, "Hard to cook", "fr"), [Span(0, 4, None, "disliked")])]
+    write_conll(tmp_path / "out.conll", gold)
+    records = read_labels(tmp_path / "out.conll", default_lang="en")
+    assert [(r.text, r.lang, list(r.spans)) for r in records] == [
+        (s.text, s.lang, spans) for s, spans in gold]
