@@ -52,10 +52,14 @@ SUMMARY_KEYS = ("span_f1", "span_concept_f1", "stance_accuracy", "respondent_f1"
 
 
 class _MentionLike(Protocol):
-    start: int
-    end: int
-    concept: str | None
-    stance: str | None
+    @property
+    def start(self) -> int: ...
+    @property
+    def end(self) -> int: ...
+    @property
+    def concept(self) -> str | None: ...
+    @property
+    def stance(self) -> str | None: ...
 
 
 # --------------------------------------------------------------------------- metrics

@@ -96,8 +96,8 @@ def align_spans(
     for span in spans:
         touched = [(s, e) for s, e in tokens if s < span.end and e > span.start]
         if not touched:
-            raise _fail(source, line, f"span {span.start}-{span.end} ({text[span.start:span.end]!r}) "
-                                      "covers no word")
+            quoted = text[span.start : span.end]
+            raise _fail(source, line, f"span {span.start}-{span.end} ({quoted!r}) covers no word")
         snapped = span._replace(start=touched[0][0], end=touched[-1][1])
         moved += snapped != span
         out.append(snapped)
@@ -133,10 +133,11 @@ def _span_from_dict(obj: Any, text: str, source: str, line: int, k: int) -> Span
     if not isinstance(obj, Mapping):
         raise _fail(source, line, f"span {k + 1} must be an object with 'start' and 'end'; "
                                   f"got {obj!r}")
-    start, end = obj.get("start"), obj.get("end")
-    for key, value in (("start", start), ("end", end)):
-        if not _int(value):
-            raise _fail(source, line, f"span {k + 1} needs a whole-number {key!r}; got {value!r}")
+    for key in ("start", "end"):
+        if not _int(obj.get(key)):
+            raise _fail(source, line, f"span {k + 1} needs a whole-number {key!r}; "
+                                      f"got {obj.get(key)!r}")
+    start, end = int(obj["start"]), int(obj["end"])
     if start < 0:
         raise _fail(source, line, f"'start' {start} of span {k + 1} is negative")
     if end > len(text):
@@ -197,7 +198,8 @@ def parse_jsonl(lines: Iterable[str], *, source: str, default_lang: str) -> list
         try:
             obj = json.loads(raw)
         except json.JSONDecodeError as exc:
-            raise _fail(source, number, f"not valid JSON ({exc.msg} at column {exc.colno})") from exc
+            message = f"not valid JSON ({exc.msg} at column {exc.colno})"
+            raise _fail(source, number, message) from exc
         out.append(record_from_dict(obj, source=source, line=number, default_lang=default_lang))
     return out
 
@@ -406,7 +408,7 @@ def import_labels(
                                                  "file does not say who said it (add a "
                                                  "respondent)")
         if new:
-            rows = [
+            rows: list[dict[str, Any]] = [
                 {"respondent": r.respondent, "question": r.question, "answer": r.text,
                  "lang": r.lang if r.lang_given else default_lang,
                  "lang_origin": "column" if r.lang_given else "default",
