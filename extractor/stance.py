@@ -32,7 +32,7 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
 from extractor.dictionary import normalize_form
-from extractor.errors import InputError, ModelError, NotFittedError
+from extractor.errors import InputError, ModelError
 from extractor.text import primary_subtag, tokenize
 from extractor.types import STANCES, Sentence, Span
 
@@ -543,7 +543,8 @@ class StanceModel:
     """A logistic regression over span-relative stance features.
 
     Until :meth:`fit` is called, :meth:`predict` and :meth:`predict_proba_many`
-    answer with :func:`rule_stance` (cold start); :meth:`save` needs a fitted model.
+    answer with :func:`rule_stance` (cold start); an unfitted model saves and loads
+    too, and keeps answering with the rules.
 
     Args:
         C: Inverse regularisation strength of the logistic regression; 0.3 was the
@@ -661,21 +662,23 @@ class StanceModel:
         return self.predict_many([(sentence, span)])[0]
 
     def save(self, directory: str | Path) -> None:
-        """Write the model to ``directory`` as ``stance.skops`` and ``stance.json``.
+        """Write the model to ``directory`` as ``stance.json`` and, if fitted, ``stance.skops``.
 
-        Raises:
-            NotFittedError: When the model has not been fitted.
+        An unfitted model saves its parameters and cues, and loads back unfitted
+        (answering with the rules), so a model version without stance labels still
+        round-trips.
         """
-        if not self.is_fitted:
-            raise NotFittedError("The stance model has not been fitted; fit it before saving.")
         folder = Path(directory)
         folder.mkdir(parents=True, exist_ok=True)
-        skops.io.dump(self.pipeline_, folder / _SKOPS_FILE)
+        if self.is_fitted:
+            skops.io.dump(self.pipeline_, folder / _SKOPS_FILE)
+        elif (folder / _SKOPS_FILE).exists():
+            (folder / _SKOPS_FILE).unlink()  # a stale classifier must not come back on load
         meta = {
             "format": _FORMAT,
             "params": self.get_params(),
-            "classes": self.classes_,
-            "cues": self.cues_,
+            "classes": getattr(self, "classes_", None),
+            "cues": self.cues,
         }
         (folder / _JSON_FILE).write_text(json.dumps(meta, ensure_ascii=False), encoding="utf-8")
 
@@ -697,9 +700,11 @@ class StanceModel:
             raise ModelError(
                 f"{folder / _JSON_FILE} is not a stance model of this version; retrain it."
             )
-        pipe = _load_skops(folder / _SKOPS_FILE, Pipeline)
         model = cls(**meta["params"])
-        model.pipeline_ = pipe
+        if meta.get("classes") is None:
+            model._cold_cues = meta["cues"]  # unfitted: rules over the saved cues
+            return model
+        model.pipeline_ = load_trusted_skops(folder / _SKOPS_FILE, Pipeline)
         model.classes_ = list(meta["classes"])
         model.cues_ = meta["cues"]
         return model
@@ -724,8 +729,16 @@ TRUSTED_TYPES = [
 """Types that :func:`_load_skops` accepts in a skops file; anything else is refused."""
 
 
-def _load_skops(path: Path, expected: type) -> Any:
-    """Load a skops file, refusing any type outside :data:`TRUSTED_TYPES`."""
+def load_trusted_skops(path: Path, expected: type) -> Any:
+    """Load a skops file, refusing any type outside :data:`TRUSTED_TYPES`.
+
+    Shared with :mod:`extractor.linking`; both save a DictVectorizer and a
+    LogisticRegression in a Pipeline.
+
+    Raises:
+        ModelError: When the file is missing, unreadable, holds an untrusted type or
+            is not an ``expected``.
+    """
     try:
         untrusted = skops.io.get_untrusted_types(file=path)
     except (OSError, ValueError, KeyError) as exc:
@@ -742,3 +755,39 @@ def _load_skops(path: Path, expected: type) -> Any:
     if not isinstance(obj, expected):
         raise ModelError(f"Model file {path} does not hold a {expected.__name__}; retrain it.")
     return obj
+
+
+# ------------------------------------------------------------------ comparisons
+
+
+def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tuple[int, int]]:
+    """Return the character offsets of comparison markers ("than", "compared to", "que").
+
+    What follows a marker is the reference of the comparison ("bigger than Kivuli").
+    French and Spanish "que" counts only after a comparative word ("plus ... que",
+    "más ... que"), since it is also a relative pronoun and a conjunction.
+
+    Args:
+        text: One sentence.
+        lang: Its language tag.
+        cues: A lexicon from :func:`load_cues` (the packaged one when ``None``).
+
+    Returns:
+        ``(start, end)`` of each marker, in order.
+    """
+    lex = _lexicon(cues if cues is not None else _packaged_cues(), lang)
+    p = _parse(text, lex)
+    comparatives = [i for i, _ in p.matches.get("comparative", ())]
+    out: list[tuple[int, int]] = []
+    for i, j in sorted(p.matches.get("comparison_marker", ())):
+        if p.words[i] in {"que", "qu'"} and not any(c < i for c in comparatives):
+            continue
+        if out and p.offsets[i][0] < out[-1][1]:
+            continue  # "que" inside "que el": keep the first, longest-starting match
+        out.append((p.offsets[i][0], p.offsets[j - 1][1]))
+    return out
+
+
+@lru_cache(maxsize=1)
+def _packaged_cues() -> Cues:
+    return load_cues()

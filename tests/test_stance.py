@@ -10,7 +10,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from extractor.errors import InputError, ModelError, NotFittedError
+from extractor.errors import InputError, ModelError
 from extractor.stance import StanceModel, load_cues, rule_stance, stance_features
 from extractor.types import STANCES, Sentence, Span
 
@@ -280,9 +280,12 @@ def test_stance_model_save_load_round_trip(tmp_path: Path) -> None:
     assert loaded.get_params() == model.get_params()
 
 
-def test_stance_model_save_unfitted_raises(tmp_path: Path) -> None:
-    with pytest.raises(NotFittedError, match="not been fitted"):
-        StanceModel().save(tmp_path)
+def test_stance_model_save_unfitted_round_trips_as_rules(tmp_path: Path) -> None:
+    StanceModel().save(tmp_path / "m")
+    loaded = StanceModel.load(tmp_path / "m")
+    assert not loaded.is_fitted
+    sentence, span = _mention("The seeds are too small.", "seeds")
+    assert loaded.predict(sentence, span)[0] == "disliked"
 
 
 def test_stance_model_load_missing_raises(tmp_path: Path) -> None:
