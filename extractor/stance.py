@@ -732,12 +732,14 @@ TRUSTED_TYPES = [
 def load_trusted_skops(path: Path, expected: type) -> Any:
     """Load a skops file, refusing any type outside :data:`TRUSTED_TYPES`.
 
-    Shared with :mod:`extractor.linking`; both save a DictVectorizer and a
-    LogisticRegression in a Pipeline.
+    skops already refuses types it does not know to be safe unless they are listed;
+    only those in :data:`TRUSTED_TYPES` are listed. A Pipeline must moreover be
+    exactly a DictVectorizer followed by a LogisticRegression, the one shape this
+    tool saves (shared with :mod:`extractor.linking`), so a swapped file is caught.
 
     Raises:
         ModelError: When the file is missing, unreadable, holds an untrusted type or
-            is not an ``expected``.
+            is not an ``expected`` of that shape.
     """
     try:
         untrusted = skops.io.get_untrusted_types(file=path)
@@ -752,8 +754,15 @@ def load_trusted_skops(path: Path, expected: type) -> Any:
             "retrain the model instead of loading it."
         )
     obj = skops.io.load(path, trusted=[t for t in untrusted if t in TRUSTED_TYPES])
-    if not isinstance(obj, expected):
-        raise ModelError(f"Model file {path} does not hold a {expected.__name__}; retrain it.")
+    shape_ok = isinstance(obj, expected) and (
+        not isinstance(obj, Pipeline)
+        or [type(step) for _, step in obj.steps] == [DictVectorizer, LogisticRegression]
+    )
+    if not shape_ok:
+        raise ModelError(
+            f"Model file {path} does not hold the {expected.__name__} this tool saves "
+            "(a DictVectorizer and a LogisticRegression); retrain the model."
+        )
     return obj
 
 

@@ -335,3 +335,18 @@ def test_stance_model_beats_majority_on_mams_by_15_points() -> None:
         f"{time.perf_counter() - started:.1f} s"
     )
     assert accuracy >= majority + 0.15
+
+
+def test_stance_model_load_refuses_a_swapped_model_file(tmp_path: Path) -> None:
+    import skops.io
+    from sklearn.linear_model import LogisticRegression
+    from sklearn.pipeline import Pipeline
+    from sklearn.preprocessing import StandardScaler
+
+    StanceModel().fit(_examples()).save(tmp_path / "m")
+    # A file swapped for one holding a type outside the trusted list must not load.
+    foreign = Pipeline([("scale", StandardScaler()), ("lr", LogisticRegression())])
+    foreign.fit([[0.0], [1.0]], ["liked", "disliked"])
+    skops.io.dump(foreign, tmp_path / "m" / "stance.skops")
+    with pytest.raises(ModelError, match="does not hold the Pipeline this tool saves"):
+        StanceModel.load(tmp_path / "m")
