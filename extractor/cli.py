@@ -215,17 +215,19 @@ def _metric_summary(metrics: dict[str, Any]) -> str:
 
 def cmd_train(args: argparse.Namespace, console: Console) -> int:
     """Train a new model version."""
-    from extractor.pipeline import train
+    from extractor.pipeline import tag, train
 
     with _workspace(args) as ws:
         report = train(ws, cross_validate=not args.no_cv)
+        tagged = tag(ws, report["models"], report["version"])
     for note in report["notes"]:
         console.print(f"[yellow]note:[/] {note}")
     counts = report["counts"]
     console.print(
         f"Model version [bold]{report['version']}[/] trained on {counts['gold_sentences']} "
         f"labeled and {counts['silver_sentences']} dictionary-labeled sentences; "
-        f"{_metric_summary(report['metrics'])}."
+        f"{_metric_summary(report['metrics'])}; it found {tagged['mentions']} trait mentions "
+        f"({tagged['unlinked']} not linked to a concept)."
     )
     return 0
 
@@ -307,11 +309,11 @@ def _print_run(report: dict[str, Any], console: Console) -> None:
 
 def cmd_export(args: argparse.Namespace, console: Console) -> int:
     """Write the workbook (or another format) for the newest model version."""
+    from extractor.pipeline import ensure_tagged
     from extractor.results import export_workbook
 
     with _workspace(args) as ws:
-        latest = store.latest_model(ws.conn)
-        version = args.version or (latest["version"] if latest else None)
+        version = ensure_tagged(ws, args.version)
         if args.format == "xlsx":
             report = export_workbook(
                 ws, version, out=Path(args.out) if args.out else None,

@@ -33,6 +33,8 @@ Alias = tuple[str, str, str]
 
 META_FILE = "meta.json"
 ALIASES_FILE = "aliases.json"
+STANCE_PRIOR = 50
+"""Labeled stances at which the learned stance model and the cue rules weigh the same."""
 LIBRARIES = ("trait-extractor", "python-crfsuite", "scikit-learn", "spacy", "skops", "numpy")
 
 
@@ -177,7 +179,7 @@ class TraitModels:
             (gold_concepts or {}).get(s.id, {}).get((span.start, span.end)) for s, span in items
         ]
         links = self.linker_.link_many(items, given) if items else []
-        stance_probs = self.stance_.predict_proba_many(items) if items else []
+        stance_probs = self._stance_proba(items)
         out = []
         k = 0
         for result in tagged:
@@ -194,6 +196,21 @@ class TraitModels:
                 )
             out.append(SentencePrediction(mentions, result))
         return out
+
+    def _stance_proba(self, items: Sequence[tuple[Sentence, Span]]) -> Any:
+        """Blend the learned stance model with the cue rules by how much it has learned from.
+
+        With n labeled stances the model gets weight n / (n + STANCE_PRIOR): a dozen
+        labels cannot overrule the cue lexicon, a few hundred mostly do.
+        """
+        if not items:
+            return []
+        rules = StanceModel().predict_proba_many(items)
+        if not self.stance_.is_fitted:
+            return rules
+        n = self.counts_.get("stance_examples", 0)
+        weight = n / (n + STANCE_PRIOR)
+        return weight * self.stance_.predict_proba_many(items) + (1 - weight) * rules
 
     # ------------------------------------------------------------------ persistence
 

@@ -51,6 +51,10 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
     sentences = {s.id: s for s in store.sentences(ws.conn, ids)}
     labels_by_concept = dict(zip(*concept_frame(ws)[["concept_id", "label"]].T.values,
                                  strict=False)) if ids else {}
+    varieties = variety_names(ws)
+
+    def variety(value: str | None) -> str | None:
+        return f"{varieties[value]} ({value})" if value in varieties else value
     rows = []
     for sid in ids:
         sentence = sentences.get(sid)
@@ -85,8 +89,8 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
                 "link_prob": m.get("link_prob"),
                 "stance": m.get("stance"),
                 "stance_prob": m.get("stance_prob"),
-                "variety": m.get("variety"),
-                "ref_variety": m.get("ref_variety"),
+                "variety": variety(m.get("variety")),
+                "ref_variety": variety(m.get("ref_variety")),
                 "confidence": m.get("confidence"),
                 "source": m["source"],
                 "model_version": m.get("model_version"),

@@ -755,6 +755,13 @@ def store_predictions(
     return n
 
 
+def count_predictions(conn: sqlite3.Connection, model_version: str) -> int:
+    """Return how many sentences a model version has tagged."""
+    return int(conn.execute(
+        "SELECT COUNT(*) FROM predictions WHERE model_version = ?", (model_version,)
+    ).fetchone()[0])
+
+
 def predictions(conn: sqlite3.Connection, model_version: str) -> dict[int, dict[str, Any]]:
     """Return a model version's predictions keyed by sentence ID."""
     out = {}
