@@ -94,7 +94,7 @@ class TraitModels:
         self,
         *,
         tagger_params: dict[str, Any] | None = None,
-        link_threshold: float = 0.35,
+        link_threshold: float = 0.25,
         seed: int = 0,
     ) -> None:
         self.tagger_params = tagger_params or {}
@@ -263,7 +263,7 @@ class TraitModels:
                 f"{folder} is not a readable model version ({exc}); retrain with `traits train`."
             ) from exc
         params = meta.get("parameters", {})
-        models = cls(link_threshold=params.get("link_threshold", 0.35),
+        models = cls(link_threshold=params.get("link_threshold", 0.25),
                      seed=params.get("seed", 0))
         models.aliases_ = aliases  # type: ignore[assignment]
         models.dictionary_ = build_dictionary(aliases) if aliases else None  # type: ignore[arg-type]

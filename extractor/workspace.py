@@ -29,7 +29,7 @@ DEFAULTS: dict[str, Any] = {
     },
     "columns": {},
     "tagger": {"c1": 0.05, "c2": 0.05, "max_iterations": 150, "gold_weight": 3},
-    "linking": {"threshold": 0.35},
+    "linking": {"threshold": 0.25},
     "active": {
         "strategy": "default",
         "batch_size": 5,
@@ -73,7 +73,7 @@ max_iterations = 150
 gold_weight = 3                  # a labeled sentence counts this many times a silver one
 
 [linking]
-threshold = 0.35                 # below this link probability a mention stays unlinked
+threshold = 0.25                 # below this link probability a mention stays unlinked
 
 [active]
 strategy = "default"
