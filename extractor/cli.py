@@ -88,7 +88,7 @@ def cmd_status(args: argparse.Namespace, console: Console) -> int:
     table.add_column("what")
     table.add_column("count", justify="right")
     for key, value in counts.items():
-        if key == "languages":
+        if key in ("languages", "language_tags"):
             value = ", ".join(f"{lang} {n}" for lang, n in value.items()) or "-"
         table.add_row(key, str(value))
     console.print(table)

@@ -126,3 +126,29 @@ def test_train_without_concepts_or_labels_says_what_to_do(tmp_path: Path) -> Non
     run("init", str(root))
     code, out = run("-w", str(root), "train")
     assert code == 1 and "concepts import" in out
+
+
+def test_hostile_answer_stays_text_and_pseudonymised_export_hides_ids(
+    study: Path, tmp_path: Path
+) -> None:
+    hostile = tmp_path / "hostile.csv"
+    hostile.write_text(
+        "respondent,gender,question,answer\n"
+        'KA-99,woman,Why?,"=HYPERLINK(""http://example.invalid"",""x"") It cooks fast."\n'
+        'KA-98,man,Why?,"Call me on +254 712 345 678, the yield is good."\n',
+        encoding="utf-8",
+    )
+    assert run("-w", str(study), "add", str(hostile))[0] == 0
+    assert run("-w", str(study), "run")[0] == 0
+    assert run("-w", str(study), "export", "--pseudonymise")[0] == 0
+    # The formula must read back as the plain string it was (openpyxl: a formula cell
+    # holds a value starting with "=" and data_type "f"; text cells have data_type "s").
+    book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
+    cells = [c for ws in book for row in ws.iter_rows() for c in row
+             if isinstance(c.value, str) and c.value.startswith("=HYPERLINK")]
+    assert cells and all(c.data_type == "s" for c in cells)
+    private = openpyxl.load_workbook(study / "exports" / "preferred_traits_pseudonymised.xlsx")
+    text = " ".join(str(c.value) for ws in private for row in ws.iter_rows() for c in row)
+    for secret in ("KA-98", "KA-99", "KA-01", "712 345 678", "+254"):
+        assert secret not in text
+    assert "[phone]" in text

@@ -119,3 +119,13 @@ def test_add_alias_refuses_unknown_concept(conn: sqlite3.Connection) -> None:
 def test_counts_report_languages(conn: sqlite3.Connection) -> None:
     _add(conn)
     assert store.counts(conn)["languages"] == {"en": 2, "fr": 1}
+
+
+def test_counts_group_language_tags_by_primary_language(conn: sqlite3.Connection) -> None:
+    rows = [dict(_rows()[1], respondent="R3", answer="Muy rico.", lang="es-419"),
+            dict(_rows()[1], respondent="R4", answer="Muy bueno.", lang="es")]
+    store.add_source(conn, path="b.csv", sha256="x", kind="csv", options={}, rows=rows,
+                     sentence_offsets=[[(0, 9)], [(0, 10)]])
+    found = store.counts(conn)
+    assert found["languages"] == {"es": 2}
+    assert found["language_tags"] == {"es-419": 1, "es": 1}
