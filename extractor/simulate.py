@@ -32,8 +32,9 @@ from __future__ import annotations
 import random
 import statistics
 import time
-from collections.abc import Mapping, Sequence
-from concurrent.futures import ProcessPoolExecutor
+from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import ProcessPoolExecutor, as_completed
+from multiprocessing import get_context
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -192,6 +193,7 @@ def _init_worker(shared: _Shared) -> None:
 
 class _Task(NamedTuple):
     strategy: str
+    spec: active.Strategy
     repeat: int
     budgets: tuple[int, ...]
     seed: int
@@ -231,7 +233,7 @@ def _run(task: _Task) -> list[dict[str, Any]]:
     if shared is None:
         raise InputError("The simulation worker was started without its data.")
     started = time.perf_counter()
-    strategy = active.get_strategy(task.strategy)
+    strategy = task.spec
     rng = random.Random(task.seed * 1000 + task.repeat)
     order = list(range(len(shared.pool)))
     rng.shuffle(order)
@@ -318,6 +320,7 @@ def simulate(
     model: str = "traits",
     model_params: dict[str, Any] | None = None,
     clusters: dict[str, Any] | None = None,
+    on_run: Callable[[list[dict[str, Any]]], None] | None = None,
 ) -> dict[str, Any]:
     """Replay the labeling loop with a simulated annotator and record learning curves.
 
@@ -338,6 +341,7 @@ def simulate(
         model: ``"traits"`` (full models) or ``"tagger"`` (tagger alone).
         model_params: Keyword arguments of the model.
         clusters: Word clusters to reuse; learned from pool and test text when None.
+        on_run: Called with each finished run's records (e.g. to show progress).
 
     Returns:
         ``{"settings": {...}, "runs": [{"strategy", "budget", "repeat",
@@ -348,8 +352,7 @@ def simulate(
     Raises:
         InputError: A strategy or model is unknown, or a number is out of range.
     """
-    for name in strategies:
-        active.get_strategy(name)
+    chosen = [active.get_strategy(n) for n in strategies]
     if model not in MODELS:
         raise InputError(f"The model must be one of {', '.join(MODELS)}; got {model!r}.")
     if not budgets or min(budgets) < 0 or repeats < 1 or batch_size < 1 or retrain_every < 1:
@@ -364,7 +367,6 @@ def simulate(
         from extractor.clusters import learn_clusters
 
         clusters = learn_clusters([(s.text, s.lang) for s, _ in pool_gold + test_gold], seed=seed)
-    chosen = [active.get_strategy(n) for n in strategies]
     need_vectors = any(s.diversity or s.density_beta for s in chosen)
     vectors = (active.sentence_vectors([s.text for s, _ in pool_gold], seed=seed)
                if need_vectors else None)
@@ -375,17 +377,27 @@ def simulate(
     shared = _Shared(pool_gold, test_gold, list(aliases), clusters, model, model_params or {},
                      vectors, dens, [len(tokenize(s.text, s.lang)) for s, _ in pool_gold])
     tasks = [
-        _Task(name, r, tuple(sorted(set(budgets))), seed, seed_size, batch_size, retrain_every,
-              candidates)
-        for r in range(repeats) for name in strategies
+        _Task(name, spec, r, tuple(sorted(set(budgets))), seed, seed_size, batch_size,
+              retrain_every, candidates)
+        for r in range(repeats) for name, spec in zip(strategies, chosen, strict=True)
     ]
+    results: list[list[dict[str, Any]]] = [[] for _ in tasks]
     if jobs > 1:
-        with ProcessPoolExecutor(max_workers=jobs, initializer=_init_worker,
-                                 initargs=(shared,)) as executor:
-            results = list(executor.map(_run, tasks))
+        # "spawn", not fork: a forked child inherits the parent's BLAS/OpenMP thread
+        # state (k-means, SVD) and can hang on its first threaded call.
+        with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
+                                 initializer=_init_worker, initargs=(shared,)) as executor:
+            futures = {executor.submit(_run, t): k for k, t in enumerate(tasks)}
+            for future in as_completed(futures):
+                results[futures[future]] = future.result()
+                if on_run is not None:
+                    on_run(results[futures[future]])
     else:
         _init_worker(shared)
-        results = [_run(t) for t in tasks]
+        for k, t in enumerate(tasks):
+            results[k] = _run(t)
+            if on_run is not None:
+                on_run(results[k])
     settings = {
         "strategies": list(strategies), "budgets": sorted(set(budgets)), "repeats": repeats,
         "seed": seed, "batch_size": batch_size, "retrain_every": retrain_every,
