@@ -371,7 +371,7 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
 
     with _workspace(args) as ws:
         summary = label(ws, annotator=args.annotator, batch_size=args.batch,
-                        strategy=args.strategy, console=console)
+                        strategy=args.strategy, evaluation=args.evaluation, console=console)
     console.print(
         f"Saved {summary['labeled']} labels this session ({summary['total_labels']} in all). "
         "Run `traits train` (or `traits run`) to build a model version from them."
@@ -502,6 +502,9 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--annotator", required=True, help="your name, stored with every label")
     p.add_argument("--batch", type=int, help="sentences chosen together (default from settings)")
     p.add_argument("--strategy", help="query strategy (default from settings)")
+    p.add_argument("--evaluation", action="store_true",
+                   help="label sentences of the fixed random evaluation sample (for honest "
+                   "quality figures) instead of the most informative ones")
     p.set_defaults(handler=cmd_label)
     p = sub.add_parser("import-labels", help="import labels (gold JSON Lines or CoNLL IOB2)")
     p.add_argument("file")

@@ -110,6 +110,7 @@ class TraitModels:
         aliases: Sequence[Alias],
         *,
         clusters: dict[str, Any] | None = None,
+        held_out: frozenset[int] = frozenset(),
     ) -> TraitModels:
         """Train every model.
 
@@ -119,6 +120,8 @@ class TraitModels:
                 the silver (dictionary-labeled) training sentences.
             aliases: The concept list's aliases.
             clusters: Word clusters to reuse (when the corpus has not changed).
+            held_out: IDs of sentences kept out of training entirely (the labeled part of
+                the fixed evaluation sample), not even as silver sentences.
         """
         if not gold and not aliases:
             raise ModelError(
@@ -130,7 +133,7 @@ class TraitModels:
         self.clusters_ = clusters or learn_clusters(
             [(s.text, s.lang) for s in corpus], seed=self.seed
         )
-        labeled = {s.id for s, _ in gold}
+        labeled = {s.id for s, _ in gold} | held_out
         silver = [s for s in corpus if s.id not in labeled]
         self.tagger_ = fit_tagger(gold, silver, self.dictionary_, self.clusters_,
                                   **self.tagger_params)

@@ -7,6 +7,7 @@ to print.
 
 from __future__ import annotations
 
+import dataclasses
 import shutil
 from collections.abc import Sequence
 from datetime import UTC, datetime
@@ -19,7 +20,14 @@ from extractor.errors import ModelError, TraitsError
 from extractor.intake import add_files, import_concepts, interview_files
 from extractor.modeling import TraitModels, entropy_scores
 from extractor.progress import track
-from extractor.session import Prediction, Predictor, Retrain, Suggestion
+from extractor.session import (
+    Prediction,
+    Predictor,
+    Retrain,
+    SessionSettings,
+    Suggestion,
+    ensure_samples,
+)
 from extractor.types import Sentence, Span
 from extractor.workspace import Workspace
 
@@ -76,7 +84,10 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     Raises:
         ModelError: neither a concept list nor labels are there to learn from.
     """
-    gold = gold_examples(ws)
+    evaluation = set(ensure_samples(ws.conn, session_settings(ws))[0])
+    labeled = gold_examples(ws)
+    gold = [(s, spans) for s, spans in labeled if s.id not in evaluation]
+    held_out = frozenset(s.id for s, _ in labeled if s.id in evaluation)
     aliases = alias_tuples(ws)
     if not gold and not aliases:
         raise ModelError(
@@ -86,6 +97,9 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     if not store.counts(ws.conn)["sentences"]:
         raise ModelError("The workspace holds no sentences; add interviews with `traits add FILE`.")
     notes = []
+    if held_out:
+        notes.append(f"{len(held_out)} labeled sentences of the fixed evaluation sample are "
+                     "kept out of training, so `traits evaluate` can score on them honestly.")
     if not aliases:
         notes.append("No concept list is imported, so the tagger learns from labels alone.")
     corpus = store.sentences(ws.conn)
@@ -94,7 +108,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     models = TraitModels(
         tagger_params=tagger_params, link_threshold=float(settings["linking"]["threshold"])
     )
-    models.fit(gold, corpus, aliases, clusters=_reusable_clusters(ws, corpus))
+    models.fit(gold, corpus, aliases, clusters=_reusable_clusters(ws, corpus), held_out=held_out)
     metrics: dict[str, Any] = {}
     if cross_validate and len(gold) >= MIN_LABELS_FOR_CV:
         metrics["cross_validation"] = _cross_validate(gold, corpus, aliases, tagger_params,
@@ -317,18 +331,10 @@ def retrainer(ws: Workspace) -> Retrain:
     return retrain
 
 
-def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: str | None,
-          console: Any = None, input_stream: Any = None) -> dict[str, Any]:
-    """Run a labeling session over the newest model version (or a cold start)."""
-    from extractor.console import run_console
-    from extractor.session import SessionSettings
-
+def session_settings(ws: Workspace) -> SessionSettings:
+    """Return the labeling session's settings from ``traits.toml``."""
     active = ws.settings["active"]
-    predictor = None
-    if store.models(ws.conn):
-        _, models = load_version(ws)
-        predictor = predictor_for(models)
-    settings = SessionSettings(
+    return SessionSettings(
         retrain_every=int(active["retrain_every"]),
         evaluation_fraction=float(active["evaluation_share"]),
         evaluation_min=int(active["evaluation_min"]),
@@ -336,11 +342,39 @@ def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: st
         kappa_threshold=float(active["stop_kappa"]),
         kappa_rounds=int(active["stop_rounds"]),
     )
+
+
+def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: str | None,
+          evaluation: bool = False, console: Any = None, input_stream: Any = None
+          ) -> dict[str, Any]:
+    """Run a labeling session over the newest model version (or a cold start).
+
+    With ``evaluation``, the sentences come from the unlabeled part of the fixed random
+    evaluation sample instead, so that quality can be measured honestly.
+    """
+    from extractor.console import run_console
+
+    active = ws.settings["active"]
+    predictor = None
+    if store.models(ws.conn):
+        _, models = load_version(ws)
+        predictor = predictor_for(models)
     return run_console(
         ws.conn, annotator=annotator, batch_size=batch_size or int(active["batch_size"]),
         strategy=strategy or str(active["strategy"]), model_provider=predictor,
-        retrain=retrainer(ws), console=console, input_stream=input_stream, settings=settings,
+        retrain=retrainer(ws), console=console, input_stream=input_stream,
+        settings=dataclasses.replace(session_settings(ws), offer_evaluation=evaluation),
+        quality=lambda: stored_quality(ws),
     )
+
+
+def stored_quality(ws: Workspace) -> dict[str, float] | None:
+    """Return the newest measured quality on the evaluation sample (`traits evaluate`)."""
+    latest = store.latest_model(ws.conn)
+    found = (latest or {}).get("metrics", {}).get("evaluation_sample") or {}
+    if not isinstance(found.get("span_f1"), (int, float)):
+        return None
+    return {"span F1": float(found["span_f1"]), "of version": latest["version"]}  # type: ignore[index]
 
 
 # --------------------------------------------------------------------------- quality, curation
@@ -351,6 +385,7 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
     sample; store both figures with the newest model version."""
     from extractor import evaluate
 
+    ensure_samples(ws.conn, session_settings(ws))
     gold = gold_examples(ws)
     results: dict[str, Any] = {"notes": {}}
     if len(gold) < MIN_LABELS_FOR_CV:
