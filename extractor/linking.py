@@ -22,7 +22,6 @@ fixed, documented rule is used (:data:`DEFAULT_WEIGHTS`). The best candidate bel
 
 from __future__ import annotations
 
-import json
 import re
 from collections import Counter, defaultdict
 from collections.abc import Iterable, Mapping, Sequence
@@ -39,8 +38,8 @@ from sklearn.model_selection import KFold
 from sklearn.pipeline import Pipeline
 
 from extractor.dictionary import normalize_form, stem_word
-from extractor.errors import InputError, ModelError, NotFittedError
-from extractor.stance import load_trusted_skops
+from extractor.errors import InputError, NotFittedError
+from extractor.persist import load_trusted_skops, read_meta, write_meta
 from extractor.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -428,7 +427,7 @@ class ConceptLinker:
             "weights": self.weights_,
             "has_context": context is not None,
         }
-        (folder / _JSON_FILE).write_text(json.dumps(meta, ensure_ascii=False), encoding="utf-8")
+        write_meta(folder / _JSON_FILE, meta)
 
     @classmethod
     def load(cls, directory: str | Path) -> ConceptLinker:
@@ -438,14 +437,7 @@ class ConceptLinker:
             ModelError: When the files are missing, foreign or hold untrusted types.
         """
         folder = Path(directory)
-        try:
-            meta = json.loads((folder / _JSON_FILE).read_text(encoding="utf-8"))
-        except (OSError, json.JSONDecodeError) as exc:
-            raise ModelError(
-                f"No readable concept linker in {folder} ({exc}); train one with 'traits train'."
-            ) from exc
-        if not isinstance(meta, dict) or meta.get("format") != _FORMAT:
-            raise ModelError(f"{folder / _JSON_FILE} is not a linker of this version; retrain it.")
+        meta = read_meta(folder / _JSON_FILE, _FORMAT, "concept linker")
         context = (
             load_trusted_skops(folder / _SKOPS_FILE, Pipeline) if meta["has_context"] else None
         )

@@ -32,7 +32,8 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
 from extractor.dictionary import normalize_form
-from extractor.errors import InputError, ModelError
+from extractor.errors import InputError
+from extractor.persist import load_trusted_skops, read_meta, write_meta
 from extractor.text import primary_subtag, tokenize
 from extractor.types import STANCES, Sentence, Span
 
@@ -687,7 +688,7 @@ class StanceModel:
             "classes": getattr(self, "classes_", None),
             "cues": self.cues,
         }
-        (folder / _JSON_FILE).write_text(json.dumps(meta, ensure_ascii=False), encoding="utf-8")
+        write_meta(folder / _JSON_FILE, meta)
 
     @classmethod
     def load(cls, directory: str | Path) -> StanceModel:
@@ -697,16 +698,7 @@ class StanceModel:
             ModelError: When the files are missing, foreign or hold unexpected types.
         """
         folder = Path(directory)
-        try:
-            meta = json.loads((folder / _JSON_FILE).read_text(encoding="utf-8"))
-        except (OSError, json.JSONDecodeError) as exc:
-            raise ModelError(
-                f"No readable stance model in {folder} ({exc}); train one with 'traits train'."
-            ) from exc
-        if not isinstance(meta, dict) or meta.get("format") != _FORMAT:
-            raise ModelError(
-                f"{folder / _JSON_FILE} is not a stance model of this version; retrain it."
-            )
+        meta = read_meta(folder / _JSON_FILE, _FORMAT, "stance model")
         model = cls(**meta["params"])
         if meta.get("classes") is None:
             model._cold_cues = meta["cues"]  # unfitted: rules over the saved cues
@@ -715,62 +707,6 @@ class StanceModel:
         model.classes_ = list(meta["classes"])
         model.cues_ = meta["cues"]
         return model
-
-
-TRUSTED_TYPES = [
-    "sklearn.feature_extraction._dict_vectorizer.DictVectorizer",
-    "sklearn.linear_model._logistic.LogisticRegression",
-    "sklearn.pipeline.Pipeline",
-    "builtins.dict",
-    "builtins.list",
-    "builtins.str",
-    "builtins.int",
-    "builtins.float",
-    "builtins.tuple",
-    "numpy.ndarray",
-    "numpy.dtype",
-    "numpy.float64",
-    "numpy.int64",
-    "numpy.str_",
-]
-"""Types that :func:`_load_skops` accepts in a skops file; anything else is refused."""
-
-
-def load_trusted_skops(path: Path, expected: type) -> Any:
-    """Load a skops file, refusing any type outside :data:`TRUSTED_TYPES`.
-
-    skops already refuses types it does not know to be safe unless they are listed;
-    only those in :data:`TRUSTED_TYPES` are listed. A Pipeline must moreover be
-    exactly a DictVectorizer followed by a LogisticRegression, the one shape this
-    tool saves (shared with :mod:`extractor.linking`), so a swapped file is caught.
-
-    Raises:
-        ModelError: When the file is missing, unreadable, holds an untrusted type or
-            is not an ``expected`` of that shape.
-    """
-    try:
-        untrusted = skops.io.get_untrusted_types(file=path)
-    except (OSError, ValueError, KeyError) as exc:
-        raise ModelError(
-            f"Model file {path} is missing or unreadable ({exc}); retrain it."
-        ) from exc
-    foreign = [t for t in untrusted if t not in TRUSTED_TYPES]
-    if foreign:
-        raise ModelError(
-            f"Model file {path} holds types this tool does not trust ({', '.join(foreign)}); "
-            "retrain the model instead of loading it."
-        )
-    obj = skops.io.load(path, trusted=[t for t in untrusted if t in TRUSTED_TYPES])
-    shape_ok = isinstance(obj, expected) and (
-        not isinstance(obj, Pipeline)
-        or [type(step) for _, step in obj.steps] == [DictVectorizer, LogisticRegression]
-    )
-    if not shape_ok:
-        raise ModelError(
-            f"Model file {path} does not hold the {expected.__name__} this tool saves "
-            "(a DictVectorizer and a LogisticRegression); retrain the model."
-        )
-    return obj
 
 
 # ------------------------------------------------------------------ comparisons
