@@ -57,7 +57,10 @@ FIGURES = ("span_f1", "span_concept_f1", "stance_accuracy", "respondent_f1")
 
 
 class PlainMention(NamedTuple):
-    """A mention from the tagger alone: no concept link and no stance."""
+    """A mention from the tagger alone: no linker and no stance.
+
+    Its concept is that of a dictionary match with exactly its span, else ``None``.
+    """
 
     start: int
     end: int
@@ -76,7 +79,7 @@ class PlainPrediction(NamedTuple):
 
 
 class TaggerOnly:
-    """The CRF tagger of :class:`~extractor.modeling.TraitModels` without linking or stance.
+    """The CRF tagger of :class:`~extractor.modeling.TraitModels` without linker or stance.
 
     Features of a sentence depend only on its text, the dictionary and the clusters,
     which stay fixed during a simulation, so they are computed once per sentence ID.
@@ -121,15 +124,18 @@ class TaggerOnly:
         """Tag sentences; mentions carry the tagger's confidence only."""
         for s in sentences:
             if s.id not in self._cache:
-                self._cache[s.id] = sentence_items(s, self.dictionary_, self.clusters_)[:2]
+                self._cache[s.id] = sentence_items(s, self.dictionary_, self.clusters_)
         paths = self.tagger_.predict([self._cache[s.id][1] for s in sentences])
         out = []
         for s, path in zip(sentences, paths, strict=True):
-            offsets = self._cache[s.id][0]
-            result = TagResult(iob_to_spans(offsets, path.tags), offsets, path.tags,
-                               path.marginals, path.probability)
+            offsets, _, matches = self._cache[s.id]
+            # As in tag_sentences: a span that is exactly a dictionary match takes its concept.
+            concepts = {(m.start, m.end): m.concept for m in matches}
+            spans = [sp._replace(concept=concepts.get((sp.start, sp.end)))
+                     for sp in iob_to_spans(offsets, path.tags)]
+            result = TagResult(spans, offsets, path.tags, path.marginals, path.probability)
             out.append(PlainPrediction(
-                [PlainMention(sp.start, sp.end, _confidence(result, sp))
+                [PlainMention(sp.start, sp.end, _confidence(result, sp), sp.concept)
                  for sp in result.spans], result))
         return out
 

@@ -69,8 +69,11 @@ def test_budget_zero_is_the_dictionary_with_aliases() -> None:
                        strategies=["random"], budgets=[0], repeats=1, seed=0,
                        model="tagger", clusters={})
     (record,) = results["runs"]
-    # Every trait of the toy test set is an alias, so the dictionary alone finds them.
+    # Every trait of the toy test set is an alias, so the dictionary alone finds them,
+    # with their concepts; the tagger alone gives no stance.
     assert record["span_f1"] == pytest.approx(1.0)
+    assert record["span_concept_f1"] == pytest.approx(1.0)
+    assert record["stance_accuracy"] is None
 
 
 def test_seed_sentences_are_shared_by_strategies() -> None:
