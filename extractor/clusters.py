@@ -4,7 +4,9 @@ Interview answers use words no general-purpose resource knows (local variety nam
 dialect words for "hardness" or "cooking time"), so the distributional view is learned
 from the answers themselves:
 
-1. count co-occurrences of normalised word forms within +/- ``window`` tokens;
+1. count co-occurrences of normalised word forms within +/- ``window`` tokens, with
+   each relative position a context of its own ("the" on the left differs from "the"
+   on the right), which makes clusters closer to parts of speech, what a tagger needs;
 2. weight them by positive pointwise mutual information (PPMI), with the context
    counts smoothed to the power 0.75 (common practice; it damps PMI's bias towards
    rare contexts);
@@ -60,18 +62,23 @@ def _sentences(texts: list[tuple[str, str]]) -> list[list[str]]:
 
 
 def _cooccurrence(ids: list[np.ndarray], size: int, window: int) -> sparse.csr_matrix:
-    """Return the symmetric co-occurrence counts of word IDs (-1: out of vocabulary)."""
+    """Return word x positional-context counts of word IDs (-1: out of vocabulary).
+
+    Column ``size * (2 * (off - 1)) + j`` counts word ``j`` at ``+off`` and column
+    ``size * (2 * (off - 1) + 1) + j`` counts it at ``-off``.
+    """
     rows, cols = [], []
     for seq in ids:
         for off in range(1, window + 1):
             left, right = seq[:-off], seq[off:]
             keep = (left >= 0) & (right >= 0)
+            block = size * 2 * (off - 1)
             rows += [left[keep], right[keep]]
-            cols += [right[keep], left[keep]]
+            cols += [right[keep] + block, left[keep] + block + size]
     r = np.concatenate(rows) if rows else np.empty(0, dtype=np.int64)
     c = np.concatenate(cols) if cols else np.empty(0, dtype=np.int64)
     data = np.ones(len(r), dtype=np.float64)
-    return sparse.coo_matrix((data, (r, c)), shape=(size, size)).tocsr()
+    return sparse.coo_matrix((data, (r, c)), shape=(size, size * 2 * window)).tocsr()
 
 
 def ppmi(counts: sparse.csr_matrix, *, alpha: float = 0.75) -> sparse.csr_matrix:
@@ -97,6 +104,8 @@ def learn_clusters(
     max_words: int = 30000,
     dims: int = 64,
     granularities: tuple[int, ...] = (32, 128, 512),
+    prototypes: int = 2000,
+    neighbours: int = 3,
 ) -> dict[str, Any]:
     """Learn word vectors and clusters from unlabeled ``(text, lang)`` pairs.
 
@@ -108,11 +117,14 @@ def learn_clusters(
         max_words: Keep at most this many of the most frequent words.
         dims: Dimensions of the word vectors.
         granularities: Numbers of clusters, coarse to fine (capped at the word count).
+        prototypes: The most frequent words that serve as neighbours.
+        neighbours: How many nearest prototypes to keep per word.
 
     Returns:
         A JSON-serialisable dict: ``format``, ``version``, ``params``, ``fingerprint``,
         ``words`` (vocabulary in vector order), ``clusters`` (word -> one cluster ID per
-        granularity) and ``vectors`` (one list of floats per word, rounded).
+        granularity), ``neighbours`` (word -> its nearest prototype words) and
+        ``vectors`` (one list of floats per word, rounded).
         With fewer than :data:`MIN_WORDS` frequent words, ``clusters`` and ``vectors``
         are empty.
     """
@@ -120,10 +132,12 @@ def learn_clusters(
     params = {
         "seed": seed, "window": window, "min_count": min_count, "max_words": max_words,
         "dims": dims, "granularities": list(granularities), "alpha": 0.75,
+        "prototypes": prototypes, "neighbours": neighbours,
     }  # fmt: skip
     model: dict[str, Any] = {
         "format": FORMAT, "version": VERSION, "params": params,
-        "fingerprint": corpus_fingerprint(corpus), "words": [], "clusters": {}, "vectors": [],
+        "fingerprint": corpus_fingerprint(corpus), "words": [], "clusters": {}, "neighbours": {},
+        "vectors": [],
     }  # fmt: skip
     sentences = _sentences(corpus)
     counts = Counter(w for sent in sentences for w in sent)
@@ -146,8 +160,26 @@ def learn_clusters(
         labels.append(km.fit_predict(vectors))
     model["words"] = vocab
     model["clusters"] = {w: [int(lab[i]) for lab in labels] for i, w in enumerate(vocab)}
+    model["neighbours"] = _prototype_neighbours(vocab, vectors, prototypes, neighbours)
     model["vectors"] = np.round(vectors, 4).tolist()
     return model
+
+
+def _prototype_neighbours(
+    vocab: list[str], vectors: np.ndarray, prototypes: int, k: int
+) -> dict[str, list[str]]:
+    """Return each word's ``k`` nearest among the ``prototypes`` most frequent words.
+
+    A rare word then shares a feature with the frequent words it resembles (a
+    distributional prototype), which a tagger trained on few sentences can use.
+    """
+    n = min(prototypes, len(vocab))
+    if k <= 0 or n < 2:
+        return {}
+    sims = vectors @ vectors[:n].T
+    np.fill_diagonal(sims[:n], -np.inf)  # a prototype is not its own neighbour
+    top = np.argsort(-sims, axis=1)[:, :k]
+    return {w: [vocab[j] for j in top[i]] for i, w in enumerate(vocab)}
 
 
 def _unit_rows(matrix: np.ndarray) -> np.ndarray:
@@ -169,7 +201,7 @@ def nearest_words(model: Mapping[str, Any], word: str, k: int = 10) -> list[tupl
     if i is None:
         return []
     vectors = np.asarray(model["vectors"], dtype=np.float32)
-    sims = vectors @ vectors[i]
+    sims = np.clip(vectors @ vectors[i], -1.0, 1.0)  # float32 rounding can pass 1
     sims[i] = -np.inf
     top = np.argsort(-sims)[: max(0, k)]
     return [(words[j], float(sims[j])) for j in top if np.isfinite(sims[j])]

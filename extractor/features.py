@@ -84,6 +84,13 @@ def cluster_ids(word: str, clusters: Clusters | None) -> tuple[str, ...]:
     return tuple(str(i) for i in ids) if ids else ()
 
 
+def neighbour_words(word: str, clusters: Clusters | None) -> list[str]:
+    """Return the frequent words nearest to ``word`` in the cluster model, ``[]`` if none."""
+    if not clusters:
+        return []
+    return list(clusters.get("neighbours", {}).get(normalize_form(word), ()))
+
+
 def sentence_features(
     tokens: Sequence[str],
     *,
@@ -110,6 +117,7 @@ def sentence_features(
     n = len(tokens)
     lowers = [t.lower() for t in tokens]
     clus = [cluster_ids(t, clusters) for t in tokens]
+    protos = [neighbour_words(t, clusters) for t in tokens]
     # Window features use the coarsest cluster: finer ones are too sparse at a distance.
     coarse = [c[0] if c else "-" for c in clus]
     tags = list(dict_tags) if dict_tags is not None else ["O"] * n
@@ -118,6 +126,8 @@ def sentence_features(
         f: dict[str, str | float] = dict(_word_features(token, lang))
         for level, cid in enumerate(clus[i]):
             f[f"c{level}"] = cid
+        for proto in protos[i]:
+            f[f"nn={proto}"] = 1.0
         if dict_tags is not None:
             f["d"] = tags[i]
             if dict_concepts is not None and dict_concepts[i]:
@@ -133,6 +143,11 @@ def sentence_features(
             if 0 <= j < n:
                 f[f"{off}lw"] = lowers[j]
                 f[f"{off}c"] = coarse[j]
+                if abs(off) == 1:
+                    # Next to the token, finer clusters still generalise (e.g. "the"
+                    # vs "a" before a trait noun) without being too sparse.
+                    for level, cid in enumerate(clus[j][1:], start=1):
+                        f[f"{off}c{level}"] = cid
                 if dict_tags is not None:
                     f[f"{off}d"] = tags[j]
             else:
@@ -140,7 +155,12 @@ def sentence_features(
         # Word pairs catch two-word traits ("cooking time") that unigrams miss.
         if i > 0:
             f["-1lw|lw"] = lowers[i - 1] + "|" + lowers[i]
+            f["-1c|c"] = coarse[i - 1] + "|" + coarse[i]
+            f["-1c|lw"] = coarse[i - 1] + "|" + lowers[i]
+            f["-1s3"] = lowers[i - 1][-3:]
         if i < n - 1:
             f["lw|+1lw"] = lowers[i] + "|" + lowers[i + 1]
+            f["lw|+1c"] = lowers[i] + "|" + coarse[i + 1]
+            f["+1s3"] = lowers[i + 1][-3:]
         out.append(f)
     return out

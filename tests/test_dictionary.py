@@ -139,10 +139,11 @@ def test_normalize_form_strips_accents_and_case() -> None:
 
 def test_match_is_fast_on_many_sentences(dictionary) -> None:
     # Project requirement: 100k sentences well under a minute (> 1,700 sentences/s);
-    # the floor is lower so that a loaded test machine does not fail it spuriously.
+    # CPU time, not wall time, so other processes do not count; the floor is still
+    # lower so that a loaded test machine does not fail it spuriously.
     texts = [f"Respondent {i} said the cooking time of Velora {i} is long." for i in range(5000)]
-    start = time.perf_counter()
+    start = time.process_time()
     results = [dictionary.match(t, "en") for t in texts]
-    rate = len(texts) / (time.perf_counter() - start)
+    rate = len(texts) / (time.process_time() - start)
     assert all(len(r) == 1 for r in results)
     assert rate > 1000, f"{rate:.0f} sentences/s"

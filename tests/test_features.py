@@ -107,7 +107,7 @@ def toy_corpus() -> list[tuple[str, str]]:
 
 @pytest.fixture(scope="module")
 def toy_model():
-    return learn_clusters(toy_corpus(), dims=8, granularities=(2, 4))
+    return learn_clusters(toy_corpus(), dims=16, granularities=(2, 4))
 
 
 def test_ppmi_matches_hand_computed_value() -> None:
@@ -134,8 +134,16 @@ def test_nearest_words_finds_same_group(toy_model) -> None:
     assert nearest_words(toy_model, "unknownword", 3) == []
 
 
+def test_learn_clusters_neighbours_are_frequent_similar_words(toy_model) -> None:
+    assert set(toy_model["neighbours"]["red"]) <= set(COLOURS) - {"red"} | {"colour"}
+    feats = sentence_features(["Red"], clusters=toy_model)[0]
+    assert {k for k in feats if k.startswith("nn=")} == {
+        f"nn={w}" for w in toy_model["neighbours"]["red"]
+    }
+
+
 def test_learn_clusters_is_json_serialisable_and_deterministic(toy_model) -> None:
-    again = learn_clusters(toy_corpus(), dims=8, granularities=(2, 4))
+    again = learn_clusters(toy_corpus(), dims=16, granularities=(2, 4))
     assert json.loads(json.dumps(toy_model)) == json.loads(json.dumps(again))
 
 

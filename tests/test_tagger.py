@@ -240,13 +240,25 @@ def test_tag_sentences_refuses_other_clusters(toy_tagger) -> None:
 
 def test_tag_sentences_throughput(toy_tagger) -> None:
     # Project goal: >= 3,000 sentences/s on one core for features + CRF; the floor here
-    # is lower so that a busy test machine does not fail it spuriously.
+    # is lower so that a busy test machine does not fail it spuriously (CPU time).
     sentences = [
         Sentence(i, f"Respondent {i} said the taste of Velora {i} is good .", "en")
         for i in range(2000)
     ]
-    start = time.perf_counter()
+    start = time.process_time()
     results = tag_sentences(toy_tagger, sentences, None, None)
-    rate = len(sentences) / (time.perf_counter() - start)
+    rate = len(sentences) / (time.process_time() - start)
     assert len(results) == len(sentences)
     assert rate > 500, f"{rate:.0f} sentences/s"
+
+
+def test_tagger_fit_rejects_unknown_algorithm() -> None:
+    with pytest.raises(InputError, match="algorithm must be one of"):
+        TraitTagger(algorithm="svm").fit([sentence_features(["a"])], [["O"]])
+
+
+def test_tagger_same_data_gives_same_model() -> None:
+    X, y = toy_xy(toy_gold())
+    first = TraitTagger(max_iterations=20).fit(X, y).model_bytes_
+    second = TraitTagger(max_iterations=20).fit(X, y).model_bytes_
+    assert first == second
