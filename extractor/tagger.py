@@ -209,10 +209,7 @@ class TraitTagger:
                 continue
             tagger.set(xseq)
             viterbi = tagger.tag()
-            marginals = [
-                {t: (tagger.marginal(t, i) if t in labels else 0.0) for t in TAGS}
-                for i in range(len(xseq))
-            ]
+            marginals = _marginals(tagger, labels, len(xseq))
             out.append(TagPath(repair_iob(viterbi), marginals, tagger.probability(viterbi)))
         return out
 
@@ -317,6 +314,22 @@ def _check_training_data(X: Sequence[Features], y: Sequence[Sequence[str]]) -> N
             raise InputError(
                 f"Training sentence {n} has tags {sorted(unknown)}; allowed are {', '.join(TAGS)}."
             )
+
+
+def _marginals(tagger: pycrfsuite.Tagger, labels: Sequence[str], n: int) -> list[dict[str, float]]:
+    """Return each token's tag marginals; with all three tags known, the last is derived.
+
+    Marginals of one token sum to one, so two calls into CRFsuite per token suffice
+    (they are a large share of tagging time).
+    """
+    if len(labels) == len(TAGS):
+        out = []
+        for i in range(n):
+            outside, begin = tagger.marginal(TAGS[0], i), tagger.marginal(TAGS[1], i)
+            out.append({TAGS[0]: outside, TAGS[1]: begin,
+                        TAGS[2]: max(0.0, 1.0 - outside - begin)})
+        return out
+    return [{t: (tagger.marginal(t, i) if t in labels else 0.0) for t in TAGS} for i in range(n)]
 
 
 # --- plumbing from sentences ----------------------------------------------------------
