@@ -5,8 +5,10 @@ Everything the ``traits`` command does can be done from Python. The public surfa
 - workspaces: :func:`init_workspace`, :class:`Workspace`;
 - the whole job and its steps: :func:`add_files`, :func:`import_concepts`, :func:`train`,
   :func:`tag`, :func:`run`, :func:`export_workbook`, :func:`evaluate_workspace`;
-- the models: :class:`TraitModels` (dictionary, clusters, CRF tagger, linker, stance);
-- labeling: :func:`run_console` over a :class:`Session`;
+- the models: :class:`TraitModels` (all of one version together), and its parts
+  :func:`build_dictionary`, :func:`learn_clusters`, :class:`TraitTagger`,
+  :class:`ConceptLinker`, :class:`StanceModel`; strict :func:`span_prf`;
+- labeling: :func:`run_console` over a :class:`Session`, query :data:`STRATEGIES`;
 - value types: :class:`Sentence`, :class:`Span`, :data:`STANCES`, :data:`TAGS`;
 - errors: :class:`TraitsError` and its subclasses.
 
@@ -34,6 +36,13 @@ _LAZY = {
     "evaluate_workspace": "extractor.pipeline",
     "export_workbook": "extractor.results",
     "TraitModels": "extractor.modeling",
+    "build_dictionary": "extractor.dictionary",
+    "learn_clusters": "extractor.clusters",
+    "TraitTagger": "extractor.tagger",
+    "ConceptLinker": "extractor.linking",
+    "StanceModel": "extractor.stance",
+    "span_prf": "extractor.spans",
+    "STRATEGIES": "extractor.active",
     "run_console": "extractor.console",
     "Session": "extractor.session",
 }
