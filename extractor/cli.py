@@ -493,7 +493,7 @@ def cmd_concepts_export(args: argparse.Namespace, console: Console) -> int:
 
     with _workspace(args) as ws:
         path = export_concepts(ws, Path(args.out) if args.out else None)
-    console.print(f"Wrote {path}; aliases accepted by annotators are marked in 'origin'.")
+    console.print(f"Wrote {path}; aliases accepted by annotators are in 'accepted_aliases'.")
     return 0
 
 

@@ -438,26 +438,35 @@ def suggest_terms(ws: Workspace, *, min_count: int = 2) -> list[dict[str, Any]]:
 
 
 def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
-    """Write the concept list in its import format, plus accepted aliases, for curators."""
+    """Write the concept list in its import format, one row per concept and language.
+
+    Aliases from the imported list fill ``synonyms`` and ``hidden`` as they were; aliases
+    accepted by annotators are listed apart in ``accepted_aliases`` (with who accepted
+    them), for curators to review and, if they agree, move into ``synonyms``.
+    """
     import csv
 
     out = out or ws.exports_dir / "concepts_with_accepted_aliases.csv"
     out.parent.mkdir(parents=True, exist_ok=True)
     concepts = {c["id"]: c for c in store.concepts(ws.conn)}
+    rows: dict[tuple[str, str], dict[str, list[str]]] = {}
+    for alias in store.aliases(ws.conn):
+        key = (alias["concept_id"], alias["lang"])
+        row = rows.setdefault(key, {"alternative": [], "hidden": [], "accepted": []})
+        if alias["origin"] == "annotator":
+            row["accepted"].append(f"{alias['text']} (by {alias['added_by'] or 'unknown'})")
+        elif alias["kind"] != "preferred":
+            row[alias["kind"]].append(alias["text"])
     with out.open("w", encoding="utf-8", newline="") as handle:
         writer = csv.writer(handle)
         writer.writerow(["id", "label", "lang", "synonyms", "hidden", "parent", "definition",
-                         "origin", "added_by"])
-        for alias in store.aliases(ws.conn):
-            concept = concepts.get(alias["concept_id"], {})
-            if alias["kind"] == "preferred":
-                continue
-            label = concept.get("labels", {}).get(alias["lang"], "")
+                         "accepted_aliases"])
+        for (concept_id, lang), row in sorted(rows.items()):
+            concept = concepts.get(concept_id, {})
             writer.writerow([
-                alias["concept_id"], label, alias["lang"],
-                alias["text"] if alias["kind"] == "alternative" else "",
-                alias["text"] if alias["kind"] == "hidden" else "",
+                concept_id, concept.get("labels", {}).get(lang, ""), lang,
+                "|".join(row["alternative"]), "|".join(row["hidden"]),
                 concept.get("parent") or "", concept.get("definition") or "",
-                alias["origin"], alias["added_by"] or "",
+                "|".join(row["accepted"]),
             ])
     return out
