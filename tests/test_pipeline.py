@@ -191,3 +191,15 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
     run("-w", str(study), "train", "--no-cv")
     code, out = run("-w", str(study), "concepts", "suggest", "--min-count", "1")
     assert code == 0 and "colour" in out
+
+
+@pytest.mark.parametrize("name", ["tagger.crfsuite", "meta.json", "linker/linker.json"],
+                         ids=["crf-model", "meta", "linker"])
+def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> None:
+    run("-w", str(study), "run")
+    with Workspace(study) as ws:
+        version = store.latest_model(ws.conn)["version"]
+    (study / "models" / version / name).write_bytes(b"\x00 not a model file")
+    code, out = run("-w", str(study), "label", "--annotator", "x")
+    assert code == 1
+    assert "Traceback" not in out and ("retrain" in out or "train" in out)
