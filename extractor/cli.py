@@ -434,7 +434,8 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
     results = simulate(
         pool, test, aliases, strategies=args.strategies.split(","),
         budgets=[int(b) for b in args.budgets.split(",")], repeats=args.repeats,
-        seed=args.seed, batch_size=args.batch, jobs=args.jobs,
+        seed=args.seed, batch_size=args.batch, jobs=args.jobs, model=args.model,
+        candidates=args.candidates,
     )
     Path(args.out).write_text(_json.dumps(results, indent=1), encoding="utf-8")
     table = Table(title="Span F1 by strategy and budget (mean over repeats)")
@@ -523,6 +524,11 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--seed", type=int, default=0)
     p.add_argument("--batch", type=int, default=5, help="sentences queried together")
     p.add_argument("--jobs", type=int, default=1, help="runs in parallel (cores)")
+    p.add_argument("--model", choices=("traits", "tagger"), default="traits",
+                   help="retrain every model (traits) or the tagger alone (faster)")
+    p.add_argument("--candidates", type=int,
+                   help="score this many random unlabeled pool sentences per query "
+                   "(default: the whole pool)")
     p.add_argument("--lang", default="en", help="language of records that name none")
     p.add_argument("--out", default="results.json")
     p.add_argument("--plot", help="PNG of F1 against labeled sentences and tokens")
