@@ -28,7 +28,13 @@ DEFAULTS: dict[str, Any] = {
         "varieties": "varieties.csv",
     },
     "columns": {},
-    "tagger": {"c1": 0.05, "c2": 0.05, "max_iterations": 150, "gold_weight": 3},
+    "tagger": {
+        "algorithm": "l2sgd",
+        "c2": 2.0,
+        "max_iterations": 100,
+        "gold_weight": 3,
+        "silver_filter": "self-train",
+    },
     "linking": {"threshold": 0.25},
     "active": {
         "strategy": "default",
@@ -67,10 +73,12 @@ varieties = "{varieties}"        # optional list of variety names
 # variety = "Variety"
 
 [tagger]
-c1 = 0.05                        # L1 penalty of the CRF
-c2 = 0.05                        # L2 penalty of the CRF
-max_iterations = 150
+algorithm = "l2sgd"              # CRFsuite trainer: l2sgd (default) or lbfgs (then set c1 too)
+c2 = 2.0                         # L2 penalty of the CRF
+max_iterations = 100             # epochs (l2sgd) or iterations (lbfgs)
 gold_weight = 3                  # a labeled sentence counts this many times a silver one
+silver_filter = "self-train"     # how dictionary-labeled sentences are guarded: all, matched,
+                                 # gold-check or self-train (see extractor/tagger.py)
 
 [linking]
 threshold = 0.25                 # below this link probability a mention stays unlinked
