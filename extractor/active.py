@@ -248,7 +248,12 @@ def _euclidean(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 
 
 def ranked_batch_indices(
-    unlabeled: np.ndarray, uncertainty: np.ndarray, labeled: np.ndarray | None, n: int
+    unlabeled: np.ndarray,
+    uncertainty: np.ndarray,
+    labeled: np.ndarray | None,
+    n: int,
+    *,
+    n_unlabeled: int | None = None,
 ) -> list[int]:
     """Ranked batch-mode selection (Cardoso et al. 2017), as in modAL's ``ranked_batch``.
 
@@ -258,12 +263,20 @@ def ranked_batch_indices(
     with the smallest mean distance to the others. The same algorithm as modAL's
     (a test checks both agree); it keeps the nearest distances up to date instead of
     recomputing them with one scikit-learn call per pick, which cost 20 ms a pick here.
+
+    ``n_unlabeled`` is the size of the unlabeled pool that ``unlabeled`` was cut from
+    (default: ``len(unlabeled)``). :func:`select` passes only the top-scored candidates
+    here; ``|U|`` in ``alpha`` must still count the whole pool, as it does when modAL is
+    given the pool, or ``alpha`` falls to 50 / (50 + |D|) once |D| passes the candidate
+    count and the batch is simply the top scores again.
     """
     n_pool = len(unlabeled)
     n = min(n, n_pool)
     if n <= 0:
         return []
     free = np.ones(n_pool, dtype=bool)
+    # Unlabeled sentences outside the candidates, counted in alpha but never picked.
+    outside = max((n_unlabeled or n_pool) - n_pool, 0)
     picked: list[int] = []
     if labeled is None or len(labeled) == 0:
         first = int(np.argmin(_euclidean(unlabeled, unlabeled).mean(axis=0)))
@@ -279,7 +292,7 @@ def ranked_batch_indices(
         n_labeled = len(labeled)
         extra = 0
     while len(picked) < n:
-        n_free = int(free.sum()) + extra
+        n_free = int(free.sum()) + outside + extra
         alpha = n_free / (n_free + n_labeled)
         score = alpha * (1.0 - 1.0 / (1.0 + nearest)) + (1.0 - alpha) * uncertainty
         score[~free] = -np.inf
@@ -307,8 +320,9 @@ def select(
     Without diversity: the ``n`` highest scores, ties broken in a seeded random order.
     With diversity: the top ``max(candidates, 5n)`` by score are ranked with
     :func:`ranked_batch_indices` (modAL's ranked batch, Cardoso et al. 2017), which trades
-    uncertainty against distance to what is labeled or already in the batch. Scores are rescaled
-    to [0, 1] first, because ranked batch adds them to a [0, 1] dissimilarity.
+    uncertainty against distance to what is labeled or already in the batch, with modAL's
+    weight ``alpha = |U| / (|U| + |D|)`` counting every unlabeled (not excluded) item. Scores
+    are rescaled to [0, 1] first, because ranked batch adds them to a [0, 1] dissimilarity.
 
     Args:
         scores: one score per pool item, higher = more informative.
@@ -343,7 +357,8 @@ def select(
     labeled = None
     if labeled_vectors is not None and len(labeled_vectors) > 0:
         labeled = np.asarray(labeled_vectors, dtype=float)
-    picked = ranked_batch_indices(np.asarray(vectors, dtype=float)[pool], unit, labeled, n)
+    picked = ranked_batch_indices(np.asarray(vectors, dtype=float)[pool], unit, labeled, n,
+                                  n_unlabeled=len(allowed))
     return [int(pool[i]) for i in picked]
 
 

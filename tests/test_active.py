@@ -240,6 +240,33 @@ def test_select_with_diversity_avoids_near_duplicates(labeled: bool) -> None:
     assert len({0, 1, 2, 3, 4} & set(picked)) < 5
 
 
+def test_select_with_diversity_still_spreads_with_more_labels_than_candidates() -> None:
+    # The regime of a real loop: 100 labeled sentences, a pool of 300, 50 candidates.
+    # Five identical top-scored sentences: a diverse batch asks one of them, not all five.
+    # (alpha used to count only the 50 candidates, 50 / 150, and the batch was the top 5.)
+    rng = np.random.default_rng(1)
+    vectors = rng.normal(size=(300, 16))
+    vectors[:5] = vectors[0]
+    scores = np.concatenate([np.ones(5), rng.uniform(0.0, 0.9, size=295)])
+    labeled_vectors = rng.normal(size=(100, 16))
+    picked = select(scores, vectors, 5, diversity=True, labeled_vectors=labeled_vectors,
+                    candidates=50)
+    assert len({0, 1, 2, 3, 4} & set(picked)) == 1
+
+
+def test_ranked_batch_indices_counts_unlabeled_outside_the_candidates() -> None:
+    # Given the whole pool's size, alpha is |U| / (|U| + |D|) as modAL computes it on the
+    # whole pool: here 1000 / 1004 for the first pick, so distance dominates.
+    rng = np.random.default_rng(2)
+    pool, known = rng.normal(size=(30, 6)), rng.normal(size=(4, 6))
+    uncertainty = np.linspace(1.0, 0.0, 30)
+    nearest = np.linalg.norm(pool[:, None] - known[None], axis=2).min(axis=1)
+    alpha = 1000 / 1004
+    expected = int(np.argmax(alpha * (1 - 1 / (1 + nearest)) + (1 - alpha) * uncertainty))
+    assert active.ranked_batch_indices(pool, uncertainty, known, 1, n_unlabeled=1000) == [
+        expected]
+
+
 class _Learner:
     """The two attributes modAL's ranked_batch reads from a learner."""
 
