@@ -91,6 +91,17 @@ def neighbour_words(word: str, clusters: Clusters | None) -> list[str]:
     return list(clusters.get("neighbours", {}).get(normalize_form(word), ()))
 
 
+_CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
+# Feature names of the window, built once: (offset, word key, cluster key, dictionary key,
+# finer-cluster keys used only right next to the token).
+_WINDOW = tuple(
+    (off, f"{off}lw", f"{off}c", f"{off}d",
+     tuple(f"{off}c{level}" for level in range(1, 8)) if abs(off) == 1 else ())
+    for off in range(-WINDOW, WINDOW + 1)
+    if off != 0
+)
+
+
 def sentence_features(
     tokens: Sequence[str],
     *,
@@ -125,9 +136,9 @@ def sentence_features(
     for i, token in enumerate(tokens):
         f: dict[str, str | float] = dict(_word_features(token, lang))
         for level, cid in enumerate(clus[i]):
-            f[f"c{level}"] = cid
+            f[_CLUSTER_KEYS[level]] = cid
         for proto in protos[i]:
-            f[f"nn={proto}"] = 1.0
+            f["nn=" + proto] = 1.0
         if dict_tags is not None:
             f["d"] = tags[i]
             if dict_concepts is not None and dict_concepts[i]:
@@ -136,22 +147,19 @@ def sentence_features(
             f["BOS"] = 1.0
         if i == n - 1:
             f["EOS"] = 1.0
-        for off in range(-WINDOW, WINDOW + 1):
+        for off, lw_key, c_key, d_key, fine_keys in _WINDOW:
             j = i + off
-            if off == 0:
-                continue
             if 0 <= j < n:
-                f[f"{off}lw"] = lowers[j]
-                f[f"{off}c"] = coarse[j]
-                if abs(off) == 1:
-                    # Next to the token, finer clusters still generalise (e.g. "the"
-                    # vs "a" before a trait noun) without being too sparse.
-                    for level, cid in enumerate(clus[j][1:], start=1):
-                        f[f"{off}c{level}"] = cid
+                f[lw_key] = lowers[j]
+                f[c_key] = coarse[j]
+                # Next to the token, finer clusters still generalise (e.g. "the" vs "a"
+                # before a trait noun) without being too sparse.
+                for key, cid in zip(fine_keys, clus[j][1:], strict=False):
+                    f[key] = cid
                 if dict_tags is not None:
-                    f[f"{off}d"] = tags[j]
+                    f[d_key] = tags[j]
             else:
-                f[f"{off}lw"] = "<pad>"
+                f[lw_key] = "<pad>"
         # Word pairs catch two-word traits ("cooking time") that unigrams miss.
         if i > 0:
             f["-1lw|lw"] = lowers[i - 1] + "|" + lowers[i]
