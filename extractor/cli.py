@@ -461,6 +461,9 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
 
     with _workspace(args) as ws:
         found = suggest_terms(ws, min_count=args.min_count)
+        default = ws.settings["workspace"]["default_language"]
+        names = {c["id"]: c["labels"].get(default) or next(iter(c["labels"].values()), "")
+                 for c in store.concepts(ws.conn)}
     if not found:
         console.print("No unlinked term occurs often enough; nothing to suggest.")
         return 0
@@ -468,8 +471,10 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
     for column in ("term", "count", "nearest concepts", "nearest by word use", "example"):
         table.add_column(column, overflow="fold")
     for item in found[: args.limit]:
-        nearest = ", ".join(f"{c} {p:.2f}" for c, p in item.get("nearest", [])[:3])
-        similar = ", ".join(f"{c} {p:.2f}" for c, p in item.get("nearest_by_vectors", [])[:3])
+        nearest = ", ".join(f"{names.get(c, '')} ({c}) {p:.2f}"
+                            for c, p in item.get("nearest", [])[:3])
+        similar = ", ".join(f"{names.get(c, '')} ({c}) {p:.2f}"
+                            for c, p in item.get("nearest_by_vectors", [])[:3])
         examples = item.get("examples") or [""]
         table.add_row(item["term"], str(item["count"]), nearest, similar, str(examples[0]))
     console.print(table)
