@@ -1,0 +1,61 @@
+"""The invented demo study: it ingests whole, every sentence's offsets round-trip.
+
+These are smoke checks of the demo data and of ingest on it, not evidence of quality
+(quality is checked on outside data: see test_mams_tagging.py and test_stance.py).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from extractor import store
+from extractor.intake import add_files, import_concepts, interview_files
+from extractor.workspace import Workspace
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_interviews"
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
+    from extractor.workspace import init_workspace
+
+    root = init_workspace(tmp_path_factory.mktemp("demo"))
+    ws = Workspace(root)
+    add_files(ws, interview_files(SAMPLE / "interviews"))
+    import_concepts(ws, SAMPLE / "concepts.csv")
+    yield ws
+    ws.close()
+
+
+def test_demo_has_the_size_the_study_promises(demo: Workspace) -> None:
+    counts = store.counts(demo.conn)
+    assert counts["respondents"] >= 48
+    assert counts["sentences"] >= 500
+    assert set(counts["languages"]) == {"en", "fr", "es"}
+    assert counts["concepts"] >= 25
+    non_english = sum(n for lang, n in counts["languages"].items() if lang != "en")
+    assert non_english >= counts["sentences"] / 4
+
+
+def test_every_demo_sentence_round_trips_into_its_answer(demo: Workspace) -> None:
+    answers = {a["id"]: a["text"] for a in store.answers(demo.conn)}
+    for sentence in store.sentences(demo.conn):
+        answer = answers[sentence.answer_id]
+        assert answer[sentence.offset : sentence.offset + len(sentence.text)] == sentence.text
+        assert sentence.text == sentence.text.strip() and sentence.text
+
+
+def test_readding_the_demo_changes_nothing(demo: Workspace) -> None:
+    before = store.counts(demo.conn)
+    reports = add_files(demo, interview_files(SAMPLE / "interviews"))
+    assert {r["status"] for r in reports} == {"unchanged"}
+    assert store.counts(demo.conn) == before
+
+
+def test_demo_gold_matches_stored_sentences(demo: Workspace) -> None:
+    for line in (SAMPLE / "gold.jsonl").read_text(encoding="utf-8").splitlines():
+        record = json.loads(line)
+        assert store.find_sentence(demo.conn, record["text"], record["respondent"]) is not None
