@@ -38,7 +38,9 @@ def _workspace(args: argparse.Namespace) -> Workspace:
 def cmd_init(args: argparse.Namespace, console: Console) -> int:
     """Create a workspace folder."""
     root = init_workspace(Path(args.dir))
-    console.print(f"Workspace ready in [bold]{root}[/]: traits.toml, traits.sqlite, models/, exports/.")
+    console.print(
+        f"Workspace ready in [bold]{root}[/]: traits.toml, traits.sqlite, models/, exports/."
+    )
     console.print("Next: [bold]traits add FILE...[/] and [bold]traits concepts import FILE[/].")
     return 0
 

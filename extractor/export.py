@@ -53,10 +53,10 @@ from openpyxl.worksheet.worksheet import Worksheet
 from extractor.errors import InputError
 from extractor.privacy import PrivacyOptions, identifying_columns, pseudonymise_frames
 from extractor.stats import (
-    NO_TEST,
-    GroupTest,
     MONTE_CARLO_RESAMPLES,
     MONTE_CARLO_SEED,
+    NO_TEST,
+    GroupTest,
     bh_adjust,
     group_difference,
     wilson_interval,
@@ -787,7 +787,10 @@ def write_workbook(path: Path | str, mentions: pd.DataFrame, respondents: pd.Dat
     try:
         wb.save(path)
     except OSError as exc:
-        raise InputError(f"Cannot write the workbook {str(path)!r}: {exc.strerror or exc}.") from exc
+        raise InputError(
+            f"Cannot write the workbook {str(path)!r}: {exc.strerror or exc}; close it in any "
+            "spreadsheet program and check the folder is writable."
+        ) from exc
     timings["write"] = time.perf_counter() - t0
 
     if chart_png is not None:

@@ -381,8 +381,10 @@ def stored_quality(ws: Workspace) -> dict[str, float] | None:
 
 
 def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
-    """Cross-validate on every labeled sentence and score the newest version on the evaluation
-    sample; store both figures with the newest model version."""
+    """Cross-validate on the labels and score the newest version on the evaluation sample.
+
+    Both figures are stored with the newest model version.
+    """
     from extractor import evaluate
 
     ensure_samples(ws.conn, session_settings(ws))

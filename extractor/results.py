@@ -166,7 +166,8 @@ def group_columns(ws: Workspace, respondents: pd.DataFrame,
         if missing:
             raise InputError(
                 f"No respondent column {missing[0]!r}; choose from "
-                f"{', '.join(c for c in respondents.columns if c not in ('respondent', 'is_group'))}."
+                + ", ".join(c for c in respondents.columns if c not in ("respondent", "is_group"))
+                + "."
             )
     return [c for c in wanted if c in respondents.columns]
 

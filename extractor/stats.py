@@ -70,7 +70,9 @@ def wilson_interval(k: int, n: int, alpha: float = 0.05) -> tuple[float, float]:
     if not (0 < alpha < 1):
         raise InputError(f"The confidence parameter alpha must be between 0 and 1; got {alpha!r}.")
     if int(n) != n or n < 1:
-        raise InputError(f"The number of respondents n must be a whole number of at least 1; got {n!r}.")
+        raise InputError(
+            f"The number of respondents n must be a whole number of at least 1; got {n!r}."
+        )
     if int(k) != k or not (0 <= k <= n):
         raise InputError(f"The count k must be a whole number between 0 and n={n}; got {k!r}.")
     low, high = proportion_confint(int(k), int(n), alpha=alpha, method="wilson")
@@ -85,7 +87,9 @@ def _clean_table(table: Sequence[Sequence[int]] | np.ndarray) -> np.ndarray:
     """Return the table as integers without all-zero rows and columns, or raise."""
     arr = np.asarray(table)
     if arr.ndim != 2:
-        raise InputError(f"A contingency table must be two-dimensional; got {arr.ndim} dimension(s).")
+        raise InputError(
+            f"A contingency table must be two-dimensional; got {arr.ndim} dimension(s)."
+        )
     if arr.size and (not np.all(np.isfinite(arr.astype(float))) or np.any(arr < 0)
                      or np.any(arr != np.round(arr))):
         raise InputError("A contingency table must hold non-negative whole counts.")

@@ -7,7 +7,7 @@ are recomputed from text and language and never stored as the truth.
 
 from __future__ import annotations
 
-from functools import lru_cache
+from functools import cache
 
 import spacy
 from spacy.attrs import IDX, IS_SPACE, LENGTH
@@ -27,7 +27,7 @@ def primary_subtag(tag: str) -> str:
     return tag.split("-")[0].split("_")[0].lower()
 
 
-@lru_cache(maxsize=None)
+@cache
 def spacy_code(tag: str) -> str:
     """Return the spaCy language code used for a BCP 47 tag, ``xx`` where spaCy has none."""
     code = primary_subtag(tag)
@@ -47,7 +47,7 @@ def blank_pipeline(tag: str) -> Language:
     return _pipeline(spacy_code(tag))
 
 
-@lru_cache(maxsize=None)
+@cache
 def _pipeline(code: str) -> Language:
     nlp = spacy.blank(code)
     nlp.add_pipe("sentencizer")
