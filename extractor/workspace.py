@@ -32,7 +32,7 @@ DEFAULTS: dict[str, Any] = {
         "algorithm": "l2sgd",
         "c2": 2.0,
         "max_iterations": 30,
-        "gold_weight": 3,
+        "gold_weight": 10,
         "silver_filter": "self-train",
     },
     "linking": {"threshold": 0.25},
@@ -76,7 +76,7 @@ varieties = "{varieties}"        # optional list of variety names
 algorithm = "l2sgd"              # CRFsuite trainer: l2sgd (default) or lbfgs (then set c1 too)
 c2 = 2.0                         # L2 penalty of the CRF
 max_iterations = 30              # epochs (l2sgd) or iterations (lbfgs)
-gold_weight = 3                  # a labeled sentence counts this many times a silver one
+gold_weight = 10                 # a labeled sentence counts this many times a silver one
 silver_filter = "self-train"     # how dictionary-labeled sentences are guarded: all, matched,
                                  # gold-check or self-train (see extractor/tagger.py)
 
