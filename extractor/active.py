@@ -153,11 +153,13 @@ STRATEGIES: dict[str, Strategy] = {
     "link_stance": Strategy(link_stance),
     "combined": Strategy(combined, density_beta=1.0, diversity=True),
     "random": Strategy(random_score),
-    # Chosen with `traits simulate` (SGD-L2 tagger, batch 5, 3 repeats, MAMS train as
-    # pool with 500 candidates a round, MAMS test): span F1 at 100/200 labels 0.636/0.668
-    # against random's 0.615/0.647; mean token entropy with diversity gave 0.606/0.647 and
-    # total token entropy was worst. On the demo gold it beat random by only 1.4/1.0
-    # points at 100/200 labels. Change this one line when a new simulation says otherwise.
+    # Chosen with `traits simulate` (SGD-L2 tagger alone, batch 5, 3 repeats, MAMS train as
+    # pool with 500 candidates a round, MAMS test): with gold weighted 3 against silver,
+    # span F1 at 100/200 labels 0.636/0.668 against random's 0.615/0.647; mean token
+    # entropy with diversity gave 0.606/0.647 and total token entropy was worst. With the
+    # current weighting (gold 10 against silver, no repetition without silver): MAMS
+    # 0.636/0.677 against 0.618/0.654, demo gold 0.526/0.541 against 0.493/0.518.
+    # Change this one line when a new simulation says otherwise.
     "default": Strategy(norm_logprob, density_beta=1.0, diversity=True),
 }
 """The strategies an annotator can choose with ``--strategy``."""
