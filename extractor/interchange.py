@@ -4,7 +4,7 @@
   of mentions (the ``mentions`` frame described in :mod:`extractor.export`).
 * :func:`write_conll` writes labeled sentences as IOB2 token columns (token, tag,
   concept, stance) with CoNLL-U style ``# sent_id =`` / ``# text =`` comments;
-  :func:`read_conll` reads them back.
+  ``traits import-labels`` (:mod:`extractor.labels_io`) reads them back.
 * :func:`write_web_annotations` writes each mention as a W3C Web Annotation
   (Web Annotation Data Model, W3C Recommendation 23 February 2017) inside one
   ``AnnotationCollection``.
@@ -155,75 +155,6 @@ def write_conll(path: Path | str, labeled_sentences: Iterable[tuple[Sentence, Se
             count += 1
     return count
 
-
-def read_conll(path: Path | str) -> list[tuple[Sentence, list[Span]]]:
-    """Read a file written by :func:`write_conll` back into sentences and token-aligned spans.
-
-    Token offsets are found by locating each token in the ``# text`` line in order.
-
-    Raises:
-        InputError: If a line is malformed or a token is not in the sentence text.
-    """
-    path = Path(path)
-    try:
-        lines = path.read_text(encoding="utf-8").splitlines()
-    except OSError as exc:
-        raise InputError(f"Cannot read {str(path)!r}: {exc.strerror or exc}.") from exc
-    out: list[tuple[Sentence, list[Span]]] = []
-    meta: dict[str, str] = {}
-    rows: list[tuple[int, list[str]]] = []
-
-    def flush() -> None:
-        if not rows:
-            meta.clear()
-            return
-        text = meta.get("text", "")
-        spans: list[Span] = []
-        pos, current = 0, None
-        for lineno, cols in rows:
-            start = text.find(cols[0], pos)
-            if start < 0:
-                raise InputError(f"Line {lineno} of {path.name}: token {cols[0]!r} is not in "
-                                 "the sentence text.")
-            end = pos = start + len(cols[0])
-            concept = None if cols[2] == EMPTY else cols[2]
-            stance = None if cols[3] == EMPTY else cols[3]
-            if cols[1] == "B-TRAIT" or (cols[1] == "I-TRAIT" and current is None):
-                if current is not None:
-                    spans.append(current)
-                current = Span(start, end, concept, stance)
-            elif cols[1] == "I-TRAIT" and current is not None:
-                current = current._replace(end=end)
-            else:
-                if current is not None:
-                    spans.append(current)
-                current = None
-        if current is not None:
-            spans.append(current)
-        sid = meta.get("sent_id", str(len(out)))
-        out.append((Sentence(id=int(sid) if sid.lstrip("-").isdigit() else len(out),
-                             text=text, lang=meta.get("lang", "xx")), spans))
-        rows.clear()
-        meta.clear()
-
-    for lineno, line in enumerate(lines, start=1):
-        if not line.strip():
-            flush()
-        elif line.startswith("#"):
-            key, sep, value = line[1:].partition("=")
-            if sep and key.strip() in ("sent_id", "lang", "text"):
-                meta[key.strip()] = value[1:] if value.startswith(" ") else value
-        else:
-            cols = line.split("\t")
-            if len(cols) != 4 or cols[1] not in ("O", "B-TRAIT", "I-TRAIT"):
-                raise InputError(f"Line {lineno} of {path.name} must have 4 tab-separated "
-                                 "columns with tag O, B-TRAIT or I-TRAIT.")
-            rows.append((lineno, cols))
-    flush()
-    return out
-
-
-# --- W3C Web Annotation ----------------------------------------------------------------
 
 def answer_urn(row: Mapping[str, Any]) -> str:
     """Return ``urn:traits:answer:<answer_id>``: a local URI with no personal ID in it."""

@@ -16,12 +16,12 @@ from extractor.errors import InputError
 from extractor.interchange import (
     ANNO_CONTEXT,
     iob2_tags,
-    read_conll,
     write_conll,
     write_mentions_csv,
     write_mentions_jsonl,
     write_web_annotations,
 )
+from extractor.labels_io import read_labels
 from extractor.types import Sentence, Span
 
 ANSWER = "We grow it a lot. Nyota cooks fast, but weevils eat it."
@@ -122,20 +122,20 @@ def test_conll_round_trip_keeps_tokens_and_spans(tmp_path: Path) -> None:
             (second, [Span(12, 23, "BTX:0003", None)])]
     out = tmp_path / "gold.conll"
     assert write_conll(out, data) == 2
-    back = read_conll(out)
-    assert [(s.id, s.text, s.lang) for s, _ in back] == [(7, first.text, "en"),
-                                                         (8, second.text, "en")]
-    assert back[0][1] == data[0][1] and back[1][1] == data[1][1]
+    # Read back by the import path users take (`traits import-labels`).
+    back = read_labels(out, default_lang="en")
+    assert [(r.text, r.lang) for r in back] == [(first.text, "en"), (second.text, "en")]
+    assert list(back[0].spans) == data[0][1] and list(back[1].spans) == data[1][1]
     tokens = [line.split("\t")[0] for line in out.read_text(encoding="utf-8").splitlines()
               if line and not line.startswith("#")]
     assert tokens[:3] == ["Nyota", "cooks", "fast"]
 
 
-def test_read_conll_rejects_bad_tag(tmp_path: Path) -> None:
+def test_reading_conll_back_rejects_bad_tag(tmp_path: Path) -> None:
     bad = tmp_path / "bad.conll"
-    bad.write_text("# text = fast\nfast\tB-PER\t_\t_\n\n", encoding="utf-8")
-    with pytest.raises(InputError, match="Line 2"):
-        read_conll(bad)
+    bad.write_text("# text = fast\nfast\tQ-TRAIT\t_\t_\n\n", encoding="utf-8")
+    with pytest.raises(InputError, match="line 2"):
+        read_labels(bad, default_lang="en")
 
 
 # --- W3C Web Annotation ----------------------------------------------------------------

@@ -67,9 +67,14 @@ def test_run_writes_workbook_and_model_version(study: Path) -> None:
         version = store.latest_model(ws.conn)["version"]
         assert (study / "models" / version / "meta.json").is_file()
         predicted = store.predictions(ws.conn, version)
+        n_sentences = store.counts(ws.conn)["sentences"]
     mentions = [m for p in predicted.values() for m in p["mentions"]]
-    assert mentions and all(m["model_version"] if "model_version" in m else True for m in mentions)
+    assert mentions
     assert {m["stance"] for m in mentions} <= {"liked", "disliked", "wanted", "neutral"}
+    # Every sentence is tagged by the version, and the workbook names that version.
+    assert len(predicted) == n_sentences
+    evidence = pd.read_excel(study / "exports" / "preferred_traits.xlsx", sheet_name="Mentions")
+    assert set(evidence["Model version"].dropna()) == {version}
 
 
 def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: Path) -> None:
