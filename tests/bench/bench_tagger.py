@@ -2,7 +2,7 @@
 
 Not part of the test suite. Run from the repository root:
 
-    .venv/bin/python tests/bench/bench_tagger.py [--sizes 20000,100000] [--train 2000]
+    .venv/bin/python tests/bench/bench_tagger.py [--sizes 20000,100000] [--train 2000] [--gold 100]
 
 The corpus is synthetic: sentences of the demo study recombined (clauses of two demo
 sentences joined), so that vocabulary and lengths look like real answers. Goals:
@@ -65,6 +65,11 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__)
     parser.add_argument("--sizes", default="20000,100000")
     parser.add_argument("--train", type=int, default=2000)
+    parser.add_argument(
+        "--gold", type=int, default=100,
+        help="labeled sentences among the training sentences (the rest are silver); the "
+        "tool is meant for a few dozen to a hundred labels",
+    )
     args = parser.parse_args()
 
     records = demo_gold()
@@ -74,7 +79,7 @@ def main() -> None:
     gold = [
         (Sentence(id=-(i + 1), text=r["text"], lang=r["lang"]),
          [Span(s["start"], s["end"], s.get("concept"), s.get("stance")) for s in r["spans"]])
-        for i, r in enumerate(records[: args.train])
+        for i, r in enumerate(records[: min(args.gold, args.train)])
     ]
     figures: dict[str, float] = {}
     for size in (int(s) for s in args.sizes.split(",")):
@@ -95,7 +100,8 @@ def main() -> None:
         figures[f"tag_wall_s_{size}"] = time.perf_counter() - w0
         figures[f"peak_mb_after_{size}"] = peak_mb()
         print(f"{size:>7} sentences: clusters {figures[f'clusters_s_{size}']:.1f} s, "
-              f"train on {args.train} {figures[f'train_s_{args.train}']:.1f} s, "
+              f"train on {args.train} ({len(gold)} labeled) "
+              f"{figures[f'train_s_{args.train}']:.1f} s, "
               f"tagging {size / seconds:,.0f} sentences/s, peak {peak_mb():,.0f} MB",
               flush=True)
     print(json.dumps(figures, indent=1))
