@@ -13,7 +13,9 @@ hiddenLabel).
 from __future__ import annotations
 
 import hashlib
+import io
 import re
+import zipfile
 from collections import defaultdict
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -22,6 +24,7 @@ import pandas as pd
 
 from extractor.errors import InputError
 from extractor.ingest.language import normalise_tag
+from extractor.ingest.tables import check_office_archive, decode_text, sniff_delimiter
 
 REQUIRED = ("id", "label")
 OPTIONAL = ("lang", "synonyms", "hidden", "parent", "definition")
@@ -47,34 +50,34 @@ def file_sha256(path: Path) -> str:
 
 
 def read_table(path: Path) -> pd.DataFrame:
-    """Read a CSV, TSV or XLSX file as strings, with an encoding fallback for CSV."""
+    """Read a CSV, TSV or XLSX file as strings.
+
+    Text files are decoded as the interview readers decode them (UTF-8, with or without
+    BOM, then cp1252 or latin-1), with the same delimiter choice.
+    """
     if not path.exists():
         raise InputError(f"{path} does not exist; check the path.")
     suffix = path.suffix.lower()
+    if suffix not in (".xlsx", ".csv", ".tsv"):
+        raise InputError(
+            f"{path} has suffix {suffix!r}; a concept list must be .csv, .tsv or .xlsx."
+        )
+    data = path.read_bytes()
+    if not data.strip():
+        raise InputError(f"{path} is empty; give a file with a header row and concepts.")
     try:
         if suffix == ".xlsx":
-            return pd.read_excel(path, dtype=str, keep_default_na=False)
-        if suffix in (".csv", ".tsv"):
-            raw = path.read_bytes()
-            if not raw.strip():
-                raise InputError(f"{path} is empty; give a file with a header row and concepts.")
-            header = raw.splitlines()[0]
-            sep = "\t" if suffix == ".tsv" else (";" if header.count(b";") > header.count(b",")
-                                                  else ",")
-            for encoding in ("utf-8-sig", "cp1252", "latin-1"):
-                try:
-                    return pd.read_csv(
-                        path, dtype=str, keep_default_na=False, sep=sep, encoding=encoding
-                    )
-                except UnicodeDecodeError:
-                    continue
+            check_office_archive(path, data, "spreadsheet programme")
+            return pd.read_excel(io.BytesIO(data), dtype=str, keep_default_na=False)
+        text, _, _ = decode_text(data, path)
+        sep = "\t" if suffix == ".tsv" else sniff_delimiter(text)
+        return pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False, sep=sep)
     except pd.errors.EmptyDataError as exc:
         raise InputError(f"{path} is empty; give a file with a header row and concepts.") from exc
-    except (ValueError, OSError, KeyError) as exc:
+    except (zipfile.BadZipFile, ValueError, OSError, KeyError) as exc:
         raise InputError(
             f"{path} could not be read as a {suffix} table ({exc}); save it again as CSV or XLSX."
         ) from exc
-    raise InputError(f"{path} has suffix {suffix!r}; a concept list must be .csv, .tsv or .xlsx.")
 
 
 def split_synonyms(cell: str) -> list[str]:

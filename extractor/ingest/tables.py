@@ -365,7 +365,7 @@ def _drop_empty(records: Iterable[tuple[int, list[str | None]]]) -> Grid:
     return [(n, cells) for n, cells in records if any(c is not None and c.strip() for c in cells)]
 
 
-def _sniff_delimiter(text: str) -> str:
+def sniff_delimiter(text: str) -> str:
     """Choose ``,`` or ``;``: the one giving a multi-column, consistently wide header."""
     best, best_score = ",", (False, -1, -1)
     for delimiter in (",", ";"):
@@ -386,7 +386,7 @@ def read_delimited(
 ) -> tuple[list[dict[str, Any]], str, str, list[str]]:
     """Read a .csv or .tsv file; return ``(rows, layout, encoding, warnings)``."""
     text, encoding, warnings = decode_text(data, path)
-    delimiter = "\t" if path.suffix.lower() == ".tsv" else _sniff_delimiter(text)
+    delimiter = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(text)
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
     try:
         grid = _drop_empty((n, list(cells)) for n, cells in enumerate(reader, start=1))
@@ -404,16 +404,29 @@ def read_delimited(
     return rows, layout, encoding, warnings
 
 
-def _open_workbook(path: Path, data: bytes) -> Any:
-    """Open a workbook read-only, turning every failure into one InputError."""
+def check_office_archive(path: Path, data: bytes, program: str) -> None:
+    """Refuse an encrypted Office file by name, and raise BadZipFile for a non-archive.
+
+    Encrypted .xlsx and .docx files are OLE compound files, not zip archives, so their
+    first bytes tell them apart from a merely corrupt file.
+
+    Raises:
+        InputError: The file is password-protected.
+        zipfile.BadZipFile: The file is not a zip archive (the caller words the error).
+    """
     if data.startswith(OLE_MAGIC):
         raise InputError(
             f"File '{path.name}' is password-protected (an encrypted Office file); "
-            "remove the password in the spreadsheet programme and save it again."
+            f"remove the password in the {program} and save it again."
         )
+    if not data.startswith(ZIP_MAGIC):
+        raise zipfile.BadZipFile("not a zip archive")
+
+
+def _open_workbook(path: Path, data: bytes) -> Any:
+    """Open a workbook read-only, turning every failure into one InputError."""
     try:
-        if not data.startswith(ZIP_MAGIC):
-            raise zipfile.BadZipFile("not a zip archive")
+        check_office_archive(path, data, "spreadsheet programme")
         return openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=True)
     except (zipfile.BadZipFile, InvalidFileException, KeyError, ValueError, OSError) as err:
         raise InputError(

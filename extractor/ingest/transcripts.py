@@ -28,8 +28,7 @@ from lxml.etree import XMLSyntaxError
 
 from extractor.errors import InputError
 from extractor.ingest.tables import (
-    OLE_MAGIC,
-    ZIP_MAGIC,
+    check_office_archive,
     decode_text,
     fold,
     is_yes,
@@ -211,14 +210,8 @@ def docx_lines(path: Path, data: bytes) -> tuple[Lines, list[str]]:
     Raises:
         InputError: If the file is password-protected or not a valid .docx document.
     """
-    if data.startswith(OLE_MAGIC):
-        raise InputError(
-            f"File '{path.name}' is password-protected (an encrypted Office file); "
-            "remove the password in the word processor and save it again."
-        )
     try:
-        if not data.startswith(ZIP_MAGIC):
-            raise zipfile.BadZipFile("not a zip archive")
+        check_office_archive(path, data, "word processor")
         document = docx.Document(io.BytesIO(data))
     except (PackageNotFoundError, zipfile.BadZipFile, KeyError, ValueError, XMLSyntaxError,
             OSError) as err:  # fmt: skip
