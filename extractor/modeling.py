@@ -12,7 +12,6 @@ and loads a model version folder without pickle:
 from __future__ import annotations
 
 import json
-import math
 import platform
 from collections.abc import Sequence
 from datetime import UTC, datetime
@@ -277,15 +276,3 @@ class TraitModels:
         models.stance_ = StanceModel.load(folder / "stance")
         models.counts_ = meta.get("counts", {})
         return models
-
-
-def entropy_scores(tagged: TagResult) -> dict[str, float]:
-    """Return per-sentence uncertainty figures from the tagger's marginals."""
-    n = max(len(tagged.marginals), 1)
-    total = -sum(p * math.log(p) for m in tagged.marginals for p in m.values() if p > 0)
-    return {
-        "tokens": len(tagged.marginals),
-        "least_confidence": 1.0 - tagged.probability,
-        "total_entropy": total,
-        "mean_entropy": total / n,
-    }

@@ -18,7 +18,7 @@ from extractor import store
 from extractor.clusters import corpus_fingerprint, load_clusters
 from extractor.errors import ModelError, TraitsError
 from extractor.intake import add_files, import_concepts, interview_files
-from extractor.modeling import TraitModels, entropy_scores
+from extractor.modeling import TraitModels
 from extractor.progress import track
 from extractor.session import (
     Prediction,
@@ -185,7 +185,6 @@ def tag(ws: Workspace, models: TraitModels, version: str) -> dict[str, Any]:
             rows.append({
                 "sentence_id": sentence.id,
                 "path_prob": prediction.tagged.probability,
-                "scores": entropy_scores(prediction.tagged),
                 "mentions": [
                     m._asdict() | {"source": "predicted", "concept_probs": None,
                                    "stance_probs": None}

@@ -44,6 +44,7 @@ from extractor import active
 from extractor.errors import InputError
 from extractor.evaluate import predicted_mentions, score, summary
 from extractor.labels_io import LabelRecord, to_gold
+from extractor.modeling import span_confidence
 from extractor.spans import iob_to_spans
 from extractor.tagger import TagResult, fit_tagger, sentence_items
 from extractor.types import Sentence, Span
@@ -135,17 +136,9 @@ class TaggerOnly:
                      for sp in iob_to_spans(offsets, path.tags)]
             result = TagResult(spans, offsets, path.tags, path.marginals, path.probability)
             out.append(PlainPrediction(
-                [PlainMention(sp.start, sp.end, _confidence(result, sp), sp.concept)
+                [PlainMention(sp.start, sp.end, span_confidence(result, sp), sp.concept)
                  for sp in result.spans], result))
         return out
-
-
-def _confidence(tagged: TagResult, span: Span) -> float:
-    """Return the lowest marginal of the span's tokens' tags (as ``modeling`` does)."""
-    probs = [m.get(tag, 0.0) for (s, e), tag, m in
-             zip(tagged.token_offsets, tagged.tags, tagged.marginals, strict=True)
-             if s < span.end and e > span.start]
-    return min(probs) if probs else 0.0
 
 
 def make_models(kind: str, params: Mapping[str, Any] | None = None) -> Any:

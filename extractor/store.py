@@ -122,7 +122,6 @@ CREATE TABLE predictions (
     sentence_id INTEGER NOT NULL REFERENCES sentences (id),
     model_version TEXT NOT NULL REFERENCES models (version),
     path_prob REAL,
-    scores TEXT NOT NULL DEFAULT '{}',
     spans TEXT NOT NULL DEFAULT '[]',
     PRIMARY KEY (sentence_id, model_version)
 );
@@ -733,21 +732,20 @@ def store_predictions(
 ) -> int:
     """Store a model version's predictions, one row per sentence, in one transaction.
 
-    Each row holds ``sentence_id``, ``path_prob``, ``scores`` (dict) and ``mentions``
-    (list of dicts with at least ``start`` and ``end``).
+    Each row holds ``sentence_id``, ``path_prob`` and ``mentions`` (list of dicts with at
+    least ``start`` and ``end``).
     """
     n = 0
     with transaction(conn):
         conn.execute("DELETE FROM predictions WHERE model_version = ?", (model_version,))
         for row in rows:
             conn.execute(
-                "INSERT INTO predictions (sentence_id, model_version, path_prob, scores, spans) "
-                "VALUES (?, ?, ?, ?, ?)",
+                "INSERT INTO predictions (sentence_id, model_version, path_prob, spans) "
+                "VALUES (?, ?, ?, ?)",
                 (
                     row["sentence_id"],
                     model_version,
                     row.get("path_prob"),
-                    json.dumps(row.get("scores", {})),
                     json.dumps(row.get("mentions", [])),
                 ),
             )
@@ -766,12 +764,11 @@ def predictions(conn: sqlite3.Connection, model_version: str) -> dict[int, dict[
     """Return a model version's predictions keyed by sentence ID."""
     out = {}
     for row in conn.execute(
-        "SELECT sentence_id, path_prob, scores, spans FROM predictions WHERE model_version = ?",
+        "SELECT sentence_id, path_prob, spans FROM predictions WHERE model_version = ?",
         (model_version,),
     ):
         out[row["sentence_id"]] = {
             "path_prob": row["path_prob"],
-            "scores": json.loads(row["scores"]),
             "mentions": json.loads(row["spans"]),
         }
     return out
