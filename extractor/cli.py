@@ -570,6 +570,14 @@ def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -
     except TraitsError as exc:
         errors.print(f"[bold red]error:[/] {exc}", highlight=False, soft_wrap=True)
         return 1
+    except OSError as exc:
+        # A file the command was told to read or write (e.g. --out in a missing folder).
+        where = exc.filename or "a file"
+        errors.print(
+            f"[bold red]error:[/] cannot use {where}: {exc.strerror or exc}; check the path "
+            "and its permissions.", highlight=False, soft_wrap=True,
+        )
+        return 1
     except KeyboardInterrupt:
         errors.print("Interrupted; everything confirmed so far is saved.")
         return 130

@@ -117,3 +117,14 @@ def test_concepts_import_unknown_language(ws: Path, tmp_path: Path) -> None:
     path.write_text("id,label,lang\nBTX:1,taste,xq-zz-1\n", encoding="utf-8")
     code, out = run("-w", str(ws), "concepts", "import", str(path))
     assert code == 1 and "language tag" in out
+
+
+def test_output_in_a_missing_folder_is_one_sentence(tmp_path: Path) -> None:
+    pool = tmp_path / "pool.jsonl"
+    pool.write_text('{"respondent": "A", "text": "It cooks fast.", "lang": "en", '
+                    '"spans": [{"start": 3, "end": 13}]}\n', encoding="utf-8")
+    code, out = run("simulate", "--pool", str(pool), "--test", str(pool), "--budgets", "0",
+                    "--repeats", "1", "--strategies", "random",
+                    "--out", str(tmp_path / "missing" / "results.json"))
+    assert code == 1
+    assert "missing" in out and "Traceback" not in out
