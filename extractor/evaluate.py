@@ -38,6 +38,7 @@ from typing import Any, Protocol
 from rich.table import Table
 
 from extractor.errors import InputError
+from extractor.progress import track
 from extractor.spans import span_prf
 from extractor.types import STANCES, Sentence, Span
 
@@ -349,7 +350,7 @@ def cross_validate(
     """
     folds = group_folds([respondent_key(s) for s, _ in gold], k, seed)
     per_fold = []
-    for number, test_idx in enumerate(folds):
+    for number, test_idx in track(enumerate(folds), "Cross-validating", len(folds)):
         held = set(test_idx)
         train = [g for i, g in enumerate(gold) if i not in held]
         test = [gold[i] for i in test_idx]

@@ -45,6 +45,7 @@ from extractor.errors import InputError
 from extractor.evaluate import predicted_mentions, score, summary
 from extractor.labels_io import LabelRecord, to_gold
 from extractor.modeling import span_confidence
+from extractor.progress import track
 from extractor.spans import iob_to_spans
 from extractor.tagger import TagResult, fit_tagger, sentence_items
 from extractor.types import Sentence, Span
@@ -387,13 +388,13 @@ def simulate(
         with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
                                  initializer=_init_worker, initargs=(shared,)) as executor:
             futures = {executor.submit(_run, t): k for k, t in enumerate(tasks)}
-            for future in as_completed(futures):
+            for future in track(as_completed(futures), "Simulating runs", len(tasks)):
                 results[futures[future]] = future.result()
                 if on_run is not None:
                     on_run(results[futures[future]])
     else:
         _init_worker(shared)
-        for k, t in enumerate(tasks):
+        for k, t in track(enumerate(tasks), "Simulating runs", len(tasks)):
             results[k] = _run(t)
             if on_run is not None:
                 on_run(results[k])

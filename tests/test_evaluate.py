@@ -213,6 +213,19 @@ def test_cross_validate_never_trains_on_the_held_out_fold() -> None:
     assert result["span_f1"] == {"mean": pytest.approx(1.0), "sd": pytest.approx(0.0)}
 
 
+def test_cross_validate_shows_a_progress_bar_over_folds() -> None:
+    from extractor import progress
+
+    gold = [(sentence(i, f"R{i % 4}"), [Span(0, 3, "C1", "liked")]) for i in range(12)]
+    out = io.StringIO()
+    progress.enable(Console(file=out, force_terminal=True, width=100))
+    try:
+        cross_validate(gold, [s for s, _ in gold], [], k=4, seed=1, make_models=EchoModel)
+    finally:
+        progress.enable(None)
+    assert "Cross-validating" in out.getvalue() and "4/4" in out.getvalue()
+
+
 def test_format_tables_render_every_part() -> None:
     gold = [(sentence(0, "ANA"), [Span(0, 3, "C1", "liked")])]
     tables = format_tables(score(gold, [[Span(0, 3, "C1", "disliked")]]))

@@ -114,3 +114,21 @@ def test_curve_table_and_plot(tmp_path: Path) -> None:
     assert (row["min"], row["max"]) == (0.5, 0.7)
     path = plot(results, tmp_path / "curve.png")
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_progress_bar_counts_the_runs() -> None:
+    from io import StringIO
+
+    from rich.console import Console
+
+    from extractor import progress
+
+    out = StringIO()
+    progress.enable(Console(file=out, force_terminal=True, width=100))
+    try:
+        run(strategies=["random", "default"], budgets=[10], repeats=2)
+    finally:
+        progress.enable(None)
+    shown = out.getvalue()
+    assert "Simulating runs" in shown
+    assert "4/4" in shown  # strategies x repeats
