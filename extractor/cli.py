@@ -425,7 +425,7 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
 
     from extractor.concepts import load_concept_list
     from extractor.labels_io import read_labels
-    from extractor.simulate import curve_table, plot, simulate
+    from extractor.simulate import curve_table, paired_gain, plot, simulate
 
     pool = read_labels(Path(args.pool), default_lang=args.lang)
     test = read_labels(Path(args.test), default_lang=args.lang)
@@ -447,6 +447,16 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
     for row in rows:
         table.add_row(*(f"{v:.3f}" if isinstance(v, float) else str(v) for v in row.values()))
     console.print(table)
+    gains = paired_gain(results)
+    if gains:
+        table = Table(title="Span F1 gain over random, paired by repeat (same seed sentences)")
+        for column in ("strategy", "budget", "repeats", "gain (points)", "sd", "wins"):
+            table.add_column(column)
+        for row in gains:
+            table.add_row(row["strategy"], str(row["budget"]), str(row["n"]),
+                          f"{100 * row['gain']:+.1f}", f"{100 * row['sd']:.1f}",
+                          f"{row['wins']}/{row['n']}")
+        console.print(table)
     if args.plot:
         plot(results, Path(args.plot))
         console.print(f"Plot: {args.plot}")

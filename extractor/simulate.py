@@ -432,6 +432,32 @@ def curve_table(results: Mapping[str, Any], figure: str = "span_f1") -> list[dic
     return rows
 
 
+def paired_gain(results: Mapping[str, Any], *, baseline: str = "random",
+                figure: str = "span_f1") -> list[dict[str, Any]]:
+    """Return each strategy's gain over ``baseline`` per budget, paired by repeat.
+
+    Repeat ``r`` of every strategy starts from the same seed sentences, so the difference
+    ``figure(strategy, r) - figure(baseline, r)`` removes the luck of the seed draw that both
+    share; its mean over repeats is the gain, its standard deviation the spread, and
+    ``wins`` counts repeats where the strategy did better. Empty when ``baseline`` was not run.
+    """
+    values: dict[tuple[str, int, int], float] = {
+        (r["strategy"], r["budget"], r["repeat"]): r[figure]
+        for r in results["runs"] if r.get(figure) is not None
+    }
+    pairs: dict[tuple[str, int], list[float]] = {}
+    for (strategy, budget, repeat), value in sorted(values.items()):
+        base = values.get((baseline, budget, repeat))
+        if strategy != baseline and base is not None:
+            pairs.setdefault((strategy, budget), []).append(value - base)
+    return [{
+        "strategy": strategy, "budget": budget, "n": len(diffs),
+        "gain": statistics.fmean(diffs),
+        "sd": statistics.stdev(diffs) if len(diffs) > 1 else 0.0,
+        "wins": sum(d > 0 for d in diffs),
+    } for (strategy, budget), diffs in sorted(pairs.items())]  # fmt: skip
+
+
 def plot(results: Mapping[str, Any], path: Path, *, figure: str = "span_f1") -> Path:
     """Draw the figure against labeled sentences and against labeled tokens, to ``path``.
 

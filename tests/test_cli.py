@@ -128,3 +128,27 @@ def test_output_in_a_missing_folder_is_one_sentence(tmp_path: Path) -> None:
                     "--out", str(tmp_path / "missing" / "results.json"))
     assert code == 1
     assert "missing" in out and "Traceback" not in out
+
+
+def test_simulate_writes_results_and_the_paired_gain(tmp_path: Path) -> None:
+    traits = ["soft grain", "short cooking", "sweet taste", "big seeds"]
+    lines = []
+    for i in range(36):
+        trait = traits[i % 4]
+        text = f"In Vesk village {i} we like the {trait} of Zanobi."
+        start = text.index(trait)
+        lines.append(json.dumps({"respondent": f"R{i % 6}", "text": text, "lang": "en",
+                                 "spans": [{"start": start, "end": start + len(trait)}]}))
+    pool = tmp_path / "pool.jsonl"
+    pool.write_text("\n".join(lines[:28]) + "\n", encoding="utf-8")
+    test = tmp_path / "test.jsonl"
+    test.write_text("\n".join(lines[28:]) + "\n", encoding="utf-8")
+    out_file = tmp_path / "results.json"
+    code, out = run("simulate", "--pool", str(pool), "--test", str(test), "--budgets", "10,15",
+                    "--repeats", "2", "--model", "tagger", "--out", str(out_file))
+    assert code == 0, out
+    runs = json.loads(out_file.read_text(encoding="utf-8"))["runs"]
+    assert {(r["strategy"], r["budget"]) for r in runs} == {
+        (s, b) for s in ("default", "random") for b in (10, 15)}
+    assert len(runs) == 2 * 2 * 2  # strategies x budgets x repeats
+    assert "gain over random" in out and "/2" in out  # wins out of 2 repeats

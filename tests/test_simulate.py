@@ -10,7 +10,7 @@ from typing import Any
 import pytest
 
 from extractor.errors import InputError
-from extractor.simulate import curve_table, plot, simulate
+from extractor.simulate import curve_table, paired_gain, plot, simulate
 
 KEYS = {"strategy", "budget", "repeat", "labeled_sentences", "labeled_tokens", "span_f1",
         "span_concept_f1", "stance_accuracy", "respondent_f1", "seconds"}
@@ -132,3 +132,18 @@ def test_progress_bar_counts_the_runs() -> None:
     shown = out.getvalue()
     assert "Simulating runs" in shown
     assert "4/4" in shown  # strategies x repeats
+
+
+def test_paired_gain_pairs_repeats() -> None:
+    runs = [{"strategy": s, "budget": 100, "repeat": r, "span_f1": f}
+            for s, fs in (("random", [0.60, 0.65, 0.70]), ("default", [0.63, 0.64, 0.75]))
+            for r, f in enumerate(fs)]
+    runs.append({"strategy": "default", "budget": 200, "repeat": 0, "span_f1": 0.8})  # no pair
+    (row,) = paired_gain({"runs": runs})
+    # Hand arithmetic: differences 0.03, -0.01, 0.05; mean 0.07 / 3; squared deviations
+    # sum to 0.0018667, so sd = sqrt(0.0018667 / 2) = 0.030551; two of three positive.
+    assert row["strategy"] == "default" and row["budget"] == 100 and row["n"] == 3
+    assert row["gain"] == pytest.approx(0.07 / 3)
+    assert row["sd"] == pytest.approx(0.030551, abs=1e-6)
+    assert row["wins"] == 2
+    assert paired_gain({"runs": runs}, baseline="absent") == []
