@@ -40,10 +40,12 @@ from __future__ import annotations
 
 import ctypes
 import ctypes.util
+import gc
 import hashlib
 import json
 import tempfile
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterator, Mapping, Sequence
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -490,6 +492,24 @@ def _span_trait_prob(
     return min(probs) if probs else 0.0
 
 
+@contextmanager
+def _collector_paused() -> Iterator[None]:
+    """Pause Python's cyclic garbage collector while a batch builds its feature dicts.
+
+    Features are tens of thousands of small dicts per thousand sentences; each allocation
+    burst triggers collections that rescan the whole heap (clusters, corpus, models), which
+    cost a fifth to a third of the tagging time, and varied from run to run. The dicts hold
+    no reference cycles, so reference counting frees them; the collector resumes after.
+    """
+    was_enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was_enabled:
+            gc.enable()
+
+
 def tag_sentences(
     tagger: TraitTagger,
     sentences: Sequence[Sentence],
@@ -513,8 +533,9 @@ def tag_sentences(
             f"The tagger was trained with word clusters {expected} but got {given}; "
             "pass the clusters saved with the tagger's model version."
         )
-    items = [sentence_items(s, dictionary, clusters) for s in sentences]
-    paths = tagger.predict([feats for _, feats, _ in items])
+    with _collector_paused():
+        items = [sentence_items(s, dictionary, clusters) for s in sentences]
+        paths = tagger.predict([feats for _, feats, _ in items])
     results = []
     for (offsets, _, matches), path in zip(items, paths, strict=True):
         concepts = {(m.start, m.end): m.concept for m in matches}
