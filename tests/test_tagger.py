@@ -267,3 +267,13 @@ def test_tagger_same_data_gives_same_model() -> None:
     first = TraitTagger(max_iterations=20).fit(X, y).model_bytes_
     second = TraitTagger(max_iterations=20).fit(X, y).model_bytes_
     assert first == second
+
+
+def test_tag_sentences_resumes_the_garbage_collector(toy_tagger) -> None:
+    import gc
+
+    tag_sentences(toy_tagger, [Sentence(id=1, text="The soft grain.", lang="en")], None, None)
+    assert gc.isenabled()
+    with pytest.raises(TypeError):  # fails inside the paused section (spaCy cannot read None)
+        tag_sentences(toy_tagger, [Sentence(id=2, text=None, lang="en")], None, None)  # type: ignore[arg-type]
+    assert gc.isenabled()
