@@ -153,12 +153,13 @@ STRATEGIES: dict[str, Strategy] = {
     "link_stance": Strategy(link_stance),
     "combined": Strategy(combined, density_beta=1.0, diversity=True),
     "random": Strategy(random_score),
-    # Chosen with `traits simulate` (SGD-L2 tagger alone, batch 5, 3 repeats, MAMS train as
-    # pool with 500 candidates a round, MAMS test): with gold weighted 3 against silver,
-    # span F1 at 100/200 labels 0.636/0.668 against random's 0.615/0.647; mean token
-    # entropy with diversity gave 0.606/0.647 and total token entropy was worst. With the
-    # current weighting (gold 10 against silver, no repetition without silver): MAMS
-    # 0.636/0.677 against 0.618/0.654, demo gold 0.526/0.541 against 0.493/0.518.
+    # Chosen with `traits simulate` (tagger alone, batch 5, seed 0; MAMS train as pool with
+    # 500 candidates a round and MAMS test as test; the demo gold split by respondent). Over
+    # 10 repeats, span F1 gain over random, paired by repeat: MAMS +0.0 / +0.8 / +2.4 points
+    # at 50 / 100 / 200 labels (0.679 at 200), demo +2.6 / +3.5 / +1.6. About 20 other
+    # scorings and settings (entropy, least confidence, lowest token probability, committees,
+    # word-frequency weighting, other vectors, windows and retraining intervals) did no
+    # better at 100 labels on MAMS and most did worse. DEVELOPERS.md has the commands.
     # Change this one line when a new simulation says otherwise.
     "default": Strategy(norm_logprob, density_beta=1.0, diversity=True),
 }
