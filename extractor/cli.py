@@ -521,7 +521,7 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--batch", type=int, help="sentences chosen together (default from settings)")
     p.add_argument("--strategy", help="query strategy (default from settings)")
     p.add_argument("--evaluation", action="store_true",
-                   help="label sentences of the fixed random evaluation sample (for honest "
+                   help="label sentences of the random evaluation sample (for honest "
                    "quality figures) instead of the most informative ones")
     p.set_defaults(handler=cmd_label)
     p = sub.add_parser("import-labels", help="import labels (gold JSON Lines or CoNLL IOB2)")

@@ -256,7 +256,7 @@ def predicted_mentions(predictions: Iterable[Any]) -> list[list[Span]]:
 
 
 def evaluate_on(models: _Predictor, gold: Gold) -> dict[str, Any]:
-    """Score fitted models on a fixed evaluation sample (labeled sentences they never saw).
+    """Score fitted models on an evaluation sample (labeled sentences they never saw).
 
     Args:
         models: Fitted models with ``predict(sentences) -> [SentencePrediction]``,

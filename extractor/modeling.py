@@ -120,7 +120,7 @@ class TraitModels:
             aliases: The concept list's aliases.
             clusters: Word clusters to reuse (when the corpus has not changed).
             held_out: IDs of sentences kept out of training entirely (the labeled part of
-                the fixed evaluation sample), not even as silver sentences.
+                the evaluation sample), not even as silver sentences.
         """
         if not gold and not aliases:
             raise ModelError(

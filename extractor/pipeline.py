@@ -98,7 +98,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
         raise ModelError("The workspace holds no sentences; add interviews with `traits add FILE`.")
     notes = []
     if held_out:
-        notes.append(f"{len(held_out)} labeled sentences of the fixed evaluation sample are "
+        notes.append(f"{len(held_out)} labeled sentences of the evaluation sample are "
                      "kept out of training, so `traits evaluate` can score on them honestly.")
     if not aliases:
         notes.append("No concept list is imported, so the tagger learns from labels alone.")
@@ -348,7 +348,7 @@ def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: st
           ) -> dict[str, Any]:
     """Run a labeling session over the newest model version (or a cold start).
 
-    With ``evaluation``, the sentences come from the unlabeled part of the fixed random
+    With ``evaluation``, the sentences come from the unlabeled part of the random
     evaluation sample instead, so that quality can be measured honestly.
     """
     from extractor.console import run_console
@@ -409,7 +409,7 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
         results["notes"]["evaluation sample"] = "no model version yet; run `traits train`."
     elif not held_out:
         results["notes"]["evaluation sample"] = (
-            "none of the fixed evaluation sample is labeled yet; `traits label` offers it."
+            "none of the evaluation sample is labeled yet; `traits label` offers it."
         )
     else:
         version, models = load_version(ws)

@@ -109,7 +109,7 @@ class SessionSettings:
 
     Attributes:
         retrain_every: retrain after this many new labels.
-        evaluation_fraction: share of sentences held out as the fixed evaluation sample.
+        evaluation_fraction: share of sentences held out as the evaluation sample.
         evaluation_min: the evaluation sample has at least this many sentences (but never
             more than half of them, so there is always something to label).
         stop_set_size: size of the fixed unlabeled stop set for the stopping rule.
@@ -144,22 +144,24 @@ def evaluation_size(n_sentences: int, fraction: float, minimum: int) -> int:
 def ensure_samples(
     conn: sqlite3.Connection, settings: SessionSettings
 ) -> tuple[list[int], list[int]]:
-    """Create the fixed evaluation sample and stop set if missing; return both ID lists.
+    """Create the evaluation sample and stop set if missing, grow the sample; return both.
 
     The evaluation sample is a seeded uniform draw from all sentences; the stop set is a
     seeded draw of sentences that were unlabeled and outside the evaluation sample when
-    it was made. Both are stored and never redrawn, so figures stay comparable.
+    it was made. Members are never removed or redrawn, so figures stay comparable. When
+    new interviews have arrived and the sample has fallen below its share of the
+    sentences, it is topped up with a seeded draw from sentences that are unlabeled and
+    in neither sample, so that it keeps representing what the study now holds (labeled
+    sentences are left out of the top-up: moving them would take them out of training).
     """
     all_ids = [s.id for s in store.sentences(conn)]
     rng = np.random.default_rng(settings.seed)
     evaluation = store.sample_ids(conn, "evaluation")
+    target = evaluation_size(len(all_ids), settings.evaluation_fraction, settings.evaluation_min)
     if not evaluation:
-        size = evaluation_size(
-            len(all_ids), settings.evaluation_fraction, settings.evaluation_min
-        )
-        if size > 0:
+        if target > 0:
             store.add_to_sample(
-                conn, "evaluation", sorted(int(i) for i in rng.choice(all_ids, size, False))
+                conn, "evaluation", sorted(int(i) for i in rng.choice(all_ids, target, False))
             )
             evaluation = store.sample_ids(conn, "evaluation")
     stop = store.sample_ids(conn, "stop")
@@ -172,6 +174,17 @@ def ensure_samples(
                 conn, "stop", sorted(int(i) for i in rng.choice(free, size, False))
             )
             stop = store.sample_ids(conn, "stop")
+    if evaluation and len(evaluation) < target:
+        held = set(evaluation) | set(stop) | set(store.current_labels(conn))
+        free = [i for i in all_ids if i not in held]
+        size = min(target - len(evaluation), len(free))
+        if size > 0:
+            # Seeded by the sample's size, so the same growth draws the same sentences.
+            grow = np.random.default_rng([settings.seed, len(evaluation)])
+            store.add_to_sample(
+                conn, "evaluation", sorted(int(i) for i in grow.choice(free, size, False))
+            )
+            evaluation = store.sample_ids(conn, "evaluation")
     return evaluation, stop
 
 

@@ -666,7 +666,7 @@ def skipped(conn: sqlite3.Connection, annotator: str | None = None) -> set[int]:
 
 
 def sample_ids(conn: sqlite3.Connection, purpose: str) -> list[int]:
-    """Return the sentence IDs of the fixed evaluation or stop sample."""
+    """Return the sentence IDs of the evaluation or stop sample."""
     rows = conn.execute(
         "SELECT sentence_id FROM samples WHERE purpose = ? ORDER BY sentence_id", (purpose,)
     )

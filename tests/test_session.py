@@ -59,9 +59,34 @@ def test_ensure_samples_creates_fixed_samples_once(conn: sqlite3.Connection) -> 
     evaluation, stop = ensure_samples(conn, settings)
     assert len(evaluation) == 4 and len(stop) == 6
     assert not set(evaluation) & set(stop)
-    again = ensure_samples(conn, SessionSettings(seed=99, evaluation_min=8))
-    assert again == (evaluation, stop)
+    again = ensure_samples(conn, SessionSettings(seed=99, evaluation_fraction=0.1,
+                                                 evaluation_min=4, stop_set_size=6))
+    assert again == (evaluation, stop)  # another seed does not redraw
     assert store.sample_ids(conn, "evaluation") == evaluation
+
+
+def test_evaluation_sample_grows_with_new_interviews(conn: sqlite3.Connection) -> None:
+    settings = SessionSettings(evaluation_fraction=0.25, evaluation_min=2, stop_set_size=3)
+    evaluation, stop = ensure_samples(conn, settings)
+    n_before = len(store.sentences(conn))
+    assert len(evaluation) == evaluation_size(n_before, 0.25, 2)
+    labeled = [i for i in range(1, n_before + 1) if i not in evaluation and i not in stop][:2]
+    for sentence_id in labeled:
+        store.add_label(conn, sentence_id, [], "Kofi")
+    # A second interview file arrives: twice as many sentences.
+    more = [{"respondent": f"TS-{100 + k}", "question": "Why?", "answer": f"Answer {k} here.",
+             "lang": "en", "lang_origin": "column", "variety": None, "metadata": {},
+             "sheet": None, "row": k + 2, "is_group": False} for k in range(n_before)]
+    store.add_source(conn, path="second.csv", sha256="second", kind="csv", options={},
+                     rows=more, sentence_offsets=[[(0, len(r["answer"]))] for r in more])
+    n_after = len(store.sentences(conn))
+    grown, stop_after = ensure_samples(conn, settings)
+    assert len(grown) == evaluation_size(n_after, 0.25, 2) > len(evaluation)
+    assert set(evaluation) <= set(grown)  # nobody leaves the sample
+    assert stop_after == stop
+    added = set(grown) - set(evaluation)
+    assert not added & set(stop) and not added & set(labeled)
+    assert ensure_samples(conn, settings) == (grown, stop)  # stable once grown
 
 
 def test_ensure_samples_is_seeded(tmp_path: Path) -> None:
@@ -87,7 +112,8 @@ def test_session_offers_only_unlabeled_evaluation_sentences_on_request(
     ensure_samples(conn, SessionSettings(evaluation_min=5, stop_set_size=0))
     evaluation = store.sample_ids(conn, "evaluation")
     store.add_label(conn, evaluation[0], [], "Kofi")
-    session = _session(conn, settings=SessionSettings(offer_evaluation=True, stop_set_size=0))
+    session = _session(conn, settings=SessionSettings(offer_evaluation=True, evaluation_min=5,
+                                                      stop_set_size=0))
     asked = []
     while (item := session.next()) is not None:
         assert item.in_evaluation
