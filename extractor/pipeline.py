@@ -340,6 +340,7 @@ def session_settings(ws: Workspace) -> SessionSettings:
         stop_set_size=int(active["stop_set_size"]),
         kappa_threshold=float(active["stop_kappa"]),
         kappa_rounds=int(active["stop_rounds"]),
+        subpool=int(active["subpool"]) or None,
     )
 
 

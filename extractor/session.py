@@ -119,6 +119,11 @@ class SessionSettings:
         kappa_threshold: stopping-rule agreement threshold.
         kappa_rounds: stopping-rule window of successive comparisons.
         candidates: how many top-scored sentences the diverse batch selection considers.
+        subpool: each model ranks a seeded random sub-pool of this many unlabeled sentences
+            (None: all of them). Ranking the whole pool lets a few odd sentences win; with
+            a random sub-pool of 500, `traits simulate` on MAMS (10 repeats) gave span F1
+            0.580 / 0.631 / 0.679 at 50 / 100 / 200 labels against 0.573 / 0.623 / 0.671
+            for the whole pool of 4,297, and half the spread between repeats at 100.
     """
 
     retrain_every: int = 10
@@ -130,6 +135,7 @@ class SessionSettings:
     kappa_threshold: float = 0.99
     kappa_rounds: int = 3
     candidates: int = 50
+    subpool: int | None = 500
 
 
 def evaluation_size(n_sentences: int, fraction: float, minimum: int) -> int:
@@ -291,6 +297,7 @@ class Session:
             self._density = density(self._vector_rows(pool))
 
         self.model_version = 0
+        self._subpool: set[int] | None = None
         self._predictor = predictor
         self._predictions: dict[int, Prediction] = {}
         self._scores = np.zeros(len(pool))
@@ -356,8 +363,10 @@ class Session:
         if update.stop_paths:
             self._stop_paths = update.stop_paths
         self.model_version += 1
-        # The old batch was chosen by the old model; rank again with the new one.
+        # The old batch was chosen by the old model; rank again with the new one, over a
+        # new random sub-pool.
         self._batch.clear()
+        self._subpool = None
 
     def _poll(self) -> None:
         """Install a model finished in the background, if any (never blocks)."""
@@ -434,8 +443,24 @@ class Session:
 
     # ----------------------------------------------------------------- asking
 
+    def _outside_subpool(self, exclude: set[int]) -> set[int]:
+        """Return the pool positions outside the current model's random sub-pool.
+
+        The sub-pool is drawn (seeded) when a model is installed, and drawn again when
+        fewer than a batch of its sentences are left.
+        """
+        size = self.settings.subpool
+        free = [k for k in range(len(self._pool_ids)) if k not in exclude]
+        if size is None or len(free) <= size:
+            return set()
+        if self._subpool is None or len(self._subpool - exclude) < self.batch_size:
+            rng = np.random.default_rng([self.settings.seed, self.model_version, len(exclude)])
+            self._subpool = {int(k) for k in rng.choice(free, size, replace=False)}
+        return set(free) - self._subpool
+
     def _refill(self) -> None:
         exclude = {self._pool_pos[sid] for sid in self._done if sid in self._pool_pos}
+        exclude |= self._outside_subpool(exclude)
         labeled_vectors = None
         if self.strategy.diversity and self._labeled:
             recent = [i for i in self._labeled if i in self._all_pos][-2000:]

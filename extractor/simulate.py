@@ -19,9 +19,8 @@ Conventions
 * A figure that does not apply is ``null``: ``span_concept_f1`` and ``respondent_f1``
   when the test gold has no concepts, ``stance_accuracy`` when the model gives no stance.
 * ``candidates`` caps how many unlabeled pool sentences are scored after each retrain
-  (a fresh random sub-pool each time; all of them when ``None``). Tagging a pool of
-  thousands costs seconds per retrain, and a random sub-pool of a thousand finds the
-  same kind of uncertain sentences.
+  (a fresh random sub-pool each time; all of them when ``None``), as the labeling loop's
+  ``subpool`` setting does (500 by default; see :class:`extractor.session.SessionSettings`).
 * ``model="traits"`` trains the full :class:`extractor.modeling.TraitModels`;
   ``model="tagger"`` trains the CRF tagger alone (no linking, no stance), which is all
   that span scores need and several times faster on data without concepts.

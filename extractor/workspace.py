@@ -45,6 +45,7 @@ DEFAULTS: dict[str, Any] = {
         "stop_set_size": 500,
         "stop_kappa": 0.99,
         "stop_rounds": 3,
+        "subpool": 500,
     },
     "export": {
         "group_by": ["gender", "sex", "role", "occupation", "district", "age_group"],
@@ -92,6 +93,7 @@ evaluation_min = 30
 stop_set_size = 500
 stop_kappa = 0.99                # "further labels are changing little" above this...
 stop_rounds = 3                  # ...for this many successive models
+subpool = 500                    # each model ranks a random sub-pool of this many (0 = all)
 
 [export]
 group_by = ["gender", "sex", "role", "occupation", "district", "age_group"]

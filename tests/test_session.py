@@ -136,6 +136,26 @@ def test_next_follows_strategy_order(conn: sqlite3.Connection) -> None:
     assert asked == [1, 2, 3, 4, 5, 6]
 
 
+def test_each_model_ranks_a_random_subpool(tmp_path: Path) -> None:
+    def first_batch(conn: sqlite3.Connection, subpool: int | None) -> list[int]:
+        settings = SessionSettings(evaluation_fraction=0.0, evaluation_min=0,
+                                   stop_set_size=0, subpool=subpool)
+        session = _session(conn, settings=settings)  # least confidence, batches of 4
+        asked = []
+        for _ in range(4):
+            item = session.next()
+            asked.append(item.sentence.id)
+            session.submit(item.sentence.id, item.suggestion)
+        return asked
+
+    whole = first_batch(build_store(tmp_path / "a.sqlite"), None)
+    assert whole == [1, 2, 3, 4]  # the least confident of the whole pool
+    sub = first_batch(build_store(tmp_path / "b.sqlite"), 4)
+    assert sub == sorted(sub) and len(set(sub)) == 4  # ranked, within a drawn sub-pool
+    assert sub != whole
+    assert first_batch(build_store(tmp_path / "c.sqlite"), 4) == sub  # seeded
+
+
 def test_next_carries_suggestion_and_context(conn: sqlite3.Connection) -> None:
     item = _session(conn).next()
     assert item.sentence.text == "Zamaro Red cooks fast on the fire."
