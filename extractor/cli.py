@@ -414,6 +414,8 @@ def cmd_evaluate(args: argparse.Namespace, console: Console) -> int:
         console.rule(title)
         for table in format_tables(part):
             console.print(table)
+    if results.get("notes", {}).get("stale version"):
+        console.print(f"[bold]Note[/bold]: {results['notes']['stale version']}")
     if results.get("version"):
         console.print(f"Stored with model version {results['version']}.")
     return 0

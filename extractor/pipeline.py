@@ -415,6 +415,13 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
     else:
         version, models = load_version(ws)
         results["evaluation_sample"] = evaluate.evaluate_on(models, held_out)
+        learned = int(latest["meta"].get("counts", {}).get("gold_sentences", 0))
+        if learned != len(gold) - len(held_out):
+            results["notes"]["stale version"] = (
+                f"model version {version} learned from {learned} labeled sentences, but "
+                f"{len(gold) - len(held_out)} are labeled now (outside the evaluation sample); "
+                "run `traits train` and evaluate again to score a model that learned from them."
+            )
     if latest is not None:
         results["version"] = latest["version"]
         store.set_model_metrics(ws.conn, latest["version"], {
