@@ -121,7 +121,57 @@ def load_settings(path: Path) -> dict[str, Any]:
             found = tomllib.load(handle)
     except tomllib.TOMLDecodeError as exc:
         raise WorkspaceError(f"{path} is not valid TOML ({exc}); fix the line it names.") from exc
-    return merge_settings(DEFAULTS, found)
+    settings = merge_settings(DEFAULTS, found)
+    check_settings(settings, path)
+    return settings
+
+
+_FRACTIONS = {"evaluation_share", "stop_kappa", "threshold", "min_confidence"}
+"""Settings that are shares or probabilities, between 0 and 1."""
+
+
+def _setting_problem(key: str, value: Any, default: Any) -> str | None:
+    """Return what is wrong with a setting's value, judged by its default's type, or None."""
+    if isinstance(default, bool):
+        return None if isinstance(value, bool) else "must be true or false"
+    if isinstance(default, int):
+        if isinstance(value, bool) or not isinstance(value, int) or value < 0:
+            return "must be a whole number, 0 or more"
+        return None
+    if isinstance(default, float):
+        if isinstance(value, bool) or not isinstance(value, int | float) or value < 0:
+            return "must be a number, 0 or more"
+        if key in _FRACTIONS and value > 1:
+            return "must be between 0 and 1"
+        return None
+    if isinstance(default, str):
+        return None if isinstance(value, str) else "must be text in quotes"
+    if isinstance(default, list):
+        ok = isinstance(value, list) and all(isinstance(v, str) for v in value)
+        return None if ok else 'must be a list of texts, like ["gender", "role"]'
+    return None
+
+
+def check_settings(settings: dict[str, Any], path: Path) -> None:
+    """Check every known setting's type and range.
+
+    Raises:
+        WorkspaceError: One sentence naming the file, section and key, and what to do.
+    """
+    for section, defaults in DEFAULTS.items():
+        values = settings.get(section)
+        if not isinstance(values, dict):
+            raise WorkspaceError(
+                f"{path}: [{section}] must be a section of settings, not a single value; "
+                "fix it, or delete it to use the defaults."
+            )
+        for key, default in defaults.items():
+            problem = _setting_problem(key, values.get(key), default)
+            if problem:
+                raise WorkspaceError(
+                    f"{path}: [{section}] {key} {problem} (got {values.get(key)!r}); fix it, "
+                    f"or delete the line to use the default {default!r}."
+                )
 
 
 def is_workspace(root: Path) -> bool:

@@ -33,3 +33,46 @@ def test_load_settings_reports_bad_toml(tmp_path: Path) -> None:
     path.write_text("[tagger\nc1 = ", encoding="utf-8")
     with pytest.raises(WorkspaceError, match="not valid TOML"):
         load_settings(path)
+
+
+@pytest.mark.parametrize(
+    ("text", "message"),
+    [
+        ('[active]\nsubpool = "many"\n', r"\[active\] subpool must be a whole number"),
+        ("[active]\nbatch_size = -5\n", r"\[active\] batch_size must be a whole number"),
+        ("[linking]\nthreshold = 1.5\n", r"\[linking\] threshold must be between 0 and 1"),
+        ("[tagger]\nc2 = true\n", r"\[tagger\] c2 must be a number"),
+        ('[export]\ngroup_by = "gender"\n', r"\[export\] group_by must be a list of texts"),
+        ('active = 3\n', r"\[active\] must be a section"),
+    ],
+    ids=["text-for-number", "negative", "share-above-one", "bool-for-float", "text-for-list",
+         "value-for-section"],
+)
+def test_load_settings_names_a_bad_value(tmp_path: Path, text: str, message: str) -> None:
+    path = tmp_path / "traits.toml"
+    path.write_text(text, encoding="utf-8")
+    with pytest.raises(WorkspaceError, match=message) as caught:
+        load_settings(path)
+    assert "traits.toml" in str(caught.value) and "delete" in str(caught.value)
+
+
+def test_load_settings_accepts_whole_numbers_for_decimals(tmp_path: Path) -> None:
+    path = tmp_path / "traits.toml"
+    path.write_text("[tagger]\nc2 = 1\n[active]\nsubpool = 0\n", encoding="utf-8")
+    settings = load_settings(path)
+    assert settings["tagger"]["c2"] == 1 and settings["active"]["subpool"] == 0
+
+
+def test_bad_setting_is_one_sentence_on_the_command_line(tmp_path: Path) -> None:
+    import io
+
+    from rich.console import Console
+
+    from extractor.cli import main
+
+    root = init_workspace(tmp_path / "w")
+    (root / "traits.toml").write_text("[active]\nretrain_every = \"often\"\n", encoding="utf-8")
+    out = io.StringIO()
+    code = main(["-w", str(root), "status"], console=Console(file=out, width=200))
+    assert code != 0
+    assert "retrain_every" in out.getvalue() and "Traceback" not in out.getvalue()
