@@ -421,6 +421,19 @@ def cmd_evaluate(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
+def _budgets(text: str) -> list[int]:
+    """Parse ``--budgets``: comma-separated whole numbers, 0 or more."""
+    try:
+        values = [int(part) for part in text.split(",") if part.strip()]
+    except ValueError:
+        values = []
+    if not values or min(values) < 0:
+        raise argparse.ArgumentTypeError(
+            f"budgets must be whole numbers separated by commas, like 0,50,100; got {text!r}"
+        )
+    return values
+
+
 def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
     """Learning curves with a simulated annotator answering from gold labels."""
     import json as _json
@@ -437,7 +450,7 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
         aliases = [(a["concept_id"], a["text"], a["lang"]) for a in loaded.aliases]
     results = simulate(
         pool, test, aliases, strategies=args.strategies.split(","),
-        budgets=[int(b) for b in args.budgets.split(",")], repeats=args.repeats,
+        budgets=args.budgets, repeats=args.repeats,
         seed=args.seed, batch_size=args.batch, jobs=args.jobs, model=args.model,
         candidates=args.candidates or None,
     )
@@ -538,7 +551,8 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--test", required=True, help="gold labels to score on")
     p.add_argument("--concepts", help="concept list (CSV or XLSX)")
     p.add_argument("--strategies", default="default,random")
-    p.add_argument("--budgets", default="0,50,100,200")
+    p.add_argument("--budgets", default="0,50,100,200", type=_budgets,
+                   help="numbers of labeled sentences to score at, comma-separated")
     p.add_argument("--repeats", type=int, default=3)
     p.add_argument("--seed", type=int, default=0)
     p.add_argument("--batch", type=int, default=5, help="sentences queried together")

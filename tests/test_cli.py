@@ -152,3 +152,13 @@ def test_simulate_writes_results_and_the_paired_gain(tmp_path: Path) -> None:
         (s, b) for s in ("default", "random") for b in (10, 15)}
     assert len(runs) == 2 * 2 * 2  # strategies x budgets x repeats
     assert "gain over random" in out and "/2" in out  # wins out of 2 repeats
+
+
+def test_simulate_refuses_budgets_that_are_not_numbers(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    with pytest.raises(SystemExit) as caught:
+        main(["simulate", "--pool", "p.jsonl", "--test", "t.jsonl", "--budgets", "10,x"],
+             console=Console(file=io.StringIO()))
+    assert caught.value.code == 2
+    assert "budgets must be whole numbers" in capsys.readouterr().err
