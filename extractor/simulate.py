@@ -87,12 +87,10 @@ class TaggerOnly:
 
     Args:
         tagger_params: Keyword arguments of :func:`extractor.tagger.fit_tagger`.
-        seed: Unused; kept so both model kinds take the same arguments.
     """
 
-    def __init__(self, *, tagger_params: dict[str, Any] | None = None, seed: int = 0) -> None:
+    def __init__(self, *, tagger_params: dict[str, Any] | None = None) -> None:
         self.tagger_params = tagger_params or {}
-        self.seed = seed
         self._cache: dict[int, Any] = {}
 
     def fit(
