@@ -110,7 +110,13 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     )
     models.fit(gold, corpus, aliases, clusters=_reusable_clusters(ws, corpus), held_out=held_out)
     metrics: dict[str, Any] = {}
-    if cross_validate and len(gold) >= MIN_LABELS_FOR_CV:
+    from extractor.evaluate import respondent_key
+
+    respondents = len({respondent_key(s) for s, _ in gold})
+    if cross_validate and len(gold) >= MIN_LABELS_FOR_CV and respondents < 2:
+        notes.append("All labels come from one respondent, so there is no cross-validation "
+                     "(its folds keep each respondent's sentences together); label another's.")
+    elif cross_validate and len(gold) >= MIN_LABELS_FOR_CV:
         metrics["cross_validation"] = _cross_validate(gold, corpus, aliases, tagger_params,
                                                       settings, models.clusters_)
     version = new_version_name(ws)

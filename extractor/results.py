@@ -124,9 +124,13 @@ def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOpti
             raise InputError(
                 f"The names file {path} does not exist; give a text file with one name per line."
             )
-        names = tuple(
-            line.strip() for line in path.read_text(encoding="utf-8").splitlines() if line.strip()
-        )
+        try:
+            text = path.read_text(encoding="utf-8")
+        except UnicodeDecodeError as exc:
+            raise InputError(
+                f"The names file {path} is not UTF-8 text; save it as UTF-8 and export again."
+            ) from exc
+        names = tuple(line.strip() for line in text.splitlines() if line.strip())
     return PrivacyOptions(
         secret=workspace_secret(ws), names=names,
         drop_columns=tuple(settings.get("identifying_columns", ())),
@@ -172,6 +176,13 @@ def group_columns(ws: Workspace, respondents: pd.DataFrame,
     return [c for c in wanted if c in respondents.columns]
 
 
+def _min_confidence(ws: Workspace, given: float | None) -> float | None:
+    """Return the confidence floor: the one given, else traits.toml's (0 means none)."""
+    if given is not None:
+        return given
+    return ws.settings["export"].get("min_confidence") or None
+
+
 def export_workbook(
     ws: Workspace,
     version: str | None,
@@ -194,8 +205,7 @@ def export_workbook(
     write_workbook(
         out, mentions, respondents, concept_frame(ws), about(ws, version),
         group_by=group_columns(ws, respondents, group_by),
-        min_confidence=min_confidence if min_confidence is not None
-        else (ws.settings["export"].get("min_confidence") or None),
+        min_confidence=_min_confidence(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
         chart_png=png,
     )
@@ -237,7 +247,8 @@ def export_other(
         n = interchange.write_conll(out, gold_examples(ws))
         return {"path": out, "mentions": n}
     mentions, _ = prepare(
-        mention_frame(ws, version), respondent_frame(ws), min_confidence=min_confidence,
+        mention_frame(ws, version), respondent_frame(ws),
+        min_confidence=_min_confidence(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
     )
     writer = {"csv": interchange.write_mentions_csv, "jsonl": interchange.write_mentions_jsonl,

@@ -352,6 +352,8 @@ def simulate(
     chosen = [active.get_strategy(n) for n in strategies]
     if model not in MODELS:
         raise InputError(f"The model must be one of {', '.join(MODELS)}; got {model!r}.")
+    if candidates is not None and candidates < 1:
+        raise InputError(f"The sub-pool must hold at least 1 sentence; got {candidates}.")
     if not budgets or min(budgets) < 0 or repeats < 1 or batch_size < 1 or retrain_every < 1:
         raise InputError(
             "Budgets must be given and not negative, and repeats, batch size and retrain "

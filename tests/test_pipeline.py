@@ -248,3 +248,35 @@ def test_evaluate_prints_tables_and_says_when_the_version_is_stale(
         latest = store.latest_model(ws.conn)
     assert "cross_validation" in latest["metrics"] and "evaluation_sample" in latest["metrics"]
     assert latest["version"] in out
+
+
+def test_train_with_labels_from_one_respondent_skips_cross_validation(
+    study: Path, tmp_path: Path
+) -> None:
+    lines = [labeled("KA-01", f"In Vesk {k} the yield is good.") for k in range(60)]
+    labels = tmp_path / "one.jsonl"
+    labels.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    assert run("-w", str(study), "import-labels", str(labels))[0] == 0
+    code, out = run("-w", str(study), "train")
+    assert code == 0, out
+    assert "one respondent" in out
+    with Workspace(study) as ws:
+        assert "cross_validation" not in store.latest_model(ws.conn)["meta"]["metrics"]
+
+
+def test_names_file_not_in_utf8_is_one_sentence(study: Path) -> None:
+    assert run("-w", str(study), "run")[0] == 0
+    (study / "names.txt").write_bytes("Zélie Ombara\n".encode("cp1252"))
+    code, out = run("-w", str(study), "export", "--pseudonymise", "--names-file", "names.txt")
+    assert code == 1 and "not UTF-8" in out and "Traceback" not in out
+
+
+def test_other_formats_apply_the_settings_confidence_floor(study: Path, tmp_path: Path) -> None:
+    assert run("-w", str(study), "run")[0] == 0
+    settings = study / "traits.toml"
+    settings.write_text(settings.read_text(encoding="utf-8").replace(
+        "min_confidence = 0.0", "min_confidence = 1.0"), encoding="utf-8")
+    out_file = tmp_path / "m.csv"
+    code, out = run("-w", str(study), "export", "--format", "csv", "--out", str(out_file))
+    assert code == 0, out
+    assert len(pd.read_csv(out_file)) == 0  # no prediction is fully certain
