@@ -9,6 +9,7 @@ instead of being loaded.
 from __future__ import annotations
 
 import json
+import zipfile
 from pathlib import Path
 from typing import Any
 
@@ -63,7 +64,7 @@ TRUSTED_TYPES = [
     "numpy.int64",
     "numpy.str_",
 ]
-"""Types that :func:`_load_skops` accepts in a skops file; anything else is refused."""
+"""Types that :func:`load_trusted_skops` accepts in a skops file; anything else is refused."""
 
 
 def load_trusted_skops(path: Path, expected: type) -> Any:
@@ -80,7 +81,7 @@ def load_trusted_skops(path: Path, expected: type) -> Any:
     """
     try:
         untrusted = skops.io.get_untrusted_types(file=path)
-    except (OSError, ValueError, KeyError) as exc:
+    except (OSError, ValueError, KeyError, zipfile.BadZipFile) as exc:
         raise ModelError(
             f"Model file {path} is missing or unreadable ({exc}); retrain it."
         ) from exc
@@ -90,7 +91,11 @@ def load_trusted_skops(path: Path, expected: type) -> Any:
             f"Model file {path} holds types this tool does not trust ({', '.join(foreign)}); "
             "retrain the model instead of loading it."
         )
-    obj = skops.io.load(path, trusted=[t for t in untrusted if t in TRUSTED_TYPES])
+    try:
+        obj = skops.io.load(path, trusted=[t for t in untrusted if t in TRUSTED_TYPES])
+    except (OSError, ValueError, KeyError, TypeError, AttributeError,
+            zipfile.BadZipFile) as exc:
+        raise ModelError(f"Model file {path} cannot be read ({exc}); retrain it.") from exc
     shape_ok = isinstance(obj, expected) and (
         not isinstance(obj, Pipeline)
         or [type(step) for _, step in obj.steps] == [DictVectorizer, LogisticRegression]

@@ -198,8 +198,9 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
     assert code == 0 and "colour" in out
 
 
-@pytest.mark.parametrize("name", ["tagger.crfsuite", "meta.json", "linker/linker.json"],
-                         ids=["crf-model", "meta", "linker"])
+@pytest.mark.parametrize("name", ["tagger.crfsuite", "meta.json", "linker/linker.json",
+                                  "linker/context.skops"],
+                         ids=["crf-model", "meta", "linker", "linker-skops"])
 def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> None:
     run("-w", str(study), "run")
     with Workspace(study) as ws:
@@ -207,7 +208,7 @@ def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> No
     (study / "models" / version / name).write_bytes(b"\x00 not a model file")
     code, out = run("-w", str(study), "label", "--annotator", "x")
     assert code == 1
-    assert "Traceback" not in out and ("retrain" in out or "train" in out)
+    assert "Traceback" not in out and "train" in out  # every message says to (re)train
 
 
 PHRASES = {"cooks fast": "BTX:0001", "broth": "BTX:0002", "taste": "BTX:0003",
