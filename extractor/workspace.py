@@ -30,6 +30,7 @@ DEFAULTS: dict[str, Any] = {
     "columns": {},
     "tagger": {
         "algorithm": "l2sgd",
+        "c1": 0.05,
         "c2": 2.0,
         "max_iterations": 30,
         "gold_weight": 10,
@@ -164,6 +165,12 @@ def check_settings(settings: dict[str, Any], path: Path) -> None:
             raise WorkspaceError(
                 f"{path}: [{section}] must be a section of settings, not a single value; "
                 "fix it, or delete it to use the defaults."
+            )
+        unknown = sorted(set(values) - set(defaults)) if defaults else []
+        if unknown:
+            raise WorkspaceError(
+                f"{path}: [{section}] has no setting {unknown[0]!r}; the settings there are "
+                f"{', '.join(defaults)}. Fix the name or delete the line."
             )
         for key, default in defaults.items():
             problem = _setting_problem(key, values.get(key), default)

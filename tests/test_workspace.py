@@ -44,9 +44,10 @@ def test_load_settings_reports_bad_toml(tmp_path: Path) -> None:
         ("[tagger]\nc2 = true\n", r"\[tagger\] c2 must be a number"),
         ('[export]\ngroup_by = "gender"\n', r"\[export\] group_by must be a list of texts"),
         ('active = 3\n', r"\[active\] must be a section"),
+        ("[tagger]\nmax_iteration = 50\n", r"\[tagger\] has no setting 'max_iteration'"),
     ],
     ids=["text-for-number", "negative", "share-above-one", "bool-for-float", "text-for-list",
-         "value-for-section"],
+         "value-for-section", "misspelt-key"],
 )
 def test_load_settings_names_a_bad_value(tmp_path: Path, text: str, message: str) -> None:
     path = tmp_path / "traits.toml"
