@@ -39,7 +39,7 @@ from rich.table import Table
 
 from extractor.errors import InputError
 from extractor.progress import track
-from extractor.spans import span_prf
+from extractor.spans import prf, span_prf
 from extractor.types import STANCES, Sentence, Span
 
 Gold = Sequence[tuple[Sentence, Sequence[Span]]]
@@ -64,14 +64,6 @@ class _MentionLike(Protocol):
 
 
 # --------------------------------------------------------------------------- metrics
-
-
-def prf(tp: int, fp: int, fn: int) -> dict[str, float]:
-    """Return precision, recall and F1 from counts; 0 where undefined, as in seqeval."""
-    precision = tp / (tp + fp) if tp + fp else 0.0
-    recall = tp / (tp + fn) if tp + fn else 0.0
-    f1 = 2 * precision * recall / (precision + recall) if precision + recall else 0.0
-    return {"precision": precision, "recall": recall, "f1": f1, "tp": tp, "fp": fp, "fn": fn}
 
 
 def stance_scores(pairs: Sequence[tuple[str, str]]) -> dict[str, Any] | None:

@@ -31,7 +31,7 @@ from __future__ import annotations
 import random
 import statistics
 import time
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from multiprocessing import get_context
 from pathlib import Path
@@ -41,7 +41,7 @@ import numpy as np
 
 from extractor import active
 from extractor.errors import InputError
-from extractor.evaluate import predicted_mentions, score, summary
+from extractor.evaluate import SUMMARY_KEYS, predicted_mentions, score, summary
 from extractor.labels_io import LabelRecord, to_gold
 from extractor.modeling import span_confidence
 from extractor.progress import track
@@ -51,7 +51,7 @@ from extractor.types import Sentence, Span
 
 Alias = tuple[str, str, str]
 MODELS = ("traits", "tagger")
-FIGURES = ("span_f1", "span_concept_f1", "stance_accuracy", "respondent_f1")
+FIGURES = SUMMARY_KEYS
 
 
 # --------------------------------------------------------------------------- tagger alone
@@ -317,7 +317,6 @@ def simulate(
     model: str = "traits",
     model_params: dict[str, Any] | None = None,
     clusters: dict[str, Any] | None = None,
-    on_run: Callable[[list[dict[str, Any]]], None] | None = None,
 ) -> dict[str, Any]:
     """Replay the labeling loop with a simulated annotator and record learning curves.
 
@@ -338,7 +337,6 @@ def simulate(
         model: ``"traits"`` (full models) or ``"tagger"`` (tagger alone).
         model_params: Keyword arguments of the model.
         clusters: Word clusters to reuse; learned from pool and test text when None.
-        on_run: Called with each finished run's records (e.g. to show progress).
 
     Returns:
         ``{"settings": {...}, "runs": [{"strategy", "budget", "repeat",
@@ -389,14 +387,10 @@ def simulate(
             futures = {executor.submit(_run, t): k for k, t in enumerate(tasks)}
             for future in track(as_completed(futures), "Simulating runs", len(tasks)):
                 results[futures[future]] = future.result()
-                if on_run is not None:
-                    on_run(results[futures[future]])
     else:
         _init_worker(shared)
         for k, t in track(enumerate(tasks), "Simulating runs", len(tasks)):
             results[k] = _run(t)
-            if on_run is not None:
-                on_run(results[k])
     settings = {
         "strategies": list(strategies), "budgets": sorted(set(budgets)), "repeats": repeats,
         "seed": seed, "batch_size": batch_size, "retrain_every": retrain_every,

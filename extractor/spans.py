@@ -164,6 +164,11 @@ def span_prf(
         tp += hits
         fp += len(pred_keys) - hits
         fn += len(gold_keys) - hits
+    return prf(tp, fp, fn)
+
+
+def prf(tp: int, fp: int, fn: int) -> dict[str, float]:
+    """Return precision, recall and F1 from counts; 0 where undefined, as in seqeval."""
     precision = tp / (tp + fp) if tp + fp else 0.0
     recall = tp / (tp + fn) if tp + fn else 0.0
     f1 = 2 * precision * recall / (precision + recall) if precision + recall else 0.0
