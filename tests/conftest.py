@@ -1,4 +1,4 @@
-"""Shared fixtures: paths to the demo inputs and the outside datasets, and fresh workspaces."""
+"""Shared fixtures: fresh workspaces."""
 
 from __future__ import annotations
 
@@ -7,11 +7,6 @@ from pathlib import Path
 import pytest
 
 from extractor.workspace import Workspace, init_workspace
-
-ROOT = Path(__file__).resolve().parents[1]
-SAMPLE = ROOT / "sample_interviews"
-# The open datasets sit beside the repository (see each one's README); never copied in.
-DATASETS = ROOT.parent / "shared" / "datasets"
 
 
 @pytest.fixture

@@ -24,7 +24,7 @@ from extractor.evaluate import (
     summary,
 )
 from extractor.spans import iob_to_spans
-from extractor.types import Sentence, Span
+from extractor.types import STANCES, Sentence, Span
 
 B, I, O = "B-TRAIT", "I-TRAIT", "O"
 
@@ -123,8 +123,10 @@ def test_stance_scores_equal_sklearn(pairs: list[tuple[str, str]]) -> None:
     assert result["accuracy"] == pytest.approx(accuracy_score(y_true, y_pred))
     assert result["macro_f1"] == pytest.approx(
         sk_f1(y_true, y_pred, average="macro", zero_division=0))
-    assert result["confusion"] == confusion_matrix(y_true, y_pred,
-                                                   labels=result["labels"]).tolist()
+    # The label order is built here, independently: STANCES order, then only labels seen.
+    labels = [s for s in STANCES if s in set(y_true) | set(y_pred)]
+    assert result["labels"] == labels
+    assert result["confusion"] == confusion_matrix(y_true, y_pred, labels=labels).tolist()
 
 
 def test_stance_only_counts_exact_span_matches() -> None:

@@ -99,6 +99,9 @@ def test_iob_to_spans_rejects_length_mismatch() -> None:
 )
 def test_repair_iob_turns_stray_inside_into_begin(tags: list[str], expected: list[str]) -> None:
     assert repair_iob(tags) == expected
+    # Source: seqeval's lenient (conlleval) reading, where a stray I- starts a chunk: the
+    # repaired tags must read as the same chunks under it.
+    assert get_entities(repair_iob(tags)) == get_entities(tags)
 
 
 # Gold and predicted tag sequences, scored by seqeval strict IOB2 as the reference.
