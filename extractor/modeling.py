@@ -207,12 +207,8 @@ class TraitModels:
         """
         if not items:
             return []
-        rules = StanceModel().predict_proba_many(items)
-        if not self.stance_.is_fitted:
-            return rules
         n = self.counts_.get("stance_examples", 0)
-        weight = n / (n + STANCE_PRIOR)
-        return weight * self.stance_.predict_proba_many(items) + (1 - weight) * rules
+        return self.stance_.predict_proba_blend(items, n / (n + STANCE_PRIOR))
 
     # ------------------------------------------------------------------ persistence
 

@@ -174,7 +174,7 @@ def _lexicon(cues: Cues, lang: str) -> _Lexicon:
     hit = _LEXICONS.get(key)
     if hit is None or hit[0] is not cues:
         if len(_LEXICONS) > 64:
-            _LEXICONS.clear()  # each load_cues() call is a new object; keep the cache bounded
+            _LEXICONS.clear()  # user cue files loaded again are new objects; stay bounded
         scope = int(cues.get("_settings", {}).get("negation_scope", 5))
         hit = (cues, _Lexicon(cues.get(code, {}), lang or "xx", scope))
         _LEXICONS[key] = hit
@@ -587,8 +587,11 @@ class StanceModel:
             return fitted
         cold: Cues | None = getattr(self, "_cold_cues", None)
         if cold is None:
-            # Loaded once and kept, so the compiled-lexicon cache (keyed by identity) hits.
-            cold = self._cold_cues = load_cues(self.cues_path)
+            # Loaded once and kept, so the compiled-lexicon cache (keyed by identity) hits;
+            # the packaged lexicon is one object shared by every model that uses it.
+            cold = self._cold_cues = (
+                _packaged_cues() if self.cues_path is None else load_cues(self.cues_path)
+            )
         return cold
 
     def fit(self, examples: Iterable[tuple[Sentence, Span, str]]) -> StanceModel:
@@ -647,17 +650,30 @@ class StanceModel:
 
     def predict_proba_many(self, items: Sequence[tuple[Sentence, Span]]) -> np.ndarray:
         """Return an ``(n, 4)`` array of stance probabilities, columns in :data:`STANCES` order."""
+        return self.predict_proba_blend(items, 1.0)
+
+    def predict_proba_blend(
+        self, items: Sequence[tuple[Sentence, Span]], weight: float
+    ) -> np.ndarray:
+        """Return ``weight`` times the learned probabilities plus the rest from the cue rules.
+
+        One feature pass serves both; an unfitted model gives the rules alone.
+        """
         cues = self.cues
         feats = [_model_features(s, sp, cues) for s, sp in items]
         if not feats:
             return np.zeros((0, len(STANCES)))
-        if not self.is_fitted:
+        if not self.is_fitted or weight <= 0.0:
             return np.vstack([rule_proba(f) for f in feats])
         proba = self.pipeline_.predict_proba(feats)
         out = np.zeros((len(feats), len(STANCES)))
         for col, cls in enumerate(self.classes_):
             out[:, STANCES.index(cls)] = proba[:, col]
-        return out
+        if weight >= 1.0:
+            return out
+        rules = np.vstack([rule_proba(f) for f in feats])
+        blended: np.ndarray = weight * out + (1.0 - weight) * rules
+        return blended
 
     def predict_many(self, items: Sequence[tuple[Sentence, Span]]) -> list[tuple[str, float]]:
         """Return ``(stance, probability)`` for each ``(sentence, span)``."""
