@@ -110,15 +110,12 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     )
     models.fit(gold, corpus, aliases, clusters=_reusable_clusters(ws, corpus), held_out=held_out)
     metrics: dict[str, Any] = {}
-    from extractor.evaluate import respondent_key
-
-    respondents = len({respondent_key(s) for s, _ in gold})
-    if cross_validate and len(gold) >= MIN_LABELS_FOR_CV and respondents < 2:
-        notes.append("All labels come from one respondent, so there is no cross-validation "
-                     "(its folds keep each respondent's sentences together); label another's.")
-    elif cross_validate and len(gold) >= MIN_LABELS_FOR_CV:
-        metrics["cross_validation"] = _cross_validate(gold, corpus, aliases, tagger_params,
-                                                      settings, models.clusters_)
+    if cross_validate:
+        cv, why = _cross_validate(ws, gold, corpus, models.clusters_)
+        if cv is not None:
+            metrics["cross_validation"] = cv
+        elif len(gold) >= MIN_LABELS_FOR_CV:
+            notes.append(why)
     version = new_version_name(ws)
     folder = ws.models_dir / version
     concept_version = store.current_concept_version(ws.conn)
@@ -140,22 +137,32 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
 
 
 def _cross_validate(
+    ws: Workspace,
     gold: list[tuple[Sentence, list[Span]]],
     corpus: list[Sentence],
-    aliases: list[tuple[str, str, str]],
-    tagger_params: dict[str, Any],
-    settings: dict[str, Any],
-    clusters: dict[str, Any],
-) -> dict[str, Any]:
-    """Return 5-fold cross-validated figures, reusing the version's word clusters."""
+    clusters: dict[str, Any] | None,
+    k: int = 5,
+) -> tuple[dict[str, Any] | None, str]:
+    """Return k-fold figures grouped by respondent, or None and the reason there are none.
+
+    ``gold`` is the labels outside the evaluation sample, as in training, so that
+    `traits train` and `traits evaluate` measure the same thing.
+    """
     from extractor import evaluate
 
+    if len(gold) < MIN_LABELS_FOR_CV:
+        return None, (f"only {len(gold)} sentences outside the evaluation sample are labeled; "
+                      f"label at least {MIN_LABELS_FOR_CV} (`traits label` or "
+                      "`traits import-labels`).")
+    if len({evaluate.respondent_key(s) for s, _ in gold}) < 2:
+        return None, ("all labels come from one respondent, so there is no cross-validation "
+                      "(its folds keep each respondent's sentences together); label another's.")
     return evaluate.cross_validate(
-        gold, corpus, aliases, k=5, seed=0,
-        model_params={"tagger_params": tagger_params,
-                      "link_threshold": float(settings["linking"]["threshold"])},
+        gold, corpus, alias_tuples(ws), k=k, seed=0,
+        model_params={"tagger_params": dict(ws.settings["tagger"]),
+                      "link_threshold": float(ws.settings["linking"]["threshold"])},
         clusters=clusters,
-    )
+    ), ""
 
 
 def load_version(ws: Workspace, version: str | None = None) -> tuple[str, TraitModels]:
@@ -395,22 +402,16 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
 
     ensure_samples(ws.conn, session_settings(ws))
     gold = gold_examples(ws)
-    results: dict[str, Any] = {"notes": {}}
-    if len(gold) < MIN_LABELS_FOR_CV:
-        results["notes"]["cross-validation"] = (
-            f"only {len(gold)} sentences are labeled; label at least {MIN_LABELS_FOR_CV} "
-            "(`traits label` or `traits import-labels`)."
-        )
-    else:
-        corpus = store.sentences(ws.conn)
-        results["cross_validation"] = evaluate.cross_validate(
-            gold, corpus, alias_tuples(ws), k=k, seed=0,
-            model_params={"tagger_params": dict(ws.settings["tagger"]),
-                          "link_threshold": float(ws.settings["linking"]["threshold"])},
-            clusters=_reusable_clusters(ws, corpus),
-        )
-    latest = store.latest_model(ws.conn)
     sample = set(store.sample_ids(ws.conn, "evaluation"))
+    results: dict[str, Any] = {"notes": {}}
+    corpus = store.sentences(ws.conn)
+    outside = [(s, spans) for s, spans in gold if s.id not in sample]
+    cv, why = _cross_validate(ws, outside, corpus, _reusable_clusters(ws, corpus), k)
+    if cv is None:
+        results["notes"]["cross-validation"] = why
+    else:
+        results["cross_validation"] = cv
+    latest = store.latest_model(ws.conn)
     held_out = [(s, spans) for s, spans in gold if s.id in sample]
     if latest is None:
         results["notes"]["evaluation sample"] = "no model version yet; run `traits train`."
@@ -422,10 +423,10 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
         version, models = load_version(ws)
         results["evaluation_sample"] = evaluate.evaluate_on(models, held_out)
         learned = int(latest["meta"].get("counts", {}).get("gold_sentences", 0))
-        if learned != len(gold) - len(held_out):
+        if learned != len(outside):
             results["notes"]["stale version"] = (
                 f"model version {version} learned from {learned} labeled sentences, but "
-                f"{len(gold) - len(held_out)} are labeled now (outside the evaluation sample); "
+                f"{len(outside)} are labeled now (outside the evaluation sample); "
                 "run `traits train` and evaluate again to score a model that learned from them."
             )
     if latest is not None:
