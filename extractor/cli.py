@@ -452,7 +452,7 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
         pool, test, aliases, strategies=args.strategies.split(","),
         budgets=args.budgets, repeats=args.repeats,
         seed=args.seed, batch_size=args.batch, jobs=args.jobs, model=args.model,
-        candidates=args.candidates or None,
+        subpool=args.subpool or None,
     )
     Path(args.out).write_text(_json.dumps(results, indent=1), encoding="utf-8")
     table = Table(title="Span F1 by strategy and budget (mean over repeats)")
@@ -559,7 +559,7 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--jobs", type=int, default=1, help="runs in parallel (cores)")
     p.add_argument("--model", choices=("traits", "tagger"), default="traits",
                    help="retrain every model (traits) or the tagger alone (faster)")
-    p.add_argument("--candidates", type=int, default=500,
+    p.add_argument("--subpool", type=int, default=500,
                    help="after each retrain, rank a random sub-pool of this many unlabeled "
                    "sentences, as `traits label` does (default 500; 0 = the whole pool)")
     p.add_argument("--lang", default="en", help="language of records that name none")

@@ -124,6 +124,8 @@ class SessionSettings:
             a random sub-pool of 500, `traits simulate` on MAMS (10 repeats) gave span F1
             0.580 / 0.631 / 0.679 at 50 / 100 / 200 labels against 0.573 / 0.623 / 0.671
             for the whole pool of 4,297, and half the spread between repeats at 100.
+            Ranked-batch diversity then counts only the sub-pool's unlabeled sentences in
+            its weight ``|U| / (|U| + |D|)``, exactly as in that simulation.
     """
 
     retrain_every: int = 10
@@ -298,6 +300,7 @@ class Session:
 
         self.model_version = 0
         self._subpool: set[int] | None = None
+        self._pool_vectors: np.ndarray | None = None
         self._predictor = predictor
         self._predictions: dict[int, Prediction] = {}
         self._scores = np.zeros(len(pool))
@@ -465,10 +468,10 @@ class Session:
         if self.strategy.diversity and self._labeled:
             recent = [i for i in self._labeled if i in self._all_pos][-2000:]
             labeled_vectors = self._vector_rows(recent)
-        pool_vectors = (
-            self._vector_rows([int(i) for i in self._pool_ids]) if self.strategy.diversity
-            else None
-        )
+        if self.strategy.diversity and self._pool_vectors is None:
+            # The pool and its sentences' vectors do not change during a session.
+            self._pool_vectors = self._vector_rows([int(i) for i in self._pool_ids])
+        pool_vectors = self._pool_vectors
         picked = select(
             self._scores,
             pool_vectors,

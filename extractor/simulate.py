@@ -18,7 +18,7 @@ Conventions
   record has every figure ``null``.
 * A figure that does not apply is ``null``: ``span_concept_f1`` and ``respondent_f1``
   when the test gold has no concepts, ``stance_accuracy`` when the model gives no stance.
-* ``candidates`` caps how many unlabeled pool sentences are scored after each retrain
+* ``subpool`` caps how many unlabeled pool sentences are scored after each retrain
   (a fresh random sub-pool each time; all of them when ``None``), as the labeling loop's
   ``subpool`` setting does (500 by default; see :class:`extractor.session.SessionSettings`).
 * ``model="traits"`` trains the full :class:`extractor.modeling.TraitModels`;
@@ -197,7 +197,7 @@ class _Task(NamedTuple):
     seed_size: int
     batch_size: int
     retrain_every: int
-    candidates: int | None
+    subpool: int | None
 
 
 def _fit(shared: _Shared, labeled: Sequence[int], cache: dict[int, Any]) -> Any:
@@ -257,7 +257,7 @@ def _run(task: _Task) -> list[dict[str, Any]]:
     scores = np.zeros(0)
     while len(labeled) < min(top, len(shared.pool)):
         if stale:
-            scored, scores = _score_pool(model, shared, labeled, strategy, rng, task.candidates)
+            scored, scores = _score_pool(model, shared, labeled, strategy, rng, task.subpool)
             stale = False
         next_budget = min(b for b in budgets if b > len(labeled))
         want = min(task.batch_size, next_budget - len(labeled))
@@ -284,11 +284,11 @@ def _run(task: _Task) -> list[dict[str, Any]]:
 
 
 def _score_pool(model: Any, shared: _Shared, labeled: Sequence[int], strategy: active.Strategy,
-                rng: random.Random, candidates: int | None) -> tuple[list[int], np.ndarray]:
+                rng: random.Random, subpool: int | None) -> tuple[list[int], np.ndarray]:
     taken = set(labeled)
     unlabeled = [i for i in range(len(shared.pool)) if i not in taken]
-    if candidates is not None and len(unlabeled) > candidates:
-        unlabeled = sorted(rng.sample(unlabeled, candidates))
+    if subpool is not None and len(unlabeled) > subpool:
+        unlabeled = sorted(rng.sample(unlabeled, subpool))
     if strategy.score is active.random_score:
         return unlabeled, np.zeros(len(unlabeled))  # nothing to predict
     preds = model.predict([shared.pool[i][0] for i in unlabeled])
@@ -313,7 +313,7 @@ def simulate(
     retrain_every: int = 10,
     jobs: int = 1,
     seed_size: int = 10,
-    candidates: int | None = None,
+    subpool: int | None = 500,
     model: str = "traits",
     model_params: dict[str, Any] | None = None,
     clusters: dict[str, Any] | None = None,
@@ -333,7 +333,7 @@ def simulate(
         retrain_every: Retrain after this many new labels (and at every budget).
         jobs: Worker processes; above 1, runs go to a ``ProcessPoolExecutor``.
         seed_size: Random sentences labeled before the first query.
-        candidates: Size of the random sub-pool scored after each retrain (None = all).
+        subpool: Size of the random sub-pool scored after each retrain (None = all).
         model: ``"traits"`` (full models) or ``"tagger"`` (tagger alone).
         model_params: Keyword arguments of the model.
         clusters: Word clusters to reuse; learned from pool and test text when None.
@@ -350,8 +350,8 @@ def simulate(
     chosen = [active.get_strategy(n) for n in strategies]
     if model not in MODELS:
         raise InputError(f"The model must be one of {', '.join(MODELS)}; got {model!r}.")
-    if candidates is not None and candidates < 1:
-        raise InputError(f"The sub-pool must hold at least 1 sentence; got {candidates}.")
+    if subpool is not None and subpool < 1:
+        raise InputError(f"The sub-pool must hold at least 1 sentence; got {subpool}.")
     if not budgets or min(budgets) < 0 or repeats < 1 or batch_size < 1 or retrain_every < 1:
         raise InputError(
             "Budgets must be given and not negative, and repeats, batch size and retrain "
@@ -375,7 +375,7 @@ def simulate(
                      vectors, dens, [len(tokenize(s.text, s.lang)) for s, _ in pool_gold])
     tasks = [
         _Task(name, spec, r, tuple(sorted(set(budgets))), seed, seed_size, batch_size,
-              retrain_every, candidates)
+              retrain_every, subpool)
         for r in range(repeats) for name, spec in zip(strategies, chosen, strict=True)
     ]
     results: list[list[dict[str, Any]]] = [[] for _ in tasks]
@@ -394,7 +394,7 @@ def simulate(
     settings = {
         "strategies": list(strategies), "budgets": sorted(set(budgets)), "repeats": repeats,
         "seed": seed, "batch_size": batch_size, "retrain_every": retrain_every,
-        "seed_size": seed_size, "candidates": candidates, "model": model,
+        "seed_size": seed_size, "subpool": subpool, "model": model,
         "model_params": model_params or {}, "pool_size": len(pool_gold),
         "test_size": len(test_gold), "aliases": len(aliases),
         "strategy_settings": {n: _describe(s) for n, s in zip(strategies, chosen, strict=True)},

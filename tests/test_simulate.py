@@ -96,7 +96,7 @@ def test_parallel_runs_equal_serial_runs() -> None:
     [({"strategies": ["loudest"]}, "strategy must be one of"),
      ({"model": "bert"}, "model must be one of"),
      ({"budgets": [-1]}, "Budgets must be given and not negative"),
-     ({"candidates": -1}, "sub-pool must hold at least 1")],
+     ({"subpool": -1}, "sub-pool must hold at least 1")],
     ids=["unknown-strategy", "unknown-model", "negative-budget", "negative-subpool"],
 )
 def test_bad_settings_are_refused(overrides: dict[str, Any], message: str) -> None:

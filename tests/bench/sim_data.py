@@ -17,7 +17,7 @@ writes, in the gold JSON Lines format that ``traits simulate`` and ``traits impo
 Then, for example::
 
     traits simulate --pool OUT/mams_train.jsonl --test OUT/mams_test.jsonl --model tagger \\
-        --candidates 500 --repeats 10 --jobs 2 --out mams.json --plot mams.png
+        --repeats 10 --jobs 2 --out mams.json --plot mams.png
 """
 
 from __future__ import annotations
