@@ -212,7 +212,7 @@ def _metric_summary(metrics: dict[str, Any]) -> str:
             span = span.get("mean")
         if isinstance(span, (int, float)):
             parts.append(f"span F1 {span:.2f} ({tag})")
-    return "; ".join(parts) or "not measured (fewer than 20 labels)"
+    return "; ".join(parts) or "not measured"
 
 
 def cmd_train(args: argparse.Namespace, console: Console) -> int:

@@ -202,6 +202,7 @@ class _Scorer:
                 features = [context_features(s, sp) for s, sp in items]
             ctx = self.context_proba(features)
         out = []
+        col = {c: j for j, c in enumerate(self.concepts)}
         for i, (sentence, span) in enumerate(items):
             exact = self.exact(sentence, span)
             pool = set(exact)
@@ -211,7 +212,6 @@ class _Scorer:
             if ctx is not None:
                 ctx_row = {self.context_classes[j]: float(ctx[i, j]) for j in range(ctx.shape[1])}
                 pool.update(sorted(ctx_row, key=lambda c: -ctx_row[c])[:TOP_K])
-            col = {c: j for j, c in enumerate(self.concepts)}
             out.append(
                 {
                     c: (

@@ -78,6 +78,8 @@ def comparison_references(
         ``((marker_start, marker_end), variety_mention)`` for each marker that has a
         variety within :data:`REFERENCE_REACH` tokens after it.
     """
+    if not varieties:
+        return []  # nothing to compare with: skip tokenizing
     tokens = tokenize(sentence.text, sentence.lang or "xx")
     out = []
     for m_start, m_end in find_comparisons(sentence.text, sentence.lang or "xx", cues):
