@@ -1,5 +1,5 @@
 """``python -m extractor`` runs the ``traits`` command."""
 
-from extractor.cli import main
+from extractor.cli.main import main
 
 raise SystemExit(main())

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from extractor.workspace import Workspace, init_workspace
+from extractor.workspace.folder import Workspace, init_workspace
 
 
 @pytest.fixture

@@ -14,8 +14,8 @@ import time
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-from extractor import store
-from extractor.session import Prediction, Suggestion, TrainingData
+from extractor.workspace import store
+from extractor.loop.session import Prediction, Suggestion, TrainingData
 from extractor.types import Sentence, Span
 
 CONCEPTS = [

@@ -11,16 +11,16 @@ from pathlib import Path
 
 import pytest
 
-from extractor import store
-from extractor.intake import add_files, import_concepts, interview_files
-from extractor.workspace import Workspace
+from extractor.workspace import store
+from extractor.ingest.intake import add_files, import_concepts, interview_files
+from extractor.workspace.folder import Workspace
 
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_interviews"
 
 
 @pytest.fixture(scope="module")
 def demo(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
-    from extractor.workspace import init_workspace
+    from extractor.workspace.folder import init_workspace
 
     root = init_workspace(tmp_path_factory.mktemp("demo"))
     ws = Workspace(root)

@@ -6,7 +6,7 @@ split. Spans are first snapped to spaCy's blank English tokens (as ``traits
 import-labels`` does), so both see identical, token-aligned gold; the few training
 sentences whose aspect terms nest inside one another are left out.
 
-* ours: the tagger alone (:class:`extractor.simulate.TaggerOnly`, no concept list),
+* ours: the tagger alone (:class:`extractor.loop.simulate.TaggerOnly`, no concept list),
   with word clusters learned once from the MAMS sentences' unlabeled text (their cost is
   reported separately: it is paid once per corpus, not per training).
 * spaCy: ``spacy.blank("en")`` + the ``ner`` pipe with its default CPU model,
@@ -31,11 +31,11 @@ from typing import Any
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.clusters import learn_clusters, load_clusters  # noqa: E402
+from extractor.nlp.clusters import learn_clusters, load_clusters  # noqa: E402
 from extractor.errors import InputError  # noqa: E402
-from extractor.evaluate import predicted_mentions, score  # noqa: E402
-from extractor.labels_io import LabelRecord, records_from_dicts, to_gold  # noqa: E402
-from extractor.simulate import TaggerOnly  # noqa: E402
+from extractor.models.metrics import predicted_mentions, score  # noqa: E402
+from extractor.ingest.labels import LabelRecord, records_from_dicts, to_gold  # noqa: E402
+from extractor.loop.simulate import TaggerOnly  # noqa: E402
 from extractor.types import Span  # noqa: E402
 from tests.mams import SKIP_REASON, load_mams  # noqa: E402
 

@@ -24,7 +24,7 @@ sys.path[:0] = [str(ROOT), str(ROOT / "tests")]
 
 from fake_model import FakeModel, build_store  # noqa: E402
 
-from extractor.session import Session, SessionSettings  # noqa: E402
+from extractor.loop.session import Session, SessionSettings  # noqa: E402
 
 SUBJECTS = ["Zamaro Red", "Lintu Yellow", "the climbing one", "this bean", "the new seed",
             "my mother's variety", "the Kalowa type"]

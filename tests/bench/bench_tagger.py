@@ -24,10 +24,10 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.clusters import learn_clusters  # noqa: E402
-from extractor.concepts import load_concept_list  # noqa: E402
-from extractor.dictionary import build_dictionary  # noqa: E402
-from extractor.tagger import fit_tagger, tag_sentences  # noqa: E402
+from extractor.nlp.clusters import learn_clusters  # noqa: E402
+from extractor.ingest.concepts import load_concept_list  # noqa: E402
+from extractor.nlp.dictionary import build_dictionary  # noqa: E402
+from extractor.models.tagger import fit_tagger, tag_sentences  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 
 

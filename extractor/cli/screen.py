@@ -1,0 +1,521 @@
+"""The labeling screen: one sentence at a time, keyboard only, drawn with rich.
+
+The screen reads whole lines, so it works the same in a terminal, from a pipe and in
+tests (an injectable input stream and rich ``Console``). What the annotator can type:
+
+- Enter alone: keep the answer exactly as shown and go on (no spans shown = no trait).
+- some words of the sentence (or ``m words``): mark them as a trait span; if the words
+  occur more than once, the screen asks which; then a concept is chosen by typing a
+  few letters of any label or alias, in any language, and picking a number; then the
+  stance with one key.
+- ``x N`` drop span N, ``c N`` change its concept, ``t N`` change its stance,
+  ``a N`` add span N's words as a new alias of its concept (N may be left out when
+  there is one span).
+- ``n`` no trait here, ``s`` skip, ``u`` undo the last answer, ``q`` save and quit,
+  ``?`` help. End of input behaves like ``q``; Ctrl-C at any prompt also quits, and
+  nothing is lost because every answer is committed the moment it is given.
+
+The screen holds no scores and writes no SQL: it draws what :class:`Session` returns.
+"""
+
+from __future__ import annotations
+
+import sqlite3
+import sys
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any, TextIO
+
+from rich.console import Console
+from rich.markup import escape
+from rich.rule import Rule
+from rich.table import Table
+from rich.text import Text
+
+from extractor.errors import TraitsError
+from extractor.loop.session import (
+    ConceptEntry,
+    ConceptMatch,
+    Item,
+    Predictor,
+    Retrain,
+    Session,
+    SessionSettings,
+    Suggestion,
+    concept_entries,
+    find_phrase,
+    rank_concepts,
+)
+from extractor.types import STANCES, Span
+
+STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
+"""One key per stance."""
+
+STANCE_STYLE = {
+    "liked": "green",
+    "disliked": "red",
+    "wanted": "blue",
+    "neutral": "yellow",
+    None: "magenta",
+}
+
+HELP_LINE = "Enter keep · type words to mark · n no trait · s skip · u undo · q quit · ? more"
+SPAN_HELP_LINE = "x N drop · c N concept · t N stance · a N add words as alias"
+
+HELP_TEXT = """\
+[bold]Enter[/]        keep what is shown and go on (nothing shown = no trait here)
+[bold]words[/]        mark those words of the sentence as a trait (or [bold]m words[/])
+[bold]x N[/]          drop span N
+[bold]c N[/]          choose another concept for span N
+[bold]t N[/]          choose another stance for span N
+[bold]a N[/]          add the words of span N as a new alias of its concept
+[bold]n[/]            no trait here        [bold]s[/]  skip (not asked again)
+[bold]u[/]            undo your last answer and see it again
+[bold]q[/]            save and quit (everything you confirmed is already saved)
+Concepts: type a few letters of any name in any language, then the number shown.
+Stance: l liked · d disliked · w wanted · n neutral."""
+
+Quality = Callable[[], Mapping[str, float] | None]
+"""Returns estimated quality on the evaluation sample (e.g. ``{"f1": 0.61, "n": 40}``)."""
+
+_METADATA_ORDER = ("role", "gender", "age", "district", "region", "village", "group")
+
+
+class _Quit(Exception):
+    """The annotator asked to stop (``q``, end of input)."""
+
+
+class LabelScreen:
+    """The interactive loop over a :class:`Session`; it keeps the current draft."""
+
+    def __init__(
+        self,
+        session: Session,
+        *,
+        console: Console,
+        read_line: Callable[[str], str | None],
+        entries: Sequence[ConceptEntry],
+        quality: Quality | None = None,
+    ) -> None:
+        self.session = session
+        self.console = console
+        self._read = read_line
+        self.entries = list(entries)
+        self._quality = quality
+        self._quality_cache: tuple[int, Mapping[str, float] | None] | None = None
+        self._message = ""
+
+    # ----------------------------------------------------------------- prompts
+
+    def ask(self, prompt: str) -> str:
+        """Read one line; end of input quits."""
+        line = self._read(prompt)
+        if line is None:
+            raise _Quit
+        return line.strip()
+
+    def say(self, message: str) -> None:
+        """Show a one-line message under the sentence on the next redraw."""
+        self._message = message
+
+    # ----------------------------------------------------------------- drawing
+
+    def _quality_figures(self) -> Mapping[str, float] | None:
+        if self._quality is None:
+            return None
+        version = self.session.model_version
+        if self._quality_cache is None or self._quality_cache[0] != version:
+            self._quality_cache = (version, self._quality())
+        return self._quality_cache[1]
+
+    def _status(self) -> Text:
+        s = self.session
+        parts = [f"{s.labeled_this_session} labeled now", f"{s.total_labels} in total"]
+        parts.append(f"model {s.model_version}" if s.model_version else "no model yet")
+        if s.retraining:
+            parts.append("retraining…")
+        return Text(" · ".join(parts), style="dim")
+
+    def _progress(self) -> Text | None:
+        s = self.session
+        bits = []
+        figures = self._quality_figures()
+        if figures:
+            shown = " ".join(
+                f"{k} {v:.2f}" if isinstance(v, float) else f"{k} {v}" for k, v in figures.items()
+            )
+            bits.append(f"estimated quality on the evaluation sample: {shown}")
+        if s.kappas:
+            last = " ".join(f"{k:.3f}" for k in s.kappas[-s.settings.kappa_rounds :])
+            bits.append(f"model agreement κ {last}")
+        if s.last_error:
+            bits.append(f"retraining failed ({s.last_error}); the previous model stays")
+        if not bits and not s.stop_signal:
+            return None
+        text = Text(" · ".join(bits), style="dim")
+        if s.stop_signal:
+            text.append("\nFurther labels are changing little: this is a good moment to stop.",
+                        style="bold green")
+        return text
+
+    def _context(self, item: Item) -> Table:
+        ctx = item.context
+        grid = Table.grid(padding=(0, 1))
+        grid.add_column(style="dim", no_wrap=True)
+        grid.add_column()
+        if ctx.get("question"):
+            grid.add_row("asked", Text(str(ctx["question"]), style="italic"))
+        if ctx.get("previous"):
+            grid.add_row("before", Text(str(ctx["previous"]), style="dim"))
+        meta = dict(ctx.get("metadata") or {})
+        ordered = [k for k in _METADATA_ORDER if k in meta] + sorted(
+            k for k in meta if k not in _METADATA_ORDER
+        )
+        who = [str(ctx.get("respondent") or "")] + [f"{k} {meta[k]}" for k in ordered]
+        if ctx.get("is_group"):
+            who.append("group interview")
+        if ctx.get("variety"):
+            who.append(f"variety {ctx['variety']}")
+        grid.add_row("who", Text(" · ".join(w for w in who if w)))
+        if item.in_evaluation:
+            grid.add_row("", Text("evaluation sample", style="cyan"))
+        return grid
+
+    def _sentence(self, item: Item, draft: Sequence[Span]) -> Text:
+        text = Text(item.sentence.text, style="bold")
+        for span in draft:
+            text.stylize(f"underline {STANCE_STYLE.get(span.stance, 'magenta')}",
+                         span.start, span.end)
+        # Numbers after each span, inserted from the end so offsets stay valid.
+        for n, span in sorted(enumerate(draft, 1), key=lambda p: -p[1].end):
+            text = text[: span.end] + Text(f"[{n}]", style="dim") + text[span.end :]
+        return text
+
+    def _label_of(self, concept: str | None, lang: str) -> str:
+        if concept is None:
+            return "no concept"
+        own = {e.lang: e.text for e in reversed(self.entries)
+               if e.concept == concept and e.preferred}
+        label = own.get(lang) or own.get("en") or next(iter(own.values()), "")
+        return f"{concept} {label}".strip()
+
+    def _confidence(self, item: Item, span: Span) -> str:
+        if item.origin != "model" or item.prediction is None:
+            return ""
+        for s in item.prediction.suggestions:
+            if (s.span.start, s.span.end) == (span.start, span.end):
+                return _confidence_text(s, span)
+        return ""
+
+    def draw(self, item: Item, draft: Sequence[Span]) -> None:
+        """Draw the sentence in its context, the draft answer, progress and help."""
+        c = self.console
+        if c.is_terminal:
+            c.clear()
+        c.print(Rule(self._status(), style="dim"))
+        c.print(self._context(item))
+        c.print()
+        c.print(self._sentence(item, draft))
+        if draft:
+            spans = Table.grid(padding=(0, 2))
+            for _ in range(5):
+                spans.add_column()
+            for n, span in enumerate(draft, 1):
+                spans.add_row(
+                    f"[{n}]",
+                    escape(item.sentence.text[span.start : span.end]),
+                    escape(self._label_of(span.concept, item.sentence.lang)),
+                    Text(span.stance or "no stance", style=STANCE_STYLE.get(span.stance, "")),
+                    self._confidence(item, span),
+                )
+            c.print(spans)
+        else:
+            c.print(Text("no trait here", style="dim italic"))
+        if tuple(draft) != item.suggestion:
+            origin = "edited"
+        else:
+            origin = {"model": "suggested by the model", "previous": "your earlier answer",
+                      "none": "nothing suggested"}[item.origin]
+        c.print(Text(f"({origin}; Enter saves what is shown)", style="dim"))
+        progress = self._progress()
+        if progress is not None:
+            c.print(progress)
+        if self._message:
+            c.print(Text(self._message, style="yellow"))
+            self._message = ""
+        if draft:
+            c.print(Text(SPAN_HELP_LINE, style="dim"))
+        c.print(Text(HELP_LINE, style="dim"))
+
+    # ----------------------------------------------------------------- choosing
+
+    def choose_occurrence(self, text: str, found: Sequence[tuple[int, int]]) -> tuple[int, int]:
+        """Ask which occurrence of the typed words is meant (when there are several)."""
+        if len(found) == 1:
+            return found[0]
+        self.console.print(f"Those words occur {len(found)} times:")
+        for n, (start, end) in enumerate(found, 1):
+            line = Text(f"  {n}  …{text[max(0, start - 25):start]}")
+            line.append(text[start:end], style="bold underline")
+            line.append(f"{text[end:end + 25]}…")
+            self.console.print(line)
+        while True:
+            answer = self.ask(f"which one (1-{len(found)})? ")
+            if answer.isdigit() and 1 <= int(answer) <= len(found):
+                return found[int(answer) - 1]
+            self.console.print(f"Type a number from 1 to {len(found)}.")
+
+    def choose_concept(self, words: str, current: str | None, lang: str) -> str | None:
+        """Ranked completion over every label and alias; returns a concept ID or None."""
+        matches: list[ConceptMatch] = rank_concepts(words, self.entries, lang=lang)
+        default = current if current is not None else (matches[0].concept if matches else None)
+        while True:
+            self._show_matches(matches)
+            answer = self.ask(
+                f"concept — letters to search, number to pick, - for none "
+                f"(Enter: {default or 'none'}): "
+            )
+            if answer == "":
+                return default
+            if answer == "-":
+                return None
+            if answer.isdigit():
+                if 1 <= int(answer) <= len(matches):
+                    return matches[int(answer) - 1].concept
+                self.console.print(f"There is no match number {answer}.")
+                continue
+            matches = rank_concepts(answer, self.entries, lang=lang)
+            if not matches:
+                self.console.print(f"No concept has a name like {answer!r}; try other letters.")
+
+    def _show_matches(self, matches: Sequence[ConceptMatch]) -> None:
+        for n, m in enumerate(matches, 1):
+            line = Text(f"  {n}  {m.concept}  {m.label}")
+            if m.matched != m.label:
+                line.append(f"  ({m.matched}, {m.lang})", style="dim")
+            self.console.print(line)
+
+    def choose_stance(self, current: str | None) -> str:
+        """One key per stance; Enter keeps the current one (neutral for a new span)."""
+        default = current or "neutral"
+        keys = " · ".join(f"{k} {v}" for k, v in STANCE_KEYS.items())
+        while True:
+            answer = self.ask(f"stance — {keys} (Enter: {default}): ").lower()
+            if answer == "":
+                return default
+            if answer in STANCE_KEYS:
+                return STANCE_KEYS[answer]
+            if answer in STANCES:
+                return answer
+            self.console.print("Press l, d, w or n.")
+
+    # ----------------------------------------------------------------- editing
+
+    def _span_number(self, arg: str, draft: Sequence[Span]) -> int | None:
+        if arg == "" and len(draft) == 1:
+            return 0
+        if arg.isdigit() and 1 <= int(arg) <= len(draft):
+            return int(arg) - 1
+        self.say(f"Give a span number from 1 to {len(draft)}." if draft else "No span to change.")
+        return None
+
+    def mark(self, item: Item, words: str, draft: list[Span]) -> None:
+        """Mark typed words as a new span, then ask its concept and stance."""
+        text = item.sentence.text
+        found = find_phrase(text, words, item.sentence.lang)
+        if not found:
+            self.say(f"{words!r} is not in this sentence; type words exactly as they appear.")
+            return
+        start, end = self.choose_occurrence(text, found)
+        for n, other in enumerate(draft, 1):
+            if start < other.end and other.start < end:
+                self.say(f"That overlaps span {n}; drop it first with x {n}.")
+                return
+        concept = self.choose_concept(text[start:end], None, item.sentence.lang)
+        stance = self.choose_stance(None)
+        draft.append(Span(start, end, concept, stance))
+        draft.sort()
+
+    def add_alias(self, item: Item, span: Span) -> None:
+        """Add the span's words as an alias of its concept."""
+        try:
+            added = self.session.add_alias(item.sentence.id, span)
+        except TraitsError as exc:
+            self.say(str(exc))
+            return
+        words = item.sentence.text[span.start : span.end]
+        if added and span.concept is not None:
+            self.entries.append(ConceptEntry(span.concept, words, item.sentence.lang, False))
+            self.say(f"Added {words!r} as an alias of {span.concept}.")
+        else:
+            self.say(f"{words!r} is already an alias of {span.concept}.")
+
+    def handle(self, item: Item, line: str, draft: list[Span]) -> bool:
+        """Apply one typed line to the draft; return True when the sentence is done."""
+        sid = item.sentence.id
+        command, _, arg = line.partition(" ")
+        arg = arg.strip()
+        if line == "":
+            self.session.submit(sid, draft)
+            return True
+        if line == "q":
+            raise _Quit
+        if line == "n":
+            self.session.submit(sid, [])
+            return True
+        if line == "s":
+            self.session.skip(sid)
+            return True
+        if line == "u":
+            if self.session.undo() is None:
+                self.say("There is no answer of yours to undo.")
+                return False
+            self.session.defer(sid)  # the current sentence comes right after the undone one
+            self.say("Your last answer was withdrawn; here it is again.")
+            return True
+        if line == "?":
+            self.console.print(HELP_TEXT)
+            self.ask("Enter to go back ")
+            return False
+        if command in ("x", "c", "t", "a") and (arg == "" or arg.isdigit()):
+            k = self._span_number(arg, draft)
+            if k is None:
+                return False
+            span = draft[k]
+            if command == "x":
+                del draft[k]
+            elif command == "c":
+                words = item.sentence.text[span.start : span.end]
+                concept = self.choose_concept(words, span.concept, item.sentence.lang)
+                draft[k] = span._replace(concept=concept)
+            elif command == "t":
+                draft[k] = span._replace(stance=self.choose_stance(span.stance))
+            else:
+                self.add_alias(item, span)
+            return False
+        words = arg if command == "m" and arg else line
+        self.mark(item, words, draft)
+        return False
+
+    def loop(self) -> None:
+        """Show sentences until nothing is left or the annotator quits."""
+        while True:
+            item = self.session.next()
+            if item is None:
+                self.console.print("Nothing left to ask: every sentence is labeled or skipped.")
+                return
+            draft = list(item.suggestion)
+            done = False
+            while not done:
+                self.draw(item, draft)
+                line = self.ask("› ")
+                try:
+                    done = self.handle(item, line, draft)
+                except _Quit:
+                    raise
+                except TraitsError as exc:
+                    self.say(str(exc))
+
+
+def _confidence_text(suggestion: Suggestion, span: Span) -> str:
+    """The model's probabilities for the span as now drafted (the annotator may have edited)."""
+    parts = []
+    if suggestion.confidence is not None:
+        parts.append(f"span {suggestion.confidence:.2f}")
+    concept = span.concept
+    if suggestion.concept_probs and concept is not None and concept in suggestion.concept_probs:
+        parts.append(f"concept {suggestion.concept_probs[concept]:.2f}")
+    stance = span.stance
+    if suggestion.stance_probs and stance is not None and stance in suggestion.stance_probs:
+        parts.append(f"stance {suggestion.stance_probs[stance]:.2f}")
+    return " ".join(parts)
+
+
+def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str | None]:
+    """Return a function that shows a prompt and reads one line (None at end of input)."""
+    if stream is None and console.is_terminal and sys.stdin.isatty():
+
+        def read_terminal(prompt: str) -> str | None:
+            try:
+                return console.input(Text(prompt))
+            except EOFError:
+                return None
+
+        return read_terminal
+    source = stream if stream is not None else sys.stdin
+
+    def read_stream(prompt: str) -> str | None:
+        console.print(Text(prompt), end="")
+        line = source.readline()
+        if line == "":
+            return None
+        if not console.is_terminal:
+            console.print(escape(line.rstrip("\n")))
+        return line.rstrip("\r\n")
+
+    return read_stream
+
+
+def run_console(
+    conn: sqlite3.Connection,
+    *,
+    annotator: str,
+    batch_size: int = 10,
+    strategy: str = "default",
+    model_provider: Predictor | None = None,
+    retrain: Retrain | None = None,
+    console: Console | None = None,
+    input_stream: TextIO | None = None,
+    settings: SessionSettings | None = None,
+    quality: Quality | None = None,
+) -> dict[str, Any]:
+    """Run a labeling session in the terminal (or over a pipe) and return its summary.
+
+    Args:
+        conn: the workspace store.
+        annotator: name stored with every label.
+        batch_size: sentences picked together by the strategy.
+        strategy: a name from :data:`extractor.loop.strategies.STRATEGIES`.
+        model_provider: the current model's predictor, or None before any model.
+        retrain: fits a new model in the background every few labels (see
+            :data:`extractor.loop.session.Retrain`).
+        console: where to draw; a new rich Console on standard output by default.
+        input_stream: where to read lines; standard input by default.
+        settings: session settings.
+        quality: returns estimated quality on the evaluation sample, if known.
+
+    Returns:
+        The session summary: labeled, skipped, undone, total_labels, model_version,
+        kappas, stop_signal, annotator, strategy.
+
+    Raises:
+        TraitsError: the session cannot start (unknown strategy, empty annotator...).
+    """
+    console = console or Console()
+    session = Session(
+        conn,
+        annotator=annotator,
+        strategy=strategy,
+        batch_size=batch_size,
+        predictor=model_provider,
+        retrain=retrain,
+        settings=settings,
+    )
+    screen = LabelScreen(
+        session,
+        console=console,
+        read_line=_line_reader(console, input_stream),
+        entries=concept_entries(conn),
+        quality=quality,
+    )
+    try:
+        screen.loop()
+    except _Quit:
+        pass
+    except KeyboardInterrupt:
+        console.print()
+    summary = session.quit()
+    console.print(
+        f"Saved: {summary['labeled']} labels this session, {summary['total_labels']} in total"
+        f", {summary['skipped']} skipped."
+    )
+    return summary

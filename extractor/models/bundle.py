@@ -1,0 +1,274 @@
+"""The trained models of one version, together: dictionary, clusters, tagger, linker, stance.
+
+:class:`TraitModels` trains them from the analyst's labels and the workspace's text,
+predicts every mention of a sentence (span, concept, stance, confidences), and saves
+and loads a model version folder without pickle:
+
+``tagger.crfsuite`` + ``tagger.json`` (CRFsuite's own format), ``clusters.json`` +
+``vectors.npy``, ``linker/`` and ``stance/`` (skops + JSON), ``aliases.json`` and
+``meta.json``.
+"""
+
+from __future__ import annotations
+
+import json
+import platform
+from collections.abc import Sequence
+from datetime import UTC, datetime
+from importlib.metadata import PackageNotFoundError, version
+from pathlib import Path
+from typing import Any, NamedTuple
+
+from extractor.nlp.clusters import learn_clusters, load_clusters, save_clusters
+from extractor.nlp.dictionary import Dictionary, build_dictionary
+from extractor.errors import ModelError, NotFittedError
+from extractor.models.linking import ConceptLinker
+from extractor.models.stance import StanceModel
+from extractor.models.tagger import TagResult, TraitTagger, fit_tagger, tag_sentences
+from extractor.types import STANCES, Sentence, Span
+
+Alias = tuple[str, str, str]
+"""(concept_id, alias text, language)."""
+
+META_FILE = "meta.json"
+ALIASES_FILE = "aliases.json"
+STANCE_PRIOR = 50
+"""Labeled stances at which the learned stance model and the cue rules weigh the same."""
+LIBRARIES = ("trait-extractor", "python-crfsuite", "scikit-learn", "spacy", "skops", "numpy")
+
+
+class Mention(NamedTuple):
+    """A predicted mention of a sentence, with every confidence the models give."""
+
+    start: int
+    end: int
+    confidence: float
+    concept: str | None
+    link_prob: float
+    stance: str
+    stance_prob: float
+    concept_probs: dict[str, float] | None = None
+    stance_probs: dict[str, float] | None = None
+
+
+class SentencePrediction(NamedTuple):
+    """Everything the models say about one sentence."""
+
+    mentions: list[Mention]
+    tagged: TagResult
+
+
+def library_versions() -> dict[str, str]:
+    """Return the versions of the libraries a model version depends on."""
+    found = {"python": platform.python_version()}
+    for name in LIBRARIES:
+        try:
+            found[name] = version(name)
+        except PackageNotFoundError:
+            found[name] = "not installed"
+    return found
+
+
+def span_confidence(tagged: TagResult, span: Span) -> float:
+    """Return the tagger's confidence in a span: the lowest marginal of its tokens' tags."""
+    probs = [
+        marginal.get(tag, 0.0)
+        for (s, e), tag, marginal in zip(tagged.token_offsets, tagged.tags, tagged.marginals,
+                                         strict=True)
+        if s < span.end and e > span.start
+    ]
+    return min(probs) if probs else 0.0
+
+
+class TraitModels:
+    """The models of one version; build with :meth:`train` or :meth:`load`.
+
+    Args:
+        tagger_params: Keyword arguments of :func:`extractor.models.tagger.fit_tagger`.
+        link_threshold: Link probability below which a mention stays unlinked.
+        seed: Random seed of the word clusters.
+    """
+
+    def __init__(
+        self,
+        *,
+        tagger_params: dict[str, Any] | None = None,
+        link_threshold: float = 0.25,
+        seed: int = 0,
+    ) -> None:
+        self.tagger_params = tagger_params or {}
+        self.link_threshold = link_threshold
+        self.seed = seed
+
+    # ------------------------------------------------------------------ training
+
+    def fit(
+        self,
+        gold: Sequence[tuple[Sentence, Sequence[Span]]],
+        corpus: Sequence[Sentence],
+        aliases: Sequence[Alias],
+        *,
+        clusters: dict[str, Any] | None = None,
+        held_out: frozenset[int] = frozenset(),
+    ) -> TraitModels:
+        """Train every model.
+
+        Args:
+            gold: Labeled sentences with their spans (concept and stance optional).
+            corpus: Every sentence of the workspace: unlabeled text for the clusters and
+                the silver (dictionary-labeled) training sentences.
+            aliases: The concept list's aliases.
+            clusters: Word clusters to reuse (when the corpus has not changed).
+            held_out: IDs of sentences kept out of training entirely (the labeled part of
+                the evaluation sample), not even as silver sentences.
+        """
+        if not gold and not aliases:
+            raise ModelError(
+                "There is nothing to train on: import a concept list with "
+                "`traits concepts import FILE` or label sentences with `traits label`."
+            )
+        self.aliases_ = list(aliases)
+        self.dictionary_: Dictionary | None = build_dictionary(aliases) if aliases else None
+        self.clusters_ = clusters or learn_clusters(
+            [(s.text, s.lang) for s in corpus], seed=self.seed
+        )
+        labeled = {s.id for s, _ in gold} | held_out
+        silver = [s for s in corpus if s.id not in labeled]
+        self.tagger_ = fit_tagger(gold, silver, self.dictionary_, self.clusters_,
+                                  **self.tagger_params)
+        link_examples = [(s, sp, sp.concept) for s, spans in gold for sp in spans if sp.concept]
+        if self.dictionary_ is not None:
+            for sentence, matches in zip(silver, self.dictionary_.match_many(silver), strict=True):
+                link_examples += [(sentence, m, m.concept) for m in matches if m.concept]
+        self.linker_ = ConceptLinker(threshold=self.link_threshold).fit(link_examples, aliases)
+        stance_examples = [(s, sp, sp.stance) for s, spans in gold for sp in spans if sp.stance]
+        self.stance_ = StanceModel()
+        if len({label for _, _, label in stance_examples}) >= 2:
+            self.stance_.fit(stance_examples)
+        self.counts_ = {
+            "gold_sentences": len(gold),
+            "gold_spans": sum(len(spans) for _, spans in gold),
+            "silver_sentences": len(silver),
+            "link_examples": len(link_examples),
+            "stance_examples": len(stance_examples),
+            "aliases": len(aliases),
+        }
+        return self
+
+    def _check(self) -> None:
+        if not hasattr(self, "tagger_"):
+            raise NotFittedError("The models are not trained yet; call fit() or load() first.")
+
+    # ------------------------------------------------------------------ prediction
+
+    def predict(
+        self,
+        sentences: Sequence[Sentence],
+        gold_concepts: dict[int, dict[tuple[int, int], str]] | None = None,
+    ) -> list[SentencePrediction]:
+        """Find, link and judge every mention of the sentences.
+
+        Args:
+            sentences: Sentences to read.
+            gold_concepts: Optional per sentence ID, concepts a person gave to spans; they
+                always win over the linker.
+        """
+        self._check()
+        tagged = tag_sentences(self.tagger_, sentences, self.dictionary_, self.clusters_)
+        items = [(s, span) for s, result in zip(sentences, tagged, strict=True)
+                 for span in result.spans]
+        given = [
+            (gold_concepts or {}).get(s.id, {}).get((span.start, span.end)) for s, span in items
+        ]
+        links = self.linker_.link_many(items, given) if items else []
+        stance_probs = self._stance_proba(items)
+        out = []
+        k = 0
+        for result in tagged:
+            mentions = []
+            for span in result.spans:
+                link, probs = links[k], stance_probs[k]
+                k += 1
+                best = int(probs.argmax())
+                mentions.append(
+                    Mention(span.start, span.end, span_confidence(result, span), link.concept,
+                            float(link.probability), STANCES[best], float(probs[best]),
+                            dict(link.candidates),
+                            {stance: float(p) for stance, p in zip(STANCES, probs, strict=True)})
+                )
+            out.append(SentencePrediction(mentions, result))
+        return out
+
+    def _stance_proba(self, items: Sequence[tuple[Sentence, Span]]) -> Any:
+        """Blend the learned stance model with the cue rules by how much it has learned from.
+
+        With n labeled stances the model gets weight n / (n + STANCE_PRIOR): a dozen
+        labels cannot overrule the cue lexicon, a few hundred mostly do.
+        """
+        if not items:
+            return []
+        n = self.counts_.get("stance_examples", 0)
+        return self.stance_.predict_proba_blend(items, n / (n + STANCE_PRIOR))
+
+    # ------------------------------------------------------------------ persistence
+
+    def meta(self) -> dict[str, Any]:
+        """Return what ``meta.json`` records about this version."""
+        self._check()
+        return {
+            "created_at": datetime.now(UTC).isoformat(timespec="seconds"),
+            "counts": self.counts_,
+            "parameters": {
+                "tagger": self.tagger_.get_params() | {
+                    k: v for k, v in self.tagger_params.items()
+                    if k in ("gold_weight", "silver_filter", "silver_threshold")
+                },
+                "link_threshold": self.link_threshold,
+                "seed": self.seed,
+            },
+            "libraries": library_versions(),
+            "clusters_fingerprint": self.clusters_.get("fingerprint"),
+        }
+
+    def save(self, folder: Path, extra_meta: dict[str, Any] | None = None) -> dict[str, Any]:
+        """Write the version folder and return its meta."""
+        self._check()
+        folder.mkdir(parents=True, exist_ok=True)
+        self.tagger_.save(folder)
+        save_clusters(self.clusters_, folder)
+        self.linker_.save(folder / "linker")
+        self.stance_.save(folder / "stance")
+        (folder / ALIASES_FILE).write_text(
+            json.dumps([list(a) for a in self.aliases_], ensure_ascii=False), encoding="utf-8"
+        )
+        meta = self.meta() | (extra_meta or {})
+        (folder / META_FILE).write_text(json.dumps(meta, indent=2, ensure_ascii=False),
+                                        encoding="utf-8")
+        return meta
+
+    @classmethod
+    def load(cls, folder: Path) -> TraitModels:
+        """Read a version folder written by :meth:`save`.
+
+        Raises:
+            ModelError: a file is missing, corrupt or foreign.
+        """
+        try:
+            meta = json.loads((folder / META_FILE).read_text(encoding="utf-8"))
+            aliases = [tuple(a) for a in json.loads((folder / ALIASES_FILE).read_text("utf-8"))]
+        except (OSError, ValueError, TypeError) as exc:
+            raise ModelError(
+                f"{folder} is not a readable model version ({exc}); retrain with `traits train`."
+            ) from exc
+        params = meta.get("parameters", {})
+        models = cls(link_threshold=params.get("link_threshold", 0.25),
+                     seed=params.get("seed", 0))
+        models.aliases_ = aliases  # type: ignore[assignment]
+        models.dictionary_ = build_dictionary(aliases) if aliases else None  # type: ignore[arg-type]
+        models.clusters_ = load_clusters(folder)
+        models.tagger_ = TraitTagger.load(folder)
+        models.tagger_.clusters_fingerprint_ = models.clusters_.get("fingerprint")
+        models.linker_ = ConceptLinker.load(folder / "linker")
+        models.stance_ = StanceModel.load(folder / "stance")
+        models.counts_ = meta.get("counts", {})
+        return models

@@ -1,0 +1,185 @@
+"""Which variety a trait mention is about, and the reference variety of a comparison.
+
+Variety names are found with the same alias matcher as trait concepts
+(:mod:`extractor.nlp.dictionary`), over the variety list's names and spellings. A trait
+mention is attributed to, in order:
+
+1. a variety right after it joined by "of"/"de"/"del"... ("the taste of Kivuli");
+2. the nearest variety mentioned before it in the same answer (earlier in its
+   sentence, else the last one in an earlier sentence), skipping varieties that were
+   only the reference of a comparison;
+3. the answer's variety column;
+4. the first variety named in the question.
+
+A comparison ("bigger than the old Mbegu", "plus rapide que Kivuli", "más grande que
+el Mbegu", "compared to Mbegu, ...") also records the reference variety: the one
+right after the comparison marker (:func:`extractor.models.stance.find_comparisons`).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from typing import Protocol, runtime_checkable
+
+from extractor.nlp.dictionary import build_dictionary, normalize_form
+from extractor.models.stance import Cues, find_comparisons
+from extractor.nlp.text import tokenize
+from extractor.types import Sentence, Span
+
+VarietyMention = tuple[int, int, str]
+"""(start, end, variety_id) in character offsets of a sentence."""
+
+POSSESSIVE_LINKS = frozenset({"of", "de", "del", "du", "des", "d'", "da", "do", "von"})
+"""Words joining a trait to the variety that owns it ("the taste of Kivuli")."""
+
+REFERENCE_REACH = 4
+"""Tokens after a comparison marker within which a variety is its reference."""
+
+
+@runtime_checkable
+class _Matcher(Protocol):
+    def match(self, text: str, lang: str) -> list[Span]: ...
+
+
+def find_varieties(
+    text: str, lang: str, variety_dictionary: _Matcher | Iterable[tuple[str, str, str]]
+) -> list[VarietyMention]:
+    """Return the variety names in ``text`` as ``(start, end, variety_id)``.
+
+    Args:
+        text: One sentence.
+        lang: Its language tag.
+        variety_dictionary: A :class:`extractor.nlp.dictionary.Dictionary` built from the
+            variety list (fast; build it once), or the ``(variety_id, name, lang)``
+            triples themselves.
+
+    Returns:
+        Non-overlapping matches in order.
+    """
+    matcher = (
+        variety_dictionary
+        if isinstance(variety_dictionary, _Matcher)
+        else build_dictionary(variety_dictionary)
+    )
+    return [(s.start, s.end, str(s.concept)) for s in matcher.match(text, lang) if s.concept]
+
+
+def comparison_references(
+    sentence: Sentence, varieties: Sequence[VarietyMention], cues: Cues | None = None
+) -> list[tuple[tuple[int, int], VarietyMention]]:
+    """Return each comparison marker of the sentence with its reference variety.
+
+    Args:
+        sentence: The sentence.
+        varieties: Its variety mentions (from :func:`find_varieties`).
+        cues: A cue lexicon (the packaged one when ``None``).
+
+    Returns:
+        ``((marker_start, marker_end), variety_mention)`` for each marker that has a
+        variety within :data:`REFERENCE_REACH` tokens after it.
+    """
+    if not varieties:
+        return []  # nothing to compare with: skip tokenizing
+    tokens = tokenize(sentence.text, sentence.lang or "xx")
+    out = []
+    for m_start, m_end in find_comparisons(sentence.text, sentence.lang or "xx", cues):
+        after = [v for v in varieties if v[0] >= m_end]
+        if not after:
+            continue
+        gap = sum(1 for s, _ in tokens if m_end <= s < after[0][0])
+        if gap <= REFERENCE_REACH:
+            out.append(((m_start, m_end), after[0]))
+    return out
+
+
+def attribute_variety(
+    sentences_of_answer: Sequence[Sentence],
+    mentions: Sequence[tuple[int, Span]],
+    variety_mentions_per_sentence: Sequence[Sequence[VarietyMention]],
+    answer_variety: str | None,
+    question_varieties: Sequence[str],
+    *,
+    cues: Cues | None = None,
+) -> list[tuple[str | None, str | None]]:
+    """Return the subject variety and the reference variety of each trait mention.
+
+    Args:
+        sentences_of_answer: The sentences of one answer, in order.
+        mentions: ``(sentence_index, span)`` of each trait mention.
+        variety_mentions_per_sentence: Variety mentions of each sentence, in order.
+        answer_variety: The variety column of the answer's row, if any.
+        question_varieties: Varieties named in the question, in order.
+        cues: A cue lexicon for comparison markers (the packaged one when ``None``).
+
+    Returns:
+        ``(variety_id or None, reference_variety_id or None)`` per mention; the
+        reference is set only when the mention's sentence compares it.
+    """
+    refs = [
+        comparison_references(s, v, cues)
+        for s, v in zip(sentences_of_answer, variety_mentions_per_sentence, strict=True)
+    ]
+    ref_mentions = [{r for _, r in sentence_refs} for sentence_refs in refs]
+    out = []
+    for index, span in mentions:
+        sentence = sentences_of_answer[index]
+        reference = _reference(span, refs[index])
+        banned = {reference[2]} if reference else set()
+        subject = (
+            _owner(sentence, span, variety_mentions_per_sentence[index])
+            or _preceding(index, span, variety_mentions_per_sentence, ref_mentions, banned)
+            or next((v for v in [answer_variety] if v and v not in banned), None)
+            or next((v for v in question_varieties if v not in banned), None)
+        )
+        out.append((subject, reference[2] if reference else None))
+    return out
+
+
+def _reference(
+    span: Span, refs: Sequence[tuple[tuple[int, int], VarietyMention]]
+) -> VarietyMention | None:
+    """Return the reference of the comparison the span belongs to, if any.
+
+    The nearest marker after the span wins ("bigger than X"); else a marker before
+    the span whose reference also lies before it ("compared to X, it cooks faster").
+    """
+    after = [r for (m_start, _), r in refs if m_start >= span.end]
+    if after:
+        return after[0]
+    before = [r for (_, m_end), r in refs if m_end <= span.start and r[1] <= span.start]
+    return before[-1] if before else None
+
+
+def _owner(sentence: Sentence, span: Span, varieties: Sequence[VarietyMention]) -> str | None:
+    """Return a variety joined to the span by a possessive word ("taste of Kivuli")."""
+    following = [v for v in varieties if v[0] >= span.end]
+    if not following:
+        return None
+    between = sentence.text[span.end : following[0][0]]
+    words = [normalize_form(between[s:e]) for s, e in tokenize(between, sentence.lang or "xx")]
+    # Allow an article after the link: "the taste of the Kivuli", "le goût de la Kivuli".
+    if 1 <= len(words) <= 2 and words[0] in POSSESSIVE_LINKS:
+        return following[0][2]
+    return None
+
+
+def _preceding(
+    index: int,
+    span: Span,
+    per_sentence: Sequence[Sequence[VarietyMention]],
+    ref_mentions: Sequence[set[VarietyMention]],
+    banned: set[str],
+) -> str | None:
+    """Return the nearest variety before the span, skipping mere comparison references."""
+    same = [
+        v
+        for v in per_sentence[index]
+        if v[1] <= span.start and v not in ref_mentions[index] and v[2] not in banned
+    ]
+    if same:
+        return same[-1][2]
+    for k in range(index - 1, -1, -1):
+        earlier = [v for v in per_sentence[k] if v not in ref_mentions[k] and v[2] not in banned]
+        if earlier:
+            return earlier[-1][2]
+    return None

@@ -1,0 +1,254 @@
+"""Dictionary matching of concept aliases in sentences, giving silver trait spans.
+
+Matching runs spaCy's :class:`~spacy.matcher.PhraseMatcher` over a *key* form of each
+token rather than its text: lower-cased (``casefold``), stemmed with the Snowball
+stemmer of a language, then stripped of accents (NFKD, combining marks removed). So
+"Cooking", "cooked" and "cooks" all match the alias "cook", and "épaisseur" matches
+"epaisseur". Languages without a Snowball stemmer match on the unstemmed key.
+
+Code-switching (a Spanish trait word inside an English answer) is common in
+interviews, so every alias is matched in every sentence, whatever its language:
+
+* all aliases are keyed with the stemmer of the *sentence's* language, and
+* aliases of another language are also keyed with *their own* stemmer and matched
+  against the sentence's tokens keyed with that stemmer, so an inflected foreign
+  word ("colores" against the Spanish alias "color") still matches.
+
+Among overlapping matches the longest wins; between equally long ones, the alias in
+the sentence's language wins, then the earlier one. Matches never overlap. When one
+alias form belongs to several concepts, the concept with an alias in the sentence's
+language wins, then the one whose alias has exactly the written (unstemmed) form,
+then the smallest concept ID, so results never depend on input order.
+"""
+
+from __future__ import annotations
+
+import unicodedata
+from collections.abc import Iterable, Sequence
+from functools import cache, lru_cache
+from typing import NamedTuple
+
+import snowballstemmer
+from spacy.matcher import PhraseMatcher
+from spacy.tokens import Doc
+from spacy.vocab import Vocab
+
+from extractor.errors import InputError
+from extractor.nlp.text import primary_subtag, tokenize
+from extractor.types import Sentence, Span
+
+SNOWBALL_LANGUAGES: dict[str, str] = {
+    "ar": "arabic", "hy": "armenian", "eu": "basque", "ca": "catalan", "cs": "czech",
+    "da": "danish", "nl": "dutch", "en": "english", "eo": "esperanto", "et": "estonian",
+    "fi": "finnish", "fr": "french", "de": "german", "el": "greek", "hi": "hindi",
+    "hu": "hungarian", "id": "indonesian", "ga": "irish", "it": "italian",
+    "lt": "lithuanian", "ne": "nepali", "no": "norwegian", "nb": "norwegian",
+    "fa": "persian", "pl": "polish", "pt": "portuguese", "ro": "romanian",
+    "ru": "russian", "sr": "serbian", "st": "sesotho", "es": "spanish", "sv": "swedish",
+    "ta": "tamil", "tr": "turkish", "yi": "yiddish",
+}  # fmt: skip
+"""ISO 639-1 code -> Snowball algorithm name, for the algorithms snowballstemmer ships."""
+
+
+@lru_cache(maxsize=1 << 20)
+def normalize_form(text: str) -> str:
+    """Return ``text`` case-folded and without accents (NFKD, combining marks removed)."""
+    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    return "".join(c for c in decomposed if not unicodedata.combining(c))
+
+
+@cache
+def _stemmer(code: str) -> snowballstemmer.stemmer | None:
+    name = SNOWBALL_LANGUAGES.get(code)
+    return snowballstemmer.stemmer(name) if name else None
+
+
+def stemmer_language(lang: str) -> str:
+    """Return the code of the stemmer used for a language tag, ``""`` when it has none."""
+    code = primary_subtag(lang) if lang else ""
+    return code if code in SNOWBALL_LANGUAGES else ""
+
+
+@lru_cache(maxsize=1 << 20)
+def stem_word(word: str, lang: str) -> str:
+    """Return the matching key of one word: case-folded, Snowball-stemmed, accents removed.
+
+    The stemmer sees the accented word (its rules are written for it); accents are
+    removed afterwards so that writing with or without them gives the same key.
+    Languages without a Snowball stemmer give the normalised form.
+    """
+    stemmer = _stemmer(stemmer_language(lang))
+    folded = word.casefold()
+    return normalize_form(stemmer.stemWord(folded) if stemmer else folded)
+
+
+class _Candidate(NamedTuple):
+    first: int  # token index of the first token
+    stop: int  # token index after the last token
+    concept: str
+    same_lang: bool
+
+
+class _Entry(NamedTuple):
+    concept: str
+    lang: str  # primary language subtag of the alias, "" when none
+    form: tuple[str, ...]  # normalised unstemmed tokens of the alias
+
+
+class _Matcher(NamedTuple):
+    matcher: PhraseMatcher
+    entries: dict[str, list[_Entry]]  # label -> the aliases behind it
+    known: frozenset[str]  # every key used by some alias
+
+
+_UNKNOWN = "\x00"
+
+
+class Dictionary:
+    """Aliases of concepts, matched in sentences to give silver spans.
+
+    Build it with :func:`build_dictionary`. Matchers are built lazily, once per
+    sentence language, and kept.
+    """
+
+    def __init__(self, aliases: Sequence[tuple[str, str, str]]) -> None:
+        self.aliases = tuple(aliases)
+        self._vocab = Vocab()
+        self._matchers: dict[tuple[str, bool], _Matcher] = {}
+        self._alias_langs = sorted({stemmer_language(lang) for _, _, lang in self.aliases})
+        self._tokens = [
+            (concept, tuple(normalize_form(w) for w in _words(alias, lang)), alias, lang)
+            for concept, alias, lang in self.aliases
+        ]
+
+    def __len__(self) -> int:
+        return len(self.aliases)
+
+    def _matcher(self, stem_lang: str, only_own: bool) -> _Matcher:
+        """Return the matcher of aliases keyed with ``stem_lang``'s stemmer.
+
+        With ``only_own`` it holds only the aliases whose own language is ``stem_lang``.
+        """
+        cache_key = (stem_lang, only_own)
+        if cache_key not in self._matchers:
+            matcher = PhraseMatcher(self._vocab)
+            entries: dict[str, list[_Entry]] = {}
+            known: set[str] = set()
+            for concept, form, alias, lang in self._tokens:
+                alias_lang = stemmer_language(lang)
+                if only_own and alias_lang != stem_lang:
+                    continue
+                keys = [stem_word(w, stem_lang) for w in _words(alias, lang)]
+                label = "\x1f".join(keys)
+                known.update(keys)
+                if label not in entries:
+                    entries[label] = []
+                    matcher.add(label, [Doc(self._vocab, words=keys)])
+                entries[label].append(_Entry(concept, _code(lang), form))
+            self._matchers[cache_key] = _Matcher(matcher, entries, frozenset(known))
+        return self._matchers[cache_key]
+
+    def match(self, text: str, lang: str) -> list[Span]:
+        """Return the non-overlapping alias matches in ``text`` as spans with a concept.
+
+        Args:
+            text: One sentence.
+            lang: Its BCP 47 language tag.
+
+        Returns:
+            Spans in character offsets, in order, with ``concept`` set and no stance.
+        """
+        return self.match_tokens(text, lang, tokenize(text, lang))
+
+    def match_tokens(
+        self, text: str, lang: str, token_offsets: Sequence[tuple[int, int]]
+    ) -> list[Span]:
+        """Like :meth:`match`, over tokens the caller already has (saves tokenizing twice)."""
+        if not token_offsets or not self.aliases:
+            return []
+        words = [text[s:e] for s, e in token_offsets]
+        forms = [normalize_form(w) for w in words]
+        sent_stem, sent_code = stemmer_language(lang), _code(lang)
+        candidates = self._candidates(words, forms, sent_stem, sent_code, only_own=False)
+        for other in self._alias_langs:
+            if other and other != sent_stem:
+                candidates += self._candidates(words, forms, other, sent_code, only_own=True)
+        chosen = _longest_first(candidates)
+        return [
+            Span(token_offsets[c.first][0], token_offsets[c.stop - 1][1], c.concept) for c in chosen
+        ]
+
+    def match_many(self, sentences: Iterable[Sentence]) -> list[list[Span]]:
+        """Return :meth:`match` for each sentence (anything with ``text`` and ``lang``)."""
+        return [self.match(s.text, s.lang) for s in sentences]
+
+    def _candidates(
+        self, words: list[str], forms: list[str], stem_lang: str, sent_code: str, *, only_own: bool
+    ) -> list[_Candidate]:
+        matcher, entries, known = self._matcher(stem_lang, only_own)
+        keys = [stem_word(w, stem_lang) for w in words]
+        if known.isdisjoint(keys):
+            return []
+        # Keys of no alias cannot match: one placeholder for them all keeps the
+        # vocabulary from growing with every new word of the corpus.
+        keys = [k if k in known else _UNKNOWN for k in keys]
+        out = []
+        strings = self._vocab.strings
+        for match_id, first, stop in matcher(Doc(self._vocab, words=keys)):
+            options = entries[strings[match_id]]
+            written = tuple(forms[first:stop])
+            best = min(
+                options,
+                key=lambda e: (e.lang != sent_code, e.form != written, e.concept),
+            )
+            out.append(_Candidate(first, stop, best.concept, best.lang == sent_code))
+        return out
+
+
+def _code(lang: str) -> str:
+    return primary_subtag(lang) if lang else ""
+
+
+def _words(alias: str, lang: str) -> list[str]:
+    return [alias[s:e] for s, e in tokenize(alias, lang or "xx")]
+
+
+def _longest_first(candidates: list[_Candidate]) -> list[_Candidate]:
+    """Pick non-overlapping matches greedily: longest, then same language, then earliest."""
+    taken: set[int] = set()
+    chosen = []
+    order = sorted(candidates, key=lambda c: (c.first - c.stop, not c.same_lang, c.first))
+    for cand in order:
+        span = range(cand.first, cand.stop)
+        if taken.isdisjoint(span):
+            taken.update(span)
+            chosen.append(cand)
+    return sorted(chosen, key=lambda c: c.first)
+
+
+def build_dictionary(aliases: Iterable[tuple[str, str, str]]) -> Dictionary:
+    """Return a :class:`Dictionary` of ``(concept_id, alias_text, lang)`` triples.
+
+    Args:
+        aliases: One triple per alias; ``lang`` is a BCP 47 tag, or ``""`` when the
+            alias belongs to no particular language (it is then matched unstemmed by
+            its own stemmer and stemmed by the sentence's).
+
+    Returns:
+        The dictionary, ready to match.
+
+    Raises:
+        InputError: When a concept ID or an alias text is empty.
+    """
+    triples = []
+    for n, (concept, alias, lang) in enumerate(aliases, start=1):
+        if not str(concept).strip():
+            raise InputError(
+                f"Alias {n} ({alias!r}) has an empty concept ID; give every alias its concept's ID."
+            )
+        if not str(alias).strip():
+            raise InputError(
+                f"Alias {n} of concept {concept!r} is empty; remove it or give its text."
+            )
+        triples.append((str(concept), str(alias).strip(), str(lang or "")))
+    return Dictionary(triples)

@@ -1,0 +1,241 @@
+"""Plain exports other tools can read: CSV, JSON Lines, CoNLL IOB2 and W3C Web Annotations.
+
+* :func:`write_mentions_csv` and :func:`write_mentions_jsonl` write the long table
+  of mentions (the ``mentions`` frame described in :mod:`extractor.report.workbook`).
+* :func:`write_conll` writes labeled sentences as IOB2 token columns (token, tag,
+  concept, stance) with CoNLL-U style ``# sent_id =`` / ``# text =`` comments;
+  ``traits import-labels`` (:mod:`extractor.ingest.labels`) reads them back.
+* :func:`write_web_annotations` writes each mention as a W3C Web Annotation
+  (Web Annotation Data Model, W3C Recommendation 23 February 2017) inside one
+  ``AnnotationCollection``.
+
+These files hold interview text: pseudonymise the frames first
+(:func:`extractor.report.privacy.pseudonymise_frames`) before they leave the machine.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from extractor.errors import InputError
+from extractor.nlp.text import tokenize
+from extractor.types import Sentence, Span
+
+ANNO_CONTEXT = "http://www.w3.org/ns/anno.jsonld"
+QUOTE_CONTEXT_CHARS = 32
+"""Characters of prefix and suffix kept in a TextQuoteSelector: enough to tell repeats apart."""
+EMPTY = "_"
+"""CoNLL placeholder for an empty column."""
+
+
+def _json_value(value: Any) -> Any:
+    """Return a JSON-friendly scalar: None for missing, Python ints and floats."""
+    if value is None:
+        return None
+    if isinstance(value, np.generic):
+        value = value.item()
+    if isinstance(value, float) and math.isnan(value):
+        return None
+    if not isinstance(value, str | int | float | bool) and pd.isna(value):
+        return None
+    return value
+
+
+def _open_for_writing(path: Path | str, newline: str | None = None) -> Any:
+    path = Path(path)
+    if not path.parent.is_dir():
+        raise InputError(f"The folder {str(path.parent)!r} for {path.name!r} does not exist.")
+    try:
+        return path.open("w", encoding="utf-8", newline=newline)
+    except OSError as exc:
+        raise InputError(f"Cannot write {str(path)!r}: {exc.strerror or exc}.") from exc
+
+
+def write_mentions_csv(path: Path | str, mentions: pd.DataFrame,
+                       columns: Sequence[str] | None = None) -> int:
+    """Write mentions as RFC 4180 CSV (UTF-8, header row, quoted where needed).
+
+    Args:
+        path: File to write.
+        mentions: The mentions frame.
+        columns: Columns to keep, in order; all by default.
+
+    Returns:
+        The number of rows written.
+    """
+    frame = mentions if columns is None else mentions.loc[:, list(columns)]
+    with _open_for_writing(path, newline="") as fh:
+        # QUOTE_MINIMAL quotes fields with commas, quotes or line breaks, doubling quotes
+        # (RFC 4180 section 2); CRLF line ends are what that RFC specifies.
+        frame.to_csv(fh, index=False, quoting=csv.QUOTE_MINIMAL, lineterminator="\r\n")
+    return len(frame)
+
+
+def write_mentions_jsonl(path: Path | str, mentions: pd.DataFrame) -> int:
+    """Write one JSON object per mention per line (JSON Lines), missing values as null.
+
+    Returns:
+        The number of lines written.
+    """
+    columns = [str(c) for c in mentions.columns]
+    with _open_for_writing(path) as fh:
+        for record in mentions.itertuples(index=False, name=None):
+            obj = {c: _json_value(v) for c, v in zip(columns, record, strict=True)}
+            fh.write(json.dumps(obj, ensure_ascii=False) + "\n")
+    return len(mentions)
+
+
+# --- CoNLL IOB2 ----------------------------------------------------------------------
+
+def iob2_tags(text: str, lang: str, spans: Sequence[Span]) -> list[tuple[str, str, Span | None]]:
+    """Return ``(token, tag, span)`` for each token; a token touching a span is inside it.
+
+    Raises:
+        InputError: If two spans overlap, or a span lies outside the text.
+    """
+    ordered = sorted(spans, key=lambda s: (s.start, s.end))
+    for a, b in zip(ordered, ordered[1:], strict=False):
+        if b.start < a.end:
+            raise InputError(f"Spans [{a.start}, {a.end}) and [{b.start}, {b.end}) overlap; "
+                             "IOB2 allows one trait per token.")
+    for s in ordered:
+        if not 0 <= s.start < s.end <= len(text):
+            raise InputError(f"Span [{s.start}, {s.end}) lies outside a sentence of "
+                             f"{len(text)} characters.")
+    out: list[tuple[str, str, Span | None]] = []
+    previous: Span | None = None
+    for start, end in tokenize(text, lang):
+        span = next((s for s in ordered if start < s.end and s.start < end), None)
+        if span is None:
+            tag = "O"
+        else:
+            tag = "I-TRAIT" if span is previous else "B-TRAIT"
+        out.append((text[start:end], tag, span))
+        previous = span
+    return out
+
+
+def _one_line(text: str) -> str:
+    return " ".join(text.split())
+
+
+def write_conll(path: Path | str, labeled_sentences: Iterable[tuple[Sentence, Sequence[Span]]]
+                ) -> int:
+    """Write labeled sentences as tab-separated IOB2 columns: token, tag, concept, stance.
+
+    A ``#`` header states the scheme; each sentence starts with ``# sent_id =``,
+    ``# lang =`` and ``# text =`` comment lines (CoNLL-U convention) and ends with a
+    blank line. Tokens come from :func:`extractor.nlp.text.tokenize`; ``_`` marks an
+    empty column.
+
+    Returns:
+        The number of sentences written.
+    """
+    count = 0
+    with _open_for_writing(path) as fh:
+        fh.write("# scheme = IOB2, one entity type: TRAIT\n")
+        fh.write("# columns = token tag concept stance (tab-separated, _ = none)\n\n")
+        for sentence, spans in labeled_sentences:
+            fh.write(f"# sent_id = {sentence.id}\n")
+            fh.write(f"# lang = {sentence.lang}\n")
+            fh.write(f"# text = {_one_line(sentence.text)}\n")
+            for token, tag, span in iob2_tags(sentence.text, sentence.lang, spans):
+                concept = span.concept if span is not None and span.concept else EMPTY
+                stance = span.stance if span is not None and span.stance else EMPTY
+                fh.write(f"{token}\t{tag}\t{concept}\t{stance}\n")
+            fh.write("\n")
+            count += 1
+    return count
+
+
+def answer_urn(row: Mapping[str, Any]) -> str:
+    """Return ``urn:traits:answer:<answer_id>``: a local URI with no personal ID in it."""
+    return f"urn:traits:answer:{int(row['answer_id'])}"
+
+
+def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str, Any]:
+    """Return one mention as a W3C Web Annotation (without ``@context``).
+
+    The body is the concept ID as a ``TextualBody`` with purpose ``classifying``,
+    plus the stance as a second ``TextualBody`` with purpose ``tagging``; the
+    target selects the span in the answer by quote (with prefix and suffix from
+    the sentence) and by character position in the answer.
+    """
+    sentence = str(row["sentence"])
+    start, end = int(row["start"]), int(row["end"])
+    body: list[dict[str, Any]] = [{"type": "TextualBody", "purpose": "classifying",
+                                   "value": str(row["concept_id"]), "format": "text/plain"}]
+    stance = _json_value(row.get("stance"))
+    if stance:
+        body.append({"type": "TextualBody", "purpose": "tagging", "value": str(stance),
+                     "format": "text/plain"})
+    selectors: list[dict[str, Any]] = [{
+        "type": "TextQuoteSelector",
+        "exact": sentence[start:end],
+        "prefix": sentence[max(0, start - QUOTE_CONTEXT_CHARS):start],
+        "suffix": sentence[end:end + QUOTE_CONTEXT_CHARS],
+    }]
+    a_start, a_end = _json_value(row.get("answer_start")), _json_value(row.get("answer_end"))
+    if a_start is not None and a_end is not None:
+        selectors.append({"type": "TextPositionSelector", "start": int(a_start),
+                          "end": int(a_end)})
+    annotation: dict[str, Any] = {
+        "id": f"urn:traits:annotation:{index}",
+        "type": "Annotation",
+        "motivation": "classifying",
+        "body": body,
+        "target": {"source": source, "selector": selectors},
+    }
+    return annotation
+
+
+def write_web_annotations(path: Path | str, mentions: pd.DataFrame,
+                          source_uri_for: Callable[[Mapping[str, Any]], str] | None = None,
+                          *, label: str = "Trait mentions") -> int:
+    """Write linked mentions as a W3C Web Annotation ``AnnotationCollection`` (JSON-LD).
+
+    Args:
+        path: File to write (``.jsonld`` or ``.json``).
+        mentions: The mentions frame; unlinked mentions are skipped (nothing to classify by).
+        source_uri_for: Maps a mention row to the URI of its answer; by default
+            ``urn:traits:answer:<answer_id>``, which carries no personal ID.
+        label: Human-readable label of the collection.
+
+    Returns:
+        The number of annotations written.
+
+    Raises:
+        InputError: If a needed column is missing or the folder does not exist.
+    """
+    needed = ["sentence", "start", "end", "concept_id"]
+    if source_uri_for is None:
+        needed.append("answer_id")
+        source_uri_for = answer_urn
+    missing = [c for c in needed if c not in mentions.columns]
+    if missing:
+        raise InputError(f"The mentions table lacks the column(s) {', '.join(missing)} "
+                         "needed for web annotations.")
+    linked = mentions.loc[mentions["concept_id"].notna()]
+    items = [web_annotation(row, source_uri_for(row), i)
+             for i, row in enumerate(linked.to_dict("records"), start=1)]
+    collection = {
+        "@context": ANNO_CONTEXT,
+        "id": "urn:traits:collection:mentions",
+        "type": "AnnotationCollection",
+        "label": label,
+        "total": len(items),
+    }
+    if items:  # the model requires a first page only when there are annotations
+        collection["first"] = {"id": "urn:traits:collection:mentions:page1",
+                               "type": "AnnotationPage", "startIndex": 0, "items": items}
+    with _open_for_writing(path) as fh:
+        json.dump(collection, fh, ensure_ascii=False, indent=1)
+    return len(items)

@@ -1,0 +1,257 @@
+"""The results of a model version as tables: mentions, respondents, concepts; and the exports.
+
+Mentions come from the stored predictions of a model version; wherever a person
+labeled a sentence, that label replaces the predictions for the sentence (gold
+labels always win).
+"""
+
+from __future__ import annotations
+
+import base64
+from collections.abc import Sequence
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from extractor.workspace import store
+from extractor.errors import InputError
+from extractor.report.privacy import PrivacyOptions, new_secret
+from extractor.workspace.folder import Workspace
+
+SECRET_KEY = "pseudonym_secret"
+
+
+def concept_frame(ws: Workspace) -> pd.DataFrame:
+    """Return the active concepts: ``concept_id``, ``label``, ``parent``."""
+    default = ws.settings["workspace"]["default_language"]
+    rows = []
+    for concept in store.concepts(ws.conn):
+        labels = concept["labels"]
+        label = labels.get(default) or next(iter(labels.values()), concept["id"])
+        rows.append({"concept_id": concept["id"], "label": label, "parent": concept["parent"]})
+    return pd.DataFrame(rows, columns=["concept_id", "label", "parent"])
+
+
+def variety_names(ws: Workspace) -> dict[str, str]:
+    """Return variety ID -> display name."""
+    default = ws.settings["workspace"]["default_language"]
+    return {
+        v["id"]: v["labels"].get(default) or next(iter(v["labels"].values()), v["id"])
+        for v in store.concepts(ws.conn, "variety")
+    }
+
+
+def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
+    """Return one row per mention: predictions of ``version`` overridden by people's labels."""
+    labels = store.current_labels(ws.conn)
+    predicted = store.predictions(ws.conn, version) if version else {}
+    ids = sorted(set(labels) | {sid for sid, p in predicted.items() if p["mentions"]})
+    sentences = {s.id: s for s in store.sentences(ws.conn, ids)}
+    labels_by_concept = dict(zip(*concept_frame(ws)[["concept_id", "label"]].T.values,
+                                 strict=False)) if ids else {}
+    varieties = variety_names(ws)
+
+    def variety(value: str | None) -> str | None:
+        return f"{varieties[value]} ({value})" if value in varieties else value
+    rows = []
+    for sid in ids:
+        sentence = sentences.get(sid)
+        if sentence is None:
+            continue
+        if sid in labels:
+            label = labels[sid]
+            found = [
+                {"start": sp.start, "end": sp.end, "concept": sp.concept, "stance": sp.stance,
+                 "confidence": None, "link_prob": None, "stance_prob": None,
+                 "source": "person", "annotator": label["annotator"], "model_version": None}
+                for sp in label["spans"]
+            ]
+        else:
+            found = [m | {"annotator": None, "model_version": version}
+                     for m in predicted[sid]["mentions"]]
+        for m in found:
+            rows.append({
+                "respondent": sentence.respondent,
+                "sentence_id": sid,
+                "answer_id": sentence.answer_id,
+                "sentence": sentence.text,
+                "question": sentence.question,
+                "lang": sentence.lang,
+                "start": m["start"],
+                "end": m["end"],
+                "answer_start": sentence.offset + m["start"],
+                "answer_end": sentence.offset + m["end"],
+                "span_text": sentence.text[m["start"] : m["end"]],
+                "concept_id": m.get("concept"),
+                "concept_label": labels_by_concept.get(m.get("concept")),
+                "link_prob": m.get("link_prob"),
+                "stance": m.get("stance"),
+                "stance_prob": m.get("stance_prob"),
+                "variety": variety(m.get("variety")),
+                "ref_variety": variety(m.get("ref_variety")),
+                "confidence": m.get("confidence"),
+                "source": m["source"],
+                "model_version": m.get("model_version"),
+                "annotator": m.get("annotator"),
+            })
+    return pd.DataFrame(rows)
+
+
+def respondent_frame(ws: Workspace) -> pd.DataFrame:
+    """Return one row per respondent with ``is_group`` and metadata columns."""
+    return pd.DataFrame(store.respondents(ws.conn))
+
+
+def workspace_secret(ws: Workspace) -> bytes:
+    """Return the workspace's pseudonym key, creating it on first use; it never leaves the store."""
+    found = store.get_meta(ws.conn, SECRET_KEY)
+    if found is None:
+        found = base64.b64encode(new_secret()).decode("ascii")
+        store.set_meta(ws.conn, SECRET_KEY, found)
+    return base64.b64decode(found)
+
+
+def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOptions:
+    """Return the pseudonymisation options from the workspace settings."""
+    settings = ws.settings["export"]
+    names: tuple[str, ...] = ()
+    path_text = names_file or settings.get("names_file") or ""
+    if path_text:
+        path = Path(path_text) if Path(path_text).is_absolute() else ws.root / path_text
+        if not path.is_file():
+            raise InputError(
+                f"The names file {path} does not exist; give a text file with one name per line."
+            )
+        try:
+            text = path.read_text(encoding="utf-8")
+        except UnicodeDecodeError as exc:
+            raise InputError(
+                f"The names file {path} is not UTF-8 text; save it as UTF-8 and export again."
+            ) from exc
+        names = tuple(line.strip() for line in text.splitlines() if line.strip())
+    return PrivacyOptions(
+        secret=workspace_secret(ws), names=names,
+        drop_columns=tuple(settings.get("identifying_columns", ())),
+    )
+
+
+def about(ws: Workspace, version: str | None) -> dict[str, Any]:
+    """Return the facts shown on the workbook's About sheet."""
+    model = next((m for m in store.models(ws.conn) if m["version"] == version), None)
+    concepts = store.current_concept_version(ws.conn)
+    counts = store.counts(ws.conn)
+    return {
+        "Model version": version or "none (labels only)",
+        "Model trained": None if model is None else model["created_at"],
+        "Quality (cross-validated)": None if model is None
+        else model["metrics"].get("cross_validation"),
+        "Quality (evaluation sample)": None if model is None
+        else model["metrics"].get("evaluation_sample"),
+        "Concept list": None if concepts is None else concepts["path"],
+        "Concept list SHA-256": None if concepts is None else concepts["sha256"],
+        "Concept list imported": None if concepts is None else concepts["imported_at"],
+        "Respondents in workspace": counts["respondents"],
+        "Sentences in workspace": counts["sentences"],
+        "Sentences labeled by a person": counts["labels"],
+        "Exported": datetime.now(UTC).isoformat(timespec="seconds"),
+        "Caution": "Automatic extraction makes mistakes. Review the mentions (sheet of "
+        "evidence) before these results inform any decision; shares are of respondents.",
+    }
+
+
+def group_columns(ws: Workspace, respondents: pd.DataFrame,
+                  chosen: Sequence[str] | None = None) -> list[str]:
+    """Return the grouping columns to use: chosen ones, else the configured ones present."""
+    wanted = list(chosen) if chosen else list(ws.settings["export"]["group_by"])
+    if chosen:
+        missing = [c for c in wanted if c not in respondents.columns]
+        if missing:
+            raise InputError(
+                f"No respondent column {missing[0]!r}; choose from "
+                + ", ".join(c for c in respondents.columns if c not in ("respondent", "is_group"))
+                + "."
+            )
+    return [c for c in wanted if c in respondents.columns]
+
+
+def _min_confidence(ws: Workspace, given: float | None) -> float | None:
+    """Return the confidence floor: the one given, else traits.toml's (0 means none)."""
+    if given is not None:
+        return given
+    return ws.settings["export"].get("min_confidence") or None
+
+
+def export_workbook(
+    ws: Workspace,
+    version: str | None,
+    *,
+    out: Path | None = None,
+    pseudonymise: bool = False,
+    min_confidence: float | None = None,
+    group_by: Sequence[str] | None = None,
+    names_file: str | None = None,
+) -> dict[str, Any]:
+    """Write the preferred-traits workbook and its chart PNG; return paths and counts."""
+    from extractor.report.workbook import write_workbook
+
+    out = out or ws.exports_dir / (
+        "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx")
+    out.parent.mkdir(parents=True, exist_ok=True)
+    mentions = mention_frame(ws, version)
+    respondents = respondent_frame(ws)
+    png = out.with_name(out.stem + "_chart.png")
+    write_workbook(
+        out, mentions, respondents, concept_frame(ws), about(ws, version),
+        group_by=group_columns(ws, respondents, group_by),
+        min_confidence=_min_confidence(ws, min_confidence),
+        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+        chart_png=png,
+    )
+    return {"path": out, "chart": png if png.exists() else None, "mentions": len(mentions)}
+
+
+OTHER_FORMATS = {"csv": ".csv", "jsonl": ".jsonl", "conll": ".conll", "jsonld": ".jsonld"}
+
+
+def export_other(
+    ws: Workspace,
+    version: str | None,
+    fmt: str,
+    *,
+    out: Path | None = None,
+    pseudonymise: bool = False,
+    min_confidence: float | None = None,
+    names_file: str | None = None,
+) -> dict[str, Any]:
+    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or labels as CoNLL IOB2."""
+    from extractor.report import formats as interchange
+    from extractor.report.workbook import prepare
+    from extractor.jobs.pipeline import gold_examples
+
+    if fmt not in OTHER_FORMATS:
+        raise InputError(
+            f"The export format must be one of xlsx, {', '.join(OTHER_FORMATS)}; got {fmt!r}."
+        )
+    stem = "labeled_sentences" if fmt == "conll" else "mentions"
+    out = out or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}" \
+        f"{OTHER_FORMATS[fmt]}"
+    out.parent.mkdir(parents=True, exist_ok=True)
+    if fmt == "conll":
+        if pseudonymise:
+            raise InputError(
+                "CoNLL export holds the labeled sentences verbatim and cannot be pseudonymised; "
+                "export it without --pseudonymise and keep it inside the project."
+            )
+        n = interchange.write_conll(out, gold_examples(ws))
+        return {"path": out, "mentions": n}
+    mentions, _ = prepare(
+        mention_frame(ws, version), respondent_frame(ws),
+        min_confidence=_min_confidence(ws, min_confidence),
+        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+    )
+    writer = {"csv": interchange.write_mentions_csv, "jsonl": interchange.write_mentions_jsonl,
+              "jsonld": interchange.write_web_annotations}[fmt]
+    writer(out, mentions)
+    return {"path": out, "mentions": len(mentions)}

@@ -1,0 +1,250 @@
+"""Tests of extractor.models.linking: exact, fuzzy and context linking, threshold, persistence."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from extractor.errors import InputError, ModelError, NotFittedError
+from extractor.models.linking import (
+    DEFAULT_WEIGHTS,
+    ConceptLinker,
+    choose_threshold,
+    link_scores,
+    linking_quality,
+    suggest_terms,
+)
+from extractor.types import Sentence, Span
+
+# Invented trait IDs, one alias per language.
+ALIASES = [
+    ("TX:01", "cooking time", "en"),
+    ("TX:01", "temps de cuisson", "fr"),
+    ("TX:01", "tiempo de cocción", "es"),
+    ("TX:02", "seed size", "en"),
+    ("TX:02", "taille des grains", "fr"),
+    ("TX:02", "tamaño del grano", "es"),
+    ("TX:03", "drought tolerance", "en"),
+    ("TX:03", "tolérance à la sécheresse", "fr"),
+    ("TX:03", "tolerancia a la sequía", "es"),
+]
+
+
+def _mention(text: str, term: str, lang: str = "en", sid: int = 0) -> tuple[Sentence, Span]:
+    start = text.index(term)
+    return Sentence(id=sid, text=text, lang=lang), Span(start, start + len(term))
+
+
+@pytest.fixture(scope="module")
+def cold() -> ConceptLinker:
+    return ConceptLinker().fit([], ALIASES)
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "concept"),
+    [
+        ("The cooking times are long.", "cooking times", "en", "TX:01"),
+        ("Le temps de cuisson est court.", "temps de cuisson", "fr", "TX:01"),
+        ("El tiempo de coccion es corto.", "tiempo de coccion", "es", "TX:01"),
+        ("Seed sizes vary a lot.", "Seed sizes", "en", "TX:02"),
+        ("La taille des grains est bonne.", "taille des grains", "fr", "TX:02"),
+        ("Buena tolerancia a la sequía.", "tolerancia a la sequía", "es", "TX:03"),
+    ],
+    ids=["en-inflected", "fr", "es-no-accent", "en-plural", "fr-size", "es-drought"],
+)
+def test_link_exact_alias_after_normalisation(
+    cold: ConceptLinker, text: str, term: str, lang: str, concept: str
+) -> None:
+    result = cold.link(*_mention(text, term, lang))
+    assert result.concept == concept
+    assert result.probability >= 0.9
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "concept"),
+    [
+        ("The cookin tme is short.", "cookin tme", "en", "TX:01"),
+        ("La taile des graines est petite.", "taile des graines", "fr", "TX:02"),
+        ("Tiene tolerancia a sequias.", "tolerancia a sequias", "es", "TX:03"),
+    ],
+    ids=["en-typos", "fr-typos", "es-missing-article"],
+)
+def test_link_fuzzy_match_in_any_language(
+    cold: ConceptLinker, text: str, term: str, lang: str, concept: str
+) -> None:
+    result = cold.link(*_mention(text, term, lang))
+    assert result.concept == concept
+    assert cold.threshold <= result.probability < 0.9
+
+
+def test_link_probability_orders_exact_over_fuzzy_over_unrelated(cold: ConceptLinker) -> None:
+    exact = cold.link(*_mention("The cooking time is short.", "cooking time")).probability
+    fuzzy = cold.link(*_mention("The cookin tme is short.", "cookin tme")).probability
+    unrelated = cold.link(*_mention("The flowers are purple.", "flowers")).probability
+    assert exact > fuzzy > unrelated
+
+
+def test_link_below_threshold_is_unlinked_but_keeps_candidates(cold: ConceptLinker) -> None:
+    sentence, span = _mention("The flowers are purple.", "flowers")
+    result = cold.link(sentence, span)
+    assert result.concept is None
+    assert result.candidates and result.probability < cold.threshold
+    assert ConceptLinker(threshold=0.0).fit([], ALIASES).link(sentence, span).concept is not None
+
+
+def test_link_gold_always_wins(cold: ConceptLinker) -> None:
+    result = cold.link(*_mention("The cooking time is short.", "cooking time"), gold="TX:03")
+    assert result == ("TX:03", 1.0, [("TX:03", 1.0)])
+
+
+def test_link_many_matches_link_one_by_one(cold: ConceptLinker) -> None:
+    items = [
+        _mention("The cooking time is short.", "cooking time"),
+        _mention("The cookin tme is short.", "cookin tme"),
+        _mention("The flowers are purple.", "flowers"),
+    ]
+    assert cold.link_many(items) == [cold.link(s, sp) for s, sp in items]
+
+
+def test_link_many_rejects_gold_of_other_length(cold: ConceptLinker) -> None:
+    with pytest.raises(InputError, match="one per mention"):
+        cold.link_many([_mention("Seed size.", "Seed size")], gold=["TX:01", "TX:02"])
+
+
+def test_link_unfitted_raises() -> None:
+    with pytest.raises(NotFittedError, match="not been fitted"):
+        ConceptLinker().link(*_mention("Seed size.", "Seed size"))
+
+
+@pytest.mark.parametrize(
+    ("aliases", "message"),
+    [([], "at least one alias"), ([("TX:01", " ", "en")], "missing its concept ID or its text")],
+    ids=["nothing", "empty-alias"],
+)
+def test_fit_rejects_bad_aliases(aliases: list, message: str) -> None:
+    with pytest.raises(InputError, match=message):
+        ConceptLinker().fit([], aliases)
+
+
+# ------------------------------------------------------------------ learning from examples
+
+_PHRASES = [
+    ("TX:01", "boils quickly", "These beans boils quickly so we save firewood."),
+    ("TX:01", "is ready fast", "The pot is ready fast and the children eat early."),
+    ("TX:01", "takes forever", "It takes forever on the fire, we burn much firewood."),
+    ("TX:02", "big grains", "Buyers ask for big grains at the market."),
+    ("TX:02", "fat seeds", "The fat seeds fill the measuring tin quickly."),
+    ("TX:02", "tiny beans", "Traders pay less for tiny beans in the tin."),
+    ("TX:03", "survives the dry spell", "It survives the dry spell when rains stop."),
+    ("TX:03", "stays green without rain", "It stays green without rain for weeks."),
+    ("TX:03", "wilts early", "When the rains stop it wilts early in the field."),
+]
+
+
+def _examples(copies: int = 4) -> list[tuple[Sentence, Span, str]]:
+    out = []
+    for n in range(copies):
+        for k, (concept, term, text) in enumerate(_PHRASES):
+            sentence, span = _mention(f"{'Yes. ' * n}{text}", term, sid=n * 100 + k)
+            out.append((sentence, span, concept))
+    return out
+
+
+def test_fit_learns_phrasings_from_examples() -> None:
+    sentence, span = _mention("Mine takes forever, honestly.", "takes forever")
+    assert ConceptLinker().fit([], ALIASES).link(sentence, span).concept is None
+    trained = ConceptLinker().fit(_examples(1), ALIASES)
+    result = trained.link(sentence, span)
+    assert result.concept == "TX:01" and result.probability >= 0.9
+
+
+def test_fit_returns_self_and_fits_combiner_with_enough_examples() -> None:
+    linker = ConceptLinker()
+    assert linker.fit(_examples(4), ALIASES) is linker
+    assert linker.weights_ != list(DEFAULT_WEIGHTS)
+    exact = linker.link(*_mention("The cooking time is short.", "cooking time")).probability
+    fuzzy = linker.link(*_mention("The cookin tme is short.", "cookin tme")).probability
+    assert exact > fuzzy
+
+
+def test_choose_threshold_separates_right_links_from_non_concepts(cold: ConceptLinker) -> None:
+    held_out = [
+        (*_mention("The cooking time is short.", "cooking time"), "TX:01"),
+        (*_mention("La taile des graines est petite.", "taile des graines", "fr"), "TX:02"),
+        (*_mention("The flowers are purple.", "flowers"), None),
+        (*_mention("The seed coat shines.", "seed coat"), None),
+    ]
+    scores = link_scores(cold, held_out)
+    threshold = choose_threshold(cold, held_out, metric="accuracy")
+    assert max(p for _, p, g in scores if g is None) < threshold
+    assert threshold <= min(p for _, p, g in scores if g is not None)
+    assert linking_quality(scores, threshold, "accuracy") == 1.0
+    assert cold.threshold == ConceptLinker().threshold  # the linker is left unchanged
+
+
+def test_choose_threshold_rejects_unknown_metric(cold: ConceptLinker) -> None:
+    with pytest.raises(InputError, match="'metric'"):
+        choose_threshold(cold, [(*_mention("Seed size.", "Seed size"), "TX:02")], metric="auc")
+
+
+# ------------------------------------------------------------------ persistence
+
+
+def test_save_load_round_trip(tmp_path: Path) -> None:
+    linker = ConceptLinker(threshold=0.4).fit(_examples(4), ALIASES)
+    linker.save(tmp_path / "linker")
+    loaded = ConceptLinker.load(tmp_path / "linker")
+    items = [(s, sp) for s, sp, _ in _examples(1)] + [_mention("The cookin tme.", "cookin tme")]
+    assert loaded.link_many(items) == linker.link_many(items)
+    assert loaded.get_params() == linker.get_params()
+
+
+def test_save_load_cold_linker(tmp_path: Path, cold: ConceptLinker) -> None:
+    cold.save(tmp_path / "linker")
+    item = _mention("The cookin tme.", "cookin tme")
+    assert ConceptLinker.load(tmp_path / "linker").link(*item) == cold.link(*item)
+
+
+def test_load_missing_raises(tmp_path: Path) -> None:
+    with pytest.raises(ModelError, match="No readable concept linker"):
+        ConceptLinker.load(tmp_path)
+
+
+# ------------------------------------------------------------------ suggestions
+
+
+def test_suggest_terms_ranks_frequent_unlinked_texts(cold: ConceptLinker) -> None:
+    unlinked = [
+        _mention("It takes forever to cook.", "takes forever", sid=1),
+        _mention("Ours take forever on the fire.", "take forever", sid=2),
+        _mention("It takes forever, really.", "takes forever", sid=3),
+        _mention("It takes forever in the pot.", "takes forever", sid=4),
+        _mention("The pods twist open.", "pods twist", sid=5),
+        _mention("Sometimes pods twist.", "pods twist", sid=6),
+        _mention("Purple flowers.", "Purple flowers", sid=7),
+    ]
+    words = ["forever", "take", "cooking", "time", "seed", "size", "drought", "tolerance"]
+    # Fake word vectors: "forever"/"take" point the way of "cooking"/"time".
+    vectors = np.array(
+        [
+            [1, 0, 0],
+            [0.9, 0.1, 0],
+            [1, 0, 0],
+            [0.95, 0.05, 0],
+            [0, 1, 0],
+            [0, 1, 0],
+            [0, 0, 1],
+            [0, 0, 1],
+        ],
+        dtype=float,
+    )
+    model = {"words": words, "vectors": (vectors / np.linalg.norm(vectors, axis=1)[:, None])}
+    out = suggest_terms(unlinked, cold, model, min_count=2)
+    assert [s["count"] for s in out] == [4, 2]
+    first = out[0]
+    assert first["term"] == "takes forever" and len(first["examples"]) == 3
+    assert first["nearest"] and len(first["nearest"]) <= 3
+    assert first["nearest_by_vectors"][0][0] == "TX:01"
+    assert suggest_terms(unlinked, cold)[0]["nearest_by_vectors"] == []

@@ -1,0 +1,49 @@
+"""Outside check of the tagger on open data: aspect-term spans of MAMS (EMNLP-IJCNLP 2019).
+
+Trained on the train split's gold spans only (no dictionary), scored with strict exact
+span F1 on the test split. Word clusters are learned from the texts of all three splits
+without their labels, as the tool learns them from a workspace's unlabeled answers.
+"""
+
+from __future__ import annotations
+
+import time
+
+import pytest
+from mams import SKIP_REASON, load_mams
+
+from extractor.nlp.clusters import learn_clusters
+from extractor.nlp.spans import span_prf
+from extractor.models.tagger import fit_tagger, tag_sentences
+from extractor.types import Sentence, Span
+
+pytestmark = pytest.mark.slow
+
+
+def gold_pairs(split: str) -> list[tuple[Sentence, list[Span]]]:
+    data = load_mams(split)
+    if data is None:
+        pytest.skip(SKIP_REASON)
+    return [
+        (Sentence(i, d["text"], d["lang"]), [Span(s["start"], s["end"]) for s in d["spans"]])
+        for i, d in enumerate(data)
+    ]
+
+
+def test_mams_span_f1_with_clusters_reaches_target() -> None:
+    train, val, test = gold_pairs("train"), gold_pairs("val"), gold_pairs("test")
+    texts = [(s.text, s.lang) for s, _ in train + val + test]
+    start = time.perf_counter()
+    clusters = learn_clusters(texts)
+    tagger = fit_tagger(train, [], None, clusters, gold_weight=1)
+    seconds = time.perf_counter() - start
+    results = tag_sentences(tagger, [s for s, _ in test], None, clusters)
+    scores = span_prf([g for _, g in test], [r.spans for r in results])
+    print(
+        f"MAMS test span F1 {scores['f1']:.4f} (P {scores['precision']:.4f}, "
+        f"R {scores['recall']:.4f}); clusters + training {seconds:.1f}s"
+    )
+    # Target set by the project, not a published figure: a plain CRF with basic word
+    # features measured about 0.725 strict span F1 on this split here (project measurement),
+    # so the features and clusters must beat 0.74.
+    assert scores["f1"] >= 0.74

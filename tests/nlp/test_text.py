@@ -1,0 +1,53 @@
+"""Tokens and sentences: agreement with spaCy's own tokenizer, offsets that round-trip."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+import spacy
+
+from extractor.nlp.text import split_sentences, spacy_code, tokenize
+from pathlib import Path
+
+SAMPLE = Path(__file__).resolve().parents[2] / "sample_interviews"
+
+EXAMPLES = [
+    ("en", "It cooks fast, but the grains are too small. My children finish the plate!"),
+    ("fr", "Les grains sont trop petits ; j'aimerais qu'il mûrisse plus tôt."),
+    ("es", "No se pica en el granero. ¿Por qué no lo siembran más? ¡Es rapidito!"),
+    ("sw", "Maharagwe haya yanaiva haraka."),
+]
+
+
+@pytest.mark.parametrize(("lang", "text"), EXAMPLES, ids=[e[0] for e in EXAMPLES])
+def test_tokenize_agrees_with_spacy_blank_pipeline(lang: str, text: str) -> None:
+    # Outside reference: spaCy's own tokenizer for the same language.
+    reference = spacy.blank(spacy_code(lang)).tokenizer(text)
+    expected = [(t.idx, t.idx + len(t.text)) for t in reference if not t.is_space]
+    assert tokenize(text, lang) == expected
+
+
+@pytest.mark.parametrize(("lang", "text"), EXAMPLES, ids=[e[0] for e in EXAMPLES])
+def test_split_sentences_round_trips(lang: str, text: str) -> None:
+    bounds = split_sentences(text, lang)
+    assert bounds, "every example holds at least one sentence"
+    for start, end in bounds:
+        sentence = text[start:end]
+        assert sentence == sentence.strip() and sentence
+
+
+def test_split_sentences_keeps_spanish_opening_marks_with_their_sentence() -> None:
+    text = "No se pica. ¿Por qué? ¡Qué bien!"
+    sentences = [text[s:e] for s, e in split_sentences(text, "es")]
+    assert sentences == ["No se pica.", "¿Por qué?", "¡Qué bien!"]
+
+
+def test_gold_sentences_of_the_demo_are_segmenter_sentences() -> None:
+    # Demo data only (a smoke check of the demo's consistency, not of correctness).
+    path = SAMPLE / "gold.jsonl"
+    if not path.exists():
+        pytest.skip("the demo gold file is not there")
+    for line in path.read_text(encoding="utf-8").splitlines():
+        record = json.loads(line)
+        assert split_sentences(record["text"], record["lang"]) == [(0, len(record["text"]))]

@@ -1,0 +1,131 @@
+"""Store: schema and migrations, transactions, append-only labels."""
+
+from __future__ import annotations
+
+import sqlite3
+from pathlib import Path
+
+import pytest
+
+from extractor.workspace import store
+from extractor.errors import WorkspaceError
+from extractor.types import Span
+
+
+def _rows() -> list[dict]:
+    return [
+        {"respondent": "R1", "question": "Why?", "answer": "It cooks fast. Good broth.",
+         "lang": "en", "lang_origin": "column", "variety": None,
+         "metadata": {"gender": "woman"}, "sheet": None, "row": 2, "is_group": False},
+        {"respondent": "R2", "question": "Why?", "answer": "Trop petit.",
+         "lang": "fr", "lang_origin": "detected", "variety": "VAR:01",
+         "metadata": {}, "sheet": None, "row": 3, "is_group": True},
+    ]
+
+
+def _add(conn: sqlite3.Connection, sha: str = "abc") -> dict:
+    return store.add_source(
+        conn, path="a.csv", sha256=sha, kind="csv", options={}, rows=_rows(),
+        sentence_offsets=[[(0, 14), (15, 26)], [(0, 11)]],
+    )
+
+
+@pytest.fixture
+def conn(tmp_path: Path) -> sqlite3.Connection:
+    c = store.connect(tmp_path / "t.sqlite", create=True)
+    yield c
+    c.close()
+
+
+def test_connect_sets_wal_foreign_keys_and_schema_version(conn: sqlite3.Connection) -> None:
+    assert conn.execute("PRAGMA journal_mode").fetchone()[0] == "wal"
+    assert conn.execute("PRAGMA foreign_keys").fetchone()[0] == 1
+    assert store.schema_version(conn) == store.SCHEMA_VERSION
+
+
+def test_connect_refuses_newer_schema(tmp_path: Path) -> None:
+    path = tmp_path / "new.sqlite"
+    store.connect(path, create=True).close()
+    raw = sqlite3.connect(path)
+    raw.execute(f"PRAGMA user_version = {store.SCHEMA_VERSION + 1}")
+    raw.close()
+    with pytest.raises(WorkspaceError, match="newer"):
+        store.connect(path)
+
+
+def test_connect_refuses_a_file_that_is_not_a_database(tmp_path: Path) -> None:
+    path = tmp_path / "junk.sqlite"
+    path.write_bytes(b"this is not sqlite" * 100)
+    with pytest.raises(WorkspaceError, match="not a readable"):
+        store.connect(path)
+
+
+def test_add_source_stores_sentences_that_round_trip(conn: sqlite3.Connection) -> None:
+    counts = _add(conn)
+    assert counts == {"respondents": 2, "answers": 2, "sentences": 3}
+    texts = [s.text for s in store.sentences(conn)]
+    assert texts == ["It cooks fast.", "Good broth.", "Trop petit."]
+
+
+def test_add_source_skips_answers_already_stored(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    again = _add(conn, sha="def")
+    assert again == {"respondents": 0, "answers": 0, "sentences": 0}
+    assert store.counts(conn)["sentences"] == 3
+
+
+def test_failed_transaction_leaves_store_unchanged(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    before = store.counts(conn)
+    with pytest.raises(RuntimeError):
+        with store.transaction(conn):
+            _add(conn, sha="zzz")
+            raise RuntimeError("boom")
+    assert store.counts(conn) == before
+
+
+def test_labels_are_append_only_and_undo_retracts(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    sid = store.sentences(conn)[0].id
+    first = store.add_label(conn, sid, [Span(3, 13, "BTX:0001", "liked")], "ana")
+    second = store.add_label(conn, sid, [], "ana")
+    assert store.current_labels(conn)[sid]["spans"] == []
+    store.retract_label(conn, second, "ana")
+    current = store.current_labels(conn)[sid]
+    assert current["label_id"] == first
+    assert current["spans"] == [Span(3, 13, "BTX:0001", "liked")]
+    assert len(store.label_history(conn)) == 3
+
+
+def test_concept_reimport_keeps_annotator_aliases(conn: sqlite3.Connection) -> None:
+    concepts = [{"id": "BTX:0001", "parent": None, "definition": None}]
+    aliases = [{"concept_id": "BTX:0001", "text": "cooking time", "lang": "en",
+                "kind": "preferred"}]
+    store.replace_concept_list(conn, kind="trait", path="c.csv", sha256="1",
+                               concepts=concepts, aliases=aliases)
+    assert store.add_alias(conn, "BTX:0001", "boils quickly", "en", "ana")
+    store.replace_concept_list(conn, kind="trait", path="c.csv", sha256="2",
+                               concepts=concepts, aliases=aliases)
+    texts = {(a["text"], a["origin"]) for a in store.aliases(conn)}
+    assert texts == {("cooking time", "list"), ("boils quickly", "annotator")}
+    assert len(store.concept_versions(conn)) == 2
+
+
+def test_add_alias_refuses_unknown_concept(conn: sqlite3.Connection) -> None:
+    with pytest.raises(WorkspaceError, match="not in the imported concept list"):
+        store.add_alias(conn, "BTX:9999", "x", "en", "ana")
+
+
+def test_counts_report_languages(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    assert store.counts(conn)["languages"] == {"en": 2, "fr": 1}
+
+
+def test_counts_group_language_tags_by_primary_language(conn: sqlite3.Connection) -> None:
+    rows = [dict(_rows()[1], respondent="R3", answer="Muy rico.", lang="es-419"),
+            dict(_rows()[1], respondent="R4", answer="Muy bueno.", lang="es")]
+    store.add_source(conn, path="b.csv", sha256="x", kind="csv", options={}, rows=rows,
+                     sentence_offsets=[[(0, 9)], [(0, 10)]])
+    found = store.counts(conn)
+    assert found["languages"] == {"es": 2}
+    assert found["language_tags"] == {"es-419": 1, "es": 1}
