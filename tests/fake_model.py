@@ -14,9 +14,9 @@ import time
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-from extractor.workspace import store
 from extractor.loop.session import Prediction, Suggestion, TrainingData
 from extractor.types import Sentence, Span
+from extractor.workspace import store
 
 CONCEPTS = [
     {"id": "BTX:0002", "parent": None, "definition": "Time on the fire until soft."},
@@ -55,8 +55,11 @@ ANSWERS = [
     ("It cooks fast but it is bitter.", "Still we grow it."),
 ]
 
-KNOWN = {"cooks fast": ("BTX:0002", "liked"), "big grains": ("BTX:0011", "liked"),
-         "bitter": ("BTX:0007", "disliked")}
+KNOWN = {
+    "cooks fast": ("BTX:0002", "liked"),
+    "big grains": ("BTX:0011", "liked"),
+    "bitter": ("BTX:0007", "disliked"),
+}
 """Phrases the fake model recognises, with the concept and stance it suggests."""
 
 
@@ -71,21 +74,43 @@ def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sql
             start = text.index(part, pos)
             spans.append((start, start + len(part)))
             pos = start + len(part)
-        rows.append({
-            "respondent": f"TS-{k % 4:03d}", "question": "Why do you grow this bean?",
-            "answer": text, "lang": "en", "lang_origin": "column",
-            "variety": "Zamaro Red" if k % 2 else None,
-            "metadata": {"role": "farmer" if k % 3 else "trader",
-                         "gender": "woman" if k % 2 else "man", "district": "Tinsoka"},
-            "sheet": None, "row": k + 2, "is_group": k == 3,
-        })
+        rows.append(
+            {
+                "respondent": f"TS-{k % 4:03d}",
+                "question": "Why do you grow this bean?",
+                "answer": text,
+                "lang": "en",
+                "lang_origin": "column",
+                "variety": "Zamaro Red" if k % 2 else None,
+                "metadata": {
+                    "role": "farmer" if k % 3 else "trader",
+                    "gender": "woman" if k % 2 else "man",
+                    "district": "Tinsoka",
+                },
+                "sheet": None,
+                "row": k + 2,
+                "is_group": k == 3,
+            }
+        )
         offsets.append(spans)
-    store.add_source(conn, path="invented.csv", sha256=f"{len(answers)}", kind="csv",
-                     options={}, rows=rows, sentence_offsets=offsets)
+    store.add_source(
+        conn,
+        path="invented.csv",
+        sha256=f"{len(answers)}",
+        kind="csv",
+        options={},
+        rows=rows,
+        sentence_offsets=offsets,
+    )
     store.replace_concept_list(
-        conn, kind="trait", path="traits.csv", sha256="x", concepts=CONCEPTS,
-        aliases=[{"concept_id": c, "text": t, "lang": lang, "kind": kind}
-                 for c, t, lang, kind in ALIASES],
+        conn,
+        kind="trait",
+        path="traits.csv",
+        sha256="x",
+        concepts=CONCEPTS,
+        aliases=[
+            {"concept_id": c, "text": t, "lang": lang, "kind": kind} for c, t, lang, kind in ALIASES
+        ],
     )
     return conn
 
@@ -132,11 +157,14 @@ class FakeModel:
         tags = ["O"] * len(tokens)
         for phrase, (concept, stance) in KNOWN.items():
             for m in re.finditer(re.escape(phrase), sentence.text, flags=re.IGNORECASE):
-                suggestions.append(Suggestion(
-                    Span(m.start(), m.end(), concept, stance), confidence=0.8,
-                    concept_probs={concept: 0.7, "BTX:0015": 0.3},
-                    stance_probs={stance: 0.9, "neutral": 0.1},
-                ))
+                suggestions.append(
+                    Suggestion(
+                        Span(m.start(), m.end(), concept, stance),
+                        confidence=0.8,
+                        concept_probs={concept: 0.7, "BTX:0015": 0.3},
+                        stance_probs={stance: 0.9, "neutral": 0.1},
+                    )
+                )
                 inside = [k for k, (s, e) in enumerate(tokens) if s >= m.start() and e <= m.end()]
                 for n, k in enumerate(inside):
                     tags[k] = "B-TRAIT" if n == 0 else "I-TRAIT"

@@ -11,8 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from extractor.workspace import store
 from extractor.ingest.intake import add_files, import_concepts, interview_files
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_interviews"

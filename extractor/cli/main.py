@@ -17,9 +17,8 @@ from rich.console import Console
 from rich.table import Table
 
 from extractor import __version__, progress
-
-from extractor.workspace import store
 from extractor.errors import TraitsError
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
 
 CAUTION = (
@@ -63,15 +62,19 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
         if value
     }
     with _workspace(args) as ws:
-        reports = add_files(ws, [Path(p) for p in args.files], sheet=args.sheet,
-                            mapping=mapping or None)
+        reports = add_files(
+            ws, [Path(p) for p in args.files], sheet=args.sheet, mapping=mapping or None
+        )
     table = Table(title="Interview files")
     for column in ("file", "status", "layout", "respondents", "answers", "sentences"):
-        table.add_column(column, justify="right" if column in ("respondents", "answers",
-                                                               "sentences") else "left")
+        table.add_column(
+            column, justify="right" if column in ("respondents", "answers", "sentences") else "left"
+        )
     for report in reports:
         table.add_row(
-            report["path"], report["status"], report.get("layout", ""),
+            report["path"],
+            report["status"],
+            report.get("layout", ""),
             *(str(report.get(k, "")) for k in ("respondents", "answers", "sentences")),
         )
     console.print(table)
@@ -135,15 +138,23 @@ def cmd_concepts_list(args: argparse.Namespace, console: Console) -> int:
         table.add_column(column)
     for concept in found:
         labels = "; ".join(f"{lang}: {text}" for lang, text in concept["labels"].items())
-        table.add_row(concept["id"], labels, concept["parent"] or "",
-                      str(per_concept.get(concept["id"], 0)))
+        table.add_row(
+            concept["id"], labels, concept["parent"] or "", str(per_concept.get(concept["id"], 0))
+        )
     console.print(table)
     history = Table(title="Imported versions")
     for column in ("#", "kind", "file", "sha256", "imported", "concepts", "aliases"):
         history.add_column(column)
     for v in versions:
-        history.add_row(str(v["id"]), v["kind"], v["path"], v["sha256"][:12], v["imported_at"],
-                        str(v["n_concepts"]), str(v["n_aliases"]))
+        history.add_row(
+            str(v["id"]),
+            v["kind"],
+            v["path"],
+            v["sha256"][:12],
+            v["imported_at"],
+            str(v["n_concepts"]),
+            str(v["n_aliases"]),
+        )
     console.print(history)
     return 0
 
@@ -184,12 +195,19 @@ def build_parser() -> argparse.ArgumentParser:
     )
     p = concepts.add_parser("import", help="import a concept list (CSV or XLSX)")
     p.add_argument("file")
-    p.add_argument("--varieties", dest="kind", action="store_const", const="variety",
-                   default="trait", help="the file is a variety list")
+    p.add_argument(
+        "--varieties",
+        dest="kind",
+        action="store_const",
+        const="variety",
+        default="trait",
+        help="the file is a variety list",
+    )
     p.set_defaults(handler=cmd_concepts_import)
     p = concepts.add_parser("list", help="list concepts and imported versions")
-    p.add_argument("--varieties", dest="kind", action="store_const", const="variety",
-                   default="trait")
+    p.add_argument(
+        "--varieties", dest="kind", action="store_const", const="variety", default="trait"
+    )
     p.set_defaults(handler=cmd_concepts_list)
 
     for register in _EXTRA_COMMANDS:
@@ -198,7 +216,6 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 _EXTRA_COMMANDS: list[Callable[[Any, Any], None]] = []
-
 
 
 # --------------------------------------------------------------------------- models
@@ -248,8 +265,13 @@ def cmd_models(args: argparse.Namespace, console: Console) -> int:
         table.add_column(column)
     for model in found:
         counts = model["meta"].get("counts", {})
-        table.add_row(model["version"], model["created_at"], str(counts.get("gold_sentences", "")),
-                      str(counts.get("silver_sentences", "")), _metric_summary(model["metrics"]))
+        table.add_row(
+            model["version"],
+            model["created_at"],
+            str(counts.get("gold_sentences", "")),
+            str(counts.get("silver_sentences", "")),
+            _metric_summary(model["metrics"]),
+        )
     console.print(table)
     return 0
 
@@ -302,8 +324,9 @@ def _print_run(report: dict[str, Any], console: Console) -> None:
     table.add_row("quality", _metric_summary(report["train"]["metrics"]))
     previous = report["previous_version"]
     if previous is not None:
-        table.add_row("previous version", f"{previous['version']}: "
-                      f"{_metric_summary(previous['metrics'])}")
+        table.add_row(
+            "previous version", f"{previous['version']}: {_metric_summary(previous['metrics'])}"
+        )
     table.add_row("trait mentions found", str(tagged["mentions"]))
     table.add_row("mentions not linked to a concept", str(tagged["unlinked"]))
     table.add_row("workbook", str(report["export"]["path"]))
@@ -320,8 +343,11 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
         version = ensure_tagged(ws, args.version)
         if args.format == "xlsx":
             report = export_workbook(
-                ws, version, out=Path(args.out) if args.out else None,
-                pseudonymise=args.pseudonymise, min_confidence=args.min_confidence,
+                ws,
+                version,
+                out=Path(args.out) if args.out else None,
+                pseudonymise=args.pseudonymise,
+                min_confidence=args.min_confidence,
                 group_by=args.group_by.split(",") if args.group_by else None,
                 names_file=args.names_file,
             )
@@ -329,8 +355,12 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
             from extractor.report.results import export_other
 
             report = export_other(
-                ws, version, args.format, out=Path(args.out) if args.out else None,
-                pseudonymise=args.pseudonymise, min_confidence=args.min_confidence,
+                ws,
+                version,
+                args.format,
+                out=Path(args.out) if args.out else None,
+                pseudonymise=args.pseudonymise,
+                min_confidence=args.min_confidence,
                 names_file=args.names_file,
             )
     console.print(f"Wrote {report['path']} ({report['mentions']} mentions).")
@@ -350,12 +380,18 @@ def _register_model_commands(sub: Any, concepts: Any) -> None:
     p.set_defaults(handler=cmd_run)
     p = sub.add_parser("export", help="write the preferred-traits workbook or another format")
     p.add_argument("--out", help="output file (default: exports/preferred_traits.xlsx)")
-    p.add_argument("--format", choices=("xlsx", "csv", "jsonl", "conll", "jsonld"),
-                   default="xlsx")
-    p.add_argument("--pseudonymise", action="store_true",
-                   help="replace respondent IDs by pseudonyms and screen quotes")
-    p.add_argument("--min-confidence", type=float, default=None,
-                   help="drop predicted mentions below this tagger confidence")
+    p.add_argument("--format", choices=("xlsx", "csv", "jsonl", "conll", "jsonld"), default="xlsx")
+    p.add_argument(
+        "--pseudonymise",
+        action="store_true",
+        help="replace respondent IDs by pseudonyms and screen quotes",
+    )
+    p.add_argument(
+        "--min-confidence",
+        type=float,
+        default=None,
+        help="drop predicted mentions below this tagger confidence",
+    )
     p.add_argument("--group-by", help="comma-separated respondent columns to compare")
     p.add_argument("--names-file", help="text file of names to screen out of quotes")
     p.add_argument("--version", help="model version (default: the newest)")
@@ -363,7 +399,6 @@ def _register_model_commands(sub: Any, concepts: Any) -> None:
 
 
 _EXTRA_COMMANDS.append(_register_model_commands)
-
 
 
 # --------------------------------------------------------------------------- labels
@@ -374,8 +409,14 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
     from extractor.jobs.pipeline import label
 
     with _workspace(args) as ws:
-        summary = label(ws, annotator=args.annotator, batch_size=args.batch,
-                        strategy=args.strategy, evaluation=args.evaluation, console=console)
+        summary = label(
+            ws,
+            annotator=args.annotator,
+            batch_size=args.batch,
+            strategy=args.strategy,
+            evaluation=args.evaluation,
+            console=console,
+        )
     console.print(
         f"Saved {summary['labeled']} labels this session ({summary['total_labels']} in all). "
         "Run `traits train` (or `traits run`) to build a model version from them."
@@ -391,8 +432,9 @@ def cmd_import_labels(args: argparse.Namespace, console: Console) -> int:
     with _workspace(args) as ws:
         default_lang = ws.settings["workspace"]["default_language"]
         records = read_labels(path, default_lang=default_lang)
-        counts = import_labels(ws.conn, records, annotator=args.annotator,
-                               default_lang=default_lang, source=path.name)
+        counts = import_labels(
+            ws.conn, records, annotator=args.annotator, default_lang=default_lang, source=path.name
+        )
     console.print(
         f"Imported {counts['labels']} labels ({counts['spans']} spans) from {path.name}: "
         f"{counts['matched']} matched stored sentences, {counts['added_sentences']} were added."
@@ -408,8 +450,10 @@ def cmd_evaluate(args: argparse.Namespace, console: Console) -> int:
         results = evaluate_workspace(ws, k=args.folds)
     from extractor.models.metrics import format_tables
 
-    for title, part in (("cross-validation", results.get("cross_validation")),
-                        ("evaluation sample", results.get("evaluation_sample"))):
+    for title, part in (
+        ("cross-validation", results.get("cross_validation")),
+        ("evaluation sample", results.get("evaluation_sample")),
+    ):
         if not part:
             console.print(f"No {title} figures: {results.get('notes', {}).get(title, '')}")
             continue
@@ -451,9 +495,16 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
         loaded = load_concept_list(Path(args.concepts), default_lang=args.lang)
         aliases = [(a["concept_id"], a["text"], a["lang"]) for a in loaded.aliases]
     results = simulate(
-        pool, test, aliases, strategies=args.strategies.split(","),
-        budgets=args.budgets, repeats=args.repeats,
-        seed=args.seed, batch_size=args.batch, jobs=args.jobs, model=args.model,
+        pool,
+        test,
+        aliases,
+        strategies=args.strategies.split(","),
+        budgets=args.budgets,
+        repeats=args.repeats,
+        seed=args.seed,
+        batch_size=args.batch,
+        jobs=args.jobs,
+        model=args.model,
         subpool=args.subpool or None,
     )
     Path(args.out).write_text(_json.dumps(results, indent=1), encoding="utf-8")
@@ -470,9 +521,14 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
         for column in ("strategy", "budget", "repeats", "gain (points)", "sd", "wins"):
             table.add_column(column)
         for row in gains:
-            table.add_row(row["strategy"], str(row["budget"]), str(row["n"]),
-                          f"{100 * row['gain']:+.1f}", f"{100 * row['sd']:.1f}",
-                          f"{row['wins']}/{row['n']}")
+            table.add_row(
+                row["strategy"],
+                str(row["budget"]),
+                str(row["n"]),
+                f"{100 * row['gain']:+.1f}",
+                f"{100 * row['sd']:.1f}",
+                f"{row['wins']}/{row['n']}",
+            )
         console.print(table)
     if args.plot:
         plot(results, Path(args.plot))
@@ -491,8 +547,10 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
     with _workspace(args) as ws:
         found = suggest_terms(ws, min_count=args.min_count)
         default = ws.settings["workspace"]["default_language"]
-        names = {c["id"]: c["labels"].get(default) or next(iter(c["labels"].values()), "")
-                 for c in store.concepts(ws.conn)}
+        names = {
+            c["id"]: c["labels"].get(default) or next(iter(c["labels"].values()), "")
+            for c in store.concepts(ws.conn)
+        }
     if not found:
         console.print("No unlinked term occurs often enough; nothing to suggest.")
         return 0
@@ -500,10 +558,12 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
     for column in ("term", "count", "nearest concepts", "nearest by word use", "example"):
         table.add_column(column, overflow="fold")
     for item in found[: args.limit]:
-        nearest = ", ".join(f"{names.get(c, '')} ({c}) {p:.2f}"
-                            for c, p in item.get("nearest", [])[:3])
-        similar = ", ".join(f"{names.get(c, '')} ({c}) {p:.2f}"
-                            for c, p in item.get("nearest_by_vectors", [])[:3])
+        nearest = ", ".join(
+            f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.get("nearest", [])[:3]
+        )
+        similar = ", ".join(
+            f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.get("nearest_by_vectors", [])[:3]
+        )
         examples = item.get("examples") or [""]
         table.add_row(item["term"], str(item["count"]), nearest, similar, str(examples[0]))
     console.print(table)
@@ -517,7 +577,8 @@ def cmd_concepts_accept(args: argparse.Namespace, console: Console) -> int:
         added = store.add_alias(ws.conn, args.concept, args.term, lang, args.annotator)
     console.print(
         f"Added {args.term!r} ({lang}) as an alias of {args.concept}."
-        if added else f"{args.term!r} ({lang}) is already an alias of {args.concept}."
+        if added
+        else f"{args.term!r} ({lang}) is already an alias of {args.concept}."
     )
     return 0
 
@@ -537,9 +598,12 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--annotator", required=True, help="your name, stored with every label")
     p.add_argument("--batch", type=int, help="sentences chosen together (default from settings)")
     p.add_argument("--strategy", help="query strategy (default from settings)")
-    p.add_argument("--evaluation", action="store_true",
-                   help="label sentences of the random evaluation sample (for honest "
-                   "quality figures) instead of the most informative ones")
+    p.add_argument(
+        "--evaluation",
+        action="store_true",
+        help="label sentences of the random evaluation sample (for honest "
+        "quality figures) instead of the most informative ones",
+    )
     p.set_defaults(handler=cmd_label)
     p = sub.add_parser("import-labels", help="import labels (gold JSON Lines or CoNLL IOB2)")
     p.add_argument("file")
@@ -553,17 +617,29 @@ def _register_label_commands(sub: Any, concepts: Any) -> None:
     p.add_argument("--test", required=True, help="gold labels to score on")
     p.add_argument("--concepts", help="concept list (CSV or XLSX)")
     p.add_argument("--strategies", default="default,random")
-    p.add_argument("--budgets", default="0,50,100,200", type=_budgets,
-                   help="numbers of labeled sentences to score at, comma-separated")
+    p.add_argument(
+        "--budgets",
+        default="0,50,100,200",
+        type=_budgets,
+        help="numbers of labeled sentences to score at, comma-separated",
+    )
     p.add_argument("--repeats", type=int, default=3)
     p.add_argument("--seed", type=int, default=0)
     p.add_argument("--batch", type=int, default=5, help="sentences queried together")
     p.add_argument("--jobs", type=int, default=1, help="runs in parallel (cores)")
-    p.add_argument("--model", choices=("traits", "tagger"), default="traits",
-                   help="retrain every model (traits) or the tagger alone (faster)")
-    p.add_argument("--subpool", type=int, default=500,
-                   help="after each retrain, rank a random sub-pool of this many unlabeled "
-                   "sentences, as `traits label` does (default 500; 0 = the whole pool)")
+    p.add_argument(
+        "--model",
+        choices=("traits", "tagger"),
+        default="traits",
+        help="retrain every model (traits) or the tagger alone (faster)",
+    )
+    p.add_argument(
+        "--subpool",
+        type=int,
+        default=500,
+        help="after each retrain, rank a random sub-pool of this many unlabeled "
+        "sentences, as `traits label` does (default 500; 0 = the whole pool)",
+    )
     p.add_argument("--lang", default="en", help="language of records that name none")
     p.add_argument("--out", default="results.json")
     p.add_argument("--plot", help="PNG of F1 against labeled sentences and tokens")
@@ -603,7 +679,9 @@ def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -
         where = exc.filename or "a file"
         errors.print(
             f"[bold red]error:[/] cannot use {where}: {exc.strerror or exc}; check the path "
-            "and its permissions.", highlight=False, soft_wrap=True,
+            "and its permissions.",
+            highlight=False,
+            soft_wrap=True,
         )
         return 1
     except KeyboardInterrupt:

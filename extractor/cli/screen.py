@@ -153,8 +153,10 @@ class LabelScreen:
             return None
         text = Text(" · ".join(bits), style="dim")
         if s.stop_signal:
-            text.append("\nFurther labels are changing little: this is a good moment to stop.",
-                        style="bold green")
+            text.append(
+                "\nFurther labels are changing little: this is a good moment to stop.",
+                style="bold green",
+            )
         return text
 
     def _context(self, item: Item) -> Table:
@@ -183,8 +185,9 @@ class LabelScreen:
     def _sentence(self, item: Item, draft: Sequence[Span]) -> Text:
         text = Text(item.sentence.text, style="bold")
         for span in draft:
-            text.stylize(f"underline {STANCE_STYLE.get(span.stance, 'magenta')}",
-                         span.start, span.end)
+            text.stylize(
+                f"underline {STANCE_STYLE.get(span.stance, 'magenta')}", span.start, span.end
+            )
         # Numbers after each span, inserted from the end so offsets stay valid.
         for n, span in sorted(enumerate(draft, 1), key=lambda p: -p[1].end):
             text = text[: span.end] + Text(f"[{n}]", style="dim") + text[span.end :]
@@ -193,8 +196,9 @@ class LabelScreen:
     def _label_of(self, concept: str | None, lang: str) -> str:
         if concept is None:
             return "no concept"
-        own = {e.lang: e.text for e in reversed(self.entries)
-               if e.concept == concept and e.preferred}
+        own = {
+            e.lang: e.text for e in reversed(self.entries) if e.concept == concept and e.preferred
+        }
         label = own.get(lang) or own.get("en") or next(iter(own.values()), "")
         return f"{concept} {label}".strip()
 
@@ -233,8 +237,11 @@ class LabelScreen:
         if tuple(draft) != item.suggestion:
             origin = "edited"
         else:
-            origin = {"model": "suggested by the model", "previous": "your earlier answer",
-                      "none": "nothing suggested"}[item.origin]
+            origin = {
+                "model": "suggested by the model",
+                "previous": "your earlier answer",
+                "none": "nothing suggested",
+            }[item.origin]
         c.print(Text(f"({origin}; Enter saves what is shown)", style="dim"))
         progress = self._progress()
         if progress is not None:
@@ -254,9 +261,9 @@ class LabelScreen:
             return found[0]
         self.console.print(f"Those words occur {len(found)} times:")
         for n, (start, end) in enumerate(found, 1):
-            line = Text(f"  {n}  …{text[max(0, start - 25):start]}")
+            line = Text(f"  {n}  …{text[max(0, start - 25) : start]}")
             line.append(text[start:end], style="bold underline")
-            line.append(f"{text[end:end + 25]}…")
+            line.append(f"{text[end : end + 25]}…")
             self.console.print(line)
         while True:
             answer = self.ask(f"which one (1-{len(found)})? ")

@@ -10,12 +10,12 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
-from extractor.workspace import store
-from extractor.ingest.concepts import file_sha256, load_concept_list
 from extractor.errors import InputError
 from extractor.ingest import read_interviews
-from extractor.progress import track
+from extractor.ingest.concepts import file_sha256, load_concept_list
 from extractor.nlp.text import split_sentences
+from extractor.progress import track
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 INTERVIEW_SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
@@ -86,8 +86,13 @@ def add_files(
             )
             status = "added" if counts["answers"] else "no new answers"
             reports.append(
-                {"path": where, "status": status, "layout": result.layout,
-                 "warnings": list(result.warnings)} | counts
+                {
+                    "path": where,
+                    "status": status,
+                    "layout": result.layout,
+                    "warnings": list(result.warnings),
+                }
+                | counts
             )
     return reports
 
@@ -99,7 +104,8 @@ def interview_files(folder: Path) -> list[Path]:
     return sorted(
         p
         for p in folder.iterdir()
-        if p.is_file() and p.suffix.lower() in INTERVIEW_SUFFIXES
+        if p.is_file()
+        and p.suffix.lower() in INTERVIEW_SUFFIXES
         and not p.name.startswith((".", "~$"))
     )
 
@@ -113,8 +119,13 @@ def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> dict[s
     current = store.current_concept_version(ws.conn, kind)
     sha = file_sha256(path) if path.exists() else None
     if current is not None and sha == current["sha256"]:
-        return {"status": "unchanged", "path": current["path"], "warnings": [],
-                "concepts": current["n_concepts"], "aliases": current["n_aliases"]}
+        return {
+            "status": "unchanged",
+            "path": current["path"],
+            "warnings": [],
+            "concepts": current["n_concepts"],
+            "aliases": current["n_aliases"],
+        }
     loaded = load_concept_list(path, default_lang=ws.settings["workspace"]["default_language"])
     version = store.replace_concept_list(
         ws.conn,

@@ -35,10 +35,10 @@ from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple
 
-from extractor.workspace import store
 from extractor.errors import InputError
 from extractor.nlp.text import tokenize
 from extractor.types import STANCES, Sentence, Span
+from extractor.workspace import store
 
 JSONL_SUFFIXES = (".jsonl", ".json", ".ndjson")
 CONLL_SUFFIXES = (".conll", ".iob", ".bio", ".tsv", ".txt")
@@ -103,13 +103,20 @@ def align_spans(
         out.append(snapped)
     out.sort(key=lambda s: (s.start, s.end))
     # Two spans that snap onto the same words are one mention: keep the first.
-    out = [s for k, s in enumerate(out) if k == 0 or (s.start, s.end) != (out[k - 1].start,
-                                                                          out[k - 1].end)]
+    out = [
+        s
+        for k, s in enumerate(out)
+        if k == 0 or (s.start, s.end) != (out[k - 1].start, out[k - 1].end)
+    ]
     for first, second in zip(out, out[1:], strict=False):
         if second.start < first.end:
-            raise _fail(source, line, f"spans {first.start}-{first.end} and "
-                                      f"{second.start}-{second.end} overlap (after snapping to "
-                                      "word boundaries)")
+            raise _fail(
+                source,
+                line,
+                f"spans {first.start}-{first.end} and "
+                f"{second.start}-{second.end} overlap (after snapping to "
+                "word boundaries)",
+            )
     return tuple(out), moved
 
 
@@ -131,12 +138,14 @@ def _optional_str(obj: Mapping[str, Any], key: str, source: str, line: int) -> s
 
 def _span_from_dict(obj: Any, text: str, source: str, line: int, k: int) -> Span:
     if not isinstance(obj, Mapping):
-        raise _fail(source, line, f"span {k + 1} must be an object with 'start' and 'end'; "
-                                  f"got {obj!r}")
+        raise _fail(
+            source, line, f"span {k + 1} must be an object with 'start' and 'end'; got {obj!r}"
+        )
     for key in ("start", "end"):
         if not _int(obj.get(key)):
-            raise _fail(source, line, f"span {k + 1} needs a whole-number {key!r}; "
-                                      f"got {obj.get(key)!r}")
+            raise _fail(
+                source, line, f"span {k + 1} needs a whole-number {key!r}; got {obj.get(key)!r}"
+            )
     start, end = int(obj["start"]), int(obj["end"])
     if start < 0:
         raise _fail(source, line, f"'start' {start} of span {k + 1} is negative")
@@ -151,9 +160,7 @@ def _span_from_dict(obj: Any, text: str, source: str, line: int, k: int) -> Span
     return Span(start, end, concept, stance)
 
 
-def record_from_dict(
-    obj: Any, *, source: str, line: int, default_lang: str
-) -> LabelRecord:
+def record_from_dict(obj: Any, *, source: str, line: int, default_lang: str) -> LabelRecord:
     """Return a validated record from one gold-format object (one JSONL line).
 
     Raises:
@@ -228,16 +235,20 @@ class _Token(NamedTuple):
 def _conll_token(raw: str, source: str, number: int) -> _Token:
     cols = raw.split()
     if not 2 <= len(cols) <= 4:
-        raise _fail(source, number, f"a token line needs 2 to 4 columns (token, tag, concept, "
-                                    f"stance); got {len(cols)}")
+        raise _fail(
+            source,
+            number,
+            f"a token line needs 2 to 4 columns (token, tag, concept, stance); got {len(cols)}",
+        )
     tag = cols[1]
     if tag != "O" and not (tag[:2] in ("B-", "I-") and len(tag) > 2):
         raise _fail(source, number, f"tag {tag!r} must be 'O', 'B-<type>' or 'I-<type>'")
     extra = [None if c == EMPTY else c for c in cols[2:]] + [None, None]
     stance = extra[1]
     if stance is not None and stance not in STANCES:
-        raise _fail(source, number, f"stance {stance!r} must be one of {', '.join(STANCES)} or "
-                                    f"'{EMPTY}'")
+        raise _fail(
+            source, number, f"stance {stance!r} must be one of {', '.join(STANCES)} or '{EMPTY}'"
+        )
     return _Token(cols[0], tag, extra[0], stance, number)
 
 
@@ -257,8 +268,11 @@ def _conll_sentence(
         for token in tokens:
             found = text.find(token.text, position)
             if found < 0:
-                raise _fail(source, token.line, f"token {token.text!r} is not in the '# text' "
-                                                "line after the previous token")
+                raise _fail(
+                    source,
+                    token.line,
+                    f"token {token.text!r} is not in the '# text' line after the previous token",
+                )
             offsets.append((found, found + len(token.text)))
             position = found + len(token.text)
     spans: list[Span] = []
@@ -266,9 +280,13 @@ def _conll_sentence(
     for i, token in enumerate(tokens):
         if token.tag.startswith("I-"):
             if kind != token.tag[2:]:
-                raise _fail(source, token.line, f"tag {token.tag!r} does not continue an entity "
-                                                f"of type {token.tag[2:]!r}; IOB2 opens every "
-                                                "entity with 'B-'")
+                raise _fail(
+                    source,
+                    token.line,
+                    f"tag {token.tag!r} does not continue an entity "
+                    f"of type {token.tag[2:]!r}; IOB2 opens every "
+                    "entity with 'B-'",
+                )
             spans[-1] = spans[-1]._replace(end=offsets[i][1])
         elif token.tag.startswith("B-"):
             kind = token.tag[2:]
@@ -342,7 +360,9 @@ def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
 
 
 def to_gold(
-    records: Iterable[LabelRecord | Mapping[str, Any]], *, first_id: int = 0,
+    records: Iterable[LabelRecord | Mapping[str, Any]],
+    *,
+    first_id: int = 0,
     default_lang: str = "en",
 ) -> list[tuple[Sentence, list[Span]]]:
     """Return records (or gold-format dicts) as ``(Sentence, spans)`` with made-up IDs.
@@ -351,10 +371,18 @@ def to_gold(
     """
     out = []
     for n, item in enumerate(records):
-        record = item if isinstance(item, LabelRecord) else record_from_dict(
-            item, source="data", line=n + 1, default_lang=default_lang)
-        sentence = Sentence(id=first_id + n, text=record.text, lang=record.lang,
-                            question=record.question, respondent=record.respondent)
+        record = (
+            item
+            if isinstance(item, LabelRecord)
+            else record_from_dict(item, source="data", line=n + 1, default_lang=default_lang)
+        )
+        sentence = Sentence(
+            id=first_id + n,
+            text=record.text,
+            lang=record.lang,
+            question=record.question,
+            respondent=record.respondent,
+        )
         out.append((sentence, list(record.spans)))
     return out
 
@@ -404,9 +432,13 @@ def import_labels(
         new = [r for r, sid in zip(records, found, strict=True) if sid is None]
         for record in new:
             if record.respondent is None:
-                raise _fail(source, record.line, "the sentence is not in the workspace and the "
-                                                 "file does not say who said it (add a "
-                                                 "respondent)")
+                raise _fail(
+                    source,
+                    record.line,
+                    "the sentence is not in the workspace and the "
+                    "file does not say who said it (add a "
+                    "respondent)",
+                )
         if new:
             rows: list[dict[str, Any]] = [
                 {"respondent": r.respondent, "question": r.question, "answer": r.text,
@@ -417,8 +449,12 @@ def import_labels(
                 for r in new
             ]  # fmt: skip
             added = store.add_source(
-                conn, path=source, sha256=_digest(new), kind="labels",
-                options={"annotator": annotator}, rows=rows,
+                conn,
+                path=source,
+                sha256=_digest(new),
+                kind="labels",
+                options={"annotator": annotator},
+                rows=rows,
                 sentence_offsets=[[(0, len(r.text))] for r in new],
             )
             counts["added_sentences"] = added["sentences"]
@@ -426,9 +462,13 @@ def import_labels(
             if sid is None:
                 sid = store.find_sentence(conn, record.text, record.respondent)
                 if sid is None:
-                    raise _fail(source, record.line, "this respondent's answer holding the text is "
-                                                     "stored as several sentences; label each "
-                                                     "sentence separately")
+                    raise _fail(
+                        source,
+                        record.line,
+                        "this respondent's answer holding the text is "
+                        "stored as several sentences; label each "
+                        "sentence separately",
+                    )
                 found[i] = sid
             store.add_label(conn, sid, list(record.spans), annotator, origin="import")
             counts["labels"] += 1

@@ -162,9 +162,7 @@ def known_languages() -> frozenset[str]:
 @lru_cache(maxsize=1)
 def _three_to_two() -> dict[str, str]:
     """Map ISO 639-3 codes to their ISO 639-1 equivalent (ISO 639 tables from pycountry)."""
-    pairs = {
-        lang.alpha_3: lang.alpha_2 for lang in pycountry.languages if hasattr(lang, "alpha_2")
-    }
+    pairs = {lang.alpha_3: lang.alpha_2 for lang in pycountry.languages if hasattr(lang, "alpha_2")}
     return pairs | {
         lang.iso_code_639_3.name.lower(): lang.iso_code_639_1.name.lower()
         for lang in Language.all()

@@ -14,12 +14,8 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from extractor.workspace import store
-from extractor.nlp.clusters import corpus_fingerprint, load_clusters
 from extractor.errors import ModelError, TraitsError
 from extractor.ingest.intake import add_files, import_concepts, interview_files
-from extractor.models.bundle import TraitModels
-from extractor.progress import track
 from extractor.loop.session import (
     Prediction,
     Predictor,
@@ -28,7 +24,11 @@ from extractor.loop.session import (
     Suggestion,
     ensure_samples,
 )
+from extractor.models.bundle import TraitModels
+from extractor.nlp.clusters import corpus_fingerprint, load_clusters
+from extractor.progress import track
 from extractor.types import Sentence, Span
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 MIN_LABELS_FOR_CV = 20
@@ -98,8 +98,10 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
         raise ModelError("The workspace holds no sentences; add interviews with `traits add FILE`.")
     notes = []
     if held_out:
-        notes.append(f"{len(held_out)} labeled sentences of the evaluation sample are "
-                     "kept out of training, so `traits evaluate` can score on them honestly.")
+        notes.append(
+            f"{len(held_out)} labeled sentences of the evaluation sample are "
+            "kept out of training, so `traits evaluate` can score on them honestly."
+        )
     if not aliases:
         notes.append("No concept list is imported, so the tagger learns from labels alone.")
     corpus = store.sentences(ws.conn)
@@ -121,9 +123,13 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     concept_version = store.current_concept_version(ws.conn)
     extra = {
         "version": version,
-        "concept_list": None if concept_version is None else {
-            "path": concept_version["path"], "sha256": concept_version["sha256"],
-            "imported_at": concept_version["imported_at"]},
+        "concept_list": None
+        if concept_version is None
+        else {
+            "path": concept_version["path"],
+            "sha256": concept_version["sha256"],
+            "imported_at": concept_version["imported_at"],
+        },
         "metrics": metrics,
     }
     try:
@@ -132,8 +138,13 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> dict[str, Any]:
     except BaseException:
         shutil.rmtree(folder, ignore_errors=True)
         raise
-    return {"version": version, "models": models, "counts": models.counts_, "notes": notes,
-            "metrics": metrics}
+    return {
+        "version": version,
+        "models": models,
+        "counts": models.counts_,
+        "notes": notes,
+        "metrics": metrics,
+    }
 
 
 def _cross_validate(
@@ -151,16 +162,26 @@ def _cross_validate(
     from extractor.models import metrics as evaluate
 
     if len(gold) < MIN_LABELS_FOR_CV:
-        return None, (f"only {len(gold)} sentences outside the evaluation sample are labeled; "
-                      f"label at least {MIN_LABELS_FOR_CV} (`traits label` or "
-                      "`traits import-labels`).")
+        return None, (
+            f"only {len(gold)} sentences outside the evaluation sample are labeled; "
+            f"label at least {MIN_LABELS_FOR_CV} (`traits label` or "
+            "`traits import-labels`)."
+        )
     if len({evaluate.respondent_key(s) for s, _ in gold}) < 2:
-        return None, ("all labels come from one respondent, so there is no cross-validation "
-                      "(its folds keep each respondent's sentences together); label another's.")
+        return None, (
+            "all labels come from one respondent, so there is no cross-validation "
+            "(its folds keep each respondent's sentences together); label another's."
+        )
     return evaluate.cross_validate(
-        gold, corpus, alias_tuples(ws), k=k, seed=0,
-        model_params={"tagger_params": dict(ws.settings["tagger"]),
-                      "link_threshold": float(ws.settings["linking"]["threshold"])},
+        gold,
+        corpus,
+        alias_tuples(ws),
+        k=k,
+        seed=0,
+        model_params={
+            "tagger_params": dict(ws.settings["tagger"]),
+            "link_threshold": float(ws.settings["linking"]["threshold"]),
+        },
         clusters=clusters,
     ), ""
 
@@ -170,8 +191,11 @@ def load_version(ws: Workspace, version: str | None = None) -> tuple[str, TraitM
     recorded = store.models(ws.conn)
     if not recorded:
         raise ModelError("No model is trained yet; run `traits train` or `traits run`.")
-    chosen = recorded[-1] if version is None else next(
-        (m for m in recorded if m["version"] == version), None)
+    chosen = (
+        recorded[-1]
+        if version is None
+        else next((m for m in recorded if m["version"] == version), None)
+    )
     if chosen is None:
         raise ModelError(
             f"Model version {version!r} is not in this workspace; see `traits models`."
@@ -195,15 +219,17 @@ def tag(ws: Workspace, models: TraitModels, version: str) -> dict[str, Any]:
     for start in track(chunks, "Tagging sentences", len(chunks)):
         batch = corpus[start : start + CHUNK]
         for sentence, prediction in zip(batch, models.predict(batch, gold_concepts), strict=True):
-            rows.append({
-                "sentence_id": sentence.id,
-                "path_prob": prediction.tagged.probability,
-                "mentions": [
-                    m._asdict() | {"source": "predicted", "concept_probs": None,
-                                   "stance_probs": None}
-                    for m in prediction.mentions
-                ],
-            })
+            rows.append(
+                {
+                    "sentence_id": sentence.id,
+                    "path_prob": prediction.tagged.probability,
+                    "mentions": [
+                        m._asdict()
+                        | {"source": "predicted", "concept_probs": None, "stance_probs": None}
+                        for m in prediction.mentions
+                    ],
+                }
+            )
     attribute_varieties(ws, corpus, rows)
     store.store_predictions(ws.conn, version, rows)
     mentions = sum(len(r["mentions"]) for r in rows)
@@ -221,8 +247,8 @@ def attribute_varieties(
     records the variety compared with. Needs a variety list (`traits concepts import
     --varieties`); without one, only the variety column is used, as written.
     """
-    from extractor.nlp.dictionary import build_dictionary
     from extractor.models.variety import attribute_variety, find_varieties
+    from extractor.nlp.dictionary import build_dictionary
 
     names = alias_tuples(ws, "variety")
     matcher = build_dictionary(names) if names else None
@@ -237,8 +263,11 @@ def attribute_varieties(
         return [v for _, _, v in find_varieties(text, lang, matcher)]
 
     for answer_id, items in by_answer.items():
-        mentions = [(i, Span(m["start"], m["end"])) for i, (_, row) in enumerate(items)
-                    for m in row["mentions"]]
+        mentions = [
+            (i, Span(m["start"], m["end"]))
+            for i, (_, row) in enumerate(items)
+            for m in row["mentions"]
+        ]
         if not mentions:
             continue
         sentences = [s for s, _ in items]
@@ -246,9 +275,11 @@ def attribute_varieties(
         written = column.get(answer_id)
         answer_variety = (ids_in(written, lang) or [written])[0] if written else None
         found = attribute_variety(
-            sentences, mentions,
+            sentences,
+            mentions,
             [find_varieties(s.text, s.lang, matcher) if matcher else [] for s in sentences],
-            answer_variety, ids_in(sentences[0].question, lang),
+            answer_variety,
+            ids_in(sentences[0].question, lang),
         )
         flat = [m for _, row in items for m in row["mentions"]]
         for mention, (subject, reference) in zip(flat, found, strict=True):
@@ -292,8 +323,11 @@ def run(ws: Workspace) -> dict[str, Any]:
     trained = train(ws)
     report["train"] = {k: v for k, v in trained.items() if k != "models"}
     report["tag"] = tag(ws, trained["models"], trained["version"])
-    report["previous_version"] = None if previous is None else {
-        "version": previous["version"], "metrics": previous["metrics"]}
+    report["previous_version"] = (
+        None
+        if previous is None
+        else {"version": previous["version"], "metrics": previous["metrics"]}
+    )
     from extractor.report.results import export_workbook
 
     report["export"] = export_workbook(ws, trained["version"])
@@ -311,12 +345,22 @@ def predictor_for(models: TraitModels) -> Predictor:
         out = []
         for found in models.predict(sentences):
             suggestions = tuple(
-                Suggestion(Span(m.start, m.end, m.concept, m.stance), m.confidence,
-                           m.concept_probs, m.stance_probs)
+                Suggestion(
+                    Span(m.start, m.end, m.concept, m.stance),
+                    m.confidence,
+                    m.concept_probs,
+                    m.stance_probs,
+                )
                 for m in found.mentions
             )
-            out.append(Prediction(tuple(found.tagged.tags), tuple(found.tagged.marginals),
-                                  found.tagged.probability, suggestions))
+            out.append(
+                Prediction(
+                    tuple(found.tagged.tags),
+                    tuple(found.tagged.marginals),
+                    found.tagged.probability,
+                    suggestions,
+                )
+            )
         return out
 
     return predict
@@ -357,9 +401,16 @@ def session_settings(ws: Workspace) -> SessionSettings:
     )
 
 
-def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: str | None,
-          evaluation: bool = False, console: Any = None, input_stream: Any = None
-          ) -> dict[str, Any]:
+def label(
+    ws: Workspace,
+    *,
+    annotator: str,
+    batch_size: int | None,
+    strategy: str | None,
+    evaluation: bool = False,
+    console: Any = None,
+    input_stream: Any = None,
+) -> dict[str, Any]:
     """Run a labeling session over the newest model version (or a cold start).
 
     With ``evaluation``, the sentences come from the unlabeled part of the random
@@ -373,9 +424,14 @@ def label(ws: Workspace, *, annotator: str, batch_size: int | None, strategy: st
         _, models = load_version(ws)
         predictor = predictor_for(models)
     return run_console(
-        ws.conn, annotator=annotator, batch_size=batch_size or int(active["batch_size"]),
-        strategy=strategy or str(active["strategy"]), model_provider=predictor,
-        retrain=retrainer(ws), console=console, input_stream=input_stream,
+        ws.conn,
+        annotator=annotator,
+        batch_size=batch_size or int(active["batch_size"]),
+        strategy=strategy or str(active["strategy"]),
+        model_provider=predictor,
+        retrain=retrainer(ws),
+        console=console,
+        input_stream=input_stream,
         settings=dataclasses.replace(session_settings(ws), offer_evaluation=evaluation),
         quality=lambda: stored_quality(ws),
     )
@@ -431,10 +487,15 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> dict[str, Any]:
             )
     if latest is not None:
         results["version"] = latest["version"]
-        store.set_model_metrics(ws.conn, latest["version"], {
-            key: results[key] for key in ("cross_validation", "evaluation_sample")
-            if key in results
-        })
+        store.set_model_metrics(
+            ws.conn,
+            latest["version"],
+            {
+                key: results[key]
+                for key in ("cross_validation", "evaluation_sample")
+                if key in results
+            },
+        )
     return results
 
 
@@ -447,8 +508,10 @@ def suggest_terms(ws: Workspace, *, min_count: int = 2) -> list[dict[str, Any]]:
     sentences = {s.id: s for s in store.sentences(ws.conn, predicted)}
     unlinked = [
         (sentences[sid], Span(m["start"], m["end"]))
-        for sid, row in predicted.items() if sid in sentences
-        for m in row["mentions"] if m.get("concept") is None
+        for sid, row in predicted.items()
+        if sid in sentences
+        for m in row["mentions"]
+        if m.get("concept") is None
     ]
     return rank_terms(unlinked, models.linker_, models.clusters_, min_count=min_count)
 
@@ -475,14 +538,30 @@ def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
             row[alias["kind"]].append(alias["text"])
     with out.open("w", encoding="utf-8", newline="") as handle:
         writer = csv.writer(handle)
-        writer.writerow(["id", "label", "lang", "synonyms", "hidden", "parent", "definition",
-                         "accepted_aliases"])
+        writer.writerow(
+            [
+                "id",
+                "label",
+                "lang",
+                "synonyms",
+                "hidden",
+                "parent",
+                "definition",
+                "accepted_aliases",
+            ]
+        )
         for (concept_id, lang), row in sorted(rows.items()):
             concept = concepts.get(concept_id, {})
-            writer.writerow([
-                concept_id, concept.get("labels", {}).get(lang, ""), lang,
-                "|".join(row["alternative"]), "|".join(row["hidden"]),
-                concept.get("parent") or "", concept.get("definition") or "",
-                "|".join(row["accepted"]),
-            ])
+            writer.writerow(
+                [
+                    concept_id,
+                    concept.get("labels", {}).get(lang, ""),
+                    lang,
+                    "|".join(row["alternative"]),
+                    "|".join(row["hidden"]),
+                    concept.get("parent") or "",
+                    concept.get("definition") or "",
+                    "|".join(row["accepted"]),
+                ]
+            )
     return out

@@ -28,7 +28,7 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
-from extractor.workspace import store
+from extractor.errors import InputError, TraitsError
 from extractor.loop.strategies import (
     PoolItem,
     density,
@@ -39,8 +39,8 @@ from extractor.loop.strategies import (
     stabilizing_predictions,
     weigh_by_density,
 )
-from extractor.errors import InputError, TraitsError
 from extractor.types import STANCES, Sentence, Span
+from extractor.workspace import store
 
 # --------------------------------------------------------------------------- model protocol
 
@@ -178,9 +178,7 @@ def ensure_samples(
         free = [i for i in all_ids if i not in held]
         size = min(settings.stop_set_size, len(free))
         if size > 0:
-            store.add_to_sample(
-                conn, "stop", sorted(int(i) for i in rng.choice(free, size, False))
-            )
+            store.add_to_sample(conn, "stop", sorted(int(i) for i in rng.choice(free, size, False)))
             stop = store.sample_ids(conn, "stop")
     if evaluation and len(evaluation) < target:
         held = set(evaluation) | set(stop) | set(store.current_labels(conn))
@@ -293,8 +291,9 @@ class Session:
         if self.strategy.diversity or self.strategy.density_beta:
             ids = list(self._sentences)
             self._all_pos = {sid: k for k, sid in enumerate(ids)}
-            self._vectors = sentence_vectors([self._sentences[i].text for i in ids],
-                                             seed=self.settings.seed)
+            self._vectors = sentence_vectors(
+                [self._sentences[i].text for i in ids], seed=self.settings.seed
+            )
         if self.strategy.density_beta and len(pool):
             self._density = density(self._vector_rows(pool))
 
@@ -727,8 +726,11 @@ def rank_concepts(
             labels.setdefault(e.concept, {}).setdefault(e.lang, e.text)
     best: dict[str, tuple[tuple[int, int, str], ConceptEntry]] = {}
     for e in entries:
-        ranks = [r for r in (_match_rank(wanted, fold(e.text)),
-                             _match_rank(wanted, fold(e.concept))) if r is not None]
+        ranks = [
+            r
+            for r in (_match_rank(wanted, fold(e.text)), _match_rank(wanted, fold(e.concept)))
+            if r is not None
+        ]
         if not ranks:
             continue
         key = (min(ranks), len(e.text), e.concept)

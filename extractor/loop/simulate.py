@@ -39,14 +39,14 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
-from extractor.loop import strategies as active
 from extractor.errors import InputError
-from extractor.models.metrics import SUMMARY_KEYS, predicted_mentions, score, summary
 from extractor.ingest.labels import LabelRecord, to_gold
+from extractor.loop import strategies as active
 from extractor.models.bundle import span_confidence
-from extractor.progress import track
-from extractor.nlp.spans import iob_to_spans
+from extractor.models.metrics import SUMMARY_KEYS, predicted_mentions, score, summary
 from extractor.models.tagger import TagResult, fit_tagger, sentence_items
+from extractor.nlp.spans import iob_to_spans
+from extractor.progress import track
 from extractor.types import Sentence, Span
 
 Alias = tuple[str, str, str]
@@ -110,8 +110,7 @@ class TaggerOnly:
         self.clusters_ = clusters
         labeled = {s.id for s, _ in gold}
         silver = [s for s in corpus if s.id not in labeled] if aliases else []
-        self.tagger_ = fit_tagger(gold, silver, self.dictionary_, clusters,
-                                  **self.tagger_params)
+        self.tagger_ = fit_tagger(gold, silver, self.dictionary_, clusters, **self.tagger_params)
         return self
 
     def share_cache(self, cache: dict[int, Any]) -> TaggerOnly:
@@ -130,12 +129,20 @@ class TaggerOnly:
             offsets, _, matches = self._cache[s.id]
             # As in tag_sentences: a span that is exactly a dictionary match takes its concept.
             concepts = {(m.start, m.end): m.concept for m in matches}
-            spans = [sp._replace(concept=concepts.get((sp.start, sp.end)))
-                     for sp in iob_to_spans(offsets, path.tags)]
+            spans = [
+                sp._replace(concept=concepts.get((sp.start, sp.end)))
+                for sp in iob_to_spans(offsets, path.tags)
+            ]
             result = TagResult(spans, offsets, path.tags, path.marginals, path.probability)
-            out.append(PlainPrediction(
-                [PlainMention(sp.start, sp.end, span_confidence(result, sp), sp.concept)
-                 for sp in result.spans], result))
+            out.append(
+                PlainPrediction(
+                    [
+                        PlainMention(sp.start, sp.end, span_confidence(result, sp), sp.concept)
+                        for sp in result.spans
+                    ],
+                    result,
+                )
+            )
         return out
 
 
@@ -160,12 +167,19 @@ def make_models(kind: str, params: Mapping[str, Any] | None = None) -> Any:
 def pool_item(prediction: Any) -> active.PoolItem:
     """Return what the query strategies need from one model prediction."""
     tagged = prediction.tagged
-    link = [{m.concept or "(unlinked)": float(m.link_prob)} for m in prediction.mentions
-            if m.concept is not None or m.link_prob]
+    link = [
+        {m.concept or "(unlinked)": float(m.link_prob)}
+        for m in prediction.mentions
+        if m.concept is not None or m.link_prob
+    ]
     stance = [{m.stance: float(m.stance_prob)} for m in prediction.mentions if m.stance]
-    return active.PoolItem(marginals=tagged.marginals, path_prob=float(tagged.probability),
-                           n_tokens=len(tagged.token_offsets), link_dists=link,
-                           stance_dists=stance)
+    return active.PoolItem(
+        marginals=tagged.marginals,
+        path_prob=float(tagged.probability),
+        n_tokens=len(tagged.token_offsets),
+        link_dists=link,
+        stance_dists=stance,
+    )
 
 
 class _Shared(NamedTuple):
@@ -209,8 +223,14 @@ def _fit(shared: _Shared, labeled: Sequence[int], cache: dict[int, Any]) -> Any:
     return model.fit(gold, corpus, shared.aliases, clusters=shared.clusters)
 
 
-def _record(task: _Task, budget: int, labeled: Sequence[int], figures: Mapping[str, Any],
-            shared: _Shared, started: float) -> dict[str, Any]:
+def _record(
+    task: _Task,
+    budget: int,
+    labeled: Sequence[int],
+    figures: Mapping[str, Any],
+    shared: _Shared,
+    started: float,
+) -> dict[str, Any]:
     return {
         "strategy": task.strategy, "budget": budget, "repeat": task.repeat,
         "labeled_sentences": len(labeled),
@@ -239,16 +259,18 @@ def _run(task: _Task) -> list[dict[str, Any]]:
     cache: dict[int, Any] = {}
     records = []
     if 0 in budgets:
-        figures = (_figures(_fit(shared, [], cache), shared) if shared.aliases
-                   else dict.fromkeys(FIGURES))
+        figures = (
+            _figures(_fit(shared, [], cache), shared) if shared.aliases else dict.fromkeys(FIGURES)
+        )
         records.append(_record(task, 0, [], figures, shared, started))
     top = budgets[-1]
     labeled = seed_set[: min(task.seed_size, top)]
     for budget in budgets:
         if 0 < budget <= len(labeled):
             model = _fit(shared, labeled[:budget], cache)
-            records.append(_record(task, budget, labeled[:budget], _figures(model, shared),
-                                   shared, started))
+            records.append(
+                _record(task, budget, labeled[:budget], _figures(model, shared), shared, started)
+            )
     if not labeled:
         return records
     model = _fit(shared, labeled, cache)
@@ -265,9 +287,15 @@ def _run(task: _Task) -> list[dict[str, Any]]:
         exclude = {k for k, i in enumerate(scored) if i in taken}
         vectors = shared.vectors[scored] if shared.vectors is not None else None
         labeled_vectors = shared.vectors[labeled] if shared.vectors is not None else None
-        picked = active.select(scores, vectors, want, diversity=strategy.diversity,
-                               exclude=exclude, labeled_vectors=labeled_vectors,
-                               seed=task.seed * 1000 + task.repeat * 100 + round_no)
+        picked = active.select(
+            scores,
+            vectors,
+            want,
+            diversity=strategy.diversity,
+            exclude=exclude,
+            labeled_vectors=labeled_vectors,
+            seed=task.seed * 1000 + task.repeat * 100 + round_no,
+        )
         round_no += 1
         if not picked:  # the sub-pool is used up before the model changed
             stale = True
@@ -278,13 +306,20 @@ def _run(task: _Task) -> list[dict[str, Any]]:
             model = _fit(shared, labeled, cache)
             since, stale = 0, True
             if len(labeled) in budgets:
-                records.append(_record(task, len(labeled), labeled, _figures(model, shared),
-                                       shared, started))
+                records.append(
+                    _record(task, len(labeled), labeled, _figures(model, shared), shared, started)
+                )
     return records
 
 
-def _score_pool(model: Any, shared: _Shared, labeled: Sequence[int], strategy: active.Strategy,
-                rng: random.Random, subpool: int | None) -> tuple[list[int], np.ndarray]:
+def _score_pool(
+    model: Any,
+    shared: _Shared,
+    labeled: Sequence[int],
+    strategy: active.Strategy,
+    rng: random.Random,
+    subpool: int | None,
+) -> tuple[list[int], np.ndarray]:
     taken = set(labeled)
     unlabeled = [i for i in range(len(shared.pool)) if i not in taken]
     if subpool is not None and len(unlabeled) > subpool:
@@ -365,25 +400,52 @@ def simulate(
 
         clusters = learn_clusters([(s.text, s.lang) for s, _ in pool_gold + test_gold], seed=seed)
     need_vectors = any(s.diversity or s.density_beta for s in chosen)
-    vectors = (active.sentence_vectors([s.text for s, _ in pool_gold], seed=seed)
-               if need_vectors else None)
-    dens = (active.density(vectors) if vectors is not None
-            and any(s.density_beta for s in chosen) else None)
+    vectors = (
+        active.sentence_vectors([s.text for s, _ in pool_gold], seed=seed) if need_vectors else None
+    )
+    dens = (
+        active.density(vectors)
+        if vectors is not None and any(s.density_beta for s in chosen)
+        else None
+    )
     from extractor.nlp.text import tokenize
 
-    shared = _Shared(pool_gold, test_gold, list(aliases), clusters, model, model_params or {},
-                     vectors, dens, [len(tokenize(s.text, s.lang)) for s, _ in pool_gold])
+    shared = _Shared(
+        pool_gold,
+        test_gold,
+        list(aliases),
+        clusters,
+        model,
+        model_params or {},
+        vectors,
+        dens,
+        [len(tokenize(s.text, s.lang)) for s, _ in pool_gold],
+    )
     tasks = [
-        _Task(name, spec, r, tuple(sorted(set(budgets))), seed, seed_size, batch_size,
-              retrain_every, subpool)
-        for r in range(repeats) for name, spec in zip(strategies, chosen, strict=True)
+        _Task(
+            name,
+            spec,
+            r,
+            tuple(sorted(set(budgets))),
+            seed,
+            seed_size,
+            batch_size,
+            retrain_every,
+            subpool,
+        )
+        for r in range(repeats)
+        for name, spec in zip(strategies, chosen, strict=True)
     ]
     results: list[list[dict[str, Any]]] = [[] for _ in tasks]
     if jobs > 1:
         # "spawn", not fork: a forked child inherits the parent's BLAS/OpenMP thread
         # state (k-means, SVD) and can hang on its first threaded call.
-        with ProcessPoolExecutor(max_workers=jobs, mp_context=get_context("spawn"),
-                                 initializer=_init_worker, initargs=(shared,)) as executor:
+        with ProcessPoolExecutor(
+            max_workers=jobs,
+            mp_context=get_context("spawn"),
+            initializer=_init_worker,
+            initargs=(shared,),
+        ) as executor:
             futures = {executor.submit(_run, t): k for k, t in enumerate(tasks)}
             for future in track(as_completed(futures), "Simulating runs", len(tasks)):
                 results[futures[future]] = future.result()
@@ -403,8 +465,11 @@ def simulate(
 
 
 def _describe(strategy: active.Strategy) -> dict[str, Any]:
-    return {"score": getattr(strategy.score, "__name__", repr(strategy.score)),
-            "density_beta": strategy.density_beta, "diversity": strategy.diversity}
+    return {
+        "score": getattr(strategy.score, "__name__", repr(strategy.score)),
+        "density_beta": strategy.density_beta,
+        "diversity": strategy.diversity,
+    }
 
 
 def curve_table(results: Mapping[str, Any], figure: str = "span_f1") -> list[dict[str, Any]]:
@@ -425,8 +490,9 @@ def curve_table(results: Mapping[str, Any], figure: str = "span_f1") -> list[dic
     return rows
 
 
-def paired_gain(results: Mapping[str, Any], *, baseline: str = "random",
-                figure: str = "span_f1") -> list[dict[str, Any]]:
+def paired_gain(
+    results: Mapping[str, Any], *, baseline: str = "random", figure: str = "span_f1"
+) -> list[dict[str, Any]]:
     """Return each strategy's gain over ``baseline`` per budget, paired by repeat.
 
     Repeat ``r`` of every strategy starts from the same seed sentences, so the difference
@@ -436,7 +502,8 @@ def paired_gain(results: Mapping[str, Any], *, baseline: str = "random",
     """
     values: dict[tuple[str, int, int], float] = {
         (r["strategy"], r["budget"], r["repeat"]): r[figure]
-        for r in results["runs"] if r.get(figure) is not None
+        for r in results["runs"]
+        if r.get(figure) is not None
     }
     pairs: dict[tuple[str, int], list[float]] = {}
     for (strategy, budget, repeat), value in sorted(values.items()):

@@ -196,8 +196,14 @@ def sentence_vectors(texts: Sequence[str], *, dims: int = 128, seed: int = 0) ->
 
     if not texts:
         return np.zeros((0, 1))
-    tfidf = TfidfVectorizer(analyzer="char_wb", ngram_range=(3, 4), max_features=1 << 14,
-                            sublinear_tf=True, lowercase=True, dtype=np.float32)
+    tfidf = TfidfVectorizer(
+        analyzer="char_wb",
+        ngram_range=(3, 4),
+        max_features=1 << 14,
+        sublinear_tf=True,
+        lowercase=True,
+        dtype=np.float32,
+    )
     matrix = tfidf.fit_transform(texts)
     if matrix.shape[1] <= dims:
         return np.asarray(matrix.todense(), dtype=float)
@@ -362,8 +368,9 @@ def select(
     labeled = None
     if labeled_vectors is not None and len(labeled_vectors) > 0:
         labeled = np.asarray(labeled_vectors, dtype=float)
-    picked = ranked_batch_indices(np.asarray(vectors, dtype=float)[pool], unit, labeled, n,
-                                  n_unlabeled=len(allowed))
+    picked = ranked_batch_indices(
+        np.asarray(vectors, dtype=float)[pool], unit, labeled, n, n_unlabeled=len(allowed)
+    )
     return [int(pool[i]) for i in picked]
 
 
@@ -424,4 +431,3 @@ def should_stop(kappas: Sequence[float], threshold: float = 0.99, rounds: int = 
     if len(kappas) < rounds:
         return False
     return all(k >= threshold for k in kappas[-rounds:])
-

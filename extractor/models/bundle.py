@@ -19,12 +19,12 @@ from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
 from typing import Any, NamedTuple
 
-from extractor.nlp.clusters import learn_clusters, load_clusters, save_clusters
-from extractor.nlp.dictionary import Dictionary, build_dictionary
 from extractor.errors import ModelError, NotFittedError
 from extractor.models.linking import ConceptLinker
 from extractor.models.stance import StanceModel
 from extractor.models.tagger import TagResult, TraitTagger, fit_tagger, tag_sentences
+from extractor.nlp.clusters import learn_clusters, load_clusters, save_clusters
+from extractor.nlp.dictionary import Dictionary, build_dictionary
 from extractor.types import STANCES, Sentence, Span
 
 Alias = tuple[str, str, str]
@@ -73,8 +73,9 @@ def span_confidence(tagged: TagResult, span: Span) -> float:
     """Return the tagger's confidence in a span: the lowest marginal of its tokens' tags."""
     probs = [
         marginal.get(tag, 0.0)
-        for (s, e), tag, marginal in zip(tagged.token_offsets, tagged.tags, tagged.marginals,
-                                         strict=True)
+        for (s, e), tag, marginal in zip(
+            tagged.token_offsets, tagged.tags, tagged.marginals, strict=True
+        )
         if s < span.end and e > span.start
     ]
     return min(probs) if probs else 0.0
@@ -134,8 +135,9 @@ class TraitModels:
         )
         labeled = {s.id for s, _ in gold} | held_out
         silver = [s for s in corpus if s.id not in labeled]
-        self.tagger_ = fit_tagger(gold, silver, self.dictionary_, self.clusters_,
-                                  **self.tagger_params)
+        self.tagger_ = fit_tagger(
+            gold, silver, self.dictionary_, self.clusters_, **self.tagger_params
+        )
         link_examples = [(s, sp, sp.concept) for s, spans in gold for sp in spans if sp.concept]
         if self.dictionary_ is not None:
             for sentence, matches in zip(silver, self.dictionary_.match_many(silver), strict=True):
@@ -175,8 +177,9 @@ class TraitModels:
         """
         self._check()
         tagged = tag_sentences(self.tagger_, sentences, self.dictionary_, self.clusters_)
-        items = [(s, span) for s, result in zip(sentences, tagged, strict=True)
-                 for span in result.spans]
+        items = [
+            (s, span) for s, result in zip(sentences, tagged, strict=True) for span in result.spans
+        ]
         given = [
             (gold_concepts or {}).get(s.id, {}).get((span.start, span.end)) for s, span in items
         ]
@@ -191,10 +194,17 @@ class TraitModels:
                 k += 1
                 best = int(probs.argmax())
                 mentions.append(
-                    Mention(span.start, span.end, span_confidence(result, span), link.concept,
-                            float(link.probability), STANCES[best], float(probs[best]),
-                            dict(link.candidates),
-                            {stance: float(p) for stance, p in zip(STANCES, probs, strict=True)})
+                    Mention(
+                        span.start,
+                        span.end,
+                        span_confidence(result, span),
+                        link.concept,
+                        float(link.probability),
+                        STANCES[best],
+                        float(probs[best]),
+                        dict(link.candidates),
+                        {stance: float(p) for stance, p in zip(STANCES, probs, strict=True)},
+                    )
                 )
             out.append(SentencePrediction(mentions, result))
         return out
@@ -219,8 +229,10 @@ class TraitModels:
             "created_at": datetime.now(UTC).isoformat(timespec="seconds"),
             "counts": self.counts_,
             "parameters": {
-                "tagger": self.tagger_.get_params() | {
-                    k: v for k, v in self.tagger_params.items()
+                "tagger": self.tagger_.get_params()
+                | {
+                    k: v
+                    for k, v in self.tagger_params.items()
                     if k in ("gold_weight", "silver_filter", "silver_threshold")
                 },
                 "link_threshold": self.link_threshold,
@@ -242,8 +254,9 @@ class TraitModels:
             json.dumps([list(a) for a in self.aliases_], ensure_ascii=False), encoding="utf-8"
         )
         meta = self.meta() | (extra_meta or {})
-        (folder / META_FILE).write_text(json.dumps(meta, indent=2, ensure_ascii=False),
-                                        encoding="utf-8")
+        (folder / META_FILE).write_text(
+            json.dumps(meta, indent=2, ensure_ascii=False), encoding="utf-8"
+        )
         return meta
 
     @classmethod
@@ -261,8 +274,7 @@ class TraitModels:
                 f"{folder} is not a readable model version ({exc}); retrain with `traits train`."
             ) from exc
         params = meta.get("parameters", {})
-        models = cls(link_threshold=params.get("link_threshold", 0.25),
-                     seed=params.get("seed", 0))
+        models = cls(link_threshold=params.get("link_threshold", 0.25), seed=params.get("seed", 0))
         models.aliases_ = aliases  # type: ignore[assignment]
         models.dictionary_ = build_dictionary(aliases) if aliases else None  # type: ignore[arg-type]
         models.clusters_ = load_clusters(folder)

@@ -37,9 +37,9 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.model_selection import KFold
 from sklearn.pipeline import Pipeline
 
-from extractor.nlp.dictionary import normalize_form, stem_word
 from extractor.errors import InputError, NotFittedError
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
+from extractor.nlp.dictionary import normalize_form, stem_word
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 

@@ -38,8 +38,8 @@ from typing import Any, Protocol
 from rich.table import Table
 
 from extractor.errors import InputError
-from extractor.progress import track
 from extractor.nlp.spans import prf, span_prf
+from extractor.progress import track
 from extractor.types import STANCES, Sentence, Span
 
 Gold = Sequence[tuple[Sentence, Sequence[Span]]]
@@ -201,9 +201,11 @@ def score(gold: Gold, pred: Sequence[Sequence[_MentionLike]]) -> dict[str, Any]:
         by_lang[sentence.lang].append(i)
     result["by_language"] = {
         lang: _core([gold_spans[i] for i in idx], [pred[i] for i in idx])
-        | {"respondent": respondent_scores([sentences[i] for i in idx],
-                                           [gold_spans[i] for i in idx],
-                                           [pred[i] for i in idx])}
+        | {
+            "respondent": respondent_scores(
+                [sentences[i] for i in idx], [gold_spans[i] for i in idx], [pred[i] for i in idx]
+            )
+        }
         for lang, idx in sorted(by_lang.items())
     }
     return result
@@ -221,6 +223,7 @@ def _by_concept(gold: list[list[Span]], pred: list[list[Span]]) -> dict[str, dic
 
 def summary(result: dict[str, Any]) -> dict[str, float | None]:
     """Return the headline figures of a :func:`score` result, ``None`` where they do not apply."""
+
     def pick(key: str, field: str) -> float | None:
         part = result.get(key)
         return None if part is None else float(part[field])
@@ -242,9 +245,7 @@ class _Predictor(Protocol):
 
 def predicted_mentions(predictions: Iterable[Any]) -> list[list[Span]]:
     """Return the mentions of model predictions (``SentencePrediction``s) as spans."""
-    return [
-        [Span(m.start, m.end, m.concept, m.stance) for m in p.mentions] for p in predictions
-    ]
+    return [[Span(m.start, m.end, m.concept, m.stance) for m in p.mentions] for p in predictions]
 
 
 def evaluate_on(models: _Predictor, gold: Gold) -> dict[str, Any]:
@@ -347,8 +348,7 @@ def cross_validate(
         train = [g for i, g in enumerate(gold) if i not in held]
         test = [gold[i] for i in test_idx]
         started = time.perf_counter()
-        models = make_models(**(model_params or {})).fit(train, corpus, aliases,
-                                                         clusters=clusters)
+        models = make_models(**(model_params or {})).fit(train, corpus, aliases, clusters=clusters)
         result = evaluate_on(models, test)
         per_fold.append({
             "fold": number, "n_train": len(train), "n_test": len(test),
@@ -424,9 +424,13 @@ def format_tables(results: dict[str, Any]) -> list[Table]:
         _prf_row("respondent triples", results["respondent"]),
     ], "figure")]  # fmt: skip
     if results["by_concept"]:
-        tables.append(_prf_table(
-            "Span + concept by concept",
-            [_prf_row(c, part) for c, part in results["by_concept"].items()], "concept"))
+        tables.append(
+            _prf_table(
+                "Span + concept by concept",
+                [_prf_row(c, part) for c, part in results["by_concept"].items()],
+                "concept",
+            )
+        )
     language = Table(title="By language")
     language.add_column("language")
     for column in ("span F1", "span + concept F1", "stance accuracy", "respondent F1", "gold"):
@@ -442,8 +446,10 @@ def format_tables(results: dict[str, Any]) -> list[Table]:
     tables.append(language)
     stance = results["stance"]
     if stance is not None:
-        confusion = Table(title=f"Stance on exactly matched mentions: accuracy "
-                                f"{stance['accuracy']:.3f}, macro-F1 {stance['macro_f1']:.3f}")
+        confusion = Table(
+            title=f"Stance on exactly matched mentions: accuracy "
+            f"{stance['accuracy']:.3f}, macro-F1 {stance['macro_f1']:.3f}"
+        )
         confusion.add_column("gold \\ predicted")
         for label in stance["labels"]:
             confusion.add_column(label, justify="right")
@@ -451,4 +457,3 @@ def format_tables(results: dict[str, Any]) -> list[Table]:
             confusion.add_row(label, *(str(n) for n in row))
         tables.append(confusion)
     return tables
-

@@ -93,8 +93,7 @@ def load_trusted_skops(path: Path, expected: type) -> Any:
         )
     try:
         obj = skops.io.load(path, trusted=[t for t in untrusted if t in TRUSTED_TYPES])
-    except (OSError, ValueError, KeyError, TypeError, AttributeError,
-            zipfile.BadZipFile) as exc:
+    except (OSError, ValueError, KeyError, TypeError, AttributeError, zipfile.BadZipFile) as exc:
         raise ModelError(f"Model file {path} cannot be read ({exc}); retrain it.") from exc
     shape_ok = isinstance(obj, expected) and (
         not isinstance(obj, Pipeline)

@@ -31,9 +31,9 @@ from sklearn.feature_extraction import DictVectorizer
 from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
-from extractor.nlp.dictionary import normalize_form
 from extractor.errors import InputError
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
+from extractor.nlp.dictionary import normalize_form
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import STANCES, Sentence, Span
 

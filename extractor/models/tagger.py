@@ -51,8 +51,8 @@ from typing import Any, NamedTuple
 
 import pycrfsuite
 
-from extractor.nlp.dictionary import Dictionary
 from extractor.errors import InputError, ModelError, NotFittedError
+from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.features import Clusters, sentence_features
 from extractor.nlp.spans import (
     OUTSIDE,
@@ -330,8 +330,7 @@ def _marginals(tagger: pycrfsuite.Tagger, labels: Sequence[str], n: int) -> list
         out = []
         for i in range(n):
             outside, begin = tagger.marginal(TAGS[0], i), tagger.marginal(TAGS[1], i)
-            out.append({TAGS[0]: outside, TAGS[1]: begin,
-                        TAGS[2]: max(0.0, 1.0 - outside - begin)})
+            out.append({TAGS[0]: outside, TAGS[1]: begin, TAGS[2]: max(0.0, 1.0 - outside - begin)})
         return out
     return [{t: (tagger.marginal(t, i) if t in labels else 0.0) for t in TAGS} for i in range(n)]
 

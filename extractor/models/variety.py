@@ -21,8 +21,8 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from typing import Protocol, runtime_checkable
 
-from extractor.nlp.dictionary import build_dictionary, normalize_form
 from extractor.models.stance import Cues, find_comparisons
+from extractor.nlp.dictionary import build_dictionary, normalize_form
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
 

@@ -33,8 +33,8 @@ from scipy import sparse
 from sklearn.cluster import MiniBatchKMeans
 from sklearn.decomposition import TruncatedSVD
 
-from extractor.nlp.dictionary import normalize_form
 from extractor.errors import ModelError
+from extractor.nlp.dictionary import normalize_form
 from extractor.nlp.text import tokenize
 
 FORMAT = "trait-extractor/word-clusters"

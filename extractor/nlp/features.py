@@ -95,8 +95,13 @@ _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 # Feature names of the window, built once: (offset, word key, cluster key, dictionary key,
 # finer-cluster keys used only right next to the token).
 _WINDOW = tuple(
-    (off, f"{off}lw", f"{off}c", f"{off}d",
-     tuple(f"{off}c{level}" for level in range(1, 8)) if abs(off) == 1 else ())
+    (
+        off,
+        f"{off}lw",
+        f"{off}c",
+        f"{off}d",
+        tuple(f"{off}c{level}" for level in range(1, 8)) if abs(off) == 1 else (),
+    )
     for off in range(-WINDOW, WINDOW + 1)
     if off != 0
 )

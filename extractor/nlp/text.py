@@ -83,9 +83,7 @@ def split_sentences(text: str, lang: str) -> list[tuple[int, int]]:
         while cut > a_start and (text[cut - 1] in OPENING_MARKS or text[cut - 1].isspace()):
             cut -= 1
         if any(ch in OPENING_MARKS for ch in text[cut:a_end]):
-            first_mark = cut + min(
-                j for j, ch in enumerate(text[cut:a_end]) if ch in OPENING_MARKS
-            )
+            first_mark = cut + min(j for j, ch in enumerate(text[cut:a_end]) if ch in OPENING_MARKS)
             bounds[i], bounds[i + 1] = (a_start, first_mark), (first_mark, b_end)
     out: list[tuple[int, int]] = []
     for start, end in bounds:

@@ -59,8 +59,9 @@ def _open_for_writing(path: Path | str, newline: str | None = None) -> Any:
         raise InputError(f"Cannot write {str(path)!r}: {exc.strerror or exc}.") from exc
 
 
-def write_mentions_csv(path: Path | str, mentions: pd.DataFrame,
-                       columns: Sequence[str] | None = None) -> int:
+def write_mentions_csv(
+    path: Path | str, mentions: pd.DataFrame, columns: Sequence[str] | None = None
+) -> int:
     """Write mentions as RFC 4180 CSV (UTF-8, header row, quoted where needed).
 
     Args:
@@ -95,6 +96,7 @@ def write_mentions_jsonl(path: Path | str, mentions: pd.DataFrame) -> int:
 
 # --- CoNLL IOB2 ----------------------------------------------------------------------
 
+
 def iob2_tags(text: str, lang: str, spans: Sequence[Span]) -> list[tuple[str, str, Span | None]]:
     """Return ``(token, tag, span)`` for each token; a token touching a span is inside it.
 
@@ -104,12 +106,15 @@ def iob2_tags(text: str, lang: str, spans: Sequence[Span]) -> list[tuple[str, st
     ordered = sorted(spans, key=lambda s: (s.start, s.end))
     for a, b in zip(ordered, ordered[1:], strict=False):
         if b.start < a.end:
-            raise InputError(f"Spans [{a.start}, {a.end}) and [{b.start}, {b.end}) overlap; "
-                             "IOB2 allows one trait per token.")
+            raise InputError(
+                f"Spans [{a.start}, {a.end}) and [{b.start}, {b.end}) overlap; "
+                "IOB2 allows one trait per token."
+            )
     for s in ordered:
         if not 0 <= s.start < s.end <= len(text):
-            raise InputError(f"Span [{s.start}, {s.end}) lies outside a sentence of "
-                             f"{len(text)} characters.")
+            raise InputError(
+                f"Span [{s.start}, {s.end}) lies outside a sentence of {len(text)} characters."
+            )
     out: list[tuple[str, str, Span | None]] = []
     previous: Span | None = None
     for start, end in tokenize(text, lang):
@@ -127,8 +132,9 @@ def _one_line(text: str) -> str:
     return " ".join(text.split())
 
 
-def write_conll(path: Path | str, labeled_sentences: Iterable[tuple[Sentence, Sequence[Span]]]
-                ) -> int:
+def write_conll(
+    path: Path | str, labeled_sentences: Iterable[tuple[Sentence, Sequence[Span]]]
+) -> int:
     """Write labeled sentences as tab-separated IOB2 columns: token, tag, concept, stance.
 
     A ``#`` header states the scheme; each sentence starts with ``# sent_id =``,
@@ -171,22 +177,35 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
     """
     sentence = str(row["sentence"])
     start, end = int(row["start"]), int(row["end"])
-    body: list[dict[str, Any]] = [{"type": "TextualBody", "purpose": "classifying",
-                                   "value": str(row["concept_id"]), "format": "text/plain"}]
+    body: list[dict[str, Any]] = [
+        {
+            "type": "TextualBody",
+            "purpose": "classifying",
+            "value": str(row["concept_id"]),
+            "format": "text/plain",
+        }
+    ]
     stance = _json_value(row.get("stance"))
     if stance:
-        body.append({"type": "TextualBody", "purpose": "tagging", "value": str(stance),
-                     "format": "text/plain"})
-    selectors: list[dict[str, Any]] = [{
-        "type": "TextQuoteSelector",
-        "exact": sentence[start:end],
-        "prefix": sentence[max(0, start - QUOTE_CONTEXT_CHARS):start],
-        "suffix": sentence[end:end + QUOTE_CONTEXT_CHARS],
-    }]
+        body.append(
+            {
+                "type": "TextualBody",
+                "purpose": "tagging",
+                "value": str(stance),
+                "format": "text/plain",
+            }
+        )
+    selectors: list[dict[str, Any]] = [
+        {
+            "type": "TextQuoteSelector",
+            "exact": sentence[start:end],
+            "prefix": sentence[max(0, start - QUOTE_CONTEXT_CHARS) : start],
+            "suffix": sentence[end : end + QUOTE_CONTEXT_CHARS],
+        }
+    ]
     a_start, a_end = _json_value(row.get("answer_start")), _json_value(row.get("answer_end"))
     if a_start is not None and a_end is not None:
-        selectors.append({"type": "TextPositionSelector", "start": int(a_start),
-                          "end": int(a_end)})
+        selectors.append({"type": "TextPositionSelector", "start": int(a_start), "end": int(a_end)})
     annotation: dict[str, Any] = {
         "id": f"urn:traits:annotation:{index}",
         "type": "Annotation",
@@ -197,9 +216,13 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
     return annotation
 
 
-def write_web_annotations(path: Path | str, mentions: pd.DataFrame,
-                          source_uri_for: Callable[[Mapping[str, Any]], str] | None = None,
-                          *, label: str = "Trait mentions") -> int:
+def write_web_annotations(
+    path: Path | str,
+    mentions: pd.DataFrame,
+    source_uri_for: Callable[[Mapping[str, Any]], str] | None = None,
+    *,
+    label: str = "Trait mentions",
+) -> int:
     """Write linked mentions as a W3C Web Annotation ``AnnotationCollection`` (JSON-LD).
 
     Args:
@@ -221,11 +244,15 @@ def write_web_annotations(path: Path | str, mentions: pd.DataFrame,
         source_uri_for = answer_urn
     missing = [c for c in needed if c not in mentions.columns]
     if missing:
-        raise InputError(f"The mentions table lacks the column(s) {', '.join(missing)} "
-                         "needed for web annotations.")
+        raise InputError(
+            f"The mentions table lacks the column(s) {', '.join(missing)} "
+            "needed for web annotations."
+        )
     linked = mentions.loc[mentions["concept_id"].notna()]
-    items = [web_annotation(row, source_uri_for(row), i)
-             for i, row in enumerate(linked.to_dict("records"), start=1)]
+    items = [
+        web_annotation(row, source_uri_for(row), i)
+        for i, row in enumerate(linked.to_dict("records"), start=1)
+    ]
     collection = {
         "@context": ANNO_CONTEXT,
         "id": "urn:traits:collection:mentions",
@@ -234,8 +261,12 @@ def write_web_annotations(path: Path | str, mentions: pd.DataFrame,
         "total": len(items),
     }
     if items:  # the model requires a first page only when there are annotations
-        collection["first"] = {"id": "urn:traits:collection:mentions:page1",
-                               "type": "AnnotationPage", "startIndex": 0, "items": items}
+        collection["first"] = {
+            "id": "urn:traits:collection:mentions:page1",
+            "type": "AnnotationPage",
+            "startIndex": 0,
+            "items": items,
+        }
     with _open_for_writing(path) as fh:
         json.dump(collection, fh, ensure_ascii=False, indent=1)
     return len(items)

@@ -33,9 +33,25 @@ from extractor.errors import InputError
 MIN_SECRET_BYTES = 16
 """Shortest secret accepted; RFC 2104 advises against keys much shorter than the hash."""
 
-DEFAULT_IDENTIFYING = ("name", "full_name", "first_name", "last_name", "surname", "phone",
-                       "telephone", "mobile", "email", "e-mail", "village", "address",
-                       "gps", "latitude", "longitude", "national_id", "id_number")
+DEFAULT_IDENTIFYING = (
+    "name",
+    "full_name",
+    "first_name",
+    "last_name",
+    "surname",
+    "phone",
+    "telephone",
+    "mobile",
+    "email",
+    "e-mail",
+    "village",
+    "address",
+    "gps",
+    "latitude",
+    "longitude",
+    "national_id",
+    "id_number",
+)
 """Metadata columns dropped by default when pseudonymising (compared case-insensitively)."""
 
 TEXT_COLUMNS = ("sentence", "span_text", "question")
@@ -64,8 +80,10 @@ def new_secret() -> bytes:
 
 def _check_secret(secret: bytes) -> None:
     if not isinstance(secret, bytes | bytearray) or len(secret) < MIN_SECRET_BYTES:
-        raise InputError(f"The pseudonym secret must be at least {MIN_SECRET_BYTES} bytes; "
-                         "create one with new_secret().")
+        raise InputError(
+            f"The pseudonym secret must be at least {MIN_SECRET_BYTES} bytes; "
+            "create one with new_secret()."
+        )
 
 
 def pseudonym(respondent_id: str, secret: bytes, *, length: int = 8) -> str:
@@ -224,8 +242,12 @@ def screen_mentions(mentions: pd.DataFrame, names: Iterable[str] = ()) -> pd.Dat
     out = mentions.copy()
     if "sentence" in out.columns:
         sentences, starts, ends, spans = [], [], [], []
-        for sent, start, end in zip(out["sentence"], out.get("start", [None] * len(out)),
-                                    out.get("end", [None] * len(out)), strict=True):
+        for sent, start, end in zip(
+            out["sentence"],
+            out.get("start", [None] * len(out)),
+            out.get("end", [None] * len(out)),
+            strict=True,
+        ):
             if not isinstance(sent, str):
                 sentences.append(sent)
                 starts.append(start)
@@ -249,21 +271,25 @@ def screen_mentions(mentions: pd.DataFrame, names: Iterable[str] = ()) -> pd.Dat
         if "start" in out.columns and "end" in out.columns:
             out["start"], out["end"] = starts, ends
             if "span_text" in out.columns:
-                fallback = out["span_text"].map(lambda t: screen_text(t, names)
-                                                if isinstance(t, str) else t)
-                out["span_text"] = [s if s is not None else f for s, f in zip(spans, fallback,
-                                                                               strict=True)]
+                fallback = out["span_text"].map(
+                    lambda t: screen_text(t, names) if isinstance(t, str) else t
+                )
+                out["span_text"] = [
+                    s if s is not None else f for s, f in zip(spans, fallback, strict=True)
+                ]
     for col in TEXT_COLUMNS:
         if col in out.columns and col not in ("sentence", "span_text"):
             out[col] = out[col].map(lambda t: screen_text(t, names) if isinstance(t, str) else t)
     if "span_text" in out.columns and "sentence" not in out.columns:
         out["span_text"] = out["span_text"].map(
-            lambda t: screen_text(t, names) if isinstance(t, str) else t)
+            lambda t: screen_text(t, names) if isinstance(t, str) else t
+        )
     return out
 
 
 def identifying_columns(columns: Iterable[str], drop: Iterable[str]) -> list[str]:
     """Return the columns whose names match ``drop``, ignoring case, spaces and dashes."""
+
     def norm(c: str) -> str:
         return re.sub(r"[\s\-_]+", "_", str(c).strip().casefold())
 
@@ -271,8 +297,9 @@ def identifying_columns(columns: Iterable[str], drop: Iterable[str]) -> list[str
     return [c for c in columns if norm(c) in wanted]
 
 
-def pseudonymise_frames(mentions: pd.DataFrame, respondents: pd.DataFrame,
-                        options: PrivacyOptions) -> tuple[pd.DataFrame, pd.DataFrame]:
+def pseudonymise_frames(
+    mentions: pd.DataFrame, respondents: pd.DataFrame, options: PrivacyOptions
+) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Return copies of both frames with pseudonyms, screened text and no identifying columns.
 
     Args:
@@ -283,8 +310,12 @@ def pseudonymise_frames(mentions: pd.DataFrame, respondents: pd.DataFrame,
     Returns:
         ``(mentions, respondents)``, new frames; the inputs are unchanged.
     """
-    ids = pd.concat([mentions.get("respondent", pd.Series(dtype=object)),
-                     respondents.get("respondent", pd.Series(dtype=object))]).dropna()
+    ids = pd.concat(
+        [
+            mentions.get("respondent", pd.Series(dtype=object)),
+            respondents.get("respondent", pd.Series(dtype=object)),
+        ]
+    ).dropna()
     mapping = pseudonym_map(ids.astype(str), options.secret)
 
     def swap(col: pd.Series) -> pd.Series:

@@ -15,9 +15,9 @@ from typing import Any
 
 import pandas as pd
 
-from extractor.workspace import store
 from extractor.errors import InputError
 from extractor.report.privacy import PrivacyOptions, new_secret
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 SECRET_KEY = "pseudonym_secret"
@@ -49,12 +49,14 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
     predicted = store.predictions(ws.conn, version) if version else {}
     ids = sorted(set(labels) | {sid for sid, p in predicted.items() if p["mentions"]})
     sentences = {s.id: s for s in store.sentences(ws.conn, ids)}
-    labels_by_concept = dict(zip(*concept_frame(ws)[["concept_id", "label"]].T.values,
-                                 strict=False)) if ids else {}
+    labels_by_concept = (
+        dict(zip(*concept_frame(ws)[["concept_id", "label"]].T.values, strict=False)) if ids else {}
+    )
     varieties = variety_names(ws)
 
     def variety(value: str | None) -> str | None:
         return f"{varieties[value]} ({value})" if value in varieties else value
+
     rows = []
     for sid in ids:
         sentence = sentences.get(sid)
@@ -63,39 +65,52 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
         if sid in labels:
             label = labels[sid]
             found = [
-                {"start": sp.start, "end": sp.end, "concept": sp.concept, "stance": sp.stance,
-                 "confidence": None, "link_prob": None, "stance_prob": None,
-                 "source": "person", "annotator": label["annotator"], "model_version": None}
+                {
+                    "start": sp.start,
+                    "end": sp.end,
+                    "concept": sp.concept,
+                    "stance": sp.stance,
+                    "confidence": None,
+                    "link_prob": None,
+                    "stance_prob": None,
+                    "source": "person",
+                    "annotator": label["annotator"],
+                    "model_version": None,
+                }
                 for sp in label["spans"]
             ]
         else:
-            found = [m | {"annotator": None, "model_version": version}
-                     for m in predicted[sid]["mentions"]]
+            found = [
+                m | {"annotator": None, "model_version": version}
+                for m in predicted[sid]["mentions"]
+            ]
         for m in found:
-            rows.append({
-                "respondent": sentence.respondent,
-                "sentence_id": sid,
-                "answer_id": sentence.answer_id,
-                "sentence": sentence.text,
-                "question": sentence.question,
-                "lang": sentence.lang,
-                "start": m["start"],
-                "end": m["end"],
-                "answer_start": sentence.offset + m["start"],
-                "answer_end": sentence.offset + m["end"],
-                "span_text": sentence.text[m["start"] : m["end"]],
-                "concept_id": m.get("concept"),
-                "concept_label": labels_by_concept.get(m.get("concept")),
-                "link_prob": m.get("link_prob"),
-                "stance": m.get("stance"),
-                "stance_prob": m.get("stance_prob"),
-                "variety": variety(m.get("variety")),
-                "ref_variety": variety(m.get("ref_variety")),
-                "confidence": m.get("confidence"),
-                "source": m["source"],
-                "model_version": m.get("model_version"),
-                "annotator": m.get("annotator"),
-            })
+            rows.append(
+                {
+                    "respondent": sentence.respondent,
+                    "sentence_id": sid,
+                    "answer_id": sentence.answer_id,
+                    "sentence": sentence.text,
+                    "question": sentence.question,
+                    "lang": sentence.lang,
+                    "start": m["start"],
+                    "end": m["end"],
+                    "answer_start": sentence.offset + m["start"],
+                    "answer_end": sentence.offset + m["end"],
+                    "span_text": sentence.text[m["start"] : m["end"]],
+                    "concept_id": m.get("concept"),
+                    "concept_label": labels_by_concept.get(m.get("concept")),
+                    "link_prob": m.get("link_prob"),
+                    "stance": m.get("stance"),
+                    "stance_prob": m.get("stance_prob"),
+                    "variety": variety(m.get("variety")),
+                    "ref_variety": variety(m.get("ref_variety")),
+                    "confidence": m.get("confidence"),
+                    "source": m["source"],
+                    "model_version": m.get("model_version"),
+                    "annotator": m.get("annotator"),
+                }
+            )
     return pd.DataFrame(rows)
 
 
@@ -132,7 +147,8 @@ def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOpti
             ) from exc
         names = tuple(line.strip() for line in text.splitlines() if line.strip())
     return PrivacyOptions(
-        secret=workspace_secret(ws), names=names,
+        secret=workspace_secret(ws),
+        names=names,
         drop_columns=tuple(settings.get("identifying_columns", ())),
     )
 
@@ -145,9 +161,11 @@ def about(ws: Workspace, version: str | None) -> dict[str, Any]:
     return {
         "Model version": version or "none (labels only)",
         "Model trained": None if model is None else model["created_at"],
-        "Quality (cross-validated)": None if model is None
+        "Quality (cross-validated)": None
+        if model is None
         else model["metrics"].get("cross_validation"),
-        "Quality (evaluation sample)": None if model is None
+        "Quality (evaluation sample)": None
+        if model is None
         else model["metrics"].get("evaluation_sample"),
         "Concept list": None if concepts is None else concepts["path"],
         "Concept list SHA-256": None if concepts is None else concepts["sha256"],
@@ -161,8 +179,9 @@ def about(ws: Workspace, version: str | None) -> dict[str, Any]:
     }
 
 
-def group_columns(ws: Workspace, respondents: pd.DataFrame,
-                  chosen: Sequence[str] | None = None) -> list[str]:
+def group_columns(
+    ws: Workspace, respondents: pd.DataFrame, chosen: Sequence[str] | None = None
+) -> list[str]:
     """Return the grouping columns to use: chosen ones, else the configured ones present."""
     wanted = list(chosen) if chosen else list(ws.settings["export"]["group_by"])
     if chosen:
@@ -197,13 +216,18 @@ def export_workbook(
     from extractor.report.workbook import write_workbook
 
     out = out or ws.exports_dir / (
-        "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx")
+        "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx"
+    )
     out.parent.mkdir(parents=True, exist_ok=True)
     mentions = mention_frame(ws, version)
     respondents = respondent_frame(ws)
     png = out.with_name(out.stem + "_chart.png")
     write_workbook(
-        out, mentions, respondents, concept_frame(ws), about(ws, version),
+        out,
+        mentions,
+        respondents,
+        concept_frame(ws),
+        about(ws, version),
         group_by=group_columns(ws, respondents, group_by),
         min_confidence=_min_confidence(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
@@ -226,17 +250,19 @@ def export_other(
     names_file: str | None = None,
 ) -> dict[str, Any]:
     """Write mentions as CSV, JSON Lines or W3C Web Annotations, or labels as CoNLL IOB2."""
+    from extractor.jobs.pipeline import gold_examples
     from extractor.report import formats as interchange
     from extractor.report.workbook import prepare
-    from extractor.jobs.pipeline import gold_examples
 
     if fmt not in OTHER_FORMATS:
         raise InputError(
             f"The export format must be one of xlsx, {', '.join(OTHER_FORMATS)}; got {fmt!r}."
         )
     stem = "labeled_sentences" if fmt == "conll" else "mentions"
-    out = out or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}" \
-        f"{OTHER_FORMATS[fmt]}"
+    out = (
+        out
+        or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}{OTHER_FORMATS[fmt]}"
+    )
     out.parent.mkdir(parents=True, exist_ok=True)
     if fmt == "conll":
         if pseudonymise:
@@ -247,11 +273,15 @@ def export_other(
         n = interchange.write_conll(out, gold_examples(ws))
         return {"path": out, "mentions": n}
     mentions, _ = prepare(
-        mention_frame(ws, version), respondent_frame(ws),
+        mention_frame(ws, version),
+        respondent_frame(ws),
         min_confidence=_min_confidence(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
     )
-    writer = {"csv": interchange.write_mentions_csv, "jsonl": interchange.write_mentions_jsonl,
-              "jsonld": interchange.write_web_annotations}[fmt]
+    writer = {
+        "csv": interchange.write_mentions_csv,
+        "jsonl": interchange.write_mentions_jsonl,
+        "jsonld": interchange.write_web_annotations,
+    }[fmt]
     writer(out, mentions)
     return {"path": out, "mentions": len(mentions)}

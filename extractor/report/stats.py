@@ -39,8 +39,9 @@ MONTE_CARLO_SEED = 20240601
 """Fixed seed of the Monte-Carlo Fisher test, so reruns give identical p-values."""
 
 
-def fisher_monte_carlo_name(n_resamples: int = MONTE_CARLO_RESAMPLES,
-                            seed: int = MONTE_CARLO_SEED) -> str:
+def fisher_monte_carlo_name(
+    n_resamples: int = MONTE_CARLO_RESAMPLES, seed: int = MONTE_CARLO_SEED
+) -> str:
     """Return the name under which a Monte-Carlo Fisher test is reported."""
     return f"Fisher exact (Monte Carlo, {n_resamples:,} random tables, seed {seed})"
 
@@ -90,8 +91,11 @@ def _clean_table(table: Sequence[Sequence[int]] | np.ndarray) -> np.ndarray:
         raise InputError(
             f"A contingency table must be two-dimensional; got {arr.ndim} dimension(s)."
         )
-    if arr.size and (not np.all(np.isfinite(arr.astype(float))) or np.any(arr < 0)
-                     or np.any(arr != np.round(arr))):
+    if arr.size and (
+        not np.all(np.isfinite(arr.astype(float)))
+        or np.any(arr < 0)
+        or np.any(arr != np.round(arr))
+    ):
         raise InputError("A contingency table must hold non-negative whole counts.")
     arr = arr.astype(np.int64)
     # A group nobody belongs to, or an outcome nobody has, carries no information
@@ -116,9 +120,12 @@ def chi_square_allowed(table: Sequence[Sequence[int]] | np.ndarray) -> bool:
     return bool(expected.min() >= 1 and np.mean(expected < 5) <= 0.20)
 
 
-def group_difference(table: Sequence[Sequence[int]] | np.ndarray, *,
-                     n_resamples: int = MONTE_CARLO_RESAMPLES,
-                     seed: int = MONTE_CARLO_SEED) -> GroupTest:
+def group_difference(
+    table: Sequence[Sequence[int]] | np.ndarray,
+    *,
+    n_resamples: int = MONTE_CARLO_RESAMPLES,
+    seed: int = MONTE_CARLO_SEED,
+) -> GroupTest:
     """Test whether a share differs between groups, choosing the test by expected counts.
 
     Args:
@@ -149,8 +156,11 @@ def group_difference(table: Sequence[Sequence[int]] | np.ndarray, *,
     method = sps.MonteCarloMethod(n_resamples=n_resamples, rng=np.random.default_rng(seed))
     res = sps.fisher_exact(arr, method=method)
     # scipy returns a one-element array instead of a scalar for some sparse tables.
-    return GroupTest(fisher_monte_carlo_name(n_resamples, seed),
-                     float(np.ravel(res.statistic)[0]), float(np.ravel(res.pvalue)[0]))
+    return GroupTest(
+        fisher_monte_carlo_name(n_resamples, seed),
+        float(np.ravel(res.statistic)[0]),
+        float(np.ravel(res.pvalue)[0]),
+    )
 
 
 def bh_adjust(pvalues: Sequence[float]) -> list[float]:

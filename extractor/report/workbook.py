@@ -62,11 +62,32 @@ from extractor.report.stats import (
     wilson_interval,
 )
 
-REQUIRED_MENTION_COLUMNS = ("respondent", "sentence_id", "sentence", "start", "end",
-                            "span_text", "concept_id", "stance", "source")
-OPTIONAL_MENTION_COLUMNS = ("answer_id", "question", "lang", "answer_start", "answer_end",
-                            "concept_label", "link_prob", "stance_prob", "variety",
-                            "ref_variety", "confidence", "model_version", "annotator")
+REQUIRED_MENTION_COLUMNS = (
+    "respondent",
+    "sentence_id",
+    "sentence",
+    "start",
+    "end",
+    "span_text",
+    "concept_id",
+    "stance",
+    "source",
+)
+OPTIONAL_MENTION_COLUMNS = (
+    "answer_id",
+    "question",
+    "lang",
+    "answer_start",
+    "answer_end",
+    "concept_label",
+    "link_prob",
+    "stance_prob",
+    "variety",
+    "ref_variety",
+    "confidence",
+    "model_version",
+    "annotator",
+)
 SOURCES = ("person", "predicted", "dictionary")
 
 SHEETS = {
@@ -85,8 +106,10 @@ ALL_INDIVIDUALS = "(all individuals)"
 FOCUS_GROUPS = "(focus groups, counted as groups)"
 NOT_RECORDED = "(not recorded)"
 MIXED = "mixed"
-CAUTION = ("Automatic extraction makes mistakes: a person must review these results, "
-           "and the quotes behind them, before they inform any decision.")
+CAUTION = (
+    "Automatic extraction makes mistakes: a person must review these results, "
+    "and the quotes behind them, before they inform any decision."
+)
 SUMMARY_NOTES = (
     "Shares are shares of respondents, not of mentions: a respondent who names a trait "
     "five times counts once.",
@@ -108,12 +131,15 @@ EXCEL_MAX_CHARS = 32767
 
 # --- preparing the inputs ----------------------------------------------------------
 
+
 def check_columns(frame: pd.DataFrame, required: Iterable[str], what: str) -> None:
     """Raise InputError naming the columns of ``frame`` that are missing."""
     missing = [c for c in required if c not in frame.columns]
     if missing:
-        raise InputError(f"The {what} table lacks the column(s) {', '.join(missing)}; "
-                         f"it has {', '.join(map(str, frame.columns)) or 'none'}.")
+        raise InputError(
+            f"The {what} table lacks the column(s) {', '.join(missing)}; "
+            f"it has {', '.join(map(str, frame.columns)) or 'none'}."
+        )
 
 
 def complete_mentions(mentions: pd.DataFrame) -> pd.DataFrame:
@@ -125,8 +151,10 @@ def complete_mentions(mentions: pd.DataFrame) -> pd.DataFrame:
             out[col] = None
     bad = sorted(set(out["source"].dropna()) - set(SOURCES))
     if bad:
-        raise InputError(f"The mentions column 'source' must hold {', '.join(SOURCES)}; "
-                         f"got {', '.join(map(str, bad))}.")
+        raise InputError(
+            f"The mentions column 'source' must hold {', '.join(SOURCES)}; "
+            f"got {', '.join(map(str, bad))}."
+        )
     out["respondent"] = out["respondent"].astype(str)
     return out.reset_index(drop=True)
 
@@ -144,8 +172,9 @@ def complete_respondents(respondents: pd.DataFrame, mentions: pd.DataFrame) -> p
     out["is_group"] = out["is_group"].map(lambda v: bool(v) if pd.notna(v) else False)
     extra = sorted(set(mentions["respondent"]) - set(out["respondent"]))
     if extra:
-        out = pd.concat([out, pd.DataFrame({"respondent": extra, "is_group": False})],
-                        ignore_index=True)
+        out = pd.concat(
+            [out, pd.DataFrame({"respondent": extra, "is_group": False})], ignore_index=True
+        )
     return out
 
 
@@ -175,8 +204,9 @@ def filter_confidence(mentions: pd.DataFrame, min_confidence: float | None) -> p
     if min_confidence is None:
         return mentions
     if not (isinstance(min_confidence, int | float) and 0.0 <= min_confidence <= 1.0):
-        raise InputError(f"The minimum confidence must be a number between 0 and 1; "
-                         f"got {min_confidence!r}.")
+        raise InputError(
+            f"The minimum confidence must be a number between 0 and 1; got {min_confidence!r}."
+        )
     conf = pd.to_numeric(mentions["confidence"], errors="coerce")
     drop = (mentions["source"] == "predicted") & (conf < min_confidence)
     return mentions.loc[~drop].reset_index(drop=True)
@@ -205,6 +235,7 @@ def trait_name(concept_id: str, labels: Mapping[str, str]) -> str:
 
 # --- per-respondent tables ---------------------------------------------------------
 
+
 def respondent_concepts(mentions: pd.DataFrame) -> pd.DataFrame:
     """Return one row per (respondent, concept) with flags mention/like/dislike/want."""
     linked = mentions.loc[mentions["concept_id"].notna(), ["respondent", "concept_id", "stance"]]
@@ -213,16 +244,16 @@ def respondent_concepts(mentions: pd.DataFrame) -> pd.DataFrame:
     linked = linked.assign(concept_id=linked["concept_id"].astype(str))
     for outcome, stance in OUTCOMES.items():
         linked[outcome] = True if stance is None else (linked["stance"] == stance)
-    return (linked.groupby(["respondent", "concept_id"], as_index=False)[list(OUTCOMES)]
-            .any())
+    return linked.groupby(["respondent", "concept_id"], as_index=False)[list(OUTCOMES)].any()
 
 
 def _respondent_type(is_group: bool) -> str:
     return "focus group" if is_group else "individual"
 
 
-def preferred_traits(mentions: pd.DataFrame, respondents: pd.DataFrame,
-                     concepts: pd.DataFrame) -> pd.DataFrame:
+def preferred_traits(
+    mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: pd.DataFrame
+) -> pd.DataFrame:
     """Return one row per respondent and variety with liked, disliked and wanted traits.
 
     Each list reads "label (ID); ...", most-mentioned first, then by label.
@@ -234,12 +265,16 @@ def preferred_traits(mentions: pd.DataFrame, respondents: pd.DataFrame,
     variety = mentions["variety"].where(mentions["variety"].notna(), "").astype(str)
     keyed = mentions.assign(_variety=variety)
     totals = keyed.groupby(["respondent", "_variety"]).size()
-    said = keyed.loc[keyed["concept_id"].notna()
-                     & keyed["stance"].isin(["liked", "disliked", "wanted"])]
+    said = keyed.loc[
+        keyed["concept_id"].notna() & keyed["stance"].isin(["liked", "disliked", "wanted"])
+    ]
     lists: dict[tuple[str, str, str], str] = {}
     if len(said):
-        counts = (said.groupby(["respondent", "_variety", "stance",
-                                said["concept_id"].astype(str)]).size().reset_index(name="n"))
+        counts = (
+            said.groupby(["respondent", "_variety", "stance", said["concept_id"].astype(str)])
+            .size()
+            .reset_index(name="n")
+        )
         counts["name"] = counts["concept_id"].map(lambda c: trait_name(c, labels))
         counts["key"] = counts["name"].str.casefold()
         counts = counts.sort_values(["n", "key"], ascending=[False, True], kind="stable")
@@ -254,11 +289,16 @@ def preferred_traits(mentions: pd.DataFrame, respondents: pd.DataFrame,
         base = {"Respondent": resp, "Type": _respondent_type(rec["is_group"])}
         base.update({m: rec[m] for m in meta})
         for var, n in sorted(by_resp.get(resp, [("", 0)])):
-            rows.append({**base, "Variety": var or None,
-                         "Liked": lists.get((resp, var, "liked"), ""),
-                         "Disliked": lists.get((resp, var, "disliked"), ""),
-                         "Wanted": lists.get((resp, var, "wanted"), ""),
-                         "Mentions": n})
+            rows.append(
+                {
+                    **base,
+                    "Variety": var or None,
+                    "Liked": lists.get((resp, var, "liked"), ""),
+                    "Disliked": lists.get((resp, var, "disliked"), ""),
+                    "Wanted": lists.get((resp, var, "wanted"), ""),
+                    "Mentions": n,
+                }
+            )
     columns = ["Respondent", "Type", *meta, "Variety", "Liked", "Disliked", "Wanted", "Mentions"]
     return pd.DataFrame(rows, columns=columns)
 
@@ -279,8 +319,9 @@ def concept_order(mentions: pd.DataFrame) -> list[str]:
     return sorted(counts.index, key=lambda c: (-counts[c], c))
 
 
-def trait_matrix(mentions: pd.DataFrame, respondents: pd.DataFrame,
-                 concepts: pd.DataFrame) -> pd.DataFrame:
+def trait_matrix(
+    mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: pd.DataFrame
+) -> pd.DataFrame:
     """Return one row per respondent and one column per mentioned concept.
 
     Cells hold ``liked``, ``disliked``, ``wanted``, ``mixed`` (more than one of
@@ -289,11 +330,20 @@ def trait_matrix(mentions: pd.DataFrame, respondents: pd.DataFrame,
     labels = concept_labels(mentions, concepts)
     order = concept_order(mentions)
     linked = mentions.loc[mentions["concept_id"].notna()]
-    cells = (linked.groupby(["respondent", linked["concept_id"].astype(str)])["stance"]
-             .agg(_cell_stance).unstack() if len(linked) else pd.DataFrame())
+    cells = (
+        linked.groupby(["respondent", linked["concept_id"].astype(str)])["stance"]
+        .agg(_cell_stance)
+        .unstack()
+        if len(linked)
+        else pd.DataFrame()
+    )
     meta = metadata_columns(respondents)
-    out = pd.DataFrame({"Respondent": respondents["respondent"].to_numpy(),
-                        "Type": respondents["is_group"].map(_respondent_type).to_numpy()})
+    out = pd.DataFrame(
+        {
+            "Respondent": respondents["respondent"].to_numpy(),
+            "Type": respondents["is_group"].map(_respondent_type).to_numpy(),
+        }
+    )
     for m in meta:
         out[m] = respondents[m].to_numpy()
     for cid in order:
@@ -303,31 +353,46 @@ def trait_matrix(mentions: pd.DataFrame, respondents: pd.DataFrame,
 
 
 EVIDENCE_COLUMNS = {
-    "respondent": "Respondent", "question": "Question", "sentence": "Sentence",
-    "span_text": "Span text", "concept_id": "Concept ID", "trait": "Trait",
-    "stance": "Stance", "variety": "Variety", "ref_variety": "Compared with",
-    "start": "Start", "end": "End", "answer_id": "Answer ID", "sentence_id": "Sentence ID",
-    "answer_start": "Answer start", "answer_end": "Answer end", "lang": "Language",
-    "link_prob": "Link probability", "stance_prob": "Stance probability",
-    "confidence": "Tagger confidence", "source": "Source", "model_version": "Model version",
+    "respondent": "Respondent",
+    "question": "Question",
+    "sentence": "Sentence",
+    "span_text": "Span text",
+    "concept_id": "Concept ID",
+    "trait": "Trait",
+    "stance": "Stance",
+    "variety": "Variety",
+    "ref_variety": "Compared with",
+    "start": "Start",
+    "end": "End",
+    "answer_id": "Answer ID",
+    "sentence_id": "Sentence ID",
+    "answer_start": "Answer start",
+    "answer_end": "Answer end",
+    "lang": "Language",
+    "link_prob": "Link probability",
+    "stance_prob": "Stance probability",
+    "confidence": "Tagger confidence",
+    "source": "Source",
+    "model_version": "Model version",
     "annotator": "Annotator",
 }
 
 
-def mention_evidence(mentions: pd.DataFrame, respondents: pd.DataFrame,
-                     concepts: pd.DataFrame) -> pd.DataFrame:
+def mention_evidence(
+    mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: pd.DataFrame
+) -> pd.DataFrame:
     """Return every mention with its sentence, offsets, concept, stance and provenance."""
     labels = concept_labels(mentions, concepts)
-    out = mentions.assign(trait=mentions["concept_id"].map(
-        lambda c: labels.get(str(c)) if pd.notna(c) else None))
+    out = mentions.assign(
+        trait=mentions["concept_id"].map(lambda c: labels.get(str(c)) if pd.notna(c) else None)
+    )
     out = out[list(EVIDENCE_COLUMNS)].rename(columns=EVIDENCE_COLUMNS)
     meta = metadata_columns(respondents)
     if meta:
         info = respondents.set_index("respondent")[meta]
         for i, m in enumerate(meta):
             out.insert(1 + i, m, out["Respondent"].map(info[m]).to_numpy())
-    return out.sort_values(["Respondent", "Sentence ID", "Start"], kind="stable",
-                           ignore_index=True)
+    return out.sort_values(["Respondent", "Sentence ID", "Start"], kind="stable", ignore_index=True)
 
 
 def unlinked_terms(mentions: pd.DataFrame, examples: int = 3) -> pd.DataFrame:
@@ -343,15 +408,22 @@ def unlinked_terms(mentions: pd.DataFrame, examples: int = 3) -> pd.DataFrame:
     key = free["span_text"].astype(str).str.casefold().str.split().str.join(" ")
     rows = []
     for _, grp in free.groupby(key, sort=False):
-        rows.append({"Term": grp["span_text"].astype(str).value_counts().index[0],
-                     "Mentions": len(grp), "Respondents": grp["respondent"].nunique(),
-                     "Examples": "\n".join(grp["sentence"].dropna().astype(str)
-                                           .drop_duplicates().head(examples))})
+        rows.append(
+            {
+                "Term": grp["span_text"].astype(str).value_counts().index[0],
+                "Mentions": len(grp),
+                "Respondents": grp["respondent"].nunique(),
+                "Examples": "\n".join(
+                    grp["sentence"].dropna().astype(str).drop_duplicates().head(examples)
+                ),
+            }
+        )
     out = pd.DataFrame(rows, columns=columns)
     return out.sort_values(["Mentions", "Term"], ascending=[False, True], ignore_index=True)
 
 
 # --- summary by group --------------------------------------------------------------
+
 
 def _caution(k: int, n: int) -> str | None:
     if 0 < k <= 2:
@@ -363,18 +435,26 @@ def _caution(k: int, n: int) -> str | None:
 
 def _share_row(k: int, n: int) -> dict[str, Any]:
     low, high = wilson_interval(k, n) if n else (math.nan, math.nan)
-    return {"Respondents in group": n, "Respondents": k, "Share": k / n if n else math.nan,
-            "95% CI low": low, "95% CI high": high, "Caution": _caution(k, n)}
+    return {
+        "Respondents in group": n,
+        "Respondents": k,
+        "Share": k / n if n else math.nan,
+        "95% CI low": low,
+        "95% CI high": high,
+        "Caution": _caution(k, n),
+    }
 
 
-def outcome_matrix(mentions: pd.DataFrame, respondent_ids: Sequence[str],
-                   concept_ids: Sequence[str], outcome: str) -> np.ndarray:
+def outcome_matrix(
+    mentions: pd.DataFrame, respondent_ids: Sequence[str], concept_ids: Sequence[str], outcome: str
+) -> np.ndarray:
     """Return a respondents x concepts boolean array: who has ``outcome`` for which trait."""
     flags = respondent_concepts(mentions)
     if flags.empty:
         return np.zeros((len(respondent_ids), len(concept_ids)), dtype=bool)
-    wide = flags.pivot_table(index="respondent", columns="concept_id", values=outcome,
-                             aggfunc="any", fill_value=False)
+    wide = flags.pivot_table(
+        index="respondent", columns="concept_id", values=outcome, aggfunc="any", fill_value=False
+    )
     wide = wide.reindex(index=list(respondent_ids), columns=list(concept_ids), fill_value=False)
     return wide.to_numpy(dtype=bool)
 
@@ -387,8 +467,12 @@ def _group_codes(values: pd.Series) -> tuple[list[str], np.ndarray]:
     return groups, labels.map(index).to_numpy(dtype=int)
 
 
-def trait_summary(mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: pd.DataFrame,
-                  group_by: Sequence[str] = ()) -> pd.DataFrame:
+def trait_summary(
+    mentions: pd.DataFrame,
+    respondents: pd.DataFrame,
+    concepts: pd.DataFrame,
+    group_by: Sequence[str] = (),
+) -> pd.DataFrame:
     """Return shares of respondents per concept, outcome and group, with tests.
 
     One row per (concept, outcome, grouping, group). Outcomes: ``mention``,
@@ -402,8 +486,10 @@ def trait_summary(mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: p
     """
     for g in group_by:
         if g not in respondents.columns:
-            raise InputError(f"The grouping column {g!r} is not among the respondent columns "
-                             f"({', '.join(metadata_columns(respondents)) or 'none'}).")
+            raise InputError(
+                f"The grouping column {g!r} is not among the respondent columns "
+                f"({', '.join(metadata_columns(respondents)) or 'none'})."
+            )
     labels = concept_labels(mentions, concepts)
     order = concept_order(mentions)
     is_group = respondents["is_group"].to_numpy(dtype=bool)
@@ -414,38 +500,81 @@ def trait_summary(mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: p
         mat = outcome_matrix(mentions, respondents["respondent"].tolist(), order, outcome)
         ind, grp = mat[~is_group], mat[is_group]
         # counts[g][i, j]: respondents of group i of grouping g with the outcome for concept j
-        counts = {g: (np.array([ind[c == i].sum(axis=0) for i in range(len(groups))],
-                               dtype=int).reshape(len(groups), len(order)),
-                      np.bincount(c, minlength=len(groups)))
-                  for g, (groups, c) in codes.items()}
+        counts = {
+            g: (
+                np.array([ind[c == i].sum(axis=0) for i in range(len(groups))], dtype=int).reshape(
+                    len(groups), len(order)
+                ),
+                np.bincount(c, minlength=len(groups)),
+            )
+            for g, (groups, c) in codes.items()
+        }
         for j, cid in enumerate(order):
             base = {"Trait": labels.get(cid), "Concept ID": cid, "Outcome": outcome}
-            rows.append({**base, "Grouping": ALL_INDIVIDUALS, "Group": "all",
-                         **_share_row(int(ind[:, j].sum()), len(ind))})
+            rows.append(
+                {
+                    **base,
+                    "Grouping": ALL_INDIVIDUALS,
+                    "Group": "all",
+                    **_share_row(int(ind[:, j].sum()), len(ind)),
+                }
+            )
             for g, (groups, _) in codes.items():
                 k_by, n_by = counts[g]
-                table = [[int(k_by[i, j]), int(n_by[i] - k_by[i, j])]
-                         for i, name in enumerate(groups) if name != NOT_RECORDED]
-                test = (group_difference(table) if len(table) >= 2
-                        else GroupTest(NO_TEST, math.nan, math.nan))
+                table = [
+                    [int(k_by[i, j]), int(n_by[i] - k_by[i, j])]
+                    for i, name in enumerate(groups)
+                    if name != NOT_RECORDED
+                ]
+                test = (
+                    group_difference(table)
+                    if len(table) >= 2
+                    else GroupTest(NO_TEST, math.nan, math.nan)
+                )
                 for i, name in enumerate(groups):
                     # The test is repeated on every group row so a filtered view still shows it.
-                    rows.append({**base, "Grouping": g, "Group": name,
-                                 **_share_row(int(k_by[i, j]), int(n_by[i])),
-                                 "Test": test.test, "Statistic": test.statistic,
-                                 "p": test.p_value})
+                    rows.append(
+                        {
+                            **base,
+                            "Grouping": g,
+                            "Group": name,
+                            **_share_row(int(k_by[i, j]), int(n_by[i])),
+                            "Test": test.test,
+                            "Statistic": test.statistic,
+                            "p": test.p_value,
+                        }
+                    )
             if len(grp):
-                rows.append({**base, "Grouping": FOCUS_GROUPS, "Group": "focus groups",
-                             **_share_row(int(grp[:, j].sum()), len(grp))})
-    columns = ["Trait", "Concept ID", "Outcome", "Grouping", "Group", "Respondents in group",
-               "Respondents", "Share", "95% CI low", "95% CI high", "Caution", "Test",
-               "Statistic", "p", "p (BH-adjusted)"]
+                rows.append(
+                    {
+                        **base,
+                        "Grouping": FOCUS_GROUPS,
+                        "Group": "focus groups",
+                        **_share_row(int(grp[:, j].sum()), len(grp)),
+                    }
+                )
+    columns = [
+        "Trait",
+        "Concept ID",
+        "Outcome",
+        "Grouping",
+        "Group",
+        "Respondents in group",
+        "Respondents",
+        "Share",
+        "95% CI low",
+        "95% CI high",
+        "Caution",
+        "Test",
+        "Statistic",
+        "p",
+        "p (BH-adjusted)",
+    ]
     out = pd.DataFrame(rows, columns=columns)
     if out.empty:
         return out
     rank = {c: i for i, c in enumerate(order)}
-    out = out.sort_values("Concept ID", key=lambda s: s.map(rank), kind="stable",
-                          ignore_index=True)
+    out = out.sort_values("Concept ID", key=lambda s: s.map(rank), kind="stable", ignore_index=True)
     # BH family: one grouping and one outcome, across traits; one p-value per trait.
     for _, part in out.loc[out["p"].notna()].groupby(["Grouping", "Outcome"]):
         first = part.drop_duplicates("Concept ID")
@@ -454,8 +583,9 @@ def trait_summary(mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: p
     return out
 
 
-def chart_data(summary: pd.DataFrame, grouping: str | None, outcome: str = "like",
-               top: int = 10) -> pd.DataFrame:
+def chart_data(
+    summary: pd.DataFrame, grouping: str | None, outcome: str = "like", top: int = 10
+) -> pd.DataFrame:
     """Return shares for the ``top`` concepts by overall share, one column per group.
 
     Concepts are ranked by their share among all individuals for ``outcome``;
@@ -465,8 +595,10 @@ def chart_data(summary: pd.DataFrame, grouping: str | None, outcome: str = "like
     overall = part.loc[part["Grouping"] == ALL_INDIVIDUALS]
     overall = overall.loc[overall["Respondents"] > 0]
     overall = overall.sort_values(["Share", "Concept ID"], ascending=[False, True]).head(top)
-    names = [f"{t} ({c})" if isinstance(t, str) else c
-             for t, c in zip(overall["Trait"], overall["Concept ID"], strict=True)]
+    names = [
+        f"{t} ({c})" if isinstance(t, str) else c
+        for t, c in zip(overall["Trait"], overall["Concept ID"], strict=True)
+    ]
     out = pd.DataFrame({"Trait": names})
     if grouping is None:
         out["all individuals"] = overall["Share"].to_numpy()
@@ -531,6 +663,7 @@ def about_table(about: Mapping[str, Any], counts: Mapping[str, Any]) -> pd.DataF
 
 
 # --- safe cells and sheet craft ----------------------------------------------------
+
 
 def _plain(value: Any) -> Any:
     """Return a value openpyxl can store: Python scalars, None for missing."""
@@ -604,15 +737,30 @@ HEADER_FONT = Font(bold=True)
 HEADER_FILL = PatternFill("solid", fgColor="DDE4EE")
 NOTE_FONT = Font(italic=True)
 WRAP = Alignment(wrap_text=True, vertical="top")
-WRAPPED_COLUMNS = {"Sentence", "Examples", "Question", "Liked", "Disliked", "Wanted", "Value",
-                   "Caution"}
+WRAPPED_COLUMNS = {
+    "Sentence",
+    "Examples",
+    "Question",
+    "Liked",
+    "Disliked",
+    "Wanted",
+    "Value",
+    "Caution",
+}
 PERCENT_COLUMNS = {"Share", "95% CI low", "95% CI high"}
-PROBABILITY_COLUMNS = {"p", "p (BH-adjusted)", "Link probability", "Stance probability",
-                       "Tagger confidence", "Statistic"}
+PROBABILITY_COLUMNS = {
+    "p",
+    "p (BH-adjusted)",
+    "Link probability",
+    "Stance probability",
+    "Tagger confidence",
+    "Statistic",
+}
 
 
-def write_table(ws: Worksheet, frame: pd.DataFrame, *, notes: Sequence[str] = (),
-                freeze_columns: int = 1) -> None:
+def write_table(
+    ws: Worksheet, frame: pd.DataFrame, *, notes: Sequence[str] = (), freeze_columns: int = 1
+) -> None:
     """Write notes, a bold header and the rows of ``frame``, with filter, freeze and widths.
 
     The sheet must be empty: rows are appended.
@@ -643,8 +791,9 @@ def write_table(ws: Worksheet, frame: pd.DataFrame, *, notes: Sequence[str] = ()
         ws.column_dimensions[letter].width = min(60 if wrapped else 40, max(8, width))
         if wrapped or name in PERCENT_COLUMNS or name in PROBABILITY_COLUMNS:
             fmt = "0.0%" if name in PERCENT_COLUMNS else "0.0000"
-            for (cell,) in ws.iter_rows(min_row=header + 1, max_row=header + len(frame),
-                                        min_col=j, max_col=j):
+            for (cell,) in ws.iter_rows(
+                min_row=header + 1, max_row=header + len(frame), min_col=j, max_col=j
+            ):
                 if wrapped:
                     cell.alignment = WRAP
                 elif isinstance(cell.value, float):
@@ -676,9 +825,14 @@ def add_bar_chart(ws: Worksheet, data: pd.DataFrame, title: str, anchor: str) ->
 
 # --- the workbook ------------------------------------------------------------------
 
-def prepare(mentions: pd.DataFrame, respondents: pd.DataFrame, *,
-            min_confidence: float | None = None,
-            pseudonymise: PrivacyOptions | None = None) -> tuple[pd.DataFrame, pd.DataFrame]:
+
+def prepare(
+    mentions: pd.DataFrame,
+    respondents: pd.DataFrame,
+    *,
+    min_confidence: float | None = None,
+    pseudonymise: PrivacyOptions | None = None,
+) -> tuple[pd.DataFrame, pd.DataFrame]:
     """Return the mentions and respondents an export shows: gold merged, filtered, private."""
     m = filter_confidence(merge_gold(complete_mentions(mentions)), min_confidence)
     r = complete_respondents(respondents, m)
@@ -703,11 +857,18 @@ def export_counts(mentions: pd.DataFrame, respondents: pd.DataFrame) -> dict[str
     }
 
 
-def write_workbook(path: Path | str, mentions: pd.DataFrame, respondents: pd.DataFrame,
-                   concepts: pd.DataFrame, about: Mapping[str, Any], *,
-                   group_by: Sequence[str] = (), min_confidence: float | None = None,
-                   pseudonymise: PrivacyOptions | None = None,
-                   chart_png: Path | str | None = None) -> dict[str, float]:
+def write_workbook(
+    path: Path | str,
+    mentions: pd.DataFrame,
+    respondents: pd.DataFrame,
+    concepts: pd.DataFrame,
+    about: Mapping[str, Any],
+    *,
+    group_by: Sequence[str] = (),
+    min_confidence: float | None = None,
+    pseudonymise: PrivacyOptions | None = None,
+    chart_png: Path | str | None = None,
+) -> dict[str, float]:
     """Write the analysis workbook (.xlsx) and, optionally, the chart as PNG.
 
     Args:
@@ -738,12 +899,13 @@ def write_workbook(path: Path | str, mentions: pd.DataFrame, respondents: pd.Dat
     if pseudonymise is not None:
         dropped = identifying_columns(group_by, pseudonymise.drop_columns)
         if dropped:
-            raise InputError(f"The grouping column {dropped[0]!r} is dropped as identifying when "
-                             "pseudonymising; remove it from the grouping or the drop list.")
+            raise InputError(
+                f"The grouping column {dropped[0]!r} is dropped as identifying when "
+                "pseudonymising; remove it from the grouping or the drop list."
+            )
     timings: dict[str, float] = {}
     t0 = time.perf_counter()
-    m, r = prepare(mentions, respondents, min_confidence=min_confidence,
-                   pseudonymise=pseudonymise)
+    m, r = prepare(mentions, respondents, min_confidence=min_confidence, pseudonymise=pseudonymise)
     timings["prepare"] = time.perf_counter() - t0
 
     t0 = time.perf_counter()
@@ -751,11 +913,13 @@ def write_workbook(path: Path | str, mentions: pd.DataFrame, respondents: pd.Dat
     grouping = group_by[0] if group_by else None
     chart = chart_data(summary, grouping) if not summary.empty else pd.DataFrame()
     counts = export_counts(m, r)
-    counts.update({
-        "Minimum tagger confidence": min_confidence if min_confidence is not None else "none",
-        "Pseudonymised": "yes" if pseudonymise is not None else "no",
-        "Written": datetime.now().isoformat(timespec="seconds"),
-    })
+    counts.update(
+        {
+            "Minimum tagger confidence": min_confidence if min_confidence is not None else "none",
+            "Pseudonymised": "yes" if pseudonymise is not None else "no",
+            "Written": datetime.now().isoformat(timespec="seconds"),
+        }
+    )
     tables = [
         (SHEETS["preferred"], preferred_traits(m, r, concepts), (), 1),
         (SHEETS["matrix"], trait_matrix(m, r, concepts), (), 1),
@@ -771,8 +935,11 @@ def write_workbook(path: Path | str, mentions: pd.DataFrame, respondents: pd.Dat
     for title, frame, notes, freeze in tables:
         write_table(wb.create_sheet(title), frame, notes=notes, freeze_columns=freeze)
     ws = wb.create_sheet(SHEETS["chart"])
-    chart_title = (f"Share of individual respondents liking each trait, by {grouping}" if grouping
-                   else "Share of individual respondents liking each trait")
+    chart_title = (
+        f"Share of individual respondents liking each trait, by {grouping}"
+        if grouping
+        else "Share of individual respondents liking each trait"
+    )
     write_table(ws, chart, freeze_columns=1)
     for j in range(2, chart.shape[1] + 1):
         for i in range(2, len(chart) + 2):

@@ -13,8 +13,8 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from extractor.workspace import store
 from extractor.errors import WorkspaceError
+from extractor.workspace import store
 
 SETTINGS_FILE = "traits.toml"
 STORE_FILE = "traits.sqlite"

@@ -571,9 +571,7 @@ def _spans_json(spans: Sequence[Span]) -> str:
 
 
 def _spans_from_json(text: str) -> list[Span]:
-    return [
-        Span(d["start"], d["end"], d.get("concept"), d.get("stance")) for d in json.loads(text)
-    ]
+    return [Span(d["start"], d["end"], d.get("concept"), d.get("stance")) for d in json.loads(text)]
 
 
 def add_label(
@@ -685,9 +683,7 @@ def add_to_sample(conn: sqlite3.Connection, purpose: str, ids: Iterable[int]) ->
 # --------------------------------------------------------------------------- models
 
 
-def add_model(
-    conn: sqlite3.Connection, version: str, path: str, meta: dict[str, Any]
-) -> None:
+def add_model(conn: sqlite3.Connection, version: str, path: str, meta: dict[str, Any]) -> None:
     """Record a saved model version."""
     with transaction(conn):
         conn.execute(
@@ -755,9 +751,11 @@ def store_predictions(
 
 def count_predictions(conn: sqlite3.Connection, model_version: str) -> int:
     """Return how many sentences a model version has tagged."""
-    return int(conn.execute(
-        "SELECT COUNT(*) FROM predictions WHERE model_version = ?", (model_version,)
-    ).fetchone()[0])
+    return int(
+        conn.execute(
+            "SELECT COUNT(*) FROM predictions WHERE model_version = ?", (model_version,)
+        ).fetchone()[0]
+    )
 
 
 def predictions(conn: sqlite3.Connection, model_version: str) -> dict[int, dict[str, Any]]:

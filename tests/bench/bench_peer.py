@@ -31,11 +31,11 @@ from typing import Any
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.nlp.clusters import learn_clusters, load_clusters  # noqa: E402
 from extractor.errors import InputError  # noqa: E402
-from extractor.models.metrics import predicted_mentions, score  # noqa: E402
 from extractor.ingest.labels import LabelRecord, records_from_dicts, to_gold  # noqa: E402
 from extractor.loop.simulate import TaggerOnly  # noqa: E402
+from extractor.models.metrics import predicted_mentions, score  # noqa: E402
+from extractor.nlp.clusters import learn_clusters, load_clusters  # noqa: E402
 from extractor.types import Span  # noqa: E402
 from tests.mams import SKIP_REASON, load_mams  # noqa: E402
 
@@ -114,21 +114,35 @@ def main(argv: list[str] | None = None) -> int:
             started = time.perf_counter()
             ours = TaggerOnly().fit(train, [], [], clusters=clusters)
             ours_train = time.perf_counter() - started
-            ours_f1 = score(test_gold, predicted_mentions(
-                ours.predict([s for s, _ in test_gold])))["span"]["f1"]
+            ours_f1 = score(test_gold, predicted_mentions(ours.predict([s for s, _ in test_gold])))[
+                "span"
+            ]["f1"]
             started = time.perf_counter()
-            nlp = train_spacy([(s.text, [(sp.start, sp.end) for sp in spans])
-                               for s, spans in train], args.epochs, seed=repeat)
+            nlp = train_spacy(
+                [(s.text, [(sp.start, sp.end) for sp in spans]) for s, spans in train],
+                args.epochs,
+                seed=repeat,
+            )
             spacy_train = time.perf_counter() - started
-            spacy_f1 = score(test_gold, spacy_mentions(
-                nlp, [s.text for s, _ in test_gold]))["span"]["f1"]
-            rows.append({"repeat": repeat, "budget": budget, "ours_f1": ours_f1,
-                         "ours_train_seconds": round(ours_train, 2), "spacy_f1": spacy_f1,
-                         "spacy_train_seconds": round(spacy_train, 2)})
+            spacy_f1 = score(test_gold, spacy_mentions(nlp, [s.text for s, _ in test_gold]))[
+                "span"
+            ]["f1"]
+            rows.append(
+                {
+                    "repeat": repeat,
+                    "budget": budget,
+                    "ours_f1": ours_f1,
+                    "ours_train_seconds": round(ours_train, 2),
+                    "spacy_f1": spacy_f1,
+                    "spacy_train_seconds": round(spacy_train, 2),
+                }
+            )
             print(json.dumps(rows[-1]), flush=True)
     table = []
-    print(f"\nMAMS test ({len(test_gold)} sentences), strict span F1, mean (sd) over "
-          f"{args.repeats} repeats; clusters {how} in {cluster_seconds:.0f} s")
+    print(
+        f"\nMAMS test ({len(test_gold)} sentences), strict span F1, mean (sd) over "
+        f"{args.repeats} repeats; clusters {how} in {cluster_seconds:.0f} s"
+    )
     print(f"{'budget':>6}  {'ours F1':>14}  {'ours s':>7}  {'spaCy F1':>14}  {'spaCy s':>7}")
     for budget in budgets:
         mine = [r for r in rows if r["budget"] == budget]
@@ -137,12 +151,19 @@ def main(argv: list[str] | None = None) -> int:
             values = [r[key] for r in runs]
             return statistics.fmean(values), statistics.stdev(values) if len(values) > 1 else 0.0
 
-        line = {"budget": budget, **{k: stat(k) for k in (
-            "ours_f1", "ours_train_seconds", "spacy_f1", "spacy_train_seconds")}}
+        line = {
+            "budget": budget,
+            **{
+                k: stat(k)
+                for k in ("ours_f1", "ours_train_seconds", "spacy_f1", "spacy_train_seconds")
+            },
+        }
         table.append(line)
-        print(f"{budget:>6}  {line['ours_f1'][0]:.3f} ({line['ours_f1'][1]:.3f})  "
-              f"{line['ours_train_seconds'][0]:>7.1f}  {line['spacy_f1'][0]:.3f} "
-              f"({line['spacy_f1'][1]:.3f})  {line['spacy_train_seconds'][0]:>7.1f}")
+        print(
+            f"{budget:>6}  {line['ours_f1'][0]:.3f} ({line['ours_f1'][1]:.3f})  "
+            f"{line['ours_train_seconds'][0]:>7.1f}  {line['spacy_f1'][0]:.3f} "
+            f"({line['spacy_f1'][1]:.3f})  {line['spacy_train_seconds'][0]:>7.1f}"
+        )
     args.out.write_text(json.dumps({
         "settings": {"epochs": args.epochs, "repeats": args.repeats, "budgets": budgets,
                      "train_pool": len(pool_gold), "test": len(test_gold),

@@ -22,17 +22,39 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[2]
 sys.path[:0] = [str(ROOT), str(ROOT / "tests")]
 
-from fake_model import FakeModel, build_store  # noqa: E402
-
 from extractor.loop.session import Session, SessionSettings  # noqa: E402
+from tests.fake_model import FakeModel, build_store  # noqa: E402
 
-SUBJECTS = ["Zamaro Red", "Lintu Yellow", "the climbing one", "this bean", "the new seed",
-            "my mother's variety", "the Kalowa type"]
-VERBS = ["cooks fast", "is bitter", "has big grains", "gives a small harvest",
-         "survives the dry spell", "turns the soup dark", "sells well in Tinsoka",
-         "stores badly", "needs stakes", "tastes sweet"]
-TAILS = ["after the rains", "when we grow it near the river", "according to my husband",
-         "in the short season", "", "at the market", "if the soil is poor"]
+SUBJECTS = [
+    "Zamaro Red",
+    "Lintu Yellow",
+    "the climbing one",
+    "this bean",
+    "the new seed",
+    "my mother's variety",
+    "the Kalowa type",
+]
+VERBS = [
+    "cooks fast",
+    "is bitter",
+    "has big grains",
+    "gives a small harvest",
+    "survives the dry spell",
+    "turns the soup dark",
+    "sells well in Tinsoka",
+    "stores badly",
+    "needs stakes",
+    "tastes sweet",
+]
+TAILS = [
+    "after the rains",
+    "when we grow it near the river",
+    "according to my husband",
+    "in the short season",
+    "",
+    "at the market",
+    "if the soil is poor",
+]
 
 
 def synthetic_answers(n_sentences: int, seed: int = 0) -> list[tuple[str, str]]:
@@ -64,8 +86,12 @@ def bench(
 
         started = time.perf_counter()
         session = Session(
-            conn, annotator="Bench", strategy=strategy, batch_size=10,
-            predictor=FakeModel(path_prob=lambda s: float(probs[s.id])), retrain=retrain,
+            conn,
+            annotator="Bench",
+            strategy=strategy,
+            batch_size=10,
+            predictor=FakeModel(path_prob=lambda s: float(probs[s.id])),
+            retrain=retrain,
             settings=SessionSettings(retrain_every=10),
         )
         item = session.next()
@@ -95,10 +121,15 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--answers", type=int, default=200)
     parser.add_argument("--sentences", type=int, default=5000)
-    parser.add_argument("--retrain-delay", type=float, default=1.5,
-                        help="seconds the fake retraining sleeps")
-    parser.add_argument("--think", type=float, default=0.1,
-                        help="seconds the simulated annotator spends per sentence")
+    parser.add_argument(
+        "--retrain-delay", type=float, default=1.5, help="seconds the fake retraining sleeps"
+    )
+    parser.add_argument(
+        "--think",
+        type=float,
+        default=0.1,
+        help="seconds the simulated annotator spends per sentence",
+    )
     parser.add_argument("--strategies", default="default,least_confidence,random")
     args = parser.parse_args()
     for name in args.strategies.split(","):

@@ -24,10 +24,10 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.ingest.concepts import load_concept_list  # noqa: E402
-from extractor.nlp.dictionary import build_dictionary  # noqa: E402
 from extractor.models.tagger import fit_tagger, tag_sentences  # noqa: E402
+from extractor.nlp.clusters import learn_clusters  # noqa: E402
+from extractor.nlp.dictionary import build_dictionary  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 
 
@@ -38,8 +38,10 @@ def demo_gold() -> list[dict]:
 
 
 def synthetic(records: list[dict], n: int, seed: int = 0) -> list[Sentence]:
-    """Return ``n`` sentences made by joining the first half of one demo sentence of a
-    language with the second half of another."""
+    """Return ``n`` sentences, each half of one demo sentence joined to half of another.
+
+    Both halves come from sentences of the same language.
+    """
     rng = random.Random(seed)
     by_lang: dict[str, list[str]] = {}
     for r in records:
@@ -66,19 +68,25 @@ def main() -> None:
     parser.add_argument("--sizes", default="20000,100000")
     parser.add_argument("--train", type=int, default=2000)
     parser.add_argument(
-        "--gold", type=int, default=100,
+        "--gold",
+        type=int,
+        default=100,
         help="labeled sentences among the training sentences (the rest are silver); the "
         "tool is meant for a few dozen to a hundred labels",
     )
     args = parser.parse_args()
 
     records = demo_gold()
-    aliases = [(a["concept_id"], a["text"], a["lang"])
-               for a in load_concept_list(ROOT / "sample_interviews" / "concepts.csv").aliases]
+    aliases = [
+        (a["concept_id"], a["text"], a["lang"])
+        for a in load_concept_list(ROOT / "sample_interviews" / "concepts.csv").aliases
+    ]
     dictionary = build_dictionary(aliases)
     gold = [
-        (Sentence(id=-(i + 1), text=r["text"], lang=r["lang"]),
-         [Span(s["start"], s["end"], s.get("concept"), s.get("stance")) for s in r["spans"]])
+        (
+            Sentence(id=-(i + 1), text=r["text"], lang=r["lang"]),
+            [Span(s["start"], s["end"], s.get("concept"), s.get("stance")) for s in r["spans"]],
+        )
         for i, r in enumerate(records[: min(args.gold, args.train)])
     ]
     figures: dict[str, float] = {}
@@ -99,11 +107,13 @@ def main() -> None:
         figures[f"tag_sentences_per_s_{size}"] = size / seconds
         figures[f"tag_wall_s_{size}"] = time.perf_counter() - w0
         figures[f"peak_mb_after_{size}"] = peak_mb()
-        print(f"{size:>7} sentences: clusters {figures[f'clusters_s_{size}']:.1f} s, "
-              f"train on {args.train} ({len(gold)} labeled) "
-              f"{figures[f'train_s_{args.train}']:.1f} s, "
-              f"tagging {size / seconds:,.0f} sentences/s, peak {peak_mb():,.0f} MB",
-              flush=True)
+        print(
+            f"{size:>7} sentences: clusters {figures[f'clusters_s_{size}']:.1f} s, "
+            f"train on {args.train} ({len(gold)} labeled) "
+            f"{figures[f'train_s_{args.train}']:.1f} s, "
+            f"tagging {size / seconds:,.0f} sentences/s, peak {peak_mb():,.0f} MB",
+            flush=True,
+        )
     print(json.dumps(figures, indent=1))
 
 

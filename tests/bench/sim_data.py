@@ -69,13 +69,17 @@ def write_demo(out: Path, *, share: float = 0.8, seed: int = 0) -> None:
     respondents = sorted({g["respondent"] for g in gold})
     random.Random(seed).shuffle(respondents)
     pool = set(respondents[: round(share * len(respondents))])
-    with (out / "demo_pool.jsonl").open("w", encoding="utf-8") as fp, \
-            (out / "demo_test.jsonl").open("w", encoding="utf-8") as ft:
+    with (
+        (out / "demo_pool.jsonl").open("w", encoding="utf-8") as fp,
+        (out / "demo_test.jsonl").open("w", encoding="utf-8") as ft,
+    ):
         for g in gold:
             (fp if g["respondent"] in pool else ft).write(json.dumps(g, ensure_ascii=False) + "\n")
     n_pool = sum(g["respondent"] in pool for g in gold)
-    print(f"demo: {len(pool)} of {len(respondents)} respondents to the pool; "
-          f"{n_pool} pool and {len(gold) - n_pool} test sentences")
+    print(
+        f"demo: {len(pool)} of {len(respondents)} respondents to the pool; "
+        f"{n_pool} pool and {len(gold) - n_pool} test sentences"
+    )
 
 
 def main() -> None:

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import io
 import json
-import zipfile
 from pathlib import Path
 
 import pytest
@@ -35,11 +34,15 @@ def ws(tmp_path: Path) -> Path:
 
 def _csv(tmp_path: Path, name: str = "a.csv", text: str | None = None) -> Path:
     path = tmp_path / name
-    path.write_text(text or (
-        "respondent,gender,question,answer\n"
-        "KA-01,woman,Why do you grow it?,It cooks fast. The broth is thick.\n"
-        "KA-02,man,Why do you grow it?,Les grains sont trop petits.\n"
-    ), encoding="utf-8")
+    path.write_text(
+        text
+        or (
+            "respondent,gender,question,answer\n"
+            "KA-01,woman,Why do you grow it?,It cooks fast. The broth is thick.\n"
+            "KA-02,man,Why do you grow it?,Les grains sont trop petits.\n"
+        ),
+        encoding="utf-8",
+    )
     return path
 
 
@@ -56,8 +59,10 @@ def test_add_then_readd_changes_nothing(ws: Path, tmp_path: Path) -> None:
 def test_changed_file_adds_only_new_answers(ws: Path, tmp_path: Path) -> None:
     path = _csv(tmp_path)
     run("-w", str(ws), "add", str(path))
-    path.write_text(path.read_text(encoding="utf-8")
-                    + "KA-03,woman,Why do you grow it?,Good yield.\n", encoding="utf-8")
+    path.write_text(
+        path.read_text(encoding="utf-8") + "KA-03,woman,Why do you grow it?,Good yield.\n",
+        encoding="utf-8",
+    )
     run("-w", str(ws), "add", str(path))
     counts = status(ws)
     assert counts["answers"] == 3 and counts["respondents"] == 3
@@ -121,11 +126,26 @@ def test_concepts_import_unknown_language(ws: Path, tmp_path: Path) -> None:
 
 def test_output_in_a_missing_folder_is_one_sentence(tmp_path: Path) -> None:
     pool = tmp_path / "pool.jsonl"
-    pool.write_text('{"respondent": "A", "text": "It cooks fast.", "lang": "en", '
-                    '"spans": [{"start": 3, "end": 13}]}\n', encoding="utf-8")
-    code, out = run("simulate", "--pool", str(pool), "--test", str(pool), "--budgets", "0",
-                    "--repeats", "1", "--strategies", "random",
-                    "--out", str(tmp_path / "missing" / "results.json"))
+    pool.write_text(
+        '{"respondent": "A", "text": "It cooks fast.", "lang": "en", '
+        '"spans": [{"start": 3, "end": 13}]}\n',
+        encoding="utf-8",
+    )
+    code, out = run(
+        "simulate",
+        "--pool",
+        str(pool),
+        "--test",
+        str(pool),
+        "--budgets",
+        "0",
+        "--repeats",
+        "1",
+        "--strategies",
+        "random",
+        "--out",
+        str(tmp_path / "missing" / "results.json"),
+    )
     assert code == 1
     assert "missing" in out and "Traceback" not in out
 
@@ -137,19 +157,41 @@ def test_simulate_writes_results_and_the_paired_gain(tmp_path: Path) -> None:
         trait = traits[i % 4]
         text = f"In Vesk village {i} we like the {trait} of Zanobi."
         start = text.index(trait)
-        lines.append(json.dumps({"respondent": f"R{i % 6}", "text": text, "lang": "en",
-                                 "spans": [{"start": start, "end": start + len(trait)}]}))
+        lines.append(
+            json.dumps(
+                {
+                    "respondent": f"R{i % 6}",
+                    "text": text,
+                    "lang": "en",
+                    "spans": [{"start": start, "end": start + len(trait)}],
+                }
+            )
+        )
     pool = tmp_path / "pool.jsonl"
     pool.write_text("\n".join(lines[:28]) + "\n", encoding="utf-8")
     test = tmp_path / "test.jsonl"
     test.write_text("\n".join(lines[28:]) + "\n", encoding="utf-8")
     out_file = tmp_path / "results.json"
-    code, out = run("simulate", "--pool", str(pool), "--test", str(test), "--budgets", "10,15",
-                    "--repeats", "2", "--model", "tagger", "--out", str(out_file))
+    code, out = run(
+        "simulate",
+        "--pool",
+        str(pool),
+        "--test",
+        str(test),
+        "--budgets",
+        "10,15",
+        "--repeats",
+        "2",
+        "--model",
+        "tagger",
+        "--out",
+        str(out_file),
+    )
     assert code == 0, out
     runs = json.loads(out_file.read_text(encoding="utf-8"))["runs"]
     assert {(r["strategy"], r["budget"]) for r in runs} == {
-        (s, b) for s in ("default", "random") for b in (10, 15)}
+        (s, b) for s in ("default", "random") for b in (10, 15)
+    }
     assert len(runs) == 2 * 2 * 2  # strategies x budgets x repeats
     assert "gain over random" in out and "/2" in out  # wins out of 2 repeats
 
@@ -158,7 +200,9 @@ def test_simulate_refuses_budgets_that_are_not_numbers(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
     with pytest.raises(SystemExit) as caught:
-        main(["simulate", "--pool", "p.jsonl", "--test", "t.jsonl", "--budgets", "10,x"],
-             console=Console(file=io.StringIO()))
+        main(
+            ["simulate", "--pool", "p.jsonl", "--test", "t.jsonl", "--budgets", "10,x"],
+            console=Console(file=io.StringIO()),
+        )
     assert caught.value.code == 2
     assert "budgets must be whole numbers" in capsys.readouterr().err

@@ -14,12 +14,11 @@ from pathlib import Path
 import pytest
 from rich.console import Console
 
-from extractor.workspace import store
 from extractor.cli.screen import LabelScreen, run_console
 from extractor.loop.session import Session, SessionSettings, concept_entries
 from extractor.types import Span
-
-from fake_model import ANSWERS, FakeModel, build_store  # noqa: E402
+from extractor.workspace import store
+from tests.fake_model import ANSWERS, FakeModel, build_store  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[2]
 NO_EVAL = SessionSettings(evaluation_fraction=0.0, evaluation_min=0, stop_set_size=0)
@@ -36,8 +35,11 @@ def conn(tmp_path: Path) -> sqlite3.Connection:
 def _run(conn: sqlite3.Connection, lines: list[str], **kwargs) -> tuple[dict, str]:
     out = io.StringIO()
     options = {
-        "annotator": "Ama", "batch_size": 4, "strategy": "least_confidence",
-        "model_provider": FakeModel(), "settings": NO_EVAL,
+        "annotator": "Ama",
+        "batch_size": 4,
+        "strategy": "least_confidence",
+        "model_provider": FakeModel(),
+        "settings": NO_EVAL,
         "console": Console(file=out, force_terminal=False, width=120),
         "input_stream": io.StringIO("".join(line + "\n" for line in lines)),
     } | kwargs
@@ -61,7 +63,8 @@ SCRIPT = [
     ["t 1", "w", ""],  # 7 change stance to wanted
     ["x 1", ""],  # 8 drop the suggestion
     ["m survives the dry spell", "drou", "1", "w", ""],  # 9 search a concept
-    [""], [""],  # 10, 11
+    [""],
+    [""],  # 10, 11
     ["c 1", "yie", "1", ""],  # 12 change concept
     [""],  # 13 keep "bitter" ...
     ["u", "n", ""],  # 14: undo 13, answer 13 again with "no trait", then keep 14
@@ -82,9 +85,11 @@ EXPECTED = {
     7: [_span(7, "big grains", "BTX:0011", "wanted")],
     8: [],
     9: [_span(9, "survives the dry spell", "BTX:0020", "wanted")],
-    10: [], 11: [],
+    10: [],
+    11: [],
     12: [_span(12, "cooks fast", "BTX:0015", "liked")],
-    13: [], 14: [],
+    13: [],
+    14: [],
     15: [_span(15, "bigger harvest", "BTX:0015", "wanted")],
     16: [],
     17: [_span(17, "soup turns dark", None, "disliked")],
@@ -103,7 +108,10 @@ def test_scripted_session_of_twenty_sentences_stores_every_answer(
     assert {label["annotator"] for label in labels.values()} == {"Ama"}
     assert store.skipped(conn, "Ama") == {6}
     assert [r["action"] for r in store.label_history(conn) if r["sentence_id"] == 13] == [
-        "label", "retract", "label"]
+        "label",
+        "retract",
+        "label",
+    ]
     assert summary["labeled"] == 19 and summary["skipped"] == 1 and summary["undone"] == 1
     assert "Nothing left to ask" in screen
 
@@ -112,14 +120,20 @@ def test_scripted_session_adds_alias_of_annotator(conn: sqlite3.Connection) -> N
     _run(conn, [line for group in SCRIPT for line in group])
     added = [a for a in store.aliases(conn) if a["origin"] == "annotator"]
     assert [(a["concept_id"], a["text"], a["lang"], a["added_by"]) for a in added] == [
-        ("BTX:0015", "bigger harvest", "en", "Ama")]
+        ("BTX:0015", "bigger harvest", "en", "Ama")
+    ]
 
 
 @pytest.mark.parametrize(
     ("sentence", "expected"),
     [
-        (19, [_span(19, "cooks fast", "BTX:0002", "liked"),
-              _span(19, "bitter", "BTX:0007", "disliked")]),
+        (
+            19,
+            [
+                _span(19, "cooks fast", "BTX:0002", "liked"),
+                _span(19, "bitter", "BTX:0007", "disliked"),
+            ],
+        ),
         (2, []),
     ],
     ids=["two-suggestions", "nothing-suggested"],
@@ -164,9 +178,11 @@ def test_ctrl_c_at_a_prompt_keeps_everything_confirmed(conn: sqlite3.Connection)
 
 def test_ambiguous_words_ask_which_occurrence(tmp_path: Path) -> None:
     conn = build_store(tmp_path / "t.sqlite", [("Sweet beans make sweet soup.",)])
-    _, screen = _run(conn, ["sweet soup", "-", "l", "x 1", "sweet", "7", "2", "", "n", ""],
-                     settings=SessionSettings(evaluation_min=0, evaluation_fraction=0,
-                                              stop_set_size=0))
+    _, screen = _run(
+        conn,
+        ["sweet soup", "-", "l", "x 1", "sweet", "7", "2", "", "n", ""],
+        settings=SessionSettings(evaluation_min=0, evaluation_fraction=0, stop_set_size=0),
+    )
     assert "occur 2 times" in screen
     assert "Type a number from 1 to 2" in screen
     assert store.current_labels(conn)[1]["spans"] == [Span(17, 22, None, "neutral")]
@@ -180,10 +196,20 @@ def test_words_not_in_sentence_are_refused_with_a_message(conn: sqlite3.Connecti
 
 def test_screen_shows_context_suggestion_and_help(conn: sqlite3.Connection) -> None:
     _, screen = _run(conn, ["n", "q"])
-    for expected in ["Why do you grow this bean?", "gender man", "district Tinsoka",
-                     "Zamaro Red cooks fast on the fire.", "BTX:0002 cooking time", "liked",
-                     "span 0.80", "concept 0.70", "Enter keep", "q quit",
-                     "before", "Zamaro Red cooks fast on the fire."]:
+    for expected in [
+        "Why do you grow this bean?",
+        "gender man",
+        "district Tinsoka",
+        "Zamaro Red cooks fast on the fire.",
+        "BTX:0002 cooking time",
+        "liked",
+        "span 0.80",
+        "concept 0.70",
+        "Enter keep",
+        "q quit",
+        "before",
+        "Zamaro Red cooks fast on the fire.",
+    ]:
         assert expected in screen
 
 
@@ -192,8 +218,10 @@ def test_screen_shows_quality_kappas_and_stop_sentence(conn: sqlite3.Connection)
     session = Session(conn, annotator="Ama", predictor=FakeModel(), settings=NO_EVAL)
     session.kappas.extend([0.995, 0.999, 1.0])
     screen = LabelScreen(
-        session, console=Console(file=out, force_terminal=False, width=120),
-        read_line=lambda prompt: None, entries=concept_entries(conn),
+        session,
+        console=Console(file=out, force_terminal=False, width=120),
+        read_line=lambda prompt: None,
+        entries=concept_entries(conn),
         quality=lambda: {"f1": 0.61, "sentences": 40},
     )
     item = session.next()
@@ -217,7 +245,7 @@ from rich.console import Console
 from extractor.workspace import store
 from extractor.cli.screen import run_console
 from extractor.loop.session import SessionSettings
-from fake_model import FakeModel
+from tests.fake_model import FakeModel
 conn = store.connect(Path({db!r}))
 run_console(conn, annotator="Ama", batch_size=4, strategy="least_confidence",
             model_provider=FakeModel(), console=Console(file=open("/dev/null", "w")),
@@ -231,8 +259,13 @@ def test_killed_process_keeps_the_five_answers_given(tmp_path: Path) -> None:
     db = tmp_path / "traits.sqlite"
     build_store(db).close()
     code = CHILD.format(root=str(ROOT), tests=str(ROOT / "tests"), db=str(db))
-    child = subprocess.Popen([sys.executable, "-c", code], stdin=subprocess.PIPE,
-                             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
+    child = subprocess.Popen(
+        [sys.executable, "-c", code],
+        stdin=subprocess.PIPE,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
     try:
         assert child.stdin is not None
         child.stdin.write("\n" * 2 + "n\n" * 3)  # five answers; the pipe stays open

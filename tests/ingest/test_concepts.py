@@ -6,8 +6,8 @@ from pathlib import Path
 
 import pytest
 
-from extractor.ingest.concepts import load_concept_list, split_synonyms
 from extractor.errors import InputError
+from extractor.ingest.concepts import load_concept_list, split_synonyms
 
 
 def _write(tmp_path: Path, text: str, name: str = "c.csv") -> Path:
@@ -17,9 +17,12 @@ def _write(tmp_path: Path, text: str, name: str = "c.csv") -> Path:
 
 
 def test_load_concept_list_makes_preferred_and_alternative_aliases(tmp_path: Path) -> None:
-    path = _write(tmp_path, "id,label,lang,synonyms,parent,definition\n"
-                  "BTX:0001,cooking time,en,cooks fast|quick to cook,,Time to cook.\n"
-                  "BTX:0001,temps de cuisson,fr,cuit vite;cuisson rapide,,\n")
+    path = _write(
+        tmp_path,
+        "id,label,lang,synonyms,parent,definition\n"
+        "BTX:0001,cooking time,en,cooks fast|quick to cook,,Time to cook.\n"
+        "BTX:0001,temps de cuisson,fr,cuit vite;cuisson rapide,,\n",
+    )
     loaded = load_concept_list(path)
     assert [c["id"] for c in loaded.concepts] == ["BTX:0001"]
     kinds = {(a["text"], a["lang"], a["kind"]) for a in loaded.aliases}

@@ -8,7 +8,6 @@ from pathlib import Path
 import pytest
 from seqeval.metrics.sequence_labeling import get_entities
 
-from extractor.workspace import store
 from extractor.errors import InputError
 from extractor.ingest.labels import (
     import_labels,
@@ -18,6 +17,7 @@ from extractor.ingest.labels import (
     to_gold,
 )
 from extractor.types import Span
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 CONLL = """\
@@ -54,8 +54,10 @@ def test_conll_reads_text_respondent_and_spans() -> None:
 def test_conll_entities_agree_with_seqeval() -> None:
     lines = CONLL.splitlines()
     records = parse_conll(lines, source="x.conll", default_lang="en")
-    blocks = [[ln.split() for ln in b.splitlines() if ln and not ln.startswith("#")]
-              for b in CONLL.split("\n\n")]
+    blocks = [
+        [ln.split() for ln in b.splitlines() if ln and not ln.startswith("#")]
+        for b in CONLL.split("\n\n")
+    ]
     for record, block in zip(records, blocks, strict=True):
         tokens, tags = [c[0] for c in block], [c[1] for c in block]
         # Source: seqeval's get_entities gives (type, first token, last token).
@@ -72,27 +74,49 @@ def test_conll_entities_agree_with_seqeval() -> None:
 def test_conll_round_trips_through_jsonl(tmp_path: Path) -> None:
     records = parse_conll(CONLL.splitlines(), source="x.conll", default_lang="en")
     path = tmp_path / "gold.jsonl"
-    path.write_text("\n".join(json.dumps({
-        "respondent": r.respondent, "text": r.text, "lang": r.lang,
-        "spans": [s._asdict() for s in r.spans]}) for r in records), encoding="utf-8")
+    path.write_text(
+        "\n".join(
+            json.dumps(
+                {
+                    "respondent": r.respondent,
+                    "text": r.text,
+                    "lang": r.lang,
+                    "spans": [s._asdict() for s in r.spans],
+                }
+            )
+            for r in records
+        ),
+        encoding="utf-8",
+    )
     again = read_labels(path, default_lang="en")
     assert [(r.text, r.spans, r.respondent) for r in again] == [
-        (r.text, r.spans, r.respondent) for r in records]
+        (r.text, r.spans, r.respondent) for r in records
+    ]
 
 
 BAD_JSONL = {
-    "end-beyond-text": ('{"text": "Soft beans", "spans": [{"start": 0, "end": 40}]}',
-                        r"g\.jsonl, line 2: 'end' 40 is beyond the sentence's 10 characters"),
+    "end-beyond-text": (
+        '{"text": "Soft beans", "spans": [{"start": 0, "end": 40}]}',
+        r"g\.jsonl, line 2: 'end' 40 is beyond the sentence's 10 characters",
+    ),
     "not-json": ('{"text": "Soft beans", ', r"line 2: not valid JSON"),
     "spans-missing": ('{"text": "Soft beans"}', r"line 2: 'spans' must be a list"),
-    "bad-stance": ('{"text": "Soft beans", "spans": [{"start": 0, "end": 4, "stance": "x"}]}',
-                   r"line 2: 'stance' must be one of liked"),
-    "end-before-start": ('{"text": "Soft beans", "spans": [{"start": 4, "end": 2}]}',
-                         r"line 2: 'end' 2 of span 1 must be after 'start' 4"),
-    "whitespace-span": ('{"text": "Soft  beans", "spans": [{"start": 4, "end": 6}]}',
-                        r"line 2: span 4-6 \(' {2}'\) covers no word"),
-    "overlap": ('{"text": "Soft beans", "spans": [{"start": 0, "end": 10}, '
-                '{"start": 5, "end": 10}]}', r"line 2: spans 0-10 and 5-10 overlap"),
+    "bad-stance": (
+        '{"text": "Soft beans", "spans": [{"start": 0, "end": 4, "stance": "x"}]}',
+        r"line 2: 'stance' must be one of liked",
+    ),
+    "end-before-start": (
+        '{"text": "Soft beans", "spans": [{"start": 4, "end": 2}]}',
+        r"line 2: 'end' 2 of span 1 must be after 'start' 4",
+    ),
+    "whitespace-span": (
+        '{"text": "Soft  beans", "spans": [{"start": 4, "end": 6}]}',
+        r"line 2: span 4-6 \(' {2}'\) covers no word",
+    ),
+    "overlap": (
+        '{"text": "Soft beans", "spans": [{"start": 0, "end": 10}, {"start": 5, "end": 10}]}',
+        r"line 2: spans 0-10 and 5-10 overlap",
+    ),
 }
 
 
@@ -107,8 +131,10 @@ BAD_CONLL = {
     "stray-I": ("a O\nb I-TRAIT\n", r"c\.conll, line 2: tag 'I-TRAIT' does not continue"),
     "unknown-tag": ("a X\n", r"line 1: tag 'X' must be"),
     "too-many-columns": ("a O _ _ extra\n", r"line 1: a token line needs 2 to 4 columns"),
-    "token-not-in-text": ("# text = soft grain\nsoft O\nbeans O\n",
-                          r"line 3: token 'beans' is not in the '# text'"),
+    "token-not-in-text": (
+        "# text = soft grain\nsoft O\nbeans O\n",
+        r"line 3: token 'beans' is not in the '# text'",
+    ),
     "bad-stance": ("\n\na B-TRAIT _ happy\n", r"line 3: stance 'happy'"),
 }
 
@@ -136,8 +162,15 @@ def test_spans_snap_outwards_to_words(given: tuple[int, int], expected: tuple[in
 
 
 def test_spans_snapping_onto_the_same_words_merge() -> None:
-    line = json.dumps({"text": "Seafood was fine", "spans": [
-        {"start": 0, "end": 7, "stance": "neutral"}, {"start": 3, "end": 7, "stance": "liked"}]})
+    line = json.dumps(
+        {
+            "text": "Seafood was fine",
+            "spans": [
+                {"start": 0, "end": 7, "stance": "neutral"},
+                {"start": 3, "end": 7, "stance": "liked"},
+            ],
+        }
+    )
     (record,) = parse_jsonl([line], source="g.jsonl", default_lang="en")
     assert record.spans == (Span(0, 7, None, "neutral"),)
 
@@ -150,8 +183,9 @@ def test_unknown_suffix_is_refused(tmp_path: Path) -> None:
 
 
 def test_to_gold_accepts_dicts_and_records() -> None:
-    gold = to_gold([{"text": "Good taste", "lang": "en", "spans": [{"start": 5, "end": 10}]}],
-                   first_id=7)
+    gold = to_gold(
+        [{"text": "Good taste", "lang": "en", "spans": [{"start": 5, "end": 10}]}], first_id=7
+    )
     assert gold[0][0].id == 7 and gold[0][1] == [Span(5, 10)]
 
 
@@ -162,33 +196,52 @@ def _jsonl(tmp_path: Path, rows: list[str]) -> Path:
 
 
 ROWS = [
-    json.dumps({"respondent": "KAL-07", "text": "The Zanobi beans cook fast.", "lang": "en",
-                "spans": [{"start": 17, "end": 26, "concept": "BTX:9002", "stance": "liked"}]}),
-    json.dumps({"respondent": "KAL-08", "text": "We sell them at Mirelo market.", "lang": "en",
-                "spans": []}),
+    json.dumps(
+        {
+            "respondent": "KAL-07",
+            "text": "The Zanobi beans cook fast.",
+            "lang": "en",
+            "spans": [{"start": 17, "end": 26, "concept": "BTX:9002", "stance": "liked"}],
+        }
+    ),
+    json.dumps(
+        {
+            "respondent": "KAL-08",
+            "text": "We sell them at Mirelo market.",
+            "lang": "en",
+            "spans": [],
+        }
+    ),
 ]
 
 
 def test_import_adds_sentences_and_labels(workspace: Workspace, tmp_path: Path) -> None:
     records = read_labels(_jsonl(tmp_path, ROWS), default_lang="en")
-    counts = import_labels(workspace.conn, records, annotator="tester", default_lang="en",
-                           source="labels.jsonl")
-    assert counts == {"records": 2, "matched": 0, "added_sentences": 2, "labels": 2,
-                      "spans": 1, "snapped": 0}
+    counts = import_labels(
+        workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
+    )
+    assert counts == {
+        "records": 2,
+        "matched": 0,
+        "added_sentences": 2,
+        "labels": 2,
+        "spans": 1,
+        "snapped": 0,
+    }
     labels = store.current_labels(workspace.conn)
     sentences = {s.id: s for s in store.sentences(workspace.conn)}
     by_text = {sentences[sid].text: v for sid, v in labels.items()}
     assert by_text["The Zanobi beans cook fast."]["spans"] == [Span(17, 26, "BTX:9002", "liked")]
     assert by_text["We sell them at Mirelo market."]["origin"] == "import"
-    again = import_labels(workspace.conn, records, annotator="tester", default_lang="en",
-                          source="labels.jsonl")
+    again = import_labels(
+        workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
+    )
     assert (again["matched"], again["added_sentences"]) == (2, 0)
     assert len(store.sentences(workspace.conn)) == 2
 
 
 def test_bad_line_leaves_the_store_unchanged(workspace: Workspace, tmp_path: Path) -> None:
-    bad = json.dumps({"respondent": "KAL-09", "text": "Short", "spans": [{"start": 0,
-                                                                         "end": 40}]})
+    bad = json.dumps({"respondent": "KAL-09", "text": "Short", "spans": [{"start": 0, "end": 40}]})
     with pytest.raises(InputError, match="line 3"):
         read_labels(_jsonl(tmp_path, [*ROWS, bad]), default_lang="en")
     assert store.sentences(workspace.conn) == []
@@ -199,8 +252,13 @@ def test_import_is_all_or_nothing(workspace: Workspace, tmp_path: Path) -> None:
     records = read_labels(_jsonl(tmp_path, ROWS), default_lang="en")
     orphan = records[1]._replace(respondent=None, text="Nobody said this here.", line=9)
     with pytest.raises(InputError, match="labels.jsonl, line 9: the sentence is not in the"):
-        import_labels(workspace.conn, [records[0], orphan], annotator="tester",
-                      default_lang="en", source="labels.jsonl")
+        import_labels(
+            workspace.conn,
+            [records[0], orphan],
+            annotator="tester",
+            default_lang="en",
+            source="labels.jsonl",
+        )
     assert store.sentences(workspace.conn) == []
     assert store.current_labels(workspace.conn) == {}
     assert store.sources(workspace.conn) == []
@@ -210,10 +268,15 @@ def test_reads_what_interchange_writes(tmp_path: Path) -> None:
     from extractor.report.formats import write_conll
     from extractor.types import Sentence
 
-    gold = [(Sentence(1, "The Zanobi beans cook fast, really.", "en"),
-             [Span(17, 26, "BTX:9002", "liked")]),
-            (Sentence(2, "Hard to cook", "fr"), [Span(0, 4, None, "disliked")])]
+    gold = [
+        (
+            Sentence(1, "The Zanobi beans cook fast, really.", "en"),
+            [Span(17, 26, "BTX:9002", "liked")],
+        ),
+        (Sentence(2, "Hard to cook", "fr"), [Span(0, 4, None, "disliked")]),
+    ]
     write_conll(tmp_path / "out.conll", gold)
     records = read_labels(tmp_path / "out.conll", default_lang="en")
     assert [(r.text, r.lang, list(r.spans)) for r in records] == [
-        (s.text, s.lang, spans) for s, spans in gold]
+        (s.text, s.lang, spans) for s, spans in gold
+    ]

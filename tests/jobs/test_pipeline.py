@@ -11,8 +11,8 @@ import pandas as pd
 import pytest
 from rich.console import Console
 
-from extractor.workspace import store
 from extractor.cli.main import main
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 ANSWERS = [
@@ -36,8 +36,9 @@ CONCEPTS = (
 )
 
 
-def run(*argv: str, stdin: str | None = None, monkeypatch: pytest.MonkeyPatch | None = None
-        ) -> tuple[int, str]:
+def run(
+    *argv: str, stdin: str | None = None, monkeypatch: pytest.MonkeyPatch | None = None
+) -> tuple[int, str]:
     if stdin is not None and monkeypatch is not None:
         monkeypatch.setattr("sys.stdin", io.StringIO(stdin))
     buffer = io.StringIO()
@@ -80,11 +81,18 @@ def test_run_writes_workbook_and_model_version(study: Path) -> None:
 def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: Path) -> None:
     run("-w", str(study), "run")
     labels = tmp_path / "labels.jsonl"
-    labels.write_text(json.dumps({
-        "respondent": "KA-01", "lang": "en",
-        "text": "It cooks fast and the broth is thick.",
-        "spans": [{"start": 3, "end": 13, "concept": "BTX:0001", "stance": "liked"}],
-    }) + "\n", encoding="utf-8")
+    labels.write_text(
+        json.dumps(
+            {
+                "respondent": "KA-01",
+                "lang": "en",
+                "text": "It cooks fast and the broth is thick.",
+                "spans": [{"start": 3, "end": 13, "concept": "BTX:0001", "stance": "liked"}],
+            }
+        )
+        + "\n",
+        encoding="utf-8",
+    )
     assert run("-w", str(study), "import-labels", str(labels))[0] == 0
     code, out = run("-w", str(study), "run")
     assert code == 0 and "No new interviews" in out
@@ -95,13 +103,27 @@ def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: P
 
 def test_person_labels_override_predictions_in_the_workbook(study: Path, tmp_path: Path) -> None:
     labels = tmp_path / "labels.jsonl"
-    labels.write_text(json.dumps({
-        "respondent": "KA-05", "lang": "en",
-        "text": "We planted after the rains.", "spans": [],
-    }) + "\n" + json.dumps({
-        "respondent": "KA-02", "lang": "en", "text": "The grains are too small.",
-        "spans": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}],
-    }) + "\n", encoding="utf-8")
+    labels.write_text(
+        json.dumps(
+            {
+                "respondent": "KA-05",
+                "lang": "en",
+                "text": "We planted after the rains.",
+                "spans": [],
+            }
+        )
+        + "\n"
+        + json.dumps(
+            {
+                "respondent": "KA-02",
+                "lang": "en",
+                "text": "The grains are too small.",
+                "spans": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}],
+            }
+        )
+        + "\n",
+        encoding="utf-8",
+    )
     run("-w", str(study), "run")
     run("-w", str(study), "import-labels", str(labels))
     run("-w", str(study), "train", "--no-cv")
@@ -118,8 +140,15 @@ def test_label_over_a_pipe_stores_one_label_per_enter(
     study: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     run("-w", str(study), "run")
-    code, out = run("-w", str(study), "label", "--annotator", "tester",
-                    stdin="\n" * 3 + "q\n", monkeypatch=monkeypatch)
+    code, out = run(
+        "-w",
+        str(study),
+        "label",
+        "--annotator",
+        "tester",
+        stdin="\n" * 3 + "q\n",
+        monkeypatch=monkeypatch,
+    )
     assert code == 0, out
     with Workspace(study) as ws:
         labels = store.current_labels(ws.conn)
@@ -149,8 +178,13 @@ def test_hostile_answer_stays_text_and_pseudonymised_export_hides_ids(
     # The formula must read back as the plain string it was (openpyxl: a formula cell
     # holds a value starting with "=" and data_type "f"; text cells have data_type "s").
     book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
-    cells = [c for ws in book for row in ws.iter_rows() for c in row
-             if isinstance(c.value, str) and c.value.startswith("=HYPERLINK")]
+    cells = [
+        c
+        for ws in book
+        for row in ws.iter_rows()
+        for c in row
+        if isinstance(c.value, str) and c.value.startswith("=HYPERLINK")
+    ]
     assert cells and all(c.data_type == "s" for c in cells)
     private = openpyxl.load_workbook(study / "exports" / "preferred_traits_pseudonymised.xlsx")
     text = " ".join(str(c.value) for ws in private for row in ws.iter_rows() for c in row)
@@ -163,8 +197,19 @@ def test_accepted_alias_is_exported_apart_and_list_reimports(study: Path) -> Non
     from extractor.ingest.concepts import load_concept_list
 
     assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
-    assert run("-w", str(study), "concepts", "accept", "boils quickly", "BTX:0001",
-               "--annotator", "ana")[0] == 0
+    assert (
+        run(
+            "-w",
+            str(study),
+            "concepts",
+            "accept",
+            "boils quickly",
+            "BTX:0001",
+            "--annotator",
+            "ana",
+        )[0]
+        == 0
+    )
     assert run("-w", str(study), "concepts", "export")[0] == 0
     path = study / "exports" / "concepts_with_accepted_aliases.csv"
     frame = pd.read_csv(path, dtype=str, keep_default_na=False)
@@ -173,8 +218,9 @@ def test_accepted_alias_is_exported_apart_and_list_reimports(study: Path) -> Non
     assert "boils quickly" not in row["synonyms"]
     original = load_concept_list(study / "concepts.csv")
     again = load_concept_list(path)
-    assert ({(a["concept_id"], a["text"]) for a in again.aliases}
-            == {(a["concept_id"], a["text"]) for a in original.aliases})
+    assert {(a["concept_id"], a["text"]) for a in again.aliases} == {
+        (a["concept_id"], a["text"]) for a in original.aliases
+    }
 
 
 def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: Path) -> None:
@@ -183,13 +229,34 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
         "respondent,question,answer\n"
         "KA-10,Why?,The colour of the seed coat is nice.\n"
         "KA-11,Why?,I like the colour of the seed coat.\n"
-        "KA-12,Why?,Buyers look at the colour first.\n", encoding="utf-8")
+        "KA-12,Why?,Buyers look at the colour first.\n",
+        encoding="utf-8",
+    )
     labels = tmp_path / "labels.jsonl"
-    labels.write_text("\n".join(json.dumps({
-        "respondent": r, "lang": "en", "text": t,
-        "spans": [{"start": t.index("colour"), "end": t.index("colour") + 6, "stance": "liked"}],
-    }) for r, t in (("KA-10", "The colour of the seed coat is nice."),
-                    ("KA-11", "I like the colour of the seed coat."))) + "\n", encoding="utf-8")
+    labels.write_text(
+        "\n".join(
+            json.dumps(
+                {
+                    "respondent": r,
+                    "lang": "en",
+                    "text": t,
+                    "spans": [
+                        {
+                            "start": t.index("colour"),
+                            "end": t.index("colour") + 6,
+                            "stance": "liked",
+                        }
+                    ],
+                }
+            )
+            for r, t in (
+                ("KA-10", "The colour of the seed coat is nice."),
+                ("KA-11", "I like the colour of the seed coat."),
+            )
+        )
+        + "\n",
+        encoding="utf-8",
+    )
     run("-w", str(study), "add", str(extra))
     run("-w", str(study), "run")
     run("-w", str(study), "import-labels", str(labels))
@@ -198,9 +265,11 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
     assert code == 0 and "colour" in out
 
 
-@pytest.mark.parametrize("name", ["tagger.crfsuite", "meta.json", "linker/linker.json",
-                                  "linker/context.skops"],
-                         ids=["crf-model", "meta", "linker", "linker-skops"])
+@pytest.mark.parametrize(
+    "name",
+    ["tagger.crfsuite", "meta.json", "linker/linker.json", "linker/context.skops"],
+    ids=["crf-model", "meta", "linker", "linker-skops"],
+)
 def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> None:
     run("-w", str(study), "run")
     with Workspace(study) as ws:
@@ -211,15 +280,25 @@ def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> No
     assert "Traceback" not in out and "train" in out  # every message says to (re)train
 
 
-PHRASES = {"cooks fast": "BTX:0001", "broth": "BTX:0002", "taste": "BTX:0003",
-           "grains": "BTX:0004", "yield": "BTX:0005", "matured earlier": "BTX:0006",
-           "Weevils": "BTX:0007", "drought": "BTX:0008"}
+PHRASES = {
+    "cooks fast": "BTX:0001",
+    "broth": "BTX:0002",
+    "taste": "BTX:0003",
+    "grains": "BTX:0004",
+    "yield": "BTX:0005",
+    "matured earlier": "BTX:0006",
+    "Weevils": "BTX:0007",
+    "drought": "BTX:0008",
+}
 
 
 def labeled(respondent: str, text: str) -> str:
     """A gold JSON line marking every phrase of PHRASES found in the text."""
-    spans = [{"start": text.index(p), "end": text.index(p) + len(p), "concept": c,
-              "stance": "liked"} for p, c in PHRASES.items() if p in text]
+    spans = [
+        {"start": text.index(p), "end": text.index(p) + len(p), "concept": c, "stance": "liked"}
+        for p, c in PHRASES.items()
+        if p in text
+    ]
     return json.dumps({"respondent": respondent, "lang": "en", "text": text, "spans": spans})
 
 
@@ -230,7 +309,9 @@ def test_evaluate_prints_tables_and_says_when_the_version_is_stale(
     lines = []
     for respondent, _, _, answer in ANSWERS:
         for sentence in answer.split(". "):
-            lines.append(labeled(respondent, sentence if sentence.endswith(".") else sentence + "."))
+            lines.append(
+                labeled(respondent, sentence if sentence.endswith(".") else sentence + ".")
+            )
     extra = ["the yield is good", "the grains are big", "the taste is sweet", "it cooks fast"]
     lines += [labeled(f"KB-{k:02d}", f"In Vesk {k} {extra[k % 4]}.") for k in range(14)]
     labels = tmp_path / "labels.jsonl"
@@ -275,8 +356,12 @@ def test_names_file_not_in_utf8_is_one_sentence(study: Path) -> None:
 def test_other_formats_apply_the_settings_confidence_floor(study: Path, tmp_path: Path) -> None:
     assert run("-w", str(study), "run")[0] == 0
     settings = study / "traits.toml"
-    settings.write_text(settings.read_text(encoding="utf-8").replace(
-        "min_confidence = 0.0", "min_confidence = 1.0"), encoding="utf-8")
+    settings.write_text(
+        settings.read_text(encoding="utf-8").replace(
+            "min_confidence = 0.0", "min_confidence = 1.0"
+        ),
+        encoding="utf-8",
+    )
     out_file = tmp_path / "m.csv"
     code, out = run("-w", str(study), "export", "--format", "csv", "--out", str(out_file))
     assert code == 0, out

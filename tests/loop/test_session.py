@@ -3,13 +3,11 @@
 from __future__ import annotations
 
 import sqlite3
-import sys
 import time
 from pathlib import Path
 
 import pytest
 
-from extractor.workspace import store
 from extractor.errors import InputError
 from extractor.loop.session import (
     ConceptEntry,
@@ -21,9 +19,10 @@ from extractor.loop.session import (
     rank_concepts,
 )
 from extractor.types import Span
+from extractor.workspace import store
 
 # The fake model sits beside the tests; this works whether or not tests/ is a package.
-from fake_model import ALIASES, FakeModel, build_store, fake_retrain  # noqa: E402
+from tests.fake_model import ALIASES, FakeModel, build_store, fake_retrain  # noqa: E402
 
 NO_EVAL = SessionSettings(evaluation_fraction=0.0, evaluation_min=0, stop_set_size=8)
 
@@ -36,8 +35,13 @@ def conn(tmp_path: Path) -> sqlite3.Connection:
 
 
 def _session(conn: sqlite3.Connection, **kwargs) -> Session:
-    options = {"annotator": "Ama", "strategy": "least_confidence", "batch_size": 4,
-               "predictor": FakeModel(), "settings": NO_EVAL} | kwargs
+    options = {
+        "annotator": "Ama",
+        "strategy": "least_confidence",
+        "batch_size": 4,
+        "predictor": FakeModel(),
+        "settings": NO_EVAL,
+    } | kwargs
     return Session(conn, **options)
 
 
@@ -58,8 +62,9 @@ def test_ensure_samples_creates_fixed_samples_once(conn: sqlite3.Connection) -> 
     evaluation, stop = ensure_samples(conn, settings)
     assert len(evaluation) == 4 and len(stop) == 6
     assert not set(evaluation) & set(stop)
-    again = ensure_samples(conn, SessionSettings(seed=99, evaluation_fraction=0.1,
-                                                 evaluation_min=4, stop_set_size=6))
+    again = ensure_samples(
+        conn, SessionSettings(seed=99, evaluation_fraction=0.1, evaluation_min=4, stop_set_size=6)
+    )
     assert again == (evaluation, stop)  # another seed does not redraw
     assert store.sample_ids(conn, "evaluation") == evaluation
 
@@ -73,11 +78,30 @@ def test_evaluation_sample_grows_with_new_interviews(conn: sqlite3.Connection) -
     for sentence_id in labeled:
         store.add_label(conn, sentence_id, [], "Kofi")
     # A second interview file arrives: twice as many sentences.
-    more = [{"respondent": f"TS-{100 + k}", "question": "Why?", "answer": f"Answer {k} here.",
-             "lang": "en", "lang_origin": "column", "variety": None, "metadata": {},
-             "sheet": None, "row": k + 2, "is_group": False} for k in range(n_before)]
-    store.add_source(conn, path="second.csv", sha256="second", kind="csv", options={},
-                     rows=more, sentence_offsets=[[(0, len(r["answer"]))] for r in more])
+    more = [
+        {
+            "respondent": f"TS-{100 + k}",
+            "question": "Why?",
+            "answer": f"Answer {k} here.",
+            "lang": "en",
+            "lang_origin": "column",
+            "variety": None,
+            "metadata": {},
+            "sheet": None,
+            "row": k + 2,
+            "is_group": False,
+        }
+        for k in range(n_before)
+    ]
+    store.add_source(
+        conn,
+        path="second.csv",
+        sha256="second",
+        kind="csv",
+        options={},
+        rows=more,
+        sentence_offsets=[[(0, len(r["answer"]))] for r in more],
+    )
     n_after = len(store.sentences(conn))
     grown, stop_after = ensure_samples(conn, settings)
     assert len(grown) == evaluation_size(n_after, 0.25, 2) > len(evaluation)
@@ -111,8 +135,9 @@ def test_session_offers_only_unlabeled_evaluation_sentences_on_request(
     ensure_samples(conn, SessionSettings(evaluation_min=5, stop_set_size=0))
     evaluation = store.sample_ids(conn, "evaluation")
     store.add_label(conn, evaluation[0], [], "Kofi")
-    session = _session(conn, settings=SessionSettings(offer_evaluation=True, evaluation_min=5,
-                                                      stop_set_size=0))
+    session = _session(
+        conn, settings=SessionSettings(offer_evaluation=True, evaluation_min=5, stop_set_size=0)
+    )
     asked = []
     while (item := session.next()) is not None:
         assert item.in_evaluation
@@ -137,8 +162,9 @@ def test_next_follows_strategy_order(conn: sqlite3.Connection) -> None:
 
 def test_each_model_ranks_a_random_subpool(tmp_path: Path) -> None:
     def first_batch(conn: sqlite3.Connection, subpool: int | None) -> list[int]:
-        settings = SessionSettings(evaluation_fraction=0.0, evaluation_min=0,
-                                   stop_set_size=0, subpool=subpool)
+        settings = SessionSettings(
+            evaluation_fraction=0.0, evaluation_min=0, stop_set_size=0, subpool=subpool
+        )
         session = _session(conn, settings=settings)  # least confidence, batches of 4
         asked = []
         for _ in range(4):
@@ -263,8 +289,9 @@ def test_session_rejects_bad_settings(conn: sqlite3.Connection, kwargs, message)
 
 def test_retrain_runs_in_background_without_blocking_submit(conn: sqlite3.Connection) -> None:
     retrain = fake_retrain(delay=0.5)
-    settings = SessionSettings(evaluation_fraction=0, evaluation_min=0, stop_set_size=8,
-                               retrain_every=3)
+    settings = SessionSettings(
+        evaluation_fraction=0, evaluation_min=0, stop_set_size=8, retrain_every=3
+    )
     session = _session(conn, retrain=retrain, settings=settings)
     slowest = 0.0
     for _ in range(3):
@@ -294,8 +321,9 @@ def test_retrain_receives_no_evaluation_labels(conn: sqlite3.Connection) -> None
 
 
 def test_kappa_tracks_change_between_successive_models(conn: sqlite3.Connection) -> None:
-    settings = SessionSettings(evaluation_fraction=0, evaluation_min=0, stop_set_size=10,
-                               retrain_every=1, kappa_rounds=2)
+    settings = SessionSettings(
+        evaluation_fraction=0, evaluation_min=0, stop_set_size=10, retrain_every=1, kappa_rounds=2
+    )
     changing = fake_retrain(flip_every=3)
     session = _session(conn, retrain=changing, settings=settings)
     for _ in range(3):
@@ -370,8 +398,15 @@ ENTRIES = [ConceptEntry(c, t, lang, kind == "preferred") for c, t, lang, kind in
         ("0020", "BTX:0020"),
         ("gros", "BTX:0011"),
     ],
-    ids=["label-prefix", "french-label", "french-yield", "alias", "letters-in-order",
-         "concept-id", "french-alias"],
+    ids=[
+        "label-prefix",
+        "french-label",
+        "french-yield",
+        "alias",
+        "letters-in-order",
+        "concept-id",
+        "french-alias",
+    ],
 )
 def test_rank_concepts_finds_any_name_in_any_language(query: str, first: str) -> None:
     assert rank_concepts(query, ENTRIES)[0].concept == first

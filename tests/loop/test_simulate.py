@@ -12,8 +12,18 @@ import pytest
 from extractor.errors import InputError
 from extractor.loop.simulate import curve_table, paired_gain, plot, simulate
 
-KEYS = {"strategy", "budget", "repeat", "labeled_sentences", "labeled_tokens", "span_f1",
-        "span_concept_f1", "stance_accuracy", "respondent_f1", "seconds"}
+KEYS = {
+    "strategy",
+    "budget",
+    "repeat",
+    "labeled_sentences",
+    "labeled_tokens",
+    "span_f1",
+    "span_concept_f1",
+    "stance_accuracy",
+    "respondent_f1",
+    "seconds",
+}
 
 TRAITS = ["soft grain", "short cooking", "sweet taste", "big seeds", "few stones"]
 FILLERS = ["At Lomara market", "My neighbour Teodin says", "Last season", "In Vesk village"]
@@ -26,8 +36,14 @@ def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any
     for i in range(n):
         filler = rng.choice(FILLERS)
         if i % 4 == 3:
-            out.append({"text": f"{filler} we sold the beans.", "lang": "en", "spans": [],
-                        "respondent": f"R{i % 7}"})
+            out.append(
+                {
+                    "text": f"{filler} we sold the beans.",
+                    "lang": "en",
+                    "spans": [],
+                    "respondent": f"R{i % 7}",
+                }
+            )
             continue
         k = rng.randrange(len(TRAITS))
         text = f"{filler} we like the {TRAITS[k]} of Zanobi."
@@ -41,8 +57,16 @@ def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any
 
 def run(**overrides: Any) -> dict[str, Any]:
     settings: dict[str, Any] = dict(
-        strategies=["random", "least_confidence", "default"], budgets=[0, 10, 15], repeats=1,
-        seed=0, batch_size=5, retrain_every=5, seed_size=5, model="tagger", clusters={})
+        strategies=["random", "least_confidence", "default"],
+        budgets=[0, 10, 15],
+        repeats=1,
+        seed=0,
+        batch_size=5,
+        retrain_every=5,
+        seed_size=5,
+        model="tagger",
+        clusters={},
+    )
     settings |= overrides
     return simulate(toy_records(40, 1), toy_records(12, 2), [], **settings)
 
@@ -65,9 +89,17 @@ def test_records_are_well_formed_with_nulls() -> None:
 
 def test_budget_zero_is_the_dictionary_with_aliases() -> None:
     aliases = [(f"ZZ:{k}", t, "en") for k, t in enumerate(TRAITS)]
-    results = simulate(toy_records(30, 1, True), toy_records(12, 2, True), aliases,
-                       strategies=["random"], budgets=[0], repeats=1, seed=0,
-                       model="tagger", clusters={})
+    results = simulate(
+        toy_records(30, 1, True),
+        toy_records(12, 2, True),
+        aliases,
+        strategies=["random"],
+        budgets=[0],
+        repeats=1,
+        seed=0,
+        model="tagger",
+        clusters={},
+    )
     (record,) = results["runs"]
     # Every trait of the toy test set is an alias, so the dictionary alone finds them,
     # with their concepts; the tagger alone gives no stance.
@@ -93,10 +125,12 @@ def test_parallel_runs_equal_serial_runs() -> None:
 
 @pytest.mark.parametrize(
     "overrides,message",
-    [({"strategies": ["loudest"]}, "strategy must be one of"),
-     ({"model": "bert"}, "model must be one of"),
-     ({"budgets": [-1]}, "Budgets must be given and not negative"),
-     ({"subpool": -1}, "sub-pool must hold at least 1")],
+    [
+        ({"strategies": ["loudest"]}, "strategy must be one of"),
+        ({"model": "bert"}, "model must be one of"),
+        ({"budgets": [-1]}, "Budgets must be given and not negative"),
+        ({"subpool": -1}, "sub-pool must hold at least 1"),
+    ],
     ids=["unknown-strategy", "unknown-model", "negative-budget", "negative-subpool"],
 )
 def test_bad_settings_are_refused(overrides: dict[str, Any], message: str) -> None:
@@ -136,9 +170,11 @@ def test_progress_bar_counts_the_runs() -> None:
 
 
 def test_paired_gain_pairs_repeats() -> None:
-    runs = [{"strategy": s, "budget": 100, "repeat": r, "span_f1": f}
-            for s, fs in (("random", [0.60, 0.65, 0.70]), ("default", [0.63, 0.64, 0.75]))
-            for r, f in enumerate(fs)]
+    runs = [
+        {"strategy": s, "budget": 100, "repeat": r, "span_f1": f}
+        for s, fs in (("random", [0.60, 0.65, 0.70]), ("default", [0.63, 0.64, 0.75]))
+        for r, f in enumerate(fs)
+    ]
     runs.append({"strategy": "default", "budget": 200, "repeat": 0, "span_f1": 0.8})  # no pair
     (row,) = paired_gain({"runs": runs})
     # Hand arithmetic: differences 0.03, -0.01, 0.05; mean 0.07 / 3; squared deviations

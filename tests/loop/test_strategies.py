@@ -20,6 +20,7 @@ from modAL.density import information_density
 from modAL.uncertainty import classifier_entropy, classifier_uncertainty
 from sklearn.metrics import cohen_kappa_score
 
+from extractor.errors import InputError
 from extractor.loop import strategies as active
 from extractor.loop.strategies import (
     STRATEGIES,
@@ -35,14 +36,15 @@ from extractor.loop.strategies import (
     total_entropy,
     weigh_by_density,
 )
-from extractor.errors import InputError
 
 TAGS = ("O", "B-TRAIT", "I-TRAIT")
 
 # Two tokens, hand-built marginals, best path probability 0.45.
 HAND = PoolItem(
-    marginals=({"O": 0.9, "B-TRAIT": 0.1, "I-TRAIT": 0.0},
-               {"O": 0.5, "B-TRAIT": 0.25, "I-TRAIT": 0.25}),
+    marginals=(
+        {"O": 0.9, "B-TRAIT": 0.1, "I-TRAIT": 0.0},
+        {"O": 0.5, "B-TRAIT": 0.25, "I-TRAIT": 0.25},
+    ),
     path_prob=0.45,
     n_tokens=2,
 )
@@ -104,14 +106,18 @@ def test_link_stance_agrees_with_modal_classifier_uncertainty(reduce: str) -> No
     links = np.array([[0.7, 0.2, 0.1], [0.4, 0.35, 0.25]])
     stances = np.array([[0.9, 0.05, 0.03, 0.02], [0.5, 0.3, 0.1, 0.1]])
     item = PoolItem(
-        marginals=HAND.marginals, path_prob=0.5, n_tokens=2,
+        marginals=HAND.marginals,
+        path_prob=0.5,
+        n_tokens=2,
         link_dists=tuple(dict(enumerate(row)) for row in links),
         stance_dists=tuple(dict(enumerate(row)) for row in stances),
     )
-    expected = np.concatenate([
-        classifier_uncertainty(ProbaTable(links), np.arange(2)),
-        classifier_uncertainty(ProbaTable(stances), np.arange(2)),
-    ])
+    expected = np.concatenate(
+        [
+            classifier_uncertainty(ProbaTable(links), np.arange(2)),
+            classifier_uncertainty(ProbaTable(stances), np.arange(2)),
+        ]
+    )
     reference = expected.max() if reduce == "max" else expected.mean()
     assert link_stance([item], reduce=reduce)[0] == pytest.approx(reference)
 
@@ -139,8 +145,15 @@ def test_strategy_scores_every_untagged_sentence_the_same(name: str) -> None:
 
 
 def test_strategies_include_the_required_names() -> None:
-    required = {"least_confidence", "norm_logprob", "total_entropy", "mean_entropy",
-                "link_stance", "random", "default"}
+    required = {
+        "least_confidence",
+        "norm_logprob",
+        "total_entropy",
+        "mean_entropy",
+        "link_stance",
+        "random",
+        "default",
+    }
     assert required <= set(STRATEGIES)
 
 
@@ -249,8 +262,9 @@ def test_select_with_diversity_still_spreads_with_more_labels_than_candidates() 
     vectors[:5] = vectors[0]
     scores = np.concatenate([np.ones(5), rng.uniform(0.0, 0.9, size=295)])
     labeled_vectors = rng.normal(size=(100, 16))
-    picked = select(scores, vectors, 5, diversity=True, labeled_vectors=labeled_vectors,
-                    candidates=50)
+    picked = select(
+        scores, vectors, 5, diversity=True, labeled_vectors=labeled_vectors, candidates=50
+    )
     assert len({0, 1, 2, 3, 4} & set(picked)) == 1
 
 
@@ -265,8 +279,7 @@ def test_ranked_batch_indices_counts_unlabeled_outside_the_candidates() -> None:
     # Source: Cardoso et al. (2017) ranked batch-mode score as modAL's ranked_batch computes
     # it, alpha * (1 - similarity) + (1 - alpha) * uncertainty (formula from memory).
     expected = int(np.argmax(alpha * (1 - 1 / (1 + nearest)) + (1 - alpha) * uncertainty))
-    assert active.ranked_batch_indices(pool, uncertainty, known, 1, n_unlabeled=1000) == [
-        expected]
+    assert active.ranked_batch_indices(pool, uncertainty, known, 1, n_unlabeled=1000) == [expected]
 
 
 class _Learner:
@@ -284,8 +297,9 @@ def test_ranked_batch_indices_equals_modal_ranked_batch(labeled: bool, seed: int
     rng = np.random.default_rng(seed)
     pool, uncertainty = rng.normal(size=(30, 6)), rng.uniform(size=30)
     known = rng.normal(size=(4, 6)) if labeled else None
-    reference, _ = ranked_batch(_Learner(known), pool, uncertainty, n_instances=8,
-                                metric="euclidean", n_jobs=None)
+    reference, _ = ranked_batch(
+        _Learner(known), pool, uncertainty, n_instances=8, metric="euclidean", n_jobs=None
+    )
     ours = active.ranked_batch_indices(pool, uncertainty, known, 8)
     assert ours == [int(i) for i in reference]
 
@@ -328,13 +342,12 @@ KAPPA_CASES = [
 
 
 @pytest.mark.parametrize(
-    ("first", "second"), KAPPA_CASES,
+    ("first", "second"),
+    KAPPA_CASES,
     ids=["one-disagreement", "rare-traits", "total-disagreement", "identical"],
 )
 def test_kappa_equals_sklearn_cohen_kappa(first: list[str], second: list[str]) -> None:
-    assert stabilizing_predictions(first, second) == pytest.approx(
-        cohen_kappa_score(first, second)
-    )
+    assert stabilizing_predictions(first, second) == pytest.approx(cohen_kappa_score(first, second))
 
 
 def test_kappa_flattens_per_sentence_tags() -> None:

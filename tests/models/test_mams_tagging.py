@@ -10,12 +10,12 @@ from __future__ import annotations
 import time
 
 import pytest
-from mams import SKIP_REASON, load_mams
 
+from extractor.models.tagger import fit_tagger, tag_sentences
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.spans import span_prf
-from extractor.models.tagger import fit_tagger, tag_sentences
 from extractor.types import Sentence, Span
+from tests.mams import SKIP_REASON, load_mams
 
 pytestmark = pytest.mark.slow
 

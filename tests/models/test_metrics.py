@@ -26,7 +26,7 @@ from extractor.models.metrics import (
 from extractor.nlp.spans import iob_to_spans
 from extractor.types import STANCES, Sentence, Span
 
-B, I, O = "B-TRAIT", "I-TRAIT", "O"
+B, I, O = "B-TRAIT", "I-TRAIT", "O"  # noqa: E741 -- the IOB2 tag letters themselves
 
 
 def offsets_of(n: int) -> list[tuple[int, int]]:
@@ -74,7 +74,8 @@ def test_span_concept_requires_equal_concept() -> None:
     assert result["span_concept"]["precision"] == pytest.approx(0.5)
     assert result["span_concept"]["recall"] == pytest.approx(0.5)
     assert result["by_concept"]["C2"] == pytest.approx(
-        {"precision": 0.0, "recall": 0.0, "f1": 0.0, "tp": 0, "fp": 0, "fn": 1, "support": 1})
+        {"precision": 0.0, "recall": 0.0, "f1": 0.0, "tp": 0, "fp": 0, "fn": 1, "support": 1}
+    )
 
 
 def test_respondent_scores_hand_computed() -> None:
@@ -106,10 +107,19 @@ def test_respondent_scores_none_without_concepts() -> None:
 
 
 STANCE_PAIRS = {
-    "balanced": [("liked", "liked"), ("disliked", "liked"), ("wanted", "wanted"),
-                 ("neutral", "disliked"), ("liked", "liked"), ("disliked", "disliked")],
-    "class-never-predicted": [("liked", "disliked"), ("wanted", "disliked"),
-                              ("disliked", "disliked")],
+    "balanced": [
+        ("liked", "liked"),
+        ("disliked", "liked"),
+        ("wanted", "wanted"),
+        ("neutral", "disliked"),
+        ("liked", "liked"),
+        ("disliked", "disliked"),
+    ],
+    "class-never-predicted": [
+        ("liked", "disliked"),
+        ("wanted", "disliked"),
+        ("disliked", "disliked"),
+    ],
     "all-correct": [("liked", "liked"), ("wanted", "wanted")],
 }
 
@@ -122,7 +132,8 @@ def test_stance_scores_equal_sklearn(pairs: list[tuple[str, str]]) -> None:
     # Source: scikit-learn metrics over the labels seen in gold or prediction.
     assert result["accuracy"] == pytest.approx(accuracy_score(y_true, y_pred))
     assert result["macro_f1"] == pytest.approx(
-        sk_f1(y_true, y_pred, average="macro", zero_division=0))
+        sk_f1(y_true, y_pred, average="macro", zero_division=0)
+    )
     # The label order is built here, independently: STANCES order, then only labels seen.
     labels = [s for s in STANCES if s in set(y_true) | set(y_pred)]
     assert result["labels"] == labels
@@ -141,7 +152,11 @@ def test_stance_only_counts_exact_span_matches() -> None:
 def test_figures_are_null_where_they_do_not_apply() -> None:
     gold = [(sentence(0), [Span(0, 3)])]
     assert summary(score(gold, [[Span(0, 3)]])) == {
-        "span_f1": 1.0, "span_concept_f1": None, "stance_accuracy": None, "respondent_f1": None}
+        "span_f1": 1.0,
+        "span_concept_f1": None,
+        "stance_accuracy": None,
+        "respondent_f1": None,
+    }
 
 
 def test_by_language_splits_sentences() -> None:
@@ -205,8 +220,7 @@ def test_evaluate_on_scores_the_model() -> None:
 def test_cross_validate_never_trains_on_the_held_out_fold() -> None:
     EchoModel.seen = []
     gold = [(sentence(i, f"R{i % 4}"), [Span(0, 3, "C1", "liked")]) for i in range(12)]
-    result = cross_validate(gold, [s for s, _ in gold], [], k=4, seed=1,
-                            make_models=EchoModel)
+    result = cross_validate(gold, [s for s, _ in gold], [], k=4, seed=1, make_models=EchoModel)
     assert result["k"] == 4 and len(result["folds"]) == 4
     for fold, trained in zip(result["folds"], EchoModel.seen, strict=True):
         assert len(trained) == fold["n_train"] == 9

@@ -38,7 +38,9 @@ def _features(text: str, term: str, lang: str = "en", question: str | None = Non
 def test_load_cues_has_three_languages_and_documents_its_shape() -> None:
     assert {"en", "fr", "es"} <= set(CUES)
     assert "negation_pre" in CUES["fr"] and "wanted" in CUES["es"]
-    assert "_comment" in json.loads(Path("extractor/models/data/stance_cues.json").read_text("utf-8"))
+    assert "_comment" in json.loads(
+        Path("extractor/models/data/stance_cues.json").read_text("utf-8")
+    )
 
 
 def test_load_cues_merges_user_file_over_packaged(tmp_path: Path) -> None:

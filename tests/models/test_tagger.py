@@ -9,10 +9,7 @@ import time
 import pycrfsuite
 import pytest
 
-from extractor.nlp.dictionary import build_dictionary
 from extractor.errors import InputError, ModelError, NotFittedError
-from extractor.nlp.features import sentence_features
-from extractor.nlp.spans import spans_to_iob
 from extractor.models.tagger import (
     MODEL_FILE,
     PARAMS_FILE,
@@ -22,6 +19,9 @@ from extractor.models.tagger import (
     sentence_items,
     tag_sentences,
 )
+from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.features import sentence_features
+from extractor.nlp.spans import spans_to_iob
 from extractor.nlp.text import tokenize
 from extractor.types import TAGS, Sentence, Span
 

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import pytest
 
+from extractor.models.variety import attribute_variety, find_varieties
 from extractor.nlp.dictionary import build_dictionary
 from extractor.types import Sentence, Span
-from extractor.models.variety import attribute_variety, find_varieties
 
 # Invented varieties.
 VARIETIES = [

@@ -6,8 +6,8 @@ import time
 
 import pytest
 
-from extractor.nlp.dictionary import build_dictionary, normalize_form, stem_word
 from extractor.errors import InputError
+from extractor.nlp.dictionary import build_dictionary, normalize_form, stem_word
 from extractor.types import Sentence
 
 # Invented trait IDs and aliases.

@@ -7,6 +7,7 @@ import json
 import numpy as np
 import pytest
 
+from extractor.errors import ModelError
 from extractor.nlp.clusters import (
     corpus_fingerprint,
     learn_clusters,
@@ -15,7 +16,6 @@ from extractor.nlp.clusters import (
     ppmi,
     save_clusters,
 )
-from extractor.errors import ModelError
 from extractor.nlp.features import sentence_features, short_shape, word_shape
 
 TOKENS = ["Velora", "cooks", "fast", "in", "2", "days", "."]

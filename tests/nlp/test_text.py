@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 import spacy
 
-from extractor.nlp.text import split_sentences, spacy_code, tokenize
-from pathlib import Path
+from extractor.nlp.text import spacy_code, split_sentences, tokenize
 
 SAMPLE = Path(__file__).resolve().parents[2] / "sample_interviews"
 

@@ -13,6 +13,7 @@ import pandas as pd
 import pytest
 
 from extractor.errors import InputError
+from extractor.ingest.labels import read_labels
 from extractor.report.formats import (
     ANNO_CONTEXT,
     iob2_tags,
@@ -21,7 +22,6 @@ from extractor.report.formats import (
     write_mentions_jsonl,
     write_web_annotations,
 )
-from extractor.ingest.labels import read_labels
 from extractor.types import Sentence, Span
 
 ANSWER = "We grow it a lot. Nyota cooks fast, but weevils eat it."
@@ -31,19 +31,34 @@ SENTENCE = ANSWER[OFFSET:]
 
 def _mentions() -> pd.DataFrame:
     rows = []
-    for span, concept, stance in [("cooks fast", "BTX:0001", "liked"),
-                                  ("weevils eat it", "BTX:0002", "disliked"),
-                                  ("Nyota", None, None)]:
+    for span, concept, stance in [
+        ("cooks fast", "BTX:0001", "liked"),
+        ("weevils eat it", "BTX:0002", "disliked"),
+        ("Nyota", None, None),
+    ]:
         start = SENTENCE.index(span)
-        rows.append({"respondent": "R-0000aaaa", "answer_id": 41, "sentence_id": 7,
-                     "sentence": SENTENCE, "lang": "en", "start": start,
-                     "end": start + len(span), "answer_start": OFFSET + start,
-                     "answer_end": OFFSET + start + len(span), "span_text": span,
-                     "concept_id": concept, "stance": stance, "confidence": 0.91})
+        rows.append(
+            {
+                "respondent": "R-0000aaaa",
+                "answer_id": 41,
+                "sentence_id": 7,
+                "sentence": SENTENCE,
+                "lang": "en",
+                "start": start,
+                "end": start + len(span),
+                "answer_start": OFFSET + start,
+                "answer_end": OFFSET + start + len(span),
+                "span_text": span,
+                "concept_id": concept,
+                "stance": stance,
+                "confidence": 0.91,
+            }
+        )
     return pd.DataFrame(rows)
 
 
 # --- CSV and JSON Lines ----------------------------------------------------------------
+
 
 def test_write_mentions_csv_quotes_commas_quotes_and_newlines(tmp_path: Path) -> None:
     tricky = 'She said "fast, really"\nand left'
@@ -77,6 +92,7 @@ def test_write_mentions_csv_missing_folder(tmp_path: Path) -> None:
 
 # --- CoNLL IOB2 ----------------------------------------------------------------------
 
+
 def test_iob2_tags_begin_inside_outside() -> None:
     spans = [Span(SENTENCE.index("cooks fast"), SENTENCE.index("cooks fast") + 10, "BTX:0001")]
     tags = [(tok, tag) for tok, tag, _ in iob2_tags(SENTENCE, "en", spans)]
@@ -91,8 +107,9 @@ def test_iob2_tags_adjacent_spans_both_begin() -> None:
     assert tags == ["B-TRAIT", "I-TRAIT", "B-TRAIT", "I-TRAIT"]
 
 
-@pytest.mark.parametrize("spans", [[Span(0, 5), Span(3, 8)], [Span(0, 500)]],
-                         ids=["overlap", "outside-text"])
+@pytest.mark.parametrize(
+    "spans", [[Span(0, 5), Span(3, 8)], [Span(0, 500)]], ids=["overlap", "outside-text"]
+)
 def test_iob2_tags_rejects_bad_spans(spans: list[Span]) -> None:
     with pytest.raises(InputError, match="overlap|outside"):
         iob2_tags(SENTENCE, "en", spans)
@@ -101,8 +118,9 @@ def test_iob2_tags_rejects_bad_spans(spans: list[Span]) -> None:
 def test_write_conll_layout(tmp_path: Path) -> None:
     start = SENTENCE.index("weevils")
     out = tmp_path / "gold.conll"
-    write_conll(out, [(Sentence(7, SENTENCE, "en"),
-                       [Span(start, start + 14, "BTX:0002", "disliked")])])
+    write_conll(
+        out, [(Sentence(7, SENTENCE, "en"), [Span(start, start + 14, "BTX:0002", "disliked")])]
+    )
     lines = out.read_text(encoding="utf-8").split("\n")
     assert lines[0] == "# scheme = IOB2, one entity type: TRAIT"
     # CoNLL-U comment conventions: "# sent_id = ..." and "# text = ..." before the tokens.
@@ -117,17 +135,24 @@ def test_conll_round_trip_keeps_tokens_and_spans(tmp_path: Path) -> None:
     s1 = SENTENCE.index("cooks fast")
     s2 = SENTENCE.index("weevils eat it")
     second = Sentence(8, "Mwezi-7 has large seeds.", "en")
-    data = [(first, [Span(s1, s1 + 10, "BTX:0001", "liked"),
-                     Span(s2, s2 + 14, "BTX:0002", "disliked")]),
-            (second, [Span(12, 23, "BTX:0003", None)])]
+    data = [
+        (
+            first,
+            [Span(s1, s1 + 10, "BTX:0001", "liked"), Span(s2, s2 + 14, "BTX:0002", "disliked")],
+        ),
+        (second, [Span(12, 23, "BTX:0003", None)]),
+    ]
     out = tmp_path / "gold.conll"
     assert write_conll(out, data) == 2
     # Read back by the import path users take (`traits import-labels`).
     back = read_labels(out, default_lang="en")
     assert [(r.text, r.lang) for r in back] == [(first.text, "en"), (second.text, "en")]
     assert list(back[0].spans) == data[0][1] and list(back[1].spans) == data[1][1]
-    tokens = [line.split("\t")[0] for line in out.read_text(encoding="utf-8").splitlines()
-              if line and not line.startswith("#")]
+    tokens = [
+        line.split("\t")[0]
+        for line in out.read_text(encoding="utf-8").splitlines()
+        if line and not line.startswith("#")
+    ]
     assert tokens[:3] == ["Nyota", "cooks", "fast"]
 
 
@@ -139,6 +164,7 @@ def test_reading_conll_back_rejects_bad_tag(tmp_path: Path) -> None:
 
 
 # --- W3C Web Annotation ----------------------------------------------------------------
+
 
 @pytest.fixture()
 def collection(tmp_path: Path) -> dict:
@@ -168,8 +194,12 @@ def test_web_annotations_annotation_keys(collection: dict) -> None:
     assert isinstance(anno["id"], str) and anno["id"].startswith("urn:")
     # Section 3.2.4: TextualBody carries its text in "value"; 3.3.5: purpose per body.
     concept, stance = anno["body"]
-    assert concept == {"type": "TextualBody", "purpose": "classifying", "value": "BTX:0001",
-                       "format": "text/plain"}
+    assert concept == {
+        "type": "TextualBody",
+        "purpose": "classifying",
+        "value": "BTX:0001",
+        "format": "text/plain",
+    }
     assert stance["purpose"] == "tagging" and stance["value"] == "liked"
 
 
@@ -183,7 +213,7 @@ def test_web_annotations_selectors_point_at_the_span(collection: dict) -> None:
     assert quote["exact"] == "cooks fast" and quote["prefix"].endswith("Nyota ")
     # Section 4.2.6 TextPositionSelector: start inclusive, end exclusive, in the source text.
     assert position["type"] == "TextPositionSelector"
-    assert ANSWER[position["start"]:position["end"]] == "cooks fast"
+    assert ANSWER[position["start"] : position["end"]] == "cooks fast"
 
 
 def test_web_annotations_source_uri_is_configurable(tmp_path: Path) -> None:

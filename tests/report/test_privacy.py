@@ -27,13 +27,14 @@ def test_pseudonym_rfc4231_test_case_1() -> None:
     # HMAC-SHA-256 = b0344c61d8db38535ca8afceaf0bf12b881dc200c9833da726e9376c2e32cff7
     # (value from memory; Python's hmac module agrees).
     assert pseudonym("Hi There", b"\x0b" * 20, length=64) == (
-        "R-b0344c61d8db38535ca8afceaf0bf12b881dc200c9833da726e9376c2e32cff7")
+        "R-b0344c61d8db38535ca8afceaf0bf12b881dc200c9833da726e9376c2e32cff7"
+    )
     assert pseudonym("Hi There", b"\x0b" * 20) == "R-b0344c61"
 
 
 def test_pseudonym_agrees_with_stdlib_hmac() -> None:
     # RFC 2104 construction as implemented by Python's hmac module is the reference.
-    ref = hmac.new(SECRET, "KOR-017".encode(), hashlib.sha256).hexdigest()[:8]
+    ref = hmac.new(SECRET, b"KOR-017", hashlib.sha256).hexdigest()[:8]
     assert pseudonym("KOR-017", SECRET) == "R-" + ref
 
 
@@ -83,22 +84,37 @@ SCREEN_CASES = [
 ]
 
 
-@pytest.mark.parametrize(("text", "expected"), SCREEN_CASES,
-                         ids=["intl-phone", "local-phone", "phone-with-brackets", "email",
-                              "eight-digit-id", "letter-digit-id", "grouped-id",
-                              "small-numbers-and-date-kept", "measures-kept"])
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    SCREEN_CASES,
+    ids=[
+        "intl-phone",
+        "local-phone",
+        "phone-with-brackets",
+        "email",
+        "eight-digit-id",
+        "letter-digit-id",
+        "grouped-id",
+        "small-numbers-and-date-kept",
+        "measures-kept",
+    ],
+)
 def test_screen_text_patterns(text: str, expected: str | None) -> None:
     # Expected forms follow the brief's examples (E.164-style +CC groups, local 0-prefixed).
     assert screen_text(text) == (text if expected is None else expected)
 
 
-@pytest.mark.parametrize(("text", "expected"), [
-    ("Jose likes Nyota beans", "[name] likes Nyota beans"),
-    ("JOSÉ said so", "[name] said so"),
-    ("josé and Ana  Maria came", "[name] and [name] came"),
-    ("Josephine came", "Josephine came"),
-    ("Ana came; Anabel stayed", "[name] came; Anabel stayed"),
-], ids=["plain", "upper-accented", "multi-word-extra-space", "not-inside-word", "whole-word"])
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [
+        ("Jose likes Nyota beans", "[name] likes Nyota beans"),
+        ("JOSÉ said so", "[name] said so"),
+        ("josé and Ana  Maria came", "[name] and [name] came"),
+        ("Josephine came", "Josephine came"),
+        ("Ana came; Anabel stayed", "[name] came; Anabel stayed"),
+    ],
+    ids=["plain", "upper-accented", "multi-word-extra-space", "not-inside-word", "whole-word"],
+)
 def test_screen_text_names(text: str, expected: str) -> None:
     assert screen_text(text, ["José", "Ana Maria", "ana"]) == expected
 
@@ -112,25 +128,45 @@ def test_screen_text_is_pure() -> None:
 def test_screen_mentions_moves_offsets_after_redaction() -> None:
     sentence = "Call 0712-345-678, I like the fast cooking of Nyota."
     start = sentence.index("fast cooking")
-    mentions = pd.DataFrame({"sentence": [sentence], "start": [start],
-                             "end": [start + len("fast cooking")],
-                             "span_text": ["fast cooking"], "question": ["Who is Amani?"]})
+    mentions = pd.DataFrame(
+        {
+            "sentence": [sentence],
+            "start": [start],
+            "end": [start + len("fast cooking")],
+            "span_text": ["fast cooking"],
+            "question": ["Who is Amani?"],
+        }
+    )
     out = screen_mentions(mentions, ["Amani"])
     new = out.loc[0, "sentence"]
     assert new == "Call [phone], I like the fast cooking of Nyota."
-    assert new[out.loc[0, "start"]:out.loc[0, "end"]] == "fast cooking"
+    assert new[out.loc[0, "start"] : out.loc[0, "end"]] == "fast cooking"
     assert out.loc[0, "span_text"] == "fast cooking"
     assert out.loc[0, "question"] == "Who is [name]?"
     assert mentions.loc[0, "sentence"] == sentence  # input untouched
 
 
 def test_pseudonymise_frames_drops_identifying_columns() -> None:
-    mentions = pd.DataFrame({"respondent": ["KOR-017"], "sentence": ["Amani likes it"],
-                             "start": [6], "end": [11], "span_text": ["likes"]})
-    respondents = pd.DataFrame({"respondent": ["KOR-017"], "Name": ["Amani Wekesa"],
-                                "Village": ["Lumoro"], "gender": ["woman"]})
-    m, r = pseudonymise_frames(mentions, respondents,
-                               PrivacyOptions(secret=SECRET, names=("Amani Wekesa", "Amani")))
+    mentions = pd.DataFrame(
+        {
+            "respondent": ["KOR-017"],
+            "sentence": ["Amani likes it"],
+            "start": [6],
+            "end": [11],
+            "span_text": ["likes"],
+        }
+    )
+    respondents = pd.DataFrame(
+        {
+            "respondent": ["KOR-017"],
+            "Name": ["Amani Wekesa"],
+            "Village": ["Lumoro"],
+            "gender": ["woman"],
+        }
+    )
+    m, r = pseudonymise_frames(
+        mentions, respondents, PrivacyOptions(secret=SECRET, names=("Amani Wekesa", "Amani"))
+    )
     assert list(r.columns) == ["respondent", "gender"]
     assert r.loc[0, "respondent"] == m.loc[0, "respondent"] == pseudonym("KOR-017", SECRET)
     assert m.loc[0, "sentence"] == "[name] likes it"

@@ -33,17 +33,22 @@ NEWCOMBE_TABLE_I = [
 ]
 
 
-@pytest.mark.parametrize(("k", "n", "low", "high"), NEWCOMBE_TABLE_I,
-                         ids=["81-of-263", "15-of-148", "0-of-20", "1-of-29"])
+@pytest.mark.parametrize(
+    ("k", "n", "low", "high"),
+    NEWCOMBE_TABLE_I,
+    ids=["81-of-263", "15-of-148", "0-of-20", "1-of-29"],
+)
 def test_wilson_interval_matches_newcombe_table_i(k: int, n: int, low: float, high: float) -> None:
     got = wilson_interval(k, n)
     assert got[0] == pytest.approx(low, abs=5e-5)
     assert got[1] == pytest.approx(high, abs=5e-5)
 
 
-@pytest.mark.parametrize(("k", "n"), [(0, 1), (1, 1), (0, 7), (7, 7), (3, 10), (50, 100),
-                                      (1, 1000), (999, 1000)],
-                         ids=["0-1", "1-1", "0-7", "7-7", "3-10", "50-100", "1-1000", "999-1000"])
+@pytest.mark.parametrize(
+    ("k", "n"),
+    [(0, 1), (1, 1), (0, 7), (7, 7), (3, 10), (50, 100), (1, 1000), (999, 1000)],
+    ids=["0-1", "1-1", "0-7", "7-7", "3-10", "50-100", "1-1000", "999-1000"],
+)
 def test_wilson_interval_matches_statsmodels(k: int, n: int) -> None:
     # Reference: statsmodels.stats.proportion.proportion_confint(method="wilson").
     ref = proportion_confint(k, n, alpha=0.05, method="wilson")
@@ -58,13 +63,17 @@ def test_wilson_interval_narrower_at_lower_confidence() -> None:
     assert wide[0] < narrow[0] < narrow[1] < wide[1]
 
 
-@pytest.mark.parametrize(("k", "n", "alpha", "match"), [
-    (1, 0, 0.05, "at least 1"),
-    (5, 4, 0.05, "between 0 and n"),
-    (-1, 4, 0.05, "between 0 and n"),
-    (1.5, 4, 0.05, "whole number"),
-    (1, 4, 1.5, "alpha"),
-], ids=["n-zero", "k-above-n", "k-negative", "k-fraction", "alpha-out-of-range"])
+@pytest.mark.parametrize(
+    ("k", "n", "alpha", "match"),
+    [
+        (1, 0, 0.05, "at least 1"),
+        (5, 4, 0.05, "between 0 and n"),
+        (-1, 4, 0.05, "between 0 and n"),
+        (1.5, 4, 0.05, "whole number"),
+        (1, 4, 1.5, "alpha"),
+    ],
+    ids=["n-zero", "k-above-n", "k-negative", "k-fraction", "alpha-out-of-range"],
+)
 def test_wilson_interval_rejects_bad_counts(k: float, n: int, alpha: float, match: str) -> None:
     with pytest.raises(InputError, match=match):
         wilson_interval(k, n, alpha)  # type: ignore[arg-type]
@@ -113,17 +122,19 @@ def test_group_difference_chi_square_2x2_matches_textbook_formula() -> None:
 # Expected-count rule (Cochran; common practice). Two equal-sized groups make every
 # expected count half the column total, so the tables below sit exactly on the edges.
 RULE_CASES = [
-    ([[5, 5], [5, 5]], True),                          # all expected = 5
-    ([[4, 5], [5, 5]], False),                         # one of four below 5 (25%)
-    ([[4, 10, 10, 10, 10], [4, 10, 10, 10, 10]], True),   # 2 of 10 below 5 = 20%
-    ([[4, 4, 10, 10, 10], [4, 4, 10, 10, 10]], False),    # 4 of 10 below 5 = 40%
+    ([[5, 5], [5, 5]], True),  # all expected = 5
+    ([[4, 5], [5, 5]], False),  # one of four below 5 (25%)
+    ([[4, 10, 10, 10, 10], [4, 10, 10, 10, 10]], True),  # 2 of 10 below 5 = 20%
+    ([[4, 4, 10, 10, 10], [4, 4, 10, 10, 10]], False),  # 4 of 10 below 5 = 40%
     ([[1, 10, 10, 10, 10], [0, 10, 10, 10, 10]], False),  # 20%, but 0.5 is below 1
 ]
 
 
-@pytest.mark.parametrize(("table", "allowed"), RULE_CASES,
-                         ids=["2x2-all-5", "2x2-one-below-5", "2x5-20pct", "2x5-40pct",
-                              "2x5-one-below-1"])
+@pytest.mark.parametrize(
+    ("table", "allowed"),
+    RULE_CASES,
+    ids=["2x2-all-5", "2x2-one-below-5", "2x5-20pct", "2x5-40pct", "2x5-one-below-1"],
+)
 def test_chi_square_allowed_switch_point(table: list[list[int]], allowed: bool) -> None:
     expected = sps.contingency.expected_freq(np.array(table))
     # Check the hand-built table really is what the id says (scipy computes expected counts).
@@ -138,8 +149,10 @@ def test_group_difference_large_sparse_table_uses_monte_carlo_fisher() -> None:
     assert res.test.startswith("Fisher exact (Monte Carlo")
     # The observed table is the most likely one under independence, so its p-value is large;
     # scipy's fisher_exact with the same seeded Monte-Carlo method is the reference.
-    ref = sps.fisher_exact(np.array(table), method=sps.MonteCarloMethod(
-        n_resamples=9999, rng=np.random.default_rng(20240601)))
+    ref = sps.fisher_exact(
+        np.array(table),
+        method=sps.MonteCarloMethod(n_resamples=9999, rng=np.random.default_rng(20240601)),
+    )
     assert res.p_value == pytest.approx(ref.pvalue)
     assert res.p_value == group_difference(table).p_value  # fixed seed: reproducible
 
@@ -151,16 +164,22 @@ def test_group_difference_monte_carlo_detects_clear_difference() -> None:
     assert res.p_value < 0.001
 
 
-@pytest.mark.parametrize("table", [[[3, 0], [4, 0]], [[3, 2]], [[0, 0], [0, 0]], [[5, 2], [0, 0]]],
-                         ids=["nobody-in-column", "one-group", "empty", "empty-group"])
+@pytest.mark.parametrize(
+    "table",
+    [[[3, 0], [4, 0]], [[3, 2]], [[0, 0], [0, 0]], [[5, 2], [0, 0]]],
+    ids=["nobody-in-column", "one-group", "empty", "empty-group"],
+)
 def test_group_difference_no_test_without_two_groups_and_outcomes(table: list[list[int]]) -> None:
     res = group_difference(table)
     assert res.test == NO_TEST
     assert math.isnan(res.p_value)
 
 
-@pytest.mark.parametrize("table", [[[1, -1], [2, 3]], [[1.5, 2], [2, 3]], [1, 2, 3]],
-                         ids=["negative", "fraction", "one-dimensional"])
+@pytest.mark.parametrize(
+    "table",
+    [[[1, -1], [2, 3]], [[1.5, 2], [2, 3]], [1, 2, 3]],
+    ids=["negative", "fraction", "one-dimensional"],
+)
 def test_group_difference_rejects_bad_tables(table: object) -> None:
     with pytest.raises(InputError, match="table"):
         group_difference(table)  # type: ignore[arg-type]
@@ -176,8 +195,23 @@ def test_bh_adjust_matches_statsmodels() -> None:
 def test_bh_adjust_benjamini_hochberg_1995_example() -> None:
     # Benjamini & Hochberg (1995), J. R. Stat. Soc. B 57:289-300, section 4: fifteen
     # p-values, at q = 0.05 the procedure rejects the four smallest (values from memory).
-    p = [0.0001, 0.0004, 0.0019, 0.0095, 0.0201, 0.0278, 0.0298, 0.0344, 0.0459,
-         0.3240, 0.4262, 0.5719, 0.6528, 0.7590, 1.000]
+    p = [
+        0.0001,
+        0.0004,
+        0.0019,
+        0.0095,
+        0.0201,
+        0.0278,
+        0.0298,
+        0.0344,
+        0.0459,
+        0.3240,
+        0.4262,
+        0.5719,
+        0.6528,
+        0.7590,
+        1.000,
+    ]
     adjusted = bh_adjust(p)
     assert sum(a <= 0.05 for a in adjusted) == 4
 
@@ -198,10 +232,24 @@ def test_bh_adjust_rejects_out_of_range() -> None:
 def test_group_difference_handles_many_single_respondent_groups() -> None:
     # Fourteen groups of one or two respondents: scipy's Monte-Carlo Fisher test returns
     # its statistic as a one-element array here; the p-value must agree with scipy's.
-    table = [[1, 0], [0, 1], [1, 0], [0, 1], [1, 0], [1, 0], [1, 0], [1, 0], [1, 0],
-             [0, 1], [0, 1], [1, 0], [2, 0], [0, 1]]
+    table = [
+        [1, 0],
+        [0, 1],
+        [1, 0],
+        [0, 1],
+        [1, 0],
+        [1, 0],
+        [1, 0],
+        [1, 0],
+        [1, 0],
+        [0, 1],
+        [0, 1],
+        [1, 0],
+        [2, 0],
+        [0, 1],
+    ]
     result = group_difference(table, n_resamples=999, seed=3)
     reference = sps.fisher_exact(
-        np.array(table), method=sps.MonteCarloMethod(n_resamples=999,
-                                                     rng=np.random.default_rng(3)))
+        np.array(table), method=sps.MonteCarloMethod(n_resamples=999, rng=np.random.default_rng(3))
+    )
     assert result.p_value == pytest.approx(float(np.ravel(reference.pvalue)[0]))

@@ -1,4 +1,4 @@
-"""Tests of extractor.report.workbook: aggregation per respondent, summary statistics and the workbook.
+"""Tests of extractor.report.workbook: per-respondent aggregation, statistics, the workbook.
 
 All people, places, varieties and trait IDs below are invented.
 """
@@ -17,6 +17,7 @@ from statsmodels.stats.multitest import multipletests
 from statsmodels.stats.proportion import proportion_confint
 
 from extractor.errors import InputError
+from extractor.report.privacy import PrivacyOptions
 from extractor.report.workbook import (
     ALL_INDIVIDUALS,
     CAUTION,
@@ -33,29 +34,55 @@ from extractor.report.workbook import (
     unlinked_terms,
     write_workbook,
 )
-from extractor.report.privacy import PrivacyOptions
 
 SECRET = b"fictional-test-secret-0123456789"
-CONCEPTS = pd.DataFrame({
-    "concept_id": ["BTX:0001", "BTX:0002", "BTX:0003"],
-    "label": ["fast cooking", "pest tolerance", "large seed"],
-    "parent": [None, None, None],
-})
+CONCEPTS = pd.DataFrame(
+    {
+        "concept_id": ["BTX:0001", "BTX:0002", "BTX:0003"],
+        "label": ["fast cooking", "pest tolerance", "large seed"],
+        "parent": [None, None, None],
+    }
+)
 
 
-def mention(respondent: str, sentence_id: int, sentence: str, span: str, concept: str | None,
-            stance: str | None, *, source: str = "predicted", confidence: float | None = 0.9,
-            variety: str | None = None) -> dict[str, object]:
+def mention(
+    respondent: str,
+    sentence_id: int,
+    sentence: str,
+    span: str,
+    concept: str | None,
+    stance: str | None,
+    *,
+    source: str = "predicted",
+    confidence: float | None = 0.9,
+    variety: str | None = None,
+) -> dict[str, object]:
     """Build one mention row; offsets are found in the sentence so they are always right."""
     start = sentence.index(span)
-    return {"respondent": respondent, "sentence_id": sentence_id, "answer_id": sentence_id,
-            "sentence": sentence, "question": "What do you like about it?", "lang": "en",
-            "start": start, "end": start + len(span), "answer_start": start,
-            "answer_end": start + len(span), "span_text": span, "concept_id": concept,
-            "concept_label": None, "link_prob": 0.8 if concept else None, "stance": stance,
-            "stance_prob": 0.7, "variety": variety, "ref_variety": None,
-            "confidence": confidence, "source": source, "model_version": "m-3",
-            "annotator": "coder-a" if source == "person" else None}
+    return {
+        "respondent": respondent,
+        "sentence_id": sentence_id,
+        "answer_id": sentence_id,
+        "sentence": sentence,
+        "question": "What do you like about it?",
+        "lang": "en",
+        "start": start,
+        "end": start + len(span),
+        "answer_start": start,
+        "answer_end": start + len(span),
+        "span_text": span,
+        "concept_id": concept,
+        "concept_label": None,
+        "link_prob": 0.8 if concept else None,
+        "stance": stance,
+        "stance_prob": 0.7,
+        "variety": variety,
+        "ref_variety": None,
+        "confidence": confidence,
+        "source": source,
+        "model_version": "m-3",
+        "annotator": "coder-a" if source == "person" else None,
+    }
 
 
 S1 = "Nyota cooks fast and cooks fast every time."
@@ -80,12 +107,14 @@ def study() -> tuple[pd.DataFrame, pd.DataFrame]:
         mention("U1", 7, S1, "cooks fast", "BTX:0001", "liked"),
         mention("FG1", 8, S1, "cooks fast", "BTX:0001", "liked"),
     ]
-    respondents = pd.DataFrame({
-        "respondent": ["W1", "W2", "W3", "W4", "M1", "M2", "U1", "FG1"],
-        "is_group": [False, False, False, False, False, False, False, True],
-        "gender": ["woman", "woman", "woman", "woman", "man", "man", None, None],
-        "district": ["Lumoro"] * 4 + ["Kasiri"] * 4,
-    })
+    respondents = pd.DataFrame(
+        {
+            "respondent": ["W1", "W2", "W3", "W4", "M1", "M2", "U1", "FG1"],
+            "is_group": [False, False, False, False, False, False, False, True],
+            "gender": ["woman", "woman", "woman", "woman", "man", "man", None, None],
+            "district": ["Lumoro"] * 4 + ["Kasiri"] * 4,
+        }
+    )
     return pd.DataFrame(rows), respondents
 
 
@@ -95,31 +124,42 @@ def _summary(study: tuple[pd.DataFrame, pd.DataFrame], group_by: list[str]) -> p
 
 
 def _row(summary: pd.DataFrame, cid: str, outcome: str, grouping: str, group: str) -> pd.Series:
-    sel = summary.loc[(summary["Concept ID"] == cid) & (summary["Outcome"] == outcome)
-                      & (summary["Grouping"] == grouping) & (summary["Group"] == group)]
+    sel = summary.loc[
+        (summary["Concept ID"] == cid)
+        & (summary["Outcome"] == outcome)
+        & (summary["Grouping"] == grouping)
+        & (summary["Group"] == group)
+    ]
     assert len(sel) == 1
     return sel.iloc[0]
 
 
 # --- preparing ------------------------------------------------------------------------
 
+
 def test_merge_gold_drops_predictions_in_labeled_sentences() -> None:
-    rows = pd.DataFrame([
-        mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="person"),
-        mention("W1", 1, S1, "cooks fast every", "BTX:0003", "neutral"),
-        mention("W1", 2, S2, "pest tolerance", "BTX:0002", "wanted", source="dictionary"),
-    ])
+    rows = pd.DataFrame(
+        [
+            mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="person"),
+            mention("W1", 1, S1, "cooks fast every", "BTX:0003", "neutral"),
+            mention("W1", 2, S2, "pest tolerance", "BTX:0002", "wanted", source="dictionary"),
+        ]
+    )
     out = merge_gold(rows)
     assert out["source"].tolist() == ["person", "dictionary"]
 
 
 def test_filter_confidence_never_drops_person_labels() -> None:
-    rows = pd.DataFrame([
-        mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="person", confidence=0.1),
-        mention("W1", 2, S2, "pest tolerance", "BTX:0002", "wanted", confidence=0.4),
-        mention("W1", 3, S3, "Cooks fast", "BTX:0001", "liked", confidence=0.6),
-        mention("W1", 4, S3, "weevils eat it", "BTX:0002", "disliked", confidence=None),
-    ])
+    rows = pd.DataFrame(
+        [
+            mention(
+                "W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="person", confidence=0.1
+            ),
+            mention("W1", 2, S2, "pest tolerance", "BTX:0002", "wanted", confidence=0.4),
+            mention("W1", 3, S3, "Cooks fast", "BTX:0001", "liked", confidence=0.6),
+            mention("W1", 4, S3, "weevils eat it", "BTX:0002", "disliked", confidence=None),
+        ]
+    )
     out = filter_confidence(rows, 0.5)
     assert out["sentence_id"].tolist() == [1, 3, 4]
 
@@ -137,6 +177,7 @@ def test_prepare_names_missing_columns() -> None:
 
 # --- per-respondent tables ------------------------------------------------------------
 
+
 def test_preferred_traits_lists_everyone_and_orders_by_count(study) -> None:
     m, r = prepare(*study)
     table = preferred_traits(m, r, CONCEPTS)
@@ -147,11 +188,13 @@ def test_preferred_traits_lists_everyone_and_orders_by_count(study) -> None:
 
 
 def test_preferred_traits_orders_by_mention_count() -> None:
-    rows = pd.DataFrame([
-        mention("W1", 1, S3, "weevils eat it", "BTX:0002", "liked"),
-        mention("W1", 2, S1, "cooks fast", "BTX:0001", "liked"),
-        mention("W1", 3, S1, "cooks fast every", "BTX:0001", "liked"),
-    ])
+    rows = pd.DataFrame(
+        [
+            mention("W1", 1, S3, "weevils eat it", "BTX:0002", "liked"),
+            mention("W1", 2, S1, "cooks fast", "BTX:0001", "liked"),
+            mention("W1", 3, S1, "cooks fast every", "BTX:0001", "liked"),
+        ]
+    )
     m, r = prepare(rows, pd.DataFrame({"respondent": ["W1"]}))
     liked = preferred_traits(m, r, CONCEPTS)["Liked"].item()
     assert liked == "fast cooking (BTX:0001); pest tolerance (BTX:0002)"
@@ -168,8 +211,12 @@ def test_trait_matrix_cells(study) -> None:
 
 
 def test_trait_matrix_mixed_when_stances_disagree() -> None:
-    rows = pd.DataFrame([mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked"),
-                         mention("W1", 2, S3, "Cooks fast", "BTX:0001", "disliked")])
+    rows = pd.DataFrame(
+        [
+            mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked"),
+            mention("W1", 2, S3, "Cooks fast", "BTX:0001", "disliked"),
+        ]
+    )
     m, r = prepare(rows, pd.DataFrame({"respondent": ["W1"]}))
     assert trait_matrix(m, r, CONCEPTS)["fast cooking (BTX:0001)"].item() == "mixed"
 
@@ -183,6 +230,7 @@ def test_unlinked_terms_groups_spellings(study) -> None:
 
 
 # --- summary ------------------------------------------------------------------------
+
 
 def test_trait_summary_counts_respondents_not_mentions(study) -> None:
     row = _row(_summary(study, []), "BTX:0001", "mention", ALL_INDIVIDUALS, "all")
@@ -245,6 +293,7 @@ def test_chart_data_top_traits_by_group(study) -> None:
 
 # --- the workbook -------------------------------------------------------------------
 
+
 def _all_cells(path: Path) -> list[object]:
     wb = openpyxl.load_workbook(path)
     return [c.value for ws in wb.worksheets for row in ws.iter_rows() for c in row]
@@ -253,8 +302,16 @@ def _all_cells(path: Path) -> list[object]:
 def test_write_workbook_sheets_and_craft(study, tmp_path: Path) -> None:
     out = tmp_path / "traits.xlsx"
     png = tmp_path / "chart.png"
-    write_workbook(out, *study, CONCEPTS, {"model version": "m-3", "metrics": {"f1": 0.71}},
-                   group_by=["gender"], min_confidence=None, pseudonymise=None, chart_png=png)
+    write_workbook(
+        out,
+        *study,
+        CONCEPTS,
+        {"model version": "m-3", "metrics": {"f1": 0.71}},
+        group_by=["gender"],
+        min_confidence=None,
+        pseudonymise=None,
+        chart_png=png,
+    )
     wb = openpyxl.load_workbook(out)
     assert wb.sheetnames == list(SHEETS.values())
     for name in (SHEETS["preferred"], SHEETS["matrix"], SHEETS["mentions"]):
@@ -270,9 +327,11 @@ def test_write_workbook_sheets_and_craft(study, tmp_path: Path) -> None:
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature, RFC 2083 section 3.1
 
 
-@pytest.mark.parametrize("text", ['=HYPERLINK("http://x","y")', "+1 cooks fast", "-weevils",
-                                  "@SUM(A1)", "\tcooks", "#N/A"],
-                         ids=["equals-formula", "plus", "minus", "at", "tab", "error-code"])
+@pytest.mark.parametrize(
+    "text",
+    ['=HYPERLINK("http://x","y")', "+1 cooks fast", "-weevils", "@SUM(A1)", "\tcooks", "#N/A"],
+    ids=["equals-formula", "plus", "minus", "at", "tab", "error-code"],
+)
 def test_write_workbook_user_text_never_becomes_formula(text: str, tmp_path: Path) -> None:
     sentence = f"{text} said the farmer"
     rows = pd.DataFrame([mention("W1", 1, sentence, "said", None, "liked")])
@@ -297,8 +356,15 @@ def test_write_workbook_pseudonymised_hides_ids_and_phone(study, tmp_path: Path)
     mentions.loc[0, "sentence"] = S1 + f" Call Amani on {phone}."
     respondents = respondents.assign(name=[f"Person {i}" for i in range(len(respondents))])
     out = tmp_path / "private.xlsx"
-    write_workbook(out, mentions, respondents, CONCEPTS, {}, group_by=["gender"],
-                   pseudonymise=PrivacyOptions(secret=SECRET, names=("Amani",)))
+    write_workbook(
+        out,
+        mentions,
+        respondents,
+        CONCEPTS,
+        {},
+        group_by=["gender"],
+        pseudonymise=PrivacyOptions(secret=SECRET, names=("Amani",)),
+    )
     text = "\n".join(str(v) for v in _all_cells(out) if v is not None)
     for original in respondents["respondent"]:
         assert original not in text  # not even inside another cell's text
@@ -319,8 +385,14 @@ def test_write_workbook_min_confidence(study, tmp_path: Path) -> None:
 
 def test_write_workbook_rejects_identifying_grouping(study, tmp_path: Path) -> None:
     with pytest.raises(InputError, match="'district' is dropped as identifying"):
-        write_workbook(tmp_path / "x.xlsx", *study, CONCEPTS, {}, group_by=["district"],
-                       pseudonymise=PrivacyOptions(secret=SECRET, drop_columns=("district",)))
+        write_workbook(
+            tmp_path / "x.xlsx",
+            *study,
+            CONCEPTS,
+            {},
+            group_by=["district"],
+            pseudonymise=PrivacyOptions(secret=SECRET, drop_columns=("district",)),
+        )
 
 
 @pytest.mark.parametrize("name", ["missing/out.xlsx", "out.csv"], ids=["no-folder", "not-xlsx"])
@@ -332,8 +404,14 @@ def test_write_workbook_rejects_bad_path(study, tmp_path: Path, name: str) -> No
 def test_write_workbook_without_any_mentions(tmp_path: Path) -> None:
     empty = pd.DataFrame([mention("W1", 1, S1, "cooks fast", None, None)]).iloc[0:0]
     out = tmp_path / "empty.xlsx"
-    write_workbook(out, empty, pd.DataFrame({"respondent": ["W1"]}), CONCEPTS, {},
-                   chart_png=tmp_path / "empty.png")
+    write_workbook(
+        out,
+        empty,
+        pd.DataFrame({"respondent": ["W1"]}),
+        CONCEPTS,
+        {},
+        chart_png=tmp_path / "empty.png",
+    )
     frame = pd.read_excel(out, sheet_name=SHEETS["preferred"])
     assert frame["Respondent"].tolist() == ["W1"]
     assert np.all(frame["Mentions"] == 0)

@@ -43,11 +43,18 @@ def test_load_settings_reports_bad_toml(tmp_path: Path) -> None:
         ("[linking]\nthreshold = 1.5\n", r"\[linking\] threshold must be between 0 and 1"),
         ("[tagger]\nc2 = true\n", r"\[tagger\] c2 must be a number"),
         ('[export]\ngroup_by = "gender"\n', r"\[export\] group_by must be a list of texts"),
-        ('active = 3\n', r"\[active\] must be a section"),
+        ("active = 3\n", r"\[active\] must be a section"),
         ("[tagger]\nmax_iteration = 50\n", r"\[tagger\] has no setting 'max_iteration'"),
     ],
-    ids=["text-for-number", "negative", "share-above-one", "bool-for-float", "text-for-list",
-         "value-for-section", "misspelt-key"],
+    ids=[
+        "text-for-number",
+        "negative",
+        "share-above-one",
+        "bool-for-float",
+        "text-for-list",
+        "value-for-section",
+        "misspelt-key",
+    ],
 )
 def test_load_settings_names_a_bad_value(tmp_path: Path, text: str, message: str) -> None:
     path = tmp_path / "traits.toml"
@@ -72,7 +79,7 @@ def test_bad_setting_is_one_sentence_on_the_command_line(tmp_path: Path) -> None
     from extractor.cli.main import main
 
     root = init_workspace(tmp_path / "w")
-    (root / "traits.toml").write_text("[active]\nretrain_every = \"often\"\n", encoding="utf-8")
+    (root / "traits.toml").write_text('[active]\nretrain_every = "often"\n', encoding="utf-8")
     out = io.StringIO()
     code = main(["-w", str(root), "status"], console=Console(file=out, width=200))
     assert code != 0

@@ -7,25 +7,48 @@ from pathlib import Path
 
 import pytest
 
-from extractor.workspace import store
 from extractor.errors import WorkspaceError
 from extractor.types import Span
+from extractor.workspace import store
 
 
 def _rows() -> list[dict]:
     return [
-        {"respondent": "R1", "question": "Why?", "answer": "It cooks fast. Good broth.",
-         "lang": "en", "lang_origin": "column", "variety": None,
-         "metadata": {"gender": "woman"}, "sheet": None, "row": 2, "is_group": False},
-        {"respondent": "R2", "question": "Why?", "answer": "Trop petit.",
-         "lang": "fr", "lang_origin": "detected", "variety": "VAR:01",
-         "metadata": {}, "sheet": None, "row": 3, "is_group": True},
+        {
+            "respondent": "R1",
+            "question": "Why?",
+            "answer": "It cooks fast. Good broth.",
+            "lang": "en",
+            "lang_origin": "column",
+            "variety": None,
+            "metadata": {"gender": "woman"},
+            "sheet": None,
+            "row": 2,
+            "is_group": False,
+        },
+        {
+            "respondent": "R2",
+            "question": "Why?",
+            "answer": "Trop petit.",
+            "lang": "fr",
+            "lang_origin": "detected",
+            "variety": "VAR:01",
+            "metadata": {},
+            "sheet": None,
+            "row": 3,
+            "is_group": True,
+        },
     ]
 
 
 def _add(conn: sqlite3.Connection, sha: str = "abc") -> dict:
     return store.add_source(
-        conn, path="a.csv", sha256=sha, kind="csv", options={}, rows=_rows(),
+        conn,
+        path="a.csv",
+        sha256=sha,
+        kind="csv",
+        options={},
+        rows=_rows(),
         sentence_offsets=[[(0, 14), (15, 26)], [(0, 11)]],
     )
 
@@ -99,13 +122,16 @@ def test_labels_are_append_only_and_undo_retracts(conn: sqlite3.Connection) -> N
 
 def test_concept_reimport_keeps_annotator_aliases(conn: sqlite3.Connection) -> None:
     concepts = [{"id": "BTX:0001", "parent": None, "definition": None}]
-    aliases = [{"concept_id": "BTX:0001", "text": "cooking time", "lang": "en",
-                "kind": "preferred"}]
-    store.replace_concept_list(conn, kind="trait", path="c.csv", sha256="1",
-                               concepts=concepts, aliases=aliases)
+    aliases = [
+        {"concept_id": "BTX:0001", "text": "cooking time", "lang": "en", "kind": "preferred"}
+    ]
+    store.replace_concept_list(
+        conn, kind="trait", path="c.csv", sha256="1", concepts=concepts, aliases=aliases
+    )
     assert store.add_alias(conn, "BTX:0001", "boils quickly", "en", "ana")
-    store.replace_concept_list(conn, kind="trait", path="c.csv", sha256="2",
-                               concepts=concepts, aliases=aliases)
+    store.replace_concept_list(
+        conn, kind="trait", path="c.csv", sha256="2", concepts=concepts, aliases=aliases
+    )
     texts = {(a["text"], a["origin"]) for a in store.aliases(conn)}
     assert texts == {("cooking time", "list"), ("boils quickly", "annotator")}
     assert len(store.concept_versions(conn)) == 2
@@ -122,10 +148,19 @@ def test_counts_report_languages(conn: sqlite3.Connection) -> None:
 
 
 def test_counts_group_language_tags_by_primary_language(conn: sqlite3.Connection) -> None:
-    rows = [dict(_rows()[1], respondent="R3", answer="Muy rico.", lang="es-419"),
-            dict(_rows()[1], respondent="R4", answer="Muy bueno.", lang="es")]
-    store.add_source(conn, path="b.csv", sha256="x", kind="csv", options={}, rows=rows,
-                     sentence_offsets=[[(0, 9)], [(0, 10)]])
+    rows = [
+        dict(_rows()[1], respondent="R3", answer="Muy rico.", lang="es-419"),
+        dict(_rows()[1], respondent="R4", answer="Muy bueno.", lang="es"),
+    ]
+    store.add_source(
+        conn,
+        path="b.csv",
+        sha256="x",
+        kind="csv",
+        options={},
+        rows=rows,
+        sentence_offsets=[[(0, 9)], [(0, 10)]],
+    )
     found = store.counts(conn)
     assert found["languages"] == {"es": 2}
     assert found["language_tags"] == {"es-419": 1, "es": 1}
