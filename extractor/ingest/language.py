@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import pkgutil
 import re
-import unicodedata
 from collections.abc import Sequence
 from functools import lru_cache
 
@@ -23,6 +22,7 @@ import spacy.lang
 from lingua import Language, LanguageDetector, LanguageDetectorBuilder
 
 from extractor.errors import InputError
+from extractor.nlp.fold import fold
 
 # RFC 5646 section 2.1 "Syntax": the ABNF of a language tag, one regex per production.
 _LANGUAGE = re.compile(r"[a-z]{2,3}|[a-z]{4}|[a-z]{5,8}")
@@ -219,12 +219,6 @@ def normalise_tag(tag: str) -> str:
     return "-".join(pieces)
 
 
-def _fold(text: str) -> str:
-    """Lower-case ``text`` and drop its accents."""
-    decomposed = unicodedata.normalize("NFKD", text.strip().lower())
-    return "".join(c for c in decomposed if not unicodedata.combining(c))
-
-
 def tag_from_value(value: str) -> str:
     """Return the normalised tag for a language cell: a BCP 47 tag or a language name.
 
@@ -235,7 +229,7 @@ def tag_from_value(value: str) -> str:
     Raises:
         InputError: If the value is neither a known tag nor a known language name.
     """
-    folded = _fold(value)
+    folded = fold(value.strip())
     if folded in _NAMES:
         return _NAMES[folded]
     for lang in Language.all():

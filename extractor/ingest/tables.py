@@ -14,7 +14,6 @@ import io
 import itertools
 import math
 import re
-import unicodedata
 import zipfile
 from collections.abc import Iterable, Sequence
 from datetime import date, datetime, time
@@ -27,6 +26,7 @@ from openpyxl.utils.exceptions import InvalidFileException
 
 from extractor.errors import InputError
 from extractor.ingest.language import detect_languages, tag_from_value
+from extractor.nlp.fold import fold
 
 OLE_MAGIC = b"\xd0\xcf\x11\xe0"
 """First bytes of an OLE compound file: how Office stores password-protected files."""
@@ -87,21 +87,19 @@ Grid = list[tuple[int, list[str | None]]]
 """Spreadsheet rows as ``(row number, cells)``; cells are text or ``None`` when blank."""
 
 
-def fold(text: str) -> str:
+def fold_header(text: str) -> str:
     """Fold a header for matching: lower case, no accents, separators as single spaces."""
-    decomposed = unicodedata.normalize("NFKD", text.lower())
-    plain = "".join(c for c in decomposed if not unicodedata.combining(c))
-    return " ".join(re.sub(r"[\W_]+", " ", plain).split())
+    return " ".join(re.sub(r"[\W_]+", " ", fold(text)).split())
 
 
 def snake_key(header: str) -> str:
     """Return a metadata key for a header: ``"Age group"`` -> ``"age_group"``."""
-    return fold(header).replace(" ", "_")
+    return fold_header(header).replace(" ", "_")
 
 
 def is_yes(value: str | None) -> bool:
     """Return whether a flag cell says yes (en/fr/es, ``1``, ``true``, ``x``)."""
-    return value is not None and fold(value) in _YES
+    return value is not None and fold_header(value) in _YES
 
 
 def is_blank(value: str | None) -> bool:
@@ -204,9 +202,9 @@ def _find_column(headers: list[str], name: str, key: str, where: str) -> int:
     """Return the index of the mapped column, matching exactly and then folded."""
     if name in headers:
         return headers.index(name)
-    folded = [fold(h) for h in headers]
-    if fold(name) in folded:
-        return folded.index(fold(name))
+    folded = [fold_header(h) for h in headers]
+    if fold_header(name) in folded:
+        return folded.index(fold_header(name))
     raise LayoutError(
         f"{where}: the mapping names column {name!r} for {key!r}, but the headers are "
         f"{', '.join(repr(h) for h in headers)}; correct the mapping to one of these."
@@ -236,7 +234,7 @@ def _infer_questions(headers: list[str], body: Grid, taken: set[int]) -> list[in
         i
         for i, header in enumerate(headers)
         if i not in taken
-        and fold(header) not in _METADATA_HEADERS
+        and fold_header(header) not in _METADATA_HEADERS
         and (header.rstrip().endswith("?") or _is_free_text(_column_values(body, i)))
     ]
 
@@ -257,7 +255,7 @@ def resolve_columns(
             roles[key] = _find_column(headers, str(mapping[key]), key, where)
     for i, header in enumerate(headers):
         for key, names in _ROLE_HEADERS.items():
-            if key not in roles and i not in roles.values() and fold(header) in names:
+            if key not in roles and i not in roles.values() and fold_header(header) in names:
                 roles[key] = i
     taken = set(roles.values())
     questions: list[int] = []

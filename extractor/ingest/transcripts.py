@@ -30,7 +30,7 @@ from extractor.errors import InputError
 from extractor.ingest.tables import (
     check_office_archive,
     decode_text,
-    fold,
+    fold_header,
     is_yes,
     language_of_cell,
     snake_key,
@@ -55,7 +55,7 @@ Lines = list[tuple[int, str]]
 
 def is_interviewer(label: str) -> bool:
     """Return whether a speaker label names the interviewer (case- and accent-insensitive)."""
-    folded = fold(label)
+    folded = fold_header(label)
     return folded in INTERVIEWER_SPEAKERS or _NUMBERED_QUESTION.fullmatch(folded) is not None
 
 
@@ -79,7 +79,7 @@ def _speaker(line: str) -> tuple[str, str] | None:
 def _respondent_header(line: str) -> str | None:
     """Return the ID of a ``Respondent: <ID>`` line, ``None`` for any other line."""
     match = _PREFIX.match(line)
-    if match is None or fold(match.group(1)) not in _RESPONDENT_KEYS:
+    if match is None or fold_header(match.group(1)) not in _RESPONDENT_KEYS:
         return None
     value = match.group(2).strip()
     # An ID is short and is no sentence; "Respondent: We like it." is a speaker turn.
@@ -139,7 +139,7 @@ class _TranscriptParser:
         match = _PREFIX.match(line)
         if match is None or is_interviewer(match.group(1)):
             return False
-        key, value = fold(match.group(1)), match.group(2).strip()
+        key, value = fold_header(match.group(1)), match.group(2).strip()
         if key in ("language", "langue", "idioma"):
             where = f"File '{self.path.name}', line {number}"
             self.lang = language_of_cell(value, where, match.group(1).strip())[0]

@@ -20,7 +20,6 @@ import math
 import queue
 import sqlite3
 import threading
-import unicodedata
 from collections import deque
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
@@ -39,6 +38,7 @@ from extractor.loop.strategies import (
     stabilizing_predictions,
     weigh_by_density,
 )
+from extractor.nlp.fold import fold
 from extractor.types import STANCES, Sentence, Span
 from extractor.workspace import store
 
@@ -636,12 +636,6 @@ class Session:
 
 
 # --------------------------------------------------------------------------- marking helpers
-
-
-def fold(text: str) -> str:
-    """Return ``text`` lower-cased and without accents, for forgiving comparisons."""
-    decomposed = unicodedata.normalize("NFKD", text)
-    return "".join(c for c in decomposed if not unicodedata.combining(c)).casefold()
 
 
 def find_phrase(text: str, words: str, lang: str) -> list[tuple[int, int]]:

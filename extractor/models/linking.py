@@ -39,7 +39,8 @@ from sklearn.pipeline import Pipeline
 
 from extractor.errors import InputError, NotFittedError
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
-from extractor.nlp.dictionary import normalize_form, stem_word
+from extractor.nlp.dictionary import stem_word
+from extractor.nlp.fold import fold, fold_words
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -93,10 +94,6 @@ def alias_key(text: str, lang: str) -> str:
     return " ".join(stem_word(w, lang or "xx") for w in words if any(c.isalnum() for c in w))
 
 
-def _fold(text: str) -> str:
-    return " ".join(normalize_form(text).split())
-
-
 def _char_ngrams(text: str, low: int = 2, high: int = 4) -> list[str]:
     """Return character n-grams inside padded word boundaries (as ``char_wb`` does)."""
     out: list[str] = []
@@ -116,7 +113,7 @@ def context_features(sentence: Sentence, span: Span) -> dict[str, float]:
     """
     text = sentence.text[span.start : span.end]
     f: dict[str, float] = defaultdict(float)
-    for gram in _char_ngrams(_fold(text)):
+    for gram in _char_ngrams(fold_words(text)):
         f["c:" + gram] += 1.0
     for stem in alias_key(text, sentence.lang).split():
         f["s:" + stem] = 1.0
@@ -125,7 +122,7 @@ def context_features(sentence: Sentence, span: Span) -> dict[str, float]:
     if inside:
         a, b = inside[0], inside[-1] + 1
         for k in list(range(max(0, a - WINDOW), a)) + list(range(b, min(len(tokens), b + WINDOW))):
-            word = normalize_form(sentence.text[tokens[k][0] : tokens[k][1]])
+            word = fold(sentence.text[tokens[k][0] : tokens[k][1]])
             if any(c.isalnum() for c in word):
                 f["w:" + word] = 1.0
     return dict(f)
@@ -147,7 +144,7 @@ class _Scorer:
         for concept, text, lang in self.forms:
             self._exact_own[alias_key(text, lang)].add(concept)
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
-        texts = [_fold(t) for _, t, _ in self.forms]
+        texts = [fold_words(t) for _, t, _ in self.forms]
         self.vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(2, 4))
         self.matrix = self.vectorizer.fit_transform(texts) if texts else None
         starts, seen = [], set()
@@ -177,7 +174,7 @@ class _Scorer:
         """Return an ``(n, concepts)`` array of the best alias cosine per concept."""
         if self.matrix is None or not texts:
             return np.zeros((len(texts), len(self.concepts)))
-        sims = (self.vectorizer.transform([_fold(t) for t in texts]) @ self.matrix.T).toarray()
+        sims = (self.vectorizer.transform([fold_words(t) for t in texts]) @ self.matrix.T).toarray()
         return np.maximum.reduceat(sims, self.starts, axis=1)
 
     def context_proba(self, features: Sequence[dict[str, float]]) -> np.ndarray | None:
@@ -596,7 +593,7 @@ def _mean_vector(model: Mapping[str, Any], text: str) -> np.ndarray | None:
     if index is None:
         index = {w: i for i, w in enumerate(model.get("words") or [])}
     vectors = np.asarray(model.get("vectors", []), dtype=np.float32)
-    rows = [index[w] for w in (normalize_form(t) for t in re.findall(r"\w+", text)) if w in index]
+    rows = [index[w] for w in (fold(t) for t in re.findall(r"\w+", text)) if w in index]
     if not rows or vectors.size == 0:
         return None
     mean = vectors[rows].mean(axis=0)

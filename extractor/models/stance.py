@@ -33,7 +33,7 @@ from sklearn.pipeline import Pipeline
 
 from extractor.errors import InputError
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
-from extractor.nlp.dictionary import normalize_form
+from extractor.nlp.fold import fold
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import STANCES, Sentence, Span
 
@@ -131,9 +131,9 @@ def _read_cues(path: Path) -> Cues:
     return data
 
 
-def _fold(word: str) -> str:
+def _cue_form(word: str) -> str:
     """Return the matching form of a token: case-folded, no accents, straight apostrophe."""
-    return normalize_form(word).replace("\u2019", "'")
+    return fold(word).replace("\u2019", "'")
 
 
 class _Lexicon:
@@ -151,7 +151,7 @@ class _Lexicon:
         self.prefixes: list[tuple[str, str]] = []  # single-word wildcard cues
         for cat, words in section.items():
             for cue in words:
-                toks = tuple(_fold(cue[s:e]) for s, e in tokenize(cue, lang))
+                toks = tuple(_cue_form(cue[s:e]) for s, e in tokenize(cue, lang))
                 if not toks:
                     continue
                 if len(toks) == 1 and toks[0].endswith("*"):
@@ -216,7 +216,7 @@ class _Parsed:
 
     def __init__(self, text: str, lex: _Lexicon) -> None:
         self.offsets = tokenize(text, lex.lang)
-        self.words = [_fold(text[s:e]) for s, e in self.offsets]
+        self.words = [_cue_form(text[s:e]) for s, e in self.offsets]
         n = len(self.words)
         found = _find_all(self.words, lex)
         # Pseudo-triggers (and excess phrases such as "not enough") contain a trigger

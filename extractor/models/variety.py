@@ -22,7 +22,8 @@ from collections.abc import Iterable, Sequence
 from typing import Protocol, runtime_checkable
 
 from extractor.models.stance import Cues, find_comparisons
-from extractor.nlp.dictionary import build_dictionary, normalize_form
+from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
 
@@ -156,7 +157,7 @@ def _owner(sentence: Sentence, span: Span, varieties: Sequence[VarietyMention]) 
     if not following:
         return None
     between = sentence.text[span.end : following[0][0]]
-    words = [normalize_form(between[s:e]) for s, e in tokenize(between, sentence.lang or "xx")]
+    words = [fold(between[s:e]) for s, e in tokenize(between, sentence.lang or "xx")]
     # Allow an article after the link: "the taste of the Kivuli", "le goût de la Kivuli".
     if 1 <= len(words) <= 2 and words[0] in POSSESSIVE_LINKS:
         return following[0][2]

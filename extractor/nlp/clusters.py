@@ -34,7 +34,7 @@ from sklearn.cluster import MiniBatchKMeans
 from sklearn.decomposition import TruncatedSVD
 
 from extractor.errors import ModelError
-from extractor.nlp.dictionary import normalize_form
+from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
 
 FORMAT = "trait-extractor/word-clusters"
@@ -58,7 +58,7 @@ def corpus_fingerprint(texts: Iterable[tuple[str, str]]) -> str:
 
 
 def _sentences(texts: list[tuple[str, str]]) -> list[list[str]]:
-    return [[normalize_form(text[s:e]) for s, e in tokenize(text, lang)] for text, lang in texts]
+    return [[fold(text[s:e]) for s, e in tokenize(text, lang)] for text, lang in texts]
 
 
 def _cooccurrence(ids: list[np.ndarray], size: int, window: int) -> sparse.csr_matrix:
@@ -198,7 +198,7 @@ def nearest_words(model: Mapping[str, Any], word: str, k: int = 10) -> list[tupl
     if not words:
         return []
     index = _word_index(model)
-    i = index.get(normalize_form(word))
+    i = index.get(fold(word))
     if i is None:
         return []
     vectors = np.asarray(model["vectors"], dtype=np.float32)

@@ -23,7 +23,6 @@ then the smallest concept ID, so results never depend on input order.
 
 from __future__ import annotations
 
-import unicodedata
 from collections.abc import Iterable, Sequence
 from functools import cache, lru_cache
 from typing import NamedTuple
@@ -34,6 +33,7 @@ from spacy.tokens import Doc
 from spacy.vocab import Vocab
 
 from extractor.errors import InputError
+from extractor.nlp.fold import fold
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -51,12 +51,6 @@ SNOWBALL_LANGUAGES: dict[str, str] = {
 
 
 @lru_cache(maxsize=1 << 20)
-def normalize_form(text: str) -> str:
-    """Return ``text`` case-folded and without accents (NFKD, combining marks removed)."""
-    decomposed = unicodedata.normalize("NFKD", text.casefold())
-    return "".join(c for c in decomposed if not unicodedata.combining(c))
-
-
 @cache
 def _stemmer(code: str) -> snowballstemmer.stemmer | None:
     name = SNOWBALL_LANGUAGES.get(code)
@@ -79,7 +73,7 @@ def stem_word(word: str, lang: str) -> str:
     """
     stemmer = _stemmer(stemmer_language(lang))
     folded = word.casefold()
-    return normalize_form(stemmer.stemWord(folded) if stemmer else folded)
+    return fold(stemmer.stemWord(folded) if stemmer else folded)
 
 
 class _Candidate(NamedTuple):
@@ -117,7 +111,7 @@ class Dictionary:
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
         self._alias_langs = sorted({stemmer_language(lang) for _, _, lang in self.aliases})
         self._tokens = [
-            (concept, tuple(normalize_form(w) for w in _words(alias, lang)), alias, lang)
+            (concept, tuple(fold(w) for w in _words(alias, lang)), alias, lang)
             for concept, alias, lang in self.aliases
         ]
 
@@ -167,7 +161,7 @@ class Dictionary:
         if not token_offsets or not self.aliases:
             return []
         words = [text[s:e] for s, e in token_offsets]
-        forms = [normalize_form(w) for w in words]
+        forms = [fold(w) for w in words]
         sent_stem, sent_code = stemmer_language(lang), _code(lang)
         candidates = self._candidates(words, forms, sent_stem, sent_code, only_own=False)
         for other in self._alias_langs:

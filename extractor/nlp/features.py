@@ -13,7 +13,8 @@ from collections.abc import Mapping, Sequence
 from functools import lru_cache
 from typing import Any
 
-from extractor.nlp.dictionary import normalize_form, stem_word
+from extractor.nlp.dictionary import stem_word
+from extractor.nlp.fold import fold
 
 WINDOW = 2
 """Neighbouring tokens seen on each side of a token."""
@@ -56,7 +57,7 @@ def _word_features(word: str, lang: str) -> tuple[tuple[str, str | float], ...]:
         ("bias", 1.0),
         ("w", word),
         ("lw", lower),
-        ("n", normalize_form(word)),
+        ("n", fold(word)),
         ("st", stem_word(word, lang)),
         ("sh", word_shape(word)),
         ("ssh", short_shape(word)),
@@ -80,7 +81,7 @@ def cluster_ids(word: str, clusters: Clusters | None) -> tuple[str, ...]:
     """Return the cluster IDs of a word, coarse to fine, ``()`` when unknown or no model."""
     if not clusters:
         return ()
-    ids = clusters["clusters"].get(normalize_form(word))
+    ids = clusters["clusters"].get(fold(word))
     return tuple(str(i) for i in ids) if ids else ()
 
 
@@ -88,7 +89,7 @@ def neighbour_words(word: str, clusters: Clusters | None) -> list[str]:
     """Return the frequent words nearest to ``word`` in the cluster model, ``[]`` if none."""
     if not clusters:
         return []
-    return list(clusters.get("neighbours", {}).get(normalize_form(word), ()))
+    return list(clusters.get("neighbours", {}).get(fold(word), ()))
 
 
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))

@@ -22,13 +22,13 @@ import hashlib
 import hmac
 import re
 import secrets
-import unicodedata
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
 import pandas as pd
 
 from extractor.errors import InputError
+from extractor.nlp.fold import fold_with_offsets
 
 MIN_SECRET_BYTES = 16
 """Shortest secret accepted; RFC 2104 advises against keys much shorter than the hash."""
@@ -138,22 +138,10 @@ def _digits(s: str) -> int:
     return sum(ch.isdigit() for ch in s)
 
 
-def _fold(text: str) -> tuple[str, list[int]]:
-    """Return text without accents and case-folded, with each folded char's original index."""
-    chars: list[str] = []
-    where: list[int] = []
-    for i, ch in enumerate(text):
-        base = "".join(c for c in unicodedata.normalize("NFD", ch) if not unicodedata.combining(c))
-        for c in base.casefold():
-            chars.append(c)
-            where.append(i)
-    return "".join(chars), where
-
-
 def _name_pattern(names: Iterable[str]) -> re.Pattern[str] | None:
     parts = []
     for name in names:
-        folded, _ = _fold(str(name).strip())
+        folded, _ = fold_with_offsets(str(name).strip())
         words = folded.split()
         if words:
             parts.append(r"\s+".join(re.escape(w) for w in words))
@@ -185,7 +173,7 @@ def redactions(text: str, names: Iterable[str] = ()) -> list[tuple[int, int, str
             found.append((m.start(), m.end(), "[id-number]"))
     pattern = _name_pattern(names)
     if pattern is not None:
-        folded, where = _fold(text)
+        folded, where = fold_with_offsets(text)
         for m in pattern.finditer(folded):
             a, b = where[m.start()], where[m.end() - 1] + 1
             if free(a, b):

@@ -7,7 +7,8 @@ import time
 import pytest
 
 from extractor.errors import InputError
-from extractor.nlp.dictionary import build_dictionary, normalize_form, stem_word
+from extractor.nlp.dictionary import build_dictionary, stem_word
+from extractor.nlp.fold import fold
 from extractor.types import Sentence
 
 # Invented trait IDs and aliases.
@@ -132,9 +133,9 @@ def test_stem_word_agrees_with_snowball_vocabulary(word: str, lang: str, stem: s
     assert stem_word(word, lang) == stem
 
 
-def test_normalize_form_strips_accents_and_case() -> None:
+def test_fold_strips_accents_and_case() -> None:
     # Unicode NFKD decomposes "É" into "E" + U+0301 (Unicode Standard Annex #15).
-    assert normalize_form("ÉpaisSEUR Ñame") == "epaisseur name"
+    assert fold("ÉpaisSEUR Ñame") == "epaisseur name"
 
 
 def test_match_is_fast_on_many_sentences(dictionary) -> None:
