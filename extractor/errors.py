@@ -1,7 +1,8 @@
 """The exceptions the library raises; the command line prints them as one sentence.
 
 Every message names the thing that is wrong (a file, a row, a column, a setting),
-what is allowed, and what to do next. Library code raises; only ``cli.py`` prints.
+what is allowed, and what to do next. Library code raises; only the command line
+(``extractor/cli/``) prints.
 """
 
 from __future__ import annotations

@@ -1,7 +1,7 @@
 """Progress bars for long steps, shown only when the command line switches them on.
 
 Library functions wrap their long loops in :func:`track`; it is silent unless
-``cli.py`` has called :func:`enable` with its console, so the library never prints
+the command line has called :func:`enable` with its console, so the library never prints
 on its own and tests stay quiet.
 """
 

@@ -11,14 +11,12 @@ from pathlib import Path
 from typing import Any
 
 from extractor.errors import InputError
-from extractor.ingest import read_interviews
 from extractor.ingest.concepts import file_sha256, load_concept_list
+from extractor.ingest.reader import SUFFIXES, read_interviews
 from extractor.nlp.text import split_sentences
 from extractor.progress import track
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
-
-INTERVIEW_SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
 
 
 def stored_path(ws: Workspace, path: Path) -> str:
@@ -105,7 +103,7 @@ def interview_files(folder: Path) -> list[Path]:
         p
         for p in folder.iterdir()
         if p.is_file()
-        and p.suffix.lower() in INTERVIEW_SUFFIXES
+        and p.suffix.lower() in SUFFIXES
         and not p.name.startswith((".", "~$"))
     )
 

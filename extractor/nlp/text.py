@@ -17,9 +17,9 @@ OPENING_MARKS = "¿¡"
 """Punctuation that opens a sentence (Spanish)."""
 
 MULTI = "xx"
+"""spaCy's multi-language code, used where spaCy has no pipeline for a language."""
 
 _TOKEN_ATTRS = [IDX, LENGTH, IS_SPACE]
-"""spaCy's multi-language code, used where spaCy has no pipeline for a language."""
 
 
 def primary_subtag(tag: str) -> str:
@@ -61,11 +61,6 @@ def tokenize(text: str, lang: str) -> list[tuple[int, int]]:
     # tagger's hot path.
     rows = doc.to_array(_TOKEN_ATTRS).tolist()
     return [(idx, idx + length) for idx, length, space in rows if not space]
-
-
-def token_texts(text: str, lang: str) -> list[str]:
-    """Return the texts of the non-space tokens of ``text``."""
-    return [text[s:e] for s, e in tokenize(text, lang)]
 
 
 def split_sentences(text: str, lang: str) -> list[tuple[int, int]]:
