@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import sqlite3
+from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
@@ -54,7 +55,7 @@ def _add(conn: sqlite3.Connection, sha: str = "abc") -> dict:
 
 
 @pytest.fixture
-def conn(tmp_path: Path) -> sqlite3.Connection:
+def conn(tmp_path: Path) -> Iterator[sqlite3.Connection]:
     c = store.connect(tmp_path / "t.sqlite", create=True)
     yield c
     c.close()

@@ -1,0 +1,223 @@
+"""Sources, respondents, answers and their sentences (cut from the answer when read)."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import sqlite3
+from collections.abc import Iterable, Sequence
+from typing import Any
+
+from extractor.errors import WorkspaceError
+from extractor.types import Sentence
+from extractor.workspace.store._schema import now, transaction
+
+
+def source_known(conn: sqlite3.Connection, path: str, sha256: str) -> bool:
+    """Return True when this exact file content was already added from this path."""
+    row = conn.execute(
+        "SELECT 1 FROM sources WHERE path = ? AND sha256 = ?", (path, sha256)
+    ).fetchone()
+    return row is not None
+
+
+def answer_fingerprint(respondent: str, question: str | None, text: str) -> str:
+    """Return the identity of an answer: the same respondent, question and text is one answer."""
+    key = "\x1f".join((respondent, question or "", text))
+    return hashlib.sha256(key.encode("utf-8")).hexdigest()
+
+
+def add_source(
+    conn: sqlite3.Connection,
+    *,
+    path: str,
+    sha256: str,
+    kind: str,
+    options: dict[str, Any],
+    rows: Sequence[dict[str, Any]],
+    sentence_offsets: Sequence[Sequence[tuple[int, int]]],
+) -> dict[str, int]:
+    """Store one read file: the source, new respondents, new answers and their sentences.
+
+    ``rows`` are reader rows (respondent, question, answer, lang, lang_origin, variety,
+    metadata, sheet, row, is_group); ``sentence_offsets[i]`` are the sentence offsets of
+    ``rows[i]["answer"]``. Answers already stored (same respondent, question and text)
+    are skipped, so re-adding a changed file adds only what is new. One transaction.
+
+    Returns:
+        Counts of new respondents, answers and sentences.
+    """
+    counts = {"respondents": 0, "answers": 0, "sentences": 0}
+    stamp = now()
+    with transaction(conn):
+        cur = conn.execute(
+            "INSERT INTO sources (path, sha256, kind, options, added_at) VALUES (?, ?, ?, ?, ?)",
+            (path, sha256, kind, json.dumps(options, sort_keys=True), stamp),
+        )
+        source_id = cur.lastrowid
+        for row, offsets in zip(rows, sentence_offsets, strict=True):
+            respondent_id, created = _upsert_respondent(conn, row, stamp)
+            counts["respondents"] += created
+            fingerprint = answer_fingerprint(row["respondent"], row.get("question"), row["answer"])
+            cur = conn.execute(
+                "INSERT OR IGNORE INTO answers (respondent_id, source_id, question, text, lang, "
+                "lang_origin, variety, speaker, sheet, row, fingerprint) "
+                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                (
+                    respondent_id,
+                    source_id,
+                    row.get("question"),
+                    row["answer"],
+                    row["lang"],
+                    row["lang_origin"],
+                    row.get("variety"),
+                    row.get("speaker"),
+                    row.get("sheet"),
+                    row.get("row"),
+                    fingerprint,
+                ),
+            )
+            if cur.rowcount == 0:
+                continue
+            answer_id = cur.lastrowid
+            counts["answers"] += 1
+            conn.executemany(
+                "INSERT INTO sentences (answer_id, position, start, end) VALUES (?, ?, ?, ?)",
+                [(answer_id, i, s, e) for i, (s, e) in enumerate(offsets)],
+            )
+            counts["sentences"] += len(offsets)
+        conn.execute(
+            "UPDATE sources SET n_new_answers = ? WHERE id = ?", (counts["answers"], source_id)
+        )
+    return counts
+
+
+def _upsert_respondent(
+    conn: sqlite3.Connection, row: dict[str, Any], stamp: str
+) -> tuple[int, int]:
+    """Insert a respondent or merge new metadata keys into the stored ones."""
+    external = row["respondent"]
+    metadata = {k: v for k, v in (row.get("metadata") or {}).items() if v not in (None, "")}
+    found = conn.execute(
+        "SELECT id, metadata, is_group FROM respondents WHERE external_id = ?", (external,)
+    ).fetchone()
+    if found is None:
+        cur = conn.execute(
+            "INSERT INTO respondents (external_id, metadata, is_group, created_at) "
+            "VALUES (?, ?, ?, ?)",
+            (external, json.dumps(metadata, sort_keys=True), int(bool(row.get("is_group"))), stamp),
+        )
+        return int(cur.lastrowid or 0), 1
+    merged = json.loads(found["metadata"])
+    merged.update({k: v for k, v in metadata.items() if k not in merged})
+    conn.execute(
+        "UPDATE respondents SET metadata = ?, is_group = ? WHERE id = ?",
+        (
+            json.dumps(merged, sort_keys=True),
+            int(bool(found["is_group"]) or bool(row.get("is_group"))),
+            found["id"],
+        ),
+    )
+    return int(found["id"]), 0
+
+
+def sources(conn: sqlite3.Connection) -> list[dict[str, Any]]:
+    """Return every added source, oldest first."""
+    rows = conn.execute("SELECT * FROM sources ORDER BY id").fetchall()
+    return [dict(r) for r in rows]
+
+
+# --------------------------------------------------------------------------- sentences
+
+_SENTENCE_SELECT = (
+    "SELECT s.id, substr(a.text, s.start + 1, s.end - s.start) AS text, a.lang, a.question, "
+    "r.external_id AS respondent, a.id AS answer_id, s.start AS offset "
+    "FROM sentences s JOIN answers a ON a.id = s.answer_id "
+    "JOIN respondents r ON r.id = a.respondent_id"
+)
+
+
+def _sentence(row: sqlite3.Row) -> Sentence:
+    return Sentence(
+        id=row["id"],
+        text=row["text"],
+        lang=row["lang"],
+        question=row["question"],
+        respondent=row["respondent"],
+        answer_id=row["answer_id"],
+        offset=row["offset"],
+    )
+
+
+def sentences(conn: sqlite3.Connection, ids: Iterable[int] | None = None) -> list[Sentence]:
+    """Return sentences (all, or those with the given IDs) in answer order.
+
+    The text is cut from the stored answer with the stored offsets, so it can never
+    drift from the answer it belongs to.
+    """
+    if ids is None:
+        rows = conn.execute(_SENTENCE_SELECT + " ORDER BY s.answer_id, s.position").fetchall()
+        return [_sentence(r) for r in rows]
+    wanted = list(ids)
+    found: dict[int, Sentence] = {}
+    for chunk_start in range(0, len(wanted), 900):
+        chunk = wanted[chunk_start : chunk_start + 900]
+        marks = ",".join("?" * len(chunk))
+        for row in conn.execute(_SENTENCE_SELECT + f" WHERE s.id IN ({marks})", chunk):
+            found[row["id"]] = _sentence(row)
+    return [found[i] for i in wanted if i in found]
+
+
+def find_sentence(conn: sqlite3.Connection, text: str, respondent: str | None) -> int | None:
+    """Return the ID of a stored sentence with this exact text (and respondent, if given)."""
+    query = _SENTENCE_SELECT + " WHERE substr(a.text, s.start + 1, s.end - s.start) = ?"
+    params: list[Any] = [text]
+    if respondent is not None:
+        query += " AND r.external_id = ?"
+        params.append(respondent)
+    row = conn.execute(query + " ORDER BY s.id LIMIT 1", params).fetchone()
+    return None if row is None else int(row["id"])
+
+
+def sentence_context(conn: sqlite3.Connection, sentence_id: int) -> dict[str, Any]:
+    """Return what an annotator needs around a sentence: question, previous sentence, metadata."""
+    row = conn.execute(
+        "SELECT s.answer_id, s.position, a.question, a.text, a.variety, r.external_id, "
+        "r.metadata, r.is_group FROM sentences s JOIN answers a ON a.id = s.answer_id "
+        "JOIN respondents r ON r.id = a.respondent_id WHERE s.id = ?",
+        (sentence_id,),
+    ).fetchone()
+    if row is None:
+        raise WorkspaceError(f"Sentence {sentence_id} is not in this workspace.")
+    previous = conn.execute(
+        "SELECT start, end FROM sentences WHERE answer_id = ? AND position = ?",
+        (row["answer_id"], row["position"] - 1),
+    ).fetchone()
+    return {
+        "question": row["question"],
+        "previous": None if previous is None else row["text"][previous["start"] : previous["end"]],
+        "respondent": row["external_id"],
+        "metadata": json.loads(row["metadata"]),
+        "is_group": bool(row["is_group"]),
+        "variety": row["variety"],
+    }
+
+
+def answers(conn: sqlite3.Connection) -> list[dict[str, Any]]:
+    """Return every answer with its respondent's external ID."""
+    rows = conn.execute(
+        "SELECT a.id, r.external_id AS respondent, a.question, a.text, a.lang, a.variety "
+        "FROM answers a JOIN respondents r ON r.id = a.respondent_id ORDER BY a.id"
+    ).fetchall()
+    return [dict(r) for r in rows]
+
+
+def respondents(conn: sqlite3.Connection) -> list[dict[str, Any]]:
+    """Return respondents as dicts: ``respondent``, ``is_group`` and their metadata keys."""
+    out = []
+    for row in conn.execute("SELECT external_id, metadata, is_group FROM respondents ORDER BY id"):
+        out.append(
+            {"respondent": row["external_id"], "is_group": bool(row["is_group"])}
+            | json.loads(row["metadata"])
+        )
+    return out

@@ -1,0 +1,128 @@
+"""Append-only labels (undo appends a retraction), skips, and the evaluation and stop samples."""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+from collections.abc import Iterable, Sequence
+from typing import Any
+
+from extractor.errors import WorkspaceError
+from extractor.types import Span
+from extractor.workspace.store._schema import now, transaction
+
+
+def _spans_json(spans: Sequence[Span]) -> str:
+    return json.dumps(
+        [{"start": s.start, "end": s.end, "concept": s.concept, "stance": s.stance} for s in spans]
+    )
+
+
+def _spans_from_json(text: str) -> list[Span]:
+    return [Span(d["start"], d["end"], d.get("concept"), d.get("stance")) for d in json.loads(text)]
+
+
+def add_label(
+    conn: sqlite3.Connection,
+    sentence_id: int,
+    spans: Sequence[Span],
+    annotator: str,
+    *,
+    origin: str = "terminal",
+) -> int:
+    """Append a label (an empty ``spans`` means "no trait here"); committed on return."""
+    with transaction(conn):
+        cur = conn.execute(
+            "INSERT INTO labels (sentence_id, annotator, created_at, action, spans, origin) "
+            "VALUES (?, ?, ?, 'label', ?, ?)",
+            (sentence_id, annotator, now(), _spans_json(spans), origin),
+        )
+    return int(cur.lastrowid or 0)
+
+
+def retract_label(conn: sqlite3.Connection, label_id: int, annotator: str) -> None:
+    """Undo a label by appending a retraction; the history keeps both rows."""
+    with transaction(conn):
+        row = conn.execute(
+            "SELECT sentence_id FROM labels WHERE id = ? AND action = 'label'", (label_id,)
+        ).fetchone()
+        if row is None:
+            raise WorkspaceError(f"Label {label_id} does not exist, so it cannot be undone.")
+        conn.execute(
+            "INSERT INTO labels (sentence_id, annotator, created_at, action, retracts, origin) "
+            "VALUES (?, ?, ?, 'retract', ?, 'undo')",
+            (row["sentence_id"], annotator, now(), label_id),
+        )
+
+
+def current_labels(conn: sqlite3.Connection) -> dict[int, dict[str, Any]]:
+    """Return the label in force per sentence: the newest one not retracted.
+
+    Each value holds ``label_id``, ``spans`` (list of Span), ``annotator``,
+    ``created_at`` and ``origin``.
+    """
+    rows = conn.execute(
+        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin FROM labels l "
+        "WHERE l.action = 'label' AND l.id NOT IN "
+        "(SELECT retracts FROM labels WHERE action = 'retract') ORDER BY l.id"
+    ).fetchall()
+    out: dict[int, dict[str, Any]] = {}
+    for row in rows:
+        out[row["sentence_id"]] = {
+            "label_id": row["id"],
+            "spans": _spans_from_json(row["spans"]),
+            "annotator": row["annotator"],
+            "created_at": row["created_at"],
+            "origin": row["origin"],
+        }
+    return out
+
+
+def label_history(conn: sqlite3.Connection, annotator: str | None = None) -> list[dict[str, Any]]:
+    """Return every label row (labels and retractions), oldest first."""
+    query = "SELECT * FROM labels"
+    params: tuple[Any, ...] = ()
+    if annotator is not None:
+        query += " WHERE annotator = ?"
+        params = (annotator,)
+    return [dict(r) for r in conn.execute(query + " ORDER BY id", params)]
+
+
+def add_skip(conn: sqlite3.Connection, sentence_id: int, annotator: str) -> None:
+    """Record that an annotator skipped a sentence."""
+    with transaction(conn):
+        conn.execute(
+            "INSERT INTO skips (sentence_id, annotator, created_at) VALUES (?, ?, ?)",
+            (sentence_id, annotator, now()),
+        )
+
+
+def skipped(conn: sqlite3.Connection, annotator: str | None = None) -> set[int]:
+    """Return the IDs of sentences skipped (by an annotator, or by anyone)."""
+    if annotator is None:
+        rows = conn.execute("SELECT DISTINCT sentence_id FROM skips")
+    else:
+        rows = conn.execute(
+            "SELECT DISTINCT sentence_id FROM skips WHERE annotator = ?", (annotator,)
+        )
+    return {int(r[0]) for r in rows}
+
+
+# --------------------------------------------------------------------------- samples
+
+
+def sample_ids(conn: sqlite3.Connection, purpose: str) -> list[int]:
+    """Return the sentence IDs of the evaluation or stop sample."""
+    rows = conn.execute(
+        "SELECT sentence_id FROM samples WHERE purpose = ? ORDER BY sentence_id", (purpose,)
+    )
+    return [int(r[0]) for r in rows]
+
+
+def add_to_sample(conn: sqlite3.Connection, purpose: str, ids: Iterable[int]) -> None:
+    """Add sentences to the evaluation or stop sample (existing members stay)."""
+    with transaction(conn):
+        conn.executemany(
+            "INSERT OR IGNORE INTO samples (sentence_id, purpose) VALUES (?, ?)",
+            [(i, purpose) for i in ids],
+        )

@@ -1,0 +1,211 @@
+"""The store's schema, its forward migrations, the connection, transactions and meta values."""
+
+from __future__ import annotations
+
+import sqlite3
+from collections.abc import Iterator
+from contextlib import contextmanager
+from datetime import UTC, datetime
+from pathlib import Path
+
+from extractor.errors import WorkspaceError
+
+SCHEMA_V1 = """
+CREATE TABLE meta (
+    key TEXT PRIMARY KEY,
+    value TEXT NOT NULL
+);
+CREATE TABLE sources (
+    id INTEGER PRIMARY KEY,
+    path TEXT NOT NULL,
+    sha256 TEXT NOT NULL,
+    kind TEXT NOT NULL,
+    options TEXT NOT NULL DEFAULT '{}',
+    added_at TEXT NOT NULL,
+    n_new_answers INTEGER NOT NULL DEFAULT 0,
+    UNIQUE (path, sha256)
+);
+CREATE TABLE respondents (
+    id INTEGER PRIMARY KEY,
+    external_id TEXT NOT NULL UNIQUE,
+    metadata TEXT NOT NULL DEFAULT '{}',
+    is_group INTEGER NOT NULL DEFAULT 0,
+    created_at TEXT NOT NULL
+);
+CREATE TABLE answers (
+    id INTEGER PRIMARY KEY,
+    respondent_id INTEGER NOT NULL REFERENCES respondents (id),
+    source_id INTEGER NOT NULL REFERENCES sources (id),
+    question TEXT,
+    text TEXT NOT NULL,
+    lang TEXT NOT NULL,
+    lang_origin TEXT NOT NULL CHECK (lang_origin IN ('column', 'detected', 'default')),
+    variety TEXT,
+    speaker TEXT,
+    sheet TEXT,
+    row INTEGER,
+    fingerprint TEXT NOT NULL UNIQUE
+);
+CREATE TABLE sentences (
+    id INTEGER PRIMARY KEY,
+    answer_id INTEGER NOT NULL REFERENCES answers (id),
+    position INTEGER NOT NULL,
+    start INTEGER NOT NULL,
+    end INTEGER NOT NULL,
+    UNIQUE (answer_id, start)
+);
+CREATE TABLE concept_versions (
+    id INTEGER PRIMARY KEY,
+    kind TEXT NOT NULL CHECK (kind IN ('trait', 'variety')),
+    path TEXT NOT NULL,
+    sha256 TEXT NOT NULL,
+    imported_at TEXT NOT NULL,
+    n_concepts INTEGER NOT NULL,
+    n_aliases INTEGER NOT NULL
+);
+CREATE TABLE concepts (
+    id TEXT PRIMARY KEY,
+    kind TEXT NOT NULL CHECK (kind IN ('trait', 'variety')),
+    parent TEXT,
+    definition TEXT,
+    version_id INTEGER NOT NULL REFERENCES concept_versions (id),
+    active INTEGER NOT NULL DEFAULT 1
+);
+CREATE TABLE aliases (
+    id INTEGER PRIMARY KEY,
+    concept_id TEXT NOT NULL REFERENCES concepts (id),
+    text TEXT NOT NULL,
+    lang TEXT NOT NULL,
+    kind TEXT NOT NULL CHECK (kind IN ('preferred', 'alternative', 'hidden')),
+    origin TEXT NOT NULL CHECK (origin IN ('list', 'annotator')),
+    added_by TEXT,
+    added_at TEXT NOT NULL,
+    UNIQUE (concept_id, text, lang)
+);
+CREATE TABLE labels (
+    id INTEGER PRIMARY KEY,
+    sentence_id INTEGER NOT NULL REFERENCES sentences (id),
+    annotator TEXT NOT NULL,
+    created_at TEXT NOT NULL,
+    action TEXT NOT NULL CHECK (action IN ('label', 'retract')),
+    spans TEXT NOT NULL DEFAULT '[]',
+    retracts INTEGER REFERENCES labels (id),
+    origin TEXT NOT NULL DEFAULT 'terminal'
+);
+CREATE INDEX labels_sentence ON labels (sentence_id);
+CREATE TABLE skips (
+    sentence_id INTEGER NOT NULL REFERENCES sentences (id),
+    annotator TEXT NOT NULL,
+    created_at TEXT NOT NULL
+);
+CREATE TABLE models (
+    version TEXT PRIMARY KEY,
+    created_at TEXT NOT NULL,
+    path TEXT NOT NULL,
+    meta TEXT NOT NULL,
+    metrics TEXT NOT NULL DEFAULT '{}'
+);
+CREATE TABLE predictions (
+    sentence_id INTEGER NOT NULL REFERENCES sentences (id),
+    model_version TEXT NOT NULL REFERENCES models (version),
+    path_prob REAL,
+    spans TEXT NOT NULL DEFAULT '[]',
+    PRIMARY KEY (sentence_id, model_version)
+);
+CREATE TABLE samples (
+    sentence_id INTEGER NOT NULL REFERENCES sentences (id),
+    purpose TEXT NOT NULL CHECK (purpose IN ('evaluation', 'stop')),
+    PRIMARY KEY (sentence_id, purpose)
+);
+"""
+
+MIGRATIONS: tuple[str, ...] = (SCHEMA_V1,)
+"""Forward migrations; ``MIGRATIONS[i]`` takes the schema from version ``i`` to ``i + 1``."""
+
+SCHEMA_VERSION = len(MIGRATIONS)
+
+
+def now() -> str:
+    """Return the current UTC time as an ISO 8601 string (seconds)."""
+    return datetime.now(UTC).isoformat(timespec="seconds")
+
+
+def connect(path: Path, *, create: bool = False) -> sqlite3.Connection:
+    """Open (or create) the store at ``path`` and bring its schema up to date.
+
+    Raises:
+        WorkspaceError: the file is missing (and ``create`` is false), is not an SQLite
+            database, or was written by a newer version of the tool.
+    """
+    if not create and not path.exists():
+        raise WorkspaceError(f"{path} does not exist; run `traits init` to create a workspace.")
+    try:
+        conn = sqlite3.connect(path, isolation_level=None, timeout=30)
+        conn.row_factory = sqlite3.Row
+        conn.execute("PRAGMA journal_mode=WAL")
+        conn.execute("PRAGMA foreign_keys=ON")
+        conn.execute("PRAGMA synchronous=NORMAL")
+        migrate(conn)
+    except sqlite3.DatabaseError as exc:
+        raise WorkspaceError(
+            f"{path} is not a readable trait-extractor store ({exc}); restore it from a backup "
+            "or create a new workspace with `traits init`."
+        ) from exc
+    return conn
+
+
+def migrate(conn: sqlite3.Connection) -> int:
+    """Apply pending forward migrations in one transaction and return the schema version."""
+    version = conn.execute("PRAGMA user_version").fetchone()[0]
+    if version > SCHEMA_VERSION:
+        raise WorkspaceError(
+            f"This workspace uses store schema {version}, newer than this tool's "
+            f"{SCHEMA_VERSION}; upgrade trait-extractor to open it."
+        )
+    if version == SCHEMA_VERSION:
+        return version
+    with transaction(conn):
+        for step in range(version, SCHEMA_VERSION):
+            for statement in MIGRATIONS[step].split(";"):
+                if statement.strip():
+                    conn.execute(statement)
+        # PRAGMA cannot take parameters; the value is our own integer.
+        conn.execute(f"PRAGMA user_version = {SCHEMA_VERSION}")
+    return SCHEMA_VERSION
+
+
+def schema_version(conn: sqlite3.Connection) -> int:
+    """Return the store's schema version."""
+    return int(conn.execute("PRAGMA user_version").fetchone()[0])
+
+
+@contextmanager
+def transaction(conn: sqlite3.Connection) -> Iterator[sqlite3.Connection]:
+    """Run a block in one write transaction: all of it is stored, or none of it."""
+    if conn.in_transaction:
+        # Nested use joins the outer transaction, which commits or rolls back as a whole.
+        yield conn
+        return
+    conn.execute("BEGIN IMMEDIATE")
+    try:
+        yield conn
+    except BaseException:
+        conn.execute("ROLLBACK")
+        raise
+    conn.execute("COMMIT")
+
+
+def get_meta(conn: sqlite3.Connection, key: str) -> str | None:
+    """Return a value from the meta table, or None."""
+    row = conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
+    return None if row is None else str(row["value"])
+
+
+def set_meta(conn: sqlite3.Connection, key: str, value: str) -> None:
+    """Set a value in the meta table."""
+    with transaction(conn):
+        conn.execute(
+            "INSERT INTO meta (key, value) VALUES (?, ?) "
+            "ON CONFLICT (key) DO UPDATE SET value = excluded.value",
+            (key, value),
+        )
