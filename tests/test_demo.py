@@ -23,7 +23,7 @@ def demo(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
     from extractor.workspace.folder import init_workspace
 
     root = init_workspace(tmp_path_factory.mktemp("demo"))
-    ws = Workspace(root)
+    ws = Workspace.open(root)
     add_files(ws, interview_files(SAMPLE / "interviews"))
     import_concepts(ws, SAMPLE / "concepts.csv")
     yield ws
@@ -51,7 +51,7 @@ def test_every_demo_sentence_round_trips_into_its_answer(demo: Workspace) -> Non
 def test_readding_the_demo_changes_nothing(demo: Workspace) -> None:
     before = store.counts(demo.conn)
     reports = add_files(demo, interview_files(SAMPLE / "interviews"))
-    assert {r["status"] for r in reports} == {"unchanged"}
+    assert {r.status for r in reports} == {"unchanged"}
     assert store.counts(demo.conn) == before
 
 

@@ -7,16 +7,75 @@ and then stored in one transaction: a bad file leaves the store exactly as it wa
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.errors import InputError
 from extractor.ingest.concepts import file_sha256, load_concept_list
 from extractor.ingest.reader import SUFFIXES, read_interviews
+from extractor.ingest.tables import ReadResult
 from extractor.nlp.text import split_sentences
 from extractor.progress import track
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
+
+
+@dataclass(frozen=True)
+class FileReport:
+    """What adding one interview file did.
+
+    Attributes:
+        path: The file as recorded in the store (see :func:`stored_path`).
+        status: ``"added"``, ``"no new answers"`` or ``"unchanged"`` (same content
+            as a file added before; nothing was read).
+        warnings: What the reader noticed, one sentence each.
+        layout: ``"long"``, ``"wide"``, ``"mixed"`` or ``"transcript"``; empty when
+            the file was unchanged.
+        respondents: New respondents stored; ``None`` when the file was unchanged.
+        answers: New answers stored; ``None`` when the file was unchanged.
+        sentences: New sentences stored; ``None`` when the file was unchanged.
+    """
+
+    path: str
+    status: str
+    warnings: tuple[str, ...] = ()
+    layout: str = ""
+    respondents: int | None = None
+    answers: int | None = None
+    sentences: int | None = None
+
+
+@dataclass(frozen=True)
+class ConceptImport:
+    """What importing a concept (or variety) list did.
+
+    Attributes:
+        status: ``"imported"``, or ``"unchanged"`` when this exact file is the current
+            list already.
+        path: The list as recorded in the store.
+        concepts: How many concepts the current list holds.
+        aliases: How many aliases the current list holds.
+        warnings: What validation noticed, one sentence each.
+        version: The new list version; ``None`` when unchanged.
+    """
+
+    status: str
+    path: str
+    concepts: int
+    aliases: int
+    warnings: tuple[str, ...] = ()
+    version: int | None = None
+
+
+class _Pending(NamedTuple):
+    """One interview file read and segmented, waiting to be stored."""
+
+    where: str
+    sha256: str
+    result: ReadResult
+    offsets: list[list[tuple[int, int]]]
+    options: dict[str, Any]
 
 
 def stored_path(ws: Workspace, path: Path) -> str:
@@ -28,70 +87,91 @@ def stored_path(ws: Workspace, path: Path) -> str:
         return resolved.as_posix()
 
 
+def _check_file(path: Path) -> None:
+    """Refuse a missing path or a folder, naming it."""
+    if not path.exists():
+        raise InputError(f"{path} does not exist; check the path and try again.")
+    if path.is_dir():
+        raise InputError(f"{path} is a folder; give the interview files inside it.")
+
+
+def _read(
+    ws: Workspace,
+    path: Path,
+    where: str,
+    sha: str,
+    sheet: str | None,
+    mapping: dict[str, Any] | None,
+) -> _Pending:
+    """Read and segment one interview file without storing anything."""
+    settings = ws.settings.workspace
+    result = read_interviews(
+        path,
+        sheet=sheet,
+        mapping=mapping,
+        default_lang=settings.default_language,
+        languages=settings.languages,
+    )
+    offsets = [
+        split_sentences(row["answer"], row["lang"])
+        for row in track(result.rows, f"Segmenting {path.name}", len(result.rows))
+    ]
+    options = {"sheet": sheet, "mapping": mapping, "layout": result.layout}
+    options["encoding"] = result.encoding
+    return _Pending(where, sha, result, offsets, options)
+
+
+def _store(ws: Workspace, pending: _Pending) -> FileReport:
+    """Store one read file (inside the caller's transaction) and report what it added."""
+    counts = store.add_source(
+        ws.conn,
+        path=pending.where,
+        sha256=pending.sha256,
+        kind=pending.result.kind,
+        options=pending.options,
+        rows=pending.result.rows,
+        sentence_offsets=pending.offsets,
+    )
+    return FileReport(
+        path=pending.where,
+        status="added" if counts["answers"] else "no new answers",
+        warnings=tuple(pending.result.warnings),
+        layout=pending.result.layout,
+        respondents=counts["respondents"],
+        answers=counts["answers"],
+        sentences=counts["sentences"],
+    )
+
+
 def add_files(
     ws: Workspace,
     paths: Sequence[Path],
     *,
     sheet: str | None = None,
     mapping: dict[str, Any] | None = None,
-) -> list[dict[str, Any]]:
+) -> list[FileReport]:
     """Read, segment and store interview files; return one report per file.
 
     A file already added with the same content is skipped; a changed file adds only
-    its new answers.
+    its new answers. Unchanged files are reported first, then the stored ones, each
+    group in the order given.
 
     Raises:
         InputError: a file is missing or cannot be read (nothing is stored then).
     """
-    settings = ws.settings["workspace"]
-    mapping = mapping or dict(ws.settings.get("columns") or {}) or None
-    pending = []
-    reports = []
+    mapping = mapping or dict(ws.settings.columns) or None
+    pending: list[_Pending] = []
+    reports: list[FileReport] = []
     for path in paths:
-        if not path.exists():
-            raise InputError(f"{path} does not exist; check the path and try again.")
-        if path.is_dir():
-            raise InputError(f"{path} is a folder; give the interview files inside it.")
+        _check_file(path)
         sha = file_sha256(path)
         where = stored_path(ws, path)
         if store.source_known(ws.conn, where, sha):
-            reports.append({"path": where, "status": "unchanged", "warnings": []})
-            continue
-        result = read_interviews(
-            path,
-            sheet=sheet,
-            mapping=mapping,
-            default_lang=settings["default_language"],
-            languages=settings["languages"],
-        )
-        offsets = [
-            split_sentences(row["answer"], row["lang"])
-            for row in track(result.rows, f"Segmenting {path.name}", len(result.rows))
-        ]
-        options = {"sheet": sheet, "mapping": mapping, "layout": result.layout}
-        options["encoding"] = result.encoding
-        pending.append((where, sha, result, offsets, options))
+            reports.append(FileReport(path=where, status="unchanged"))
+        else:
+            pending.append(_read(ws, path, where, sha, sheet, mapping))
     with store.transaction(ws.conn):
-        for where, sha, result, offsets, options in pending:
-            counts = store.add_source(
-                ws.conn,
-                path=where,
-                sha256=sha,
-                kind=result.kind,
-                options=options,
-                rows=result.rows,
-                sentence_offsets=offsets,
-            )
-            status = "added" if counts["answers"] else "no new answers"
-            reports.append(
-                {
-                    "path": where,
-                    "status": status,
-                    "layout": result.layout,
-                    "warnings": list(result.warnings),
-                }
-                | counts
-            )
+        reports += [_store(ws, item) for item in pending]
     return reports
 
 
@@ -102,29 +182,26 @@ def interview_files(folder: Path) -> list[Path]:
     return sorted(
         p
         for p in folder.iterdir()
-        if p.is_file()
-        and p.suffix.lower() in SUFFIXES
-        and not p.name.startswith((".", "~$"))
+        if p.is_file() and p.suffix.lower() in SUFFIXES and not p.name.startswith((".", "~$"))
     )
 
 
-def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> dict[str, Any]:
+def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> ConceptImport:
     """Validate and store a concept (or variety) list unless this exact version is current.
 
-    Returns:
-        A report: ``status`` ("imported" or "unchanged"), counts and warnings.
+    Raises:
+        InputError: The list is missing or breaks the concept-list format.
     """
     current = store.current_concept_version(ws.conn, kind)
     sha = file_sha256(path) if path.exists() else None
     if current is not None and sha == current["sha256"]:
-        return {
-            "status": "unchanged",
-            "path": current["path"],
-            "warnings": [],
-            "concepts": current["n_concepts"],
-            "aliases": current["n_aliases"],
-        }
-    loaded = load_concept_list(path, default_lang=ws.settings["workspace"]["default_language"])
+        return ConceptImport(
+            status="unchanged",
+            path=current["path"],
+            concepts=current["n_concepts"],
+            aliases=current["n_aliases"],
+        )
+    loaded = load_concept_list(path, default_lang=ws.settings.workspace.default_language)
     version = store.replace_concept_list(
         ws.conn,
         kind=kind,
@@ -133,11 +210,11 @@ def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> dict[s
         concepts=loaded.concepts,
         aliases=loaded.aliases,
     )
-    return {
-        "status": "imported",
-        "version": version,
-        "path": stored_path(ws, path),
-        "concepts": len(loaded.concepts),
-        "aliases": len(loaded.aliases),
-        "warnings": loaded.warnings,
-    }
+    return ConceptImport(
+        status="imported",
+        path=stored_path(ws, path),
+        concepts=len(loaded.concepts),
+        aliases=len(loaded.aliases),
+        warnings=tuple(loaded.warnings),
+        version=version,
+    )
