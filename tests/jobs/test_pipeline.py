@@ -64,7 +64,7 @@ def test_run_writes_workbook_and_model_version(study: Path) -> None:
     assert "review" in out  # the caution is shown with the results
     book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
     assert len(book.sheetnames) >= 5
-    with Workspace(study) as ws:
+    with Workspace.open(study) as ws:
         version = store.latest_model(ws.conn)["version"]
         assert (study / "models" / version / "meta.json").is_file()
         predicted = store.predictions(ws.conn, version)
@@ -96,7 +96,7 @@ def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: P
     assert run("-w", str(study), "import-labels", str(labels))[0] == 0
     code, out = run("-w", str(study), "run")
     assert code == 0 and "No new interviews" in out
-    with Workspace(study) as ws:
+    with Workspace.open(study) as ws:
         assert len(store.current_labels(ws.conn)) == 1
         assert len(store.models(ws.conn)) == 2
 
@@ -150,7 +150,7 @@ def test_label_over_a_pipe_stores_one_label_per_enter(
         monkeypatch=monkeypatch,
     )
     assert code == 0, out
-    with Workspace(study) as ws:
+    with Workspace.open(study) as ws:
         labels = store.current_labels(ws.conn)
     assert len(labels) == 3 and {v["annotator"] for v in labels.values()} == {"tester"}
 
@@ -272,7 +272,7 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
 )
 def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> None:
     run("-w", str(study), "run")
-    with Workspace(study) as ws:
+    with Workspace.open(study) as ws:
         version = store.latest_model(ws.conn)["version"]
     (study / "models" / version / name).write_bytes(b"\x00 not a model file")
     code, out = run("-w", str(study), "label", "--annotator", "x")
@@ -326,7 +326,7 @@ def test_evaluate_prints_tables_and_says_when_the_version_is_stale(
     assert run("-w", str(study), "train")[0] == 0
     code, out = run("-w", str(study), "evaluate", "--folds", "3")
     assert code == 0 and "learned from" not in out
-    with Workspace(study) as ws:
+    with Workspace.open(study) as ws:
         latest = store.latest_model(ws.conn)
     assert "cross_validation" in latest["metrics"] and "evaluation_sample" in latest["metrics"]
     assert latest["version"] in out
@@ -342,7 +342,7 @@ def test_train_with_labels_from_one_respondent_skips_cross_validation(
     code, out = run("-w", str(study), "train")
     assert code == 0, out
     assert "one respondent" in out
-    with Workspace(study) as ws:
+    with Workspace.open(study) as ws:
         assert "cross_validation" not in store.latest_model(ws.conn)["meta"]["metrics"]
 
 
