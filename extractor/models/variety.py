@@ -13,7 +13,7 @@ mention is attributed to, in order:
 
 A comparison ("bigger than the old Mbegu", "plus rapide que Kivuli", "más grande que
 el Mbegu", "compared to Mbegu, ...") also records the reference variety: the one
-right after the comparison marker (:func:`extractor.models.stance.find_comparisons`).
+right after the comparison marker (:func:`extractor.models.cues.find_comparisons`).
 """
 
 from __future__ import annotations
@@ -21,7 +21,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from typing import Protocol, runtime_checkable
 
-from extractor.models.stance import Cues, find_comparisons
+from extractor.models.cues import Cues, find_comparisons
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize

@@ -1,17 +1,19 @@
-"""Tests of extractor.models.stance: cue lexicon, NegEx-style negation, rules, model, MAMS check."""
+"""Tests of extractor.models.stance: the learned stance model, its persistence, a MAMS check."""
 
 from __future__ import annotations
 
-import json
 import time
 from collections import Counter
 from pathlib import Path
 
 import numpy as np
 import pytest
+from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError
-from extractor.models.stance import StanceModel, load_cues, rule_stance, stance_features
+from extractor.models.cues import load_cues, rule_stance
+from extractor.models.stance import StanceModel
+from extractor.models.stance_features import stance_features
 from extractor.types import STANCES, Sentence, Span
 
 CUES = load_cues()
@@ -30,194 +32,6 @@ def _mention(
 def _features(text: str, term: str, lang: str = "en", question: str | None = None) -> dict:
     sentence, span = _mention(text, term, lang, question)
     return stance_features(sentence, span, CUES)
-
-
-# ------------------------------------------------------------------ cue lexicon
-
-
-def test_load_cues_has_three_languages_and_documents_its_shape() -> None:
-    assert {"en", "fr", "es"} <= set(CUES)
-    assert "negation_pre" in CUES["fr"] and "wanted" in CUES["es"]
-    assert "_comment" in json.loads(
-        Path("extractor/models/data/stance_cues.json").read_text("utf-8")
-    )
-
-
-def test_load_cues_merges_user_file_over_packaged(tmp_path: Path) -> None:
-    user = tmp_path / "cues.json"
-    user.write_text(json.dumps({"en": {"liked": ["zingy"]}, "sw": {"liked": ["tamu"]}}), "utf-8")
-    cues = load_cues(user)
-    assert "zingy" in cues["en"]["liked"] and "good" in cues["en"]["liked"]
-    assert cues["sw"]["liked"] == ["tamu"]
-    features = stance_features(*_mention("Its flavour is zingy.", "flavour"), cues)
-    assert rule_stance(features)[0] == "liked"
-
-
-@pytest.mark.parametrize(
-    ("content", "message"),
-    [
-        ("{not json", "not readable JSON"),
-        (json.dumps({"en": {"lovely_words": ["x"]}}), "category 'lovely_words'"),
-        (json.dumps({"en": {"liked": "good"}}), "must be a list"),
-    ],
-    ids=["broken-json", "unknown-category", "not-a-list"],
-)
-def test_load_cues_rejects_bad_user_file(tmp_path: Path, content: str, message: str) -> None:
-    user = tmp_path / "cues.json"
-    user.write_text(content, "utf-8")
-    with pytest.raises(InputError, match=message):
-        load_cues(user)
-
-
-def test_load_cues_missing_file_raises(tmp_path: Path) -> None:
-    with pytest.raises(InputError, match="does not exist"):
-        load_cues(tmp_path / "nope.json")
-
-
-# ------------------------------------------------------------------ negation (NegEx)
-# Triggers below come from the NegEx lists (Chapman et al., 2001, J Biomed Inform
-# 34:301-310), recalled from memory: pre-negation "no", "not", "denies", "without",
-# "no evidence of"; post-negation "unlikely", "free"; pseudo-negation "no increase",
-# "not only"; termination "but"; scope of five words.
-
-
-@pytest.mark.parametrize(
-    ("text", "term", "negated"),
-    [
-        ("The field showed no rot this season.", "rot", True),
-        ("The farmer denies any rot in the store.", "rot", True),
-        ("We harvested it without pests.", "pests", True),
-        ("There is no evidence of weevils in the sacks.", "weevils", True),
-        ("Pod shattering is unlikely with Tembala.", "Pod shattering", True),
-        ("The seed stays weevil free.", "weevil", True),
-        ("There was no increase in yield.", "yield", False),
-        ("It is not only the taste that we value.", "taste", False),
-        ("No rot in the store but the pods split.", "pods", False),
-        ("No rot in the store but the pods split.", "rot", True),
-        ("It is not true that after three long dry seasons the pods split.", "pods", False),
-    ],
-    ids=[
-        "pre-no",
-        "pre-denies",
-        "pre-without",
-        "pre-no-evidence-of",
-        "post-unlikely",
-        "post-free",
-        "pseudo-no-increase",
-        "pseudo-not-only",
-        "termination-but-after",
-        "termination-but-before",
-        "beyond-five-word-scope",
-    ],
-)
-def test_stance_features_negation_scope_follows_negex(text: str, term: str, negated: bool) -> None:
-    assert bool(_features(text, term).get("span_negated")) is negated
-
-
-@pytest.mark.parametrize(
-    ("text", "term", "lang"),
-    [
-        ("Le grain ne pourrit pas au grenier.", "pourrit", "fr"),
-        ("Sans charançons, même après six mois.", "charançons", "fr"),
-        ("El grano no se pudre en el granero.", "se pudre", "es"),
-        ("Sin gorgojos en el almacén.", "gorgojos", "es"),
-    ],
-    ids=["fr-ne-pas", "fr-sans", "es-no", "es-sin"],
-)
-def test_stance_features_negation_in_french_and_spanish(text: str, term: str, lang: str) -> None:
-    assert _features(text, term, lang).get("span_negated")
-
-
-def test_stance_features_sin_embargo_is_not_negation() -> None:
-    # "sin embargo" (however) holds the trigger "sin" but negates nothing.
-    features = _features("Sin embargo el sabor es bueno.", "sabor", "es")
-    assert not features.get("span_negated")
-    assert features.get("after_contrast")
-
-
-# ------------------------------------------------------------------ span words are not evidence
-
-
-def test_stance_features_never_include_the_span_words() -> None:
-    features = _features("People say the bitterness is welcome in the sauce.", "bitterness")
-    assert not any("bitterness" in key for key in features)
-
-
-def test_stance_features_same_context_gives_same_features_whatever_the_trait() -> None:
-    # Bitterness can be welcome: the trait word must not move the stance.
-    bitter = _features("We really like the bitterness of Tembala.", "bitterness")
-    sweet = _features("We really like the sweetness of Tembala.", "sweetness")
-    assert bitter == sweet
-
-
-# ------------------------------------------------------------------ cold-start rules
-
-
-@pytest.mark.parametrize(
-    ("text", "term", "lang", "question", "expected"),
-    [
-        ("It does not rot in the store.", "rot", "en", None, "liked"),
-        ("The seeds are too small.", "small", "en", None, "disliked"),
-        ("Les grains sont trop petits.", "petits", "fr", None, "disliked"),
-        ("Los granos son demasiado pequeños.", "pequeños", "es", None, "disliked"),
-        ("I wish the pods were longer.", "pods", "en", None, "wanted"),
-        ("J'aimerais une cuisson plus rapide.", "cuisson", "fr", None, "wanted"),
-        ("Il faudrait des grains plus gros.", "grains", "fr", None, "wanted"),
-        ("Ojalá el grano fuera más grande.", "grano", "es", None, "wanted"),
-        ("Quisiera un sabor más dulce.", "sabor", "es", None, "wanted"),
-        ("The taste is good but the pods split.", "taste", "en", None, "liked"),
-        ("The taste is good but the pods split.", "pods", "en", None, "disliked"),
-        ("Le goût est bon mais la cuisson est lente.", "cuisson", "fr", None, "disliked"),
-        (
-            "El sabor es bueno pero tarda en cocinarse.",
-            "tarda en cocinarse",
-            "es",
-            None,
-            "disliked",
-        ),
-        ("Its taste is not good.", "taste", "en", None, "disliked"),
-        ("Its seeds are bigger than those of Kivuli.", "seeds", "en", None, "liked"),
-        ("Small seeds.", "seeds", "en", "What do you dislike about Ruvaro?", "disliked"),
-        ("Small seeds.", "seeds", "en", "What would you change in Ruvaro?", "wanted"),
-        ("Small seeds.", "seeds", "en", "Why do you grow Ruvaro?", "liked"),
-        ("Small seeds.", "seeds", "en", None, "neutral"),
-        ("Des grains rouges.", "grains", "fr", "Qu'est-ce que vous n'aimez pas ?", "disliked"),
-    ],
-    ids=[
-        "negated-fault",
-        "excess-en",
-        "excess-fr",
-        "excess-es",
-        "wish-en",
-        "wish-fr",
-        "il-faudrait",
-        "ojala",
-        "quisiera",
-        "contrast-first-side",
-        "contrast-second-side",
-        "contrast-fr",
-        "contrast-es",
-        "negated-cue",
-        "comparison",
-        "question-dislike",
-        "question-change",
-        "question-why-grow",
-        "no-cue",
-        "question-fr-negated-like",
-    ],
-)
-def test_rule_stance_reads_cues(
-    text: str, term: str, lang: str, question: str | None, expected: str
-) -> None:
-    stance, confidence = rule_stance(_features(text, term, lang, question))
-    assert stance == expected
-    assert 0.0 < confidence < 1.0
-
-
-def test_rule_stance_is_more_confident_with_a_cue_than_from_the_question_alone() -> None:
-    cue = rule_stance(_features("The seeds are too small.", "seeds"))[1]
-    question = rule_stance(_features("Small seeds.", "seeds", question="What do you dislike?"))[1]
-    assert cue > question
 
 
 # ------------------------------------------------------------------ model
@@ -352,3 +166,18 @@ def test_stance_model_load_refuses_a_swapped_model_file(tmp_path: Path) -> None:
     skops.io.dump(foreign, tmp_path / "m" / "stance.skops")
     with pytest.raises(ModelError, match="does not hold the Pipeline this tool saves"):
         StanceModel.load(tmp_path / "m")
+
+
+def test_stance_model_clone_gives_an_unfitted_copy_with_the_same_params() -> None:
+    # scikit-learn's clone is the outside reference for the estimator contract: it
+    # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
+    model = StanceModel(C=2.0, class_weight="balanced").fit(_examples())
+    copy = clone(model)
+    assert copy is not model
+    assert copy.get_params() == {
+        "C": 2.0,
+        "class_weight": "balanced",
+        "cues_path": None,
+        "max_iter": 2000,
+    }
+    assert model.is_fitted and not copy.is_fitted

@@ -1,0 +1,439 @@
+"""The stance cue lexicon: loading it, matching it in a sentence, and the rules over it.
+
+The cue lexicon is data (``extractor/models/data/stance_cues.json``) that users extend
+with their own file through :func:`load_cues`. A sentence is read once per lexicon
+(:func:`parse`): its tokens, the cue matches of every category, clause boundaries and a
+NegEx-style negation scope (pre- and post-triggers, pseudo-triggers excluded, scope
+ending at a clause boundary; Chapman et al., 2001). Before any labels exist,
+:func:`rule_stance` gives a sensible answer from the cue features alone, and
+:func:`find_comparisons` finds the comparison markers that variety attribution uses.
+"""
+
+from __future__ import annotations
+
+import json
+from collections import defaultdict
+from collections.abc import Mapping, Sequence
+from functools import lru_cache
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from extractor.errors import InputError
+from extractor.nlp.fold import fold
+from extractor.nlp.text import primary_subtag, tokenize
+from extractor.types import STANCES, Span
+
+CUES_PATH = Path(__file__).parent / "data" / "stance_cues.json"
+"""The packaged cue lexicon."""
+
+CUE_CATEGORIES = (
+    "liked", "disliked", "wanted", "negation_pre", "negation_post", "pseudo_negation",
+    "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
+    "comparison_marker", "question_liked", "question_disliked", "question_wanted",
+)  # fmt: skip
+"""The categories a language section of the cue lexicon may hold."""
+
+Cues = dict[str, Any]
+"""A loaded cue lexicon: language code -> category -> list of cue strings, plus ``_settings``."""
+
+Matches = dict[str, list[tuple[int, int]]]
+"""Cue matches of a sentence: category -> token ranges ``(i, j)``."""
+
+PUNCT_BOUNDARY = frozenset(',;:.!?()[]{}\u2013\u2014\u2026"')
+"""Punctuation tokens that end a clause."""
+
+SENTENCE_END = frozenset(".!?;")
+"""Tokens that end a sentence (and so a contrast segment)."""
+
+
+# --------------------------------------------------------------------------- loading
+
+
+def load_cues(path: str | Path | None = None) -> Cues:
+    """Return the packaged cue lexicon, with a user's cue file merged over it.
+
+    Args:
+        path: A JSON file of the same shape as ``extractor/models/data/stance_cues.json``
+            (see its ``_comment``); its lists are appended to the packaged lists of
+            the same language and category, new languages are added, and its
+            ``_settings`` override the packaged ones. ``None`` gives the packaged lexicon.
+
+    Returns:
+        The merged lexicon.
+
+    Raises:
+        InputError: When the user file is missing, not JSON, or not of that shape.
+    """
+    cues = _read_cues(CUES_PATH)
+    if path is None:
+        return cues
+    user = _read_cues(Path(path))
+    merged: Cues = {k: v for k, v in cues.items() if k != "_comment"}
+    merged["_settings"] = {**cues.get("_settings", {}), **user.get("_settings", {})}
+    for lang, section in user.items():
+        if lang.startswith("_"):
+            continue
+        target = {cat: list(words) for cat, words in merged.get(lang, {}).items()}
+        for cat, words in section.items():
+            target[cat] = target.get(cat, []) + [w for w in words if w not in target.get(cat, [])]
+        merged[lang] = target
+    return merged
+
+
+@lru_cache(maxsize=1)
+def packaged_cues() -> Cues:
+    """Return the packaged lexicon, loaded once and shared (treat it as read-only)."""
+    return load_cues()
+
+
+def _read_cues(path: Path) -> Cues:
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError as exc:
+        raise InputError(
+            f"Cue file {path} does not exist; give the path of a JSON cue file."
+        ) from exc
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputError(
+            f"Cue file {path} is not readable JSON ({exc}); fix it or remove the option."
+        ) from exc
+    if not isinstance(data, dict):
+        raise InputError(
+            f"Cue file {path} must hold a JSON object of languages; got {type(data).__name__}."
+        )
+    for lang, section in data.items():
+        if not lang.startswith("_"):
+            _check_section(path, lang, section)
+    return data
+
+
+def _check_section(path: Path, lang: str, section: Any) -> None:
+    """Raise when one language section is not categories mapped to lists of cue strings."""
+    if not isinstance(section, dict):
+        raise InputError(
+            f"Cue file {path}: language {lang!r} must map categories to lists of cue strings."
+        )
+    for cat, words in section.items():
+        if cat not in CUE_CATEGORIES:
+            raise InputError(
+                f"Cue file {path}: category {cat!r} of language {lang!r} is unknown; "
+                f"use one of {', '.join(CUE_CATEGORIES)}."
+            )
+        if not isinstance(words, list) or not all(isinstance(w, str) and w.strip() for w in words):
+            raise InputError(f"Cue file {path}: {lang}.{cat} must be a list of non-empty strings.")
+
+
+# --------------------------------------------------------------------------- matching
+
+
+def cue_form(word: str) -> str:
+    """Return the matching form of a token: case-folded, no accents, straight apostrophe."""
+    return fold(word).replace("\u2019", "'")
+
+
+class Lexicon:
+    """One language's cues, tokenised and indexed by first word for fast matching.
+
+    Build with :meth:`compile`. Hashed by identity so parsed sentences can be cached
+    per lexicon.
+    """
+
+    __slots__ = ("by_first", "prefixes", "scope", "lang")
+
+    def __init__(
+        self,
+        *,
+        by_first: dict[str, list[tuple[str, tuple[str, ...]]]],
+        prefixes: list[tuple[str, str]],
+        scope: int,
+        lang: str,
+    ) -> None:
+        self.by_first = by_first
+        self.prefixes = prefixes  # single-word wildcard cues: (category, prefix)
+        self.scope = scope
+        self.lang = lang
+
+    @classmethod
+    def compile(cls, section: Mapping[str, Sequence[str]], lang: str, scope: int) -> Lexicon:
+        """Tokenise a language section's cues with that language's tokenizer."""
+        by_first: dict[str, list[tuple[str, tuple[str, ...]]]] = defaultdict(list)
+        prefixes: list[tuple[str, str]] = []
+        for cat, words in section.items():
+            for cue in words:
+                toks = tuple(cue_form(cue[s:e]) for s, e in tokenize(cue, lang))
+                if not toks:
+                    continue
+                if len(toks) == 1 and toks[0].endswith("*"):
+                    prefixes.append((cat, toks[0][:-1]))
+                else:
+                    by_first[toks[0]].append((cat, toks))
+        return cls(by_first=by_first, prefixes=prefixes, scope=scope, lang=lang)
+
+
+_LEXICONS: dict[tuple[int, str], tuple[Cues, Lexicon]] = {}
+
+
+def lexicon(cues: Cues, lang: str) -> Lexicon:
+    """Return the compiled lexicon of a language (empty for a language without cues).
+
+    Compiled lexicons are cached by the identity of ``cues``: treat loaded cues as
+    read-only.
+    """
+    code = primary_subtag(lang) if lang else ""
+    key = (id(cues), code)
+    hit = _LEXICONS.get(key)
+    if hit is None or hit[0] is not cues:
+        if len(_LEXICONS) > 64:
+            _LEXICONS.clear()  # user cue files loaded again are new objects; stay bounded
+        scope = int(cues.get("_settings", {}).get("negation_scope", 5))
+        hit = (cues, Lexicon.compile(cues.get(code, {}), lang or "xx", scope))
+        _LEXICONS[key] = hit
+    return hit[1]
+
+
+def _match_cue(words: Sequence[str], i: int, toks: tuple[str, ...]) -> bool:
+    if i + len(toks) > len(words):
+        return False
+    for w, t in zip(words[i : i + len(toks)], toks, strict=False):
+        if t.endswith("*") and len(t) > 1:
+            if not w.startswith(t[:-1]):
+                return False
+        elif w != t:
+            return False
+    return True
+
+
+def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
+    """Return every cue match per category as token ranges ``(i, j)``."""
+    found: Matches = defaultdict(list)
+    for i, w in enumerate(words):
+        for cat, toks in lex.by_first.get(w, ()):
+            if _match_cue(words, i, toks):
+                found[cat].append((i, i + len(toks)))
+        for cat, prefix in lex.prefixes:
+            if w.startswith(prefix):
+                found[cat].append((i, i + 1))
+    return found
+
+
+# --------------------------------------------------------------------------- parsing
+
+
+class Parsed:
+    """Tokens of a sentence with cue matches, clause boundaries and negation marks.
+
+    Build with :meth:`read` (or the cached :func:`parse`).
+    """
+
+    __slots__ = ("offsets", "words", "matches", "boundary", "negated", "trigger", "contrast")
+
+    def __init__(
+        self,
+        *,
+        offsets: list[tuple[int, int]],
+        words: list[str],
+        matches: Matches,
+        boundary: list[bool],
+        negated: list[bool],
+        trigger: list[bool],
+        contrast: list[bool],
+    ) -> None:
+        self.offsets = offsets
+        self.words = words
+        self.matches = matches
+        self.boundary = boundary
+        self.negated = negated
+        self.trigger = trigger
+        self.contrast = contrast
+
+    @classmethod
+    def read(cls, text: str, lex: Lexicon) -> Parsed:
+        """Tokenise ``text``, match the lexicon and mark boundaries and negation scopes."""
+        offsets = tokenize(text, lex.lang)
+        words = [cue_form(text[s:e]) for s, e in offsets]
+        found = _find_all(words, lex)
+        boundary = _boundaries(words, found)
+        contrast = [False] * len(words)
+        for i, _ in found.get("contrast", ()):
+            contrast[i] = True
+        trigger, negated = _negation(found, boundary, lex.scope)
+        return cls(
+            offsets=offsets,
+            words=words,
+            matches=found,
+            boundary=boundary,
+            negated=negated,
+            trigger=trigger,
+            contrast=contrast,
+        )
+
+
+def _boundaries(words: Sequence[str], found: Matches) -> list[bool]:
+    """Return, per token, whether it ends a clause (punctuation or a boundary cue)."""
+    boundary = [w in PUNCT_BOUNDARY for w in words]
+    for cat in ("termination", "contrast", "clause_break"):
+        for i, j in found.get(cat, ()):
+            boundary[i:j] = [True] * (j - i)
+    return boundary
+
+
+def _negation(
+    found: Matches, boundary: Sequence[bool], scope: int
+) -> tuple[list[bool], list[bool]]:
+    """Return the NegEx trigger tokens and the tokens in a negation scope."""
+    n = len(boundary)
+    # Pseudo-triggers (and excess phrases such as "not enough") contain a trigger
+    # word but negate nothing; NegEx matches them first and skips their tokens.
+    masked = [False] * n
+    for cat in ("pseudo_negation", "excess"):
+        for i, j in found.get(cat, ()):
+            masked[i:j] = [True] * (j - i)
+    trigger = [False] * n
+    negated = [False] * n
+    for i, j in found.get("negation_pre", ()):
+        if any(masked[i:j]):
+            continue
+        trigger[i:j] = [True] * (j - i)
+        k = j
+        while k < n and k < j + scope and not boundary[k]:
+            negated[k] = True
+            k += 1
+    for i, j in found.get("negation_post", ()):
+        if any(masked[i:j]):
+            continue
+        trigger[i:j] = [True] * (j - i)
+        k = i - 1
+        while k >= 0 and k >= i - scope and not boundary[k]:
+            negated[k] = True
+            k -= 1
+    return trigger, negated
+
+
+@lru_cache(maxsize=8192)
+def parse(text: str, lex: Lexicon) -> Parsed:
+    """Return :meth:`Parsed.read` of ``text``, cached per text and lexicon."""
+    return Parsed.read(text, lex)
+
+
+def span_tokens(parsed: Parsed, span: Span) -> tuple[int, int]:
+    """Return the token range ``[a, b)`` covering the span (empty range at its place if none)."""
+    inside = [k for k, (s, e) in enumerate(parsed.offsets) if s < span.end and e > span.start]
+    if inside:
+        return inside[0], inside[-1] + 1
+    before = sum(1 for s, _ in parsed.offsets if s < span.start)
+    return before, before
+
+
+def clause(parsed: Parsed, a: int, b: int) -> tuple[int, int]:
+    """Return the token range of the clause around ``[a, b)``, boundaries excluded."""
+    lo = a
+    while lo > 0 and not parsed.boundary[lo - 1]:
+        lo -= 1
+    hi = b
+    while hi < len(parsed.words) and not parsed.boundary[hi]:
+        hi += 1
+    return lo, hi
+
+
+def segment(parsed: Parsed, a: int, b: int) -> tuple[int, int]:
+    """Return the stretch around ``[a, b)`` between contrast words and sentence ends."""
+    lo = a
+    while lo > 0 and not (parsed.contrast[lo - 1] or parsed.words[lo - 1] in SENTENCE_END):
+        lo -= 1
+    hi = b
+    while hi < len(parsed.words) and not (parsed.contrast[hi] or parsed.words[hi] in SENTENCE_END):
+        hi += 1
+    return lo, hi
+
+
+# --------------------------------------------------------------------------- rules
+
+
+def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
+    """Return a stance and a confidence from cue features alone (the cold-start answer).
+
+    The rules, first match wins: a negated wish is disliked; a wish before the span
+    or in its clause is wanted; excess is disliked; a negated fault word in the span
+    is liked and a negated good word disliked; then the net polarity of cues in the
+    clause, then in the contrast segment, then the opposite of the other side of a
+    contrast; a negated span with no cue is disliked (the trait is missing); the
+    praised side of a comparison is liked (the lowered side disliked); then the
+    question's lean; else neutral.
+
+    Args:
+        features: Features from :func:`extractor.models.stance.stance_features`.
+
+    Returns:
+        ``(stance, confidence)`` with confidence in ``[0.4, 0.85]``.
+    """
+    g = features.get
+    if g("wanted_neg", 0) and not g("wanted_before", 0) and not g("wanted_clause", 0):
+        return "disliked", 0.6
+    if g("wanted_before", 0) or g("wanted_clause", 0):
+        return "wanted", 0.75
+    if g("excess_near", 0) or g("excess", 0):
+        return "disliked", 0.75 if g("excess_near", 0) else 0.65
+    if g("span_negated_fault", 0):
+        return "liked", 0.7
+    if g("span_negated_good", 0):
+        return "disliked", 0.7
+    score = g("clause_liked", 0) - g("clause_disliked", 0)
+    if score:
+        return ("liked" if score > 0 else "disliked"), min(0.6 + 0.1 * abs(score), 0.85)
+    seg = g("seg_liked", 0) - g("seg_disliked", 0)
+    if seg:
+        return ("liked" if seg > 0 else "disliked"), 0.55
+    if g("after_contrast", 0) or g("before_contrast", 0):
+        if g("other_side_liked", 0):
+            return "disliked", 0.55
+        if g("other_side_disliked", 0):
+            return "liked", 0.55
+    if g("span_negated", 0):
+        return "disliked", 0.55
+    if g("comparison", 0) and g("span_before_marker", 0):
+        return ("disliked" if g("comparison_less", 0) else "liked"), 0.55
+    for q, stance in (("q_wanted", "wanted"), ("q_disliked", "disliked"), ("q_liked", "liked")):
+        if g(q, 0):
+            return stance, 0.5
+    return "neutral", 0.4
+
+
+def rule_proba(features: Mapping[str, float]) -> np.ndarray:
+    """Return :func:`rule_stance` as a distribution over :data:`~extractor.types.STANCES`."""
+    stance, conf = rule_stance(features)
+    out = np.full(len(STANCES), (1.0 - conf) / (len(STANCES) - 1))
+    out[STANCES.index(stance)] = conf
+    return out
+
+
+# --------------------------------------------------------------------------- comparisons
+
+
+def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tuple[int, int]]:
+    """Return the character offsets of comparison markers ("than", "compared to", "que").
+
+    What follows a marker is the reference of the comparison ("bigger than Kivuli").
+    French and Spanish "que" counts only after a comparative word ("plus ... que",
+    "más ... que"), since it is also a relative pronoun and a conjunction.
+
+    Args:
+        text: One sentence.
+        lang: Its language tag.
+        cues: A lexicon from :func:`load_cues` (the packaged one when ``None``).
+
+    Returns:
+        ``(start, end)`` of each marker, in order.
+    """
+    lex = lexicon(cues if cues is not None else packaged_cues(), lang)
+    p = parse(text, lex)
+    comparatives = [i for i, _ in p.matches.get("comparative", ())]
+    out: list[tuple[int, int]] = []
+    for i, j in sorted(p.matches.get("comparison_marker", ())):
+        if p.words[i] in {"que", "qu'"} and not any(c < i for c in comparatives):
+            continue
+        if out and p.offsets[i][0] < out[-1][1]:
+            continue  # "que" inside "que el": keep the first, longest-starting match
+        out.append((p.offsets[i][0], p.offsets[j - 1][1]))
+    return out

@@ -1,0 +1,247 @@
+"""Stance features of a trait mention, all relative to the span.
+
+Stance is read from the words *around* a mention, never from the mention itself: a
+trait word says nothing about whether it is welcome (bitterness can be wanted), so
+the span's own words are used only to decide whether the mention is negated ("it
+does not rot": a fault under negation reads as liked) or qualified by excess ("too
+small"). Everything else is relative to the span: cue words before and after it
+inside its clause, the negation scope (:mod:`extractor.models.cues`), the side of a
+contrast ("but") the span sits on, comparisons, wishes, and the question the answer
+replied to. The cue rules (:func:`extractor.models.cues.rule_stance`) and the learned
+:class:`extractor.models.stance.StanceModel` both read these features.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from typing import NamedTuple
+
+from extractor.models.cues import (
+    SENTENCE_END,
+    Cues,
+    Lexicon,
+    Parsed,
+    clause,
+    lexicon,
+    parse,
+    segment,
+    span_tokens,
+)
+from extractor.types import Sentence, Span
+
+WINDOW = 5
+"""Tokens either side of a span whose words become context features of the learned model."""
+
+_Features = defaultdict[str, float]
+
+
+class _Where(NamedTuple):
+    """Token ranges of a mention: the span ``[a, b)``, its clause and its contrast segment."""
+
+    a: int
+    b: int
+    lo: int
+    hi: int
+    seg_lo: int
+    seg_hi: int
+
+
+# ------------------------------------------------------------------ features
+
+
+def stance_features(sentence: Sentence, span: Span, cues: Cues) -> dict[str, float]:
+    """Return the stance features of a mention, all relative to the span.
+
+    Named features (used by :func:`~extractor.models.cues.rule_stance` and the model)
+    count cue words before and after the span inside its clause (``cue_liked_before``,
+    ``cue_disliked_after_neg`` when negated...), their net polarity (``clause_liked``,
+    ``clause_disliked``), cues elsewhere in the same contrast segment (``seg_liked``...),
+    negation of the span (``span_negated``, ``span_negated_fault``, ``span_negated_good``),
+    excess (``excess``, ``excess_near``), contrast (``after_contrast``, ``before_contrast``,
+    ``other_side_liked``, ``other_side_disliked``), comparison (``comparison``,
+    ``comparison_less``, ``span_before_marker``, ``span_after_marker``), wishes
+    (``wanted_before``, ``wanted_clause``, ``wanted_neg``) and the question
+    (``q_liked``, ``q_disliked``, ``q_wanted``). Keys starting ``w`` are the words
+    within :data:`WINDOW` tokens of the span (``wL:``/``wR:`` by side, ``wL1:``/``wR1:``
+    adjacent, ``wN:`` when negated, ``wC:`` elsewhere in the clause); they never
+    include the span's own words.
+
+    Args:
+        sentence: The sentence holding the mention.
+        span: The mention, in character offsets of ``sentence.text``.
+        cues: A lexicon from :func:`~extractor.models.cues.load_cues`.
+
+    Returns:
+        Feature name -> value; absent features are zero.
+    """
+    lex = lexicon(cues, sentence.lang)
+    p = parse(sentence.text, lex)
+    a, b = span_tokens(p, span)
+    where = _Where(a, b, *clause(p, a, b), *segment(p, a, b))
+    f: _Features = defaultdict(float)
+    in_span = _cue_features(p, where, f)
+    _negation_features(p, where, in_span, f)
+    _excess_features(p, where, f)
+    _contrast_features(p, where, f)
+    _comparison(p, lex, where, f)
+    _question(sentence.question, lex, f)
+    _window_features(p, where, f)
+    return dict(f)
+
+
+def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
+    """Count liked, disliked and wanted cues around the span; return those inside it."""
+    a, b, lo, hi, seg_lo, seg_hi = where
+    in_span: set[str] = set()
+    for cat in ("liked", "disliked", "wanted"):
+        for i, j in p.matches.get(cat, ()):
+            if i < b and j > a:  # cue inside the span: only for negation logic
+                in_span.add(cat)
+                continue
+            side = "before" if j <= a else "after"
+            neg = p.negated[i]
+            if lo <= i and j <= hi:
+                f[f"cue_{cat}_{side}{'_neg' if neg else ''}"] += 1.0
+                dist = a - j if side == "before" else i - b
+                if dist <= 2:
+                    f[f"near_{cat}{'_neg' if neg else ''}"] += 1.0
+                if cat == "wanted":
+                    f["wanted_neg" if neg else "wanted_clause"] += 1.0
+                else:
+                    f[_flip(cat) if neg else f"clause_{cat}"] += 1.0
+            elif seg_lo <= i and j <= seg_hi:
+                if cat == "wanted" and side == "before":
+                    f["wanted_neg" if neg else "wanted_before"] += 1.0
+                elif cat != "wanted":
+                    f["seg_" + (_other(cat) if neg else cat)] += 1.0
+            elif (
+                cat == "wanted"
+                and side == "before"
+                and not any(p.words[k] in SENTENCE_END for k in range(j, a))
+            ):
+                # A wish reaches over a contrast ("I wish it were sweet, but also big").
+                f["wanted_neg" if neg else "wanted_before"] += 1.0
+    return in_span
+
+
+def _negation_features(p: Parsed, where: _Where, in_span: set[str], f: _Features) -> None:
+    """Mark a negated span, and whether the negated words are a fault or a good."""
+    if any(p.negated[k] and not p.trigger[k] for k in range(where.a, where.b)):
+        f["span_negated"] += 1.0
+        if "disliked" in in_span:
+            f["span_negated_fault"] += 1.0
+        if "liked" in in_span:
+            f["span_negated_good"] += 1.0
+
+
+def _excess_features(p: Parsed, where: _Where, f: _Features) -> None:
+    """Count excess phrases ("too small") in the span's clause or inside the span."""
+    a, b, lo, hi = where.a, where.b, where.lo, where.hi
+    for i, j in p.matches.get("excess", ()):
+        if lo <= i and j <= hi or (i < b and j > a):
+            f["excess"] += 1.0
+            if (a - 3 <= i < b) or (i < b and j > a):
+                f["excess_near"] += 1.0
+
+
+def _contrast_features(p: Parsed, where: _Where, f: _Features) -> None:
+    """Mark the side of a contrast the span sits on and the polarity across it."""
+    contrasts = [k for k in range(len(p.words)) if p.contrast[k]]
+    before = [k for k in contrasts if k < where.a]
+    after = [k for k in contrasts if k >= where.b]
+    if before:
+        f["after_contrast"] += 1.0
+        _other_side(p, before[-1], True, f)
+    if after:
+        f["before_contrast"] += 1.0
+        _other_side(p, after[0], False, f)
+
+
+def _window_features(p: Parsed, where: _Where, f: _Features) -> None:
+    """Add the words within :data:`WINDOW` tokens of the span and the rest of its clause."""
+    a, b, lo, hi = where.a, where.b, where.lo, where.hi
+    for k in range(max(0, a - WINDOW), a):
+        _word_feature(p, k, "L", a - k, lo <= k, f)
+    for k in range(b, min(len(p.words), b + WINDOW)):
+        _word_feature(p, k, "R", k - b + 1, k < hi, f)
+    for k in list(range(lo, max(lo, a - WINDOW))) + list(range(min(hi, b + WINDOW), hi)):
+        f[f"wC:{p.words[k]}"] += 1.0
+
+
+def _flip(cat: str) -> str:
+    """Return the clause polarity feature a negated cue adds ("not good" -> disliked)."""
+    return "clause_disliked" if cat == "liked" else "clause_liked"
+
+
+def _other(cat: str) -> str:
+    return "disliked" if cat == "liked" else "liked"
+
+
+def _word_feature(p: Parsed, k: int, side: str, dist: int, in_clause: bool, f: _Features) -> None:
+    word = p.words[k]
+    f[f"w{side}:{word}"] += 1.0
+    if dist == 1:
+        f[f"w{side}1:{word}"] += 1.0
+    if p.negated[k]:
+        f[f"wN:{word}"] += 1.0
+    if not in_clause:
+        f[f"w{side}x:{word}"] += 1.0  # the same word across a clause boundary weighs differently
+
+
+def _other_side(p: Parsed, k: int, span_after: bool, f: _Features) -> None:
+    """Count the net cue polarity across the contrast word at ``k`` from the span."""
+    if span_after:
+        lo = k
+        while lo > 0 and not p.contrast[lo - 1] and p.words[lo - 1] not in SENTENCE_END:
+            lo -= 1
+        rng = (lo, k)
+    else:
+        hi = k + 1
+        while hi < len(p.words) and not p.contrast[hi] and p.words[hi] not in SENTENCE_END:
+            hi += 1
+        rng = (k + 1, hi)
+    score = 0
+    for cat, sign in (("liked", 1), ("disliked", -1)):
+        for i, j in p.matches.get(cat, ()):
+            if rng[0] <= i and j <= rng[1]:
+                score += -sign if p.negated[i] else sign
+    if score > 0:
+        f["other_side_liked"] += 1.0
+    elif score < 0:
+        f["other_side_disliked"] += 1.0
+
+
+def _comparison(p: Parsed, lex: Lexicon, where: _Where, f: _Features) -> None:
+    a, b, lo, hi = where.a, where.b, where.lo, where.hi
+    comparatives = [i for i, _ in p.matches.get("comparative", ())]
+    lessers = [i for i, _ in p.matches.get("comparative_less", ())]
+    for i, j in p.matches.get("comparison_marker", ()):
+        ambiguous = lex.lang != "en" and p.words[i] in {"que", "qu'"}
+        # French and Spanish "que" is a comparison only after a comparative word.
+        if ambiguous and not any(c < i for c in comparatives):
+            continue
+        if not (lo <= i < hi or (j <= a and a - j <= 3) or (b <= i and i - b <= 6)):
+            continue
+        f["comparison"] += 1.0
+        if any(c < i for c in lessers):
+            f["comparison_less"] += 1.0
+        f["span_before_marker" if b <= i else "span_after_marker"] += 1.0
+        return
+
+
+def _question(question: str | None, lex: Lexicon, f: _Features) -> None:
+    """Add the lean of the question the answer replied to."""
+    if not question:
+        return
+    q = parse(question, lex)
+    taken = [False] * len(q.words)
+    # "don't like" holds "like": disliked cues claim their words first, then wishes.
+    for cat in ("question_disliked", "question_wanted", "question_liked"):
+        for i, j in q.matches.get(cat, ()):
+            if any(taken[i:j]):
+                continue
+            if cat == "question_liked" and q.negated[i]:
+                f["q_disliked"] += 1.0  # "what do you not appreciate": a negated like
+            else:
+                f["q_" + cat.split("_", 1)[1]] += 1.0
+            taken[i:j] = [True] * (j - i)

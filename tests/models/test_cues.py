@@ -1,0 +1,160 @@
+"""Tests of extractor.models.cues: the cue lexicon and the cold-start rules over its features."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from extractor.errors import InputError
+from extractor.models.cues import find_comparisons, load_cues, rule_stance
+from extractor.models.stance_features import stance_features
+from extractor.types import Sentence, Span
+
+CUES = load_cues()
+
+
+def _mention(
+    text: str, term: str, lang: str = "en", question: str | None = None, nth: int = 0
+) -> tuple[Sentence, Span]:
+    """Build a sentence and the span of the ``nth`` occurrence of ``term`` in it."""
+    start = -1
+    for _ in range(nth + 1):
+        start = text.index(term, start + 1)
+    return Sentence(id=0, text=text, lang=lang, question=question), Span(start, start + len(term))
+
+
+def _features(text: str, term: str, lang: str = "en", question: str | None = None) -> dict:
+    sentence, span = _mention(text, term, lang, question)
+    return stance_features(sentence, span, CUES)
+
+
+# ------------------------------------------------------------------ cue lexicon
+
+
+def test_load_cues_has_three_languages_and_documents_its_shape() -> None:
+    assert {"en", "fr", "es"} <= set(CUES)
+    assert "negation_pre" in CUES["fr"] and "wanted" in CUES["es"]
+    assert "_comment" in json.loads(
+        Path("extractor/models/data/stance_cues.json").read_text("utf-8")
+    )
+
+
+def test_load_cues_merges_user_file_over_packaged(tmp_path: Path) -> None:
+    user = tmp_path / "cues.json"
+    user.write_text(json.dumps({"en": {"liked": ["zingy"]}, "sw": {"liked": ["tamu"]}}), "utf-8")
+    cues = load_cues(user)
+    assert "zingy" in cues["en"]["liked"] and "good" in cues["en"]["liked"]
+    assert cues["sw"]["liked"] == ["tamu"]
+    features = stance_features(*_mention("Its flavour is zingy.", "flavour"), cues)
+    assert rule_stance(features)[0] == "liked"
+
+
+@pytest.mark.parametrize(
+    ("content", "message"),
+    [
+        ("{not json", "not readable JSON"),
+        (json.dumps({"en": {"lovely_words": ["x"]}}), "category 'lovely_words'"),
+        (json.dumps({"en": {"liked": "good"}}), "must be a list"),
+    ],
+    ids=["broken-json", "unknown-category", "not-a-list"],
+)
+def test_load_cues_rejects_bad_user_file(tmp_path: Path, content: str, message: str) -> None:
+    user = tmp_path / "cues.json"
+    user.write_text(content, "utf-8")
+    with pytest.raises(InputError, match=message):
+        load_cues(user)
+
+
+def test_load_cues_missing_file_raises(tmp_path: Path) -> None:
+    with pytest.raises(InputError, match="does not exist"):
+        load_cues(tmp_path / "nope.json")
+
+
+# ------------------------------------------------------------------ cold-start rules
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "question", "expected"),
+    [
+        ("It does not rot in the store.", "rot", "en", None, "liked"),
+        ("The seeds are too small.", "small", "en", None, "disliked"),
+        ("Les grains sont trop petits.", "petits", "fr", None, "disliked"),
+        ("Los granos son demasiado pequeños.", "pequeños", "es", None, "disliked"),
+        ("I wish the pods were longer.", "pods", "en", None, "wanted"),
+        ("J'aimerais une cuisson plus rapide.", "cuisson", "fr", None, "wanted"),
+        ("Il faudrait des grains plus gros.", "grains", "fr", None, "wanted"),
+        ("Ojalá el grano fuera más grande.", "grano", "es", None, "wanted"),
+        ("Quisiera un sabor más dulce.", "sabor", "es", None, "wanted"),
+        ("The taste is good but the pods split.", "taste", "en", None, "liked"),
+        ("The taste is good but the pods split.", "pods", "en", None, "disliked"),
+        ("Le goût est bon mais la cuisson est lente.", "cuisson", "fr", None, "disliked"),
+        (
+            "El sabor es bueno pero tarda en cocinarse.",
+            "tarda en cocinarse",
+            "es",
+            None,
+            "disliked",
+        ),
+        ("Its taste is not good.", "taste", "en", None, "disliked"),
+        ("Its seeds are bigger than those of Kivuli.", "seeds", "en", None, "liked"),
+        ("Small seeds.", "seeds", "en", "What do you dislike about Ruvaro?", "disliked"),
+        ("Small seeds.", "seeds", "en", "What would you change in Ruvaro?", "wanted"),
+        ("Small seeds.", "seeds", "en", "Why do you grow Ruvaro?", "liked"),
+        ("Small seeds.", "seeds", "en", None, "neutral"),
+        ("Des grains rouges.", "grains", "fr", "Qu'est-ce que vous n'aimez pas ?", "disliked"),
+    ],
+    ids=[
+        "negated-fault",
+        "excess-en",
+        "excess-fr",
+        "excess-es",
+        "wish-en",
+        "wish-fr",
+        "il-faudrait",
+        "ojala",
+        "quisiera",
+        "contrast-first-side",
+        "contrast-second-side",
+        "contrast-fr",
+        "contrast-es",
+        "negated-cue",
+        "comparison",
+        "question-dislike",
+        "question-change",
+        "question-why-grow",
+        "no-cue",
+        "question-fr-negated-like",
+    ],
+)
+def test_rule_stance_reads_cues(
+    text: str, term: str, lang: str, question: str | None, expected: str
+) -> None:
+    stance, confidence = rule_stance(_features(text, term, lang, question))
+    assert stance == expected
+    assert 0.0 < confidence < 1.0
+
+
+def test_rule_stance_is_more_confident_with_a_cue_than_from_the_question_alone() -> None:
+    cue = rule_stance(_features("The seeds are too small.", "seeds"))[1]
+    question = rule_stance(_features("Small seeds.", "seeds", question="What do you dislike?"))[1]
+    assert cue > question
+
+
+@pytest.mark.parametrize(
+    ("text", "lang", "markers"),
+    [
+        ("It is bigger than Kivuli.", "en", ["than"]),
+        ("Orvane cuit plus vite que Kivuli.", "fr", ["que"]),
+        ("Il faut que Kivuli soit sucré.", "fr", []),
+        ("Orvane es más grande que el Kivuli.", "es", ["que"]),
+    ],
+    ids=["en-than", "fr-plus-que", "fr-que-conjunction", "es-mas-que"],
+)
+def test_find_comparisons_takes_que_only_after_a_comparative(
+    text: str, lang: str, markers: list[str]
+) -> None:
+    # French and Spanish grammar (from memory): "que" introduces the second term of a
+    # comparison only after "plus"/"más"; in "il faut que" it is a conjunction.
+    assert [text[s:e] for s, e in find_comparisons(text, lang)] == markers
