@@ -34,7 +34,7 @@ _LAZY = {
     "tag": "extractor.jobs.pipeline",
     "run": "extractor.jobs.pipeline",
     "evaluate_workspace": "extractor.jobs.pipeline",
-    "export_workbook": "extractor.report.results",
+    "export_workbook": "extractor.jobs.export",
     "TraitModels": "extractor.models.bundle",
     "build_dictionary": "extractor.nlp.dictionary",
     "learn_clusters": "extractor.nlp.clusters",

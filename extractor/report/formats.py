@@ -1,7 +1,7 @@
 """Plain exports other tools can read: CSV, JSON Lines, CoNLL IOB2 and W3C Web Annotations.
 
 * :func:`write_mentions_csv` and :func:`write_mentions_jsonl` write the long table
-  of mentions (the ``mentions`` frame described in :mod:`extractor.report.workbook`).
+  of mentions (the ``mentions`` frame described in :mod:`extractor.report.inputs`).
 * :func:`write_conll` writes labeled sentences as IOB2 token columns (token, tag,
   concept, stance) with CoNLL-U style ``# sent_id =`` / ``# text =`` comments;
   ``traits import-labels`` (:mod:`extractor.ingest.labels`) reads them back.

@@ -24,6 +24,7 @@ import re
 import secrets
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import pandas as pd
 
@@ -219,6 +220,25 @@ def _shift(offset: int, found: Sequence[tuple[int, int, str]], *, is_end: bool) 
     return offset + delta
 
 
+def _screen_sentence(
+    sent: Any, start: Any, end: Any, names: Sequence[str]
+) -> tuple[Any, Any, Any, str | None]:
+    """Return the screened sentence, the span's moved offsets and its screened text.
+
+    Anything that is not a sentence string, or a span without both offsets, comes back
+    as given, with no span text.
+    """
+    if not isinstance(sent, str):
+        return sent, start, end, None
+    found = redactions(sent, names)
+    new = _apply(sent, found)
+    if not (pd.notna(start) and pd.notna(end)):
+        return new, start, end, None
+    s2 = _shift(int(start), found, is_end=False)
+    e2 = _shift(int(end), found, is_end=True)
+    return new, s2, e2, new[s2:e2]
+
+
 def screen_mentions(mentions: pd.DataFrame, names: Iterable[str] = ()) -> pd.DataFrame:
     """Return mentions with screened sentence, span and question texts.
 
@@ -229,41 +249,26 @@ def screen_mentions(mentions: pd.DataFrame, names: Iterable[str] = ()) -> pd.Dat
     names = tuple(names)
     out = mentions.copy()
     if "sentence" in out.columns:
-        sentences, starts, ends, spans = [], [], [], []
-        for sent, start, end in zip(
-            out["sentence"],
-            out.get("start", [None] * len(out)),
-            out.get("end", [None] * len(out)),
-            strict=True,
-        ):
-            if not isinstance(sent, str):
-                sentences.append(sent)
-                starts.append(start)
-                ends.append(end)
-                spans.append(None)
-                continue
-            found = redactions(sent, names)
-            new = _apply(sent, found)
-            sentences.append(new)
-            if pd.notna(start) and pd.notna(end):
-                s2 = _shift(int(start), found, is_end=False)
-                e2 = _shift(int(end), found, is_end=True)
-                starts.append(s2)
-                ends.append(e2)
-                spans.append(new[s2:e2])
-            else:
-                starts.append(start)
-                ends.append(end)
-                spans.append(None)
-        out["sentence"] = sentences
+        screened = [
+            _screen_sentence(sent, start, end, names)
+            for sent, start, end in zip(
+                out["sentence"],
+                out.get("start", [None] * len(out)),
+                out.get("end", [None] * len(out)),
+                strict=True,
+            )
+        ]
+        out["sentence"] = [row[0] for row in screened]
         if "start" in out.columns and "end" in out.columns:
-            out["start"], out["end"] = starts, ends
+            out["start"] = [row[1] for row in screened]
+            out["end"] = [row[2] for row in screened]
             if "span_text" in out.columns:
                 fallback = out["span_text"].map(
                     lambda t: screen_text(t, names) if isinstance(t, str) else t
                 )
                 out["span_text"] = [
-                    s if s is not None else f for s, f in zip(spans, fallback, strict=True)
+                    row[3] if row[3] is not None else f
+                    for row, f in zip(screened, fallback, strict=True)
                 ]
     for col in TEXT_COLUMNS:
         if col in out.columns and col not in ("sentence", "span_text"):

@@ -1,4 +1,4 @@
-"""The results of a model version as tables: mentions, respondents, concepts; and the exports.
+"""The results of a model version as tables: mentions, respondents, concepts, run facts.
 
 Mentions come from the stored predictions of a model version; wherever a person
 labeled a sentence, that label replaces the predictions for the sentence (gold
@@ -11,11 +11,11 @@ import base64
 from collections.abc import Sequence
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any
 
 import pandas as pd
 
 from extractor.errors import InputError
+from extractor.report.about import RunFacts
 from extractor.report.privacy import PrivacyOptions, new_secret
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -25,7 +25,7 @@ SECRET_KEY = "pseudonym_secret"
 
 def concept_frame(ws: Workspace) -> pd.DataFrame:
     """Return the active concepts: ``concept_id``, ``label``, ``parent``."""
-    default = ws.settings["workspace"]["default_language"]
+    default = ws.settings.workspace.default_language
     rows = []
     for concept in store.concepts(ws.conn):
         labels = concept["labels"]
@@ -36,7 +36,7 @@ def concept_frame(ws: Workspace) -> pd.DataFrame:
 
 def variety_names(ws: Workspace) -> dict[str, str]:
     """Return variety ID -> display name."""
-    default = ws.settings["workspace"]["default_language"]
+    default = ws.settings.workspace.default_language
     return {
         v["id"]: v["labels"].get(default) or next(iter(v["labels"].values()), v["id"])
         for v in store.concepts(ws.conn, "variety")
@@ -74,10 +74,10 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
                     "link_prob": None,
                     "stance_prob": None,
                     "source": "person",
-                    "annotator": label["annotator"],
+                    "annotator": label.annotator,
                     "model_version": None,
                 }
-                for sp in label["spans"]
+                for sp in label.spans
             ]
         else:
             found = [
@@ -130,9 +130,9 @@ def workspace_secret(ws: Workspace) -> bytes:
 
 def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOptions:
     """Return the pseudonymisation options from the workspace settings."""
-    settings = ws.settings["export"]
+    settings = ws.settings.export
     names: tuple[str, ...] = ()
-    path_text = names_file or settings.get("names_file") or ""
+    path_text = names_file or settings.names_file
     if path_text:
         path = Path(path_text) if Path(path_text).is_absolute() else ws.root / path_text
         if not path.is_file():
@@ -149,41 +149,36 @@ def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOpti
     return PrivacyOptions(
         secret=workspace_secret(ws),
         names=names,
-        drop_columns=tuple(settings.get("identifying_columns", ())),
+        drop_columns=settings.identifying_columns,
     )
 
 
-def about(ws: Workspace, version: str | None) -> dict[str, Any]:
+def about(ws: Workspace, version: str | None) -> RunFacts:
     """Return the facts shown on the workbook's About sheet."""
     model = next((m for m in store.models(ws.conn) if m["version"] == version), None)
     concepts = store.current_concept_version(ws.conn)
     counts = store.counts(ws.conn)
-    return {
-        "Model version": version or "none (labels only)",
-        "Model trained": None if model is None else model["created_at"],
-        "Quality (cross-validated)": None
-        if model is None
-        else model["metrics"].get("cross_validation"),
-        "Quality (evaluation sample)": None
-        if model is None
-        else model["metrics"].get("evaluation_sample"),
-        "Concept list": None if concepts is None else concepts["path"],
-        "Concept list SHA-256": None if concepts is None else concepts["sha256"],
-        "Concept list imported": None if concepts is None else concepts["imported_at"],
-        "Respondents in workspace": counts["respondents"],
-        "Sentences in workspace": counts["sentences"],
-        "Sentences labeled by a person": counts["labels"],
-        "Exported": datetime.now(UTC).isoformat(timespec="seconds"),
-        "Caution": "Automatic extraction makes mistakes. Review the mentions (sheet of "
-        "evidence) before these results inform any decision; shares are of respondents.",
-    }
+    metrics = {} if model is None else model["metrics"]
+    return RunFacts(
+        model_version=version or "none (labels only)",
+        model_trained=None if model is None else model["created_at"],
+        quality_cross_validated=metrics.get("cross_validation"),
+        quality_evaluation_sample=metrics.get("evaluation_sample"),
+        concept_list=None if concepts is None else concepts["path"],
+        concept_list_sha256=None if concepts is None else concepts["sha256"],
+        concept_list_imported=None if concepts is None else concepts["imported_at"],
+        respondents=counts["respondents"],
+        sentences=counts["sentences"],
+        sentences_labeled=counts["labels"],
+        exported=datetime.now(UTC).isoformat(timespec="seconds"),
+    )
 
 
 def group_columns(
     ws: Workspace, respondents: pd.DataFrame, chosen: Sequence[str] | None = None
 ) -> list[str]:
     """Return the grouping columns to use: chosen ones, else the configured ones present."""
-    wanted = list(chosen) if chosen else list(ws.settings["export"]["group_by"])
+    wanted = list(chosen) if chosen else list(ws.settings.export.group_by)
     if chosen:
         missing = [c for c in wanted if c not in respondents.columns]
         if missing:
@@ -193,95 +188,3 @@ def group_columns(
                 + "."
             )
     return [c for c in wanted if c in respondents.columns]
-
-
-def _min_confidence(ws: Workspace, given: float | None) -> float | None:
-    """Return the confidence floor: the one given, else traits.toml's (0 means none)."""
-    if given is not None:
-        return given
-    return ws.settings["export"].get("min_confidence") or None
-
-
-def export_workbook(
-    ws: Workspace,
-    version: str | None,
-    *,
-    out: Path | None = None,
-    pseudonymise: bool = False,
-    min_confidence: float | None = None,
-    group_by: Sequence[str] | None = None,
-    names_file: str | None = None,
-) -> dict[str, Any]:
-    """Write the preferred-traits workbook and its chart PNG; return paths and counts."""
-    from extractor.report.workbook import write_workbook
-
-    out = out or ws.exports_dir / (
-        "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx"
-    )
-    out.parent.mkdir(parents=True, exist_ok=True)
-    mentions = mention_frame(ws, version)
-    respondents = respondent_frame(ws)
-    png = out.with_name(out.stem + "_chart.png")
-    write_workbook(
-        out,
-        mentions,
-        respondents,
-        concept_frame(ws),
-        about(ws, version),
-        group_by=group_columns(ws, respondents, group_by),
-        min_confidence=_min_confidence(ws, min_confidence),
-        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
-        chart_png=png,
-    )
-    return {"path": out, "chart": png if png.exists() else None, "mentions": len(mentions)}
-
-
-OTHER_FORMATS = {"csv": ".csv", "jsonl": ".jsonl", "conll": ".conll", "jsonld": ".jsonld"}
-
-
-def export_other(
-    ws: Workspace,
-    version: str | None,
-    fmt: str,
-    *,
-    out: Path | None = None,
-    pseudonymise: bool = False,
-    min_confidence: float | None = None,
-    names_file: str | None = None,
-) -> dict[str, Any]:
-    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or labels as CoNLL IOB2."""
-    from extractor.jobs.pipeline import gold_examples
-    from extractor.report import formats as interchange
-    from extractor.report.workbook import prepare
-
-    if fmt not in OTHER_FORMATS:
-        raise InputError(
-            f"The export format must be one of xlsx, {', '.join(OTHER_FORMATS)}; got {fmt!r}."
-        )
-    stem = "labeled_sentences" if fmt == "conll" else "mentions"
-    out = (
-        out
-        or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}{OTHER_FORMATS[fmt]}"
-    )
-    out.parent.mkdir(parents=True, exist_ok=True)
-    if fmt == "conll":
-        if pseudonymise:
-            raise InputError(
-                "CoNLL export holds the labeled sentences verbatim and cannot be pseudonymised; "
-                "export it without --pseudonymise and keep it inside the project."
-            )
-        n = interchange.write_conll(out, gold_examples(ws))
-        return {"path": out, "mentions": n}
-    mentions, _ = prepare(
-        mention_frame(ws, version),
-        respondent_frame(ws),
-        min_confidence=_min_confidence(ws, min_confidence),
-        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
-    )
-    writer = {
-        "csv": interchange.write_mentions_csv,
-        "jsonl": interchange.write_mentions_jsonl,
-        "jsonld": interchange.write_web_annotations,
-    }[fmt]
-    writer(out, mentions)
-    return {"path": out, "mentions": len(mentions)}

@@ -1,0 +1,175 @@
+"""The exports of a workspace: the workbook with its chart, and the plain formats.
+
+Each reads the store into frames (:mod:`extractor.report.results`), applies the
+workspace's export settings and hands the frames to a pure writer in
+:mod:`extractor.report`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from extractor.errors import InputError
+from extractor.jobs.inputs import gold_examples
+from extractor.jobs.tag import ensure_tagged
+from extractor.report import formats
+from extractor.report.inputs import prepare
+from extractor.report.results import (
+    about,
+    concept_frame,
+    group_columns,
+    mention_frame,
+    privacy_options,
+    respondent_frame,
+)
+from extractor.report.workbook import write_workbook
+from extractor.workspace.folder import Workspace
+
+OTHER_FORMATS = {"csv": ".csv", "jsonl": ".jsonl", "conll": ".conll", "jsonld": ".jsonld"}
+"""Export format -> file suffix, besides the workbook (``xlsx``)."""
+
+
+@dataclass(frozen=True)
+class ExportResult:
+    """A file an export wrote, how many mentions (or labeled sentences) it holds, its chart."""
+
+    path: Path
+    mentions: int
+    chart: Path | None = None
+
+
+def min_confidence_floor(ws: Workspace, given: float | None) -> float | None:
+    """Return the confidence floor: the one given, else traits.toml's (0 means none)."""
+    if given is not None:
+        return given
+    return ws.settings.export.min_confidence or None
+
+
+def export_workbook(
+    ws: Workspace,
+    version: str | None,
+    *,
+    out: Path | None = None,
+    pseudonymise: bool = False,
+    min_confidence: float | None = None,
+    group_by: Sequence[str] | None = None,
+    names_file: str | None = None,
+) -> ExportResult:
+    """Write the preferred-traits workbook and its chart PNG.
+
+    The mention count is of the version's mentions before the confidence floor.
+    """
+    out = out or ws.exports_dir / (
+        "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx"
+    )
+    out.parent.mkdir(parents=True, exist_ok=True)
+    mentions = mention_frame(ws, version)
+    respondents = respondent_frame(ws)
+    png = out.with_name(out.stem + "_chart.png")
+    write_workbook(
+        out,
+        mentions,
+        respondents,
+        concept_frame(ws),
+        about(ws, version),
+        group_by=group_columns(ws, respondents, group_by),
+        min_confidence=min_confidence_floor(ws, min_confidence),
+        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+        chart_png=png,
+    )
+    return ExportResult(out, len(mentions), png if png.exists() else None)
+
+
+def _export_conll(out: Path, ws: Workspace, pseudonymise: bool) -> ExportResult:
+    if pseudonymise:
+        raise InputError(
+            "CoNLL export holds the labeled sentences verbatim and cannot be pseudonymised; "
+            "export it without --pseudonymise and keep it inside the project."
+        )
+    return ExportResult(out, formats.write_conll(out, gold_examples(ws)))
+
+
+def export_other(
+    ws: Workspace,
+    version: str | None,
+    fmt: str,
+    *,
+    out: Path | None = None,
+    pseudonymise: bool = False,
+    min_confidence: float | None = None,
+    names_file: str | None = None,
+) -> ExportResult:
+    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or labels as CoNLL IOB2."""
+    if fmt not in OTHER_FORMATS:
+        raise InputError(
+            f"The export format must be one of xlsx, {', '.join(OTHER_FORMATS)}; got {fmt!r}."
+        )
+    stem = "labeled_sentences" if fmt == "conll" else "mentions"
+    out = (
+        out
+        or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}{OTHER_FORMATS[fmt]}"
+    )
+    out.parent.mkdir(parents=True, exist_ok=True)
+    if fmt == "conll":
+        return _export_conll(out, ws, pseudonymise)
+    mentions, _ = prepare(
+        mention_frame(ws, version),
+        respondent_frame(ws),
+        min_confidence=min_confidence_floor(ws, min_confidence),
+        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+    )
+    writer = {
+        "csv": formats.write_mentions_csv,
+        "jsonl": formats.write_mentions_jsonl,
+        "jsonld": formats.write_web_annotations,
+    }[fmt]
+    writer(out, mentions)
+    return ExportResult(out, len(mentions))
+
+
+def export(
+    ws: Workspace,
+    fmt: str = "xlsx",
+    *,
+    version: str | None = None,
+    out: Path | None = None,
+    pseudonymise: bool = False,
+    min_confidence: float | None = None,
+    group_by: Sequence[str] | None = None,
+    names_file: str | None = None,
+) -> ExportResult:
+    """Do `traits export`: tag with ``version`` (default the newest) if needed, then write.
+
+    Args:
+        ws: The open workspace.
+        fmt: ``xlsx`` (the workbook) or one of :data:`OTHER_FORMATS`.
+        version: The model version whose mentions are exported; the newest by default.
+        out: The file to write; by default one in the workspace's ``exports`` folder.
+        pseudonymise: Replace IDs with pseudonyms and screen quotes (not for ``conll``).
+        min_confidence: Drop predicted mentions below this confidence; traits.toml's
+            floor by default.
+        group_by: Respondent columns the workbook breaks shares down by (``xlsx`` only).
+        names_file: Names to screen out of quotes, one per line, when pseudonymising.
+    """
+    version = ensure_tagged(ws, version)
+    if fmt == "xlsx":
+        return export_workbook(
+            ws,
+            version,
+            out=out,
+            pseudonymise=pseudonymise,
+            min_confidence=min_confidence,
+            group_by=group_by,
+            names_file=names_file,
+        )
+    return export_other(
+        ws,
+        version,
+        fmt,
+        out=out,
+        pseudonymise=pseudonymise,
+        min_confidence=min_confidence,
+        names_file=names_file,
+    )

@@ -1,0 +1,166 @@
+"""Safe cells and sheet craft for openpyxl: user text stays text, never a formula.
+
+Interview answers can start with "=", "+", "-" or "@" or read like an error code; a
+spreadsheet must show them as typed, not evaluate them (OWASP, "CSV Injection").
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Sequence
+from datetime import datetime
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, Cell
+from openpyxl.styles import Alignment, Font, PatternFill
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.worksheet import Worksheet
+
+RISKY_FIRST = ("=", "+", "-", "@", "\t", "\r")
+EXCEL_MAX_CHARS = 32767
+
+HEADER_FONT = Font(bold=True)
+HEADER_FILL = PatternFill("solid", fgColor="DDE4EE")
+NOTE_FONT = Font(italic=True)
+WRAP = Alignment(wrap_text=True, vertical="top")
+WRAPPED_COLUMNS = {
+    "Sentence",
+    "Examples",
+    "Question",
+    "Liked",
+    "Disliked",
+    "Wanted",
+    "Value",
+    "Caution",
+}
+PERCENT_COLUMNS = {"Share", "95% CI low", "95% CI high"}
+PROBABILITY_COLUMNS = {
+    "p",
+    "p (BH-adjusted)",
+    "Link probability",
+    "Stance probability",
+    "Tagger confidence",
+    "Statistic",
+}
+
+
+def _plain(value: Any) -> Any:
+    """Return a value openpyxl can store: Python scalars, None for missing."""
+    if value is None:
+        return None
+    if isinstance(value, float | np.floating):
+        return None if math.isnan(value) else float(value)
+    if isinstance(value, bool | np.bool_):
+        return bool(value)
+    if isinstance(value, int | np.integer):
+        return int(value)
+    if isinstance(value, str | datetime):
+        return value
+    if np.ndim(value) == 0 and pd.isna(value):
+        return None
+    return str(value)
+
+
+def safe_text(value: str) -> str:
+    """Return text Excel can hold: no control characters, at most 32,767 characters."""
+    cleaned = ILLEGAL_CHARACTERS_RE.sub("", value)
+    return cleaned[:EXCEL_MAX_CHARS]
+
+
+def put(ws: Worksheet, row: int, col: int, value: Any) -> None:
+    """Write one value; strings always as text, never as a formula or error code.
+
+    openpyxl infers a formula from a leading "=" and an error from "#N/A"; setting
+    ``data_type`` after the value makes the cell an inline string whatever it
+    starts with. The quote prefix keeps Excel from re-reading it as a formula
+    when someone edits the cell.
+    """
+    value = _plain(value)
+    cell = ws.cell(row=row, column=col)
+    if isinstance(value, str):
+        cell.value = safe_text(value)
+        _force_text(cell)
+    else:
+        cell.value = value
+
+
+def _force_text(cell: Cell) -> None:
+    cell.data_type = "s"
+    if isinstance(cell.value, str) and cell.value.startswith(RISKY_FIRST):
+        cell.quotePrefix = True
+
+
+def _needs_forcing(value: Any) -> bool:
+    """Return whether openpyxl would store this string as something other than text."""
+    return isinstance(value, str) and (value.startswith(RISKY_FIRST) or value in ERROR_CODES)
+
+
+def append_row(ws: Worksheet, values: Iterable[Any]) -> None:
+    """Append one row of values, with the same text guarantee as :func:`put`.
+
+    ``ws.append`` is several times faster than cell-by-cell writing; only the
+    strings openpyxl would misread are fixed afterwards.
+    """
+    plain = [_plain(v) for v in values]
+    plain = [safe_text(v) if isinstance(v, str) else v for v in plain]
+    ws.append(plain)
+    row = ws._current_row
+    for j, v in enumerate(plain, start=1):
+        if _needs_forcing(v):
+            cell = ws.cell(row=row, column=j)
+            cell.value = v
+            _force_text(cell)
+
+
+def _write_header(ws: Worksheet, columns: Sequence[str]) -> int:
+    """Append the bold, shaded header row and return its row number."""
+    append_row(ws, columns)
+    header: int = ws._current_row
+    for j in range(1, len(columns) + 1):
+        ws.cell(row=header, column=j).font = HEADER_FONT
+        ws.cell(row=header, column=j).fill = HEADER_FILL
+    return header
+
+
+def _format_column(ws: Worksheet, j: int, name: str, header: int, n_rows: int) -> None:
+    """Wrap text columns and give shares and probabilities their number format."""
+    wrapped = name in WRAPPED_COLUMNS
+    if not (wrapped or name in PERCENT_COLUMNS or name in PROBABILITY_COLUMNS):
+        return
+    fmt = "0.0%" if name in PERCENT_COLUMNS else "0.0000"
+    for (cell,) in ws.iter_rows(min_row=header + 1, max_row=header + n_rows, min_col=j, max_col=j):
+        if wrapped:
+            cell.alignment = WRAP
+        elif isinstance(cell.value, float):
+            cell.number_format = fmt
+
+
+def write_table(
+    ws: Worksheet, frame: pd.DataFrame, *, notes: Sequence[str] = (), freeze_columns: int = 1
+) -> None:
+    """Write notes, a bold header and the rows of ``frame``, with filter, freeze and widths.
+
+    The sheet must be empty: rows are appended.
+    """
+    for note in notes:
+        append_row(ws, [note])
+        ws.cell(row=ws._current_row, column=1).font = NOTE_FONT
+    if notes:
+        ws.append([])
+    columns = [str(c) for c in frame.columns]
+    header = _write_header(ws, columns)
+    values = frame.to_numpy(dtype=object)
+    for record in values:
+        append_row(ws, record)
+    last_row = header + max(len(frame), 1)
+    if columns:
+        ws.auto_filter.ref = f"A{header}:{get_column_letter(len(columns))}{last_row}"
+        ws.freeze_panes = ws.cell(row=header + 1, column=min(freeze_columns, len(columns)) + 1)
+    for j, name in enumerate(columns, start=1):
+        sample = [len(str(v)) for v in values[:200, j - 1] if _plain(v) is not None]
+        width = max([len(name), *sample]) + 2
+        limit = 60 if name in WRAPPED_COLUMNS else 40
+        ws.column_dimensions[get_column_letter(j)].width = min(limit, max(8, width))
+        _format_column(ws, j, name, header, len(frame))

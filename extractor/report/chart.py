@@ -1,0 +1,114 @@
+"""The chart of liked traits: its data, a PNG drawn with matplotlib, a native Excel chart."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+from openpyxl.chart import BarChart, Reference
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.worksheet import Worksheet
+
+from extractor.report.cells import write_table
+from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
+
+
+def chart_data(
+    summary: pd.DataFrame, grouping: str | None, outcome: str = "like", top: int = 10
+) -> pd.DataFrame:
+    """Return shares for the ``top`` concepts by overall share, one column per group.
+
+    Concepts are ranked by their share among all individuals for ``outcome``;
+    with ``grouping`` None the only column is all individuals.
+    """
+    part = summary.loc[summary["Outcome"] == outcome]
+    overall = part.loc[part["Grouping"] == ALL_INDIVIDUALS]
+    overall = overall.loc[overall["Respondents"] > 0]
+    overall = overall.sort_values(["Share", "Concept ID"], ascending=[False, True]).head(top)
+    names = [
+        f"{t} ({c})" if isinstance(t, str) else c
+        for t, c in zip(overall["Trait"], overall["Concept ID"], strict=True)
+    ]
+    out = pd.DataFrame({"Trait": names})
+    if grouping is None:
+        out["all individuals"] = overall["Share"].to_numpy()
+        return out
+    by = part.loc[(part["Grouping"] == grouping) & (part["Group"] != NOT_RECORDED)]
+    for value in sorted(by["Group"].unique()):
+        shares = by.loc[by["Group"] == value].set_index("Concept ID")["Share"]
+        out[value] = overall["Concept ID"].map(shares).fillna(0.0).to_numpy()
+    return out
+
+
+def chart_title(grouping: str | None) -> str:
+    """Return the chart's title, naming the grouping that splits the bars."""
+    if grouping:
+        return f"Share of individual respondents liking each trait, by {grouping}"
+    return "Share of individual respondents liking each trait"
+
+
+def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
+    """Draw ``data`` from :func:`chart_data` as a horizontal grouped bar chart PNG."""
+    import matplotlib
+
+    matplotlib.use("Agg")  # no display on servers; set before pyplot is imported
+    import matplotlib.pyplot as plt
+
+    series = [c for c in data.columns if c != "Trait"]
+    if data.empty or not series:
+        fig, ax = plt.subplots(figsize=(6, 2))
+        ax.axis("off")
+        ax.text(0.5, 0.5, "No linked traits to chart.", ha="center", va="center")
+        fig.savefig(path, dpi=150)
+        plt.close(fig)
+        return
+    fig, ax = plt.subplots(figsize=(8, 0.5 + 0.45 * max(1, len(data)) * max(1, len(series)) / 1.5))
+    height = 0.8 / max(1, len(series))
+    ypos = np.arange(len(data))
+    for i, name in enumerate(series):
+        ax.barh(ypos + i * height, data[name].to_numpy() * 100, height=height, label=str(name))
+    ax.set_yticks(ypos + height * (len(series) - 1) / 2, labels=data["Trait"].tolist())
+    ax.invert_yaxis()  # top trait at the top, as in the workbook table
+    ax.set_xlabel("% of respondents")
+    top = float(np.nanmax(data[series].to_numpy(dtype=float))) * 100 if len(data) else 0.0
+    ax.set_xlim(0, min(100.0, max(10.0, math.ceil(top * 1.15 / 10) * 10)))
+    ax.set_title(title)
+    if len(series) > 1:
+        ax.legend()
+    fig.tight_layout()
+    fig.savefig(path, dpi=150)
+    plt.close(fig)
+
+
+def add_bar_chart(ws: Worksheet, data: pd.DataFrame, title: str, anchor: str) -> None:
+    """Add a native clustered bar chart of ``data`` (first column = categories)."""
+    if data.empty or data.shape[1] < 2:
+        return
+    chart = BarChart()
+    chart.type = "bar"
+    chart.grouping = "clustered"
+    chart.title = title
+    chart.x_axis.title = "Trait"
+    chart.y_axis.title = "Share of respondents"
+    chart.y_axis.number_format = "0%"
+    chart.y_axis.scaling.min = 0
+    chart.y_axis.scaling.max = 1
+    chart.x_axis.scaling.orientation = "maxMin"  # top trait at the top
+    chart.height = 4 + 0.8 * len(data)
+    chart.width = 20
+    values = Reference(ws, min_col=2, max_col=data.shape[1], min_row=1, max_row=len(data) + 1)
+    cats = Reference(ws, min_col=1, min_row=2, max_row=len(data) + 1)
+    chart.add_data(values, titles_from_data=True)
+    chart.set_categories(cats)
+    ws.add_chart(chart, anchor)
+
+
+def write_chart_sheet(ws: Worksheet, data: pd.DataFrame, title: str) -> None:
+    """Write the chart's data as a table of percentages, with the native chart beside it."""
+    write_table(ws, data, freeze_columns=1)
+    for j in range(2, data.shape[1] + 1):
+        for i in range(2, len(data) + 2):
+            ws.cell(row=i, column=j).number_format = "0.0%"
+    add_bar_chart(ws, data, title, f"{get_column_letter(data.shape[1] + 2)}2")

@@ -1,0 +1,84 @@
+"""Tests of extractor.report.inputs: checking, completing and filtering the input frames.
+
+All people, varieties and trait IDs are invented; the rules checked are the contributor
+guide's (a person's label replaces the models' output for its sentence).
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+
+from extractor.errors import InputError
+from extractor.report.inputs import (
+    OPTIONAL_MENTION_COLUMNS,
+    complete_respondents,
+    filter_confidence,
+    merge_gold,
+    prepare,
+)
+from tests.report.study import S1, S2, S3, mention
+
+
+def test_merge_gold_drops_predictions_in_labeled_sentences() -> None:
+    rows = pd.DataFrame(
+        [
+            mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="person"),
+            mention("W1", 1, S1, "cooks fast every", "BTX:0003", "neutral"),
+            mention("W1", 2, S2, "pest tolerance", "BTX:0002", "wanted", source="dictionary"),
+        ]
+    )
+    out = merge_gold(rows)
+    assert out["source"].tolist() == ["person", "dictionary"]
+
+
+def test_filter_confidence_never_drops_person_labels() -> None:
+    rows = pd.DataFrame(
+        [
+            mention(
+                "W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="person", confidence=0.1
+            ),
+            mention("W1", 2, S2, "pest tolerance", "BTX:0002", "wanted", confidence=0.4),
+            mention("W1", 3, S3, "Cooks fast", "BTX:0001", "liked", confidence=0.6),
+            mention("W1", 4, S3, "weevils eat it", "BTX:0002", "disliked", confidence=None),
+        ]
+    )
+    out = filter_confidence(rows, 0.5)
+    assert out["sentence_id"].tolist() == [1, 3, 4]
+
+
+def test_filter_confidence_rejects_out_of_range() -> None:
+    rows = pd.DataFrame([mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked")])
+    with pytest.raises(InputError, match="between 0 and 1"):
+        filter_confidence(rows, 1.5)
+
+
+def test_prepare_names_missing_columns() -> None:
+    with pytest.raises(InputError, match="lacks the column"):
+        prepare(pd.DataFrame({"respondent": ["W1"]}), pd.DataFrame({"respondent": ["W1"]}))
+
+
+def test_prepare_adds_missing_optional_columns_as_empty() -> None:
+    row = mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked")
+    required = {k: v for k, v in row.items() if k not in OPTIONAL_MENTION_COLUMNS}
+    m, _ = prepare(pd.DataFrame([required]), pd.DataFrame({"respondent": ["W1"]}))
+    assert set(OPTIONAL_MENTION_COLUMNS) <= set(m.columns)
+    assert m[list(OPTIONAL_MENTION_COLUMNS)].isna().all(axis=None)
+
+
+def test_prepare_rejects_unknown_source() -> None:
+    rows = pd.DataFrame([mention("W1", 1, S1, "cooks fast", "BTX:0001", "liked", source="llm")])
+    with pytest.raises(InputError, match="'source' must hold person, predicted, dictionary"):
+        prepare(rows, pd.DataFrame({"respondent": ["W1"]}))
+
+
+def test_complete_respondents_adds_respondents_only_in_mentions() -> None:
+    mentions = pd.DataFrame([mention("W9", 1, S1, "cooks fast", "BTX:0001", "liked")])
+    out = complete_respondents(pd.DataFrame({"respondent": ["W1"]}), mentions)
+    assert out["respondent"].tolist() == ["W1", "W9"]
+    assert out["is_group"].tolist() == [False, False]
+
+
+def test_complete_respondents_rejects_duplicates() -> None:
+    with pytest.raises(InputError, match="respondent 'W1' more than once"):
+        complete_respondents(pd.DataFrame({"respondent": ["W1", "W1"]}), pd.DataFrame())
