@@ -397,7 +397,7 @@ class Session:
         self._since_retrain = 0
         # Everything the thread needs is copied here: it never touches the connection.
         data = [
-            (self._sentences[sid], tuple(label["spans"]))
+            (self._sentences[sid], tuple(label.spans))
             for sid, label in store.current_labels(self.conn).items()
             if sid not in self.evaluation_ids and sid in self._sentences
         ]
@@ -573,9 +573,9 @@ class Session:
             The sentence ID, or None when this annotator has no label to undo.
         """
         mine = [
-            (label["label_id"], sid, label["spans"])
+            (label.label_id, sid, label.spans)
             for sid, label in store.current_labels(self.conn).items()
-            if label["annotator"] == self.annotator
+            if label.annotator == self.annotator
         ]
         if not mine:
             return None

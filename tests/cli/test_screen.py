@@ -104,8 +104,8 @@ def test_scripted_session_of_twenty_sentences_stores_every_answer(
 ) -> None:
     summary, screen = _run(conn, [line for group in SCRIPT for line in group])
     labels = store.current_labels(conn)
-    assert {sid: label["spans"] for sid, label in labels.items()} == EXPECTED
-    assert {label["annotator"] for label in labels.values()} == {"Ama"}
+    assert {sid: label.spans for sid, label in labels.items()} == EXPECTED
+    assert {label.annotator for label in labels.values()} == {"Ama"}
     assert store.skipped(conn, "Ama") == {6}
     assert [r["action"] for r in store.label_history(conn) if r["sentence_id"] == 13] == [
         "label",
@@ -141,7 +141,7 @@ def test_scripted_session_adds_alias_of_annotator(conn: sqlite3.Connection) -> N
 def test_enter_keeps_the_suggestion_exactly(conn: sqlite3.Connection, sentence, expected) -> None:
     model = FakeModel(path_prob=lambda s: 0.1 if s.id == sentence else 0.9)
     _run(conn, ["", "q"], model_provider=model)
-    assert {k: v["spans"] for k, v in store.current_labels(conn).items()} == {sentence: expected}
+    assert {k: v.spans for k, v in store.current_labels(conn).items()} == {sentence: expected}
 
 
 def test_q_saves_and_quits_without_reading_further(conn: sqlite3.Connection) -> None:
@@ -185,7 +185,7 @@ def test_ambiguous_words_ask_which_occurrence(tmp_path: Path) -> None:
     )
     assert "occur 2 times" in screen
     assert "Type a number from 1 to 2" in screen
-    assert store.current_labels(conn)[1]["spans"] == [Span(17, 22, None, "neutral")]
+    assert store.current_labels(conn)[1].spans == [Span(17, 22, None, "neutral")]
 
 
 def test_words_not_in_sentence_are_refused_with_a_message(conn: sqlite3.Connection) -> None:
@@ -283,7 +283,7 @@ def test_killed_process_keeps_the_five_answers_given(tmp_path: Path) -> None:
     reopened = store.connect(db)
     labels = store.current_labels(reopened)
     assert sorted(labels) == [1, 2, 3, 4, 5]
-    assert labels[1]["spans"] == [_span(1, "cooks fast", "BTX:0002", "liked")]
+    assert labels[1].spans == [_span(1, "cooks fast", "BTX:0002", "liked")]
 
 
 def test_edited_span_shows_model_probability_of_the_new_choice(conn: sqlite3.Connection) -> None:

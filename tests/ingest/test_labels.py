@@ -231,8 +231,8 @@ def test_import_adds_sentences_and_labels(workspace: Workspace, tmp_path: Path) 
     labels = store.current_labels(workspace.conn)
     sentences = {s.id: s for s in store.sentences(workspace.conn)}
     by_text = {sentences[sid].text: v for sid, v in labels.items()}
-    assert by_text["The Zanobi beans cook fast."]["spans"] == [Span(17, 26, "BTX:9002", "liked")]
-    assert by_text["We sell them at Mirelo market."]["origin"] == "import"
+    assert by_text["The Zanobi beans cook fast."].spans == [Span(17, 26, "BTX:9002", "liked")]
+    assert by_text["We sell them at Mirelo market."].origin == "import"
     again = import_labels(
         workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
     )

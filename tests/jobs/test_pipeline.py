@@ -152,7 +152,7 @@ def test_label_over_a_pipe_stores_one_label_per_enter(
     assert code == 0, out
     with Workspace.open(study) as ws:
         labels = store.current_labels(ws.conn)
-    assert len(labels) == 3 and {v["annotator"] for v in labels.values()} == {"tester"}
+    assert len(labels) == 3 and {v.annotator for v in labels.values()} == {"tester"}
 
 
 def test_train_without_concepts_or_labels_says_what_to_do(tmp_path: Path) -> None:

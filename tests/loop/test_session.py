@@ -207,9 +207,9 @@ def test_submit_stores_spans_concepts_stances_and_annotator(conn: sqlite3.Connec
     spans = [Span(4, 11, "BTX:0015", "disliked")]
     label_id = session.submit(2, spans)
     stored = store.current_labels(conn)[2]
-    assert stored["label_id"] == label_id
-    assert stored["spans"] == spans
-    assert stored["annotator"] == "Ama"
+    assert stored.label_id == label_id
+    assert stored.spans == spans
+    assert stored.annotator == "Ama"
 
 
 @pytest.mark.parametrize(

@@ -113,11 +113,11 @@ def test_labels_are_append_only_and_undo_retracts(conn: sqlite3.Connection) -> N
     sid = store.sentences(conn)[0].id
     first = store.add_label(conn, sid, [Span(3, 13, "BTX:0001", "liked")], "ana")
     second = store.add_label(conn, sid, [], "ana")
-    assert store.current_labels(conn)[sid]["spans"] == []
+    assert store.current_labels(conn)[sid].spans == []
     store.retract_label(conn, second, "ana")
     current = store.current_labels(conn)[sid]
-    assert current["label_id"] == first
-    assert current["spans"] == [Span(3, 13, "BTX:0001", "liked")]
+    assert current.label_id == first
+    assert current.spans == [Span(3, 13, "BTX:0001", "liked")]
     assert len(store.label_history(conn)) == 3
 
 

@@ -32,6 +32,7 @@ from extractor.workspace.store._concepts import (
     replace_concept_list,
 )
 from extractor.workspace.store._labels import (
+    StoredLabel,
     add_label,
     add_skip,
     add_to_sample,
@@ -66,6 +67,7 @@ from extractor.workspace.store._status import counts
 __all__ = [
     "MIGRATIONS",
     "SCHEMA_VERSION",
+    "StoredLabel",
     "add_alias",
     "add_label",
     "add_model",

@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 import sqlite3
 from collections.abc import Iterable, Sequence
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.errors import WorkspaceError
 from extractor.types import Span
@@ -55,27 +55,33 @@ def retract_label(conn: sqlite3.Connection, label_id: int, annotator: str) -> No
         )
 
 
-def current_labels(conn: sqlite3.Connection) -> dict[int, dict[str, Any]]:
-    """Return the label in force per sentence: the newest one not retracted.
+class StoredLabel(NamedTuple):
+    """The label in force for one sentence (an empty ``spans`` means "no trait here")."""
 
-    Each value holds ``label_id``, ``spans`` (list of Span), ``annotator``,
-    ``created_at`` and ``origin``.
-    """
+    label_id: int
+    spans: list[Span]
+    annotator: str
+    created_at: str
+    origin: str
+
+
+def current_labels(conn: sqlite3.Connection) -> dict[int, StoredLabel]:
+    """Return the label in force per sentence ID: the newest one not retracted."""
     rows = conn.execute(
         "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin FROM labels l "
         "WHERE l.action = 'label' AND l.id NOT IN "
         "(SELECT retracts FROM labels WHERE action = 'retract') ORDER BY l.id"
     ).fetchall()
-    out: dict[int, dict[str, Any]] = {}
-    for row in rows:
-        out[row["sentence_id"]] = {
-            "label_id": row["id"],
-            "spans": _spans_from_json(row["spans"]),
-            "annotator": row["annotator"],
-            "created_at": row["created_at"],
-            "origin": row["origin"],
-        }
-    return out
+    return {
+        row["sentence_id"]: StoredLabel(
+            label_id=row["id"],
+            spans=_spans_from_json(row["spans"]),
+            annotator=row["annotator"],
+            created_at=row["created_at"],
+            origin=row["origin"],
+        )
+        for row in rows
+    }
 
 
 def label_history(conn: sqlite3.Connection, annotator: str | None = None) -> list[dict[str, Any]]:
