@@ -2,7 +2,7 @@
 
 Every function here works on plain data (sentences, gold spans, predicted spans) and
 returns plain JSON-able dicts, so results can be stored with a model version and shown
-by the command line; :func:`format_tables` turns them into rich tables.
+by the command line.
 
 Figures
 -------
@@ -34,8 +34,6 @@ import time
 from collections import defaultdict
 from collections.abc import Callable, Iterable, Sequence
 from typing import Any, Protocol
-
-from rich.table import Table
 
 from extractor.errors import InputError
 from extractor.nlp.spans import prf, span_prf
@@ -376,84 +374,3 @@ def _aggregate(
         values = [f["summary"][key] for f in folds if f["summary"][key] is not None]
         out[key] = fn(values) if values else None
     return out
-
-
-# --------------------------------------------------------------------------- display
-
-
-def _fmt(value: float | None) -> str:
-    return "-" if value is None else f"{value:.3f}"
-
-
-def _prf_row(name: str, part: dict[str, Any] | None) -> list[str]:
-    if part is None:
-        return [name, "-", "-", "-", "-"]
-    support = part.get("support", part["tp"] + part["fn"])
-    return [name, _fmt(part["precision"]), _fmt(part["recall"]), _fmt(part["f1"]), str(support)]
-
-
-def _prf_table(title: str, rows: list[list[str]], first: str) -> Table:
-    table = Table(title=title)
-    table.add_column(first)
-    for column in ("precision", "recall", "F1", "gold"):
-        table.add_column(column, justify="right")
-    for row in rows:
-        table.add_row(*row)
-    return table
-
-
-def format_tables(results: dict[str, Any]) -> list[Table]:
-    """Return rich tables of a :func:`score`, :func:`evaluate_on` or :func:`cross_validate` result.
-
-    A cross-validation result gives one table: a row per fold, then mean and sd; each
-    fold's detailed tables can be had by passing ``results["folds"][i]["result"]``.
-    """
-    if "folds" in results:
-        table = Table(title=f"{results['k']}-fold cross-validation, grouped by respondent")
-        table.add_column("fold")
-        for key in SUMMARY_KEYS:
-            table.add_column(key.replace("_", " "), justify="right")
-        for fold in results["folds"]:
-            table.add_row(str(fold["fold"] + 1), *(_fmt(fold["summary"][k]) for k in SUMMARY_KEYS))
-        table.add_row("mean", *(_fmt(results["mean"][k]) for k in SUMMARY_KEYS))
-        table.add_row("sd", *(_fmt(results["sd"][k]) for k in SUMMARY_KEYS))
-        return [table]
-    tables = [_prf_table("Scores", [
-        _prf_row("span (strict)", results["span"]),
-        _prf_row("span + concept", results["span_concept"]),
-        _prf_row("respondent triples", results["respondent"]),
-    ], "figure")]  # fmt: skip
-    if results["by_concept"]:
-        tables.append(
-            _prf_table(
-                "Span + concept by concept",
-                [_prf_row(c, part) for c, part in results["by_concept"].items()],
-                "concept",
-            )
-        )
-    language = Table(title="By language")
-    language.add_column("language")
-    for column in ("span F1", "span + concept F1", "stance accuracy", "respondent F1", "gold"):
-        language.add_column(column, justify="right")
-    for lang, part in results["by_language"].items():
-        language.add_row(
-            lang, _fmt(part["span"]["f1"]),
-            _fmt(part["span_concept"]["f1"] if part["span_concept"] else None),
-            _fmt(part["stance"]["accuracy"] if part["stance"] else None),
-            _fmt(part["respondent"]["f1"] if part["respondent"] else None),
-            str(part["n_gold_spans"]),
-        )  # fmt: skip
-    tables.append(language)
-    stance = results["stance"]
-    if stance is not None:
-        confusion = Table(
-            title=f"Stance on exactly matched mentions: accuracy "
-            f"{stance['accuracy']:.3f}, macro-F1 {stance['macro_f1']:.3f}"
-        )
-        confusion.add_column("gold \\ predicted")
-        for label in stance["labels"]:
-            confusion.add_column(label, justify="right")
-        for label, row in zip(stance["labels"], stance["confusion"], strict=True):
-            confusion.add_row(label, *(str(n) for n in row))
-        tables.append(confusion)
-    return tables

@@ -16,7 +16,6 @@ from extractor.errors import InputError
 from extractor.models.metrics import (
     cross_validate,
     evaluate_on,
-    format_tables,
     group_folds,
     respondent_scores,
     score,
@@ -241,12 +240,3 @@ def test_cross_validate_shows_a_progress_bar_over_folds() -> None:
         progress.enable(None)
     assert "Cross-validating" in out.getvalue() and "4/4" in out.getvalue()
 
-
-def test_format_tables_render_every_part() -> None:
-    gold = [(sentence(0, "ANA"), [Span(0, 3, "C1", "liked")])]
-    tables = format_tables(score(gold, [[Span(0, 3, "C1", "disliked")]]))
-    console = Console(file=io.StringIO(), width=120)
-    for table in tables:
-        console.print(table)
-    text = console.file.getvalue()
-    assert "span (strict)" in text and "C1" in text and "gold \\ predicted" in text

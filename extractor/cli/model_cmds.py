@@ -1,0 +1,148 @@
+"""Commands that build and use model versions: ``train``, ``models``, ``run``, ``export``."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+from typing import Any
+
+from rich.console import Console
+from rich.table import Table
+
+from extractor.cli.common import metric_summary, open_workspace, print_notes, print_warnings
+from extractor.jobs.export import export
+from extractor.jobs.run import RunReport, run_in, train_and_tag
+from extractor.jobs.status import model_versions
+from extractor.report.caution import REVIEW_CAUTION
+
+
+def cmd_train(args: argparse.Namespace, console: Console) -> int:
+    """Train a new model version."""
+    with open_workspace(args) as ws:
+        done = train_and_tag(ws, cross_validate=not args.no_cv)
+    report, tagged = done.train, done.tag
+    print_notes(console, report.notes)
+    console.print(
+        f"Model version [bold]{report.version}[/] trained on {report.counts['gold_sentences']} "
+        f"labeled and {report.counts['silver_sentences']} dictionary-labeled sentences; "
+        f"{metric_summary(report.metrics)}; it found {tagged.mentions} trait mentions "
+        f"({tagged.unlinked} not linked to a concept)."
+    )
+    return 0
+
+
+def cmd_models(args: argparse.Namespace, console: Console) -> int:
+    """List model versions with their metrics."""
+    with open_workspace(args) as ws:
+        found = model_versions(ws)
+    if not found:
+        console.print("No model versions yet; run `traits train` or `traits run`.")
+        return 0
+    table = Table(title="Model versions")
+    for column in ("version", "trained", "labeled", "silver", "quality"):
+        table.add_column(column)
+    for model in found:
+        counts = model["meta"].get("counts", {})
+        table.add_row(
+            model["version"],
+            model["created_at"],
+            str(counts.get("gold_sentences", "")),
+            str(counts.get("silver_sentences", "")),
+            metric_summary(model["metrics"]),
+        )
+    console.print(table)
+    return 0
+
+
+def cmd_run(args: argparse.Namespace, console: Console) -> int:
+    """Run the whole job in the workspace (the demo in the repository root)."""
+    _print_run(run_in(Path(args.workspace)), console)
+    return 0
+
+
+def _print_run(report: RunReport, console: Console) -> None:
+    new = report.new
+    if new.respondents or new.sentences:
+        languages = ", ".join(new.languages) or "none"
+        console.print(
+            f"New since the last run: {new.respondents} respondents, {new.sentences} "
+            f"sentences; new languages: {languages}."
+        )
+    else:
+        console.print("No new interviews since the last run.")
+    for item in (report.concepts, report.varieties):
+        if item is not None:
+            print_warnings(console, item.warnings)
+    print_notes(console, report.train.notes)
+    console.print(_run_table(report))
+    console.print(f"[italic]{REVIEW_CAUTION}[/]")
+
+
+def _run_table(report: RunReport) -> Table:
+    counts = report.counts
+    table = Table(title="trait-extractor run")
+    table.add_column("what")
+    table.add_column("value", justify="right")
+    table.add_row("respondents", str(counts["respondents"]))
+    table.add_row("sentences", str(counts["sentences"]))
+    table.add_row("languages", ", ".join(counts["languages"]))
+    table.add_row("concepts", str(counts["concepts"]))
+    table.add_row("sentences labeled by a person", str(counts["labels"]))
+    table.add_row("model version", report.train.version)
+    table.add_row("quality", metric_summary(report.train.metrics))
+    previous = report.previous_version
+    if previous is not None:
+        table.add_row("previous version", f"{previous.version}: {metric_summary(previous.metrics)}")
+    table.add_row("trait mentions found", str(report.tag.mentions))
+    table.add_row("mentions not linked to a concept", str(report.tag.unlinked))
+    table.add_row("workbook", str(report.export.path))
+    return table
+
+
+def cmd_export(args: argparse.Namespace, console: Console) -> int:
+    """Write the workbook (or another format) for the newest model version."""
+    with open_workspace(args) as ws:
+        report = export(
+            ws,
+            args.format,
+            version=args.version,
+            out=Path(args.out) if args.out else None,
+            pseudonymise=args.pseudonymise,
+            min_confidence=args.min_confidence,
+            group_by=args.group_by.split(",") if args.group_by else None,
+            names_file=args.names_file,
+        )
+    console.print(f"Wrote {report.path} ({report.mentions} mentions).")
+    if report.chart:
+        console.print(f"Chart: {report.chart}")
+    console.print(f"[italic]{REVIEW_CAUTION}[/]")
+    return 0
+
+
+def register(sub: Any) -> None:
+    """Add ``train``, ``models``, ``run`` and ``export`` to the command's subparsers."""
+    p = sub.add_parser("train", help="train a new model version")
+    p.add_argument("--no-cv", action="store_true", help="skip cross-validation")
+    p.set_defaults(handler=cmd_train)
+    p = sub.add_parser("models", help="list model versions and their measured quality")
+    p.set_defaults(handler=cmd_models)
+    p = sub.add_parser("run", help="the whole job: add new interviews, train, tag, export")
+    p.set_defaults(handler=cmd_run)
+    p = sub.add_parser("export", help="write the preferred-traits workbook or another format")
+    p.add_argument("--out", help="output file (default: exports/preferred_traits.xlsx)")
+    p.add_argument("--format", choices=("xlsx", "csv", "jsonl", "conll", "jsonld"), default="xlsx")
+    p.add_argument(
+        "--pseudonymise",
+        action="store_true",
+        help="replace respondent IDs by pseudonyms and screen quotes",
+    )
+    p.add_argument(
+        "--min-confidence",
+        type=float,
+        default=None,
+        help="drop predicted mentions below this tagger confidence",
+    )
+    p.add_argument("--group-by", help="comma-separated respondent columns to compare")
+    p.add_argument("--names-file", help="text file of names to screen out of quotes")
+    p.add_argument("--version", help="model version (default: the newest)")
+    p.set_defaults(handler=cmd_export)

@@ -1,0 +1,108 @@
+"""Commands that make and fill a workspace: ``init``, ``add``, ``status``."""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import json
+from pathlib import Path
+from typing import Any
+
+from rich.console import Console
+from rich.table import Table
+
+from extractor.cli.common import open_workspace, print_warnings
+from extractor.ingest.intake import add_files
+from extractor.jobs.status import workspace_status
+from extractor.workspace.folder import init_workspace
+
+_COUNT_COLUMNS = ("respondents", "answers", "sentences")
+
+
+def cmd_init(args: argparse.Namespace, console: Console) -> int:
+    """Create a workspace folder."""
+    root = init_workspace(Path(args.dir))
+    console.print(
+        f"Workspace ready in [bold]{root}[/]: traits.toml, traits.sqlite, models/, exports/."
+    )
+    console.print("Next: [bold]traits add FILE...[/] and [bold]traits concepts import FILE[/].")
+    return 0
+
+
+def _column_mapping(args: argparse.Namespace) -> dict[str, str] | None:
+    """Return the columns named on the command line, by role, or None for none."""
+    mapping = {
+        key: value
+        for key, value in (
+            ("respondent", args.respondent_column),
+            ("question", args.question_column),
+            ("answer", args.answer_column),
+            ("language", args.language_column),
+            ("variety", args.variety_column),
+        )
+        if value
+    }
+    return mapping or None
+
+
+def cmd_add(args: argparse.Namespace, console: Console) -> int:
+    """Add interview files."""
+    with open_workspace(args) as ws:
+        reports = add_files(
+            ws, [Path(p) for p in args.files], sheet=args.sheet, mapping=_column_mapping(args)
+        )
+    table = Table(title="Interview files")
+    for column in ("file", "status", "layout", *_COUNT_COLUMNS):
+        table.add_column(column, justify="right" if column in _COUNT_COLUMNS else "left")
+    for report in reports:
+        counts = (getattr(report, k) for k in _COUNT_COLUMNS)
+        table.add_row(
+            report.path,
+            report.status,
+            report.layout,
+            *("" if n is None else str(n) for n in counts),
+        )
+    console.print(table)
+    for report in reports:
+        print_warnings(console, report.warnings)
+    return 0
+
+
+def cmd_status(args: argparse.Namespace, console: Console) -> int:
+    """Print the workspace's counts."""
+    with open_workspace(args) as ws:
+        counts = dataclasses.asdict(workspace_status(ws))
+    if args.json:
+        console.file.write(json.dumps(counts, sort_keys=True) + "\n")
+        return 0
+    table = Table(title=f"Workspace {Path(args.workspace).resolve()}")
+    table.add_column("what")
+    table.add_column("count", justify="right")
+    for key, value in counts.items():
+        shown: Any = value
+        if key in ("languages", "language_tags"):
+            shown = ", ".join(f"{lang} {n}" for lang, n in value.items()) or "-"
+        table.add_row(key, str(shown))
+    console.print(table)
+    return 0
+
+
+def register(sub: Any) -> None:
+    """Add ``init``, ``add`` and ``status`` to the command's subparsers."""
+    p = sub.add_parser("init", help="create a workspace folder")
+    p.add_argument("dir", nargs="?", default=".")
+    p.set_defaults(handler=cmd_init)
+
+    p = sub.add_parser("add", help="add interview files (.xlsx .csv .tsv .txt .docx)")
+    p.add_argument("files", nargs="+")
+    p.add_argument("--sheet", help="read only this sheet of a workbook")
+    p.add_argument("--respondent-column")
+    p.add_argument("--question-column")
+    p.add_argument("--answer-column")
+    p.add_argument("--language-column")
+    p.add_argument("--variety-column")
+    p.set_defaults(handler=cmd_add)
+
+    p = sub.add_parser("status", help="counts of what the workspace holds")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(handler=cmd_status)

@@ -1,0 +1,126 @@
+"""Concept list curation: list concepts, suggest unlinked terms, accept aliases, export."""
+
+from __future__ import annotations
+
+import csv
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from extractor.jobs.train import load_version
+from extractor.models.terms import TermSuggestion
+from extractor.models.terms import suggest_terms as rank_terms
+from extractor.types import Span
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+
+
+@dataclass(frozen=True)
+class ConceptListing:
+    """The concepts (or varieties) in force, their alias counts, and the imported versions."""
+
+    concepts: Sequence[Mapping[str, Any]]
+    alias_counts: Mapping[str, int]
+    versions: Sequence[Mapping[str, Any]]
+
+
+@dataclass(frozen=True)
+class TermSuggestions:
+    """Frequent unlinked terms, and a display name for every concept ID they point at."""
+
+    terms: Sequence[TermSuggestion]
+    names: Mapping[str, str]
+
+
+@dataclass(frozen=True)
+class AliasAcceptance:
+    """A term offered as an alias of a concept, and whether it was new."""
+
+    term: str
+    concept: str
+    lang: str
+    added: bool
+
+
+def list_concepts(ws: Workspace, kind: str = "trait") -> ConceptListing:
+    """Return the concepts of one kind (``trait`` or ``variety``) and the list versions."""
+    versions = store.concept_versions(ws.conn)
+    found = store.concepts(ws.conn, kind)
+    per_concept: dict[str, int] = {}
+    for alias in store.aliases(ws.conn, kind):
+        per_concept[alias["concept_id"]] = per_concept.get(alias["concept_id"], 0) + 1
+    return ConceptListing(found, per_concept, versions)
+
+
+def suggest_terms(ws: Workspace, *, min_count: int = 2) -> TermSuggestions:
+    """Return frequent mentions of the newest version that no concept was linked to.
+
+    Each concept is named by its label in the workspace's default language (else its
+    first label).
+    """
+    version, models = load_version(ws)
+    predicted = store.predictions(ws.conn, version)
+    sentences = {s.id: s for s in store.sentences(ws.conn, predicted)}
+    unlinked = [
+        (sentences[sid], Span(m["start"], m["end"]))
+        for sid, row in predicted.items()
+        if sid in sentences
+        for m in row["mentions"]
+        if m.get("concept") is None
+    ]
+    terms = rank_terms(unlinked, models.linker_, models.clusters_, min_count=min_count)
+    default = ws.settings.workspace.default_language
+    names = {
+        c["id"]: c["labels"].get(default) or next(iter(c["labels"].values()), "")
+        for c in store.concepts(ws.conn)
+    }
+    return TermSuggestions(terms, names)
+
+
+def accept_alias(
+    ws: Workspace, term: str, concept: str, *, lang: str | None = None, annotator: str
+) -> AliasAcceptance:
+    """Add a term as an annotator alias of a concept (language: the workspace's default)."""
+    lang = lang or ws.settings.workspace.default_language
+    added = store.add_alias(ws.conn, concept, term, lang, annotator)
+    return AliasAcceptance(term, concept, lang, bool(added))
+
+
+def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
+    """Write the concept list in its import format, one row per concept and language.
+
+    Aliases from the imported list fill ``synonyms`` and ``hidden`` as they were; aliases
+    accepted by annotators are listed apart in ``accepted_aliases`` (with who accepted
+    them), for curators to review and, if they agree, move into ``synonyms``.
+    """
+    out = out or ws.exports_dir / "concepts_with_accepted_aliases.csv"
+    out.parent.mkdir(parents=True, exist_ok=True)
+    concepts = {c["id"]: c for c in store.concepts(ws.conn)}
+    rows: dict[tuple[str, str], dict[str, list[str]]] = {}
+    for alias in store.aliases(ws.conn):
+        key = (alias["concept_id"], alias["lang"])
+        row = rows.setdefault(key, {"alternative": [], "hidden": [], "accepted": []})
+        if alias["origin"] == "annotator":
+            row["accepted"].append(f"{alias['text']} (by {alias['added_by'] or 'unknown'})")
+        elif alias["kind"] != "preferred":
+            row[alias["kind"]].append(alias["text"])
+    header = ["id", "label", "lang", "synonyms", "hidden", "parent", "definition"]
+    with out.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.writer(handle)
+        writer.writerow([*header, "accepted_aliases"])
+        for (concept_id, lang), row in sorted(rows.items()):
+            concept = concepts.get(concept_id, {})
+            writer.writerow(
+                [
+                    concept_id,
+                    concept.get("labels", {}).get(lang, ""),
+                    lang,
+                    "|".join(row["alternative"]),
+                    "|".join(row["hidden"]),
+                    concept.get("parent") or "",
+                    concept.get("definition") or "",
+                    "|".join(row["accepted"]),
+                ]
+            )
+    return out

@@ -1,0 +1,104 @@
+"""The labeling session's wiring from a workspace, and importing labels from files.
+
+:func:`labeling_setup` turns the workspace's settings and newest model version into
+what a labeling screen needs (the screen itself lives in the command line).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import sqlite3
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from extractor.ingest.labels import import_labels, read_labels
+from extractor.jobs.evaluate import stored_quality
+from extractor.jobs.inputs import alias_tuples, session_settings
+from extractor.jobs.train import load_version
+from extractor.loop.predictor import Predictor, Retrain
+from extractor.loop.samples import SessionSettings
+from extractor.models.bundle import TraitModels
+from extractor.types import Sentence, Span
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+
+
+@dataclass(frozen=True)
+class LabelingSetup:
+    """Everything a labeling screen needs to run a session over a workspace."""
+
+    conn: sqlite3.Connection
+    annotator: str
+    batch_size: int
+    strategy: str
+    predictor: Predictor | None
+    retrain: Retrain
+    settings: SessionSettings
+    quality: Callable[[], Mapping[str, float | str] | None]
+
+
+def retrainer(ws: Workspace) -> Retrain:
+    """Return a function that fits new models on the session's labels, off the main thread.
+
+    The corpus, aliases and settings are read now, so the background thread never
+    touches the store.
+    """
+    corpus = store.sentences(ws.conn)
+    aliases = alias_tuples(ws)
+    params = dataclasses.asdict(ws.settings.tagger)
+    threshold = ws.settings.linking.threshold
+    clusters_box: dict[str, Any] = {}
+
+    def retrain(gold: Sequence[tuple[Sentence, Sequence[Span]]]) -> Predictor:
+        models = TraitModels(tagger_params=params, link_threshold=threshold)
+        models.fit(list(gold), corpus, aliases, clusters=clusters_box.get("clusters"))
+        clusters_box["clusters"] = models.clusters_
+        return models.predict
+
+    return retrain
+
+
+def labeling_setup(
+    ws: Workspace,
+    *,
+    annotator: str,
+    batch_size: int | None = None,
+    strategy: str | None = None,
+    evaluation: bool = False,
+) -> LabelingSetup:
+    """Return a labeling session's setup over the newest model version (or a cold start).
+
+    With ``evaluation``, the sentences come from the unlabeled part of the random
+    evaluation sample instead, so that quality can be measured honestly. Options left
+    as None come from the workspace's settings.
+    """
+    active = ws.settings.active
+    predictor = None
+    if store.models(ws.conn):
+        _, models = load_version(ws)
+        predictor = models.predict
+    return LabelingSetup(
+        conn=ws.conn,
+        annotator=annotator,
+        batch_size=batch_size or active.batch_size,
+        strategy=strategy or active.strategy,
+        predictor=predictor,
+        retrain=retrainer(ws),
+        settings=dataclasses.replace(session_settings(ws), offer_evaluation=evaluation),
+        quality=lambda: stored_quality(ws),
+    )
+
+
+def import_label_file(ws: Workspace, path: Path, *, annotator: str) -> dict[str, int]:
+    """Import gold labels from JSON Lines or CoNLL IOB2 columns into the workspace.
+
+    Returns:
+        The counts of the import: labels, spans, matched and added sentences.
+    """
+    default_lang = ws.settings.workspace.default_language
+    records = read_labels(path, default_lang=default_lang)
+    return import_labels(
+        ws.conn, records, annotator=annotator, default_lang=default_lang, source=path.name
+    )

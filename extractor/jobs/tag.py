@@ -1,0 +1,123 @@
+"""Tag every sentence of a workspace with a model version and store the predictions."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from extractor.jobs.inputs import alias_tuples
+from extractor.jobs.train import load_version
+from extractor.models.bundle import TraitModels
+from extractor.models.variety import attribute_variety, find_varieties
+from extractor.nlp.dictionary import build_dictionary
+from extractor.progress import track
+from extractor.types import Sentence, Span
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+
+CHUNK = 500
+"""Sentences predicted together (one progress step)."""
+
+
+@dataclass(frozen=True)
+class TagReport:
+    """How many sentences were tagged and how many mentions were found."""
+
+    sentences: int
+    mentions: int
+    unlinked: int
+
+
+def tag(ws: Workspace, models: TraitModels, version: str) -> TagReport:
+    """Tag every sentence with a model version and store the predictions.
+
+    Spans a person labeled keep the concepts the person gave.
+    """
+    labels = store.current_labels(ws.conn)
+    gold_concepts = {
+        sid: {(sp.start, sp.end): sp.concept for sp in label.spans if sp.concept}
+        for sid, label in labels.items()
+    }
+    corpus = store.sentences(ws.conn)
+    rows: list[dict[str, Any]] = []
+    chunks = range(0, len(corpus), CHUNK)
+    for start in track(chunks, "Tagging sentences", len(chunks)):
+        batch = corpus[start : start + CHUNK]
+        for sentence, prediction in zip(batch, models.predict(batch, gold_concepts), strict=True):
+            rows.append(
+                {
+                    "sentence_id": sentence.id,
+                    "path_prob": prediction.tagged.probability,
+                    "mentions": [
+                        m._asdict()
+                        | {"source": "predicted", "concept_probs": None, "stance_probs": None}
+                        for m in prediction.mentions
+                    ],
+                }
+            )
+    attribute_varieties(ws, corpus, rows)
+    store.store_predictions(ws.conn, version, rows)
+    mentions = sum(len(r["mentions"]) for r in rows)
+    unlinked = sum(1 for r in rows for m in r["mentions"] if m["concept"] is None)
+    return TagReport(sentences=len(rows), mentions=mentions, unlinked=unlinked)
+
+
+def attribute_varieties(
+    ws: Workspace, corpus: Sequence[Sentence], rows: Sequence[dict[str, Any]]
+) -> None:
+    """Set ``variety`` and ``ref_variety`` on every predicted mention, in place.
+
+    A mention is about the nearest variety named before it in its answer, else the
+    answer's variety column, else the variety named in the question; a comparison also
+    records the variety compared with. Needs a variety list (`traits concepts import
+    --varieties`); without one, only the variety column is used, as written.
+    """
+    names = alias_tuples(ws, "variety")
+    matcher = build_dictionary(names) if names else None
+    column = {a["id"]: a["variety"] for a in store.answers(ws.conn)}
+    by_answer: dict[int, list[tuple[Sentence, dict[str, Any]]]] = {}
+    for sentence, row in zip(corpus, rows, strict=True):
+        by_answer.setdefault(sentence.answer_id or 0, []).append((sentence, row))
+
+    def ids_in(text: str | None, lang: str) -> list[str]:
+        if not text or matcher is None:
+            return []
+        return [v for _, _, v in find_varieties(text, lang, matcher)]
+
+    for answer_id, items in by_answer.items():
+        mentions = [
+            (i, Span(m["start"], m["end"]))
+            for i, (_, row) in enumerate(items)
+            for m in row["mentions"]
+        ]
+        if not mentions:
+            continue
+        sentences = [s for s, _ in items]
+        lang = sentences[0].lang
+        written = column.get(answer_id)
+        answer_variety = (ids_in(written, lang) or [written])[0] if written else None
+        found = attribute_variety(
+            sentences,
+            mentions,
+            [find_varieties(s.text, s.lang, matcher) if matcher else [] for s in sentences],
+            answer_variety,
+            ids_in(sentences[0].question, lang),
+        )
+        flat = [m for _, row in items for m in row["mentions"]]
+        for mention, (subject, reference) in zip(flat, found, strict=True):
+            mention["variety"], mention["ref_variety"] = subject, reference
+
+
+def ensure_tagged(ws: Workspace, version: str | None = None) -> str | None:
+    """Tag every sentence with a version (the newest by default) unless already done.
+
+    Returns:
+        The version, or None when no model is trained yet.
+    """
+    if not store.models(ws.conn):
+        return None
+    name, models = load_version(ws, version)
+    if store.count_predictions(ws.conn, name) < store.counts(ws.conn)["sentences"]:
+        tag(ws, models, name)
+    return name

@@ -1,0 +1,199 @@
+"""Train a model version of a workspace, cross-validate it, and load saved versions."""
+
+from __future__ import annotations
+
+import shutil
+from collections.abc import Mapping, Sequence
+from dataclasses import asdict, dataclass
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+from extractor.errors import ModelError, TraitsError
+from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings
+from extractor.loop.samples import ensure_samples
+from extractor.models import metrics
+from extractor.models.bundle import TraitModels
+from extractor.nlp.clusters import corpus_fingerprint, load_clusters
+from extractor.types import Sentence, Span
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+
+MIN_LABELS_FOR_CV = 20
+"""Cross-validate a new version only when at least this many sentences are labeled."""
+
+
+@dataclass(frozen=True)
+class TrainReport:
+    """What training a version did: its name, what it learned from, notes and figures."""
+
+    version: str
+    counts: Mapping[str, Any]
+    notes: tuple[str, ...]
+    metrics: Mapping[str, Any]
+
+
+@dataclass(frozen=True)
+class TrainedVersion:
+    """A freshly trained and saved version: the report and the fitted models."""
+
+    report: TrainReport
+    models: TraitModels
+
+
+def new_version_name(ws: Workspace) -> str:
+    """Return a fresh, sortable model version name such as ``v003-20261201T221500``."""
+    n = len(store.models(ws.conn)) + 1
+    stamp = datetime.now(UTC).strftime("%Y%m%dT%H%M%S")
+    name = f"v{n:03d}-{stamp}"
+    while (ws.models_dir / name).exists():
+        n += 1
+        name = f"v{n:03d}-{stamp}"
+    return name
+
+
+def reusable_clusters(ws: Workspace, corpus: Sequence[Sentence]) -> dict[str, Any] | None:
+    """Return the latest version's word clusters when the corpus has not changed since."""
+    latest = store.latest_model(ws.conn)
+    if latest is None:
+        return None
+    if latest["meta"].get("clusters_fingerprint") != corpus_fingerprint(
+        (s.text, s.lang) for s in corpus
+    ):
+        return None
+    try:
+        return load_clusters(Path(ws.root / latest["path"]))
+    except TraitsError:
+        return None
+
+
+def _training_notes(held_out: frozenset[int], has_aliases: bool) -> list[str]:
+    notes = []
+    if held_out:
+        notes.append(
+            f"{len(held_out)} labeled sentences of the evaluation sample are "
+            "kept out of training, so `traits evaluate` can score on them honestly."
+        )
+    if not has_aliases:
+        notes.append("No concept list is imported, so the tagger learns from labels alone.")
+    return notes
+
+
+def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
+    """Train and save a new model version from the workspace's labels and concept list.
+
+    Returns:
+        The report (version, counts, notes such as "no concept list", metrics) and the
+        fitted models.
+
+    Raises:
+        ModelError: neither a concept list nor labels are there to learn from.
+    """
+    evaluation = set(ensure_samples(ws.conn, session_settings(ws))[0])
+    labeled = gold_examples(ws)
+    gold = [(s, spans) for s, spans in labeled if s.id not in evaluation]
+    held_out = frozenset(s.id for s, _ in labeled if s.id in evaluation)
+    aliases = alias_tuples(ws)
+    if not gold and not aliases:
+        raise ModelError(
+            "There is nothing to train on yet: import a concept list with "
+            "`traits concepts import FILE`, or label sentences with `traits label`."
+        )
+    if not store.counts(ws.conn)["sentences"]:
+        raise ModelError("The workspace holds no sentences; add interviews with `traits add FILE`.")
+    notes = _training_notes(held_out, bool(aliases))
+    corpus = store.sentences(ws.conn)
+    models = TraitModels(
+        tagger_params=asdict(ws.settings.tagger),
+        link_threshold=ws.settings.linking.threshold,
+    )
+    models.fit(gold, corpus, aliases, clusters=reusable_clusters(ws, corpus), held_out=held_out)
+    figures: dict[str, Any] = {}
+    if cross_validate:
+        cv, why = cross_validation(ws, gold, corpus, models.clusters_)
+        if cv is not None:
+            figures["cross_validation"] = cv
+        elif len(gold) >= MIN_LABELS_FOR_CV:
+            notes.append(why)
+    version = _save_version(ws, models, figures)
+    report = TrainReport(version, models.counts_, tuple(notes), figures)
+    return TrainedVersion(report, models)
+
+
+def _save_version(ws: Workspace, models: TraitModels, figures: dict[str, Any]) -> str:
+    """Save fitted models as a new version and record it; nothing is left on failure."""
+    version = new_version_name(ws)
+    folder = ws.models_dir / version
+    concept_version = store.current_concept_version(ws.conn)
+    extra = {
+        "version": version,
+        "concept_list": None
+        if concept_version is None
+        else {
+            "path": concept_version["path"],
+            "sha256": concept_version["sha256"],
+            "imported_at": concept_version["imported_at"],
+        },
+        "metrics": figures,
+    }
+    try:
+        meta = models.save(folder, extra)
+        store.add_model(ws.conn, version, folder.relative_to(ws.root).as_posix(), meta)
+    except BaseException:
+        shutil.rmtree(folder, ignore_errors=True)
+        raise
+    return version
+
+
+def cross_validation(
+    ws: Workspace,
+    gold: list[tuple[Sentence, list[Span]]],
+    corpus: list[Sentence],
+    clusters: dict[str, Any] | None,
+    k: int = 5,
+) -> tuple[dict[str, Any] | None, str]:
+    """Return k-fold figures grouped by respondent, or None and the reason there are none.
+
+    ``gold`` is the labels outside the evaluation sample, as in training, so that
+    `traits train` and `traits evaluate` measure the same thing.
+    """
+    if len(gold) < MIN_LABELS_FOR_CV:
+        return None, (
+            f"only {len(gold)} sentences outside the evaluation sample are labeled; "
+            f"label at least {MIN_LABELS_FOR_CV} (`traits label` or "
+            "`traits import-labels`)."
+        )
+    if len({metrics.respondent_key(s) for s, _ in gold}) < 2:
+        return None, (
+            "all labels come from one respondent, so there is no cross-validation "
+            "(its folds keep each respondent's sentences together); label another's."
+        )
+    return metrics.cross_validate(
+        gold,
+        corpus,
+        alias_tuples(ws),
+        k=k,
+        seed=0,
+        model_params={
+            "tagger_params": asdict(ws.settings.tagger),
+            "link_threshold": ws.settings.linking.threshold,
+        },
+        clusters=clusters,
+    ), ""
+
+
+def load_version(ws: Workspace, version: str | None = None) -> tuple[str, TraitModels]:
+    """Load a saved model version (the newest by default)."""
+    recorded = store.models(ws.conn)
+    if not recorded:
+        raise ModelError("No model is trained yet; run `traits train` or `traits run`.")
+    chosen = (
+        recorded[-1]
+        if version is None
+        else next((m for m in recorded if m["version"] == version), None)
+    )
+    if chosen is None:
+        raise ModelError(
+            f"Model version {version!r} is not in this workspace; see `traits models`."
+        )
+    return chosen["version"], TraitModels.load(ws.root / chosen["path"])
