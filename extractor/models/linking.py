@@ -1,57 +1,42 @@
 """Linking a trait mention to a concept ID of the validated trait list, or to none.
 
-Three scorers give each candidate concept a number in ``[0, 1]``:
-
-* **exact**: the span equals an alias after normalisation (case-folded, Snowball
-  stem per word, accents removed; :func:`extractor.nlp.dictionary.stem_word`), keyed with
-  the sentence's stemmer and with the alias's own, so code-switched words still match;
-* **fuzzy**: the best cosine between the span and the concept's aliases in TF-IDF
-  space over character 2-4-grams inside word boundaries (any language, tolerant of
-  spelling, inflection and missing accents);
-* **context**: a logistic regression over the span's character n-grams, stems, and
-  the words within :data:`WINDOW` tokens, trained on the linked examples.
-
-Surface forms of linked examples join the aliases, so a phrasing seen once links
-exactly the next time. A small logistic *combiner* turns the three scores into the
-probability that a candidate is right. With at least :data:`MIN_COMBINER_EXAMPLES`
-linked examples it is fitted on out-of-fold scores (each fold's scorers never saw
-the example), so its output is calibrated on the project's own data; below that a
-fixed, documented rule is used (:data:`DEFAULT_WEIGHTS`). The best candidate below
-``threshold`` leaves the mention unlinked.
+Three scorers (:mod:`extractor.models.link_scoring`: exact, fuzzy and context) give
+each candidate concept a number in ``[0, 1]``. Surface forms of linked examples join
+the aliases, so a phrasing seen once links exactly the next time. A small logistic
+*combiner* turns the three scores into the probability that a candidate is right.
+With at least :data:`MIN_COMBINER_EXAMPLES` linked examples it is fitted on
+out-of-fold scores (each fold's scorers never saw the example), so its output is
+calibrated on the project's own data; below that a fixed, documented rule is used
+(:data:`DEFAULT_WEIGHTS`). The best candidate below ``threshold`` leaves the mention
+unlinked; :func:`choose_threshold` measures a threshold on held-out gold links.
 """
 
 from __future__ import annotations
 
-import re
-from collections import Counter, defaultdict
-from collections.abc import Iterable, Mapping, Sequence
-from functools import lru_cache
+from collections.abc import Iterable, Sequence
 from pathlib import Path
-from typing import Any, NamedTuple
+from typing import NamedTuple
 
 import numpy as np
 import skops.io
-from sklearn.feature_extraction import DictVectorizer
-from sklearn.feature_extraction.text import TfidfVectorizer
+from sklearn.base import BaseEstimator
 from sklearn.linear_model import LogisticRegression
 from sklearn.model_selection import KFold
 from sklearn.pipeline import Pipeline
 
 from extractor.errors import InputError, NotFittedError
+from extractor.models.link_scoring import (
+    TOP_K,
+    Alias,
+    Example,
+    Scorer,
+    combine,
+    context_features,
+    example_forms,
+    fit_context,
+)
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
-from extractor.nlp.dictionary import stem_word
-from extractor.nlp.fold import fold, fold_words
-from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
-
-Alias = tuple[str, str, str]
-"""(concept_id, alias text, language tag)."""
-
-Example = tuple[Sentence, Span, "str | None"]
-"""A linked mention: sentence, span and its concept (``None``: known to fit no concept)."""
-
-WINDOW = 5
-"""Tokens either side of a span whose words feed the context classifier."""
 
 MIN_COMBINER_EXAMPLES = 30
 """Linked examples needed before the combiner is fitted rather than the default rule."""
@@ -64,12 +49,12 @@ Set by hand (common practice for a cold start) so that an exact alias gives abou
 0.6 about 0.33, and a confident context classifier lifts a weak fuzzy match over it.
 """
 
-TOP_K = 5
-"""Candidates kept per mention, best first."""
-
 _FORMAT = "trait-extractor/linker/1"
 _SKOPS_FILE = "context.skops"
 _JSON_FILE = "linker.json"
+
+LinkScore = tuple["str | None", float, "str | None"]
+"""``(best concept, its probability, gold concept)`` of one held-out mention."""
 
 
 class LinkResult(NamedTuple):
@@ -80,176 +65,10 @@ class LinkResult(NamedTuple):
     candidates: list[tuple[str, float]]
 
 
-# ------------------------------------------------------------------ normalisation
-
-
-def _code(lang: str) -> str:
-    return primary_subtag(lang) if lang else ""
-
-
-@lru_cache(maxsize=1 << 16)
-def alias_key(text: str, lang: str) -> str:
-    """Return the exact-match key of a text: each word stemmed and folded, space-joined."""
-    words = [text[s:e] for s, e in tokenize(text, lang or "xx")]
-    return " ".join(stem_word(w, lang or "xx") for w in words if any(c.isalnum() for c in w))
-
-
-def _char_ngrams(text: str, low: int = 2, high: int = 4) -> list[str]:
-    """Return character n-grams inside padded word boundaries (as ``char_wb`` does)."""
-    out: list[str] = []
-    for word in text.split():
-        padded = f" {word} "
-        for n in range(low, high + 1):
-            out.extend(padded[i : i + n] for i in range(max(1, len(padded) - n + 1)))
-    return out
-
-
-def context_features(sentence: Sentence, span: Span) -> dict[str, float]:
-    """Return the context-classifier features of a mention.
-
-    Character n-grams and stems of the span (``c:``, ``s:``) and the folded words
-    within :data:`WINDOW` tokens either side (``w:``), so a new phrasing of a trait
-    ("boils quickly") can be linked by its neighbours ("beans", "pot", "firewood").
-    """
-    text = sentence.text[span.start : span.end]
-    f: dict[str, float] = defaultdict(float)
-    for gram in _char_ngrams(fold_words(text)):
-        f["c:" + gram] += 1.0
-    for stem in alias_key(text, sentence.lang).split():
-        f["s:" + stem] = 1.0
-    tokens = tokenize(sentence.text, sentence.lang or "xx")
-    inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
-    if inside:
-        a, b = inside[0], inside[-1] + 1
-        for k in list(range(max(0, a - WINDOW), a)) + list(range(b, min(len(tokens), b + WINDOW))):
-            word = fold(sentence.text[tokens[k][0] : tokens[k][1]])
-            if any(c.isalnum() for c in word):
-                f["w:" + word] = 1.0
-    return dict(f)
-
-
-# ------------------------------------------------------------------ scorer
-
-
-class _Scorer:
-    """Exact, fuzzy and context scores of concepts for mentions (no combining)."""
-
-    def __init__(self, forms: Sequence[Alias], context: Pipeline | None) -> None:
-        # Forms sorted by concept so per-concept maxima are one reduceat.
-        self.forms = sorted(set(forms), key=lambda a: (a[0], a[1], a[2]))
-        self.concepts = sorted({c for c, _, _ in self.forms})
-        self.context = context
-        self.context_classes = [str(c) for c in context.classes_] if context is not None else []
-        self._exact_own: dict[str, set[str]] = defaultdict(set)
-        for concept, text, lang in self.forms:
-            self._exact_own[alias_key(text, lang)].add(concept)
-        self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
-        texts = [fold_words(t) for _, t, _ in self.forms]
-        self.vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(2, 4))
-        self.matrix = self.vectorizer.fit_transform(texts) if texts else None
-        starts, seen = [], set()
-        for i, (concept, _, _) in enumerate(self.forms):
-            if concept not in seen:
-                seen.add(concept)
-                starts.append(i)
-        self.starts = np.array(starts, dtype=np.int64)
-
-    def _exact_index(self, lang: str) -> dict[str, set[str]]:
-        """Return every form keyed with the stemmer of ``lang`` (built once per language)."""
-        code = _code(lang)
-        if code not in self._exact_by_lang:
-            index: dict[str, set[str]] = defaultdict(set)
-            for concept, text, _ in self.forms:
-                index[alias_key(text, code)].add(concept)
-            self._exact_by_lang[code] = index
-        return self._exact_by_lang[code]
-
-    def exact(self, sentence: Sentence, span: Span) -> set[str]:
-        text = sentence.text[span.start : span.end]
-        key = alias_key(text, sentence.lang)
-        hits = set(self._exact_index(sentence.lang).get(key, set()))
-        return hits | self._exact_own.get(key, set())
-
-    def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
-        """Return an ``(n, concepts)`` array of the best alias cosine per concept."""
-        if self.matrix is None or not texts:
-            return np.zeros((len(texts), len(self.concepts)))
-        sims = (self.vectorizer.transform([fold_words(t) for t in texts]) @ self.matrix.T).toarray()
-        return np.maximum.reduceat(sims, self.starts, axis=1)
-
-    def context_proba(self, features: Sequence[dict[str, float]]) -> np.ndarray | None:
-        if self.context is None or not features:
-            return None
-        return np.asarray(self.context.predict_proba(list(features)))
-
-    def candidates(
-        self,
-        items: Sequence[tuple[Sentence, Span]],
-        features: Sequence[dict[str, float]] | None = None,
-    ) -> list[dict[str, tuple[float, float, float]]]:
-        """Return, per mention, candidate concept -> (exact, fuzzy, context) scores.
-
-        ``features`` are the mentions' :func:`context_features` when already computed.
-        """
-        texts = [s.text[sp.start : sp.end] for s, sp in items]
-        fuzzy = self.fuzzy(texts)
-        ctx = None
-        if self.context is not None:
-            if features is None:
-                features = [context_features(s, sp) for s, sp in items]
-            ctx = self.context_proba(features)
-        out = []
-        col = {c: j for j, c in enumerate(self.concepts)}
-        for i, (sentence, span) in enumerate(items):
-            exact = self.exact(sentence, span)
-            pool = set(exact)
-            if len(self.concepts):
-                pool.update(self.concepts[j] for j in np.argsort(-fuzzy[i])[:TOP_K])
-            ctx_row: dict[str, float] = {}
-            if ctx is not None:
-                ctx_row = {self.context_classes[j]: float(ctx[i, j]) for j in range(ctx.shape[1])}
-                pool.update(sorted(ctx_row, key=lambda c: -ctx_row[c])[:TOP_K])
-            out.append(
-                {
-                    c: (
-                        1.0 if c in exact else 0.0,
-                        float(fuzzy[i, col[c]]) if c in col else 0.0,
-                        ctx_row.get(c, 0.0),
-                    )
-                    for c in pool
-                }
-            )
-        return out
-
-
-def _fit_context(
-    features: Sequence[dict[str, float]], concepts: Sequence[str | None], C: float
-) -> Pipeline | None:
-    """Fit the context classifier, or return ``None`` with fewer than two linked concepts."""
-    pairs = [(f, c) for f, c in zip(features, concepts, strict=True) if c is not None]
-    if len({c for _, c in pairs}) < 2:
-        return None
-    # tol 1e-3: a looser stop than the default changes no prediction on the demo gold
-    # and makes fitting (run once per combiner fold) several times faster.
-    classifier = LogisticRegression(C=C, max_iter=500, tol=1e-3)
-    pipe = Pipeline([("vectorizer", DictVectorizer()), ("classifier", classifier)])
-    pipe.fit([f for f, _ in pairs], [c for _, c in pairs])
-    return pipe
-
-
-def _example_forms(examples: Sequence[Example]) -> list[Alias]:
-    return [(c, s.text[sp.start : sp.end], s.lang or "") for s, sp, c in examples if c is not None]
-
-
-def _combine(weights: Sequence[float], scores: tuple[float, float, float]) -> float:
-    z = weights[0] + sum(w * x for w, x in zip(weights[1:], scores, strict=True))
-    return float(1.0 / (1.0 + np.exp(-z)))
-
-
 # ------------------------------------------------------------------ linker
 
 
-class ConceptLinker:
+class ConceptLinker(BaseEstimator):
     """Links trait mentions to concept IDs from aliases and linked examples.
 
     Args:
@@ -269,10 +88,6 @@ class ConceptLinker:
         self.C = C
         self.folds = folds
         self.seed = seed
-
-    def get_params(self) -> dict[str, Any]:
-        """Return the constructor arguments, to record with each saved model."""
-        return {"threshold": self.threshold, "C": self.C, "folds": self.folds, "seed": self.seed}
 
     def fit(self, examples: Iterable[Example], aliases: Iterable[Alias]) -> ConceptLinker:
         """Learn from aliases and linked examples (gold links and dictionary links).
@@ -299,18 +114,18 @@ class ConceptLinker:
                 )
             alias_list.append((str(concept), str(text).strip(), str(lang or "")))
         examples = list(examples)
-        forms = alias_list + _example_forms(examples)
+        forms = alias_list + example_forms(examples)
         if not forms:
             raise InputError(
                 "Linking needs at least one alias or linked example; got none."
                 " Import a concept list first."
             )
         self.aliases_ = alias_list
-        self.example_forms_ = _example_forms(examples)
+        self.example_forms_ = example_forms(examples)
         # Computed once: the combiner's folds reuse them.
         features = [context_features(s, sp) for s, sp, _ in examples]
         concepts = [c for _, _, c in examples]
-        self.scorer_ = _Scorer(forms, _fit_context(features, concepts, self.C))
+        self.scorer_ = Scorer.build(forms, fit_context(features, concepts, self.C))
         self.weights_ = self._fit_combiner(examples, features, alias_list)
         return self
 
@@ -326,10 +141,10 @@ class ConceptLinker:
         for train_idx, test_idx in folds.split(examples):
             train = [examples[i] for i in train_idx]
             held = [examples[i] for i in test_idx]
-            context = _fit_context(
+            context = fit_context(
                 [features[i] for i in train_idx], [c for _, _, c in train], self.C
             )
-            scorer = _Scorer(aliases + _example_forms(train), context)
+            scorer = Scorer.build(aliases + example_forms(train), context)
             cands_per_item = scorer.candidates(
                 [(s, sp) for s, sp, _ in held], [features[i] for i in test_idx]
             )
@@ -346,6 +161,10 @@ class ConceptLinker:
     def is_fitted(self) -> bool:
         """Whether :meth:`fit` (or :meth:`load`) has run."""
         return hasattr(self, "scorer_")
+
+    def __sklearn_is_fitted__(self) -> bool:
+        """Tell scikit-learn's ``check_is_fitted`` what :attr:`is_fitted` says."""
+        return self.is_fitted
 
     def _check(self) -> None:
         if not self.is_fitted:
@@ -383,7 +202,7 @@ class ConceptLinker:
                 results.append(LinkResult(gold[i], 1.0, [(str(gold[i]), 1.0)]))
                 continue
             scored = sorted(
-                ((c, _combine(self.weights_, s)) for c, s in cands.items()),
+                ((c, combine(self.weights_, s)) for c, s in cands.items()),
                 key=lambda cp: (-cp[1], cp[0]),
             )[:TOP_K]
             best = scored[0] if scored else (None, 0.0)
@@ -441,7 +260,7 @@ class ConceptLinker:
         linker = cls(**meta["params"])
         linker.aliases_ = [tuple(a) for a in meta["aliases"]]
         linker.example_forms_ = [tuple(a) for a in meta["example_forms"]]
-        linker.scorer_ = _Scorer(linker.aliases_ + linker.example_forms_, context)
+        linker.scorer_ = Scorer.build(linker.aliases_ + linker.example_forms_, context)
         linker.weights_ = [float(w) for w in meta["weights"]]
         return linker
 
@@ -482,9 +301,7 @@ def choose_threshold(
     return float(best_t)
 
 
-def link_scores(
-    linker: ConceptLinker, examples: Sequence[Example]
-) -> list[tuple[str | None, float, str | None]]:
+def link_scores(linker: ConceptLinker, examples: Sequence[Example]) -> list[LinkScore]:
     """Return ``(best_concept, probability, gold)`` per example, ignoring the threshold."""
     results = linker.link_many([(s, sp) for s, sp, _ in examples])
     return [
@@ -493,9 +310,7 @@ def link_scores(
     ]
 
 
-def linking_quality(
-    scores: Sequence[tuple[str | None, float, str | None]], threshold: float, metric: str = "f1"
-) -> float:
+def linking_quality(scores: Sequence[LinkScore], threshold: float, metric: str = "f1") -> float:
     """Return F1 or accuracy of :func:`link_scores` output at a threshold."""
     predicted = [(c if p >= threshold else None, gold) for c, p, gold in scores]
     if metric == "accuracy":
@@ -507,124 +322,3 @@ def linking_quality(
         return 0.0
     precision, recall = right / made, right / wanted
     return 2 * precision * recall / (precision + recall)
-
-
-# ------------------------------------------------------------------ suggestions
-
-
-def suggest_terms(
-    unlinked: Sequence[tuple[Sentence, Span]],
-    linker: ConceptLinker,
-    vectors: Mapping[str, Any] | None = None,
-    *,
-    min_count: int = 2,
-    k: int = 3,
-) -> list[dict[str, Any]]:
-    """Rank frequent unlinked mention texts as candidate new aliases or concepts.
-
-    Mentions are grouped by their normalised text (:func:`alias_key`). Groups seen at
-    least ``min_count`` times are returned, most frequent first, for ``traits concepts
-    suggest``.
-
-    Args:
-        unlinked: Mentions the linker left unlinked.
-        linker: A fitted linker, whose scorer proposes the nearest concepts.
-        vectors: A word-cluster model from :func:`extractor.nlp.clusters.learn_clusters`;
-            when given, concepts are also ranked by the cosine between the mean word
-            vector of the term and that of each concept's aliases.
-        min_count: Fewest mentions for a term to be suggested.
-        k: Nearest concepts per term, per method.
-
-    Returns:
-        One dict per term: ``term`` (most common written form), ``key``, ``lang``
-        (most common), ``count``, ``examples`` (up to 3 sentence texts),
-        ``nearest`` (``[(concept, probability)]`` by the linker) and ``nearest_by_vectors``
-        (``[(concept, cosine)]``, empty without vectors or known words).
-    """
-    groups: dict[str, list[tuple[Sentence, Span]]] = defaultdict(list)
-    for sentence, span in unlinked:
-        key = alias_key(sentence.text[span.start : span.end], sentence.lang)
-        if key:
-            groups[key].append((sentence, span))
-    frequent = sorted(
-        ((key, items) for key, items in groups.items() if len(items) >= min_count),
-        key=lambda kv: (-len(kv[1]), kv[0]),
-    )
-    concept_vecs = _concept_vectors(linker, vectors) if vectors else {}
-    fast_vectors = _fast(vectors) if vectors else None
-    out = []
-    for key, items in frequent:
-        forms = Counter(s.text[sp.start : sp.end] for s, sp in items)
-        langs = Counter(_code(s.lang) for s, _ in items)
-        examples: list[str] = []
-        for s, _ in items:
-            if s.text not in examples:
-                examples.append(s.text)
-        # Score each occurrence and average: the context differs per sentence.
-        totals: dict[str, float] = defaultdict(float)
-        for result in linker.link_many(items):
-            for concept, prob in result.candidates:
-                totals[concept] += prob / len(items)
-        nearest = sorted(totals.items(), key=lambda cp: (-cp[1], cp[0]))[:k]
-        term = forms.most_common(1)[0][0]
-        by_vec: list[tuple[str, float]] = []
-        if concept_vecs and fast_vectors is not None:
-            vec = _mean_vector(fast_vectors, term)
-            if vec is not None:
-                sims = {c: float(vec @ v) for c, v in concept_vecs.items()}
-                by_vec = sorted(sims.items(), key=lambda cp: (-cp[1], cp[0]))[:k]
-        out.append(
-            {
-                "term": term,
-                "key": key,
-                "lang": langs.most_common(1)[0][0],
-                "count": len(items),
-                "examples": examples[:3],
-                "nearest": [(c, round(p, 4)) for c, p in nearest],
-                "nearest_by_vectors": [(c, round(s, 4)) for c, s in by_vec],
-            }
-        )
-    return out
-
-
-def _mean_vector(model: Mapping[str, Any], text: str) -> np.ndarray | None:
-    """Return the unit mean vector of the words of ``text`` known to the model, or ``None``."""
-    index = model.get("_index")
-    if index is None:
-        index = {w: i for i, w in enumerate(model.get("words") or [])}
-    vectors = np.asarray(model.get("vectors", []), dtype=np.float32)
-    rows = [index[w] for w in (fold(t) for t in re.findall(r"\w+", text)) if w in index]
-    if not rows or vectors.size == 0:
-        return None
-    mean = vectors[rows].mean(axis=0)
-    norm = float(np.linalg.norm(mean))
-    return mean / norm if norm > 0 else None
-
-
-def _fast(model: Mapping[str, Any]) -> dict[str, Any]:
-    """Return the model with its word index and vector array built once, not per lookup."""
-    return {
-        **model,
-        "_index": {w: i for i, w in enumerate(model.get("words") or [])},
-        "vectors": np.asarray(model.get("vectors", []), dtype=np.float32),
-    }
-
-
-def _concept_vectors(linker: ConceptLinker, model: Mapping[str, Any]) -> dict[str, np.ndarray]:
-    """Return each concept's unit mean vector over the words of its aliases."""
-    words = model.get("words") or []
-    if not words:
-        return {}
-    fast = _fast(model)
-    per_concept: dict[str, list[np.ndarray]] = defaultdict(list)
-    for concept, text, _ in linker.aliases_:
-        vec = _mean_vector(fast, text)
-        if vec is not None:
-            per_concept[concept].append(vec)
-    out = {}
-    for concept, vecs in per_concept.items():
-        mean = np.mean(vecs, axis=0)
-        norm = float(np.linalg.norm(mean))
-        if norm > 0:
-            out[concept] = mean / norm
-    return out

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import numpy as np
 import pytest
+from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.models.linking import (
@@ -14,7 +14,6 @@ from extractor.models.linking import (
     choose_threshold,
     link_scores,
     linking_quality,
-    suggest_terms,
 )
 from extractor.types import Sentence, Span
 
@@ -212,39 +211,9 @@ def test_load_missing_raises(tmp_path: Path) -> None:
         ConceptLinker.load(tmp_path)
 
 
-# ------------------------------------------------------------------ suggestions
-
-
-def test_suggest_terms_ranks_frequent_unlinked_texts(cold: ConceptLinker) -> None:
-    unlinked = [
-        _mention("It takes forever to cook.", "takes forever", sid=1),
-        _mention("Ours take forever on the fire.", "take forever", sid=2),
-        _mention("It takes forever, really.", "takes forever", sid=3),
-        _mention("It takes forever in the pot.", "takes forever", sid=4),
-        _mention("The pods twist open.", "pods twist", sid=5),
-        _mention("Sometimes pods twist.", "pods twist", sid=6),
-        _mention("Purple flowers.", "Purple flowers", sid=7),
-    ]
-    words = ["forever", "take", "cooking", "time", "seed", "size", "drought", "tolerance"]
-    # Fake word vectors: "forever"/"take" point the way of "cooking"/"time".
-    vectors = np.array(
-        [
-            [1, 0, 0],
-            [0.9, 0.1, 0],
-            [1, 0, 0],
-            [0.95, 0.05, 0],
-            [0, 1, 0],
-            [0, 1, 0],
-            [0, 0, 1],
-            [0, 0, 1],
-        ],
-        dtype=float,
-    )
-    model = {"words": words, "vectors": (vectors / np.linalg.norm(vectors, axis=1)[:, None])}
-    out = suggest_terms(unlinked, cold, model, min_count=2)
-    assert [s["count"] for s in out] == [4, 2]
-    first = out[0]
-    assert first["term"] == "takes forever" and len(first["examples"]) == 3
-    assert first["nearest"] and len(first["nearest"]) <= 3
-    assert first["nearest_by_vectors"][0][0] == "TX:01"
-    assert suggest_terms(unlinked, cold)[0]["nearest_by_vectors"] == []
+def test_clone_gives_an_unfitted_linker_with_the_same_params(cold: ConceptLinker) -> None:
+    # scikit-learn's clone is the outside reference for the estimator contract: it
+    # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
+    linker = ConceptLinker(threshold=0.4, C=2.0, folds=3, seed=7)
+    assert clone(linker).get_params() == {"C": 2.0, "folds": 3, "seed": 7, "threshold": 0.4}
+    assert cold.is_fitted and not clone(cold).is_fitted

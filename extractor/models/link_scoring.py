@@ -1,0 +1,240 @@
+"""The three scores a candidate concept gets for a trait mention, and their combination.
+
+* **exact**: the span equals an alias after normalisation (case-folded, Snowball
+  stem per word, accents removed; :func:`extractor.nlp.dictionary.stem_word`), keyed with
+  the sentence's stemmer and with the alias's own, so code-switched words still match;
+* **fuzzy**: the best cosine between the span and the concept's aliases in TF-IDF
+  space over character 2-4-grams inside word boundaries (any language, tolerant of
+  spelling, inflection and missing accents);
+* **context**: a logistic regression over the span's character n-grams, stems, and
+  the words within :data:`WINDOW` tokens, trained on the linked examples.
+
+:func:`combine` turns the three into one probability with a logistic combiner's
+weights (:class:`extractor.models.linking.ConceptLinker` chooses them).
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from collections.abc import Sequence
+from functools import lru_cache
+
+import numpy as np
+from scipy.sparse import spmatrix
+from sklearn.feature_extraction import DictVectorizer
+from sklearn.feature_extraction.text import TfidfVectorizer
+from sklearn.linear_model import LogisticRegression
+from sklearn.pipeline import Pipeline
+
+from extractor.nlp.dictionary import stem_word
+from extractor.nlp.fold import fold, fold_words
+from extractor.nlp.text import primary_subtag, tokenize
+from extractor.types import Sentence, Span
+
+Alias = tuple[str, str, str]
+"""(concept_id, alias text, language tag)."""
+
+Example = tuple[Sentence, Span, "str | None"]
+"""A linked mention: sentence, span and its concept (``None``: known to fit no concept)."""
+
+Scores = tuple[float, float, float]
+"""The exact, fuzzy and context scores of one candidate concept."""
+
+WINDOW = 5
+"""Tokens either side of a span whose words feed the context classifier."""
+
+TOP_K = 5
+"""Candidates kept per mention, best first."""
+
+
+def language_code(lang: str) -> str:
+    """Return the primary language subtag of a tag (``""`` for no tag)."""
+    return primary_subtag(lang) if lang else ""
+
+
+@lru_cache(maxsize=1 << 16)
+def alias_key(text: str, lang: str) -> str:
+    """Return the exact-match key of a text: each word stemmed and folded, space-joined."""
+    words = [text[s:e] for s, e in tokenize(text, lang or "xx")]
+    return " ".join(stem_word(w, lang or "xx") for w in words if any(c.isalnum() for c in w))
+
+
+def _char_ngrams(text: str, low: int = 2, high: int = 4) -> list[str]:
+    """Return character n-grams inside padded word boundaries (as ``char_wb`` does)."""
+    out: list[str] = []
+    for word in text.split():
+        padded = f" {word} "
+        for n in range(low, high + 1):
+            out.extend(padded[i : i + n] for i in range(max(1, len(padded) - n + 1)))
+    return out
+
+
+def context_features(sentence: Sentence, span: Span) -> dict[str, float]:
+    """Return the context-classifier features of a mention.
+
+    Character n-grams and stems of the span (``c:``, ``s:``) and the folded words
+    within :data:`WINDOW` tokens either side (``w:``), so a new phrasing of a trait
+    ("boils quickly") can be linked by its neighbours ("beans", "pot", "firewood").
+    """
+    text = sentence.text[span.start : span.end]
+    f: dict[str, float] = defaultdict(float)
+    for gram in _char_ngrams(fold_words(text)):
+        f["c:" + gram] += 1.0
+    for stem in alias_key(text, sentence.lang).split():
+        f["s:" + stem] = 1.0
+    tokens = tokenize(sentence.text, sentence.lang or "xx")
+    inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
+    if inside:
+        a, b = inside[0], inside[-1] + 1
+        for k in list(range(max(0, a - WINDOW), a)) + list(range(b, min(len(tokens), b + WINDOW))):
+            word = fold(sentence.text[tokens[k][0] : tokens[k][1]])
+            if any(c.isalnum() for c in word):
+                f["w:" + word] = 1.0
+    return dict(f)
+
+
+def fit_context(
+    features: Sequence[dict[str, float]], concepts: Sequence[str | None], C: float
+) -> Pipeline | None:
+    """Fit the context classifier, or return ``None`` with fewer than two linked concepts."""
+    pairs = [(f, c) for f, c in zip(features, concepts, strict=True) if c is not None]
+    if len({c for _, c in pairs}) < 2:
+        return None
+    # tol 1e-3: a looser stop than the default changes no prediction on the demo gold
+    # and makes fitting (run once per combiner fold) several times faster.
+    classifier = LogisticRegression(C=C, max_iter=500, tol=1e-3)
+    pipe = Pipeline([("vectorizer", DictVectorizer()), ("classifier", classifier)])
+    pipe.fit([f for f, _ in pairs], [c for _, c in pairs])
+    return pipe
+
+
+def example_forms(examples: Sequence[Example]) -> list[Alias]:
+    """Return the surface forms of linked examples as aliases of their concepts."""
+    return [(c, s.text[sp.start : sp.end], s.lang or "") for s, sp, c in examples if c is not None]
+
+
+def combine(weights: Sequence[float], scores: Scores) -> float:
+    """Return the combiner's probability: intercept ``weights[0]``, then one weight per score."""
+    z = weights[0] + sum(w * x for w, x in zip(weights[1:], scores, strict=True))
+    return float(1.0 / (1.0 + np.exp(-z)))
+
+
+class Scorer:
+    """Exact, fuzzy and context scores of concepts for mentions (no combining).
+
+    Build with :meth:`build`; the exact index of another language is built on first use.
+    """
+
+    def __init__(
+        self,
+        *,
+        forms: list[Alias],
+        context: Pipeline | None,
+        exact_own: dict[str, set[str]],
+        vectorizer: TfidfVectorizer,
+        matrix: spmatrix | None,
+        starts: np.ndarray,
+    ) -> None:
+        self.forms = forms
+        self.concepts = sorted({c for c, _, _ in forms})
+        self.context = context
+        self.context_classes = [str(c) for c in context.classes_] if context is not None else []
+        self.exact_own = exact_own
+        self.vectorizer = vectorizer
+        self.matrix = matrix
+        self.starts = starts
+        self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
+
+    @classmethod
+    def build(cls, forms: Sequence[Alias], context: Pipeline | None) -> Scorer:
+        """Index the alias forms for exact and fuzzy matching, beside a context classifier."""
+        # Forms sorted by concept so per-concept maxima are one reduceat.
+        ordered = sorted(set(forms), key=lambda a: (a[0], a[1], a[2]))
+        exact_own: dict[str, set[str]] = defaultdict(set)
+        for concept, text, lang in ordered:
+            exact_own[alias_key(text, lang)].add(concept)
+        texts = [fold_words(t) for _, t, _ in ordered]
+        vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(2, 4))
+        matrix = vectorizer.fit_transform(texts) if texts else None
+        starts, seen = [], set()
+        for i, (concept, _, _) in enumerate(ordered):
+            if concept not in seen:
+                seen.add(concept)
+                starts.append(i)
+        return cls(
+            forms=ordered,
+            context=context,
+            exact_own=exact_own,
+            vectorizer=vectorizer,
+            matrix=matrix,
+            starts=np.array(starts, dtype=np.int64),
+        )
+
+    def _exact_index(self, lang: str) -> dict[str, set[str]]:
+        """Return every form keyed with the stemmer of ``lang`` (built once per language)."""
+        code = language_code(lang)
+        if code not in self._exact_by_lang:
+            index: dict[str, set[str]] = defaultdict(set)
+            for concept, text, _ in self.forms:
+                index[alias_key(text, code)].add(concept)
+            self._exact_by_lang[code] = index
+        return self._exact_by_lang[code]
+
+    def exact(self, sentence: Sentence, span: Span) -> set[str]:
+        """Return the concepts one of whose forms equals the span after normalisation."""
+        text = sentence.text[span.start : span.end]
+        key = alias_key(text, sentence.lang)
+        hits = set(self._exact_index(sentence.lang).get(key, set()))
+        return hits | self.exact_own.get(key, set())
+
+    def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
+        """Return an ``(n, concepts)`` array of the best alias cosine per concept."""
+        if self.matrix is None or not texts:
+            return np.zeros((len(texts), len(self.concepts)))
+        sims = (self.vectorizer.transform([fold_words(t) for t in texts]) @ self.matrix.T).toarray()
+        result: np.ndarray = np.maximum.reduceat(sims, self.starts, axis=1)
+        return result
+
+    def context_proba(self, features: Sequence[dict[str, float]]) -> np.ndarray | None:
+        """Return the context classifier's probabilities, or ``None`` without one."""
+        if self.context is None or not features:
+            return None
+        return np.asarray(self.context.predict_proba(list(features)))
+
+    def candidates(
+        self,
+        items: Sequence[tuple[Sentence, Span]],
+        features: Sequence[dict[str, float]] | None = None,
+    ) -> list[dict[str, Scores]]:
+        """Return, per mention, candidate concept -> (exact, fuzzy, context) scores.
+
+        ``features`` are the mentions' :func:`context_features` when already computed.
+        """
+        fuzzy = self.fuzzy([s.text[sp.start : sp.end] for s, sp in items])
+        ctx = None
+        if self.context is not None:
+            if features is None:
+                features = [context_features(s, sp) for s, sp in items]
+            ctx = self.context_proba(features)
+        col = {c: j for j, c in enumerate(self.concepts)}
+        out = []
+        for i, (sentence, span) in enumerate(items):
+            exact = self.exact(sentence, span)
+            pool = set(exact)
+            if len(self.concepts):
+                pool.update(self.concepts[j] for j in np.argsort(-fuzzy[i])[:TOP_K])
+            ctx_row: dict[str, float] = {}
+            if ctx is not None:
+                ctx_row = {self.context_classes[j]: float(ctx[i, j]) for j in range(ctx.shape[1])}
+                pool.update(sorted(ctx_row, key=lambda c: -ctx_row[c])[:TOP_K])
+            out.append(
+                {
+                    c: (
+                        1.0 if c in exact else 0.0,
+                        float(fuzzy[i, col[c]]) if c in col else 0.0,
+                        ctx_row.get(c, 0.0),
+                    )
+                    for c in pool
+                }
+            )
+        return out
