@@ -8,29 +8,39 @@ labels always win).
 from __future__ import annotations
 
 import base64
-from collections.abc import Sequence
+from collections.abc import Callable, Mapping, Sequence
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import Any
 
 import pandas as pd
 
 from extractor.errors import InputError
 from extractor.report.about import RunFacts
 from extractor.report.privacy import PrivacyOptions, new_secret
+from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
 SECRET_KEY = "pseudonym_secret"
 
 
+def _display_name(labels: Mapping[str, str], default: str, fallback: str) -> str:
+    """Return the label in the default language, else the first label, else ``fallback``."""
+    return labels.get(default) or next(iter(labels.values()), fallback)
+
+
 def concept_frame(ws: Workspace) -> pd.DataFrame:
     """Return the active concepts: ``concept_id``, ``label``, ``parent``."""
     default = ws.settings.workspace.default_language
-    rows = []
-    for concept in store.concepts(ws.conn):
-        labels = concept["labels"]
-        label = labels.get(default) or next(iter(labels.values()), concept["id"])
-        rows.append({"concept_id": concept["id"], "label": label, "parent": concept["parent"]})
+    rows = [
+        {
+            "concept_id": concept["id"],
+            "label": _display_name(concept["labels"], default, concept["id"]),
+            "parent": concept["parent"],
+        }
+        for concept in store.concepts(ws.conn)
+    ]
     return pd.DataFrame(rows, columns=["concept_id", "label", "parent"])
 
 
@@ -38,79 +48,94 @@ def variety_names(ws: Workspace) -> dict[str, str]:
     """Return variety ID -> display name."""
     default = ws.settings.workspace.default_language
     return {
-        v["id"]: v["labels"].get(default) or next(iter(v["labels"].values()), v["id"])
+        v["id"]: _display_name(v["labels"], default, v["id"])
         for v in store.concepts(ws.conn, "variety")
     }
 
 
+def _person_mentions(spans: Sequence[Span], annotator: str) -> list[dict[str, Any]]:
+    """Return a person's spans as mentions: no model, no probabilities."""
+    return [
+        {
+            "start": sp.start,
+            "end": sp.end,
+            "concept": sp.concept,
+            "stance": sp.stance,
+            "confidence": None,
+            "link_prob": None,
+            "stance_prob": None,
+            "source": "person",
+            "annotator": annotator,
+            "model_version": None,
+        }
+        for sp in spans
+    ]
+
+
+def _mention_row(
+    sentence: Sentence,
+    m: Mapping[str, Any],
+    concept_names: Mapping[str, str],
+    variety: Callable[[str | None], str | None],
+) -> dict[str, Any]:
+    """Return one row of the mentions frame: the mention placed in its sentence and answer."""
+    concept = m.get("concept")
+    return {
+        "respondent": sentence.respondent,
+        "sentence_id": sentence.id,
+        "answer_id": sentence.answer_id,
+        "sentence": sentence.text,
+        "question": sentence.question,
+        "lang": sentence.lang,
+        "start": m["start"],
+        "end": m["end"],
+        "answer_start": sentence.offset + m["start"],
+        "answer_end": sentence.offset + m["end"],
+        "span_text": sentence.text[m["start"] : m["end"]],
+        "concept_id": concept,
+        "concept_label": None if concept is None else concept_names.get(concept),
+        "link_prob": m.get("link_prob"),
+        "stance": m.get("stance"),
+        "stance_prob": m.get("stance_prob"),
+        "variety": variety(m.get("variety")),
+        "ref_variety": variety(m.get("ref_variety")),
+        "confidence": m.get("confidence"),
+        "source": m["source"],
+        "model_version": m.get("model_version"),
+        "annotator": m.get("annotator"),
+    }
+
+
 def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
-    """Return one row per mention: predictions of ``version`` overridden by people's labels."""
+    """Return one row per mention: predictions of ``version`` overridden by people's labels.
+
+    A sentence a person labeled shows that label's spans only (none for "no trait
+    here"); every other sentence shows the version's predicted mentions.
+    """
     labels = store.current_labels(ws.conn)
     predicted = store.predictions(ws.conn, version) if version else {}
     ids = sorted(set(labels) | {sid for sid, p in predicted.items() if p["mentions"]})
     sentences = {s.id: s for s in store.sentences(ws.conn, ids)}
-    labels_by_concept = (
-        dict(zip(*concept_frame(ws)[["concept_id", "label"]].T.values, strict=False)) if ids else {}
-    )
+    concepts = concept_frame(ws) if ids else pd.DataFrame(columns=["concept_id", "label"])
+    concept_names = dict(zip(concepts["concept_id"], concepts["label"], strict=True))
     varieties = variety_names(ws)
 
     def variety(value: str | None) -> str | None:
         return f"{varieties[value]} ({value})" if value in varieties else value
 
-    rows = []
+    rows: list[dict[str, Any]] = []
     for sid in ids:
         sentence = sentences.get(sid)
         if sentence is None:
             continue
         if sid in labels:
-            label = labels[sid]
-            found = [
-                {
-                    "start": sp.start,
-                    "end": sp.end,
-                    "concept": sp.concept,
-                    "stance": sp.stance,
-                    "confidence": None,
-                    "link_prob": None,
-                    "stance_prob": None,
-                    "source": "person",
-                    "annotator": label.annotator,
-                    "model_version": None,
-                }
-                for sp in label.spans
-            ]
+            found = _person_mentions(labels[sid].spans, labels[sid].annotator)
         else:
             found = [
                 m | {"annotator": None, "model_version": version}
                 for m in predicted[sid]["mentions"]
             ]
-        for m in found:
-            rows.append(
-                {
-                    "respondent": sentence.respondent,
-                    "sentence_id": sid,
-                    "answer_id": sentence.answer_id,
-                    "sentence": sentence.text,
-                    "question": sentence.question,
-                    "lang": sentence.lang,
-                    "start": m["start"],
-                    "end": m["end"],
-                    "answer_start": sentence.offset + m["start"],
-                    "answer_end": sentence.offset + m["end"],
-                    "span_text": sentence.text[m["start"] : m["end"]],
-                    "concept_id": m.get("concept"),
-                    "concept_label": labels_by_concept.get(m.get("concept")),
-                    "link_prob": m.get("link_prob"),
-                    "stance": m.get("stance"),
-                    "stance_prob": m.get("stance_prob"),
-                    "variety": variety(m.get("variety")),
-                    "ref_variety": variety(m.get("ref_variety")),
-                    "confidence": m.get("confidence"),
-                    "source": m["source"],
-                    "model_version": m.get("model_version"),
-                    "annotator": m.get("annotator"),
-                }
-            )
+        rows.extend(_mention_row(sentence, m, concept_names, variety) for m in found)
     return pd.DataFrame(rows)
 
 
