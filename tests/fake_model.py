@@ -14,7 +14,9 @@ import time
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
-from extractor.loop.session import Prediction, Suggestion, TrainingData
+from extractor.loop.predictor import TrainingData
+from extractor.models.bundle import Mention, SentencePrediction
+from extractor.models.tagger import TagResult
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 
@@ -142,25 +144,30 @@ class FakeModel:
         self.flip_every = flip_every
         self.calls = 0
 
-    def __call__(self, sentences: Sequence[Sentence]) -> list[Prediction]:
+    def __call__(self, sentences: Sequence[Sentence]) -> list[SentencePrediction]:
         """Tag sentences, after the configured delay."""
         self.calls += 1
         if self.delay:
             time.sleep(self.delay)
         return [self.predict(s) for s in sentences]
 
-    def predict(self, sentence: Sentence) -> Prediction:
+    def predict(self, sentence: Sentence) -> SentencePrediction:
         """Tag one sentence."""
         tokens = words(sentence.text)
         prob = self.path_prob(sentence)
-        suggestions = []
+        mentions = []
         tags = ["O"] * len(tokens)
         for phrase, (concept, stance) in KNOWN.items():
             for m in re.finditer(re.escape(phrase), sentence.text, flags=re.IGNORECASE):
-                suggestions.append(
-                    Suggestion(
-                        Span(m.start(), m.end(), concept, stance),
+                mentions.append(
+                    Mention(
+                        m.start(),
+                        m.end(),
                         confidence=0.8,
+                        concept=concept,
+                        link_prob=0.7,
+                        stance=stance,
+                        stance_prob=0.9,
                         concept_probs={concept: 0.7, "BTX:0015": 0.3},
                         stance_probs={stance: 0.9, "neutral": 0.1},
                     )
@@ -173,12 +180,13 @@ class FakeModel:
                 tags[k] = "B-TRAIT"
         # Each token's best tag gets the n-th root of the path probability.
         p = prob ** (1.0 / max(len(tokens), 1))
-        marginals = tuple(
+        marginals = [
             {t: (p if t == tag else (1.0 - p) / 2) for t in ("O", "B-TRAIT", "I-TRAIT")}
             for tag in tags
-        )
-        suggestions.sort(key=lambda s: s.span.start)
-        return Prediction(tuple(tags), marginals, prob, tuple(suggestions))
+        ]
+        mentions.sort(key=lambda m: m.start)
+        spans = [Span(m.start, m.end, m.concept, m.stance) for m in mentions]
+        return SentencePrediction(mentions, TagResult(spans, tokens, tags, marginals, prob))
 
 
 def fake_retrain(delay: float = 0.0, flip_every: int = 0) -> Callable[[TrainingData], FakeModel]:

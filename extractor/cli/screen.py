@@ -32,19 +32,17 @@ from rich.table import Table
 from rich.text import Text
 
 from extractor.errors import TraitsError
-from extractor.loop.session import (
+from extractor.loop.marking import (
     ConceptEntry,
     ConceptMatch,
-    Item,
-    Predictor,
-    Retrain,
-    Session,
-    SessionSettings,
-    Suggestion,
     concept_entries,
     find_phrase,
     rank_concepts,
 )
+from extractor.loop.predictor import Predictor, Retrain
+from extractor.loop.samples import SessionSettings
+from extractor.loop.session import Item, Session
+from extractor.models.bundle import Mention
 from extractor.types import STANCES, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
@@ -205,9 +203,9 @@ class LabelScreen:
     def _confidence(self, item: Item, span: Span) -> str:
         if item.origin != "model" or item.prediction is None:
             return ""
-        for s in item.prediction.suggestions:
-            if (s.span.start, s.span.end) == (span.start, span.end):
-                return _confidence_text(s, span)
+        for m in item.prediction.mentions:
+            if (m.start, m.end) == (span.start, span.end):
+                return _confidence_text(m, span)
         return ""
 
     def draw(self, item: Item, draft: Sequence[Span]) -> None:
@@ -423,17 +421,15 @@ class LabelScreen:
                     self.say(str(exc))
 
 
-def _confidence_text(suggestion: Suggestion, span: Span) -> str:
+def _confidence_text(mention: Mention, span: Span) -> str:
     """The model's probabilities for the span as now drafted (the annotator may have edited)."""
-    parts = []
-    if suggestion.confidence is not None:
-        parts.append(f"span {suggestion.confidence:.2f}")
+    parts = [f"span {mention.confidence:.2f}"]
     concept = span.concept
-    if suggestion.concept_probs and concept is not None and concept in suggestion.concept_probs:
-        parts.append(f"concept {suggestion.concept_probs[concept]:.2f}")
+    if mention.concept_probs and concept is not None and concept in mention.concept_probs:
+        parts.append(f"concept {mention.concept_probs[concept]:.2f}")
     stance = span.stance
-    if suggestion.stance_probs and stance is not None and stance in suggestion.stance_probs:
-        parts.append(f"stance {suggestion.stance_probs[stance]:.2f}")
+    if mention.stance_probs and stance is not None and stance in mention.stance_probs:
+        parts.append(f"stance {mention.stance_probs[stance]:.2f}")
     return " ".join(parts)
 
 
@@ -484,7 +480,7 @@ def run_console(
         strategy: a name from :data:`extractor.loop.strategies.STRATEGIES`.
         model_provider: the current model's predictor, or None before any model.
         retrain: fits a new model in the background every few labels (see
-            :data:`extractor.loop.session.Retrain`).
+            :data:`extractor.loop.predictor.Retrain`).
         console: where to draw; a new rich Console on standard output by default.
         input_stream: where to read lines; standard input by default.
         settings: session settings.
@@ -498,7 +494,7 @@ def run_console(
         TraitsError: the session cannot start (unknown strategy, empty annotator...).
     """
     console = console or Console()
-    session = Session(
+    session = Session.open(
         conn,
         annotator=annotator,
         strategy=strategy,

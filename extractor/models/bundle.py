@@ -45,7 +45,7 @@ class Mention(NamedTuple):
     confidence: float
     concept: str | None
     link_prob: float
-    stance: str
+    stance: str | None  # None from the tagger alone, which judges no stance
     stance_prob: float
     concept_probs: dict[str, float] | None = None
     stance_probs: dict[str, float] | None = None

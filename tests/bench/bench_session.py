@@ -22,7 +22,8 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[2]
 sys.path[:0] = [str(ROOT), str(ROOT / "tests")]
 
-from extractor.loop.session import Session, SessionSettings  # noqa: E402
+from extractor.loop.samples import SessionSettings  # noqa: E402
+from extractor.loop.session import Session  # noqa: E402
 from tests.fake_model import FakeModel, build_store  # noqa: E402
 
 SUBJECTS = [
@@ -85,7 +86,7 @@ def bench(
             return FakeModel(path_prob=lambda s: float(min(probs[s.id] * shift[s.id], 0.99)))
 
         started = time.perf_counter()
-        session = Session(
+        session = Session.open(
             conn,
             annotator="Bench",
             strategy=strategy,

@@ -15,7 +15,9 @@ import pytest
 from rich.console import Console
 
 from extractor.cli.screen import LabelScreen, run_console
-from extractor.loop.session import Session, SessionSettings, concept_entries
+from extractor.loop.marking import concept_entries
+from extractor.loop.samples import SessionSettings
+from extractor.loop.session import Session
 from extractor.types import Span
 from extractor.workspace import store
 from tests.fake_model import ANSWERS, FakeModel, build_store  # noqa: E402
@@ -215,7 +217,7 @@ def test_screen_shows_context_suggestion_and_help(conn: sqlite3.Connection) -> N
 
 def test_screen_shows_quality_kappas_and_stop_sentence(conn: sqlite3.Connection) -> None:
     out = io.StringIO()
-    session = Session(conn, annotator="Ama", predictor=FakeModel(), settings=NO_EVAL)
+    session = Session.open(conn, annotator="Ama", predictor=FakeModel(), settings=NO_EVAL)
     session.kappas.extend([0.995, 0.999, 1.0])
     screen = LabelScreen(
         session,
@@ -244,7 +246,7 @@ sys.path[:0] = [{root!r}, {tests!r}]
 from rich.console import Console
 from extractor.workspace import store
 from extractor.cli.screen import run_console
-from extractor.loop.session import SessionSettings
+from extractor.loop.samples import SessionSettings
 from tests.fake_model import FakeModel
 conn = store.connect(Path({db!r}))
 run_console(conn, annotator="Ama", batch_size=4, strategy="least_confidence",

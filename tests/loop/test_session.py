@@ -9,15 +9,9 @@ from pathlib import Path
 import pytest
 
 from extractor.errors import InputError
-from extractor.loop.session import (
-    ConceptEntry,
-    Session,
-    SessionSettings,
-    ensure_samples,
-    evaluation_size,
-    find_phrase,
-    rank_concepts,
-)
+from extractor.loop.marking import ConceptEntry, find_phrase, rank_concepts
+from extractor.loop.samples import SessionSettings, ensure_samples, evaluation_size
+from extractor.loop.session import Session
 from extractor.types import Span
 from extractor.workspace import store
 
@@ -42,7 +36,7 @@ def _session(conn: sqlite3.Connection, **kwargs) -> Session:
         "predictor": FakeModel(),
         "settings": NO_EVAL,
     } | kwargs
-    return Session(conn, **options)
+    return Session.open(conn, **options)
 
 
 # --------------------------------------------------------------------------- samples
@@ -431,6 +425,6 @@ def test_rank_concepts_returns_nothing_for_blank_or_unknown() -> None:
 @pytest.mark.parametrize("strategy", ["default", "least_confidence"], ids=["diverse", "plain"])
 def test_session_over_empty_store_has_nothing_to_ask(tmp_path: Path, strategy: str) -> None:
     conn = store.connect(tmp_path / "empty.sqlite", create=True)
-    session = Session(conn, annotator="Ama", strategy=strategy, predictor=FakeModel())
+    session = Session.open(conn, annotator="Ama", strategy=strategy, predictor=FakeModel())
     assert session.next() is None
     assert session.quit()["labeled"] == 0
