@@ -162,19 +162,19 @@ class LabelScreen:
         grid = Table.grid(padding=(0, 1))
         grid.add_column(style="dim", no_wrap=True)
         grid.add_column()
-        if ctx.get("question"):
-            grid.add_row("asked", Text(str(ctx["question"]), style="italic"))
-        if ctx.get("previous"):
-            grid.add_row("before", Text(str(ctx["previous"]), style="dim"))
-        meta = dict(ctx.get("metadata") or {})
+        if ctx.question:
+            grid.add_row("asked", Text(str(ctx.question), style="italic"))
+        if ctx.previous:
+            grid.add_row("before", Text(str(ctx.previous), style="dim"))
+        meta = dict(ctx.metadata)
         ordered = [k for k in _METADATA_ORDER if k in meta] + sorted(
             k for k in meta if k not in _METADATA_ORDER
         )
-        who = [str(ctx.get("respondent") or "")] + [f"{k} {meta[k]}" for k in ordered]
-        if ctx.get("is_group"):
+        who = [str(ctx.respondent or "")] + [f"{k} {meta[k]}" for k in ordered]
+        if ctx.is_group:
             who.append("group interview")
-        if ctx.get("variety"):
-            who.append(f"variety {ctx['variety']}")
+        if ctx.variety:
+            who.append(f"variety {ctx.variety}")
         grid.add_row("who", Text(" · ".join(w for w in who if w)))
         if item.in_evaluation:
             grid.add_row("", Text("evaluation sample", style="cyan"))

@@ -180,8 +180,8 @@ def test_next_carries_suggestion_and_context(conn: sqlite3.Connection) -> None:
     assert item.sentence.text == "Zamaro Red cooks fast on the fire."
     assert item.suggestion == (Span(11, 21, "BTX:0002", "liked"),)
     assert item.origin == "model"
-    assert item.context["question"] == "Why do you grow this bean?"
-    assert item.context["metadata"]["district"] == "Tinsoka"
+    assert item.context.question == "Why do you grow this bean?"
+    assert item.context.metadata["district"] == "Tinsoka"
 
 
 def test_next_at_cold_start_shows_every_sentence_without_suggestion(

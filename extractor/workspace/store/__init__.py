@@ -13,6 +13,7 @@ The statements live in private modules by table group; callers use this package:
 """
 
 from extractor.workspace.store._answers import (
+    SentenceContext,
     add_source,
     answer_fingerprint,
     answers,
@@ -67,6 +68,7 @@ from extractor.workspace.store._status import counts
 __all__ = [
     "MIGRATIONS",
     "SCHEMA_VERSION",
+    "SentenceContext",
     "StoredLabel",
     "add_alias",
     "add_label",

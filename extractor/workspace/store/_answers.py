@@ -6,7 +6,7 @@ import hashlib
 import json
 import sqlite3
 from collections.abc import Iterable, Sequence
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.errors import WorkspaceError
 from extractor.types import Sentence
@@ -179,7 +179,18 @@ def find_sentence(conn: sqlite3.Connection, text: str, respondent: str | None) -
     return None if row is None else int(row["id"])
 
 
-def sentence_context(conn: sqlite3.Connection, sentence_id: int) -> dict[str, Any]:
+class SentenceContext(NamedTuple):
+    """What an annotator sees around a sentence."""
+
+    question: str | None
+    previous: str | None
+    respondent: str
+    metadata: dict[str, Any]
+    is_group: bool
+    variety: str | None
+
+
+def sentence_context(conn: sqlite3.Connection, sentence_id: int) -> SentenceContext:
     """Return what an annotator needs around a sentence: question, previous sentence, metadata."""
     row = conn.execute(
         "SELECT s.answer_id, s.position, a.question, a.text, a.variety, r.external_id, "
@@ -193,14 +204,14 @@ def sentence_context(conn: sqlite3.Connection, sentence_id: int) -> dict[str, An
         "SELECT start, end FROM sentences WHERE answer_id = ? AND position = ?",
         (row["answer_id"], row["position"] - 1),
     ).fetchone()
-    return {
-        "question": row["question"],
-        "previous": None if previous is None else row["text"][previous["start"] : previous["end"]],
-        "respondent": row["external_id"],
-        "metadata": json.loads(row["metadata"]),
-        "is_group": bool(row["is_group"]),
-        "variety": row["variety"],
-    }
+    return SentenceContext(
+        question=row["question"],
+        previous=None if previous is None else row["text"][previous["start"] : previous["end"]],
+        respondent=row["external_id"],
+        metadata=json.loads(row["metadata"]),
+        is_group=bool(row["is_group"]),
+        variety=row["variety"],
+    )
 
 
 def answers(conn: sqlite3.Connection) -> list[dict[str, Any]]:
