@@ -44,7 +44,8 @@ from extractor.ingest.labels import LabelRecord, to_gold
 from extractor.loop import strategies as active
 from extractor.models.bundle import span_confidence
 from extractor.models.metrics import SUMMARY_KEYS, predicted_mentions, score, summary
-from extractor.models.tagger import TagResult, fit_tagger, sentence_items
+from extractor.models.tagger import TagResult, sentence_items
+from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.spans import iob_to_spans
 from extractor.progress import track
 from extractor.types import Sentence, Span
@@ -86,7 +87,7 @@ class TaggerOnly:
     which stay fixed during a simulation, so they are computed once per sentence ID.
 
     Args:
-        tagger_params: Keyword arguments of :func:`extractor.models.tagger.fit_tagger`.
+        tagger_params: Keyword arguments of :func:`extractor.models.tagger_training.fit_tagger`.
     """
 
     def __init__(self, *, tagger_params: dict[str, Any] | None = None) -> None:

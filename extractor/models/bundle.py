@@ -22,7 +22,8 @@ from typing import Any, NamedTuple
 from extractor.errors import ModelError, NotFittedError
 from extractor.models.linking import ConceptLinker
 from extractor.models.stance import StanceModel
-from extractor.models.tagger import TagResult, TraitTagger, fit_tagger, tag_sentences
+from extractor.models.tagger import TagResult, TraitTagger, tag_sentences
+from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.clusters import learn_clusters, load_clusters, save_clusters
 from extractor.nlp.dictionary import Dictionary, build_dictionary
 from extractor.types import STANCES, Sentence, Span
@@ -85,7 +86,7 @@ class TraitModels:
     """The models of one version; build with :meth:`train` or :meth:`load`.
 
     Args:
-        tagger_params: Keyword arguments of :func:`extractor.models.tagger.fit_tagger`.
+        tagger_params: Keyword arguments of :func:`extractor.models.tagger_training.fit_tagger`.
         link_threshold: Link probability below which a mention stays unlinked.
         seed: Random seed of the word clusters.
     """

@@ -2,38 +2,9 @@
 
 :class:`TraitTagger` follows the scikit-learn estimator contract over feature
 sequences (from :func:`extractor.nlp.features.sentence_features`) and IOB2 tags.
-:func:`fit_tagger` and :func:`tag_sentences` do the plumbing from sentences, gold
-spans, a dictionary and word clusters, so callers never build features themselves.
-
-Silver data and its false negatives
------------------------------------
-Silver sentences are labelled by the dictionary, which is never complete: a trait
-word it lacks is labelled ``O`` although it is a trait, and the CRF learns to miss
-it. ``silver_filter`` chooses the remedy (see :data:`SILVER_FILTERS`):
-
-* ``"all"``: every silver sentence as labelled (no remedy);
-* ``"matched"``: only silver sentences with at least one dictionary match, since a
-  sentence without any is as likely an unlisted trait as no trait at all;
-* ``"gold-check"``: additionally drop silver sentences in which a model trained on
-  the gold sentences gives a token outside the matches a TRAIT probability of at least
-  ``silver_threshold`` (falls back to ``"matched"`` without gold);
-* ``"self-train"`` (default): keep those sentences but add the gold model's confident
-  spans to their labels (one round of self-training; falls back to ``"matched"``
-  without gold).
-
-Measured on MAMS aspect terms (200 gold train sentences, the other 4,097 train
-sentences as silver from a dictionary of a random half of the train aspect terms;
-strict span F1 on the test split; L-BFGS, c1=0.05, c2=0.01, 100 iterations, no
-clusters): dictionary alone 0.478; gold only 0.650; gold +
-silver with ``"all"`` 0.555, ``"matched"`` 0.554, ``"gold-check"`` 0.639,
-``"self-train"`` 0.652. With the default SGD trainer (c2=2.0): gold only 0.659,
-``"all"`` 0.545, ``"self-train"`` 0.669. Unremedied silver costs ten points or more;
-self-training wins them back.
-
-Silver sentences are featurised *without* dictionary features: their labels are the
-dictionary, so the CRF would otherwise learn "dictionary says B, so B" and nothing
-about the words. Gold sentences carry dictionary features, so the CRF learns from the
-analyst's labels how far to trust the dictionary.
+:func:`tag_sentences` does the plumbing from sentences, a dictionary and word clusters
+(:func:`sentence_items`), so callers never build features themselves; training from
+gold and silver sentences is :func:`extractor.models.tagger_training.fit_tagger`.
 """
 
 from __future__ import annotations
@@ -44,23 +15,18 @@ import gc
 import hashlib
 import json
 import tempfile
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, NamedTuple
 
 import pycrfsuite
+from sklearn.base import BaseEstimator
 
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.features import Clusters, sentence_features
-from extractor.nlp.spans import (
-    OUTSIDE,
-    iob_to_spans,
-    repair_iob,
-    spans_to_concepts,
-    spans_to_iob,
-)
+from extractor.nlp.spans import iob_to_spans, repair_iob, spans_to_concepts, spans_to_iob
 from extractor.nlp.text import tokenize
 from extractor.types import TAGS, Sentence, Span
 
@@ -68,7 +34,6 @@ FORMAT = "trait-extractor/crf-tagger"
 VERSION = 1
 MODEL_FILE = "tagger.crfsuite"
 PARAMS_FILE = "tagger.json"
-SILVER_FILTERS = ("all", "matched", "gold-check", "self-train")
 ALGORITHMS = ("lbfgs", "l2sgd", "ap", "pa", "arow")
 """CRFsuite's training algorithms."""
 
@@ -93,7 +58,7 @@ class TagResult(NamedTuple):
     probability: float
 
 
-class TraitTagger:
+class TraitTagger(BaseEstimator):
     """Linear-chain CRF over IOB2 tags ``O``, ``B-TRAIT``, ``I-TRAIT``.
 
     Args:
@@ -131,18 +96,6 @@ class TraitTagger:
         self.all_possible_transitions = all_possible_transitions
         self.algorithm = algorithm
         self.random_state = random_state
-
-    def get_params(self) -> dict[str, Any]:
-        """Return the constructor arguments, to record with a model version."""
-        return {
-            "c1": self.c1,
-            "c2": self.c2,
-            "max_iterations": self.max_iterations,
-            "min_freq": self.min_freq,
-            "all_possible_transitions": self.all_possible_transitions,
-            "algorithm": self.algorithm,
-            "random_state": self.random_state,
-        }
 
     def fit(self, X: Sequence[Features], y: Sequence[Sequence[str]]) -> TraitTagger:
         """Train on feature sequences ``X`` and their IOB2 tag sequences ``y``.
@@ -187,8 +140,17 @@ class TraitTagger:
         self._tagger = tagger
         return tagger
 
+    @property
+    def is_fitted(self) -> bool:
+        """Whether :meth:`fit` (or :meth:`load`) has given the tagger a model."""
+        return hasattr(self, "model_bytes_")
+
+    def __sklearn_is_fitted__(self) -> bool:
+        """Tell scikit-learn's ``check_is_fitted`` what :attr:`is_fitted` says."""
+        return self.is_fitted
+
     def _fitted(self) -> pycrfsuite.Tagger:
-        if not hasattr(self, "model_bytes_"):
+        if not self.is_fitted:
             raise NotFittedError(
                 "The trait tagger is not trained yet; "
                 "call fit (or fit_tagger) or load a saved one first."
@@ -241,28 +203,7 @@ class TraitTagger:
             ModelError: When a file is missing, corrupt, or not a trait tagger of this version.
         """
         folder = Path(folder)
-        try:
-            meta = json.loads((folder / PARAMS_FILE).read_text(encoding="utf-8"))
-            model = (folder / MODEL_FILE).read_bytes()
-        except (OSError, ValueError) as exc:
-            raise ModelError(
-                f"The tagger in {folder} cannot be read ({exc}); "
-                "retrain it or pick another model version."
-            ) from exc
-        if (
-            not isinstance(meta, dict)
-            or meta.get("format") != FORMAT
-            or meta.get("version") != VERSION
-        ):
-            raise ModelError(
-                f"{folder / PARAMS_FILE} is not a {FORMAT} version {VERSION} file; "
-                "retrain the tagger or pick another model version."
-            )
-        if hashlib.sha256(model).hexdigest() != meta.get("sha256"):
-            raise ModelError(
-                f"{folder / MODEL_FILE} does not match the checksum in {PARAMS_FILE}; "
-                "it is corrupt or foreign, so retrain the tagger."
-            )
+        meta, model = _read_saved(folder)
         try:
             tagger = cls(**meta["params"])
         except TypeError as exc:
@@ -284,6 +225,34 @@ class TraitTagger:
             )
         tagger.clusters_fingerprint_ = meta.get("clusters_fingerprint")
         return tagger
+
+
+def _read_saved(folder: Path) -> tuple[dict[str, Any], bytes]:
+    """Return a saved tagger's JSON metadata and model bytes, checked against each other.
+
+    Raises:
+        ModelError: When a file is missing or unreadable, of another format or version,
+            or the model does not match the recorded checksum.
+    """
+    try:
+        meta = json.loads((folder / PARAMS_FILE).read_text(encoding="utf-8"))
+        model = (folder / MODEL_FILE).read_bytes()
+    except (OSError, ValueError) as exc:
+        raise ModelError(
+            f"The tagger in {folder} cannot be read ({exc}); "
+            "retrain it or pick another model version."
+        ) from exc
+    if not isinstance(meta, dict) or meta.get("format") != FORMAT or meta.get("version") != VERSION:
+        raise ModelError(
+            f"{folder / PARAMS_FILE} is not a {FORMAT} version {VERSION} file; "
+            "retrain the tagger or pick another model version."
+        )
+    if hashlib.sha256(model).hexdigest() != meta.get("sha256"):
+        raise ModelError(
+            f"{folder / MODEL_FILE} does not match the checksum in {PARAMS_FILE}; "
+            "it is corrupt or foreign, so retrain the tagger."
+        )
+    return meta, model
 
 
 def _seed_c_rand(seed: int) -> None:
@@ -365,130 +334,6 @@ def sentence_items(
         lang=sentence.lang,
     )
     return offsets, feats, matches
-
-
-def _overlaps(span: Span, others: Sequence[Span]) -> bool:
-    return any(span.start < o.end and o.start < span.end for o in others)
-
-
-def fit_tagger(
-    gold: Sequence[tuple[Sentence, Sequence[Span]]],
-    silver_sentences: Sequence[Sentence],
-    dictionary: Dictionary | None,
-    clusters: Clusters | None,
-    *,
-    gold_weight: int = 10,
-    silver_filter: str = "self-train",
-    silver_threshold: float = 0.5,
-    **params: Any,
-) -> TraitTagger:
-    """Train a tagger from gold-labelled sentences and dictionary-labelled silver sentences.
-
-    Args:
-        gold: Sentences with the analyst's spans (an empty list means "none").
-        silver_sentences: Unlabelled sentences, labelled by ``dictionary`` (ignored without one).
-        dictionary: The concept dictionary, or ``None``.
-        clusters: Word-cluster model, or ``None``.
-        gold_weight: Each gold sentence counts this many times a silver one (it is
-            repeated; without silver sentences it is not). 10 rather than 3 lifted the
-            demo's learning curve (span F1 at 100 and 200 labels, tagger alone, 3
-            repeats: random .493/.518 and the default strategy .526/.541, against
-            .478/.512 and .492/.522 with 3).
-        silver_filter: How to guard against the dictionary's false negatives, one of
-            :data:`SILVER_FILTERS` (see the module docstring).
-        silver_threshold: TRAIT probability above which the gold model disagrees with an ``O``.
-        **params: Arguments of :class:`TraitTagger`.
-
-    Returns:
-        The fitted tagger, remembering the clusters' fingerprint.
-
-    Raises:
-        InputError: When ``silver_filter`` or ``gold_weight`` is invalid, or nothing is
-            left to train on.
-    """
-    if silver_filter not in SILVER_FILTERS:
-        raise InputError(
-            f"silver_filter must be one of {', '.join(SILVER_FILTERS)}; got {silver_filter!r}."
-        )
-    if gold_weight < 1:
-        raise InputError(f"gold_weight must be a whole number of at least 1; got {gold_weight!r}.")
-    X: list[Features] = []
-    y: list[list[str]] = []
-    for sentence, spans in gold:
-        offsets, feats, _ = sentence_items(sentence, dictionary, clusters)
-        tags = spans_to_iob(offsets, spans)
-        X += [feats] * gold_weight
-        y += [tags] * gold_weight
-    sx: list[Features] = []
-    sy: list[list[str]] = []
-    if dictionary is not None and silver_sentences:
-        sx, sy = _silver(
-            silver_sentences, dictionary, clusters, X, y, silver_filter, silver_threshold, params
-        )
-    if not sx:
-        # The weight is relative to silver sentences; without any, repeating the gold
-        # ones would only change the SGD schedule, which max_iterations controls.
-        X, y = X[::gold_weight], y[::gold_weight]
-    tagger = TraitTagger(**params).fit(X + sx, y + sy)
-    tagger.clusters_fingerprint_ = clusters.get("fingerprint") if clusters else None
-    return tagger
-
-
-def _silver(
-    sentences: Sequence[Sentence],
-    dictionary: Dictionary,
-    clusters: Clusters | None,
-    gold_X: list[Features],
-    gold_y: list[list[str]],
-    silver_filter: str,
-    threshold: float,
-    params: Mapping[str, Any],
-) -> tuple[list[Features], list[list[str]]]:
-    """Return features and dictionary labels of the silver sentences kept by the filter."""
-    items = [sentence_items(s, dictionary, clusters, dictionary_features=False) for s in sentences]
-    if silver_filter == "all":
-        return [f for _, f, _ in items], [spans_to_iob(o, m) for o, _, m in items]
-    items = [item for item in items if item[2]]
-    has_gold_traits = any(t != OUTSIDE for tags in gold_y for t in tags)
-    if silver_filter == "matched" or not has_gold_traits or not items:
-        return [f for _, f, _ in items], [spans_to_iob(o, m) for o, _, m in items]
-    # The gold model must judge silver sentences from the same features they will be
-    # trained on (without dictionary features), so it is trained without them too.
-    gold_only = [
-        [{k: v for k, v in tok.items() if not _is_dict_feature(k)} for tok in seq] for seq in gold_X
-    ]
-    judge = TraitTagger(**params).fit(gold_only, gold_y)
-    X, y = [], []
-    for (offsets, feats, matches), path in zip(
-        items, judge.predict([f for _, f, _ in items]), strict=True
-    ):
-        confident = [
-            span
-            for span in iob_to_spans(offsets, path.tags)
-            if not _overlaps(span, matches)
-            and _span_trait_prob(offsets, span, path.marginals) >= threshold
-        ]
-        if confident and silver_filter == "gold-check":
-            continue
-        X.append(feats)
-        y.append(spans_to_iob(offsets, list(matches) + confident))
-    return X, y
-
-
-def _is_dict_feature(name: str) -> bool:
-    return name in ("d", "dc") or (name.endswith("d") and name[:-1].lstrip("+-").isdigit())
-
-
-def _span_trait_prob(
-    offsets: Sequence[tuple[int, int]], span: Span, marginals: Sequence[Mapping[str, float]]
-) -> float:
-    """Return the lowest TRAIT probability (1 - P(O)) among the span's tokens."""
-    probs = [
-        1.0 - m["O"]
-        for (s, e), m in zip(offsets, marginals, strict=True)
-        if s < span.end and e > span.start
-    ]
-    return min(probs) if probs else 0.0
 
 
 @contextmanager

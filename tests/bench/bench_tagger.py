@@ -25,7 +25,8 @@ ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
 from extractor.ingest.concepts import load_concept_list  # noqa: E402
-from extractor.models.tagger import fit_tagger, tag_sentences  # noqa: E402
+from extractor.models.tagger import tag_sentences  # noqa: E402
+from extractor.models.tagger_training import fit_tagger  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.dictionary import build_dictionary  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402

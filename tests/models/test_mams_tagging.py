@@ -11,7 +11,8 @@ import time
 
 import pytest
 
-from extractor.models.tagger import fit_tagger, tag_sentences
+from extractor.models.tagger import tag_sentences
+from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.spans import span_prf
 from extractor.types import Sentence, Span

@@ -1,4 +1,4 @@
-"""The CRF trait tagger: training, decoding, marginals, persistence and the plumbing."""
+"""The CRF trait tagger: decoding, marginals, persistence, clone and tagging sentences."""
 
 from __future__ import annotations
 
@@ -8,49 +8,19 @@ import time
 
 import pycrfsuite
 import pytest
+from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.models.tagger import (
     MODEL_FILE,
     PARAMS_FILE,
     TraitTagger,
-    _silver,
-    fit_tagger,
-    sentence_items,
     tag_sentences,
 )
-from extractor.nlp.dictionary import build_dictionary
+from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.features import sentence_features
-from extractor.nlp.spans import spans_to_iob
-from extractor.nlp.text import tokenize
-from extractor.types import TAGS, Sentence, Span
-
-# Invented answers about invented varieties (Velora, Tolvane, Mirasol-3).
-TEMPLATES = [
-    "We like the {t} of Velora .",
-    "Tolvane has a poor {t} in the rainy season .",
-    "My wife sells it because the {t} is good .",
-    "The {t} of Mirasol-3 is better than the old one .",
-]
-TRAITS = ["taste", "cooking time", "yield", "firmness", "grain colour"]
-
-
-def labelled(text: str, trait: str) -> tuple[Sentence, list[Span]]:
-    start = text.index(trait)
-    return Sentence(0, text, "en"), [Span(start, start + len(trait))]
-
-
-def toy_gold() -> list[tuple[Sentence, list[Span]]]:
-    return [labelled(tpl.format(t=t), t) for tpl in TEMPLATES for t in TRAITS]
-
-
-def toy_xy(data: list[tuple[Sentence, list[Span]]]) -> tuple[list, list]:
-    X, y = [], []
-    for sentence, spans in data:
-        offsets, feats, _ = sentence_items(sentence, None, None)
-        X.append(feats)
-        y.append(spans_to_iob(offsets, spans))
-    return X, y
+from extractor.types import TAGS, Sentence
+from tests.models.toy import labelled, toy_gold, toy_xy
 
 
 @pytest.fixture(scope="module")
@@ -182,54 +152,6 @@ def test_tagger_load_refuses_missing_folder(tmp_path) -> None:
         TraitTagger.load(tmp_path / "absent")
 
 
-def test_fit_tagger_uses_dictionary_and_keeps_its_concept() -> None:
-    dictionary = build_dictionary([("TX:0001", "taste", "en"), ("TX:0002", "yield", "en")])
-    silver = [
-        Sentence(i, tpl.format(t=t), "en")
-        for i, (tpl, t) in enumerate(itertools.product(TEMPLATES, ["taste", "yield"]))
-    ]
-    tagger = fit_tagger(toy_gold()[:5], silver, dictionary, None, max_iterations=50)
-    (result,) = tag_sentences(
-        tagger, [Sentence(9, "The yield of Velora is good .", "en")], dictionary, None
-    )
-    assert result.spans == [Span(4, 9, "TX:0002")]
-    assert len(result.token_offsets) == len(result.tags) == len(result.marginals) == 7
-    assert 0.0 < result.probability <= 1.0
-
-
-@pytest.mark.parametrize(
-    ("silver_filter", "kept", "firmness_labelled"),
-    [("all", 3, False), ("matched", 2, False), ("gold-check", 1, False), ("self-train", 2, True)],
-    ids=["all", "matched", "gold-check", "self-train"],
-)
-def test_silver_filter_handles_unlisted_trait(
-    silver_filter: str, kept: int, firmness_labelled: bool
-) -> None:
-    # The dictionary lacks "firmness", which gold labels as a trait: a silver sentence
-    # mentioning it must not teach the tagger that "firmness" is O.
-    dictionary = build_dictionary([("TX:0001", "taste", "en")])
-    silver = [
-        Sentence(1, "We like the taste and the firmness of Velora .", "en"),
-        Sentence(2, "We like the taste of Velora .", "en"),
-        Sentence(3, "We walked to the market .", "en"),
-    ]
-    X, y = toy_xy(toy_gold())
-    sx, sy = _silver(silver, dictionary, None, X, y, silver_filter, 0.5, {"max_iterations": 50})
-    assert len(sx) == kept
-    firmness_tags = [
-        tags[i]
-        for tags in sy
-        if len(tags) == len(tokenize(silver[0].text, "en"))
-        for i in [tokenize(silver[0].text, "en").index((26, 34))]
-    ]
-    assert ("B-TRAIT" in firmness_tags) == firmness_labelled
-
-
-def test_fit_tagger_rejects_unknown_silver_filter() -> None:
-    with pytest.raises(InputError, match="silver_filter must be one of"):
-        fit_tagger(toy_gold(), [], None, None, silver_filter="none")
-
-
 def test_tag_sentences_refuses_other_clusters(toy_tagger) -> None:
     toy_tagger_with_clusters = fit_tagger(
         toy_gold()[:4], [], None, {"clusters": {}, "fingerprint": "3:abc"}, max_iterations=5
@@ -277,3 +199,12 @@ def test_tag_sentences_resumes_the_garbage_collector(toy_tagger) -> None:
     with pytest.raises(TypeError):  # fails inside the paused section (spaCy cannot read None)
         tag_sentences(toy_tagger, [Sentence(id=2, text=None, lang="en")], None, None)  # type: ignore[arg-type]
     assert gc.isenabled()
+
+
+def test_tagger_clone_gives_an_unfitted_copy_with_the_same_params(toy_tagger) -> None:
+    # scikit-learn's clone is the outside reference for the estimator contract: it
+    # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
+    copy = clone(toy_tagger)
+    assert copy.get_params() == toy_tagger.get_params()
+    assert copy.get_params()["max_iterations"] == 50
+    assert toy_tagger.is_fitted and not copy.is_fitted

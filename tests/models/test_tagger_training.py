@@ -1,0 +1,63 @@
+"""Training the CRF tagger from gold and dictionary-labelled (silver) sentences."""
+
+from __future__ import annotations
+
+import itertools
+
+import pytest
+
+from extractor.errors import InputError
+from extractor.models.tagger import tag_sentences
+from extractor.models.tagger_training import _silver, fit_tagger
+from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.text import tokenize
+from extractor.types import Sentence, Span
+from tests.models.toy import TEMPLATES, toy_gold, toy_xy
+
+
+def test_fit_tagger_uses_dictionary_and_keeps_its_concept() -> None:
+    dictionary = build_dictionary([("TX:0001", "taste", "en"), ("TX:0002", "yield", "en")])
+    silver = [
+        Sentence(i, tpl.format(t=t), "en")
+        for i, (tpl, t) in enumerate(itertools.product(TEMPLATES, ["taste", "yield"]))
+    ]
+    tagger = fit_tagger(toy_gold()[:5], silver, dictionary, None, max_iterations=50)
+    (result,) = tag_sentences(
+        tagger, [Sentence(9, "The yield of Velora is good .", "en")], dictionary, None
+    )
+    assert result.spans == [Span(4, 9, "TX:0002")]
+    assert len(result.token_offsets) == len(result.tags) == len(result.marginals) == 7
+    assert 0.0 < result.probability <= 1.0
+
+
+@pytest.mark.parametrize(
+    ("silver_filter", "kept", "firmness_labelled"),
+    [("all", 3, False), ("matched", 2, False), ("gold-check", 1, False), ("self-train", 2, True)],
+    ids=["all", "matched", "gold-check", "self-train"],
+)
+def test_silver_filter_handles_unlisted_trait(
+    silver_filter: str, kept: int, firmness_labelled: bool
+) -> None:
+    # The dictionary lacks "firmness", which gold labels as a trait: a silver sentence
+    # mentioning it must not teach the tagger that "firmness" is O.
+    dictionary = build_dictionary([("TX:0001", "taste", "en")])
+    silver = [
+        Sentence(1, "We like the taste and the firmness of Velora .", "en"),
+        Sentence(2, "We like the taste of Velora .", "en"),
+        Sentence(3, "We walked to the market .", "en"),
+    ]
+    X, y = toy_xy(toy_gold())
+    sx, sy = _silver(silver, dictionary, None, X, y, silver_filter, 0.5, {"max_iterations": 50})
+    assert len(sx) == kept
+    firmness_tags = [
+        tags[i]
+        for tags in sy
+        if len(tags) == len(tokenize(silver[0].text, "en"))
+        for i in [tokenize(silver[0].text, "en").index((26, 34))]
+    ]
+    assert ("B-TRAIT" in firmness_tags) == firmness_labelled
+
+
+def test_fit_tagger_rejects_unknown_silver_filter() -> None:
+    with pytest.raises(InputError, match="silver_filter must be one of"):
+        fit_tagger(toy_gold(), [], None, None, silver_filter="none")
