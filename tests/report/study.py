@@ -5,7 +5,14 @@ All people, places, varieties and trait IDs are invented.
 
 from __future__ import annotations
 
+from pathlib import Path
+from typing import Any
+
 import pandas as pd
+
+from extractor.types import Span
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace, init_workspace
 
 SECRET = b"fictional-test-secret-0123456789"
 CONCEPTS = pd.DataFrame(
@@ -86,3 +93,116 @@ def study_frames() -> tuple[pd.DataFrame, pd.DataFrame]:
         }
     )
     return pd.DataFrame(rows), respondents
+
+
+# --- a workspace built by hand ------------------------------------------------------
+
+STORE_ANSWERS = [
+    # (respondent, metadata, is_group, answer, sentence offsets)
+    ("KR-01", {"gender": "woman"}, False, "We grow Kivu Red. It cooks fast but weevils eat it.",
+     [(0, 17), (18, 51)]),
+    ("KR-02", {"gender": "man"}, False, "The grain is large.", [(0, 19)]),
+    ("FG-01", {}, True, "Nobody said much.", [(0, 17)]),
+]  # fmt: skip
+STORE_CONCEPTS: list[dict[str, Any]] = [
+    {"id": "BTX:0001", "parent": None, "definition": "Soft after a short time on the fire."},
+    {"id": "BTX:0002", "parent": None, "definition": "Stored grain escapes weevils."},
+    {"id": "BTX:0003", "parent": "BTX:0001", "definition": "Size of the dry grain."},
+]
+STORE_ALIASES = [
+    ("BTX:0001", "fast cooking", "en"),
+    ("BTX:0001", "cuisson rapide", "fr"),
+    ("BTX:0002", "résistance aux charançons", "fr"),  # no English label: falls back
+    ("BTX:0003", "large grain", "en"),
+]
+VERSION = "v001-20260101T000000"
+
+
+def predicted(
+    start: int, end: int, concept: str | None, stance: str, **extra: Any
+) -> dict[str, Any]:
+    """Return one stored predicted mention, shaped as tagging stores it."""
+    return {
+        "start": start,
+        "end": end,
+        "concept": concept,
+        "stance": stance,
+        "confidence": 0.9,
+        "link_prob": 0.8,
+        "stance_prob": 0.7,
+        "source": "predicted",
+        "variety": None,
+        "ref_variety": None,
+    } | extra
+
+
+def build_workspace(root: Path, *, with_model: bool = True) -> Workspace:
+    """Return an open workspace in ``root`` built through the store's own functions.
+
+    Three respondents (one a focus group), four sentences, trait and variety lists, one
+    person label on sentence 3 and, ``with_model``, a recorded model version (no model
+    files) with predictions for sentences 1 to 3.
+    """
+    init_workspace(root)
+    ws = Workspace.open(root)
+    store.add_source(
+        ws.conn,
+        path="interviews.csv",
+        sha256="0",
+        kind="csv",
+        options={},
+        rows=[
+            {
+                "respondent": resp,
+                "question": "Why do you grow it?",
+                "answer": text,
+                "lang": "en",
+                "lang_origin": "column",
+                "metadata": meta,
+                "is_group": group,
+            }
+            for resp, meta, group, text, _ in STORE_ANSWERS
+        ],
+        sentence_offsets=[offsets for *_, offsets in STORE_ANSWERS],
+    )
+    store.replace_concept_list(
+        ws.conn,
+        kind="trait",
+        path="traits.csv",
+        sha256="1",
+        concepts=STORE_CONCEPTS,
+        aliases=[
+            {"concept_id": c, "text": t, "lang": lang, "kind": "preferred"}
+            for c, t, lang in STORE_ALIASES
+        ],
+    )
+    store.replace_concept_list(
+        ws.conn,
+        kind="variety",
+        path="varieties.csv",
+        sha256="2",
+        concepts=[{"id": "VAR:01"}],
+        aliases=[{"concept_id": "VAR:01", "text": "Kivu Red", "lang": "en", "kind": "preferred"}],
+    )
+    if with_model:
+        store.add_model(ws.conn, VERSION, "models/v001", {"metrics": {"span": {"f1": 0.5}}})
+        # Sentence IDs follow answer order: 1 "We grow Kivu Red.", 2 "It cooks fast...",
+        # 3 "The grain is large.", 4 "Nobody said much."
+        store.store_predictions(
+            ws.conn,
+            VERSION,
+            [
+                {"sentence_id": 1, "mentions": []},
+                {
+                    "sentence_id": 2,
+                    "mentions": [
+                        predicted(3, 13, "BTX:0001", "liked", variety="VAR:01"),
+                        predicted(18, 32, "BTX:0002", "disliked", ref_variety="VAR:99"),
+                    ],
+                },
+                {"sentence_id": 3, "mentions": [predicted(4, 18, None, "liked")]},
+            ],
+        )
+    # A person relabels sentence 3: only "grain" is a trait, linked to large grain.
+    store.add_label(ws.conn, 3, [Span(4, 9, "BTX:0003", "liked")], "coder-a")
+    return ws

@@ -12,117 +12,20 @@ from __future__ import annotations
 from collections.abc import Iterator
 from datetime import datetime, timedelta
 from pathlib import Path
-from typing import Any
 
 import pandas as pd
 import pytest
 
 from extractor.report.about import RunFacts
 from extractor.report.results import about, concept_frame, mention_frame, respondent_frame
-from extractor.types import Span
-from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
-
-ANSWERS = [
-    # (respondent, metadata, is_group, answer, sentence offsets)
-    ("KR-01", {"gender": "woman"}, False, "We grow Kivu Red. It cooks fast but weevils eat it.",
-     [(0, 17), (18, 51)]),
-    ("KR-02", {"gender": "man"}, False, "The grain is large.", [(0, 19)]),
-    ("FG-01", {}, True, "Nobody said much.", [(0, 17)]),
-]  # fmt: skip
-CONCEPTS: list[dict[str, Any]] = [
-    {"id": "BTX:0001", "parent": None, "definition": "Soft after a short time on the fire."},
-    {"id": "BTX:0002", "parent": None, "definition": "Stored grain escapes weevils."},
-    {"id": "BTX:0003", "parent": "BTX:0001", "definition": "Size of the dry grain."},
-]
-ALIASES = [
-    ("BTX:0001", "fast cooking", "en"),
-    ("BTX:0001", "cuisson rapide", "fr"),
-    ("BTX:0002", "résistance aux charançons", "fr"),  # no English label: falls back
-    ("BTX:0003", "large grain", "en"),
-]
-VERSION = "v001-20260101T000000"
-
-
-def _predicted(start: int, end: int, concept: str | None, stance: str, **extra: Any) -> dict:
-    return {
-        "start": start,
-        "end": end,
-        "concept": concept,
-        "stance": stance,
-        "confidence": 0.9,
-        "link_prob": 0.8,
-        "stance_prob": 0.7,
-        "source": "predicted",
-        "variety": None,
-        "ref_variety": None,
-    } | extra
+from tests.report.study import STORE_ANSWERS, VERSION, build_workspace
 
 
 @pytest.fixture
 def ws(tmp_path: Path) -> Iterator[Workspace]:
-    """A workspace with three respondents, four sentences, predictions and one person label."""
-    init_workspace(tmp_path / "ws")
-    ws = Workspace.open(tmp_path / "ws")
-    store.add_source(
-        ws.conn,
-        path="interviews.csv",
-        sha256="0",
-        kind="csv",
-        options={},
-        rows=[
-            {
-                "respondent": resp,
-                "question": "Why do you grow it?",
-                "answer": text,
-                "lang": "en",
-                "lang_origin": "column",
-                "metadata": meta,
-                "is_group": group,
-            }
-            for resp, meta, group, text, _ in ANSWERS
-        ],
-        sentence_offsets=[offsets for *_, offsets in ANSWERS],
-    )
-    store.replace_concept_list(
-        ws.conn,
-        kind="trait",
-        path="traits.csv",
-        sha256="1",
-        concepts=CONCEPTS,
-        aliases=[
-            {"concept_id": c, "text": t, "lang": lang, "kind": "preferred"}
-            for c, t, lang in ALIASES
-        ],
-    )
-    store.replace_concept_list(
-        ws.conn,
-        kind="variety",
-        path="varieties.csv",
-        sha256="2",
-        concepts=[{"id": "VAR:01"}],
-        aliases=[{"concept_id": "VAR:01", "text": "Kivu Red", "lang": "en", "kind": "preferred"}],
-    )
-    store.add_model(ws.conn, VERSION, "models/v001", {"metrics": {"span": {"f1": 0.5}}})
-    # Sentence IDs follow answer order: 1 "We grow Kivu Red.", 2 "It cooks fast...",
-    # 3 "The grain is large.", 4 "Nobody said much."
-    store.store_predictions(
-        ws.conn,
-        VERSION,
-        [
-            {"sentence_id": 1, "mentions": []},
-            {
-                "sentence_id": 2,
-                "mentions": [
-                    _predicted(3, 13, "BTX:0001", "liked", variety="VAR:01"),
-                    _predicted(18, 32, "BTX:0002", "disliked", ref_variety="VAR:99"),
-                ],
-            },
-            {"sentence_id": 3, "mentions": [_predicted(4, 18, None, "liked")]},
-        ],
-    )
-    # A person relabels sentence 3: only "grain" is a trait, linked to large grain.
-    store.add_label(ws.conn, 3, [Span(4, 9, "BTX:0003", "liked")], "coder-a")
+    """The hand-built workspace of :func:`tests.report.study.build_workspace`."""
+    ws = build_workspace(tmp_path / "ws")
     yield ws
     ws.close()
 
@@ -166,7 +69,7 @@ def test_mention_frame_provenance_columns(ws: Workspace) -> None:
 
 def test_mention_frame_offsets_index_the_answer(ws: Workspace) -> None:
     frame = mention_frame(ws, VERSION)
-    answers = {i + 1: text for i, (*_, text, _) in enumerate(ANSWERS)}
+    answers = {i + 1: text for i, (*_, text, _) in enumerate(STORE_ANSWERS)}
     for row in frame.to_dict("records"):
         answer = answers[row["answer_id"]]
         assert answer[row["answer_start"] : row["answer_end"]] == row["span_text"]

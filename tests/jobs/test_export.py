@@ -1,0 +1,88 @@
+"""Tests of extractor.jobs.export: where exports go, what they return, what they refuse.
+
+The workspace is built by hand (:func:`tests.report.study.build_workspace`); expected
+counts are worked out from what it stores. All people and trait IDs are invented.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+from collections.abc import Iterator
+from pathlib import Path
+
+import openpyxl
+import pytest
+
+from extractor.errors import InputError
+from extractor.jobs.export import ExportResult, export, export_other, export_workbook
+from extractor.report.caution import REVIEW_CAUTION
+from extractor.workspace.folder import Workspace
+from tests.report.study import VERSION, build_workspace
+
+
+@pytest.fixture
+def ws(tmp_path: Path) -> Iterator[Workspace]:
+    """The hand-built workspace with a recorded version and its predictions."""
+    ws = build_workspace(tmp_path / "ws")
+    yield ws
+    ws.close()
+
+
+def test_export_workbook_default_paths_and_counts(ws: Workspace) -> None:
+    result = export_workbook(ws, VERSION)
+    # Two predicted mentions in sentence 2 and the person's span in sentence 3.
+    assert result == ExportResult(
+        ws.exports_dir / "preferred_traits.xlsx",
+        3,
+        ws.exports_dir / "preferred_traits_chart.png",
+    )
+    about = openpyxl.load_workbook(result.path)["About"]
+    assert (about["A2"].value, about["B2"].value) == ("Caution", REVIEW_CAUTION)
+
+
+def test_export_other_csv_rows(ws: Workspace) -> None:
+    result = export_other(ws, VERSION, "csv")
+    assert result == ExportResult(ws.exports_dir / "mentions.csv", 3)
+    # Read back with Python's csv module (RFC 4180 dialect) as the reference reader.
+    with result.path.open(encoding="utf-8", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    assert [r["span_text"] for r in rows] == ["cooks fast", "weevils eat it", "grain"]
+
+
+def test_export_other_jsonld_skips_unlinked(ws: Workspace) -> None:
+    result = export_other(ws, VERSION, "jsonld")
+    collection = json.loads(result.path.read_text(encoding="utf-8"))
+    # All three mentions are linked, so all three are annotations (W3C Web Annotation).
+    assert collection["total"] == 3 and result.mentions == 3
+
+
+def test_export_other_conll_writes_labeled_sentences(ws: Workspace) -> None:
+    result = export_other(ws, VERSION, "conll")
+    assert result == ExportResult(ws.exports_dir / "labeled_sentences.conll", 1)
+    assert "# text = The grain is large." in result.path.read_text(encoding="utf-8")
+
+
+def test_export_other_conll_refuses_pseudonymising(ws: Workspace) -> None:
+    with pytest.raises(InputError, match="cannot be pseudonymised"):
+        export_other(ws, VERSION, "conll", pseudonymise=True)
+
+
+def test_export_other_rejects_unknown_format(ws: Workspace) -> None:
+    with pytest.raises(
+        InputError, match="must be one of xlsx, csv, jsonl, conll, jsonld; got 'pdf'"
+    ):
+        export_other(ws, VERSION, "pdf")
+
+
+def test_export_pseudonymised_hides_respondent_ids(ws: Workspace) -> None:
+    result = export_other(ws, VERSION, "jsonl", pseudonymise=True)
+    assert result.path.name == "mentions_pseudonymised.jsonl"
+    text = result.path.read_text(encoding="utf-8")
+    assert "KR-01" not in text and "R-" in text
+
+
+def test_export_without_a_model_writes_person_labels(tmp_path: Path) -> None:
+    with build_workspace(tmp_path / "ws", with_model=False) as ws:
+        result = export(ws, "csv", out=tmp_path / "out.csv")
+    assert result == ExportResult(tmp_path / "out.csv", 1)
