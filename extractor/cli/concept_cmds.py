@@ -50,13 +50,13 @@ def cmd_concepts_list(args: argparse.Namespace, console: Console) -> int:
         history.add_column(column)
     for v in listing.versions:
         history.add_row(
-            str(v["id"]),
-            v["kind"],
-            v["path"],
-            v["sha256"][:12],
-            v["imported_at"],
-            str(v["n_concepts"]),
-            str(v["n_aliases"]),
+            str(v.id),
+            v.kind,
+            v.path,
+            v.sha256[:12],
+            v.imported_at,
+            str(v.n_concepts),
+            str(v.n_aliases),
         )
     console.print(history)
     return 0

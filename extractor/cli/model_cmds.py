@@ -42,13 +42,13 @@ def cmd_models(args: argparse.Namespace, console: Console) -> int:
     for column in ("version", "trained", "labeled", "silver", "quality"):
         table.add_column(column)
     for model in found:
-        counts = model["meta"].get("counts", {})
+        counts = model.meta.get("counts", {})
         table.add_row(
-            model["version"],
-            model["created_at"],
+            model.version,
+            model.created_at,
             str(counts.get("gold_sentences", "")),
             str(counts.get("silver_sentences", "")),
-            metric_summary(model["metrics"]),
+            metric_summary(model.metrics),
         )
     console.print(table)
     return 0

@@ -22,7 +22,7 @@ class ConceptListing:
 
     concepts: Sequence[Mapping[str, Any]]
     alias_counts: Mapping[str, int]
-    versions: Sequence[Mapping[str, Any]]
+    versions: Sequence[store.ConceptListVersion]
 
 
 @dataclass(frozen=True)
@@ -66,7 +66,7 @@ def suggest_terms(ws: Workspace, *, min_count: int = 2) -> TermSuggestions:
         (sentences[sid], Span(m["start"], m["end"]))
         for sid, row in predicted.items()
         if sid in sentences
-        for m in row["mentions"]
+        for m in row.mentions
         if m.get("concept") is None
     ]
     terms = rank_terms(unlinked, models.linker_, models.clusters_, min_count=min_count)

@@ -4,12 +4,10 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any
-
 from extractor.jobs.inputs import gold_examples, session_settings
 from extractor.jobs.train import cross_validation, load_version, reusable_clusters
 from extractor.loop.samples import ensure_samples
-from extractor.models import metrics
+from extractor.models.validation import CrossValidation, Evaluation, evaluate_on
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
@@ -23,8 +21,8 @@ class EvaluationReport:
     than are stored now.
     """
 
-    cross_validation: Any = None
-    evaluation_sample: Any = None
+    cross_validation: CrossValidation | None = None
+    evaluation_sample: Evaluation | None = None
     notes: Mapping[str, str] = field(default_factory=dict)
     version: str | None = None
 
@@ -45,7 +43,7 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> EvaluationReport:
         notes["cross-validation"] = why
     latest = store.latest_model(ws.conn)
     held_out = [(s, spans) for s, spans in gold if s.id in sample]
-    scored = None
+    scored: Evaluation | None = None
     if latest is None:
         notes["evaluation sample"] = "no model version yet; run `traits train`."
     elif not held_out:
@@ -54,19 +52,22 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> EvaluationReport:
         )
     else:
         version, models = load_version(ws)
-        scored = metrics.evaluate_on(models, held_out)
-        learned = int(latest["meta"].get("counts", {}).get("gold_sentences", 0))
+        scored = evaluate_on(models, held_out)
+        learned = int(latest.meta.get("counts", {}).get("gold_sentences", 0))
         if learned != len(outside):
             notes["stale version"] = (
                 f"model version {version} learned from {learned} labeled sentences, but "
                 f"{len(outside)} are labeled now (outside the evaluation sample); "
                 "run `traits train` and evaluate again to score a model that learned from them."
             )
-    report = EvaluationReport(cv, scored, notes, None if latest is None else latest["version"])
+    report = EvaluationReport(cv, scored, notes, None if latest is None else latest.version)
     if latest is not None:
-        figures = {"cross_validation": cv, "evaluation_sample": scored}
+        figures: dict[str, CrossValidation | Evaluation | None] = {
+            "cross_validation": cv,
+            "evaluation_sample": scored,
+        }
         store.set_model_metrics(
-            ws.conn, latest["version"], {k: v for k, v in figures.items() if v is not None}
+            ws.conn, latest.version, {k: v.to_dict() for k, v in figures.items() if v is not None}
         )
     return report
 
@@ -76,7 +77,7 @@ def stored_quality(ws: Workspace) -> dict[str, float | str] | None:
     latest = store.latest_model(ws.conn)
     if latest is None:
         return None
-    found = latest.get("metrics", {}).get("evaluation_sample") or {}
+    found = latest.metrics.get("evaluation_sample") or {}
     if not isinstance(found.get("span_f1"), (int, float)):
         return None
-    return {"span F1": float(found["span_f1"]), "of version": latest["version"]}
+    return {"span F1": float(found["span_f1"]), "of version": latest.version}

@@ -91,7 +91,7 @@ def run(ws: Workspace) -> RunReport:
         tag=done.tag,
         previous_version=None
         if previous is None
-        else VersionQuality(previous["version"], previous["metrics"]),
+        else VersionQuality(previous.version, previous.metrics),
         export=export_workbook(ws, done.train.version),
         counts=after,
     )

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
 
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -36,6 +35,6 @@ def workspace_status(ws: Workspace) -> WorkspaceCounts:
     return WorkspaceCounts(**store.counts(ws.conn))
 
 
-def model_versions(ws: Workspace) -> Sequence[Mapping[str, Any]]:
+def model_versions(ws: Workspace) -> Sequence[store.ModelVersion]:
     """Return the recorded model versions, oldest first, with their metadata and metrics."""
     return store.models(ws.conn)

@@ -14,6 +14,7 @@ from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
 from extractor.models.bundle import TraitModels
+from extractor.models.validation import CrossValidation, cross_validate
 from extractor.nlp.clusters import corpus_fingerprint, load_clusters
 from extractor.types import Sentence, Span
 from extractor.workspace import store
@@ -57,12 +58,12 @@ def reusable_clusters(ws: Workspace, corpus: Sequence[Sentence]) -> dict[str, An
     latest = store.latest_model(ws.conn)
     if latest is None:
         return None
-    if latest["meta"].get("clusters_fingerprint") != corpus_fingerprint(
+    if latest.meta.get("clusters_fingerprint") != corpus_fingerprint(
         (s.text, s.lang) for s in corpus
     ):
         return None
     try:
-        return load_clusters(Path(ws.root / latest["path"]))
+        return load_clusters(Path(ws.root / latest.path))
     except TraitsError:
         return None
 
@@ -112,7 +113,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     if cross_validate:
         cv, why = cross_validation(ws, gold, corpus, models.clusters_)
         if cv is not None:
-            figures["cross_validation"] = cv
+            figures["cross_validation"] = cv.to_dict()
         elif len(gold) >= MIN_LABELS_FOR_CV:
             notes.append(why)
     version = _save_version(ws, models, figures)
@@ -130,9 +131,9 @@ def _save_version(ws: Workspace, models: TraitModels, figures: dict[str, Any]) -
         "concept_list": None
         if concept_version is None
         else {
-            "path": concept_version["path"],
-            "sha256": concept_version["sha256"],
-            "imported_at": concept_version["imported_at"],
+            "path": concept_version.path,
+            "sha256": concept_version.sha256,
+            "imported_at": concept_version.imported_at,
         },
         "metrics": figures,
     }
@@ -151,7 +152,7 @@ def cross_validation(
     corpus: list[Sentence],
     clusters: dict[str, Any] | None,
     k: int = 5,
-) -> tuple[dict[str, Any] | None, str]:
+) -> tuple[CrossValidation | None, str]:
     """Return k-fold figures grouped by respondent, or None and the reason there are none.
 
     ``gold`` is the labels outside the evaluation sample, as in training, so that
@@ -168,7 +169,7 @@ def cross_validation(
             "all labels come from one respondent, so there is no cross-validation "
             "(its folds keep each respondent's sentences together); label another's."
         )
-    return metrics.cross_validate(
+    return cross_validate(
         gold,
         corpus,
         alias_tuples(ws),
@@ -190,10 +191,10 @@ def load_version(ws: Workspace, version: str | None = None) -> tuple[str, TraitM
     chosen = (
         recorded[-1]
         if version is None
-        else next((m for m in recorded if m["version"] == version), None)
+        else next((m for m in recorded if m.version == version), None)
     )
     if chosen is None:
         raise ModelError(
             f"Model version {version!r} is not in this workspace; see `traits models`."
         )
-    return chosen["version"], TraitModels.load(ws.root / chosen["path"])
+    return chosen.version, TraitModels.load(ws.root / chosen.path)

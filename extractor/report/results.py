@@ -114,7 +114,7 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
     """
     labels = store.current_labels(ws.conn)
     predicted = store.predictions(ws.conn, version) if version else {}
-    ids = sorted(set(labels) | {sid for sid, p in predicted.items() if p["mentions"]})
+    ids = sorted(set(labels) | {sid for sid, p in predicted.items() if p.mentions})
     sentences = {s.id: s for s in store.sentences(ws.conn, ids)}
     concepts = concept_frame(ws) if ids else pd.DataFrame(columns=["concept_id", "label"])
     concept_names = dict(zip(concepts["concept_id"], concepts["label"], strict=True))
@@ -133,7 +133,7 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
         else:
             found = [
                 m | {"annotator": None, "model_version": version}
-                for m in predicted[sid]["mentions"]
+                for m in predicted[sid].mentions
             ]
         rows.extend(_mention_row(sentence, m, concept_names, variety) for m in found)
     return pd.DataFrame(rows)
@@ -180,18 +180,18 @@ def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOpti
 
 def about(ws: Workspace, version: str | None) -> RunFacts:
     """Return the facts shown on the workbook's About sheet."""
-    model = next((m for m in store.models(ws.conn) if m["version"] == version), None)
+    model = next((m for m in store.models(ws.conn) if m.version == version), None)
     concepts = store.current_concept_version(ws.conn)
     counts = store.counts(ws.conn)
-    metrics = {} if model is None else model["metrics"]
+    metrics = {} if model is None else model.metrics
     return RunFacts(
         model_version=version or "none (labels only)",
-        model_trained=None if model is None else model["created_at"],
+        model_trained=None if model is None else model.created_at,
         quality_cross_validated=metrics.get("cross_validation"),
         quality_evaluation_sample=metrics.get("evaluation_sample"),
-        concept_list=None if concepts is None else concepts["path"],
-        concept_list_sha256=None if concepts is None else concepts["sha256"],
-        concept_list_imported=None if concepts is None else concepts["imported_at"],
+        concept_list=None if concepts is None else concepts.path,
+        concept_list_sha256=None if concepts is None else concepts.sha256,
+        concept_list_imported=None if concepts is None else concepts.imported_at,
         respondents=counts["respondents"],
         sentences=counts["sentences"],
         sentences_labeled=counts["labels"],

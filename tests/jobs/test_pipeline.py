@@ -65,11 +65,11 @@ def test_run_writes_workbook_and_model_version(study: Path) -> None:
     book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
     assert len(book.sheetnames) >= 5
     with Workspace.open(study) as ws:
-        version = store.latest_model(ws.conn)["version"]
+        version = store.latest_model(ws.conn).version
         assert (study / "models" / version / "meta.json").is_file()
         predicted = store.predictions(ws.conn, version)
         n_sentences = store.counts(ws.conn)["sentences"]
-    mentions = [m for p in predicted.values() for m in p["mentions"]]
+    mentions = [m for p in predicted.values() for m in p.mentions]
     assert mentions
     assert {m["stance"] for m in mentions} <= {"liked", "disliked", "wanted", "neutral"}
     # Every sentence is tagged by the version, and the workbook names that version.
@@ -273,7 +273,7 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
 def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> None:
     run("-w", str(study), "run")
     with Workspace.open(study) as ws:
-        version = store.latest_model(ws.conn)["version"]
+        version = store.latest_model(ws.conn).version
     (study / "models" / version / name).write_bytes(b"\x00 not a model file")
     code, out = run("-w", str(study), "label", "--annotator", "x")
     assert code == 1
@@ -328,8 +328,8 @@ def test_evaluate_prints_tables_and_says_when_the_version_is_stale(
     assert code == 0 and "learned from" not in out
     with Workspace.open(study) as ws:
         latest = store.latest_model(ws.conn)
-    assert "cross_validation" in latest["metrics"] and "evaluation_sample" in latest["metrics"]
-    assert latest["version"] in out
+    assert "cross_validation" in latest.metrics and "evaluation_sample" in latest.metrics
+    assert latest.version in out
 
 
 def test_train_with_labels_from_one_respondent_skips_cross_validation(
@@ -343,7 +343,7 @@ def test_train_with_labels_from_one_respondent_skips_cross_validation(
     assert code == 0, out
     assert "one respondent" in out
     with Workspace.open(study) as ws:
-        assert "cross_validation" not in store.latest_model(ws.conn)["meta"]["metrics"]
+        assert "cross_validation" not in store.latest_model(ws.conn).meta["metrics"]
 
 
 def test_names_file_not_in_utf8_is_one_sentence(study: Path) -> None:

@@ -25,6 +25,7 @@ from extractor.workspace.store._answers import (
     sources,
 )
 from extractor.workspace.store._concepts import (
+    ConceptListVersion,
     add_alias,
     aliases,
     concept_versions,
@@ -44,6 +45,8 @@ from extractor.workspace.store._labels import (
     skipped,
 )
 from extractor.workspace.store._models import (
+    ModelVersion,
+    StoredPrediction,
     add_model,
     count_predictions,
     latest_model,
@@ -66,6 +69,9 @@ from extractor.workspace.store._schema import (
 from extractor.workspace.store._status import counts
 
 __all__ = [
+    "ConceptListVersion",
+    "ModelVersion",
+    "StoredPrediction",
     "MIGRATIONS",
     "SCHEMA_VERSION",
     "SentenceContext",

@@ -4,23 +4,42 @@ from __future__ import annotations
 
 import sqlite3
 from collections.abc import Sequence
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.errors import WorkspaceError
 from extractor.workspace.store._schema import now, transaction
 
 
-def current_concept_version(conn: sqlite3.Connection, kind: str = "trait") -> dict[str, Any] | None:
+class ConceptListVersion(NamedTuple):
+    """One import of the concept (or variety) list: the file, its hash, when, and its size."""
+
+    id: int
+    kind: str
+    path: str
+    sha256: str
+    imported_at: str
+    n_concepts: int
+    n_aliases: int
+
+
+_VERSION_SELECT = (
+    "SELECT id, kind, path, sha256, imported_at, n_concepts, n_aliases FROM concept_versions"
+)
+
+
+def current_concept_version(
+    conn: sqlite3.Connection, kind: str = "trait"
+) -> ConceptListVersion | None:
     """Return the newest imported version of the concept (or variety) list, or None."""
     row = conn.execute(
-        "SELECT * FROM concept_versions WHERE kind = ? ORDER BY id DESC LIMIT 1", (kind,)
+        _VERSION_SELECT + " WHERE kind = ? ORDER BY id DESC LIMIT 1", (kind,)
     ).fetchone()
-    return None if row is None else dict(row)
+    return None if row is None else ConceptListVersion(*row)
 
 
-def concept_versions(conn: sqlite3.Connection) -> list[dict[str, Any]]:
+def concept_versions(conn: sqlite3.Connection) -> list[ConceptListVersion]:
     """Return every imported concept and variety list version, oldest first."""
-    return [dict(r) for r in conn.execute("SELECT * FROM concept_versions ORDER BY id")]
+    return [ConceptListVersion(*r) for r in conn.execute(_VERSION_SELECT + " ORDER BY id")]
 
 
 def replace_concept_list(

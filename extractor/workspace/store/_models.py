@@ -5,10 +5,30 @@ from __future__ import annotations
 import json
 import sqlite3
 from collections.abc import Iterable
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.errors import WorkspaceError
 from extractor.workspace.store._schema import now, transaction
+
+
+class ModelVersion(NamedTuple):
+    """A recorded model version: its name, when it was saved, its folder, meta and metrics."""
+
+    version: str
+    created_at: str
+    path: str
+    meta: dict[str, Any]
+    metrics: dict[str, Any]
+
+
+class StoredPrediction(NamedTuple):
+    """A model version's prediction for one sentence.
+
+    ``mentions`` are dicts with at least ``start`` and ``end``, as the tagger stored them.
+    """
+
+    path_prob: float | None
+    mentions: list[dict[str, Any]]
 
 
 def add_model(conn: sqlite3.Connection, version: str, path: str, meta: dict[str, Any]) -> None:
@@ -32,17 +52,21 @@ def set_model_metrics(conn: sqlite3.Connection, version: str, metrics: dict[str,
         )
 
 
-def models(conn: sqlite3.Connection) -> list[dict[str, Any]]:
+def models(conn: sqlite3.Connection) -> list[ModelVersion]:
     """Return recorded model versions, oldest first, with meta and metrics decoded."""
-    out = []
-    for row in conn.execute("SELECT * FROM models ORDER BY created_at, version"):
-        out.append(
-            dict(row) | {"meta": json.loads(row["meta"]), "metrics": json.loads(row["metrics"])}
+    return [
+        ModelVersion(
+            version=row["version"],
+            created_at=row["created_at"],
+            path=row["path"],
+            meta=json.loads(row["meta"]),
+            metrics=json.loads(row["metrics"]),
         )
-    return out
+        for row in conn.execute("SELECT * FROM models ORDER BY created_at, version")
+    ]
 
 
-def latest_model(conn: sqlite3.Connection) -> dict[str, Any] | None:
+def latest_model(conn: sqlite3.Connection) -> ModelVersion | None:
     """Return the newest model version, or None."""
     found = models(conn)
     return found[-1] if found else None
@@ -86,15 +110,12 @@ def count_predictions(conn: sqlite3.Connection, model_version: str) -> int:
     )
 
 
-def predictions(conn: sqlite3.Connection, model_version: str) -> dict[int, dict[str, Any]]:
+def predictions(conn: sqlite3.Connection, model_version: str) -> dict[int, StoredPrediction]:
     """Return a model version's predictions keyed by sentence ID."""
-    out = {}
-    for row in conn.execute(
-        "SELECT sentence_id, path_prob, spans FROM predictions WHERE model_version = ?",
-        (model_version,),
-    ):
-        out[row["sentence_id"]] = {
-            "path_prob": row["path_prob"],
-            "mentions": json.loads(row["spans"]),
-        }
-    return out
+    return {
+        row["sentence_id"]: StoredPrediction(row["path_prob"], json.loads(row["spans"]))
+        for row in conn.execute(
+            "SELECT sentence_id, path_prob, spans FROM predictions WHERE model_version = ?",
+            (model_version,),
+        )
+    }
