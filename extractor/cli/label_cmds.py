@@ -50,8 +50,8 @@ def cmd_import_labels(args: argparse.Namespace, console: Console) -> int:
     with open_workspace(args) as ws:
         counts = import_label_file(ws, path, annotator=args.annotator)
     console.print(
-        f"Imported {counts['labels']} labels ({counts['spans']} spans) from {path.name}: "
-        f"{counts['matched']} matched stored sentences, {counts['added_sentences']} were added."
+        f"Imported {counts.labels} labels ({counts.spans} spans) from {path.name}: "
+        f"{counts.matched} matched stored sentences, {counts.added_sentences} were added."
     )
     return 0
 

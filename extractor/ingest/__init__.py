@@ -1,5 +1,6 @@
 """Reading interview files into answer rows, with BCP 47 language tags and detection."""
 
+from extractor.ingest.columns import MAPPING_KEYS
 from extractor.ingest.language import (
     DEFAULT_CANDIDATES,
     detect_language,
@@ -9,8 +10,7 @@ from extractor.ingest.language import (
     normalise_tag,
     tag_from_value,
 )
-from extractor.ingest.reader import SUFFIXES, read_interviews
-from extractor.ingest.tables import MAPPING_KEYS, ReadResult
+from extractor.ingest.reader import SUFFIXES, ReadResult, read_interviews
 
 __all__ = [
     "DEFAULT_CANDIDATES",

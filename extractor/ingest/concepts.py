@@ -17,14 +17,15 @@ import io
 import re
 import zipfile
 from collections import defaultdict
+from collections.abc import Iterable, Mapping
 from pathlib import Path
 from typing import Any, NamedTuple
 
 import pandas as pd
 
 from extractor.errors import InputError
+from extractor.ingest.decode import check_office_archive, decode_text, sniff_delimiter
 from extractor.ingest.language import normalise_tag
-from extractor.ingest.tables import check_office_archive, decode_text, sniff_delimiter
 
 REQUIRED = ("id", "label")
 OPTIONAL = ("lang", "synonyms", "hidden", "parent", "definition")
@@ -115,14 +116,7 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
             raise InputError(f"{path}, row {line}: the id is empty; give every concept an ID.")
         if not label:
             raise InputError(f"{path}, row {line}: concept {cid} has no label; add one.")
-        raw_lang = str(row.get("lang", "") or "").strip() or default_lang
-        try:
-            lang = normalise_tag(raw_lang)
-        except InputError as exc:
-            raise InputError(
-                f"{path}, row {line}: {raw_lang!r} is not a known language tag; use a BCP 47 "
-                "tag such as en, fr, es-419 or sw."
-            ) from exc
+        lang = _row_language(row, default_lang, path, line)
         seen = labels.get((cid, lang))
         if seen is not None and seen[0] != label:
             raise InputError(
@@ -131,14 +125,11 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
             )
         labels[(cid, lang)] = (label, line)
         concept = concepts.setdefault(cid, {"id": cid, "parent": None, "definition": None})
-        for key in ("parent", "definition"):
-            value = str(row.get(key, "") or "").strip()
-            if value and not concept[key]:
-                concept[key] = value
-        forms = [(label, "preferred")]
-        forms += [(s, "alternative") for s in split_synonyms(str(row.get("synonyms", "") or ""))]
-        forms += [(s, "hidden") for s in split_synonyms(str(row.get("hidden", "") or ""))]
-        for text, kind in forms:
+        for column in ("parent", "definition"):
+            value = str(row.get(column, "") or "").strip()
+            if value and not concept[column]:
+                concept[column] = value
+        for text, kind in _row_forms(row, label):
             key = (cid, text.casefold(), lang)
             if key not in aliases or kind == "preferred":
                 aliases[key] = {"concept_id": cid, "text": text, "lang": lang, "kind": kind}
@@ -152,7 +143,27 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
     return ConceptList(list(concepts.values()), list(aliases.values()), file_sha256(path), warnings)
 
 
-def _shared_alias_warnings(path: Path, aliases: Any) -> list[str]:
+def _row_language(row: pd.Series, default_lang: str, path: Path, line: int) -> str:
+    """Return the row's language tag, normalised; the default when the cell is empty."""
+    raw_lang = str(row.get("lang", "") or "").strip() or default_lang
+    try:
+        return normalise_tag(raw_lang)
+    except InputError as exc:
+        raise InputError(
+            f"{path}, row {line}: {raw_lang!r} is not a known language tag; use a BCP 47 "
+            "tag such as en, fr, es-419 or sw."
+        ) from exc
+
+
+def _row_forms(row: pd.Series, label: str) -> list[tuple[str, str]]:
+    """Return the row's written forms with their SKOS kind: preferred, alternative, hidden."""
+    forms = [(label, "preferred")]
+    forms += [(s, "alternative") for s in split_synonyms(str(row.get("synonyms", "") or ""))]
+    forms += [(s, "hidden") for s in split_synonyms(str(row.get("hidden", "") or ""))]
+    return forms
+
+
+def _shared_alias_warnings(path: Path, aliases: Iterable[Mapping[str, Any]]) -> list[str]:
     """Warn about alias texts that two different concepts share in one language."""
     owners: dict[tuple[str, str], set[str]] = defaultdict(set)
     for alias in aliases:

@@ -13,8 +13,7 @@ from typing import Any, NamedTuple
 
 from extractor.errors import InputError
 from extractor.ingest.concepts import file_sha256, load_concept_list
-from extractor.ingest.reader import SUFFIXES, read_interviews
-from extractor.ingest.tables import ReadResult
+from extractor.ingest.reader import SUFFIXES, ReadResult, read_interviews
 from extractor.nlp.text import split_sentences
 from extractor.progress import track
 from extractor.workspace import store
@@ -194,12 +193,12 @@ def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> Concep
     """
     current = store.current_concept_version(ws.conn, kind)
     sha = file_sha256(path) if path.exists() else None
-    if current is not None and sha == current["sha256"]:
+    if current is not None and sha == current.sha256:
         return ConceptImport(
             status="unchanged",
-            path=current["path"],
-            concepts=current["n_concepts"],
-            aliases=current["n_aliases"],
+            path=current.path,
+            concepts=current.n_concepts,
+            aliases=current.n_aliases,
         )
     loaded = load_concept_list(path, default_lang=ws.settings.workspace.default_language)
     version = store.replace_concept_list(

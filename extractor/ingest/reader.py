@@ -8,21 +8,26 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.errors import InputError
-from extractor.ingest.language import normalise_tag
-from extractor.ingest.tables import (
-    MAPPING_KEYS,
-    ReadResult,
-    fill_languages,
-    read_delimited,
-    read_workbook,
-)
+from extractor.ingest.columns import MAPPING_KEYS
+from extractor.ingest.language import detect_languages, normalise_tag
+from extractor.ingest.tables import read_delimited, read_workbook
 from extractor.ingest.transcripts import docx_lines, parse_transcript, text_lines
 
 SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
 """File suffixes :func:`read_interviews` can read."""
+
+
+class ReadResult(NamedTuple):
+    """The answers read from one interview file (see :func:`read_interviews`)."""
+
+    rows: list[dict[str, Any]]
+    kind: str
+    layout: str
+    encoding: str | None
+    warnings: list[str]
 
 
 def _check_mapping(mapping: dict[str, Any] | None) -> None:
@@ -80,6 +85,18 @@ def read_interviews(
             mapping or setting, or a bad row; the message names the file and place.
     """
     path = Path(path)
+    suffix = _check_path(path)
+    _check_mapping(mapping)
+    default = _setting_tag(default_lang, "default language")
+    candidates = [_setting_tag(t, "languages") for t in languages] if languages else None
+    data = _read_bytes(path)
+    rows, layout, encoding, warnings = _read_rows(path, suffix, data, sheet, mapping)
+    _fill_languages(rows, candidates, default)
+    return ReadResult(rows, suffix.lstrip("."), layout, encoding, warnings)
+
+
+def _check_path(path: Path) -> str:
+    """Return the file's lower-case suffix, refusing one no reader reads or a missing file."""
     suffix = path.suffix.lower()
     if suffix not in SUFFIXES:
         raise InputError(
@@ -90,9 +107,11 @@ def read_interviews(
         raise InputError(
             f"File '{path}' does not exist or is not a file; check the path and the spelling."
         )
-    _check_mapping(mapping)
-    default = _setting_tag(default_lang, "default language")
-    candidates = [_setting_tag(t, "languages") for t in languages] if languages else None
+    return suffix
+
+
+def _read_bytes(path: Path) -> bytes:
+    """Return the file's bytes, refusing an unreadable or empty file by name."""
     try:
         data = path.read_bytes()
     except OSError as err:
@@ -102,7 +121,13 @@ def read_interviews(
         ) from err
     if not data.strip() or data.strip() == b"\xef\xbb\xbf":
         raise InputError(f"File '{path.name}' is empty; check that it is the right file.")
-    kind = suffix.lstrip(".")
+    return data
+
+
+def _read_rows(
+    path: Path, suffix: str, data: bytes, sheet: str | None, mapping: dict[str, Any] | None
+) -> tuple[list[dict[str, Any]], str, str | None, list[str]]:
+    """Read the rows with the reader of the suffix; return rows, layout, encoding, warnings."""
     encoding: str | None = None
     if suffix in (".csv", ".tsv"):
         rows, layout, encoding, warnings = read_delimited(path, data, mapping)
@@ -118,5 +143,14 @@ def read_interviews(
         rows, layout = parse_transcript(path, lines), "transcript"
         if not rows:
             warnings.append(f"File '{path.name}' has no respondent turns.")
-    fill_languages(rows, candidates, default)
-    return ReadResult(rows, kind, layout, encoding, warnings)
+    return rows, layout, encoding, warnings
+
+
+def _fill_languages(
+    rows: list[dict[str, Any]], languages: Sequence[str] | None, default_lang: str
+) -> None:
+    """Detect the language of every row whose ``lang`` is still ``None``, in one batch."""
+    pending = [row for row in rows if row["lang"] is None]
+    found = detect_languages([row["answer"] for row in pending], languages, default_lang)
+    for row, (tag, origin) in zip(pending, found, strict=True):
+        row["lang"], row["lang_origin"] = tag, origin

@@ -27,14 +27,8 @@ from docx.opc.exceptions import PackageNotFoundError
 from lxml.etree import XMLSyntaxError
 
 from extractor.errors import InputError
-from extractor.ingest.tables import (
-    check_office_archive,
-    decode_text,
-    fold_header,
-    is_yes,
-    language_of_cell,
-    snake_key,
-)
+from extractor.ingest.columns import fold_header, is_yes, language_of_cell, snake_key
+from extractor.ingest.decode import check_office_archive, decode_text
 
 INTERVIEWER_SPEAKERS = frozenset({
     "interviewer", "moderator", "facilitator", "enqueteur", "entrevistador", "entrevistadora",

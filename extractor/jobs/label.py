@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from extractor.ingest.labels import import_labels, read_labels
+from extractor.ingest.labels import LabelImport, import_labels, read_labels
 from extractor.jobs.evaluate import stored_quality
 from extractor.jobs.inputs import alias_tuples, session_settings
 from extractor.jobs.train import load_version
@@ -91,7 +91,7 @@ def labeling_setup(
     )
 
 
-def import_label_file(ws: Workspace, path: Path, *, annotator: str) -> dict[str, int]:
+def import_label_file(ws: Workspace, path: Path, *, annotator: str) -> LabelImport:
     """Import gold labels from JSON Lines or CoNLL IOB2 columns into the workspace.
 
     Returns:

@@ -10,6 +10,7 @@ from seqeval.metrics.sequence_labeling import get_entities
 
 from extractor.errors import InputError
 from extractor.ingest.labels import (
+    LabelImport,
     import_labels,
     parse_conll,
     parse_jsonl,
@@ -220,14 +221,9 @@ def test_import_adds_sentences_and_labels(workspace: Workspace, tmp_path: Path) 
     counts = import_labels(
         workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
     )
-    assert counts == {
-        "records": 2,
-        "matched": 0,
-        "added_sentences": 2,
-        "labels": 2,
-        "spans": 1,
-        "snapped": 0,
-    }
+    assert counts == LabelImport(
+        records=2, matched=0, added_sentences=2, labels=2, spans=1, snapped=0
+    )
     labels = store.current_labels(workspace.conn)
     sentences = {s.id: s for s in store.sentences(workspace.conn)}
     by_text = {sentences[sid].text: v for sid, v in labels.items()}
@@ -236,7 +232,7 @@ def test_import_adds_sentences_and_labels(workspace: Workspace, tmp_path: Path) 
     again = import_labels(
         workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
     )
-    assert (again["matched"], again["added_sentences"]) == (2, 0)
+    assert (again.matched, again.added_sentences) == (2, 0)
     assert len(store.sentences(workspace.conn)) == 2
 
 

@@ -1,0 +1,67 @@
+"""Label files by suffix, and records as gold ``(Sentence, spans)`` pairs."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from pathlib import Path
+from typing import Any
+
+from extractor.errors import InputError
+from extractor.ingest.labels._conll import parse_conll
+from extractor.ingest.labels._jsonl import parse_jsonl, record_from_dict
+from extractor.ingest.labels._record import LabelRecord
+from extractor.types import Sentence, Span
+
+JSONL_SUFFIXES = (".jsonl", ".json", ".ndjson")
+CONLL_SUFFIXES = (".conll", ".iob", ".bio", ".tsv", ".txt")
+
+
+def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
+    """Read a gold JSONL or CoNLL file (chosen by its suffix), checking every line.
+
+    Raises:
+        InputError: The file cannot be read, its suffix is unknown, or a line is bad.
+    """
+    suffix = path.suffix.lower()
+    if suffix not in JSONL_SUFFIXES + CONLL_SUFFIXES:
+        raise InputError(
+            f"{path.name}: labels must be a {', '.join(JSONL_SUFFIXES)} file (gold JSONL) or a "
+            f"{', '.join(CONLL_SUFFIXES)} file (CoNLL IOB2 columns); got {suffix or 'no suffix'}."
+        )
+    try:
+        lines = path.read_text(encoding="utf-8-sig").splitlines()
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{path} cannot be read as UTF-8 text ({exc}); check the path.") from exc
+    parse = parse_jsonl if suffix in JSONL_SUFFIXES else parse_conll
+    records = parse(lines, source=path.name, default_lang=default_lang)
+    if not records:
+        raise InputError(f"{path.name} holds no labeled sentence; check that it is the right file.")
+    return records
+
+
+def to_gold(
+    records: Iterable[LabelRecord | Mapping[str, Any]],
+    *,
+    first_id: int = 0,
+    default_lang: str = "en",
+) -> list[tuple[Sentence, list[Span]]]:
+    """Return records (or gold-format dicts) as ``(Sentence, spans)`` with made-up IDs.
+
+    Dicts are validated and snapped like file lines (:func:`record_from_dict`).
+    """
+    out = []
+    for n, item in enumerate(records):
+        record = (
+            item
+            if isinstance(item, LabelRecord)
+            else record_from_dict(item, source="data", line=n + 1, default_lang=default_lang)
+        )
+        sentence = Sentence(
+            id=first_id + n,
+            text=record.text,
+            lang=record.lang,
+            question=record.question,
+            respondent=record.respondent,
+        )
+        out.append((sentence, list(record.spans)))
+    return out
