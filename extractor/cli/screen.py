@@ -15,22 +15,22 @@ tests (an injectable input stream and rich ``Console``). What the annotator can 
   ``?`` help. End of input behaves like ``q``; Ctrl-C at any prompt also quits, and
   nothing is lost because every answer is committed the moment it is given.
 
-The screen holds no scores and writes no SQL: it draws what :class:`Session` returns.
+The screen holds no scores and writes no SQL: it draws what :class:`Session` returns
+(the drawing is in :mod:`extractor.cli.screen_draw`).
 """
 
 from __future__ import annotations
 
 import sqlite3
 import sys
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Sequence
 from typing import Any, TextIO
 
 from rich.console import Console
 from rich.markup import escape
-from rich.rule import Rule
-from rich.table import Table
 from rich.text import Text
 
+from extractor.cli.screen_draw import HELP_TEXT, Figures, Quality, draw_item
 from extractor.errors import TraitsError
 from extractor.loop.marking import (
     ConceptEntry,
@@ -42,40 +42,10 @@ from extractor.loop.marking import (
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Item, Session
-from extractor.models.bundle import Mention
 from extractor.types import STANCES, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
 """One key per stance."""
-
-STANCE_STYLE = {
-    "liked": "green",
-    "disliked": "red",
-    "wanted": "blue",
-    "neutral": "yellow",
-    None: "magenta",
-}
-
-HELP_LINE = "Enter keep · type words to mark · n no trait · s skip · u undo · q quit · ? more"
-SPAN_HELP_LINE = "x N drop · c N concept · t N stance · a N add words as alias"
-
-HELP_TEXT = """\
-[bold]Enter[/]        keep what is shown and go on (nothing shown = no trait here)
-[bold]words[/]        mark those words of the sentence as a trait (or [bold]m words[/])
-[bold]x N[/]          drop span N
-[bold]c N[/]          choose another concept for span N
-[bold]t N[/]          choose another stance for span N
-[bold]a N[/]          add the words of span N as a new alias of its concept
-[bold]n[/]            no trait here        [bold]s[/]  skip (not asked again)
-[bold]u[/]            undo your last answer and see it again
-[bold]q[/]            save and quit (everything you confirmed is already saved)
-Concepts: type a few letters of any name in any language, then the number shown.
-Stance: l liked · d disliked · w wanted · n neutral."""
-
-Quality = Callable[[], Mapping[str, float] | None]
-"""Returns estimated quality on the evaluation sample (e.g. ``{"f1": 0.61, "n": 40}``)."""
-
-_METADATA_ORDER = ("role", "gender", "age", "district", "region", "village", "group")
 
 
 class _Quit(Exception):
@@ -99,7 +69,7 @@ class LabelScreen:
         self._read = read_line
         self.entries = list(entries)
         self._quality = quality
-        self._quality_cache: tuple[int, Mapping[str, float] | None] | None = None
+        self._quality_cache: tuple[int, Figures | None] | None = None
         self._message = ""
 
     # ----------------------------------------------------------------- prompts
@@ -117,7 +87,7 @@ class LabelScreen:
 
     # ----------------------------------------------------------------- drawing
 
-    def _quality_figures(self) -> Mapping[str, float] | None:
+    def _quality_figures(self) -> Figures | None:
         if self._quality is None:
             return None
         version = self.session.model_version
@@ -125,131 +95,18 @@ class LabelScreen:
             self._quality_cache = (version, self._quality())
         return self._quality_cache[1]
 
-    def _status(self) -> Text:
-        s = self.session
-        parts = [f"{s.labeled_this_session} labeled now", f"{s.total_labels} in total"]
-        parts.append(f"model {s.model_version}" if s.model_version else "no model yet")
-        if s.retraining:
-            parts.append("retraining…")
-        return Text(" · ".join(parts), style="dim")
-
-    def _progress(self) -> Text | None:
-        s = self.session
-        bits = []
-        figures = self._quality_figures()
-        if figures:
-            shown = " ".join(
-                f"{k} {v:.2f}" if isinstance(v, float) else f"{k} {v}" for k, v in figures.items()
-            )
-            bits.append(f"estimated quality on the evaluation sample: {shown}")
-        if s.kappas:
-            last = " ".join(f"{k:.3f}" for k in s.kappas[-s.settings.kappa_rounds :])
-            bits.append(f"model agreement κ {last}")
-        if s.last_error:
-            bits.append(f"retraining failed ({s.last_error}); the previous model stays")
-        if not bits and not s.stop_signal:
-            return None
-        text = Text(" · ".join(bits), style="dim")
-        if s.stop_signal:
-            text.append(
-                "\nFurther labels are changing little: this is a good moment to stop.",
-                style="bold green",
-            )
-        return text
-
-    def _context(self, item: Item) -> Table:
-        ctx = item.context
-        grid = Table.grid(padding=(0, 1))
-        grid.add_column(style="dim", no_wrap=True)
-        grid.add_column()
-        if ctx.question:
-            grid.add_row("asked", Text(str(ctx.question), style="italic"))
-        if ctx.previous:
-            grid.add_row("before", Text(str(ctx.previous), style="dim"))
-        meta = dict(ctx.metadata)
-        ordered = [k for k in _METADATA_ORDER if k in meta] + sorted(
-            k for k in meta if k not in _METADATA_ORDER
-        )
-        who = [str(ctx.respondent or "")] + [f"{k} {meta[k]}" for k in ordered]
-        if ctx.is_group:
-            who.append("group interview")
-        if ctx.variety:
-            who.append(f"variety {ctx.variety}")
-        grid.add_row("who", Text(" · ".join(w for w in who if w)))
-        if item.in_evaluation:
-            grid.add_row("", Text("evaluation sample", style="cyan"))
-        return grid
-
-    def _sentence(self, item: Item, draft: Sequence[Span]) -> Text:
-        text = Text(item.sentence.text, style="bold")
-        for span in draft:
-            text.stylize(
-                f"underline {STANCE_STYLE.get(span.stance, 'magenta')}", span.start, span.end
-            )
-        # Numbers after each span, inserted from the end so offsets stay valid.
-        for n, span in sorted(enumerate(draft, 1), key=lambda p: -p[1].end):
-            text = text[: span.end] + Text(f"[{n}]", style="dim") + text[span.end :]
-        return text
-
-    def _label_of(self, concept: str | None, lang: str) -> str:
-        if concept is None:
-            return "no concept"
-        own = {
-            e.lang: e.text for e in reversed(self.entries) if e.concept == concept and e.preferred
-        }
-        label = own.get(lang) or own.get("en") or next(iter(own.values()), "")
-        return f"{concept} {label}".strip()
-
-    def _confidence(self, item: Item, span: Span) -> str:
-        if item.origin != "model" or item.prediction is None:
-            return ""
-        for m in item.prediction.mentions:
-            if (m.start, m.end) == (span.start, span.end):
-                return _confidence_text(m, span)
-        return ""
-
     def draw(self, item: Item, draft: Sequence[Span]) -> None:
         """Draw the sentence in its context, the draft answer, progress and help."""
-        c = self.console
-        if c.is_terminal:
-            c.clear()
-        c.print(Rule(self._status(), style="dim"))
-        c.print(self._context(item))
-        c.print()
-        c.print(self._sentence(item, draft))
-        if draft:
-            spans = Table.grid(padding=(0, 2))
-            for _ in range(5):
-                spans.add_column()
-            for n, span in enumerate(draft, 1):
-                spans.add_row(
-                    f"[{n}]",
-                    escape(item.sentence.text[span.start : span.end]),
-                    escape(self._label_of(span.concept, item.sentence.lang)),
-                    Text(span.stance or "no stance", style=STANCE_STYLE.get(span.stance, "")),
-                    self._confidence(item, span),
-                )
-            c.print(spans)
-        else:
-            c.print(Text("no trait here", style="dim italic"))
-        if tuple(draft) != item.suggestion:
-            origin = "edited"
-        else:
-            origin = {
-                "model": "suggested by the model",
-                "previous": "your earlier answer",
-                "none": "nothing suggested",
-            }[item.origin]
-        c.print(Text(f"({origin}; Enter saves what is shown)", style="dim"))
-        progress = self._progress()
-        if progress is not None:
-            c.print(progress)
-        if self._message:
-            c.print(Text(self._message, style="yellow"))
-            self._message = ""
-        if draft:
-            c.print(Text(SPAN_HELP_LINE, style="dim"))
-        c.print(Text(HELP_LINE, style="dim"))
+        draw_item(
+            self.console,
+            self.session,
+            item,
+            draft,
+            entries=self.entries,
+            figures=self._quality_figures(),
+            message=self._message,
+        )
+        self._message = ""
 
     # ----------------------------------------------------------------- choosing
 
@@ -419,18 +276,6 @@ class LabelScreen:
                     raise
                 except TraitsError as exc:
                     self.say(str(exc))
-
-
-def _confidence_text(mention: Mention, span: Span) -> str:
-    """The model's probabilities for the span as now drafted (the annotator may have edited)."""
-    parts = [f"span {mention.confidence:.2f}"]
-    concept = span.concept
-    if mention.concept_probs and concept is not None and concept in mention.concept_probs:
-        parts.append(f"concept {mention.concept_probs[concept]:.2f}")
-    stance = span.stance
-    if mention.stance_probs and stance is not None and stance in mention.stance_probs:
-        parts.append(f"stance {mention.stance_probs[stance]:.2f}")
-    return " ".join(parts)
 
 
 def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str | None]:

@@ -1,0 +1,66 @@
+"""Evaluation and simulation tables: the figures shown are the ones computed, every part drawn."""
+
+from __future__ import annotations
+
+import io
+
+from rich.console import Console
+from rich.table import Table
+from sklearn.metrics import accuracy_score, confusion_matrix, f1_score
+
+from extractor.cli.tables import curve_table, evaluation_tables, gain_table
+from extractor.loop.curves import CurveRow, GainRow
+from extractor.models.metrics import ScoreReport, score
+from extractor.types import Sentence, Span
+
+
+def _render(tables: list[Table]) -> str:
+    console = Console(file=io.StringIO(), width=160)
+    for table in tables:
+        console.print(table)
+    out = console.file
+    assert isinstance(out, io.StringIO)
+    return out.getvalue()
+
+
+# Four sentences, one span each; the model finds every span and concept but mistakes two
+# stances (liked -> disliked, wanted -> liked).
+GOLD_STANCES = ["liked", "liked", "disliked", "wanted"]
+PRED_STANCES = ["liked", "disliked", "disliked", "liked"]
+
+
+def _result() -> ScoreReport:
+    gold = [
+        (Sentence(id=i, text="xxx yyy zzz", lang="en", respondent=f"R{i}"), [Span(0, 3, "C1", g)])
+        for i, g in enumerate(GOLD_STANCES)
+    ]
+    return score(gold, [[Span(0, 3, "C1", p)] for p in PRED_STANCES])
+
+
+def test_evaluation_tables_show_stance_figures_as_scikit_learn_computes_them() -> None:
+    # titles wrap to the table's width: compare with runs of spaces and line breaks as one
+    text = " ".join(_render(evaluation_tables(_result())).split())
+    # scikit-learn is the outside reference for accuracy and macro-F1 (average over the
+    # classes seen in gold or prediction, 0 where a class is never predicted).
+    accuracy = accuracy_score(GOLD_STANCES, PRED_STANCES)
+    macro = f1_score(GOLD_STANCES, PRED_STANCES, average="macro", zero_division=0)
+    assert f"accuracy {accuracy:.3f}, macro-F1 {macro:.3f}" in text
+    labels = ["liked", "disliked", "wanted"]
+    matrix = confusion_matrix(GOLD_STANCES, PRED_STANCES, labels=labels)
+    for label, row in zip(labels, matrix, strict=True):
+        assert f"│ {label} │ " + " │ ".join(str(n) for n in row) + " │" in text
+
+
+def test_evaluation_tables_draw_every_part() -> None:
+    text = _render(evaluation_tables(_result()))
+    for title in ("Scores", "Span + concept by concept", "By language", "gold \\ predicted"):
+        assert title in text
+    assert "span (strict)" in text and "respondent triples" in text
+
+
+def test_simulation_tables_show_rows_and_wins() -> None:
+    curve = [CurveRow("random", 10, 2, mean=0.5, sd=0.125, min=0.375, max=0.625, labeled_tokens=80)]
+    gains = [GainRow("default", 10, 2, gain=0.031, sd=0.004, wins=1)]
+    text = _render([curve_table(curve), gain_table(gains)])
+    assert "0.500" in text and "0.125" in text
+    assert "+3.1" in text and "0.4" in text and "1/2" in text
