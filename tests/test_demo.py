@@ -7,21 +7,20 @@ These are smoke checks of the demo data and of ingest on it, not evidence of qua
 from __future__ import annotations
 
 import json
+from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
 
 from extractor.ingest.intake import add_files, import_concepts, interview_files
 from extractor.workspace import store
-from extractor.workspace.folder import Workspace
+from extractor.workspace.folder import Workspace, init_workspace
 
 SAMPLE = Path(__file__).resolve().parents[1] / "sample_interviews"
 
 
 @pytest.fixture(scope="module")
-def demo(tmp_path_factory: pytest.TempPathFactory) -> Workspace:
-    from extractor.workspace.folder import init_workspace
-
+def demo(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Workspace]:
     root = init_workspace(tmp_path_factory.mktemp("demo"))
     ws = Workspace.open(root)
     add_files(ws, interview_files(SAMPLE / "interviews"))

@@ -9,7 +9,9 @@ import sqlite3
 import subprocess
 import sys
 import time
+from collections.abc import Iterator
 from pathlib import Path
+from typing import Any, TextIO
 
 import pytest
 from rich.console import Console
@@ -28,24 +30,30 @@ TEXTS = [part for answer in ANSWERS for part in answer]  # sentence i + 1 is TEX
 
 
 @pytest.fixture
-def conn(tmp_path: Path) -> sqlite3.Connection:
+def conn(tmp_path: Path) -> Iterator[sqlite3.Connection]:
     c = build_store(tmp_path / "traits.sqlite")
     yield c
     c.close()
 
 
-def _run(conn: sqlite3.Connection, lines: list[str], **kwargs) -> tuple[dict, str]:
+def _run(
+    conn: sqlite3.Connection,
+    lines: list[str],
+    *,
+    input_stream: TextIO | None = None,
+    model_provider: FakeModel | None = None,
+) -> tuple[dict[str, Any], str]:
     out = io.StringIO()
-    options = {
-        "annotator": "Ama",
-        "batch_size": 4,
-        "strategy": "least_confidence",
-        "model_provider": FakeModel(),
-        "settings": NO_EVAL,
-        "console": Console(file=out, force_terminal=False, width=120),
-        "input_stream": io.StringIO("".join(line + "\n" for line in lines)),
-    } | kwargs
-    summary = run_console(conn, **options)
+    summary = run_console(
+        conn,
+        annotator="Ama",
+        batch_size=4,
+        strategy="least_confidence",
+        model_provider=model_provider or FakeModel(),
+        settings=NO_EVAL,
+        console=Console(file=out, force_terminal=False, width=120),
+        input_stream=input_stream or io.StringIO("".join(line + "\n" for line in lines)),
+    )
     return summary, out.getvalue()
 
 
@@ -120,8 +128,8 @@ def test_scripted_session_of_twenty_sentences_stores_every_answer(
 
 def test_scripted_session_adds_alias_of_annotator(conn: sqlite3.Connection) -> None:
     _run(conn, [line for group in SCRIPT for line in group])
-    added = [a for a in store.aliases(conn) if a["origin"] == "annotator"]
-    assert [(a["concept_id"], a["text"], a["lang"], a["added_by"]) for a in added] == [
+    added = [a for a in store.aliases(conn) if a.origin == "annotator"]
+    assert [(a.concept_id, a.text, a.lang, a.added_by) for a in added] == [
         ("BTX:0015", "bigger harvest", "en", "Ama")
     ]
 
@@ -140,7 +148,9 @@ def test_scripted_session_adds_alias_of_annotator(conn: sqlite3.Connection) -> N
     ],
     ids=["two-suggestions", "nothing-suggested"],
 )
-def test_enter_keeps_the_suggestion_exactly(conn: sqlite3.Connection, sentence, expected) -> None:
+def test_enter_keeps_the_suggestion_exactly(
+    conn: sqlite3.Connection, sentence: int, expected: list[Span]
+) -> None:
     model = FakeModel(path_prob=lambda s: 0.1 if s.id == sentence else 0.9)
     _run(conn, ["", "q"], model_provider=model)
     assert {k: v.spans for k, v in store.current_labels(conn).items()} == {sentence: expected}
@@ -164,8 +174,9 @@ def test_end_of_input_behaves_like_q(conn: sqlite3.Connection) -> None:
 class _Interrupting(io.StringIO):
     """An input stream that raises Ctrl-C once its lines run out."""
 
-    def readline(self, *args: object) -> str:
-        line = super().readline(*args)
+    # typeshed gives StringIO two readline signatures that disagree (bytes from _IOBase)
+    def readline(self, size: int = -1, /) -> str:  # type: ignore[override]
+        line = super().readline(size)
         if line == "":
             raise KeyboardInterrupt
         return line
@@ -183,7 +194,6 @@ def test_ambiguous_words_ask_which_occurrence(tmp_path: Path) -> None:
     _, screen = _run(
         conn,
         ["sweet soup", "-", "l", "x 1", "sweet", "7", "2", "", "n", ""],
-        settings=SessionSettings(evaluation_min=0, evaluation_fraction=0, stop_set_size=0),
     )
     assert "occur 2 times" in screen
     assert "Type a number from 1 to 2" in screen
@@ -227,6 +237,7 @@ def test_screen_shows_quality_kappas_and_stop_sentence(conn: sqlite3.Connection)
         quality=lambda: {"f1": 0.61, "sentences": 40},
     )
     item = session.next()
+    assert item is not None
     screen.draw(item, list(item.suggestion))
     text = out.getvalue()
     assert "f1 0.61 sentences 40" in text

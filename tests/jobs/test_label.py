@@ -1,0 +1,44 @@
+"""The labeling job over a pipe, and a corrupt model version refused in one sentence."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+from tests.jobs.study import latest_version, run
+
+
+def test_label_over_a_pipe_stores_one_label_per_enter(
+    study: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    run("-w", str(study), "run")
+    code, out = run(
+        "-w",
+        str(study),
+        "label",
+        "--annotator",
+        "tester",
+        stdin="\n" * 3 + "q\n",
+        monkeypatch=monkeypatch,
+    )
+    assert code == 0, out
+    with Workspace.open(study) as ws:
+        labels = store.current_labels(ws.conn)
+    assert len(labels) == 3 and {v.annotator for v in labels.values()} == {"tester"}
+
+
+@pytest.mark.parametrize(
+    "name",
+    ["tagger.crfsuite", "meta.json", "linker/linker.json", "linker/context.skops"],
+    ids=["crf-model", "meta", "linker", "linker-skops"],
+)
+def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> None:
+    run("-w", str(study), "run")
+    version = latest_version(study).version
+    (study / "models" / version / name).write_bytes(b"\x00 not a model file")
+    code, out = run("-w", str(study), "label", "--annotator", "x")
+    assert code == 1
+    assert "Traceback" not in out and "train" in out  # every message says to (re)train

@@ -1,0 +1,124 @@
+"""The whole job (`traits run`) on the invented study: workbook, version, re-run, labels win."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import openpyxl
+import pandas as pd
+
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+from tests.jobs.study import run
+
+
+def test_run_writes_workbook_and_model_version(study: Path) -> None:
+    code, out = run("-w", str(study), "run")
+    assert code == 0, out
+    assert "review" in out  # the caution is shown with the results
+    book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
+    assert len(book.sheetnames) >= 5
+    with Workspace.open(study) as ws:
+        latest = store.latest_model(ws.conn)
+        assert latest is not None
+        version = latest.version
+        assert (study / "models" / version / "meta.json").is_file()
+        predicted = store.predictions(ws.conn, version)
+        n_sentences = store.counts(ws.conn)["sentences"]
+    mentions = [m for p in predicted.values() for m in p.mentions]
+    assert mentions
+    assert {m["stance"] for m in mentions} <= {"liked", "disliked", "wanted", "neutral"}
+    # Every sentence is tagged by the version, and the workbook names that version.
+    assert len(predicted) == n_sentences
+    evidence = pd.read_excel(study / "exports" / "preferred_traits.xlsx", sheet_name="Mentions")
+    assert set(evidence["Model version"].dropna()) == {version}
+
+
+def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: Path) -> None:
+    run("-w", str(study), "run")
+    labels = tmp_path / "labels.jsonl"
+    labels.write_text(
+        json.dumps(
+            {
+                "respondent": "KA-01",
+                "lang": "en",
+                "text": "It cooks fast and the broth is thick.",
+                "spans": [{"start": 3, "end": 13, "concept": "BTX:0001", "stance": "liked"}],
+            }
+        )
+        + "\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(study), "import-labels", str(labels))[0] == 0
+    code, out = run("-w", str(study), "run")
+    assert code == 0 and "No new interviews" in out
+    with Workspace.open(study) as ws:
+        assert len(store.current_labels(ws.conn)) == 1
+        assert len(store.models(ws.conn)) == 2
+
+
+def test_person_labels_override_predictions_in_the_workbook(study: Path, tmp_path: Path) -> None:
+    labels = tmp_path / "labels.jsonl"
+    labels.write_text(
+        json.dumps(
+            {
+                "respondent": "KA-05",
+                "lang": "en",
+                "text": "We planted after the rains.",
+                "spans": [],
+            }
+        )
+        + "\n"
+        + json.dumps(
+            {
+                "respondent": "KA-02",
+                "lang": "en",
+                "text": "The grains are too small.",
+                "spans": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}],
+            }
+        )
+        + "\n",
+        encoding="utf-8",
+    )
+    run("-w", str(study), "run")
+    run("-w", str(study), "import-labels", str(labels))
+    run("-w", str(study), "train", "--no-cv")
+    run("-w", str(study), "export")
+    frame = pd.read_excel(study / "exports" / "preferred_traits.xlsx", sheet_name="Mentions")
+    small = frame[frame["Sentence"] == "The grains are too small."]
+    assert list(small["Source"]) == ["person"]
+    assert list(small["Concept ID"]) == ["BTX:0004"]
+    assert list(small["Stance"]) == ["disliked"]
+    assert frame[frame["Sentence"] == "We planted after the rains."].empty
+
+
+def test_hostile_answer_stays_text_and_pseudonymised_export_hides_ids(
+    study: Path, tmp_path: Path
+) -> None:
+    hostile = tmp_path / "hostile.csv"
+    hostile.write_text(
+        "respondent,gender,question,answer\n"
+        'KA-99,woman,Why?,"=HYPERLINK(""http://example.invalid"",""x"") It cooks fast."\n'
+        'KA-98,man,Why?,"Call me on +254 712 345 678, the yield is good."\n',
+        encoding="utf-8",
+    )
+    assert run("-w", str(study), "add", str(hostile))[0] == 0
+    assert run("-w", str(study), "run")[0] == 0
+    assert run("-w", str(study), "export", "--pseudonymise")[0] == 0
+    # The formula must read back as the plain string it was (openpyxl: a formula cell
+    # holds a value starting with "=" and data_type "f"; text cells have data_type "s").
+    book = openpyxl.load_workbook(study / "exports" / "preferred_traits.xlsx")
+    cells = [
+        c
+        for ws in book
+        for row in ws.iter_rows()
+        for c in row
+        if isinstance(c.value, str) and c.value.startswith("=HYPERLINK")
+    ]
+    assert cells and all(c.data_type == "s" for c in cells)
+    private = openpyxl.load_workbook(study / "exports" / "preferred_traits_pseudonymised.xlsx")
+    text = " ".join(str(c.value) for ws in private for row in ws.iter_rows() for c in row)
+    for secret in ("KA-98", "KA-99", "KA-01", "712 345 678", "+254"):
+        assert secret not in text
+    assert "[phone]" in text
