@@ -40,10 +40,10 @@ def load_mams(split: str, folder: Path | None = None) -> list[dict[str, Any]] | 
     path = (folder or MAMS_DIR) / f"{split}.xml"
     if not path.is_file():
         return None
-    out = []
+    out: list[dict[str, Any]] = []
     for sentence in ET.parse(path).getroot().iter("sentence"):
         text = sentence.findtext("text") or ""
-        spans = [
+        spans: list[dict[str, Any]] = [
             {
                 "start": int(term.get("from", "0")),
                 "end": int(term.get("to", "0")),

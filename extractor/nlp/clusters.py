@@ -24,7 +24,7 @@ from __future__ import annotations
 import hashlib
 import json
 from collections import Counter
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -146,24 +146,36 @@ def learn_clusters(
         return model
     index = {w: i for i, w in enumerate(vocab)}
     ids = [np.array([index.get(w, -1) for w in sent], dtype=np.int64) for sent in sentences]
-    weights = ppmi(_cooccurrence(ids, len(vocab), window))
-    n_dims = max(1, min(dims, len(vocab) - 1))
-    svd = TruncatedSVD(n_components=n_dims, random_state=seed, algorithm="randomized")
-    reduced = svd.fit_transform(weights)
-    # U * sqrt(S) rather than U * S: the top dimensions otherwise dominate similarity.
-    vectors = reduced / np.sqrt(np.maximum(svd.singular_values_, 1e-12))
-    vectors = _unit_rows(vectors).astype(np.float32)
-    labels = []
-    for k in granularities:
-        k = min(k, len(vocab))
-        # One k-means++ start: extra starts cost more than they gain on these vectors.
-        km = MiniBatchKMeans(n_clusters=k, random_state=seed, n_init=1, batch_size=1024)
-        labels.append(km.fit_predict(vectors))
+    vectors = _word_vectors(ppmi(_cooccurrence(ids, len(vocab), window)), dims, seed)
+    labels = _cluster_labels(vectors, granularities, seed)
     model["words"] = vocab
     model["clusters"] = {w: [int(lab[i]) for lab in labels] for i, w in enumerate(vocab)}
     model["neighbours"] = _prototype_neighbours(vocab, vectors, prototypes, neighbours)
     model["vectors"] = np.round(vectors, 4).tolist()
     return model
+
+
+def _word_vectors(weights: sparse.csr_matrix, dims: int, seed: int) -> np.ndarray:
+    """Reduce the PPMI matrix to unit-length word vectors of at most ``dims`` dimensions."""
+    n_dims = max(1, min(dims, weights.shape[0] - 1))
+    svd = TruncatedSVD(n_components=n_dims, random_state=seed, algorithm="randomized")
+    reduced = svd.fit_transform(weights)
+    # U * sqrt(S) rather than U * S: the top dimensions otherwise dominate similarity.
+    vectors = reduced / np.sqrt(np.maximum(svd.singular_values_, 1e-12))
+    return _unit_rows(vectors).astype(np.float32)
+
+
+def _cluster_labels(
+    vectors: np.ndarray, granularities: Sequence[int], seed: int
+) -> list[np.ndarray]:
+    """Cluster the word vectors once per granularity (capped at the word count)."""
+    labels = []
+    for k in granularities:
+        k = min(k, len(vectors))
+        # One k-means++ start: extra starts cost more than they gain on these vectors.
+        km = MiniBatchKMeans(n_clusters=k, random_state=seed, n_init=1, batch_size=1024)
+        labels.append(km.fit_predict(vectors))
+    return labels
 
 
 def _prototype_neighbours(

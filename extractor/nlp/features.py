@@ -147,34 +147,55 @@ def sentence_features(
             f["nn=" + proto] = 1.0
         if dict_tags is not None:
             f["d"] = tags[i]
-            if dict_concepts is not None and dict_concepts[i]:
-                f["dc"] = dict_concepts[i]  # type: ignore[assignment]
+            concept = dict_concepts[i] if dict_concepts is not None else None
+            if concept:
+                f["dc"] = concept
         if i == 0:
             f["BOS"] = 1.0
         if i == n - 1:
             f["EOS"] = 1.0
-        for off, lw_key, c_key, d_key, fine_keys in _WINDOW:
-            j = i + off
-            if 0 <= j < n:
-                f[lw_key] = lowers[j]
-                f[c_key] = coarse[j]
-                # Next to the token, finer clusters still generalise (e.g. "the" vs "a"
-                # before a trait noun) without being too sparse.
-                for key, cid in zip(fine_keys, clus[j][1:], strict=False):
-                    f[key] = cid
-                if dict_tags is not None:
-                    f[d_key] = tags[j]
-            else:
-                f[lw_key] = "<pad>"
-        # Word pairs catch two-word traits ("cooking time") that unigrams miss.
-        if i > 0:
-            f["-1lw|lw"] = lowers[i - 1] + "|" + lowers[i]
-            f["-1c|c"] = coarse[i - 1] + "|" + coarse[i]
-            f["-1c|lw"] = coarse[i - 1] + "|" + lowers[i]
-            f["-1s3"] = lowers[i - 1][-3:]
-        if i < n - 1:
-            f["lw|+1lw"] = lowers[i] + "|" + lowers[i + 1]
-            f["lw|+1c"] = lowers[i] + "|" + coarse[i + 1]
-            f["+1s3"] = lowers[i + 1][-3:]
+        _add_window(f, i, lowers, coarse, clus, tags if dict_tags is not None else None)
+        _add_pairs(f, i, lowers, coarse)
         out.append(f)
     return out
+
+
+def _add_window(
+    f: dict[str, str | float],
+    i: int,
+    lowers: list[str],
+    coarse: list[str],
+    clus: list[tuple[str, ...]],
+    tags: list[str] | None,
+) -> None:
+    """Add the lower-cased form, cluster and dictionary tag of the tokens around token ``i``."""
+    n = len(lowers)
+    for off, lw_key, c_key, d_key, fine_keys in _WINDOW:
+        j = i + off
+        if 0 <= j < n:
+            f[lw_key] = lowers[j]
+            f[c_key] = coarse[j]
+            # Next to the token, finer clusters still generalise (e.g. "the" vs "a"
+            # before a trait noun) without being too sparse.
+            for key, cid in zip(fine_keys, clus[j][1:], strict=False):
+                f[key] = cid
+            if tags is not None:
+                f[d_key] = tags[j]
+        else:
+            f[lw_key] = "<pad>"
+
+
+def _add_pairs(f: dict[str, str | float], i: int, lowers: list[str], coarse: list[str]) -> None:
+    """Add word pairs with the neighbours of token ``i``.
+
+    They catch two-word traits ("cooking time") that unigrams miss.
+    """
+    if i > 0:
+        f["-1lw|lw"] = lowers[i - 1] + "|" + lowers[i]
+        f["-1c|c"] = coarse[i - 1] + "|" + coarse[i]
+        f["-1c|lw"] = coarse[i - 1] + "|" + lowers[i]
+        f["-1s3"] = lowers[i - 1][-3:]
+    if i < len(lowers) - 1:
+        f["lw|+1lw"] = lowers[i] + "|" + lowers[i + 1]
+        f["lw|+1c"] = lowers[i] + "|" + coarse[i + 1]
+        f["+1s3"] = lowers[i + 1][-3:]

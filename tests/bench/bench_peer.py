@@ -6,7 +6,7 @@ split. Spans are first snapped to spaCy's blank English tokens (as ``traits
 import-labels`` does), so both see identical, token-aligned gold; the few training
 sentences whose aspect terms nest inside one another are left out.
 
-* ours: the tagger alone (:class:`extractor.loop.simulate.TaggerOnly`, no concept list),
+* ours: the tagger alone (:class:`extractor.loop.tagger_only.TaggerOnly`, no concept list),
   with word clusters learned once from the MAMS sentences' unlabeled text (their cost is
   reported separately: it is paid once per corpus, not per training).
 * spaCy: ``spacy.blank("en")`` + the ``ner`` pipe with its default CPU model,
@@ -33,10 +33,10 @@ sys.path.insert(0, str(ROOT))
 
 from extractor.errors import InputError  # noqa: E402
 from extractor.ingest.labels import LabelRecord, records_from_dicts, to_gold  # noqa: E402
-from extractor.loop.simulate import TaggerOnly  # noqa: E402
+from extractor.loop.tagger_only import TaggerOnly  # noqa: E402
 from extractor.models.metrics import predicted_mentions, score  # noqa: E402
 from extractor.nlp.clusters import learn_clusters, load_clusters  # noqa: E402
-from extractor.types import Span  # noqa: E402
+from extractor.types import Sentence, Span  # noqa: E402
 from tests.mams import SKIP_REASON, load_mams  # noqa: E402
 
 BUDGETS = (50, 100, 200)
@@ -56,12 +56,16 @@ def valid_records(rows: list[dict[str, Any]]) -> list[LabelRecord]:
 def train_spacy(train: list[tuple[str, list[tuple[int, int]]]], epochs: int, seed: int) -> Any:
     """Train spaCy's NER from scratch on ``(text, [(start, end)])`` pairs."""
     import spacy
+    from spacy.pipeline import EntityRecognizer
     from spacy.training import Example
     from spacy.util import fix_random_seed, minibatch
 
     fix_random_seed(seed)
     nlp = spacy.blank("en")
     ner = nlp.add_pipe("ner")
+    # add_pipe is typed as returning any component; the "ner" factory makes this one.
+    if not isinstance(ner, EntityRecognizer):
+        raise TypeError(f"spaCy's 'ner' factory made a {type(ner).__name__}")
     ner.add_label("TRAIT")
     examples = [
         Example.from_dict(nlp.make_doc(text), {"entities": [(s, e, "TRAIT") for s, e in spans]})
@@ -79,6 +83,51 @@ def train_spacy(train: list[tuple[str, list[tuple[int, int]]]], epochs: int, see
 def spacy_mentions(nlp: Any, texts: list[str]) -> list[list[Span]]:
     """Return spaCy's entities of each text as spans."""
     return [[Span(e.start_char, e.end_char) for e in doc.ents] for doc in nlp.pipe(texts)]
+
+
+def one_run(
+    train: list[tuple[Sentence, list[Span]]],
+    test_gold: list[tuple[Sentence, list[Span]]],
+    clusters: Any,
+    *,
+    epochs: int,
+    repeat: int,
+) -> dict[str, Any]:
+    """Train both taggers on the same sentences; return their F1 and training seconds."""
+    started = time.perf_counter()
+    ours = TaggerOnly().fit(train, [], [], clusters=clusters)
+    ours_train = time.perf_counter() - started
+    ours_f1 = score(test_gold, predicted_mentions(ours.predict([s for s, _ in test_gold]))).span.f1
+    started = time.perf_counter()
+    nlp = train_spacy(
+        [(s.text, [(sp.start, sp.end) for sp in spans]) for s, spans in train],
+        epochs,
+        seed=repeat,
+    )
+    spacy_train = time.perf_counter() - started
+    spacy_f1 = score(test_gold, spacy_mentions(nlp, [s.text for s, _ in test_gold])).span.f1
+    return {
+        "repeat": repeat,
+        "budget": len(train),
+        "ours_f1": ours_f1,
+        "ours_train_seconds": round(ours_train, 2),
+        "spacy_f1": spacy_f1,
+        "spacy_train_seconds": round(spacy_train, 2),
+    }
+
+
+def summary_table(rows: list[dict[str, Any]], budgets: list[int]) -> list[dict[str, Any]]:
+    """Return, per budget, the mean and standard deviation of each figure over repeats."""
+    table = []
+    for budget in budgets:
+        runs = [r for r in rows if r["budget"] == budget]
+        line: dict[str, Any] = {"budget": budget}
+        for key in ("ours_f1", "ours_train_seconds", "spacy_f1", "spacy_train_seconds"):
+            values = [r[key] for r in runs]
+            sd = statistics.stdev(values) if len(values) > 1 else 0.0
+            line[key] = (statistics.fmean(values), sd)
+        table.append(line)
+    return table
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -111,56 +160,17 @@ def main(argv: list[str] | None = None) -> int:
         order = random.Random(repeat).sample(range(len(pool_gold)), max(budgets))
         for budget in budgets:
             train = [pool_gold[i] for i in order[:budget]]
-            started = time.perf_counter()
-            ours = TaggerOnly().fit(train, [], [], clusters=clusters)
-            ours_train = time.perf_counter() - started
-            ours_f1 = score(test_gold, predicted_mentions(ours.predict([s for s, _ in test_gold])))[
-                "span"
-            ]["f1"]
-            started = time.perf_counter()
-            nlp = train_spacy(
-                [(s.text, [(sp.start, sp.end) for sp in spans]) for s, spans in train],
-                args.epochs,
-                seed=repeat,
-            )
-            spacy_train = time.perf_counter() - started
-            spacy_f1 = score(test_gold, spacy_mentions(nlp, [s.text for s, _ in test_gold]))[
-                "span"
-            ]["f1"]
-            rows.append(
-                {
-                    "repeat": repeat,
-                    "budget": budget,
-                    "ours_f1": ours_f1,
-                    "ours_train_seconds": round(ours_train, 2),
-                    "spacy_f1": spacy_f1,
-                    "spacy_train_seconds": round(spacy_train, 2),
-                }
-            )
+            rows.append(one_run(train, test_gold, clusters, epochs=args.epochs, repeat=repeat))
             print(json.dumps(rows[-1]), flush=True)
-    table = []
     print(
         f"\nMAMS test ({len(test_gold)} sentences), strict span F1, mean (sd) over "
         f"{args.repeats} repeats; clusters {how} in {cluster_seconds:.0f} s"
     )
     print(f"{'budget':>6}  {'ours F1':>14}  {'ours s':>7}  {'spaCy F1':>14}  {'spaCy s':>7}")
-    for budget in budgets:
-        mine = [r for r in rows if r["budget"] == budget]
-
-        def stat(key: str, runs: list[dict[str, Any]] = mine) -> tuple[float, float]:
-            values = [r[key] for r in runs]
-            return statistics.fmean(values), statistics.stdev(values) if len(values) > 1 else 0.0
-
-        line = {
-            "budget": budget,
-            **{
-                k: stat(k)
-                for k in ("ours_f1", "ours_train_seconds", "spacy_f1", "spacy_train_seconds")
-            },
-        }
-        table.append(line)
+    table = summary_table(rows, budgets)
+    for line in table:
         print(
-            f"{budget:>6}  {line['ours_f1'][0]:.3f} ({line['ours_f1'][1]:.3f})  "
+            f"{line['budget']:>6}  {line['ours_f1'][0]:.3f} ({line['ours_f1'][1]:.3f})  "
             f"{line['ours_train_seconds'][0]:>7.1f}  {line['spacy_f1'][0]:.3f} "
             f"({line['spacy_f1'][1]:.3f})  {line['spacy_train_seconds'][0]:>7.1f}"
         )
