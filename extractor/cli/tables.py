@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Mapping, Sequence
 from typing import Any
 
 from rich.table import Table
 
+from extractor.loop.curves import CurveRow, GainRow
 from extractor.models.metrics import SUMMARY_KEYS
 
 
@@ -101,28 +103,29 @@ def evaluation_tables(results: Mapping[str, Any]) -> list[Table]:
     return tables
 
 
-def curve_table(rows: Sequence[Mapping[str, Any]]) -> Table:
+def curve_table(rows: Sequence[CurveRow]) -> Table:
     """Return the table of span F1 by strategy and budget (mean over repeats)."""
     table = Table(title="Span F1 by strategy and budget (mean over repeats)")
-    for column in rows[0] if rows else ():
-        table.add_column(str(column))
+    for column in dataclasses.fields(CurveRow) if rows else ():
+        table.add_column(column.name)
     for row in rows:
-        table.add_row(*(f"{v:.3f}" if isinstance(v, float) else str(v) for v in row.values()))
+        values = (getattr(row, f.name) for f in dataclasses.fields(row))
+        table.add_row(*(f"{v:.3f}" if isinstance(v, float) else str(v) for v in values))
     return table
 
 
-def gain_table(gains: Sequence[Mapping[str, Any]]) -> Table:
+def gain_table(gains: Sequence[GainRow]) -> Table:
     """Return the table of span F1 gains over random, paired by repeat."""
     table = Table(title="Span F1 gain over random, paired by repeat (same seed sentences)")
     for column in ("strategy", "budget", "repeats", "gain (points)", "sd", "wins"):
         table.add_column(column)
     for row in gains:
         table.add_row(
-            row["strategy"],
-            str(row["budget"]),
-            str(row["n"]),
-            f"{100 * row['gain']:+.1f}",
-            f"{100 * row['sd']:.1f}",
-            f"{row['wins']}/{row['n']}",
+            row.strategy,
+            str(row.budget),
+            str(row.n),
+            f"{100 * row.gain:+.1f}",
+            f"{100 * row.sd:.1f}",
+            f"{row.wins}/{row.n}",
         )
     return table

@@ -3,24 +3,24 @@
 from __future__ import annotations
 
 import json
-from collections.abc import Mapping, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
 
 from extractor.ingest.concepts import load_concept_list
 from extractor.ingest.labels import read_labels
-from extractor.loop.simulate import curve_table, paired_gain, plot, simulate
+from extractor.loop.curves import CurveRow, GainRow, curve_table, paired_gain, plot
+from extractor.loop.simulate import simulate
 
 
 @dataclass(frozen=True)
 class SimulationReport:
     """A simulation's summary tables and the files it wrote."""
 
-    curve: Sequence[Mapping[str, Any]]
-    """Span F1 per strategy and budget, over repeats (see ``loop.simulate.curve_table``)."""
-    gains: Sequence[Mapping[str, Any]]
-    """Gain over random, paired by repeat (:func:`~extractor.loop.simulate.paired_gain`)."""
+    curve: Sequence[CurveRow]
+    """Span F1 per strategy and budget, over repeats (see ``loop.curves.curve_table``)."""
+    gains: Sequence[GainRow]
+    """Gain over random, paired by repeat (:func:`~extractor.loop.curves.paired_gain`)."""
     out: Path
     plot: Path | None
 
@@ -79,7 +79,7 @@ def simulate_files(
         model=model,
         subpool=subpool,
     )
-    out.write_text(json.dumps(results, indent=1), encoding="utf-8")
+    out.write_text(json.dumps(results.to_dict(), indent=1), encoding="utf-8")
     if plot_to is not None:
         plot(results, plot_to)
     return SimulationReport(curve_table(results), paired_gain(results), out, plot_to)

@@ -5,7 +5,7 @@ seed sentences, ask for batches of ``batch_size`` sentences chosen by the strate
 (:mod:`extractor.loop.strategies`) from the current model's predictions on the pool, retrain
 every ``retrain_every`` labels, and score the model on a fixed test set whenever the
 number of labeled sentences reaches a budget. The annotator "answers" by revealing the
-sentence's gold spans. :func:`plot` draws the curves.
+sentence's gold spans. :mod:`extractor.loop.curves` summarises and draws the curves.
 
 Conventions
 -----------
@@ -20,7 +20,7 @@ Conventions
   when the test gold has no concepts, ``stance_accuracy`` when the model gives no stance.
 * ``subpool`` caps how many unlabeled pool sentences are scored after each retrain
   (a fresh random sub-pool each time; all of them when ``None``), as the labeling loop's
-  ``subpool`` setting does (500 by default; see :class:`extractor.loop.session.SessionSettings`).
+  ``subpool`` setting does (500 by default; see :class:`extractor.loop.samples.SessionSettings`).
 * ``model="traits"`` trains the full :class:`extractor.models.bundle.TraitModels`;
   ``model="tagger"`` trains the CRF tagger alone (no linking, no stance), which is all
   that span scores need and several times faster on data without concepts.
@@ -29,12 +29,11 @@ Conventions
 from __future__ import annotations
 
 import random
-import statistics
 import time
 from collections.abc import Mapping, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
+from dataclasses import asdict
 from multiprocessing import get_context
-from pathlib import Path
 from typing import Any, NamedTuple
 
 import numpy as np
@@ -42,150 +41,25 @@ import numpy as np
 from extractor.errors import InputError
 from extractor.ingest.labels import LabelRecord, to_gold
 from extractor.loop import strategies as active
-from extractor.models.bundle import span_confidence
+from extractor.loop.curves import RunRecord, SimulationResults, SimulationSettings
+from extractor.loop.predictor import pool_item
+from extractor.loop.tagger_only import MODELS, Alias, TaggerOnly, make_models
 from extractor.models.metrics import SUMMARY_KEYS, predicted_mentions, score, summary
-from extractor.models.tagger import TagResult, sentence_items
-from extractor.models.tagger_training import fit_tagger
-from extractor.nlp.spans import iob_to_spans
+from extractor.nlp.clusters import learn_clusters
+from extractor.nlp.text import tokenize
 from extractor.progress import track
 from extractor.types import Sentence, Span
 
-Alias = tuple[str, str, str]
-MODELS = ("traits", "tagger")
 FIGURES = SUMMARY_KEYS
-
-
-# --------------------------------------------------------------------------- tagger alone
-
-
-class PlainMention(NamedTuple):
-    """A mention from the tagger alone: no linker and no stance.
-
-    Its concept is that of a dictionary match with exactly its span, else ``None``.
-    """
-
-    start: int
-    end: int
-    confidence: float
-    concept: str | None = None
-    link_prob: float = 0.0
-    stance: str | None = None
-    stance_prob: float = 0.0
-
-
-class PlainPrediction(NamedTuple):
-    """The tagger-alone counterpart of ``modeling.SentencePrediction``."""
-
-    mentions: list[PlainMention]
-    tagged: TagResult
-
-
-class TaggerOnly:
-    """The CRF tagger of :class:`~extractor.models.bundle.TraitModels` without linker or stance.
-
-    Features of a sentence depend only on its text, the dictionary and the clusters,
-    which stay fixed during a simulation, so they are computed once per sentence ID.
-
-    Args:
-        tagger_params: Keyword arguments of :func:`extractor.models.tagger_training.fit_tagger`.
-    """
-
-    def __init__(self, *, tagger_params: dict[str, Any] | None = None) -> None:
-        self.tagger_params = tagger_params or {}
-        self._cache: dict[int, Any] = {}
-
-    def fit(
-        self,
-        gold: Sequence[tuple[Sentence, Sequence[Span]]],
-        corpus: Sequence[Sentence],
-        aliases: Sequence[Alias],
-        *,
-        clusters: dict[str, Any] | None = None,
-    ) -> TaggerOnly:
-        """Train the tagger on the gold sentences (and dictionary-labeled silver ones)."""
-        from extractor.nlp.dictionary import build_dictionary
-
-        if not gold and not aliases:
-            raise InputError("The tagger needs labeled sentences or aliases to train on.")
-        self.dictionary_ = build_dictionary(aliases) if aliases else None
-        self.clusters_ = clusters
-        labeled = {s.id for s, _ in gold}
-        silver = [s for s in corpus if s.id not in labeled] if aliases else []
-        self.tagger_ = fit_tagger(gold, silver, self.dictionary_, clusters, **self.tagger_params)
-        return self
-
-    def share_cache(self, cache: dict[int, Any]) -> TaggerOnly:
-        """Use a feature cache shared with other instances (same dictionary and clusters)."""
-        self._cache = cache
-        return self
-
-    def predict(self, sentences: Sequence[Sentence]) -> list[PlainPrediction]:
-        """Tag sentences; mentions carry the tagger's confidence only."""
-        for s in sentences:
-            if s.id not in self._cache:
-                self._cache[s.id] = sentence_items(s, self.dictionary_, self.clusters_)
-        paths = self.tagger_.predict([self._cache[s.id][1] for s in sentences])
-        out = []
-        for s, path in zip(sentences, paths, strict=True):
-            offsets, _, matches = self._cache[s.id]
-            # As in tag_sentences: a span that is exactly a dictionary match takes its concept.
-            concepts = {(m.start, m.end): m.concept for m in matches}
-            spans = [
-                sp._replace(concept=concepts.get((sp.start, sp.end)))
-                for sp in iob_to_spans(offsets, path.tags)
-            ]
-            result = TagResult(spans, offsets, path.tags, path.marginals, path.probability)
-            out.append(
-                PlainPrediction(
-                    [
-                        PlainMention(sp.start, sp.end, span_confidence(result, sp), sp.concept)
-                        for sp in result.spans
-                    ],
-                    result,
-                )
-            )
-        return out
-
-
-def make_models(kind: str, params: Mapping[str, Any] | None = None) -> Any:
-    """Return an unfitted model of the given kind (one of :data:`MODELS`).
-
-    Raises:
-        InputError: ``kind`` is not one of :data:`MODELS`.
-    """
-    if kind == "tagger":
-        return TaggerOnly(**(params or {}))
-    if kind == "traits":
-        from extractor.models.bundle import TraitModels
-
-        return TraitModels(**(params or {}))
-    raise InputError(f"The model must be one of {', '.join(MODELS)}; got {kind!r}.")
+Gold = list[tuple[Sentence, list[Span]]]
 
 
 # --------------------------------------------------------------------------- one run
 
 
-def pool_item(prediction: Any) -> active.PoolItem:
-    """Return what the query strategies need from one model prediction."""
-    tagged = prediction.tagged
-    link = [
-        {m.concept or "(unlinked)": float(m.link_prob)}
-        for m in prediction.mentions
-        if m.concept is not None or m.link_prob
-    ]
-    stance = [{m.stance: float(m.stance_prob)} for m in prediction.mentions if m.stance]
-    return active.PoolItem(
-        marginals=tagged.marginals,
-        path_prob=float(tagged.probability),
-        n_tokens=len(tagged.token_offsets),
-        link_dists=link,
-        stance_dists=stance,
-    )
-
-
 class _Shared(NamedTuple):
-    pool: list[tuple[Sentence, list[Span]]]
-    test: list[tuple[Sentence, list[Span]]]
+    pool: Gold
+    test: Gold
     aliases: list[Alias]
     clusters: dict[str, Any] | None
     model: str
@@ -216,11 +90,13 @@ class _Task(NamedTuple):
 
 
 def _fit(shared: _Shared, labeled: Sequence[int], cache: dict[int, Any]) -> Any:
-    model = make_models(shared.model, shared.model_params)
-    if isinstance(model, TaggerOnly):
-        model.share_cache(cache)
     gold = [shared.pool[i] for i in labeled]
     corpus = [s for s, _ in shared.pool] + [s for s, _ in shared.test]
+    model = make_models(shared.model, shared.model_params)
+    if isinstance(model, TaggerOnly):
+        return model.fit(
+            gold, corpus, shared.aliases, clusters=shared.clusters, feature_cache=cache
+        )
     return model.fit(gold, corpus, shared.aliases, clusters=shared.clusters)
 
 
@@ -231,22 +107,43 @@ def _record(
     figures: Mapping[str, Any],
     shared: _Shared,
     started: float,
-) -> dict[str, Any]:
-    return {
-        "strategy": task.strategy, "budget": budget, "repeat": task.repeat,
-        "labeled_sentences": len(labeled),
-        "labeled_tokens": sum(shared.tokens[i] for i in labeled),
+) -> RunRecord:
+    return RunRecord(
+        strategy=task.strategy,
+        budget=budget,
+        repeat=task.repeat,
+        labeled_sentences=len(labeled),
+        labeled_tokens=sum(shared.tokens[i] for i in labeled),
         **{k: figures.get(k) for k in FIGURES},
-        "seconds": round(time.perf_counter() - started, 2),
-    }  # fmt: skip
+        seconds=round(time.perf_counter() - started, 2),
+    )
 
 
 def _figures(model: Any, shared: _Shared) -> dict[str, Any]:
     preds = model.predict([s for s, _ in shared.test])
-    return summary(score(shared.test, predicted_mentions(preds)))
+    return asdict(summary(score(shared.test, predicted_mentions(preds))))
 
 
-def _run(task: _Task) -> list[dict[str, Any]]:
+def _seed_records(
+    task: _Task, shared: _Shared, seed_set: list[int], cache: dict[int, Any], started: float
+) -> list[RunRecord]:
+    """Score budget 0 (dictionary alone) and the budgets the seed sentences reach."""
+    records = []
+    if 0 in task.budgets:
+        figures = (
+            _figures(_fit(shared, [], cache), shared) if shared.aliases else dict.fromkeys(FIGURES)
+        )
+        records.append(_record(task, 0, [], figures, shared, started))
+    for budget in sorted(task.budgets):
+        if 0 < budget <= len(seed_set):
+            model = _fit(shared, seed_set[:budget], cache)
+            records.append(
+                _record(task, budget, seed_set[:budget], _figures(model, shared), shared, started)
+            )
+    return records
+
+
+def _run(task: _Task) -> list[RunRecord]:
     shared = _SHARED
     if shared is None:
         raise InputError("The simulation worker was started without its data.")
@@ -255,23 +152,11 @@ def _run(task: _Task) -> list[dict[str, Any]]:
     rng = random.Random(task.seed * 1000 + task.repeat)
     order = list(range(len(shared.pool)))
     rng.shuffle(order)
-    seed_set = order[: task.seed_size]
     budgets = sorted(task.budgets)
-    cache: dict[int, Any] = {}
-    records = []
-    if 0 in budgets:
-        figures = (
-            _figures(_fit(shared, [], cache), shared) if shared.aliases else dict.fromkeys(FIGURES)
-        )
-        records.append(_record(task, 0, [], figures, shared, started))
     top = budgets[-1]
-    labeled = seed_set[: min(task.seed_size, top)]
-    for budget in budgets:
-        if 0 < budget <= len(labeled):
-            model = _fit(shared, labeled[:budget], cache)
-            records.append(
-                _record(task, budget, labeled[:budget], _figures(model, shared), shared, started)
-            )
+    labeled = order[: min(task.seed_size, top)]
+    cache: dict[int, Any] = {}
+    records = _seed_records(task, shared, labeled, cache, started)
     if not labeled:
         return records
     model = _fit(shared, labeled, cache)
@@ -283,18 +168,14 @@ def _run(task: _Task) -> list[dict[str, Any]]:
             scored, scores = _score_pool(model, shared, labeled, strategy, rng, task.subpool)
             stale = False
         next_budget = min(b for b in budgets if b > len(labeled))
-        want = min(task.batch_size, next_budget - len(labeled))
         taken = set(labeled)
-        exclude = {k for k, i in enumerate(scored) if i in taken}
-        vectors = shared.vectors[scored] if shared.vectors is not None else None
-        labeled_vectors = shared.vectors[labeled] if shared.vectors is not None else None
         picked = active.select(
             scores,
-            vectors,
-            want,
+            shared.vectors[scored] if shared.vectors is not None else None,
+            min(task.batch_size, next_budget - len(labeled)),
             diversity=strategy.diversity,
-            exclude=exclude,
-            labeled_vectors=labeled_vectors,
+            exclude={k for k, i in enumerate(scored) if i in taken},
+            labeled_vectors=shared.vectors[labeled] if shared.vectors is not None else None,
             seed=task.seed * 1000 + task.repeat * 100 + round_no,
         )
         round_no += 1
@@ -307,9 +188,8 @@ def _run(task: _Task) -> list[dict[str, Any]]:
             model = _fit(shared, labeled, cache)
             since, stale = 0, True
             if len(labeled) in budgets:
-                records.append(
-                    _record(task, len(labeled), labeled, _figures(model, shared), shared, started)
-                )
+                figures = _figures(model, shared)
+                records.append(_record(task, len(labeled), labeled, figures, shared, started))
     return records
 
 
@@ -353,7 +233,7 @@ def simulate(
     model: str = "traits",
     model_params: dict[str, Any] | None = None,
     clusters: dict[str, Any] | None = None,
-) -> dict[str, Any]:
+) -> SimulationResults:
     """Replay the labeling loop with a simulated annotator and record learning curves.
 
     Args:
@@ -375,53 +255,17 @@ def simulate(
         clusters: Word clusters to reuse; learned from pool and test text when None.
 
     Returns:
-        ``{"settings": {...}, "runs": [{"strategy", "budget", "repeat",
-        "labeled_sentences", "labeled_tokens", "span_f1", "span_concept_f1",
-        "stance_accuracy", "respondent_f1", "seconds"}]}``; ``seconds`` is the run's
-        time up to that budget.
+        The settings and one :class:`~extractor.loop.curves.RunRecord` per strategy,
+        repeat and budget; a record's ``seconds`` is its run's time up to that budget.
 
     Raises:
         InputError: A strategy or model is unknown, or a number is out of range.
     """
     chosen = [active.get_strategy(n) for n in strategies]
-    if model not in MODELS:
-        raise InputError(f"The model must be one of {', '.join(MODELS)}; got {model!r}.")
-    if subpool is not None and subpool < 1:
-        raise InputError(f"The sub-pool must hold at least 1 sentence; got {subpool}.")
-    if not budgets or min(budgets) < 0 or repeats < 1 or batch_size < 1 or retrain_every < 1:
-        raise InputError(
-            "Budgets must be given and not negative, and repeats, batch size and retrain "
-            f"interval at least 1; got budgets {list(budgets)}, repeats {repeats}, batch size "
-            f"{batch_size}, retrain every {retrain_every}."
-        )
+    _check_numbers(model, subpool, budgets, repeats, batch_size, retrain_every)
     pool_gold = to_gold(pool, first_id=0)
     test_gold = to_gold(test, first_id=len(pool_gold))
-    if clusters is None:
-        from extractor.nlp.clusters import learn_clusters
-
-        clusters = learn_clusters([(s.text, s.lang) for s, _ in pool_gold + test_gold], seed=seed)
-    need_vectors = any(s.diversity or s.density_beta for s in chosen)
-    vectors = (
-        active.sentence_vectors([s.text for s, _ in pool_gold], seed=seed) if need_vectors else None
-    )
-    dens = (
-        active.density(vectors)
-        if vectors is not None and any(s.density_beta for s in chosen)
-        else None
-    )
-    from extractor.nlp.text import tokenize
-
-    shared = _Shared(
-        pool_gold,
-        test_gold,
-        list(aliases),
-        clusters,
-        model,
-        model_params or {},
-        vectors,
-        dens,
-        [len(tokenize(s.text, s.lang)) for s, _ in pool_gold],
-    )
+    shared = _share(pool_gold, test_gold, aliases, chosen, model, model_params, clusters, seed)
     tasks = [
         _Task(
             name,
@@ -437,7 +281,80 @@ def simulate(
         for r in range(repeats)
         for name, spec in zip(strategies, chosen, strict=True)
     ]
-    results: list[list[dict[str, Any]]] = [[] for _ in tasks]
+    settings = SimulationSettings(
+        strategies=list(strategies),
+        budgets=sorted(set(budgets)),
+        repeats=repeats,
+        seed=seed,
+        batch_size=batch_size,
+        retrain_every=retrain_every,
+        seed_size=seed_size,
+        subpool=subpool,
+        model=model,
+        model_params=model_params or {},
+        pool_size=len(pool_gold),
+        test_size=len(test_gold),
+        aliases=len(aliases),
+        strategy_settings={n: _describe(s) for n, s in zip(strategies, chosen, strict=True)},
+    )
+    return SimulationResults(settings, tuple(_run_all(tasks, shared, jobs)))
+
+
+def _check_numbers(
+    model: str,
+    subpool: int | None,
+    budgets: Sequence[int],
+    repeats: int,
+    batch_size: int,
+    retrain_every: int,
+) -> None:
+    if model not in MODELS:
+        raise InputError(f"The model must be one of {', '.join(MODELS)}; got {model!r}.")
+    if subpool is not None and subpool < 1:
+        raise InputError(f"The sub-pool must hold at least 1 sentence; got {subpool}.")
+    if not budgets or min(budgets) < 0 or repeats < 1 or batch_size < 1 or retrain_every < 1:
+        raise InputError(
+            "Budgets must be given and not negative, and repeats, batch size and retrain "
+            f"interval at least 1; got budgets {list(budgets)}, repeats {repeats}, batch size "
+            f"{batch_size}, retrain every {retrain_every}."
+        )
+
+
+def _share(
+    pool_gold: Gold,
+    test_gold: Gold,
+    aliases: Sequence[Alias],
+    chosen: Sequence[active.Strategy],
+    model: str,
+    model_params: dict[str, Any] | None,
+    clusters: dict[str, Any] | None,
+    seed: int,
+) -> _Shared:
+    """Return what every run reads: the data, clusters, vectors, density and token counts."""
+    if clusters is None:
+        clusters = learn_clusters([(s.text, s.lang) for s, _ in pool_gold + test_gold], seed=seed)
+    vectors = None
+    if any(s.diversity or s.density_beta for s in chosen):
+        vectors = active.sentence_vectors([s.text for s, _ in pool_gold], seed=seed)
+    dens = None
+    if vectors is not None and any(s.density_beta for s in chosen):
+        dens = active.density(vectors)
+    return _Shared(
+        pool_gold,
+        test_gold,
+        list(aliases),
+        clusters,
+        model,
+        model_params or {},
+        vectors,
+        dens,
+        [len(tokenize(s.text, s.lang)) for s, _ in pool_gold],
+    )
+
+
+def _run_all(tasks: Sequence[_Task], shared: _Shared, jobs: int) -> list[RunRecord]:
+    """Run every task, in worker processes when ``jobs`` is above 1; records in task order."""
+    results: list[list[RunRecord]] = [[] for _ in tasks]
     if jobs > 1:
         # "spawn", not fork: a forked child inherits the parent's BLAS/OpenMP thread
         # state (k-means, SVD) and can hang on its first threaded call.
@@ -454,15 +371,7 @@ def simulate(
         _init_worker(shared)
         for k, t in track(enumerate(tasks), "Simulating runs", len(tasks)):
             results[k] = _run(t)
-    settings = {
-        "strategies": list(strategies), "budgets": sorted(set(budgets)), "repeats": repeats,
-        "seed": seed, "batch_size": batch_size, "retrain_every": retrain_every,
-        "seed_size": seed_size, "subpool": subpool, "model": model,
-        "model_params": model_params or {}, "pool_size": len(pool_gold),
-        "test_size": len(test_gold), "aliases": len(aliases),
-        "strategy_settings": {n: _describe(s) for n, s in zip(strategies, chosen, strict=True)},
-    }  # fmt: skip
-    return {"settings": settings, "runs": [r for rs in results for r in rs]}
+    return [r for rs in results for r in rs]
 
 
 def _describe(strategy: active.Strategy) -> dict[str, Any]:
@@ -471,79 +380,3 @@ def _describe(strategy: active.Strategy) -> dict[str, Any]:
         "density_beta": strategy.density_beta,
         "diversity": strategy.diversity,
     }
-
-
-def curve_table(results: Mapping[str, Any], figure: str = "span_f1") -> list[dict[str, Any]]:
-    """Return mean, sd, min and max of a figure per strategy and budget, over repeats."""
-    groups: dict[tuple[str, int], list[dict[str, Any]]] = {}
-    for run in results["runs"]:
-        groups.setdefault((run["strategy"], run["budget"]), []).append(run)
-    rows = []
-    for (strategy, budget), runs in sorted(groups.items()):
-        values = [r[figure] for r in runs if r[figure] is not None]
-        rows.append({
-            "strategy": strategy, "budget": budget, "n": len(values),
-            "mean": statistics.fmean(values) if values else None,
-            "sd": statistics.stdev(values) if len(values) > 1 else (0.0 if values else None),
-            "min": min(values) if values else None, "max": max(values) if values else None,
-            "labeled_tokens": statistics.fmean(r["labeled_tokens"] for r in runs),
-        })  # fmt: skip
-    return rows
-
-
-def paired_gain(
-    results: Mapping[str, Any], *, baseline: str = "random", figure: str = "span_f1"
-) -> list[dict[str, Any]]:
-    """Return each strategy's gain over ``baseline`` per budget, paired by repeat.
-
-    Repeat ``r`` of every strategy starts from the same seed sentences, so the difference
-    ``figure(strategy, r) - figure(baseline, r)`` removes the luck of the seed draw that both
-    share; its mean over repeats is the gain, its standard deviation the spread, and
-    ``wins`` counts repeats where the strategy did better. Empty when ``baseline`` was not run.
-    """
-    values: dict[tuple[str, int, int], float] = {
-        (r["strategy"], r["budget"], r["repeat"]): r[figure]
-        for r in results["runs"]
-        if r.get(figure) is not None
-    }
-    pairs: dict[tuple[str, int], list[float]] = {}
-    for (strategy, budget, repeat), value in sorted(values.items()):
-        base = values.get((baseline, budget, repeat))
-        if strategy != baseline and base is not None:
-            pairs.setdefault((strategy, budget), []).append(value - base)
-    return [{
-        "strategy": strategy, "budget": budget, "n": len(diffs),
-        "gain": statistics.fmean(diffs),
-        "sd": statistics.stdev(diffs) if len(diffs) > 1 else 0.0,
-        "wins": sum(d > 0 for d in diffs),
-    } for (strategy, budget), diffs in sorted(pairs.items())]  # fmt: skip
-
-
-def plot(results: Mapping[str, Any], path: Path, *, figure: str = "span_f1") -> Path:
-    """Draw the figure against labeled sentences and against labeled tokens, to ``path``.
-
-    One line per strategy (mean over repeats) with a min-max band.
-    """
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    rows = [r for r in curve_table(results, figure) if r["mean"] is not None]
-    fig, axes = plt.subplots(1, 2, figsize=(11, 4.2), sharey=True)
-    for strategy in sorted({r["strategy"] for r in rows}):
-        mine = sorted((r for r in rows if r["strategy"] == strategy), key=lambda r: r["budget"])
-        for ax, x_key in zip(axes, ("budget", "labeled_tokens"), strict=True):
-            xs = [r[x_key] for r in mine]
-            ax.plot(xs, [r["mean"] for r in mine], marker="o", label=strategy)
-            ax.fill_between(xs, [r["min"] for r in mine], [r["max"] for r in mine], alpha=0.15)
-    axes[0].set_xlabel("labeled sentences")
-    axes[1].set_xlabel("labeled tokens (mean over repeats)")
-    axes[0].set_ylabel(figure.replace("_", " "))
-    axes[1].legend(loc="lower right", fontsize="small")
-    fig.suptitle("Learning curves: mean over repeats, band = min to max")
-    fig.tight_layout()
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fig.savefig(path, dpi=120)
-    plt.close(fig)
-    return path

@@ -1,16 +1,17 @@
-"""The simulated annotator: well-formed learning-curve records, nulls, determinism, plot."""
+"""The simulated annotator: well-formed learning-curve records, nulls, determinism."""
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import random
-from pathlib import Path
 from typing import Any
 
 import pytest
 
 from extractor.errors import InputError
-from extractor.loop.simulate import curve_table, paired_gain, plot, simulate
+from extractor.loop.curves import SimulationResults
+from extractor.loop.simulate import simulate
 
 KEYS = {
     "strategy",
@@ -55,7 +56,7 @@ def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any
     return out
 
 
-def run(**overrides: Any) -> dict[str, Any]:
+def run(**overrides: Any) -> SimulationResults:
     settings: dict[str, Any] = dict(
         strategies=["random", "least_confidence", "default"],
         budgets=[0, 10, 15],
@@ -73,9 +74,9 @@ def run(**overrides: Any) -> dict[str, Any]:
 
 def test_records_are_well_formed_with_nulls() -> None:
     results = run()
-    runs = results["runs"]
+    runs = results.to_dict()["runs"]
     assert len(runs) == 3 * 3  # strategies x budgets
-    json.dumps(results)  # JSON-able
+    json.dumps(results.to_dict())  # JSON-able
     for record in runs:
         assert set(record) == KEYS
         assert record["labeled_sentences"] == record["budget"]
@@ -100,23 +101,23 @@ def test_budget_zero_is_the_dictionary_with_aliases() -> None:
         model="tagger",
         clusters={},
     )
-    (record,) = results["runs"]
+    (record,) = results.runs
     # Every trait of the toy test set is an alias, so the dictionary alone finds them,
     # with their concepts; the tagger alone gives no stance.
-    assert record["span_f1"] == pytest.approx(1.0)
-    assert record["span_concept_f1"] == pytest.approx(1.0)
-    assert record["stance_accuracy"] is None
+    assert record.span_f1 == pytest.approx(1.0)
+    assert record.span_concept_f1 == pytest.approx(1.0)
+    assert record.stance_accuracy is None
 
 
 def test_seed_sentences_are_shared_by_strategies() -> None:
-    runs = run(budgets=[5])["runs"]
-    assert len({r["labeled_tokens"] for r in runs}) == 1
-    assert len({r["span_f1"] for r in runs}) == 1
+    runs = run(budgets=[5]).runs
+    assert len({r.labeled_tokens for r in runs}) == 1
+    assert len({r.span_f1 for r in runs}) == 1
 
 
 def test_parallel_runs_equal_serial_runs() -> None:
-    def strip(results: dict[str, Any]) -> list[dict[str, Any]]:
-        return [{k: v for k, v in r.items() if k != "seconds"} for r in results["runs"]]
+    def strip(results: SimulationResults) -> list[Any]:
+        return [dataclasses.replace(r, seconds=0.0) for r in results.runs]
 
     serial = run(strategies=["random", "default"], budgets=[10])
     parallel = run(strategies=["random", "default"], budgets=[10], jobs=2)
@@ -138,19 +139,6 @@ def test_bad_settings_are_refused(overrides: dict[str, Any], message: str) -> No
         run(**overrides)
 
 
-def test_curve_table_and_plot(tmp_path: Path) -> None:
-    results = {"runs": [
-        {"strategy": "random", "budget": 10, "repeat": r, "labeled_tokens": 100 + r,
-         "span_f1": f} for r, f in enumerate([0.5, 0.7])]}  # fmt: skip
-    (row,) = curve_table(results)
-    # Hand arithmetic: mean (0.5 + 0.7) / 2 = 0.6; sd of two values = |0.7 - 0.5| / sqrt 2.
-    assert row["mean"] == pytest.approx(0.6)
-    assert row["sd"] == pytest.approx(0.2 / 2**0.5)
-    assert (row["min"], row["max"]) == (0.5, 0.7)
-    path = plot(results, tmp_path / "curve.png")
-    assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
-
-
 def test_progress_bar_counts_the_runs() -> None:
     from io import StringIO
 
@@ -167,20 +155,3 @@ def test_progress_bar_counts_the_runs() -> None:
     shown = out.getvalue()
     assert "Simulating runs" in shown
     assert "4/4" in shown  # strategies x repeats
-
-
-def test_paired_gain_pairs_repeats() -> None:
-    runs = [
-        {"strategy": s, "budget": 100, "repeat": r, "span_f1": f}
-        for s, fs in (("random", [0.60, 0.65, 0.70]), ("default", [0.63, 0.64, 0.75]))
-        for r, f in enumerate(fs)
-    ]
-    runs.append({"strategy": "default", "budget": 200, "repeat": 0, "span_f1": 0.8})  # no pair
-    (row,) = paired_gain({"runs": runs})
-    # Hand arithmetic: differences 0.03, -0.01, 0.05; mean 0.07 / 3; squared deviations
-    # sum to 0.0018667, so sd = sqrt(0.0018667 / 2) = 0.030551; two of three positive.
-    assert row["strategy"] == "default" and row["budget"] == 100 and row["n"] == 3
-    assert row["gain"] == pytest.approx(0.07 / 3)
-    assert row["sd"] == pytest.approx(0.030551, abs=1e-6)
-    assert row["wins"] == 2
-    assert paired_gain({"runs": runs}, baseline="absent") == []
