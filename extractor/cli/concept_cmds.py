@@ -37,12 +37,12 @@ def cmd_concepts_list(args: argparse.Namespace, console: Console) -> int:
     for column in ("id", "labels", "parent", "aliases"):
         table.add_column(column)
     for concept in listing.concepts:
-        labels = "; ".join(f"{lang}: {text}" for lang, text in concept["labels"].items())
+        labels = "; ".join(f"{lang}: {text}" for lang, text in concept.labels.items())
         table.add_row(
-            concept["id"],
+            concept.id,
             labels,
-            concept["parent"] or "",
-            str(listing.alias_counts.get(concept["id"], 0)),
+            concept.parent or "",
+            str(listing.alias_counts.get(concept.id, 0)),
         )
     console.print(table)
     history = Table(title="Imported versions")

@@ -6,7 +6,6 @@ import csv
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
 
 from extractor.jobs.train import load_version
 from extractor.models.terms import TermSuggestion
@@ -20,7 +19,7 @@ from extractor.workspace.folder import Workspace
 class ConceptListing:
     """The concepts (or varieties) in force, their alias counts, and the imported versions."""
 
-    concepts: Sequence[Mapping[str, Any]]
+    concepts: Sequence[store.StoredConcept]
     alias_counts: Mapping[str, int]
     versions: Sequence[store.ConceptListVersion]
 
@@ -49,7 +48,7 @@ def list_concepts(ws: Workspace, kind: str = "trait") -> ConceptListing:
     found = store.concepts(ws.conn, kind)
     per_concept: dict[str, int] = {}
     for alias in store.aliases(ws.conn, kind):
-        per_concept[alias["concept_id"]] = per_concept.get(alias["concept_id"], 0) + 1
+        per_concept[alias.concept_id] = per_concept.get(alias.concept_id, 0) + 1
     return ConceptListing(found, per_concept, versions)
 
 
@@ -72,7 +71,7 @@ def suggest_terms(ws: Workspace, *, min_count: int = 2) -> TermSuggestions:
     terms = rank_terms(unlinked, models.linker_, models.clusters_, min_count=min_count)
     default = ws.settings.workspace.default_language
     names = {
-        c["id"]: c["labels"].get(default) or next(iter(c["labels"].values()), "")
+        c.id: c.labels.get(default) or next(iter(c.labels.values()), "")
         for c in store.concepts(ws.conn)
     }
     return TermSuggestions(terms, names)
@@ -96,30 +95,30 @@ def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
     """
     out = out or ws.exports_dir / "concepts_with_accepted_aliases.csv"
     out.parent.mkdir(parents=True, exist_ok=True)
-    concepts = {c["id"]: c for c in store.concepts(ws.conn)}
+    concepts = {c.id: c for c in store.concepts(ws.conn)}
     rows: dict[tuple[str, str], dict[str, list[str]]] = {}
     for alias in store.aliases(ws.conn):
-        key = (alias["concept_id"], alias["lang"])
+        key = (alias.concept_id, alias.lang)
         row = rows.setdefault(key, {"alternative": [], "hidden": [], "accepted": []})
-        if alias["origin"] == "annotator":
-            row["accepted"].append(f"{alias['text']} (by {alias['added_by'] or 'unknown'})")
-        elif alias["kind"] != "preferred":
-            row[alias["kind"]].append(alias["text"])
+        if alias.origin == "annotator":
+            row["accepted"].append(f"{alias.text} (by {alias.added_by or 'unknown'})")
+        elif alias.kind != "preferred":
+            row[alias.kind].append(alias.text)
     header = ["id", "label", "lang", "synonyms", "hidden", "parent", "definition"]
     with out.open("w", encoding="utf-8", newline="") as handle:
         writer = csv.writer(handle)
         writer.writerow([*header, "accepted_aliases"])
         for (concept_id, lang), row in sorted(rows.items()):
-            concept = concepts.get(concept_id, {})
+            concept = concepts.get(concept_id) or store.StoredConcept(concept_id, None, None, {})
             writer.writerow(
                 [
                     concept_id,
-                    concept.get("labels", {}).get(lang, ""),
+                    concept.labels.get(lang, ""),
                     lang,
                     "|".join(row["alternative"]),
                     "|".join(row["hidden"]),
-                    concept.get("parent") or "",
-                    concept.get("definition") or "",
+                    concept.parent or "",
+                    concept.definition or "",
                     "|".join(row["accepted"]),
                 ]
             )

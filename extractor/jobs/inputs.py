@@ -21,7 +21,7 @@ def gold_examples(ws: Workspace) -> list[tuple[Sentence, list[Span]]]:
 
 def alias_tuples(ws: Workspace, kind: str = "trait") -> list[tuple[str, str, str]]:
     """Return the workspace's aliases as (concept_id, text, lang)."""
-    return [(a["concept_id"], a["text"], a["lang"]) for a in store.aliases(ws.conn, kind)]
+    return [(a.concept_id, a.text, a.lang) for a in store.aliases(ws.conn, kind)]
 
 
 def session_settings(ws: Workspace) -> SessionSettings:

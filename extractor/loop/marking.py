@@ -78,7 +78,7 @@ class ConceptMatch(NamedTuple):
 def concept_entries(conn: sqlite3.Connection) -> list[ConceptEntry]:
     """Return every label and alias of the active trait concepts."""
     return [
-        ConceptEntry(a["concept_id"], a["text"], a["lang"], a["kind"] == "preferred")
+        ConceptEntry(a.concept_id, a.text, a.lang, a.kind == "preferred")
         for a in store.aliases(conn)
     ]
 

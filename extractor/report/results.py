@@ -35,9 +35,9 @@ def concept_frame(ws: Workspace) -> pd.DataFrame:
     default = ws.settings.workspace.default_language
     rows = [
         {
-            "concept_id": concept["id"],
-            "label": _display_name(concept["labels"], default, concept["id"]),
-            "parent": concept["parent"],
+            "concept_id": concept.id,
+            "label": _display_name(concept.labels, default, concept.id),
+            "parent": concept.parent,
         }
         for concept in store.concepts(ws.conn)
     ]
@@ -48,7 +48,7 @@ def variety_names(ws: Workspace) -> dict[str, str]:
     """Return variety ID -> display name."""
     default = ws.settings.workspace.default_language
     return {
-        v["id"]: _display_name(v["labels"], default, v["id"])
+        v.id: _display_name(v.labels, default, v.id)
         for v in store.concepts(ws.conn, "variety")
     }
 

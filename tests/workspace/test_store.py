@@ -133,7 +133,7 @@ def test_concept_reimport_keeps_annotator_aliases(conn: sqlite3.Connection) -> N
     store.replace_concept_list(
         conn, kind="trait", path="c.csv", sha256="2", concepts=concepts, aliases=aliases
     )
-    texts = {(a["text"], a["origin"]) for a in store.aliases(conn)}
+    texts = {(a.text, a.origin) for a in store.aliases(conn)}
     assert texts == {("cooking time", "list"), ("boils quickly", "annotator")}
     assert len(store.concept_versions(conn)) == 2
 

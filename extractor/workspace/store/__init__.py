@@ -26,6 +26,8 @@ from extractor.workspace.store._answers import (
 )
 from extractor.workspace.store._concepts import (
     ConceptListVersion,
+    StoredAlias,
+    StoredConcept,
     add_alias,
     aliases,
     concept_versions,
@@ -69,13 +71,15 @@ from extractor.workspace.store._schema import (
 from extractor.workspace.store._status import counts
 
 __all__ = [
-    "ConceptListVersion",
-    "ModelVersion",
-    "StoredPrediction",
     "MIGRATIONS",
     "SCHEMA_VERSION",
+    "ConceptListVersion",
+    "ModelVersion",
     "SentenceContext",
+    "StoredAlias",
+    "StoredConcept",
     "StoredLabel",
+    "StoredPrediction",
     "add_alias",
     "add_label",
     "add_model",

@@ -109,7 +109,27 @@ def add_alias(
     return cur.rowcount > 0
 
 
-def concepts(conn: sqlite3.Connection, kind: str = "trait") -> list[dict[str, Any]]:
+class StoredConcept(NamedTuple):
+    """An active concept (or variety) with its preferred label per language."""
+
+    id: str
+    parent: str | None
+    definition: str | None
+    labels: dict[str, str]
+
+
+class StoredAlias(NamedTuple):
+    """A name of a concept in one language; ``origin`` is ``list`` or ``annotator``."""
+
+    concept_id: str
+    text: str
+    lang: str
+    kind: str
+    origin: str
+    added_by: str | None
+
+
+def concepts(conn: sqlite3.Connection, kind: str = "trait") -> list[StoredConcept]:
     """Return active concepts with their preferred labels per language."""
     out = []
     for row in conn.execute(
@@ -124,11 +144,11 @@ def concepts(conn: sqlite3.Connection, kind: str = "trait") -> list[dict[str, An
                 (row["id"],),
             )
         }
-        out.append(dict(row) | {"labels": labels})
+        out.append(StoredConcept(row["id"], row["parent"], row["definition"], labels))
     return out
 
 
-def aliases(conn: sqlite3.Connection, kind: str = "trait") -> list[dict[str, Any]]:
+def aliases(conn: sqlite3.Connection, kind: str = "trait") -> list[StoredAlias]:
     """Return every alias of the active concepts (or varieties)."""
     rows = conn.execute(
         "SELECT a.concept_id, a.text, a.lang, a.kind, a.origin, a.added_by FROM aliases a "
@@ -136,4 +156,4 @@ def aliases(conn: sqlite3.Connection, kind: str = "trait") -> list[dict[str, Any
         "ORDER BY a.concept_id, a.id",
         (kind,),
     ).fetchall()
-    return [dict(r) for r in rows]
+    return [StoredAlias(*r) for r in rows]
