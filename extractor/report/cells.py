@@ -69,24 +69,13 @@ def safe_text(value: str) -> str:
     return cleaned[:EXCEL_MAX_CHARS]
 
 
-def put(ws: Worksheet, row: int, col: int, value: Any) -> None:
-    """Write one value; strings always as text, never as a formula or error code.
+def _force_text(cell: Cell) -> None:
+    """Make the cell an inline string whatever its text starts with.
 
     openpyxl infers a formula from a leading "=" and an error from "#N/A"; setting
-    ``data_type`` after the value makes the cell an inline string whatever it
-    starts with. The quote prefix keeps Excel from re-reading it as a formula
-    when someone edits the cell.
+    ``data_type`` after the value overrides that. The quote prefix keeps Excel from
+    re-reading the text as a formula when someone edits the cell.
     """
-    value = _plain(value)
-    cell = ws.cell(row=row, column=col)
-    if isinstance(value, str):
-        cell.value = safe_text(value)
-        _force_text(cell)
-    else:
-        cell.value = value
-
-
-def _force_text(cell: Cell) -> None:
     cell.data_type = "s"
     if isinstance(cell.value, str) and cell.value.startswith(RISKY_FIRST):
         cell.quotePrefix = True
@@ -98,7 +87,7 @@ def _needs_forcing(value: Any) -> bool:
 
 
 def append_row(ws: Worksheet, values: Iterable[Any]) -> None:
-    """Append one row of values, with the same text guarantee as :func:`put`.
+    """Append one row of values; strings always as text, never as a formula or error code.
 
     ``ws.append`` is several times faster than cell-by-cell writing; only the
     strings openpyxl would misread are fixed afterwards.

@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 from openpyxl import Workbook
 
-from extractor.report.cells import EXCEL_MAX_CHARS, append_row, put, safe_text, write_table
+from extractor.report.cells import EXCEL_MAX_CHARS, append_row, safe_text, write_table
 
 RISKY = ['=HYPERLINK("http://x","y")', "+1 cooks fast", "-weevils", "@SUM(A1)", "\tcooks", "#N/A"]
 RISKY_IDS = ["equals-formula", "plus", "minus", "at", "tab", "error-code"]
@@ -24,14 +24,6 @@ def _reload(wb: Workbook, tmp_path: Path) -> openpyxl.worksheet.worksheet.Worksh
     path = tmp_path / "cells.xlsx"
     wb.save(path)
     return openpyxl.load_workbook(path).active
-
-
-@pytest.mark.parametrize("text", RISKY, ids=RISKY_IDS)
-def test_put_keeps_text(text: str, tmp_path: Path) -> None:
-    wb = Workbook()
-    put(wb.active, 1, 1, text)
-    cell = _reload(wb, tmp_path)["A1"]
-    assert cell.data_type == "s" and cell.value == text
 
 
 @pytest.mark.parametrize("text", RISKY, ids=RISKY_IDS)
