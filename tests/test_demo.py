@@ -40,7 +40,7 @@ def test_demo_has_the_size_the_study_promises(demo: Workspace) -> None:
 
 
 def test_every_demo_sentence_round_trips_into_its_answer(demo: Workspace) -> None:
-    answers = {a["id"]: a["text"] for a in store.answers(demo.conn)}
+    answers: dict[int | None, str] = {a.id: a.text for a in store.answers(demo.conn)}
     for sentence in store.sentences(demo.conn):
         answer = answers[sentence.answer_id]
         assert answer[sentence.offset : sentence.offset + len(sentence.text)] == sentence.text

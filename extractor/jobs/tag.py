@@ -75,7 +75,7 @@ def attribute_varieties(
     """
     names = alias_tuples(ws, "variety")
     matcher = build_dictionary(names) if names else None
-    column = {a["id"]: a["variety"] for a in store.answers(ws.conn)}
+    column = {a.id: a.variety for a in store.answers(ws.conn)}
     by_answer: dict[int, list[tuple[Sentence, dict[str, Any]]]] = {}
     for sentence, row in zip(corpus, rows, strict=True):
         by_answer.setdefault(sentence.answer_id or 0, []).append((sentence, row))

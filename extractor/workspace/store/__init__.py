@@ -14,6 +14,7 @@ The statements live in private modules by table group; callers use this package:
 
 from extractor.workspace.store._answers import (
     SentenceContext,
+    StoredAnswer,
     add_source,
     answer_fingerprint,
     answers,
@@ -77,6 +78,7 @@ __all__ = [
     "ModelVersion",
     "SentenceContext",
     "StoredAlias",
+    "StoredAnswer",
     "StoredConcept",
     "StoredLabel",
     "StoredPrediction",

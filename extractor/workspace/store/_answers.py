@@ -214,13 +214,24 @@ def sentence_context(conn: sqlite3.Connection, sentence_id: int) -> SentenceCont
     )
 
 
-def answers(conn: sqlite3.Connection) -> list[dict[str, Any]]:
+class StoredAnswer(NamedTuple):
+    """One stored answer with its respondent's external ID."""
+
+    id: int
+    respondent: str
+    question: str | None
+    text: str
+    lang: str
+    variety: str | None
+
+
+def answers(conn: sqlite3.Connection) -> list[StoredAnswer]:
     """Return every answer with its respondent's external ID."""
     rows = conn.execute(
         "SELECT a.id, r.external_id AS respondent, a.question, a.text, a.lang, a.variety "
         "FROM answers a JOIN respondents r ON r.id = a.respondent_id ORDER BY a.id"
     ).fetchall()
-    return [dict(r) for r in rows]
+    return [StoredAnswer(*r) for r in rows]
 
 
 def respondents(conn: sqlite3.Connection) -> list[dict[str, Any]]:
