@@ -48,8 +48,7 @@ def variety_names(ws: Workspace) -> dict[str, str]:
     """Return variety ID -> display name."""
     default = ws.settings.workspace.default_language
     return {
-        v.id: _display_name(v.labels, default, v.id)
-        for v in store.concepts(ws.conn, "variety")
+        v.id: _display_name(v.labels, default, v.id) for v in store.concepts(ws.conn, "variety")
     }
 
 
@@ -132,8 +131,7 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
             found = _person_mentions(labels[sid].spans, labels[sid].annotator)
         else:
             found = [
-                m | {"annotator": None, "model_version": version}
-                for m in predicted[sid].mentions
+                m | {"annotator": None, "model_version": version} for m in predicted[sid].mentions
             ]
         rows.extend(_mention_row(sentence, m, concept_names, variety) for m in found)
     return pd.DataFrame(rows)
