@@ -11,6 +11,7 @@ from typing import Any
 
 import pandas as pd
 
+from extractor.nlp.fold import fold_words
 from extractor.report.inputs import concept_labels, metadata_columns, trait_name
 
 OUTCOMES = {"mention": None, "like": "liked", "dislike": "disliked", "want": "wanted"}
@@ -186,7 +187,10 @@ def mention_evidence(
 
 
 def unlinked_terms(mentions: pd.DataFrame, examples: int = 3) -> pd.DataFrame:
-    """Return spans without a concept, grouped by normalised text, for curators.
+    """Return spans without a concept, grouped by folded text, for curators.
+
+    Spellings that differ only in case, accents or spacing are one term
+    (:func:`extractor.nlp.fold.fold_words`).
 
     Columns: Term (the commonest spelling), Mentions, Respondents, Examples (up to
     ``examples`` distinct sentences, one per line).
@@ -195,7 +199,7 @@ def unlinked_terms(mentions: pd.DataFrame, examples: int = 3) -> pd.DataFrame:
     columns = ["Term", "Mentions", "Respondents", "Examples"]
     if free.empty:
         return pd.DataFrame(columns=columns)
-    key = free["span_text"].astype(str).str.casefold().str.split().str.join(" ")
+    key = free["span_text"].astype(str).map(fold_words)
     rows = []
     for _, grp in free.groupby(key, sort=False):
         rows.append(

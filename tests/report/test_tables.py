@@ -96,15 +96,21 @@ def test_unlinked_terms_groups_spellings(study: Study) -> None:
     assert table["Examples"].item() == S2
 
 
-def test_unlinked_terms_meets_case_and_spacing_variants() -> None:
+def test_unlinked_terms_meets_case_accent_and_spacing_variants() -> None:
     rows = pd.DataFrame(
         [
-            mention("W1", 1, S2, "seed is small", None, "disliked"),
-            mention("W2", 2, "The SEED  IS small here.", "SEED  IS small", None, "disliked"),
-            mention("W3", 3, S2, "seed is small", None, "disliked"),
+            mention("W1", 1, "Il résiste bien.", "résiste", None, "liked"),
+            mention("W2", 2, "Il RESISTE bien.", "RESISTE", None, "liked"),
+            mention("W3", 3, "Il re\u0301siste bien.", "re\u0301siste", None, "liked"),
+            mention("W4", 4, "Elle résiste  bien.", "résiste  bien", None, "liked"),
+            mention("W5", 5, "Elle résiste bien.", "résiste bien", None, "liked"),
         ]
     )
-    m, _ = prepare(rows, pd.DataFrame({"respondent": ["W1", "W2", "W3"]}))
+    m, _ = prepare(rows, pd.DataFrame({"respondent": ["W1", "W2", "W3", "W4", "W5"]}))
     table = unlinked_terms(m)
-    # One term; the commonest spelling names it.
-    assert table[["Term", "Mentions", "Respondents"]].values.tolist() == [["seed is small", 3, 3]]
+    # "e" followed by U+0301 COMBINING ACUTE ACCENT decomposes like U+00E9 (Unicode
+    # canonical decomposition, from memory); with case folding and runs of spaces made
+    # one, the first three are one term and the last two another.
+    got = table[["Mentions", "Respondents"]].values.tolist()
+    assert got == [[3, 3], [2, 2]]
+    assert table["Term"].iloc[0] in {"résiste", "RESISTE", "re\u0301siste"}
