@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+
 from extractor.jobs.inputs import gold_examples, session_settings
 from extractor.jobs.train import cross_validation, load_version, reusable_clusters
 from extractor.loop.samples import ensure_samples

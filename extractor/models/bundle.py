@@ -19,6 +19,9 @@ from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
 from typing import Any, NamedTuple
 
+import numpy as np
+from sklearn.base import BaseEstimator
+
 from extractor.errors import ModelError, NotFittedError
 from extractor.models.linking import ConceptLinker
 from extractor.models.stance import StanceModel
@@ -82,8 +85,11 @@ def span_confidence(tagged: TagResult, span: Span) -> float:
     return min(probs) if probs else 0.0
 
 
-class TraitModels:
+class TraitModels(BaseEstimator):
     """The models of one version; build with :meth:`train` or :meth:`load`.
+
+    Follows the scikit-learn estimator contract: the constructor only stores its
+    arguments and :meth:`fit` learns, so ``sklearn.base.clone`` gives an unfitted copy.
 
     Args:
         tagger_params: Keyword arguments of :func:`extractor.models.tagger_training.fit_tagger`.
@@ -98,9 +104,26 @@ class TraitModels:
         link_threshold: float = 0.25,
         seed: int = 0,
     ) -> None:
-        self.tagger_params = tagger_params or {}
+        self.tagger_params = tagger_params
         self.link_threshold = link_threshold
         self.seed = seed
+
+    @classmethod
+    def train(
+        cls,
+        gold: Sequence[tuple[Sentence, Sequence[Span]]],
+        corpus: Sequence[Sentence],
+        aliases: Sequence[Alias],
+        *,
+        tagger_params: dict[str, Any] | None = None,
+        link_threshold: float = 0.25,
+        seed: int = 0,
+        clusters: dict[str, Any] | None = None,
+        held_out: frozenset[int] = frozenset(),
+    ) -> TraitModels:
+        """Return models of the given parameters fitted on the data (see :meth:`fit`)."""
+        models = cls(tagger_params=tagger_params, link_threshold=link_threshold, seed=seed)
+        return models.fit(gold, corpus, aliases, clusters=clusters, held_out=held_out)
 
     # ------------------------------------------------------------------ training
 
@@ -137,7 +160,7 @@ class TraitModels:
         labeled = {s.id for s, _ in gold} | held_out
         silver = [s for s in corpus if s.id not in labeled]
         self.tagger_ = fit_tagger(
-            gold, silver, self.dictionary_, self.clusters_, **self.tagger_params
+            gold, silver, self.dictionary_, self.clusters_, **(self.tagger_params or {})
         )
         link_examples = [(s, sp, sp.concept) for s, spans in gold for sp in spans if sp.concept]
         if self.dictionary_ is not None:
@@ -210,14 +233,14 @@ class TraitModels:
             out.append(SentencePrediction(mentions, result))
         return out
 
-    def _stance_proba(self, items: Sequence[tuple[Sentence, Span]]) -> Any:
+    def _stance_proba(self, items: Sequence[tuple[Sentence, Span]]) -> np.ndarray:
         """Blend the learned stance model with the cue rules by how much it has learned from.
 
         With n labeled stances the model gets weight n / (n + STANCE_PRIOR): a dozen
         labels cannot overrule the cue lexicon, a few hundred mostly do.
         """
         if not items:
-            return []
+            return np.zeros((0, len(STANCES)))
         n = self.counts_.get("stance_examples", 0)
         return self.stance_.predict_proba_blend(items, n / (n + STANCE_PRIOR))
 
@@ -233,7 +256,7 @@ class TraitModels:
                 "tagger": self.tagger_.get_params()
                 | {
                     k: v
-                    for k, v in self.tagger_params.items()
+                    for k, v in (self.tagger_params or {}).items()
                     if k in ("gold_weight", "silver_filter", "silver_threshold")
                 },
                 "link_threshold": self.link_threshold,
@@ -269,15 +292,18 @@ class TraitModels:
         """
         try:
             meta = json.loads((folder / META_FILE).read_text(encoding="utf-8"))
-            aliases = [tuple(a) for a in json.loads((folder / ALIASES_FILE).read_text("utf-8"))]
+            aliases: list[Alias] = [
+                (str(c), str(t), str(lang))
+                for c, t, lang in json.loads((folder / ALIASES_FILE).read_text("utf-8"))
+            ]
         except (OSError, ValueError, TypeError) as exc:
             raise ModelError(
                 f"{folder} is not a readable model version ({exc}); retrain with `traits train`."
             ) from exc
         params = meta.get("parameters", {})
         models = cls(link_threshold=params.get("link_threshold", 0.25), seed=params.get("seed", 0))
-        models.aliases_ = aliases  # type: ignore[assignment]
-        models.dictionary_ = build_dictionary(aliases) if aliases else None  # type: ignore[arg-type]
+        models.aliases_ = aliases
+        models.dictionary_ = build_dictionary(aliases) if aliases else None
         models.clusters_ = load_clusters(folder)
         models.tagger_ = TraitTagger.load(folder)
         models.tagger_.clusters_fingerprint_ = models.clusters_.get("fingerprint")

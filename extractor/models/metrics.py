@@ -1,8 +1,8 @@
 """How good the extraction is: span, concept, stance and respondent-level scores.
 
 Every function here works on plain data (sentences, gold spans, predicted spans) and
-returns plain JSON-able dicts, so results can be stored with a model version and shown
-by the command line.
+returns small frozen records (:class:`ScoreReport` and its parts, :class:`Summary`);
+``dataclasses.asdict`` turns them into the JSON stored with a model version.
 
 Figures
 -------
@@ -19,25 +19,19 @@ Figures
   respondent counts as a respondent of its own. When no gold span has a stance, the
   triples are ``(respondent, concept)`` pairs and ``with_stance`` says so.
 
-Each is broken down by concept and by language.
-
-Cross-validation folds are grouped by respondent: all sentences of one person sit in
-the same fold, so a model is never tested on a person whose other answers it was trained
-on (people repeat their own phrasing; mixing them would flatter the scores).
+Each is broken down by concept and by language. Cross-validation and scoring a model
+on an evaluation sample are in :mod:`extractor.models.validation`.
 """
 
 from __future__ import annotations
 
-import random
-import statistics
-import time
 from collections import defaultdict
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, fields
 from typing import Any, Protocol
 
 from extractor.errors import InputError
 from extractor.nlp.spans import prf, span_prf
-from extractor.progress import track
 from extractor.types import STANCES, Sentence, Span
 
 Gold = Sequence[tuple[Sentence, Sequence[Span]]]
@@ -45,9 +39,6 @@ Gold = Sequence[tuple[Sentence, Sequence[Span]]]
 
 NO_STANCE = "(none)"
 """The stance label of a predicted mention that carries no stance."""
-
-SUMMARY_KEYS = ("span_f1", "span_concept_f1", "stance_accuracy", "respondent_f1")
-"""The headline figures of :func:`summary`, in display order."""
 
 
 class _MentionLike(Protocol):
@@ -61,19 +52,125 @@ class _MentionLike(Protocol):
     def stance(self) -> str | None: ...
 
 
+# --------------------------------------------------------------------------- records
+
+
+@dataclass(frozen=True)
+class PRF:
+    """Precision, recall and F1 with the counts they come from."""
+
+    precision: float
+    recall: float
+    f1: float
+    tp: int
+    fp: int
+    fn: int
+
+    @staticmethod
+    def _fields(counts: Mapping[str, float]) -> dict[str, Any]:
+        return {
+            "precision": float(counts["precision"]),
+            "recall": float(counts["recall"]),
+            "f1": float(counts["f1"]),
+            "tp": int(counts["tp"]),
+            "fp": int(counts["fp"]),
+            "fn": int(counts["fn"]),
+        }
+
+    @classmethod
+    def of(cls, counts: Mapping[str, float]) -> PRF:
+        """Return the record of a :func:`~extractor.nlp.spans.prf` result."""
+        return cls(**cls._fields(counts))
+
+    @property
+    def gold(self) -> int:
+        """How many gold items there were (true positives and misses)."""
+        return self.tp + self.fn
+
+
+@dataclass(frozen=True)
+class SupportedPRF(PRF):
+    """:class:`PRF` of one class or concept, with its number of gold items."""
+
+    support: int
+
+    @classmethod
+    def with_support(cls, counts: Mapping[str, float], support: int) -> SupportedPRF:
+        """Return the record of a :func:`~extractor.nlp.spans.prf` result and a support."""
+        return cls(**cls._fields(counts), support=support)
+
+    @property
+    def gold(self) -> int:
+        """The support."""
+        return self.support
+
+
+@dataclass(frozen=True)
+class RespondentScores(PRF):
+    """:class:`PRF` over per-respondent triples; see :func:`respondent_scores`."""
+
+    with_stance: bool
+    n_respondents: int
+
+
+@dataclass(frozen=True)
+class StanceScores:
+    """Stance accuracy, macro-F1 and confusion table; see :func:`stance_scores`."""
+
+    n: int
+    accuracy: float
+    macro_f1: float
+    per_stance: Mapping[str, SupportedPRF]
+    labels: tuple[str, ...]
+    confusion: tuple[tuple[int, ...], ...]
+
+
+@dataclass(frozen=True)
+class GroupScores:
+    """The figures of one group of sentences (all of them, or one language)."""
+
+    n_sentences: int
+    n_gold_spans: int
+    span: PRF
+    span_concept: PRF | None
+    stance: StanceScores | None
+    respondent: RespondentScores | None
+
+
+@dataclass(frozen=True)
+class ScoreReport(GroupScores):
+    """Every figure of :func:`score`: the whole, by concept and by language."""
+
+    by_concept: Mapping[str, SupportedPRF]
+    by_language: Mapping[str, GroupScores]
+
+
+@dataclass(frozen=True)
+class Summary:
+    """The headline figures of a :class:`ScoreReport`, ``None`` where they do not apply."""
+
+    span_f1: float | None
+    span_concept_f1: float | None
+    stance_accuracy: float | None
+    respondent_f1: float | None
+
+
+SUMMARY_KEYS = tuple(f.name for f in fields(Summary))
+"""The headline figures of :func:`summary`, in display order."""
+
+
 # --------------------------------------------------------------------------- metrics
 
 
-def stance_scores(pairs: Sequence[tuple[str, str]]) -> dict[str, Any] | None:
+def stance_scores(pairs: Sequence[tuple[str, str]]) -> StanceScores | None:
     """Return stance accuracy, macro-F1 and confusion table of ``(gold, predicted)`` pairs.
 
     Args:
         pairs: One ``(gold stance, predicted stance)`` per matched mention.
 
     Returns:
-        ``{"n", "accuracy", "macro_f1", "per_stance", "labels", "confusion"}``, where
-        ``confusion[i][j]`` counts gold ``labels[i]`` predicted as ``labels[j]``; ``None``
-        when there are no pairs.
+        The scores, where ``confusion[i][j]`` counts gold ``labels[i]`` predicted as
+        ``labels[j]``; ``None`` when there are no pairs.
     """
     if not pairs:
         return None
@@ -88,16 +185,16 @@ def stance_scores(pairs: Sequence[tuple[str, str]]) -> dict[str, Any] | None:
         tp = confusion[i][i]
         fp = sum(confusion[r][i] for r in range(len(labels))) - tp
         fn = sum(confusion[i]) - tp
-        per_stance[label] = prf(tp, fp, fn) | {"support": sum(confusion[i])}
+        per_stance[label] = SupportedPRF.with_support(prf(tp, fp, fn), sum(confusion[i]))
     correct = sum(confusion[i][i] for i in range(len(labels)))
-    return {
-        "n": len(pairs),
-        "accuracy": correct / len(pairs),
-        "macro_f1": sum(v["f1"] for v in per_stance.values()) / len(labels),
-        "per_stance": per_stance,
-        "labels": labels,
-        "confusion": confusion,
-    }
+    return StanceScores(
+        n=len(pairs),
+        accuracy=correct / len(pairs),
+        macro_f1=sum(v.f1 for v in per_stance.values()) / len(labels),
+        per_stance=per_stance,
+        labels=tuple(labels),
+        confusion=tuple(tuple(row) for row in confusion),
+    )
 
 
 def respondent_key(sentence: Sentence) -> str:
@@ -109,12 +206,12 @@ def respondent_scores(
     sentences: Sequence[Sentence],
     gold: Sequence[Sequence[Span]],
     pred: Sequence[Sequence[_MentionLike]],
-) -> dict[str, Any] | None:
+) -> RespondentScores | None:
     """Return P/R/F1 over per-respondent ``(respondent, concept, stance)`` triples.
 
     Returns:
-        :func:`prf` plus ``with_stance`` and ``n_respondents``; ``None`` when no gold span
-        has a concept (there is nothing to aggregate).
+        The scores, with ``with_stance`` and ``n_respondents``; ``None`` when no gold
+        span has a concept (there is nothing to aggregate).
     """
     if not any(s.concept for spans in gold for s in spans):
         return None
@@ -131,10 +228,12 @@ def respondent_scores(
 
     gold_set, pred_set = triples(gold), triples(pred)
     hits = len(gold_set & pred_set)
-    return prf(hits, len(pred_set) - hits, len(gold_set) - hits) | {
-        "with_stance": with_stance,
-        "n_respondents": len({respondent_key(s) for s in sentences}),
-    }
+    counts = PRF.of(prf(hits, len(pred_set) - hits, len(gold_set) - hits))
+    return RespondentScores(
+        **vars(counts),
+        with_stance=with_stance,
+        n_respondents=len({respondent_key(s) for s in sentences}),
+    )
 
 
 def _stance_pairs(
@@ -153,21 +252,25 @@ def _as_spans(pred: Sequence[Sequence[_MentionLike]]) -> list[list[Span]]:
     return [[Span(m.start, m.end, m.concept, m.stance) for m in spans] for spans in pred]
 
 
-def _core(gold: Sequence[Sequence[Span]], pred: Sequence[Sequence[_MentionLike]]) -> dict[str, Any]:
+def _group(
+    sentences: Sequence[Sentence],
+    gold: Sequence[Sequence[Span]],
+    pred: Sequence[Sequence[_MentionLike]],
+) -> GroupScores:
     spans = _as_spans(pred)
     has_concepts = any(s.concept for g in gold for s in g)
-    pairs = _stance_pairs(gold, pred)
     predicts_stance = any(m.stance for p in pred for m in p)
-    return {
-        "n_sentences": len(gold),
-        "n_gold_spans": sum(len(g) for g in gold),
-        "span": span_prf(gold, spans),
-        "span_concept": span_prf(gold, spans, with_concept=True) if has_concepts else None,
-        "stance": stance_scores(pairs) if predicts_stance else None,
-    }
+    return GroupScores(
+        n_sentences=len(gold),
+        n_gold_spans=sum(len(g) for g in gold),
+        span=PRF.of(span_prf(gold, spans)),
+        span_concept=PRF.of(span_prf(gold, spans, with_concept=True)) if has_concepts else None,
+        stance=stance_scores(_stance_pairs(gold, pred)) if predicts_stance else None,
+        respondent=respondent_scores(sentences, gold, pred),
+    )
 
 
-def score(gold: Gold, pred: Sequence[Sequence[_MentionLike]]) -> dict[str, Any]:
+def score(gold: Gold, pred: Sequence[Sequence[_MentionLike]]) -> ScoreReport:
     """Return every figure for predicted mentions against gold spans.
 
     Args:
@@ -177,9 +280,7 @@ def score(gold: Gold, pred: Sequence[Sequence[_MentionLike]]) -> dict[str, Any]:
             sentence, aligned with ``gold``.
 
     Returns:
-        ``{"n_sentences", "n_gold_spans", "span", "span_concept", "stance",
-        "respondent", "by_concept", "by_language"}``; a figure that does not apply
-        (no concepts, no stances) is ``None``.
+        The figures; one that does not apply (no concepts, no stances) is ``None``.
 
     Raises:
         InputError: ``gold`` and ``pred`` cover a different number of sentences.
@@ -191,186 +292,43 @@ def score(gold: Gold, pred: Sequence[Sequence[_MentionLike]]) -> dict[str, Any]:
         )
     sentences = [s for s, _ in gold]
     gold_spans = [list(spans) for _, spans in gold]
-    result = _core(gold_spans, pred)
-    result["respondent"] = respondent_scores(sentences, gold_spans, pred)
-    result["by_concept"] = _by_concept(gold_spans, _as_spans(pred))
     by_lang: dict[str, list[int]] = defaultdict(list)
     for i, sentence in enumerate(sentences):
         by_lang[sentence.lang].append(i)
-    result["by_language"] = {
-        lang: _core([gold_spans[i] for i in idx], [pred[i] for i in idx])
-        | {
-            "respondent": respondent_scores(
+    return ScoreReport(
+        **vars(_group(sentences, gold_spans, pred)),
+        by_concept=_by_concept(gold_spans, _as_spans(pred)),
+        by_language={
+            lang: _group(
                 [sentences[i] for i in idx], [gold_spans[i] for i in idx], [pred[i] for i in idx]
             )
-        }
-        for lang, idx in sorted(by_lang.items())
-    }
-    return result
+            for lang, idx in sorted(by_lang.items())
+        },
+    )
 
 
-def _by_concept(gold: list[list[Span]], pred: list[list[Span]]) -> dict[str, dict[str, Any]]:
+def _by_concept(gold: list[list[Span]], pred: list[list[Span]]) -> dict[str, SupportedPRF]:
     concepts = sorted({s.concept for g in gold + pred for s in g if s.concept})
     out = {}
     for concept in concepts:
         g = [[s for s in spans if s.concept == concept] for spans in gold]
         p = [[s for s in spans if s.concept == concept] for spans in pred]
-        out[concept] = span_prf(g, p, with_concept=True) | {"support": sum(map(len, g))}
+        out[concept] = SupportedPRF.with_support(
+            span_prf(g, p, with_concept=True), sum(map(len, g))
+        )
     return out
 
 
-def summary(result: dict[str, Any]) -> dict[str, float | None]:
+def summary(result: GroupScores) -> Summary:
     """Return the headline figures of a :func:`score` result, ``None`` where they do not apply."""
-
-    def pick(key: str, field: str) -> float | None:
-        part = result.get(key)
-        return None if part is None else float(part[field])
-
-    return {
-        "span_f1": pick("span", "f1"),
-        "span_concept_f1": pick("span_concept", "f1"),
-        "stance_accuracy": pick("stance", "accuracy"),
-        "respondent_f1": pick("respondent", "f1"),
-    }
-
-
-# --------------------------------------------------------------------------- models
-
-
-class _Predictor(Protocol):
-    def predict(self, sentences: Sequence[Sentence]) -> Sequence[Any]: ...
+    return Summary(
+        span_f1=result.span.f1,
+        span_concept_f1=None if result.span_concept is None else result.span_concept.f1,
+        stance_accuracy=None if result.stance is None else result.stance.accuracy,
+        respondent_f1=None if result.respondent is None else result.respondent.f1,
+    )
 
 
 def predicted_mentions(predictions: Iterable[Any]) -> list[list[Span]]:
     """Return the mentions of model predictions (``SentencePrediction``s) as spans."""
     return [[Span(m.start, m.end, m.concept, m.stance) for m in p.mentions] for p in predictions]
-
-
-def evaluate_on(models: _Predictor, gold: Gold) -> dict[str, Any]:
-    """Score fitted models on an evaluation sample (labeled sentences they never saw).
-
-    Args:
-        models: Fitted models with ``predict(sentences) -> [SentencePrediction]``,
-            e.g. :class:`extractor.models.bundle.TraitModels`.
-        gold: The evaluation sentences and their gold spans.
-
-    Returns:
-        A :func:`score` result, plus ``"summary"`` (:func:`summary`) and the summary's
-        figures at the top level too (``"span_f1"``...), where ``traits models`` reads them.
-    """
-    if not gold:
-        raise InputError(
-            "The evaluation sample holds no labeled sentence; label some sentences of it first."
-        )
-    result = score(gold, predicted_mentions(models.predict([s for s, _ in gold])))
-    figures = summary(result)
-    return result | {"summary": figures} | figures
-
-
-def group_folds(groups: Sequence[str], k: int, seed: int = 0) -> list[list[int]]:
-    """Split item indices into ``k`` folds so that no group is split between folds.
-
-    Groups are shuffled with ``seed`` and then placed largest first, each into the fold
-    with the fewest items so far, so the folds come out about the same size.
-
-    Returns:
-        ``k`` lists of indices (``min(k, number of groups)`` when there are fewer groups).
-
-    Raises:
-        InputError: ``k`` is below 2 or there are fewer than 2 groups.
-    """
-    members: dict[str, list[int]] = defaultdict(list)
-    for i, group in enumerate(groups):
-        members[group].append(i)
-    if k < 2 or len(members) < 2:
-        raise InputError(
-            f"Cross-validation needs k >= 2 and at least 2 respondents; got k={k} and "
-            f"{len(members)} respondent(s), so label sentences of more respondents."
-        )
-    names = sorted(members)
-    random.Random(seed).shuffle(names)
-    names.sort(key=lambda g: -len(members[g]))  # stable: shuffled order breaks ties
-    folds: list[list[int]] = [[] for _ in range(min(k, len(names)))]
-    for name in names:
-        min(folds, key=len).extend(members[name])
-    return [sorted(f) for f in folds]
-
-
-ModelFactory = Callable[..., Any]
-
-
-def _default_factory(**params: Any) -> Any:
-    from extractor.models.bundle import TraitModels
-
-    return TraitModels(**params)
-
-
-def cross_validate(
-    gold: Gold,
-    corpus: Sequence[Sentence],
-    aliases: Sequence[tuple[str, str, str]],
-    *,
-    k: int = 5,
-    seed: int = 0,
-    model_params: dict[str, Any] | None = None,
-    clusters: dict[str, Any] | None = None,
-    make_models: ModelFactory = _default_factory,
-) -> dict[str, Any]:
-    """Estimate how well models trained on the labels do on sentences they never saw.
-
-    The labeled sentences are split into ``k`` folds grouped by respondent (see the
-    module docstring). For each fold a fresh model is trained on the other folds'
-    labels, with the whole corpus as unlabeled text (the held-out sentences stay in the
-    corpus as text, but their labels are removed), and scored on the held-out fold.
-
-    Args:
-        gold: Labeled sentences and their spans.
-        corpus: Every sentence of the workspace (unlabeled text).
-        aliases: The concept list's aliases ``(concept_id, text, lang)``.
-        k: Number of folds.
-        seed: Seed of the fold assignment.
-        model_params: Keyword arguments of the model (``TraitModels``).
-        clusters: Word clusters to reuse across folds (they depend only on the corpus).
-        make_models: Factory of the model, given ``model_params``; for tests.
-
-    Returns:
-        ``{"k", "seed", "grouped_by": "respondent", "mean": {...}, "sd": {...},
-        "span_f1": {"mean", "sd"}, ... (each summary figure), "folds": [{"fold",
-        "n_train", "n_test", "seconds", "summary", "result"}]}``, where ``mean`` and ``sd``
-        are over folds of each :func:`summary` figure (``None`` when it applies to no fold).
-    """
-    folds = group_folds([respondent_key(s) for s, _ in gold], k, seed)
-    per_fold = []
-    for number, test_idx in track(enumerate(folds), "Cross-validating", len(folds)):
-        held = set(test_idx)
-        train = [g for i, g in enumerate(gold) if i not in held]
-        test = [gold[i] for i in test_idx]
-        started = time.perf_counter()
-        models = make_models(**(model_params or {})).fit(train, corpus, aliases, clusters=clusters)
-        result = evaluate_on(models, test)
-        per_fold.append({
-            "fold": number, "n_train": len(train), "n_test": len(test),
-            "seconds": round(time.perf_counter() - started, 2),
-            "summary": result["summary"], "result": result,
-        })  # fmt: skip
-    mean = _aggregate(per_fold, statistics.fmean)
-    sd = _aggregate(per_fold, lambda v: statistics.stdev(v) if len(v) > 1 else 0.0)
-    return {
-        "k": len(folds),
-        "seed": seed,
-        "grouped_by": "respondent",
-        "mean": mean,
-        "sd": sd,
-        **{key: {"mean": mean[key], "sd": sd[key]} for key in SUMMARY_KEYS},
-        "folds": per_fold,
-    }
-
-
-def _aggregate(
-    folds: Sequence[dict[str, Any]], fn: Callable[[list[float]], float]
-) -> dict[str, float | None]:
-    out: dict[str, float | None] = {}
-    for key in SUMMARY_KEYS:
-        values = [f["summary"][key] for f in folds if f["summary"][key] is not None]
-        out[key] = fn(values) if values else None
-    return out

@@ -1,12 +1,8 @@
-"""Scores, cross-validation and tables, checked against seqeval, scikit-learn and hand sums."""
+"""Scores of predicted mentions, checked against seqeval, scikit-learn and hand sums."""
 
 from __future__ import annotations
 
-import io
-from typing import Any
-
 import pytest
-from rich.console import Console
 from seqeval.metrics import f1_score, precision_score, recall_score
 from seqeval.scheme import IOB2
 from sklearn.metrics import accuracy_score, confusion_matrix
@@ -14,9 +10,8 @@ from sklearn.metrics import f1_score as sk_f1
 
 from extractor.errors import InputError
 from extractor.models.metrics import (
-    cross_validate,
-    evaluate_on,
-    group_folds,
+    Summary,
+    SupportedPRF,
     respondent_scores,
     score,
     stance_scores,
@@ -53,7 +48,7 @@ def test_span_scores_equal_seqeval_strict(corpus: list[tuple[list[str], list[str
     pred_tags = [p for _, p in corpus]
     gold = [(sentence(k), iob_to_spans(offsets_of(len(g)), g)) for k, g in enumerate(gold_tags)]
     pred = [iob_to_spans(offsets_of(len(p)), p) for p in pred_tags]
-    ours = score(gold, pred)["span"]
+    ours = vars(score(gold, pred).span)
     # Source: seqeval, strict IOB2 mode.
     expected = {
         "precision": precision_score(gold_tags, pred_tags, mode="strict", scheme=IOB2),
@@ -69,11 +64,12 @@ def test_span_concept_requires_equal_concept() -> None:
     pred = [[Span(0, 3, "C1"), Span(4, 7, "C9")]]
     result = score(gold, pred)
     # Hand count: spans 2/2 correct; with concept 1 of 2 predicted and 1 of 2 gold.
-    assert result["span"]["f1"] == pytest.approx(1.0)
-    assert result["span_concept"]["precision"] == pytest.approx(0.5)
-    assert result["span_concept"]["recall"] == pytest.approx(0.5)
-    assert result["by_concept"]["C2"] == pytest.approx(
-        {"precision": 0.0, "recall": 0.0, "f1": 0.0, "tp": 0, "fp": 0, "fn": 1, "support": 1}
+    assert result.span.f1 == pytest.approx(1.0)
+    assert result.span_concept is not None
+    assert result.span_concept.precision == pytest.approx(0.5)
+    assert result.span_concept.recall == pytest.approx(0.5)
+    assert result.by_concept["C2"] == SupportedPRF(
+        precision=0.0, recall=0.0, f1=0.0, tp=0, fp=0, fn=1, support=1
     )
 
 
@@ -95,10 +91,10 @@ def test_respondent_scores_hand_computed() -> None:
     # = 2. P = 2/4 = 0.5, R = 2/3, F1 = 2*0.5*(2/3)/(0.5+2/3) = (2/3)/(7/6) = 4/7.
     result = respondent_scores(sentences, gold, pred)
     assert result is not None
-    assert result["precision"] == pytest.approx(0.5)
-    assert result["recall"] == pytest.approx(2 / 3)
-    assert result["f1"] == pytest.approx(4 / 7)
-    assert result["with_stance"] is True
+    assert result.precision == pytest.approx(0.5)
+    assert result.recall == pytest.approx(2 / 3)
+    assert result.f1 == pytest.approx(4 / 7)
+    assert result.with_stance is True
 
 
 def test_respondent_scores_none_without_concepts() -> None:
@@ -129,114 +125,39 @@ def test_stance_scores_equal_sklearn(pairs: list[tuple[str, str]]) -> None:
     assert result is not None
     y_true, y_pred = [g for g, _ in pairs], [p for _, p in pairs]
     # Source: scikit-learn metrics over the labels seen in gold or prediction.
-    assert result["accuracy"] == pytest.approx(accuracy_score(y_true, y_pred))
-    assert result["macro_f1"] == pytest.approx(
-        sk_f1(y_true, y_pred, average="macro", zero_division=0)
-    )
+    assert result.accuracy == pytest.approx(accuracy_score(y_true, y_pred))
+    assert result.macro_f1 == pytest.approx(sk_f1(y_true, y_pred, average="macro", zero_division=0))
     # The label order is built here, independently: STANCES order, then only labels seen.
     labels = [s for s in STANCES if s in set(y_true) | set(y_pred)]
-    assert result["labels"] == labels
-    assert result["confusion"] == confusion_matrix(y_true, y_pred, labels=labels).tolist()
+    assert list(result.labels) == labels
+    assert [list(row) for row in result.confusion] == confusion_matrix(
+        y_true, y_pred, labels=labels
+    ).tolist()
 
 
 def test_stance_only_counts_exact_span_matches() -> None:
     gold = [(sentence(0), [Span(0, 3, None, "liked"), Span(4, 11, None, "wanted")])]
     pred = [[Span(0, 3, None, "disliked"), Span(4, 7, None, "wanted")]]
-    stance = score(gold, pred)["stance"]
+    stance = score(gold, pred).stance
     # Hand count: only 0-3 matches exactly; its stance is wrong.
-    assert stance["n"] == 1
-    assert stance["accuracy"] == 0.0
+    assert stance is not None and stance.n == 1
+    assert stance.accuracy == 0.0
 
 
 def test_figures_are_null_where_they_do_not_apply() -> None:
     gold = [(sentence(0), [Span(0, 3)])]
-    assert summary(score(gold, [[Span(0, 3)]])) == {
-        "span_f1": 1.0,
-        "span_concept_f1": None,
-        "stance_accuracy": None,
-        "respondent_f1": None,
-    }
+    assert summary(score(gold, [[Span(0, 3)]])) == Summary(
+        span_f1=1.0, span_concept_f1=None, stance_accuracy=None, respondent_f1=None
+    )
 
 
 def test_by_language_splits_sentences() -> None:
     gold = [(sentence(0, lang="en"), [Span(0, 3)]), (sentence(1, lang="fr"), [Span(0, 3)])]
     result = score(gold, [[Span(0, 3)], []])
-    assert result["by_language"]["en"]["span"]["f1"] == 1.0
-    assert result["by_language"]["fr"]["span"]["f1"] == 0.0
+    assert result.by_language["en"].span.f1 == 1.0
+    assert result.by_language["fr"].span.f1 == 0.0
 
 
 def test_score_rejects_misaligned_input() -> None:
     with pytest.raises(InputError, match="same sentences"):
         score([(sentence(0), [])], [])
-
-
-@pytest.mark.parametrize("k", [2, 3, 5], ids=["k2", "k3", "k5"])
-def test_group_folds_keep_respondents_together(k: int) -> None:
-    groups = ["A"] * 4 + ["B"] * 3 + ["C"] * 3 + ["D"] * 2 + ["E"] + ["F"]
-    folds = group_folds(groups, k, seed=3)
-    assert sorted(i for f in folds for i in f) == list(range(len(groups)))
-    owners = [{groups[i] for i in fold} for fold in folds]
-    for a in range(len(owners)):
-        for b in range(a + 1, len(owners)):
-            assert not owners[a] & owners[b]
-
-
-def test_group_folds_need_two_respondents() -> None:
-    with pytest.raises(InputError, match="at least 2 respondents"):
-        group_folds(["A", "A"], 2)
-
-
-class FakePrediction:
-    def __init__(self, mentions: list[Span]) -> None:
-        self.mentions = mentions
-
-
-class EchoModel:
-    """Predicts the span [0, 3) with concept C1 in every sentence; records what it saw."""
-
-    seen: list[set[int]] = []
-
-    def __init__(self, **params: Any) -> None:
-        self.params = params
-
-    def fit(self, gold: Any, corpus: Any, aliases: Any, *, clusters: Any = None) -> EchoModel:
-        EchoModel.seen.append({s.id for s, _ in gold})
-        return self
-
-    def predict(self, sentences: list[Sentence]) -> list[FakePrediction]:
-        return [FakePrediction([Span(0, 3, "C1", "liked")]) for _ in sentences]
-
-
-def test_evaluate_on_scores_the_model() -> None:
-    gold = [(sentence(0, "ANA"), [Span(0, 3, "C1", "liked")]), (sentence(1, "BEN"), [])]
-    result = evaluate_on(EchoModel(), gold)
-    # Hand count: 2 predicted, 1 correct, 1 gold: P 0.5, R 1.
-    assert result["summary"]["span_f1"] == pytest.approx(2 / 3)
-    assert result["summary"]["stance_accuracy"] == 1.0
-    assert result["span_f1"] == result["summary"]["span_f1"]
-
-
-def test_cross_validate_never_trains_on_the_held_out_fold() -> None:
-    EchoModel.seen = []
-    gold = [(sentence(i, f"R{i % 4}"), [Span(0, 3, "C1", "liked")]) for i in range(12)]
-    result = cross_validate(gold, [s for s, _ in gold], [], k=4, seed=1, make_models=EchoModel)
-    assert result["k"] == 4 and len(result["folds"]) == 4
-    for fold, trained in zip(result["folds"], EchoModel.seen, strict=True):
-        assert len(trained) == fold["n_train"] == 9
-    assert result["mean"]["span_f1"] == pytest.approx(1.0)
-    assert result["mean"]["respondent_f1"] == pytest.approx(1.0)
-    assert result["span_f1"] == {"mean": pytest.approx(1.0), "sd": pytest.approx(0.0)}
-
-
-def test_cross_validate_shows_a_progress_bar_over_folds() -> None:
-    from extractor import progress
-
-    gold = [(sentence(i, f"R{i % 4}"), [Span(0, 3, "C1", "liked")]) for i in range(12)]
-    out = io.StringIO()
-    progress.enable(Console(file=out, force_terminal=True, width=100))
-    try:
-        cross_validate(gold, [s for s, _ in gold], [], k=4, seed=1, make_models=EchoModel)
-    finally:
-        progress.enable(None)
-    assert "Cross-validating" in out.getvalue() and "4/4" in out.getvalue()
-

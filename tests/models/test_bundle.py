@@ -1,0 +1,71 @@
+"""The models of one version together: the estimator contract, train, predict, save and load."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from sklearn.base import clone
+
+from extractor.errors import NotFittedError
+from extractor.models.bundle import Mention, SentencePrediction, TraitModels
+from extractor.types import STANCES, Sentence, Span
+
+# Invented trait IDs and answers about an invented variety (Velora).
+ALIASES = [("TX:01", "cooking time", "en"), ("TX:02", "seed size", "en")]
+CORPUS = [
+    Sentence(i, text, "en")
+    for i, text in enumerate(
+        [
+            "The cooking time of Velora is short .",
+            "We like the seed size of Velora .",
+            "The seed size is too small for the market .",
+            "I wish the cooking time were shorter .",
+            "We planted it after the rains .",
+            "My neighbour sells it in town .",
+        ]
+    )
+]
+GOLD = [(CORPUS[0], [Span(4, 16, "TX:01", "liked")]), (CORPUS[4], [])]
+
+
+def test_clone_gives_unfitted_models_with_the_same_params() -> None:
+    # scikit-learn's clone is the outside reference for the estimator contract: it
+    # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
+    models = TraitModels(tagger_params={"gold_weight": 3}, link_threshold=0.4, seed=2)
+    copy = clone(models)
+    assert copy.get_params() == {
+        "link_threshold": 0.4,
+        "seed": 2,
+        "tagger_params": {"gold_weight": 3},
+    }
+    assert copy.tagger_params is not models.tagger_params
+
+
+def test_predict_before_training_raises() -> None:
+    with pytest.raises(NotFittedError, match="not trained"):
+        TraitModels().predict(CORPUS[:1])
+
+
+@pytest.fixture(scope="module")
+def trained() -> TraitModels:
+    return TraitModels.train(GOLD, CORPUS, ALIASES, tagger_params={"max_iterations": 20})
+
+
+def test_train_finds_linked_mentions_with_a_stance_distribution(trained: TraitModels) -> None:
+    (prediction,) = trained.predict([CORPUS[1]])
+    assert isinstance(prediction, SentencePrediction)
+    assert [(m.start, m.end, m.concept) for m in prediction.mentions] == [(12, 21, "TX:02")]
+    mention = prediction.mentions[0]
+    assert isinstance(mention, Mention) and mention.stance in STANCES
+    assert mention.stance_probs is not None
+    assert sum(mention.stance_probs.values()) == pytest.approx(1.0)
+
+
+def test_save_load_round_trip_predicts_the_same(trained: TraitModels, tmp_path: Path) -> None:
+    trained.save(tmp_path / "v1")
+    loaded = TraitModels.load(tmp_path / "v1")
+    assert [p.mentions for p in loaded.predict(CORPUS)] == [
+        p.mentions for p in trained.predict(CORPUS)
+    ]
+    assert loaded.aliases_ == ALIASES
