@@ -1,0 +1,139 @@
+"""File bytes to text (extractor.ingest.decode): encodings, delimiters, Office archives.
+
+Outside references: Python's codecs write the bytes of each encoding (Windows-1252 and
+ISO 8859-1 code pages), Python's ``csv.Sniffer`` is the reference delimiter guess, and
+the file signatures come from [MS-CFB] (OLE compound files) and PKWARE's APPNOTE (zip).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import zipfile
+from pathlib import Path
+
+import pytest
+
+from extractor.errors import InputError
+from extractor.ingest.decode import check_office_archive, decode_text, sniff_delimiter
+from tests.ingest.interview_files import (
+    EN_1,
+    ES_1,
+    read,
+)
+
+
+@pytest.mark.parametrize(
+    ("encoding", "expected_encoding", "warns"),
+    [("utf-8", "utf-8", False), ("utf-8-sig", "utf-8-sig", False), ("cp1252", "cp1252", True)],
+    ids=["utf8", "utf8-bom", "cp1252"],
+)
+def test_read_csv_decodes_encodings(
+    tmp_path: Path, encoding: str, expected_encoding: str, warns: bool
+) -> None:
+    # Windows-1252 encodes "é" as 0xE9 and "’" as 0x92 (code page table, from memory);
+    # Python's codec writes the bytes, and the reader must give the same text back.
+    answer = "La variété de Minde n’est pas sucrée, mais elle résiste bien à la sécheresse."
+    path = tmp_path / "survey.csv"
+    path.write_bytes(f'Répondant,Réponse\nR1,"{answer}"\n'.encode(encoding))
+    if encoding == "cp1252":
+        assert b"\xe9" in path.read_bytes() and b"\x92" in path.read_bytes()
+    if encoding == "utf-8-sig":
+        assert path.read_bytes().startswith(b"\xef\xbb\xbf")  # the Unicode UTF-8 BOM
+    result = read(path)
+    assert result.encoding == expected_encoding
+    assert result.rows[0]["answer"] == answer
+    assert result.rows[0]["respondent"] == "R1"
+    assert any("cp1252" in w for w in result.warnings) == warns
+
+
+def test_read_csv_falls_back_to_latin1_for_bytes_cp1252_lacks(tmp_path: Path) -> None:
+    # 0x81 is unassigned in Windows-1252 but is a C1 control in ISO 8859-1 (from memory).
+    path = tmp_path / "survey.csv"
+    path.write_bytes(b"Respondent,Answer\nR1,caf\xe9 \x81 " + EN_1.encode() + b"\n")
+    result = read(path)
+    assert result.encoding == "latin-1"
+    assert result.rows[0]["answer"].startswith("café \x81 ")
+    assert any("latin-1" in w for w in result.warnings)
+
+
+def test_read_csv_sniffs_semicolon(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_text(f"Encuestado;Sexo;Respuesta\nE-01;mujer;{ES_1}\n", encoding="utf-8")
+    row = read(path).rows[0]
+    assert (row["respondent"], row["answer"], row["metadata"]) == ("E-01", ES_1, {"sexo": "mujer"})
+    assert (row["lang"], row["lang_origin"]) == ("es", "detected")
+
+
+def test_read_tsv_splits_on_tabs(tmp_path: Path) -> None:
+    path = tmp_path / "survey.tsv"
+    answer = "Too small, too hard; we sell it cheaply"
+    path.write_text(f"participant\tverbatim\nP1\t{answer}\n", encoding="utf-8")
+    result = read(path)
+    assert result.kind == "tsv"
+    assert [(r["respondent"], r["answer"]) for r in result.rows] == [("P1", answer)]
+
+
+# Encrypted Office files are OLE compound files; the header signature
+# D0 CF 11 E0 A1 B1 1A E1 is from [MS-CFB] section 2.2 (from memory).
+OLE_HEADER = bytes.fromhex("d0cf11e0a1b11ae1") + b"\x00" * 504
+
+
+@pytest.mark.parametrize("suffix", [".docx", ".xlsx"], ids=["docx", "xlsx"])
+def test_read_encrypted_office_file_says_password_protected(tmp_path: Path, suffix: str) -> None:
+    path = tmp_path / f"locked{suffix}"
+    path.write_bytes(OLE_HEADER)
+    with pytest.raises(InputError, match=rf"'locked\{suffix}' is password-protected"):
+        read(path)
+
+
+# Plain fields: Python's csv.Sniffer gives up on tables whose quoted text holds the
+# delimiter, so the agreement is checked where the reference gives an answer.
+SNIFF_ROWS = [
+    ["Respondent", "Gender", "Answer"],
+    ["R1", "female", "It cooks fast and the porridge is sweet."],
+    ["R2", "male", "Too small. The birds eat it before harvest."],
+    ["R3", "female", "We sell it at Lowa market"],
+]
+
+
+@pytest.mark.parametrize("delimiter", [",", ";"], ids=["comma", "semicolon"])
+def test_sniff_delimiter_agrees_with_python_csv_sniffer(delimiter: str) -> None:
+    buffer = io.StringIO()
+    csv.writer(buffer, delimiter=delimiter).writerows(SNIFF_ROWS)
+    text = buffer.getvalue()
+    reference = csv.Sniffer().sniff(text, delimiters=",;").delimiter
+    assert sniff_delimiter(text) == reference == delimiter
+
+
+@pytest.mark.parametrize(
+    ("encoding", "warns"),
+    [("utf-8", False), ("cp1252", True)],
+    ids=["utf8", "cp1252"],
+)
+def test_decode_text_gives_back_what_python_codecs_encoded(encoding: str, warns: bool) -> None:
+    text = "Réponse: la variété résiste à la sécheresse – et se vend bien."
+    decoded, used, warnings = decode_text(text.encode(encoding), Path("survey.csv"))
+    assert (decoded, used, bool(warnings)) == (text, encoding, warns)
+
+
+def test_decode_text_drops_the_utf8_byte_order_mark() -> None:
+    # Python's "utf-8-sig" codec writes the BOM EF BB BF (Unicode section 23.8).
+    decoded, used, _ = decode_text("Répondant".encode("utf-8-sig"), Path("survey.csv"))
+    assert (decoded, used) == ("Répondant", "utf-8-sig")
+
+
+def test_check_office_archive_accepts_a_zip_archive(tmp_path: Path) -> None:
+    # PKWARE APPNOTE 4.3.7: a zip starts with the local file header signature 0x04034b50,
+    # written little-endian as "PK\x03\x04"; Python's zipfile writes a real one here.
+    path = tmp_path / "book.xlsx"
+    with zipfile.ZipFile(path, "w") as archive:
+        archive.writestr("[Content_Types].xml", "<Types/>")
+    data = path.read_bytes()
+    assert data[:4] == (0x04034B50).to_bytes(4, "little")
+    check_office_archive(path, data, "spreadsheet programme")
+
+
+def test_check_office_archive_tells_a_non_archive_by_bad_zip(tmp_path: Path) -> None:
+    with pytest.raises(zipfile.BadZipFile):
+        check_office_archive(tmp_path / "book.xlsx", b"Respondent,Answer\n", "spreadsheet")

@@ -1,0 +1,61 @@
+"""The one entry point for interview files (extractor.ingest.reader): paths, suffixes, settings.
+
+Every file is built here in ``tmp_path``. Outside references are named where they are
+used (BCP 47 / RFC 5646 for language settings).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from extractor.errors import InputError
+from extractor.ingest import SUFFIXES, read_interviews
+from tests.ingest.interview_files import (
+    EN_1,
+    LANGS,
+    read,
+)
+
+
+def test_read_missing_path_names_it(tmp_path: Path) -> None:
+    with pytest.raises(InputError, match=r"nowhere\.csv' does not exist"):
+        read(tmp_path / "nowhere.csv")
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".txt", ".xlsx", ".docx"], ids=lambda s: s[1:])
+def test_read_empty_file_names_it(tmp_path: Path, suffix: str) -> None:
+    path = tmp_path / f"blank{suffix}"
+    path.write_bytes(b"")
+    with pytest.raises(InputError, match=rf"'blank\{suffix}' is empty"):
+        read(path)
+
+
+def test_read_unknown_suffix_lists_allowed(tmp_path: Path) -> None:
+    path = tmp_path / "survey.xls"
+    path.write_bytes(b"x")
+    with pytest.raises(InputError, match=r"'survey\.xls'.*allowed are \.xlsx, \.csv"):
+        read(path)
+    assert ".docx" in SUFFIXES
+
+
+def test_read_mapping_with_unknown_key_lists_allowed(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_text(f"Respondent,Answer\nR1,{EN_1}\n", encoding="utf-8")
+    with pytest.raises(InputError, match=r"unknown key 'text'; allowed keys are respondent"):
+        read(path, mapping={"text": "Answer"})
+
+
+def test_read_bad_default_language_names_setting(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_text(f"Respondent,Answer\nR1,{EN_1}\n", encoding="utf-8")
+    with pytest.raises(InputError, match=r"setting 'default language'.*'e-n'"):
+        read_interviews(path, default_lang="e-n")
+
+
+def test_read_short_answer_gets_default_language(tmp_path: Path) -> None:
+    path = tmp_path / "long.csv"
+    path.write_text("Respondent,Answer\nR1,Oui.\n", encoding="utf-8")
+    row = read_interviews(path, languages=LANGS, default_lang="FR").rows[0]
+    assert (row["lang"], row["lang_origin"]) == ("fr", "default")

@@ -1,0 +1,148 @@
+"""Spreadsheet reading (extractor.ingest.tables): sheets, row numbers, exact cell text.
+
+Every file is built here in ``tmp_path``. Outside references: RFC 4180 for CSV records
+and quoting, and Python's ``csv`` module and openpyxl as reference readers of the same
+files.
+"""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import openpyxl
+import pytest
+
+from extractor.errors import InputError
+from tests.ingest.interview_files import (
+    EN_1,
+    EN_2,
+    FR_1,
+    read,
+    write_xlsx,
+)
+
+
+def test_read_xlsx_reads_every_sheet_with_spreadsheet_row_numbers(tmp_path: Path) -> None:
+    path = write_xlsx(tmp_path / "survey.xlsx", {
+        "Kibali": [["Respondent ID", "Gender", "Answer"], ["007", "female", EN_1],
+                   [None, None, None], ["008", "male", EN_2]],
+        "Lowa": [["Code", "Sexe", "Réponse"], [12, "femme", FR_1]],
+    })  # fmt: skip
+    result = read(path)
+    assert (result.kind, result.layout, result.encoding) == ("xlsx", "long", None)
+    # Spreadsheet programmes number the header row 1 and keep counting blank rows.
+    assert [(r["sheet"], r["row"], r["respondent"]) for r in result.rows] == [
+        ("Kibali", 2, "007"), ("Kibali", 4, "008"), ("Lowa", 2, "12"),
+    ]  # fmt: skip
+    assert [r["lang"] for r in result.rows] == ["en", "en", "fr"]
+    assert result.rows[2]["metadata"] == {"sexe": "femme"}
+
+
+def test_read_xlsx_reads_only_named_sheet(tmp_path: Path) -> None:
+    path = write_xlsx(tmp_path / "survey.xlsx", {
+        "Kibali": [["Respondent", "Answer"], ["R1", EN_1]],
+        "Lowa": [["Respondent", "Answer"], ["R2", EN_2]],
+    })  # fmt: skip
+    rows = read(path, sheet="Lowa").rows
+    assert [(r["respondent"], r["sheet"]) for r in rows] == [("R2", "Lowa")]
+
+
+def test_read_xlsx_unknown_sheet_lists_sheets(tmp_path: Path) -> None:
+    path = write_xlsx(tmp_path / "survey.xlsx", {"Kibali": [["Respondent", "Answer"]]})
+    with pytest.raises(InputError, match=r"'survey\.xlsx' has no sheet 'Minde'.*'Kibali'"):
+        read(path, sheet="Minde")
+
+
+def test_read_xlsx_skips_unrecognised_sheet_with_warning(tmp_path: Path) -> None:
+    path = write_xlsx(tmp_path / "survey.xlsx", {
+        "Answers": [["Respondent", "Answer"], ["R1", EN_1]],
+        "Codebook": [["Code", "Meaning"], ["1", "yes"], ["2", "no"]],
+    })  # fmt: skip
+    result = read(path)
+    assert [r["respondent"] for r in result.rows] == ["R1"]
+    assert any("'Codebook'" in w for w in result.warnings)
+
+
+def test_read_csv_warns_about_cells_beyond_header(tmp_path: Path) -> None:
+    # RFC 4180 section 2, rule 4: each record should hold as many fields as the header.
+    path = tmp_path / "survey.csv"
+    path.write_text(f"Respondent,Answer\nR1,{EN_1}\nR2,Too small, and hard\n", encoding="utf-8")
+    result = read(path)
+    assert result.rows[1]["answer"] == "Too small"
+    assert any("row 3 has more cells than the header" in w for w in result.warnings)
+
+
+def test_read_csv_keeps_answer_text_exactly(tmp_path: Path) -> None:
+    # RFC 4180 section 2, rules 6-7: a field with commas, line breaks or double
+    # quotes is quoted, and an inner double quote is written twice.
+    answers = ['  It is "sweet", and\r\nit keeps.  ', "=1+1 looks like a formula", "\tTabbed"]
+    path = tmp_path / "survey.csv"
+    lines = ["Respondent,Answer"] + [
+        f'R{i},"{a.replace(chr(34), chr(34) * 2)}"' for i, a in enumerate(answers)
+    ]
+    path.write_bytes("\r\n".join(lines).encode("utf-8"))
+    assert [r["answer"] for r in read(path).rows] == answers
+
+
+def test_read_csv_skips_blank_and_missing_answers(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_text(f"Respondent,Answer\nR1,   \nR2,NaN\nR3,\nR4,{EN_1}\n", encoding="utf-8")
+    assert [(r["respondent"], r["row"]) for r in read(path).rows] == [("R4", 5)]
+
+
+def test_read_invalid_workbook_names_file(tmp_path: Path) -> None:
+    path = tmp_path / "broken.xlsx"
+    path.write_text("Respondent,Answer\nR1,hello\n", encoding="utf-8")
+    with pytest.raises(InputError, match=r"'broken\.xlsx' is not a valid \.xlsx workbook"):
+        read(path)
+
+
+def test_read_answer_without_respondent_names_row(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_text(f"Respondent,Answer\nR1,{EN_1}\n,{EN_2}\n", encoding="utf-8")
+    with pytest.raises(InputError, match=r"'survey\.csv', row 3: there is an answer but no "
+                                         r"respondent ID in column 'Respondent'"):  # fmt: skip
+        read(path)
+
+
+TRICKY_ANSWERS = [
+    'It is "sweet", and\nit keeps.',
+    "  Leading and trailing spaces  ",
+    "Semicolons; commas, and\ttabs",
+    "Ça résiste à la sécheresse – ñame también",
+]
+
+
+def test_read_csv_agrees_with_python_csv_reader(tmp_path: Path) -> None:
+    # Python's csv module writes and reads RFC 4180 records: the reader must give each
+    # answer exactly as csv.reader does.
+    path = tmp_path / "survey.csv"
+    with path.open("w", encoding="utf-8", newline="") as handle:
+        csv.writer(handle).writerows(
+            [["Respondent", "Answer"], *([f"R{i}", a] for i, a in enumerate(TRICKY_ANSWERS))]
+        )
+    with path.open(encoding="utf-8", newline="") as handle:
+        reference = [row[1] for row in csv.reader(handle)][1:]
+    rows = read(path).rows
+    assert [r["answer"] for r in rows] == reference == TRICKY_ANSWERS
+    # Rows are numbered by record, as a spreadsheet programme shows the CSV (header = 1),
+    # even where a quoted answer spans two lines of the file.
+    assert [r["row"] for r in rows] == [2, 3, 4, 5]
+
+
+def test_read_xlsx_agrees_with_openpyxl_cells(tmp_path: Path) -> None:
+    # openpyxl, the reference reader of the file it wrote: each answer is the cell's
+    # value on the row openpyxl numbers it.
+    path = write_xlsx(
+        tmp_path / "survey.xlsx",
+        {
+            "Kibali": [
+                ["Respondent", "Answer"],
+                *([f"R{i}", a] for i, a in enumerate(TRICKY_ANSWERS)),
+            ]
+        },
+    )
+    sheet = openpyxl.load_workbook(path)["Kibali"]
+    reference = [(row[1].row, row[1].value) for row in sheet.iter_rows(min_row=2)]
+    assert [(r["row"], r["answer"]) for r in read(path).rows] == reference
