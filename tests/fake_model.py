@@ -189,14 +189,27 @@ class FakeModel:
         return SentencePrediction(mentions, TagResult(spans, tokens, tags, marginals, prob))
 
 
-def fake_retrain(delay: float = 0.0, flip_every: int = 0) -> Callable[[TrainingData], FakeModel]:
+class FakeRetrain:
+    """A retrain callable that records how many labels it was given and returns a FakeModel.
+
+    Args:
+        delay: seconds to sleep per call, to imitate slow training.
+        flip_every: passed on to every FakeModel it returns.
+    """
+
+    def __init__(self, delay: float = 0.0, flip_every: int = 0) -> None:
+        self.delay = delay
+        self.flip_every = flip_every
+        self.seen: list[int] = []
+
+    def __call__(self, data: TrainingData) -> FakeModel:
+        """Record ``len(data)`` and return a new FakeModel, after the configured delay."""
+        self.seen.append(len(data))
+        if self.delay:
+            time.sleep(self.delay)
+        return FakeModel(flip_every=self.flip_every)
+
+
+def fake_retrain(delay: float = 0.0, flip_every: int = 0) -> FakeRetrain:
     """Return a retrain callable that records what it was given and returns a FakeModel."""
-
-    def retrain(data: TrainingData) -> FakeModel:
-        retrain.seen.append(len(data))  # type: ignore[attr-defined]
-        if delay:
-            time.sleep(delay)
-        return FakeModel(flip_every=flip_every)
-
-    retrain.seen = []  # type: ignore[attr-defined]
-    return retrain
+    return FakeRetrain(delay, flip_every)

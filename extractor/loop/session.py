@@ -60,7 +60,7 @@ class Item(NamedTuple):
     """
 
     sentence: Sentence
-    context: dict[str, Any]
+    context: store.SentenceContext
     suggestion: tuple[Span, ...]
     prediction: SentencePrediction | None
     origin: str

@@ -5,31 +5,24 @@ from __future__ import annotations
 import sqlite3
 import time
 from pathlib import Path
+from typing import Any
 
 import pytest
 
 from extractor.errors import InputError
-from extractor.loop.marking import ConceptEntry, find_phrase, rank_concepts
-from extractor.loop.samples import SessionSettings, ensure_samples, evaluation_size
-from extractor.loop.session import Session
+from extractor.loop.samples import SessionSettings, ensure_samples
+from extractor.loop.session import Item, Session
 from extractor.types import Span
 from extractor.workspace import store
 
 # The fake model sits beside the tests; this works whether or not tests/ is a package.
-from tests.fake_model import ALIASES, FakeModel, build_store, fake_retrain  # noqa: E402
+from tests.fake_model import FakeModel, build_store, fake_retrain  # noqa: E402
 
 NO_EVAL = SessionSettings(evaluation_fraction=0.0, evaluation_min=0, stop_set_size=8)
 
 
-@pytest.fixture
-def conn(tmp_path: Path) -> sqlite3.Connection:
-    c = build_store(tmp_path / "traits.sqlite")
-    yield c
-    c.close()
-
-
-def _session(conn: sqlite3.Connection, **kwargs) -> Session:
-    options = {
+def _session(conn: sqlite3.Connection, **kwargs: Any) -> Session:
+    options: dict[str, Any] = {
         "annotator": "Ama",
         "strategy": "least_confidence",
         "batch_size": 4,
@@ -39,77 +32,11 @@ def _session(conn: sqlite3.Connection, **kwargs) -> Session:
     return Session.open(conn, **options)
 
 
-# --------------------------------------------------------------------------- samples
-
-
-@pytest.mark.parametrize(
-    ("n", "fraction", "minimum", "expected"),
-    [(1000, 0.1, 30, 100), (200, 0.1, 30, 30), (20, 0.1, 30, 10), (0, 0.1, 30, 0)],
-    ids=["ten-percent", "at-least-thirty", "at-most-half", "empty"],
-)
-def test_evaluation_size_follows_fraction_minimum_and_cap(n, fraction, minimum, expected) -> None:
-    assert evaluation_size(n, fraction, minimum) == expected
-
-
-def test_ensure_samples_creates_fixed_samples_once(conn: sqlite3.Connection) -> None:
-    settings = SessionSettings(evaluation_fraction=0.1, evaluation_min=4, stop_set_size=6)
-    evaluation, stop = ensure_samples(conn, settings)
-    assert len(evaluation) == 4 and len(stop) == 6
-    assert not set(evaluation) & set(stop)
-    again = ensure_samples(
-        conn, SessionSettings(seed=99, evaluation_fraction=0.1, evaluation_min=4, stop_set_size=6)
-    )
-    assert again == (evaluation, stop)  # another seed does not redraw
-    assert store.sample_ids(conn, "evaluation") == evaluation
-
-
-def test_evaluation_sample_grows_with_new_interviews(conn: sqlite3.Connection) -> None:
-    settings = SessionSettings(evaluation_fraction=0.25, evaluation_min=2, stop_set_size=3)
-    evaluation, stop = ensure_samples(conn, settings)
-    n_before = len(store.sentences(conn))
-    assert len(evaluation) == evaluation_size(n_before, 0.25, 2)
-    labeled = [i for i in range(1, n_before + 1) if i not in evaluation and i not in stop][:2]
-    for sentence_id in labeled:
-        store.add_label(conn, sentence_id, [], "Kofi")
-    # A second interview file arrives: twice as many sentences.
-    more = [
-        {
-            "respondent": f"TS-{100 + k}",
-            "question": "Why?",
-            "answer": f"Answer {k} here.",
-            "lang": "en",
-            "lang_origin": "column",
-            "variety": None,
-            "metadata": {},
-            "sheet": None,
-            "row": k + 2,
-            "is_group": False,
-        }
-        for k in range(n_before)
-    ]
-    store.add_source(
-        conn,
-        path="second.csv",
-        sha256="second",
-        kind="csv",
-        options={},
-        rows=more,
-        sentence_offsets=[[(0, len(r["answer"]))] for r in more],
-    )
-    n_after = len(store.sentences(conn))
-    grown, stop_after = ensure_samples(conn, settings)
-    assert len(grown) == evaluation_size(n_after, 0.25, 2) > len(evaluation)
-    assert set(evaluation) <= set(grown)  # nobody leaves the sample
-    assert stop_after == stop
-    added = set(grown) - set(evaluation)
-    assert not added & set(stop) and not added & set(labeled)
-    assert ensure_samples(conn, settings) == (grown, stop)  # stable once grown
-
-
-def test_ensure_samples_is_seeded(tmp_path: Path) -> None:
-    settings = SessionSettings(evaluation_min=5, stop_set_size=5, seed=3)
-    first = ensure_samples(build_store(tmp_path / "a.sqlite"), settings)
-    assert first == ensure_samples(build_store(tmp_path / "b.sqlite"), settings)
+def _ask(session: Session) -> Item:
+    """Return the next item; the tests that call this know one is left."""
+    item = session.next()
+    assert item is not None
+    return item
 
 
 def test_session_never_asks_evaluation_sentences_by_default(conn: sqlite3.Connection) -> None:
@@ -148,7 +75,7 @@ def test_next_follows_strategy_order(conn: sqlite3.Connection) -> None:
     session = _session(conn)
     asked = []
     for _ in range(6):
-        item = session.next()
+        item = _ask(session)
         asked.append(item.sentence.id)
         session.submit(item.sentence.id, item.suggestion)
     assert asked == [1, 2, 3, 4, 5, 6]
@@ -162,7 +89,7 @@ def test_each_model_ranks_a_random_subpool(tmp_path: Path) -> None:
         session = _session(conn, settings=settings)  # least confidence, batches of 4
         asked = []
         for _ in range(4):
-            item = session.next()
+            item = _ask(session)
             asked.append(item.sentence.id)
             session.submit(item.sentence.id, item.suggestion)
         return asked
@@ -176,7 +103,7 @@ def test_each_model_ranks_a_random_subpool(tmp_path: Path) -> None:
 
 
 def test_next_carries_suggestion_and_context(conn: sqlite3.Connection) -> None:
-    item = _session(conn).next()
+    item = _ask(_session(conn))
     assert item.sentence.text == "Zamaro Red cooks fast on the fire."
     assert item.suggestion == (Span(11, 21, "BTX:0002", "liked"),)
     assert item.origin == "model"
@@ -223,18 +150,18 @@ def test_submit_rejects_bad_spans(conn: sqlite3.Connection, spans, message) -> N
 
 def test_skip_is_remembered_for_that_annotator_only(conn: sqlite3.Connection) -> None:
     _session(conn).skip(1)
-    assert _session(conn).next().sentence.id == 2
-    assert _session(conn, annotator="Kofi").next().sentence.id == 1
+    assert _ask(_session(conn)).sentence.id == 2
+    assert _ask(_session(conn, annotator="Kofi")).sentence.id == 1
 
 
 def test_resumed_session_never_asks_labeled_sentences(conn: sqlite3.Connection) -> None:
     first = _session(conn)
     for _ in range(3):
-        item = first.next()
+        item = _ask(first)
         first.submit(item.sentence.id, [])
     first.quit()
     second = _session(conn, annotator="Kofi")
-    assert second.next().sentence.id == 4
+    assert _ask(second).sentence.id == 4
     assert second.total_labels == 3
 
 
@@ -247,7 +174,7 @@ def test_undo_retracts_and_asks_the_sentence_again_with_the_old_answer(
     assert session.undo() == 2
     assert 2 not in store.current_labels(conn)
     assert [r["action"] for r in store.label_history(conn)] == ["label", "retract"]
-    item = session.next()
+    item = _ask(session)
     assert item.sentence.id == 2
     assert item.suggestion == tuple(spans) and item.origin == "previous"
     assert session.labeled_this_session == 0
@@ -289,7 +216,7 @@ def test_retrain_runs_in_background_without_blocking_submit(conn: sqlite3.Connec
     session = _session(conn, retrain=retrain, settings=settings)
     slowest = 0.0
     for _ in range(3):
-        item = session.next()
+        item = _ask(session)
         started = time.perf_counter()
         session.submit(item.sentence.id, [])
         session.next()
@@ -308,7 +235,7 @@ def test_retrain_receives_no_evaluation_labels(conn: sqlite3.Connection) -> None
         store.add_label(conn, sid, [], "Kofi")
     retrain = fake_retrain()
     session = _session(conn, retrain=retrain, settings=SessionSettings(retrain_every=1))
-    item = session.next()
+    item = _ask(session)
     session.submit(item.sentence.id, [])
     session.wait_for_model(timeout=10)
     assert retrain.seen == [1]
@@ -321,7 +248,7 @@ def test_kappa_tracks_change_between_successive_models(conn: sqlite3.Connection)
     changing = fake_retrain(flip_every=3)
     session = _session(conn, retrain=changing, settings=settings)
     for _ in range(3):
-        item = session.next()
+        item = _ask(session)
         session.submit(item.sentence.id, [])
         session.wait_for_model(timeout=10)
     # The first retrain changes the tags (kappa < 1); later models agree with it.
@@ -335,7 +262,7 @@ def test_failed_retrain_keeps_the_old_model(conn: sqlite3.Connection) -> None:
         raise RuntimeError("out of memory")
 
     session = _session(conn, retrain=broken, settings=SessionSettings(retrain_every=1))
-    item = session.next()
+    item = _ask(session)
     session.submit(item.sentence.id, [])
     session.wait_for_model(timeout=10)
     assert session.last_error == "out of memory"
@@ -349,77 +276,10 @@ def test_new_model_reranks_the_queue(conn: sqlite3.Connection) -> None:
         return FakeModel(path_prob=lambda s: 1.0 / (s.id + 1))
 
     session = _session(conn, retrain=retrain, settings=SessionSettings(retrain_every=1))
-    item = session.next()
+    item = _ask(session)
     session.submit(item.sentence.id, [])
     session.wait_for_model(timeout=10)
-    assert session.next().sentence.id == 20
-
-
-# --------------------------------------------------------------------------- marking helpers
-
-
-@pytest.mark.parametrize(
-    ("words", "expected"),
-    [
-        ("cooks fast", [(3, 13), (26, 36)]),
-        ("COOKS   Fast", [(3, 13), (26, 36)]),
-        ("bitter", [(41, 47)]),
-        ("fas", []),
-        ("", []),
-    ],
-    ids=["two-occurrences", "case-and-spaces", "one", "partial-word", "empty"],
-)
-def test_find_phrase_matches_whole_tokens(words: str, expected: list[tuple[int, int]]) -> None:
-    text = "It cooks fast. We said it cooks fast but bitter."
-    assert find_phrase(text, words, "en") == expected
-
-
-def test_find_phrase_ignores_accents() -> None:
-    assert find_phrase("Les grains sont très amers.", "tres amers", "fr") == [(16, 26)]
-
-
-ENTRIES = [ConceptEntry(c, t, lang, kind == "preferred") for c, t, lang, kind in ALIASES]
-
-
-@pytest.mark.parametrize(
-    ("query", "first"),
-    [
-        ("bitt", "BTX:0007"),
-        ("amer", "BTX:0007"),
-        ("rend", "BTX:0015"),
-        ("harv", "BTX:0015"),
-        ("ck tm", "BTX:0002"),
-        ("0020", "BTX:0020"),
-        ("gros", "BTX:0011"),
-    ],
-    ids=[
-        "label-prefix",
-        "french-label",
-        "french-yield",
-        "alias",
-        "letters-in-order",
-        "concept-id",
-        "french-alias",
-    ],
-)
-def test_rank_concepts_finds_any_name_in_any_language(query: str, first: str) -> None:
-    assert rank_concepts(query, ENTRIES)[0].concept == first
-
-
-def test_rank_concepts_lists_each_concept_once_with_its_label() -> None:
-    found = rank_concepts("t", ENTRIES)
-    assert len({m.concept for m in found}) == len(found)
-    harvest = rank_concepts("harvest", ENTRIES)[0]
-    assert (harvest.label, harvest.matched) == ("yield", "harvest")
-
-
-def test_rank_concepts_shows_label_in_sentence_language() -> None:
-    assert rank_concepts("bitter", ENTRIES, lang="fr")[0].label == "amertume"
-
-
-def test_rank_concepts_returns_nothing_for_blank_or_unknown() -> None:
-    assert rank_concepts("  ", ENTRIES) == []
-    assert rank_concepts("zzqx", ENTRIES) == []
+    assert _ask(session).sentence.id == 20
 
 
 @pytest.mark.parametrize("strategy", ["default", "least_confidence"], ids=["diverse", "plain"])

@@ -33,7 +33,7 @@ FILLERS = ["At Lomara market", "My neighbour Teodin says", "Last season", "In Ve
 def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any]]:
     """Invented sentences "<filler> we like the <trait> of Zanobi." with the trait marked."""
     rng = random.Random(seed)
-    out = []
+    out: list[dict[str, Any]] = []
     for i in range(n):
         filler = rng.choice(FILLERS)
         if i % 4 == 3:
@@ -49,7 +49,7 @@ def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any
         k = rng.randrange(len(TRAITS))
         text = f"{filler} we like the {TRAITS[k]} of Zanobi."
         start = text.index(TRAITS[k])
-        span = {"start": start, "end": start + len(TRAITS[k])}
+        span: dict[str, Any] = {"start": start, "end": start + len(TRAITS[k])}
         if concepts:
             span |= {"concept": f"ZZ:{k}", "stance": "liked"}
         out.append({"text": text, "lang": "en", "spans": [span], "respondent": f"R{i % 7}"})

@@ -109,8 +109,8 @@ def test_link_stance_agrees_with_modal_classifier_uncertainty(reduce: str) -> No
         marginals=HAND.marginals,
         path_prob=0.5,
         n_tokens=2,
-        link_dists=tuple(dict(enumerate(row)) for row in links),
-        stance_dists=tuple(dict(enumerate(row)) for row in stances),
+        link_dists=tuple({str(k): float(p) for k, p in enumerate(row)} for row in links),
+        stance_dists=tuple({str(k): float(p) for k, p in enumerate(row)} for row in stances),
     )
     expected = np.concatenate(
         [
@@ -130,7 +130,7 @@ def test_link_stance_rejects_unknown_reduction() -> None:
 def test_norm_logprob_does_not_favour_long_sentences_like_least_confidence() -> None:
     # Same per-token confidence 0.9: least confidence grows with length, norm-logprob not.
     short = PoolItem(HAND.marginals, 0.9**2, 2)
-    long = PoolItem(HAND.marginals * 10, 0.9**20, 20)
+    long = PoolItem(tuple(HAND.marginals) * 10, 0.9**20, 20)
     lc = least_confidence([short, long])
     assert lc[1] > lc[0]
     assert norm_logprob([short, long]) == pytest.approx([-math.log(0.9)] * 2)
