@@ -1,10 +1,12 @@
-"""Store: schema and migrations, transactions, append-only labels."""
+"""Store: schema and migrations, transactions, append-only labels, the rows it hands out."""
 
 from __future__ import annotations
 
+import json
 import sqlite3
 from collections.abc import Iterator
 from pathlib import Path
+from typing import Any
 
 import pytest
 
@@ -165,3 +167,114 @@ def test_counts_group_language_tags_by_primary_language(conn: sqlite3.Connection
     found = store.counts(conn)
     assert found["languages"] == {"es": 2}
     assert found["language_tags"] == {"es-419": 1, "es": 1}
+
+
+# The rows the store hands out are checked against the tables read directly with the
+# standard library's sqlite3 and json modules, independently of the store's own queries.
+
+
+def _raw(conn: sqlite3.Connection, query: str) -> list[tuple]:
+    return [tuple(r) for r in conn.execute(query).fetchall()]
+
+
+def test_sentence_context_gives_the_previous_sentence_of_the_answer(
+    conn: sqlite3.Connection,
+) -> None:
+    _add(conn)
+    second = store.sentences(conn)[1]
+    context = store.sentence_context(conn, second.id)
+    [(text, start, end)] = _raw(
+        conn,
+        "SELECT a.text, s.start, s.end FROM sentences s JOIN answers a ON a.id = s.answer_id "
+        f"WHERE s.answer_id = {second.answer_id} AND s.position = 0",
+    )
+    assert context.previous == text[start:end] == "It cooks fast."
+    assert (context.respondent, context.question, context.metadata) == (
+        "R1",
+        "Why?",
+        {"gender": "woman"},
+    )
+    assert store.sentence_context(conn, store.sentences(conn)[0].id).previous is None
+
+
+def test_sentence_context_refuses_an_unknown_sentence(conn: sqlite3.Connection) -> None:
+    with pytest.raises(WorkspaceError, match="Sentence 99 is not in this workspace"):
+        store.sentence_context(conn, 99)
+
+
+def test_respondent_metadata_is_merged_not_overwritten(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    row = dict(_rows()[0], answer="Soft skin.", metadata={"gender": "man", "district": "Ombala"})
+    store.add_source(
+        conn,
+        path="b.csv",
+        sha256="b",
+        kind="csv",
+        options={},
+        rows=[row],
+        sentence_offsets=[[(0, 10)]],
+    )
+    [(metadata,)] = _raw(conn, "SELECT metadata FROM respondents WHERE external_id = 'R1'")
+    assert json.loads(metadata) == {"gender": "woman", "district": "Ombala"}
+
+
+def test_model_versions_decode_meta_and_merge_metrics(conn: sqlite3.Connection) -> None:
+    store.add_model(conn, "v001", "models/v001", {"metrics": {"cv": 0.5}, "counts": {"gold": 3}})
+    store.set_model_metrics(conn, "v001", {"evaluation": 0.6})
+    latest = store.latest_model(conn)
+    [(version, path, meta, metrics)] = _raw(conn, "SELECT version, path, meta, metrics FROM models")
+    assert latest == store.models(conn)[-1]
+    assert latest is not None
+    assert (latest.version, latest.path) == (version, path) == ("v001", "models/v001")
+    assert latest.meta == json.loads(meta)
+    assert latest.metrics == json.loads(metrics) == {"cv": 0.5, "evaluation": 0.6}
+
+
+def test_set_model_metrics_refuses_an_unknown_version(conn: sqlite3.Connection) -> None:
+    with pytest.raises(WorkspaceError, match="'v9' is not recorded"):
+        store.set_model_metrics(conn, "v9", {"cv": 0.1})
+
+
+def test_predictions_round_trip_per_sentence(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    store.add_model(conn, "v001", "models/v001", {})
+    ids = [s.id for s in store.sentences(conn)]
+    mentions = [{"start": 3, "end": 13, "concept": "BTX:0001"}]
+    rows: list[dict[str, Any]] = [
+        {"sentence_id": ids[0], "path_prob": 0.8, "mentions": mentions},
+        {"sentence_id": ids[1], "path_prob": None},
+    ]
+    assert store.store_predictions(conn, "v001", rows) == 2
+    found = store.predictions(conn, "v001")
+    raw_rows = _raw(conn, "SELECT sentence_id, path_prob, spans FROM predictions")
+    raw = {sid: (p, json.loads(s)) for sid, p, s in raw_rows}
+    assert {sid: tuple(p) for sid, p in found.items()} == raw
+    assert found[ids[0]] == store.StoredPrediction(0.8, mentions)
+    assert store.count_predictions(conn, "v001") == 2
+
+
+def test_concept_list_versions_name_the_file_hash_and_sizes(conn: sqlite3.Connection) -> None:
+    concepts = [{"id": "BTX:0001", "parent": None, "definition": "Time to cook."}]
+    aliases = [
+        {"concept_id": "BTX:0001", "text": "cooking time", "lang": "en", "kind": "preferred"},
+        {"concept_id": "BTX:0001", "text": "temps de cuisson", "lang": "fr", "kind": "preferred"},
+    ]
+    store.replace_concept_list(
+        conn, kind="trait", path="c.csv", sha256="f00", concepts=concepts, aliases=aliases
+    )
+    current = store.current_concept_version(conn)
+    assert current is not None
+    assert [tuple(current)] == _raw(
+        conn,
+        "SELECT id, kind, path, sha256, imported_at, n_concepts, n_aliases FROM concept_versions",
+    )
+    assert (current.path, current.sha256, current.n_concepts, current.n_aliases) == (
+        "c.csv",
+        "f00",
+        1,
+        2,
+    )
+    assert store.current_concept_version(conn, "variety") is None
+    [concept] = store.concepts(conn)
+    assert concept.labels == {"en": "cooking time", "fr": "temps de cuisson"}
+    assert concept.definition == "Time to cook."
