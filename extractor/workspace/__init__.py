@@ -1,1 +1,1 @@
-"""workspace."""
+"""The workspace: its folder (:mod:`.folder`), typed settings (:mod:`.settings`), the store (all SQL)."""

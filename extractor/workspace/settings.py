@@ -16,12 +16,14 @@ import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
 
 from extractor.errors import WorkspaceError
 
+T = TypeVar("T")
 
-def _setting(default: Any, doc: str = "", *, fraction: bool = False) -> Any:
+
+def _setting(default: T, doc: str = "", *, fraction: bool = False) -> T:
     """Return a dataclass field with its template comment and whether it is a share."""
     return field(default=default, metadata={"doc": doc, "fraction": fraction})
 
