@@ -1,1 +1,1 @@
-"""The workspace: its folder (:mod:`.folder`), typed settings (:mod:`.settings`), the store (all SQL)."""
+"""The workspace: its folder, its typed settings and its store (where all SQL lives)."""
