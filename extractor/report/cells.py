@@ -6,17 +6,16 @@ spreadsheet must show them as typed, not evaluate them (OWASP, "CSV Injection").
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterable, Sequence
-from datetime import datetime
 from typing import Any
 
-import numpy as np
 import pandas as pd
 from openpyxl.cell.cell import ERROR_CODES, ILLEGAL_CHARACTERS_RE, Cell
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
+
+from extractor.report.inputs import plain_value
 
 RISKY_FIRST = ("=", "+", "-", "@", "\t", "\r")
 EXCEL_MAX_CHARS = 32767
@@ -44,23 +43,6 @@ PROBABILITY_COLUMNS = {
     "Tagger confidence",
     "Statistic",
 }
-
-
-def _plain(value: Any) -> Any:
-    """Return a value openpyxl can store: Python scalars, None for missing."""
-    if value is None:
-        return None
-    if isinstance(value, float | np.floating):
-        return None if math.isnan(value) else float(value)
-    if isinstance(value, bool | np.bool_):
-        return bool(value)
-    if isinstance(value, int | np.integer):
-        return int(value)
-    if isinstance(value, str | datetime):
-        return value
-    if np.ndim(value) == 0 and pd.isna(value):
-        return None
-    return str(value)
 
 
 def safe_text(value: str) -> str:
@@ -92,7 +74,7 @@ def append_row(ws: Worksheet, values: Iterable[Any]) -> None:
     ``ws.append`` is several times faster than cell-by-cell writing; only the
     strings openpyxl would misread are fixed afterwards.
     """
-    plain = [_plain(v) for v in values]
+    plain = [plain_value(v) for v in values]
     plain = [safe_text(v) if isinstance(v, str) else v for v in plain]
     ws.append(plain)
     row = ws._current_row
@@ -148,7 +130,7 @@ def write_table(
         ws.auto_filter.ref = f"A{header}:{get_column_letter(len(columns))}{last_row}"
         ws.freeze_panes = ws.cell(row=header + 1, column=min(freeze_columns, len(columns)) + 1)
     for j, name in enumerate(columns, start=1):
-        sample = [len(str(v)) for v in values[:200, j - 1] if _plain(v) is not None]
+        sample = [len(str(v)) for v in values[:200, j - 1] if plain_value(v) is not None]
         width = max([len(name), *sample]) + 2
         limit = 60 if name in WRAPPED_COLUMNS else 40
         ws.column_dimensions[get_column_letter(j)].width = min(limit, max(8, width))

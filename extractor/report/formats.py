@@ -17,16 +17,15 @@ from __future__ import annotations
 
 import csv
 import json
-import math
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
-import numpy as np
 import pandas as pd
 
 from extractor.errors import InputError
 from extractor.nlp.text import tokenize
+from extractor.report.inputs import plain_value
 from extractor.types import Sentence, Span
 
 ANNO_CONTEXT = "http://www.w3.org/ns/anno.jsonld"
@@ -34,19 +33,6 @@ QUOTE_CONTEXT_CHARS = 32
 """Characters of prefix and suffix kept in a TextQuoteSelector: enough to tell repeats apart."""
 EMPTY = "_"
 """CoNLL placeholder for an empty column."""
-
-
-def _json_value(value: Any) -> Any:
-    """Return a JSON-friendly scalar: None for missing, Python ints and floats."""
-    if value is None:
-        return None
-    if isinstance(value, np.generic):
-        value = value.item()
-    if isinstance(value, float) and math.isnan(value):
-        return None
-    if not isinstance(value, str | int | float | bool) and pd.isna(value):
-        return None
-    return value
 
 
 def _open_for_writing(path: Path | str, newline: str | None = None) -> Any:
@@ -89,7 +75,7 @@ def write_mentions_jsonl(path: Path | str, mentions: pd.DataFrame) -> int:
     columns = [str(c) for c in mentions.columns]
     with _open_for_writing(path) as fh:
         for record in mentions.itertuples(index=False, name=None):
-            obj = {c: _json_value(v) for c, v in zip(columns, record, strict=True)}
+            obj = {c: plain_value(v) for c, v in zip(columns, record, strict=True)}
             fh.write(json.dumps(obj, ensure_ascii=False) + "\n")
     return len(mentions)
 
@@ -185,7 +171,7 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
             "format": "text/plain",
         }
     ]
-    stance = _json_value(row.get("stance"))
+    stance = plain_value(row.get("stance"))
     if stance:
         body.append(
             {
@@ -203,7 +189,7 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
             "suffix": sentence[end : end + QUOTE_CONTEXT_CHARS],
         }
     ]
-    a_start, a_end = _json_value(row.get("answer_start")), _json_value(row.get("answer_end"))
+    a_start, a_end = plain_value(row.get("answer_start")), plain_value(row.get("answer_end"))
     if a_start is not None and a_end is not None:
         selectors.append({"type": "TextPositionSelector", "start": int(a_start), "end": int(a_end)})
     annotation: dict[str, Any] = {

@@ -25,8 +25,12 @@ Input frames
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable, Mapping
+from datetime import datetime
+from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from extractor.errors import InputError
@@ -59,6 +63,29 @@ OPTIONAL_MENTION_COLUMNS = (
     "annotator",
 )
 SOURCES = ("person", "predicted", "dictionary")
+
+
+def plain_value(value: Any) -> Any:
+    """Return a frame value as a plain Python scalar for a file: None for anything missing.
+
+    NumPy numbers become ``int``, ``float`` or ``bool``, NaN and pandas' missing markers
+    None; strings and datetimes stay; anything else becomes its text.
+    """
+    if value is None:
+        return None
+    if isinstance(value, float | np.floating):
+        return None if math.isnan(value) else float(value)
+    if isinstance(value, bool | np.bool_):
+        return bool(value)
+    if isinstance(value, int | np.integer):
+        return int(value)
+    if isinstance(value, str):
+        return value
+    if np.ndim(value) == 0 and pd.isna(value):  # pd.NA, and NaT (a datetime)
+        return None
+    if isinstance(value, datetime):
+        return value
+    return str(value)
 
 
 def check_columns(frame: pd.DataFrame, required: Iterable[str], what: str) -> None:

@@ -6,6 +6,10 @@ guide's (a person's label replaces the models' output for its sentence).
 
 from __future__ import annotations
 
+import json
+from typing import Any
+
+import numpy as np
 import pandas as pd
 import pytest
 
@@ -15,6 +19,7 @@ from extractor.report.inputs import (
     complete_respondents,
     filter_confidence,
     merge_gold,
+    plain_value,
     prepare,
 )
 from tests.report.study import S1, S2, S3, mention
@@ -82,3 +87,24 @@ def test_complete_respondents_adds_respondents_only_in_mentions() -> None:
 def test_complete_respondents_rejects_duplicates() -> None:
     with pytest.raises(InputError, match="respondent 'W1' more than once"):
         complete_respondents(pd.DataFrame({"respondent": ["W1", "W1"]}), pd.DataFrame())
+
+
+@pytest.mark.parametrize(
+    ("value", "expected"),
+    [
+        (np.int64(7), 7),
+        (np.float64(0.25), 0.25),
+        (np.bool_(True), True),
+        (float("nan"), None),
+        (pd.NA, None),
+        (pd.NaT, None),
+        (None, None),
+        ("=SUM(A1)", "=SUM(A1)"),
+    ],
+    ids=["numpy-int", "numpy-float", "numpy-bool", "nan", "pd-NA", "NaT", "none", "text"],
+)
+def test_plain_value_gives_json_scalars(value: Any, expected: Any) -> None:
+    got = plain_value(value)
+    assert got == expected and type(got) is type(expected)
+    # JSON (RFC 8259 section 6) has no NaN: a missing value must be written as null.
+    assert json.loads(json.dumps(got, allow_nan=False)) == expected
