@@ -19,7 +19,7 @@ import csv
 import json
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from pathlib import Path
-from typing import Any
+from typing import Any, TextIO
 
 import pandas as pd
 
@@ -35,7 +35,7 @@ EMPTY = "_"
 """CoNLL placeholder for an empty column."""
 
 
-def _open_for_writing(path: Path | str, newline: str | None = None) -> Any:
+def _open_for_writing(path: Path | str, newline: str | None = None) -> TextIO:
     path = Path(path)
     if not path.parent.is_dir():
         raise InputError(f"The folder {str(path.parent)!r} for {path.name!r} does not exist.")
