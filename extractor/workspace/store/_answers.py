@@ -58,38 +58,51 @@ def add_source(
         for row, offsets in zip(rows, sentence_offsets, strict=True):
             respondent_id, created = _upsert_respondent(conn, row, stamp)
             counts["respondents"] += created
-            fingerprint = answer_fingerprint(row["respondent"], row.get("question"), row["answer"])
-            cur = conn.execute(
-                "INSERT OR IGNORE INTO answers (respondent_id, source_id, question, text, lang, "
-                "lang_origin, variety, speaker, sheet, row, fingerprint) "
-                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                (
-                    respondent_id,
-                    source_id,
-                    row.get("question"),
-                    row["answer"],
-                    row["lang"],
-                    row["lang_origin"],
-                    row.get("variety"),
-                    row.get("speaker"),
-                    row.get("sheet"),
-                    row.get("row"),
-                    fingerprint,
-                ),
-            )
-            if cur.rowcount == 0:
-                continue
-            answer_id = cur.lastrowid
-            counts["answers"] += 1
-            conn.executemany(
-                "INSERT INTO sentences (answer_id, position, start, end) VALUES (?, ?, ?, ?)",
-                [(answer_id, i, s, e) for i, (s, e) in enumerate(offsets)],
-            )
-            counts["sentences"] += len(offsets)
+            if _add_answer(conn, row, offsets, respondent_id=respondent_id, source_id=source_id):
+                counts["answers"] += 1
+                counts["sentences"] += len(offsets)
         conn.execute(
             "UPDATE sources SET n_new_answers = ? WHERE id = ?", (counts["answers"], source_id)
         )
     return counts
+
+
+def _add_answer(
+    conn: sqlite3.Connection,
+    row: dict[str, Any],
+    offsets: Sequence[tuple[int, int]],
+    *,
+    respondent_id: int,
+    source_id: int | None,
+) -> bool:
+    """Store an answer and its sentences; return False when the answer was already stored."""
+    fingerprint = answer_fingerprint(row["respondent"], row.get("question"), row["answer"])
+    cur = conn.execute(
+        "INSERT OR IGNORE INTO answers (respondent_id, source_id, question, text, lang, "
+        "lang_origin, variety, speaker, sheet, row, fingerprint) "
+        "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+        (
+            respondent_id,
+            source_id,
+            row.get("question"),
+            row["answer"],
+            row["lang"],
+            row["lang_origin"],
+            row.get("variety"),
+            row.get("speaker"),
+            row.get("sheet"),
+            row.get("row"),
+            fingerprint,
+        ),
+    )
+    if cur.rowcount == 0:
+        return False
+    answer_id = cur.lastrowid
+    conn.executemany(
+        "INSERT INTO sentences (answer_id, position, start, end) VALUES (?, ?, ?, ?)",
+        [(answer_id, i, s, e) for i, (s, e) in enumerate(offsets)],
+    )
+    return True
 
 
 def _upsert_respondent(
