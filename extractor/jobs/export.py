@@ -17,12 +17,12 @@ from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
 from extractor.report.inputs import prepare
 from extractor.report.results import (
-    about,
     concept_frame,
     group_columns,
     mention_frame,
     privacy_options,
     respondent_frame,
+    run_facts,
 )
 from extractor.report.workbook import write_workbook
 from extractor.workspace.folder import Workspace
@@ -73,7 +73,7 @@ def export_workbook(
         mentions,
         respondents,
         concept_frame(ws),
-        about(ws, version),
+        run_facts(ws, version),
         group_by=group_columns(ws, respondents, group_by),
         min_confidence=min_confidence_floor(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,

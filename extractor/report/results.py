@@ -176,7 +176,7 @@ def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOpti
     )
 
 
-def about(ws: Workspace, version: str | None) -> RunFacts:
+def run_facts(ws: Workspace, version: str | None) -> RunFacts:
     """Return the facts shown on the workbook's About sheet."""
     model = next((m for m in store.models(ws.conn) if m.version == version), None)
     concepts = store.current_concept_version(ws.conn)

@@ -17,7 +17,7 @@ import pandas as pd
 import pytest
 
 from extractor.report.about import RunFacts
-from extractor.report.results import about, concept_frame, mention_frame, respondent_frame
+from extractor.report.results import concept_frame, mention_frame, respondent_frame, run_facts
 from extractor.workspace.folder import Workspace, init_workspace
 from tests.report.study import STORE_ANSWERS, VERSION, build_workspace
 
@@ -100,8 +100,8 @@ def test_mention_frame_empty_workspace_has_no_rows(tmp_path: Path) -> None:
         assert mention_frame(empty, None).empty
 
 
-def test_about_reads_the_model_and_lists(ws: Workspace) -> None:
-    facts = about(ws, VERSION)
+def test_run_facts_read_the_model_and_lists(ws: Workspace) -> None:
+    facts = run_facts(ws, VERSION)
     assert isinstance(facts, RunFacts)
     assert facts.model_version == VERSION
     assert facts.quality_cross_validated is None  # recorded metrics hold no such figure
@@ -111,6 +111,6 @@ def test_about_reads_the_model_and_lists(ws: Workspace) -> None:
     assert datetime.fromisoformat(facts.exported or "").utcoffset() == timedelta(0)
 
 
-def test_about_without_a_model(ws: Workspace) -> None:
-    facts = about(ws, None)
+def test_run_facts_without_a_model(ws: Workspace) -> None:
+    facts = run_facts(ws, None)
     assert (facts.model_version, facts.model_trained) == ("none (labels only)", None)
