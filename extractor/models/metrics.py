@@ -31,7 +31,7 @@ from dataclasses import dataclass, fields
 from typing import Any, Protocol
 
 from extractor.errors import InputError
-from extractor.nlp.spans import prf, span_prf
+from extractor.nlp.spans import PRF, prf, span_prf
 from extractor.types import STANCES, Sentence, Span
 
 Gold = Sequence[tuple[Sentence, Sequence[Span]]]
@@ -56,48 +56,15 @@ class _MentionLike(Protocol):
 
 
 @dataclass(frozen=True)
-class PRF:
-    """Precision, recall and F1 with the counts they come from."""
-
-    precision: float
-    recall: float
-    f1: float
-    tp: int
-    fp: int
-    fn: int
-
-    @staticmethod
-    def _fields(counts: Mapping[str, float]) -> dict[str, Any]:
-        return {
-            "precision": float(counts["precision"]),
-            "recall": float(counts["recall"]),
-            "f1": float(counts["f1"]),
-            "tp": int(counts["tp"]),
-            "fp": int(counts["fp"]),
-            "fn": int(counts["fn"]),
-        }
-
-    @classmethod
-    def of(cls, counts: Mapping[str, float]) -> PRF:
-        """Return the record of a :func:`~extractor.nlp.spans.prf` result."""
-        return cls(**cls._fields(counts))
-
-    @property
-    def gold(self) -> int:
-        """How many gold items there were (true positives and misses)."""
-        return self.tp + self.fn
-
-
-@dataclass(frozen=True)
 class SupportedPRF(PRF):
     """:class:`PRF` of one class or concept, with its number of gold items."""
 
     support: int
 
     @classmethod
-    def with_support(cls, counts: Mapping[str, float], support: int) -> SupportedPRF:
-        """Return the record of a :func:`~extractor.nlp.spans.prf` result and a support."""
-        return cls(**cls._fields(counts), support=support)
+    def with_support(cls, counts: PRF, support: int) -> SupportedPRF:
+        """Return a :func:`~extractor.nlp.spans.prf` result with a support."""
+        return cls(**vars(counts), support=support)
 
     @property
     def gold(self) -> int:
@@ -228,7 +195,7 @@ def respondent_scores(
 
     gold_set, pred_set = triples(gold), triples(pred)
     hits = len(gold_set & pred_set)
-    counts = PRF.of(prf(hits, len(pred_set) - hits, len(gold_set) - hits))
+    counts = prf(hits, len(pred_set) - hits, len(gold_set) - hits)
     return RespondentScores(
         **vars(counts),
         with_stance=with_stance,
@@ -263,8 +230,8 @@ def _group(
     return GroupScores(
         n_sentences=len(gold),
         n_gold_spans=sum(len(g) for g in gold),
-        span=PRF.of(span_prf(gold, spans)),
-        span_concept=PRF.of(span_prf(gold, spans, with_concept=True)) if has_concepts else None,
+        span=span_prf(gold, spans),
+        span_concept=span_prf(gold, spans, with_concept=True) if has_concepts else None,
         stance=stance_scores(_stance_pairs(gold, pred)) if predicts_stance else None,
         respondent=respondent_scores(sentences, gold, pred),
     )

@@ -10,11 +10,29 @@ Scores count a predicted span as correct only when both boundaries match exactly
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 from extractor.errors import InputError
 from extractor.types import TAGS, Span
 
 BEGIN, INSIDE, OUTSIDE = "B-TRAIT", "I-TRAIT", "O"
+
+
+@dataclass(frozen=True)
+class PRF:
+    """Precision, recall and F1 with the counts they come from."""
+
+    precision: float
+    recall: float
+    f1: float
+    tp: int
+    fp: int
+    fn: int
+
+    @property
+    def gold(self) -> int:
+        """How many gold items there were (true positives and misses)."""
+        return self.tp + self.fn
 
 
 def spans_to_iob(token_offsets: Sequence[tuple[int, int]], spans: Sequence[Span]) -> list[str]:
@@ -133,7 +151,7 @@ def span_prf(
     pred: Sequence[Sequence[Span]],
     *,
     with_concept: bool = False,
-) -> dict[str, float]:
+) -> PRF:
     """Return strict micro precision, recall and F1 of predicted spans against gold spans.
 
     A predicted span is a true positive when a gold span of the same sentence has the
@@ -146,7 +164,7 @@ def span_prf(
         with_concept: Also require the concept IDs to be equal.
 
     Returns:
-        ``{"precision", "recall", "f1", "tp", "fp", "fn"}``.
+        The scores with the true positive, false positive and false negative counts.
 
     Raises:
         InputError: When ``gold`` and ``pred`` cover a different number of sentences.
@@ -167,12 +185,12 @@ def span_prf(
     return prf(tp, fp, fn)
 
 
-def prf(tp: int, fp: int, fn: int) -> dict[str, float]:
+def prf(tp: int, fp: int, fn: int) -> PRF:
     """Return precision, recall and F1 from counts; 0 where undefined, as in seqeval."""
     precision = tp / (tp + fp) if tp + fp else 0.0
     recall = tp / (tp + fn) if tp + fn else 0.0
     f1 = 2 * precision * recall / (precision + recall) if precision + recall else 0.0
-    return {"precision": precision, "recall": recall, "f1": f1, "tp": tp, "fp": fp, "fn": fn}
+    return PRF(precision=precision, recall=recall, f1=f1, tp=tp, fp=fp, fn=fn)
 
 
 def _key(span: Span, with_concept: bool) -> tuple[int, int, str | None]:

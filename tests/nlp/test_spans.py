@@ -128,21 +128,21 @@ def test_span_prf_matches_seqeval_strict(
     pred = [iob_to_spans(offsets_of(len(t)), t) for t in pred_tags]
     scores = span_prf(gold, pred)
     kw = {"mode": "strict", "scheme": IOB2, "zero_division": 0}
-    assert scores["precision"] == pytest.approx(precision_score(gold_tags, pred_tags, **kw))
-    assert scores["recall"] == pytest.approx(recall_score(gold_tags, pred_tags, **kw))
-    assert scores["f1"] == pytest.approx(f1_score(gold_tags, pred_tags, **kw))
+    assert scores.precision == pytest.approx(precision_score(gold_tags, pred_tags, **kw))
+    assert scores.recall == pytest.approx(recall_score(gold_tags, pred_tags, **kw))
+    assert scores.f1 == pytest.approx(f1_score(gold_tags, pred_tags, **kw))
 
 
 def test_span_prf_counts_hits_and_misses() -> None:
     scores = span_prf([[Span(0, 4), Span(6, 9)]], [[Span(0, 4), Span(5, 9)]])
-    assert (scores["tp"], scores["fp"], scores["fn"]) == (1, 1, 1)
+    assert (scores.tp, scores.fp, scores.fn) == (1, 1, 1)
 
 
 def test_span_prf_with_concept_requires_same_concept() -> None:
     gold = [[Span(0, 4, "TR:1")]]
     pred = [[Span(0, 4, "TR:2")]]
-    assert span_prf(gold, pred)["f1"] == 1.0
-    assert span_prf(gold, pred, with_concept=True)["f1"] == 0.0
+    assert span_prf(gold, pred).f1 == 1.0
+    assert span_prf(gold, pred, with_concept=True).f1 == 0.0
 
 
 def test_span_prf_rejects_unaligned_inputs() -> None:
