@@ -8,8 +8,15 @@ from pathlib import Path
 from typing import Any
 
 from extractor.errors import TraitsError
-from extractor.ingest.intake import add_files, import_concepts, interview_files
+from extractor.ingest.intake import (
+    ConceptImport,
+    FileReport,
+    add_files,
+    import_concepts,
+    interview_files,
+)
 from extractor.jobs.export import ExportResult, export_workbook
+from extractor.jobs.status import WorkspaceCounts
 from extractor.jobs.tag import TagReport, tag
 from extractor.jobs.train import TrainReport, train
 from extractor.workspace import store
@@ -45,15 +52,15 @@ class TrainTagReport:
 class RunReport:
     """Everything `traits run` did, for the command line to print."""
 
-    files: Sequence[Any]
-    concepts: Any
-    varieties: Any
+    files: Sequence[FileReport]
+    concepts: ConceptImport | None
+    varieties: ConceptImport | None
     new: NewSince
     train: TrainReport
     tag: TagReport
     previous_version: VersionQuality | None
     export: ExportResult
-    counts: Mapping[str, Any]
+    counts: WorkspaceCounts
 
 
 def train_and_tag(ws: Workspace, *, cross_validate: bool = True) -> TrainTagReport:
@@ -93,7 +100,7 @@ def run(ws: Workspace) -> RunReport:
         if previous is None
         else VersionQuality(previous.version, previous.metrics),
         export=export_workbook(ws, done.train.version),
-        counts=after,
+        counts=WorkspaceCounts(**after),
     )
 
 
