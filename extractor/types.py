@@ -29,6 +29,26 @@ class Sentence(NamedTuple):
     offset: int = 0
 
 
+class ConceptEntry(NamedTuple):
+    """One concept of a validated concept (or variety) list."""
+
+    id: str
+    parent: str | None = None
+    definition: str | None = None
+
+
+class AliasEntry(NamedTuple):
+    """One written form of a concept in one language.
+
+    ``kind`` is the SKOS label kind: ``preferred``, ``alternative`` or ``hidden``.
+    """
+
+    concept_id: str
+    text: str
+    lang: str
+    kind: str
+
+
 class Span(NamedTuple):
     """A trait mention: ``[start, end)`` in the sentence text, with optional concept and stance."""
 

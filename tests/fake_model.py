@@ -17,15 +17,15 @@ from pathlib import Path
 from extractor.loop.predictor import TrainingData
 from extractor.models.bundle import Mention, SentencePrediction
 from extractor.models.tagger import TagResult
-from extractor.types import Sentence, Span
+from extractor.types import AliasEntry, ConceptEntry, Sentence, Span
 from extractor.workspace import store
 
 CONCEPTS = [
-    {"id": "BTX:0002", "parent": None, "definition": "Time on the fire until soft."},
-    {"id": "BTX:0007", "parent": None, "definition": "Bitter taste of grain or leaves."},
-    {"id": "BTX:0011", "parent": None, "definition": "Size of the dry grain."},
-    {"id": "BTX:0015", "parent": None, "definition": "Amount harvested per plot."},
-    {"id": "BTX:0020", "parent": None, "definition": "Survives dry spells."},
+    ConceptEntry("BTX:0002", None, "Time on the fire until soft."),
+    ConceptEntry("BTX:0007", None, "Bitter taste of grain or leaves."),
+    ConceptEntry("BTX:0011", None, "Size of the dry grain."),
+    ConceptEntry("BTX:0015", None, "Amount harvested per plot."),
+    ConceptEntry("BTX:0020", None, "Survives dry spells."),
 ]
 
 ALIASES = [
@@ -110,9 +110,7 @@ def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sql
         path="traits.csv",
         sha256="x",
         concepts=CONCEPTS,
-        aliases=[
-            {"concept_id": c, "text": t, "lang": lang, "kind": kind} for c, t, lang, kind in ALIASES
-        ],
+        aliases=[AliasEntry(*alias) for alias in ALIASES],
     )
     return conn
 

@@ -17,7 +17,7 @@ import io
 import re
 import zipfile
 from collections import defaultdict
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -26,6 +26,7 @@ import pandas as pd
 from extractor.errors import InputError
 from extractor.ingest.decode import check_office_archive, decode_text, sniff_delimiter
 from extractor.ingest.language import normalise_tag
+from extractor.types import AliasEntry, ConceptEntry
 
 REQUIRED = ("id", "label")
 OPTIONAL = ("lang", "synonyms", "hidden", "parent", "definition")
@@ -35,8 +36,8 @@ _SPLIT = re.compile(r"\s*[|;]\s*")
 class ConceptList(NamedTuple):
     """A validated concept list, ready for the store."""
 
-    concepts: list[dict[str, Any]]
-    aliases: list[dict[str, Any]]
+    concepts: list[ConceptEntry]
+    aliases: list[AliasEntry]
     sha256: str
     warnings: list[str]
 
@@ -107,7 +108,7 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
 
     concepts: dict[str, dict[str, Any]] = {}
     labels: dict[tuple[str, str], tuple[str, int]] = {}
-    aliases: dict[tuple[str, str, str], dict[str, Any]] = {}
+    aliases: dict[tuple[str, str, str], AliasEntry] = {}
     for index, row in frame.iterrows():
         line = int(str(index)) + 2  # the header is row 1, as a spreadsheet user counts
         cid = str(row["id"]).strip()
@@ -132,7 +133,7 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
         for text, kind in _row_forms(row, label):
             key = (cid, text.casefold(), lang)
             if key not in aliases or kind == "preferred":
-                aliases[key] = {"concept_id": cid, "text": text, "lang": lang, "kind": kind}
+                aliases[key] = AliasEntry(cid, text, lang, kind)
 
     warnings = _shared_alias_warnings(path, aliases.values())
     warnings += [
@@ -140,7 +141,8 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
         for c in concepts.values()
         if c["parent"] and c["parent"] not in concepts
     ]
-    return ConceptList(list(concepts.values()), list(aliases.values()), file_sha256(path), warnings)
+    entries = [ConceptEntry(c["id"], c["parent"], c["definition"]) for c in concepts.values()]
+    return ConceptList(entries, list(aliases.values()), file_sha256(path), warnings)
 
 
 def _row_language(row: pd.Series, default_lang: str, path: Path, line: int) -> str:
@@ -163,11 +165,11 @@ def _row_forms(row: pd.Series, label: str) -> list[tuple[str, str]]:
     return forms
 
 
-def _shared_alias_warnings(path: Path, aliases: Iterable[Mapping[str, Any]]) -> list[str]:
+def _shared_alias_warnings(path: Path, aliases: Iterable[AliasEntry]) -> list[str]:
     """Warn about alias texts that two different concepts share in one language."""
     owners: dict[tuple[str, str], set[str]] = defaultdict(set)
     for alias in aliases:
-        owners[(alias["text"].casefold(), alias["lang"])].add(alias["concept_id"])
+        owners[(alias.text.casefold(), alias.lang)].add(alias.concept_id)
     return [
         f"{path}: {text!r} ({lang}) is a synonym of {', '.join(sorted(ids))}; the dictionary "
         "will not link it to either until a label decides."

@@ -65,7 +65,7 @@ def simulate_files(
     aliases = []
     if concepts is not None:
         loaded = load_concept_list(concepts, default_lang=lang)
-        aliases = [(a["concept_id"], a["text"], a["lang"]) for a in loaded.aliases]
+        aliases = [(a.concept_id, a.text, a.lang) for a in loaded.aliases]
     results = simulate(
         pool_records,
         test_records,

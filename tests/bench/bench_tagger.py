@@ -98,7 +98,7 @@ def one_size(
 def demo_aliases() -> list[tuple[str, str, str]]:
     """Return the demo concept list's aliases as ``(concept_id, text, lang)``."""
     loaded = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
-    return [(a["concept_id"], a["text"], a["lang"]) for a in loaded.aliases]
+    return [(a.concept_id, a.text, a.lang) for a in loaded.aliases]
 
 
 def main() -> None:

@@ -24,8 +24,8 @@ def test_load_concept_list_makes_preferred_and_alternative_aliases(tmp_path: Pat
         "BTX:0001,temps de cuisson,fr,cuit vite;cuisson rapide,,\n",
     )
     loaded = load_concept_list(path)
-    assert [c["id"] for c in loaded.concepts] == ["BTX:0001"]
-    kinds = {(a["text"], a["lang"], a["kind"]) for a in loaded.aliases}
+    assert [c.id for c in loaded.concepts] == ["BTX:0001"]
+    kinds = {(a.text, a.lang, a.kind) for a in loaded.aliases}
     assert ("cooking time", "en", "preferred") in kinds
     assert ("cuit vite", "fr", "alternative") in kinds
     assert len(loaded.aliases) == 6

@@ -34,8 +34,8 @@ def test_accepted_alias_is_exported_apart_and_list_reimports(study: Path) -> Non
     assert "boils quickly" not in row["synonyms"]
     original = load_concept_list(study / "concepts.csv")
     again = load_concept_list(path)
-    assert {(a["concept_id"], a["text"]) for a in again.aliases} == {
-        (a["concept_id"], a["text"]) for a in original.aliases
+    assert {(a.concept_id, a.text) for a in again.aliases} == {
+        (a.concept_id, a.text) for a in original.aliases
     }
 
 

@@ -10,7 +10,7 @@ from typing import Any
 
 import pandas as pd
 
-from extractor.types import Span
+from extractor.types import AliasEntry, ConceptEntry, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
 
@@ -104,10 +104,10 @@ STORE_ANSWERS = [
     ("KR-02", {"gender": "man"}, False, "The grain is large.", [(0, 19)]),
     ("FG-01", {}, True, "Nobody said much.", [(0, 17)]),
 ]  # fmt: skip
-STORE_CONCEPTS: list[dict[str, Any]] = [
-    {"id": "BTX:0001", "parent": None, "definition": "Soft after a short time on the fire."},
-    {"id": "BTX:0002", "parent": None, "definition": "Stored grain escapes weevils."},
-    {"id": "BTX:0003", "parent": "BTX:0001", "definition": "Size of the dry grain."},
+STORE_CONCEPTS = [
+    ConceptEntry("BTX:0001", None, "Soft after a short time on the fire."),
+    ConceptEntry("BTX:0002", None, "Stored grain escapes weevils."),
+    ConceptEntry("BTX:0003", "BTX:0001", "Size of the dry grain."),
 ]
 STORE_ALIASES = [
     ("BTX:0001", "fast cooking", "en"),
@@ -171,18 +171,15 @@ def build_workspace(root: Path, *, with_model: bool = True) -> Workspace:
         path="traits.csv",
         sha256="1",
         concepts=STORE_CONCEPTS,
-        aliases=[
-            {"concept_id": c, "text": t, "lang": lang, "kind": "preferred"}
-            for c, t, lang in STORE_ALIASES
-        ],
+        aliases=[AliasEntry(c, t, lang, "preferred") for c, t, lang in STORE_ALIASES],
     )
     store.replace_concept_list(
         ws.conn,
         kind="variety",
         path="varieties.csv",
         sha256="2",
-        concepts=[{"id": "VAR:01"}],
-        aliases=[{"concept_id": "VAR:01", "text": "Kivu Red", "lang": "en", "kind": "preferred"}],
+        concepts=[ConceptEntry("VAR:01")],
+        aliases=[AliasEntry("VAR:01", "Kivu Red", "en", "preferred")],
     )
     if with_model:
         store.add_model(ws.conn, VERSION, "models/v001", {"metrics": {"span": {"f1": 0.5}}})

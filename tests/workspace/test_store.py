@@ -11,7 +11,7 @@ from typing import Any
 import pytest
 
 from extractor.errors import WorkspaceError
-from extractor.types import Span
+from extractor.types import AliasEntry, ConceptEntry, Span
 from extractor.workspace import store
 
 
@@ -124,10 +124,8 @@ def test_labels_are_append_only_and_undo_retracts(conn: sqlite3.Connection) -> N
 
 
 def test_concept_reimport_keeps_annotator_aliases(conn: sqlite3.Connection) -> None:
-    concepts = [{"id": "BTX:0001", "parent": None, "definition": None}]
-    aliases = [
-        {"concept_id": "BTX:0001", "text": "cooking time", "lang": "en", "kind": "preferred"}
-    ]
+    concepts = [ConceptEntry("BTX:0001")]
+    aliases = [AliasEntry("BTX:0001", "cooking time", "en", "preferred")]
     store.replace_concept_list(
         conn, kind="trait", path="c.csv", sha256="1", concepts=concepts, aliases=aliases
     )
@@ -254,10 +252,10 @@ def test_predictions_round_trip_per_sentence(conn: sqlite3.Connection) -> None:
 
 
 def test_concept_list_versions_name_the_file_hash_and_sizes(conn: sqlite3.Connection) -> None:
-    concepts = [{"id": "BTX:0001", "parent": None, "definition": "Time to cook."}]
+    concepts = [ConceptEntry("BTX:0001", None, "Time to cook.")]
     aliases = [
-        {"concept_id": "BTX:0001", "text": "cooking time", "lang": "en", "kind": "preferred"},
-        {"concept_id": "BTX:0001", "text": "temps de cuisson", "lang": "fr", "kind": "preferred"},
+        AliasEntry("BTX:0001", "cooking time", "en", "preferred"),
+        AliasEntry("BTX:0001", "temps de cuisson", "fr", "preferred"),
     ]
     store.replace_concept_list(
         conn, kind="trait", path="c.csv", sha256="f00", concepts=concepts, aliases=aliases

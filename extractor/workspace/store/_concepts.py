@@ -4,9 +4,10 @@ from __future__ import annotations
 
 import sqlite3
 from collections.abc import Sequence
-from typing import Any, NamedTuple
+from typing import NamedTuple
 
 from extractor.errors import WorkspaceError
+from extractor.types import AliasEntry, ConceptEntry
 from extractor.workspace.store._schema import now, transaction
 
 
@@ -48,8 +49,8 @@ def replace_concept_list(
     kind: str,
     path: str,
     sha256: str,
-    concepts: Sequence[dict[str, Any]],
-    aliases: Sequence[dict[str, Any]],
+    concepts: Sequence[ConceptEntry],
+    aliases: Sequence[AliasEntry],
 ) -> int:
     """Store a new version of the concept (or variety) list in one transaction.
 
@@ -75,7 +76,7 @@ def replace_concept_list(
                 "VALUES (?, ?, ?, ?, ?, 1) ON CONFLICT (id) DO UPDATE SET kind = excluded.kind, "
                 "parent = excluded.parent, definition = excluded.definition, "
                 "version_id = excluded.version_id, active = 1",
-                (concept["id"], kind, concept.get("parent"), concept.get("definition"), version_id),
+                (concept.id, kind, concept.parent, concept.definition, version_id),
             )
         conn.execute(
             "DELETE FROM aliases WHERE origin = 'list' AND concept_id IN "
@@ -85,7 +86,7 @@ def replace_concept_list(
         conn.executemany(
             "INSERT OR IGNORE INTO aliases (concept_id, text, lang, kind, origin, added_at) "
             "VALUES (?, ?, ?, ?, 'list', ?)",
-            [(a["concept_id"], a["text"], a["lang"], a["kind"], stamp) for a in aliases],
+            [(a.concept_id, a.text, a.lang, a.kind, stamp) for a in aliases],
         )
     return version_id
 
