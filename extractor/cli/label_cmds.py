@@ -38,7 +38,7 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
             quality=setup.quality,
         )
     console.print(
-        f"Saved {summary['labeled']} labels this session ({summary['total_labels']} in all). "
+        f"Saved {summary.labeled} labels this session ({summary.total_labels} in all). "
         "Run `traits train` (or `traits run`) to build a model version from them."
     )
     return 0

@@ -24,7 +24,7 @@ from __future__ import annotations
 import sqlite3
 import sys
 from collections.abc import Callable, Sequence
-from typing import Any, TextIO
+from typing import TextIO
 
 from rich.console import Console
 from rich.markup import escape
@@ -32,6 +32,7 @@ from rich.text import Text
 
 from extractor.cli.screen_draw import HELP_TEXT, Figures, Quality, draw_item
 from extractor.errors import TraitsError
+from extractor.loop.items import Item, SessionSummary
 from extractor.loop.marking import (
     ConceptEntry,
     ConceptMatch,
@@ -41,7 +42,7 @@ from extractor.loop.marking import (
 )
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
-from extractor.loop.session import Item, Session
+from extractor.loop.session import Session
 from extractor.types import STANCES, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
@@ -315,7 +316,7 @@ def run_console(
     input_stream: TextIO | None = None,
     settings: SessionSettings | None = None,
     quality: Quality | None = None,
-) -> dict[str, Any]:
+) -> SessionSummary:
     """Run a labeling session in the terminal (or over a pipe) and return its summary.
 
     Args:
@@ -363,7 +364,7 @@ def run_console(
         console.print()
     summary = session.quit()
     console.print(
-        f"Saved: {summary['labeled']} labels this session, {summary['total_labels']} in total"
-        f", {summary['skipped']} skipped."
+        f"Saved: {summary.labeled} labels this session, {summary.total_labels} in total"
+        f", {summary.skipped} skipped."
     )
     return summary

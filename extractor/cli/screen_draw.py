@@ -14,8 +14,9 @@ from rich.rule import Rule
 from rich.table import Table
 from rich.text import Text
 
+from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry
-from extractor.loop.session import Item, Session
+from extractor.loop.session import Session
 from extractor.models.bundle import Mention
 from extractor.types import Span
 

@@ -20,11 +20,11 @@ from __future__ import annotations
 import sqlite3
 from collections import deque
 from collections.abc import Sequence
-from typing import Any, NamedTuple
 
 import numpy as np
 
 from extractor.errors import InputError
+from extractor.loop.items import Item, SessionSummary
 from extractor.loop.marking import checked_spans
 from extractor.loop.predictor import (
     ModelUpdate,
@@ -45,26 +45,6 @@ from extractor.loop.strategies import (
 from extractor.models.bundle import SentencePrediction
 from extractor.types import Sentence, Span
 from extractor.workspace import store
-
-
-class Item(NamedTuple):
-    """A sentence to show, with its context and the answer proposed for it.
-
-    Attributes:
-        sentence: the sentence.
-        context: question, previous sentence, respondent and metadata, variety.
-        suggestion: the proposed spans (empty = "no trait here").
-        prediction: the model's prediction, if there is a model.
-        origin: ``"model"``, ``"previous"`` (the annotator's undone label) or ``"none"``.
-        in_evaluation: the sentence belongs to the evaluation sample.
-    """
-
-    sentence: Sentence
-    context: store.SentenceContext
-    suggestion: tuple[Span, ...]
-    prediction: SentencePrediction | None
-    origin: str
-    in_evaluation: bool
 
 
 class Session:
@@ -416,21 +396,21 @@ class Session:
         text = sentence.text[checked.start : checked.end]
         return store.add_alias(self.conn, checked.concept, text, sentence.lang, self.annotator)
 
-    def summary(self) -> dict[str, Any]:
+    def summary(self) -> SessionSummary:
         """Return the session's counts and stopping state."""
-        return {
-            "annotator": self.annotator,
-            "strategy": self.strategy_name,
-            "labeled": self.labeled_this_session,
-            "skipped": self.skipped_this_session,
-            "undone": self.undone_this_session,
-            "total_labels": self.total_labels,
-            "model_version": self.model_version,
-            "kappas": list(self.kappas),
-            "stop_signal": self.stop_signal,
-        }
+        return SessionSummary(
+            annotator=self.annotator,
+            strategy=self.strategy_name,
+            labeled=self.labeled_this_session,
+            skipped=self.skipped_this_session,
+            undone=self.undone_this_session,
+            total_labels=self.total_labels,
+            model_version=self.model_version,
+            kappas=tuple(self.kappas),
+            stop_signal=self.stop_signal,
+        )
 
-    def quit(self) -> dict[str, Any]:
+    def quit(self) -> SessionSummary:
         """End the session and return its summary.
 
         Every answer is already stored; a retrain still running is abandoned (its thread

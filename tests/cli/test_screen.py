@@ -11,12 +11,13 @@ import sys
 import time
 from collections.abc import Iterator
 from pathlib import Path
-from typing import Any, TextIO
+from typing import TextIO
 
 import pytest
 from rich.console import Console
 
 from extractor.cli.screen import LabelScreen, run_console
+from extractor.loop.items import SessionSummary
 from extractor.loop.marking import concept_entries
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
@@ -42,7 +43,7 @@ def _run(
     *,
     input_stream: TextIO | None = None,
     model_provider: FakeModel | None = None,
-) -> tuple[dict[str, Any], str]:
+) -> tuple[SessionSummary, str]:
     out = io.StringIO()
     summary = run_console(
         conn,
@@ -122,7 +123,7 @@ def test_scripted_session_of_twenty_sentences_stores_every_answer(
         "retract",
         "label",
     ]
-    assert summary["labeled"] == 19 and summary["skipped"] == 1 and summary["undone"] == 1
+    assert summary.labeled == 19 and summary.skipped == 1 and summary.undone == 1
     assert "Nothing left to ask" in screen
 
 
@@ -160,7 +161,7 @@ def test_q_saves_and_quits_without_reading_further(conn: sqlite3.Connection) -> 
     stream = io.StringIO("\nn\nq\nn\nn\n")
     summary, screen = _run(conn, [], input_stream=stream)
     assert sorted(store.current_labels(conn)) == [1, 2]
-    assert summary["labeled"] == 2
+    assert summary.labeled == 2
     assert stream.readline() == "n\n"
     assert "Saved: 2 labels this session" in screen
 
@@ -168,7 +169,7 @@ def test_q_saves_and_quits_without_reading_further(conn: sqlite3.Connection) -> 
 def test_end_of_input_behaves_like_q(conn: sqlite3.Connection) -> None:
     summary, _ = _run(conn, ["n", "harvest"])  # input ends at the concept prompt
     assert sorted(store.current_labels(conn)) == [1]
-    assert summary["labeled"] == 1
+    assert summary.labeled == 1
 
 
 class _Interrupting(io.StringIO):
@@ -185,7 +186,7 @@ class _Interrupting(io.StringIO):
 def test_ctrl_c_at_a_prompt_keeps_everything_confirmed(conn: sqlite3.Connection) -> None:
     summary, screen = _run(conn, [], input_stream=_Interrupting("n\n\nharvest\n"))
     assert sorted(store.current_labels(conn)) == [1, 2]
-    assert summary["labeled"] == 2
+    assert summary.labeled == 2
     assert "Saved: 2 labels" in screen
 
 

@@ -10,8 +10,9 @@ from typing import Any
 import pytest
 
 from extractor.errors import InputError
+from extractor.loop.items import Item
 from extractor.loop.samples import SessionSettings, ensure_samples
-from extractor.loop.session import Item, Session
+from extractor.loop.session import Session
 from extractor.types import Span
 from extractor.workspace import store
 
@@ -287,4 +288,4 @@ def test_session_over_empty_store_has_nothing_to_ask(tmp_path: Path, strategy: s
     conn = store.connect(tmp_path / "empty.sqlite", create=True)
     session = Session.open(conn, annotator="Ama", strategy=strategy, predictor=FakeModel())
     assert session.next() is None
-    assert session.quit()["labeled"] == 0
+    assert session.quit().labeled == 0
