@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import tomllib
 from pathlib import Path
 
 import pytest
 
+from extractor.jobs.label import labeling_setup
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 from tests.jobs.study import latest_version, run
@@ -42,3 +44,18 @@ def test_corrupt_model_file_is_reported_not_loaded(study: Path, name: str) -> No
     code, out = run("-w", str(study), "label", "--annotator", "x")
     assert code == 1
     assert "Traceback" not in out and "train" in out  # every message says to (re)train
+
+
+def test_labeling_setup_takes_what_is_not_given_from_traits_toml(study: Path) -> None:
+    # the standard library's TOML reader is the reference for what the file says
+    active = tomllib.loads((study / "traits.toml").read_text(encoding="utf-8"))["active"]
+    with Workspace.open(study) as ws:
+        cold = labeling_setup(ws, annotator="ana")
+        chosen = labeling_setup(
+            ws, annotator="ana", batch_size=3, strategy="random", evaluation=True
+        )
+        assert cold.quality() is None  # nothing measured yet (needs the open workspace)
+    assert (cold.batch_size, cold.strategy) == (active["batch_size"], active["strategy"])
+    assert (chosen.batch_size, chosen.strategy) == (3, "random")
+    assert cold.predictor is None  # no version trained yet: a cold start
+    assert not cold.settings.offer_evaluation and chosen.settings.offer_evaluation
