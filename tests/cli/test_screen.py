@@ -285,7 +285,8 @@ def test_killed_process_keeps_the_five_answers_given(tmp_path: Path) -> None:
         child.stdin.write("\n" * 2 + "n\n" * 3)  # five answers; the pipe stays open
         child.stdin.flush()
         watcher = store.connect(db)
-        deadline = time.monotonic() + 30
+        # generous: the child first imports the package, slow on a loaded machine
+        deadline = time.monotonic() + 120
         while len(store.current_labels(watcher)) < 5 and time.monotonic() < deadline:
             assert child.poll() is None, child.stderr.read() if child.stderr else ""
             time.sleep(0.05)
