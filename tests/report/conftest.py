@@ -2,12 +2,9 @@
 
 from __future__ import annotations
 
-import pandas as pd
 import pytest
 
-from tests.report.study import study_frames
-
-Study = tuple[pd.DataFrame, pd.DataFrame]
+from tests.report.study import Study, study_frames
 
 
 @pytest.fixture()

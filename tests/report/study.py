@@ -10,9 +10,12 @@ from typing import Any
 
 import pandas as pd
 
-from extractor.types import AliasEntry, ConceptEntry, Span
+from extractor.types import AliasEntry, AnswerRow, ConceptEntry, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
+
+Study = tuple[pd.DataFrame, pd.DataFrame]
+"""Mentions and respondents, as the report functions take them."""
 
 SECRET = b"fictional-test-secret-0123456789"
 CONCEPTS = pd.DataFrame(
@@ -68,7 +71,7 @@ def mention(
     }
 
 
-def study_frames() -> tuple[pd.DataFrame, pd.DataFrame]:
+def study_frames() -> Study:
     """Six individuals (3 women, 2 men, 1 unrecorded) and one focus group."""
     rows = [
         # W1 mentions fast cooking twice (liked): still one respondent.
@@ -152,15 +155,15 @@ def build_workspace(root: Path, *, with_model: bool = True) -> Workspace:
         kind="csv",
         options={},
         rows=[
-            {
-                "respondent": resp,
-                "question": "Why do you grow it?",
-                "answer": text,
-                "lang": "en",
-                "lang_origin": "column",
-                "metadata": meta,
-                "is_group": group,
-            }
+            AnswerRow(
+                respondent=resp,
+                question="Why do you grow it?",
+                answer=text,
+                lang="en",
+                lang_origin="column",
+                metadata=meta,
+                is_group=group,
+            )
             for resp, meta, group, text, _ in STORE_ANSWERS
         ],
         sentence_offsets=[offsets for *_, offsets in STORE_ANSWERS],

@@ -8,7 +8,7 @@ from __future__ import annotations
 from extractor.report.about import ExportCounts, RunFacts, about_table, export_counts
 from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.inputs import prepare
-from tests.report.conftest import Study
+from tests.report.study import Study
 
 COUNTS = ExportCounts(
     individuals=7,

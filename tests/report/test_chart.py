@@ -13,8 +13,7 @@ import pytest
 from extractor.report.chart import chart_data, write_chart_png
 from extractor.report.inputs import prepare
 from extractor.report.summary import trait_summary
-from tests.report.conftest import Study
-from tests.report.study import CONCEPTS
+from tests.report.study import CONCEPTS, Study
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"  # RFC 2083 section 3.1
 

@@ -21,8 +21,7 @@ from extractor.report.summary import (
     small_sample_caution,
     trait_summary,
 )
-from tests.report.conftest import Study
-from tests.report.study import CONCEPTS
+from tests.report.study import CONCEPTS, Study
 
 
 def _summary(study: Study, group_by: list[str]) -> pd.DataFrame:

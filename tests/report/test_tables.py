@@ -16,8 +16,7 @@ from extractor.report.tables import (
     trait_matrix,
     unlinked_terms,
 )
-from tests.report.conftest import Study
-from tests.report.study import CONCEPTS, S1, S2, S3, mention
+from tests.report.study import CONCEPTS, S1, S2, S3, Study, mention
 
 
 def test_preferred_traits_lists_everyone_and_orders_by_count(study: Study) -> None:

@@ -18,8 +18,7 @@ from extractor.report.about import RunFacts
 from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.privacy import PrivacyOptions
 from extractor.report.workbook import SHEETS, write_workbook
-from tests.report.conftest import Study
-from tests.report.study import CONCEPTS, S1, SECRET, mention
+from tests.report.study import CONCEPTS, S1, SECRET, Study, mention
 
 NO_FACTS = RunFacts()
 
