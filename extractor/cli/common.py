@@ -11,6 +11,9 @@ from rich.console import Console
 
 from extractor.workspace.folder import Workspace
 
+Subcommands = argparse._SubParsersAction  # argparse has no public name for it
+"""The ``traits`` parser's subcommands, where each command module adds its own."""
+
 
 def open_workspace(args: argparse.Namespace) -> Workspace:
     """Open the workspace the ``-w/--workspace`` option names (the current folder by default)."""

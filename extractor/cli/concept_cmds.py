@@ -4,12 +4,11 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
-from typing import Any
 
 from rich.console import Console
 from rich.table import Table
 
-from extractor.cli.common import open_workspace, print_warnings
+from extractor.cli.common import Subcommands, open_workspace, print_warnings
 from extractor.ingest.intake import import_concepts
 from extractor.jobs.curate import accept_alias, export_concepts, list_concepts, suggest_terms
 
@@ -74,9 +73,7 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
     for column in ("term", "count", "nearest concepts", "nearest by word use", "example"):
         table.add_column(column, overflow="fold")
     for item in found.terms[: args.limit]:
-        nearest = ", ".join(
-            f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.nearest[:3]
-        )
+        nearest = ", ".join(f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.nearest[:3])
         similar = ", ".join(
             f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.nearest_by_vectors[:3]
         )
@@ -106,7 +103,7 @@ def cmd_concepts_export(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
-def register(sub: Any) -> None:
+def register(sub: Subcommands) -> None:
     """Add ``concepts`` and its actions to the command's subparsers."""
     concepts = sub.add_parser("concepts", help="the trait concept list").add_subparsers(
         dest="concepts_command", required=True, metavar="ACTION"

@@ -4,11 +4,10 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
-from typing import Any
 
 from rich.console import Console
 
-from extractor.cli.common import open_workspace
+from extractor.cli.common import Subcommands, open_workspace
 from extractor.cli.screen import run_console
 from extractor.cli.tables import curve_table, evaluation_tables, gain_table
 from extractor.jobs.evaluate import evaluate_workspace
@@ -117,7 +116,7 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
-def register(sub: Any) -> None:
+def register(sub: Subcommands) -> None:
     """Add ``label``, ``import-labels``, ``evaluate`` and ``simulate`` to the subparsers."""
     p = sub.add_parser("label", help="label the most informative sentences in the terminal")
     p.add_argument("--annotator", required=True, help="your name, stored with every label")
@@ -140,7 +139,7 @@ def register(sub: Any) -> None:
     _register_simulate(sub)
 
 
-def _register_simulate(sub: Any) -> None:
+def _register_simulate(sub: Subcommands) -> None:
     p = sub.add_parser("simulate", help="learning curves with a simulated annotator")
     p.add_argument("--pool", required=True, help="gold labels the annotator answers from")
     p.add_argument("--test", required=True, help="gold labels to score on")

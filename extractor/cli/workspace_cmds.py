@@ -11,7 +11,7 @@ from typing import Any
 from rich.console import Console
 from rich.table import Table
 
-from extractor.cli.common import open_workspace, print_warnings
+from extractor.cli.common import Subcommands, open_workspace, print_warnings
 from extractor.ingest.intake import add_files
 from extractor.jobs.status import workspace_status
 from extractor.workspace.folder import init_workspace
@@ -87,7 +87,7 @@ def cmd_status(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
-def register(sub: Any) -> None:
+def register(sub: Subcommands) -> None:
     """Add ``init``, ``add`` and ``status`` to the command's subparsers."""
     p = sub.add_parser("init", help="create a workspace folder")
     p.add_argument("dir", nargs="?", default=".")
