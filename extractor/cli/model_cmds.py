@@ -23,8 +23,8 @@ def cmd_train(args: argparse.Namespace, console: Console) -> int:
     report, tagged = done.train, done.tag
     print_notes(console, report.notes)
     console.print(
-        f"Model version [bold]{report.version}[/] trained on {report.counts['gold_sentences']} "
-        f"labeled and {report.counts['silver_sentences']} dictionary-labeled sentences; "
+        f"Model version [bold]{report.version}[/] trained on {report.counts.gold_sentences} "
+        f"labeled and {report.counts.silver_sentences} dictionary-labeled sentences; "
         f"{metric_summary(report.metrics)}; it found {tagged.mentions} trait mentions "
         f"({tagged.unlinked} not linked to a concept)."
     )

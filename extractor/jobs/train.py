@@ -13,7 +13,7 @@ from extractor.errors import ModelError, TraitsError
 from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
-from extractor.models.bundle import TraitModels
+from extractor.models.bundle import TrainingCounts, TraitModels
 from extractor.models.validation import CrossValidation, cross_validate
 from extractor.nlp.clusters import corpus_fingerprint, load_clusters
 from extractor.types import Sentence, Span
@@ -29,7 +29,7 @@ class TrainReport:
     """What training a version did: its name, what it learned from, notes and figures."""
 
     version: str
-    counts: Mapping[str, Any]
+    counts: TrainingCounts
     notes: tuple[str, ...]
     metrics: Mapping[str, Any]
 

@@ -13,7 +13,8 @@ from __future__ import annotations
 
 import json
 import platform
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from dataclasses import asdict, dataclass, fields
 from datetime import UTC, datetime
 from importlib.metadata import PackageNotFoundError, version
 from pathlib import Path
@@ -53,6 +54,24 @@ class Mention(NamedTuple):
     stance_prob: float
     concept_probs: dict[str, float] | None = None
     stance_probs: dict[str, float] | None = None
+
+
+@dataclass(frozen=True)
+class TrainingCounts:
+    """What a version learned from; recorded as ``counts`` in ``meta.json``."""
+
+    gold_sentences: int = 0
+    gold_spans: int = 0
+    silver_sentences: int = 0
+    link_examples: int = 0
+    stance_examples: int = 0
+    aliases: int = 0
+
+    @classmethod
+    def from_meta(cls, counts: Mapping[str, Any]) -> TrainingCounts:
+        """Read the counts of a saved version (a count it does not record reads as 0)."""
+        known = {f.name for f in fields(cls)}
+        return cls(**{k: int(v) for k, v in counts.items() if k in known})
 
 
 class SentencePrediction(NamedTuple):
@@ -171,14 +190,14 @@ class TraitModels(BaseEstimator):
         self.stance_ = StanceModel()
         if len({label for _, _, label in stance_examples}) >= 2:
             self.stance_.fit(stance_examples)
-        self.counts_ = {
-            "gold_sentences": len(gold),
-            "gold_spans": sum(len(spans) for _, spans in gold),
-            "silver_sentences": len(silver),
-            "link_examples": len(link_examples),
-            "stance_examples": len(stance_examples),
-            "aliases": len(aliases),
-        }
+        self.counts_ = TrainingCounts(
+            gold_sentences=len(gold),
+            gold_spans=sum(len(spans) for _, spans in gold),
+            silver_sentences=len(silver),
+            link_examples=len(link_examples),
+            stance_examples=len(stance_examples),
+            aliases=len(aliases),
+        )
         return self
 
     def _check(self) -> None:
@@ -241,7 +260,7 @@ class TraitModels(BaseEstimator):
         """
         if not items:
             return np.zeros((0, len(STANCES)))
-        n = self.counts_.get("stance_examples", 0)
+        n = self.counts_.stance_examples
         return self.stance_.predict_proba_blend(items, n / (n + STANCE_PRIOR))
 
     # ------------------------------------------------------------------ persistence
@@ -251,7 +270,7 @@ class TraitModels(BaseEstimator):
         self._check()
         return {
             "created_at": datetime.now(UTC).isoformat(timespec="seconds"),
-            "counts": self.counts_,
+            "counts": asdict(self.counts_),
             "parameters": {
                 "tagger": self.tagger_.get_params()
                 | {
@@ -309,5 +328,5 @@ class TraitModels(BaseEstimator):
         models.tagger_.clusters_fingerprint_ = models.clusters_.get("fingerprint")
         models.linker_ = ConceptLinker.load(folder / "linker")
         models.stance_ = StanceModel.load(folder / "stance")
-        models.counts_ = meta.get("counts", {})
+        models.counts_ = TrainingCounts.from_meta(meta.get("counts", {}))
         return models

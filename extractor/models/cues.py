@@ -5,8 +5,7 @@ with their own file through :func:`load_cues`. A sentence is read once per lexic
 (:func:`parse`): its tokens, the cue matches of every category, clause boundaries and a
 NegEx-style negation scope (pre- and post-triggers, pseudo-triggers excluded, scope
 ending at a clause boundary; Chapman et al., 2001). Before any labels exist,
-:func:`rule_stance` gives a sensible answer from the cue features alone, and
-:func:`find_comparisons` finds the comparison markers that variety attribution uses.
+:func:`rule_stance` gives a sensible answer from the cue features alone.
 """
 
 from __future__ import annotations
@@ -405,35 +404,4 @@ def rule_proba(features: Mapping[str, float]) -> np.ndarray:
     stance, conf = rule_stance(features)
     out = np.full(len(STANCES), (1.0 - conf) / (len(STANCES) - 1))
     out[STANCES.index(stance)] = conf
-    return out
-
-
-# --------------------------------------------------------------------------- comparisons
-
-
-def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tuple[int, int]]:
-    """Return the character offsets of comparison markers ("than", "compared to", "que").
-
-    What follows a marker is the reference of the comparison ("bigger than Kivuli").
-    French and Spanish "que" counts only after a comparative word ("plus ... que",
-    "más ... que"), since it is also a relative pronoun and a conjunction.
-
-    Args:
-        text: One sentence.
-        lang: Its language tag.
-        cues: A lexicon from :func:`load_cues` (the packaged one when ``None``).
-
-    Returns:
-        ``(start, end)`` of each marker, in order.
-    """
-    lex = lexicon(cues if cues is not None else packaged_cues(), lang)
-    p = parse(text, lex)
-    comparatives = [i for i, _ in p.matches.get("comparative", ())]
-    out: list[tuple[int, int]] = []
-    for i, j in sorted(p.matches.get("comparison_marker", ())):
-        if p.words[i] in {"que", "qu'"} and not any(c < i for c in comparatives):
-            continue
-        if out and p.offsets[i][0] < out[-1][1]:
-            continue  # "que" inside "que el": keep the first, longest-starting match
-        out.append((p.offsets[i][0], p.offsets[j - 1][1]))
     return out

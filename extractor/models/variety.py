@@ -13,7 +13,7 @@ mention is attributed to, in order:
 
 A comparison ("bigger than the old Mbegu", "plus rapide que Kivuli", "más grande que
 el Mbegu", "compared to Mbegu, ...") also records the reference variety: the one
-right after the comparison marker (:func:`extractor.models.cues.find_comparisons`).
+right after the comparison marker (:func:`find_comparisons`).
 """
 
 from __future__ import annotations
@@ -21,7 +21,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from typing import Protocol, runtime_checkable
 
-from extractor.models.cues import Cues, find_comparisons
+from extractor.models.cues import Cues, lexicon, packaged_cues, parse
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
@@ -63,6 +63,35 @@ def find_varieties(
         else build_dictionary(variety_dictionary)
     )
     return [(s.start, s.end, str(s.concept)) for s in matcher.match(text, lang) if s.concept]
+
+
+def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tuple[int, int]]:
+    """Return the character offsets of comparison markers ("than", "compared to", "que").
+
+    What follows a marker is the reference of the comparison ("bigger than Kivuli").
+    French and Spanish "que" counts only after a comparative word ("plus ... que",
+    "más ... que"), since it is also a relative pronoun and a conjunction.
+
+    Args:
+        text: One sentence.
+        lang: Its language tag.
+        cues: A lexicon from :func:`~extractor.models.cues.load_cues` (the packaged one
+            when ``None``).
+
+    Returns:
+        ``(start, end)`` of each marker, in order.
+    """
+    lex = lexicon(cues if cues is not None else packaged_cues(), lang)
+    p = parse(text, lex)
+    comparatives = [i for i, _ in p.matches.get("comparative", ())]
+    out: list[tuple[int, int]] = []
+    for i, j in sorted(p.matches.get("comparison_marker", ())):
+        if p.words[i] in {"que", "qu'"} and not any(c < i for c in comparatives):
+            continue
+        if out and p.offsets[i][0] < out[-1][1]:
+            continue  # "que" inside "que el": keep the first, longest-starting match
+        out.append((p.offsets[i][0], p.offsets[j - 1][1]))
+    return out
 
 
 def comparison_references(

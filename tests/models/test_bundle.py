@@ -69,3 +69,7 @@ def test_save_load_round_trip_predicts_the_same(trained: TraitModels, tmp_path: 
         p.mentions for p in trained.predict(CORPUS)
     ]
     assert loaded.aliases_ == ALIASES
+    # Hand count: two labeled sentences with one span, two aliases.
+    assert loaded.counts_ == trained.counts_
+    assert (trained.counts_.gold_sentences, trained.counts_.gold_spans) == (2, 1)
+    assert trained.counts_.aliases == 2

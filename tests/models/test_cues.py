@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from extractor.errors import InputError
-from extractor.models.cues import find_comparisons, load_cues, rule_stance
+from extractor.models.cues import load_cues, rule_stance
 from extractor.models.stance_features import stance_features
 from extractor.types import Sentence, Span
 
@@ -140,21 +140,3 @@ def test_rule_stance_is_more_confident_with_a_cue_than_from_the_question_alone()
     cue = rule_stance(_features("The seeds are too small.", "seeds"))[1]
     question = rule_stance(_features("Small seeds.", "seeds", question="What do you dislike?"))[1]
     assert cue > question
-
-
-@pytest.mark.parametrize(
-    ("text", "lang", "markers"),
-    [
-        ("It is bigger than Kivuli.", "en", ["than"]),
-        ("Orvane cuit plus vite que Kivuli.", "fr", ["que"]),
-        ("Il faut que Kivuli soit sucré.", "fr", []),
-        ("Orvane es más grande que el Kivuli.", "es", ["que"]),
-    ],
-    ids=["en-than", "fr-plus-que", "fr-que-conjunction", "es-mas-que"],
-)
-def test_find_comparisons_takes_que_only_after_a_comparative(
-    text: str, lang: str, markers: list[str]
-) -> None:
-    # French and Spanish grammar (from memory): "que" introduces the second term of a
-    # comparison only after "plus"/"más"; in "il faut que" it is a conjunction.
-    assert [text[s:e] for s, e in find_comparisons(text, lang)] == markers
