@@ -8,6 +8,8 @@ span's text. Mentions are views: they never carry a copy of the text.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+from types import MappingProxyType
 from typing import NamedTuple
 
 STANCES = ("liked", "disliked", "wanted", "neutral")
@@ -27,6 +29,36 @@ class Sentence(NamedTuple):
     respondent: str | None = None
     answer_id: int | None = None
     offset: int = 0
+
+
+class AnswerRow(NamedTuple):
+    """One answer read from an interview file, exactly as written, ready for the store.
+
+    Attributes:
+        respondent: The respondent's ID (or the focus group's).
+        answer: The answer text exactly as in the file.
+        lang: BCP 47 tag of the answer.
+        lang_origin: Where the tag came from: ``column``, ``detected`` or ``default``.
+        question: The question it answers, if known.
+        variety: The variety it is about, if the file says.
+        metadata: Other columns (or transcript header lines) of the respondent.
+        sheet: The workbook sheet it came from.
+        row: The spreadsheet row (header = 1) or the transcript line it starts on.
+        is_group: Whether the respondent is a focus group.
+        speaker: The transcript speaker label of the turn.
+    """
+
+    respondent: str
+    answer: str
+    lang: str
+    lang_origin: str
+    question: str | None = None
+    variety: str | None = None
+    metadata: Mapping[str, str] = MappingProxyType({})
+    sheet: str | None = None
+    row: int | None = None
+    is_group: bool = False
+    speaker: str | None = None
 
 
 class ConceptEntry(NamedTuple):

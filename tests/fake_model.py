@@ -17,7 +17,7 @@ from pathlib import Path
 from extractor.loop.predictor import TrainingData
 from extractor.models.bundle import Mention, SentencePrediction
 from extractor.models.tagger import TagResult
-from extractor.types import AliasEntry, ConceptEntry, Sentence, Span
+from extractor.types import AliasEntry, AnswerRow, ConceptEntry, Sentence, Span
 from extractor.workspace import store
 
 CONCEPTS = [
@@ -68,7 +68,8 @@ KNOWN = {
 def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sqlite3.Connection:
     """Create a store holding the invented answers (sentence IDs 1..N) and concept list."""
     conn = store.connect(path, create=True)
-    rows, offsets = [], []
+    rows: list[AnswerRow] = []
+    offsets: list[list[tuple[int, int]]] = []
     for k, parts in enumerate(answers):
         text = " ".join(parts)
         spans, pos = [], 0
@@ -77,22 +78,22 @@ def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sql
             spans.append((start, start + len(part)))
             pos = start + len(part)
         rows.append(
-            {
-                "respondent": f"TS-{k % 4:03d}",
-                "question": "Why do you grow this bean?",
-                "answer": text,
-                "lang": "en",
-                "lang_origin": "column",
-                "variety": "Zamaro Red" if k % 2 else None,
-                "metadata": {
+            AnswerRow(
+                respondent=f"TS-{k % 4:03d}",
+                question="Why do you grow this bean?",
+                answer=text,
+                lang="en",
+                lang_origin="column",
+                variety="Zamaro Red" if k % 2 else None,
+                metadata={
                     "role": "farmer" if k % 3 else "trader",
                     "gender": "woman" if k % 2 else "man",
                     "district": "Tinsoka",
                 },
-                "sheet": None,
-                "row": k + 2,
-                "is_group": k == 3,
-            }
+                sheet=None,
+                row=k + 2,
+                is_group=k == 3,
+            )
         )
         offsets.append(spans)
     store.add_source(

@@ -112,7 +112,7 @@ def _read(
         languages=settings.languages,
     )
     offsets = [
-        split_sentences(row["answer"], row["lang"])
+        split_sentences(row.answer, row.lang)
         for row in track(result.rows, f"Segmenting {path.name}", len(result.rows))
     ]
     options = {"sheet": sheet, "mapping": mapping, "layout": result.layout}

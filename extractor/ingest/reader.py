@@ -15,6 +15,7 @@ from extractor.ingest.columns import MAPPING_KEYS
 from extractor.ingest.language import detect_languages, normalise_tag
 from extractor.ingest.tables import read_delimited, read_workbook
 from extractor.ingest.transcripts import docx_lines, parse_transcript, text_lines
+from extractor.types import AnswerRow
 
 SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
 """File suffixes :func:`read_interviews` can read."""
@@ -23,7 +24,7 @@ SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
 class ReadResult(NamedTuple):
     """The answers read from one interview file (see :func:`read_interviews`)."""
 
-    rows: list[dict[str, Any]]
+    rows: list[AnswerRow]
     kind: str
     layout: str
     encoding: str | None
@@ -74,11 +75,8 @@ def read_interviews(
         languages: The workspace's languages, the candidates of detection.
 
     Returns:
-        A :class:`ReadResult`. Each row is ``{"respondent": str, "question": str | None,
-        "answer": str (exactly as in the file), "lang": str (BCP 47), "lang_origin":
-        "column" | "detected" | "default", "variety": str | None, "metadata":
-        dict[str, str], "sheet": str | None, "row": int, "is_group": bool}``; ``row`` is
-        the spreadsheet row (header = 1) or the transcript line (the paragraph in .docx).
+        A :class:`ReadResult` of :class:`~extractor.types.AnswerRow`; ``row`` is the
+        spreadsheet row (header = 1) or the transcript line (the paragraph in .docx).
 
     Raises:
         InputError: For a missing, empty, unreadable or unrecognisable file, a bad
@@ -92,7 +90,8 @@ def read_interviews(
     data = _read_bytes(path)
     rows, layout, encoding, warnings = _read_rows(path, suffix, data, sheet, mapping)
     _fill_languages(rows, candidates, default)
-    return ReadResult(rows, suffix.lstrip("."), layout, encoding, warnings)
+    answers = [AnswerRow(**row) for row in rows]
+    return ReadResult(answers, suffix.lstrip("."), layout, encoding, warnings)
 
 
 def _check_path(path: Path) -> str:

@@ -11,6 +11,7 @@ from pathlib import Path
 import pytest
 
 from extractor.errors import InputError
+from extractor.types import AnswerRow
 from tests.ingest.interview_files import (
     EN_1,
     EN_2,
@@ -30,12 +31,12 @@ def test_read_wide_layout_turns_free_text_columns_into_questions(tmp_path: Path)
     ]})  # fmt: skip
     result = read(path)
     assert result.layout == "wide"
-    assert [(r["respondent"], r["question"], r["row"]) for r in result.rows] == [
+    assert [(r.respondent, r.question, r.row) for r in result.rows] == [
         ("007", q1, 2), ("007", q2, 2), ("008", q1, 3), ("008", q2, 3),
     ]  # fmt: skip
-    assert result.rows[0]["metadata"] == {"gender": "female", "district": "Lowa",
+    assert result.rows[0].metadata == {"gender": "female", "district": "Lowa",
                                           "age_group": "30-45"}  # fmt: skip
-    assert result.rows[2]["metadata"] == {"gender": "male", "district": "Minde"}
+    assert result.rows[2].metadata == {"gender": "male", "district": "Minde"}
 
 
 def test_read_long_layout_keeps_question_variety_group_and_language(tmp_path: Path) -> None:
@@ -47,21 +48,20 @@ def test_read_long_layout_keeps_question_variety_group_and_language(tmp_path: Pa
         encoding="utf-8",
     )
     first, second = read(path).rows
-    assert first == {
-        "respondent": "FG-1", "question": "Why?", "answer": FR_1, "lang": "fr",
-        "lang_origin": "column", "variety": "Tamu Njano", "metadata": {"role": "processor"},
-        "sheet": None, "row": 2, "is_group": True,
-    }  # fmt: skip
-    assert (second["question"], second["variety"], second["is_group"]) == (None, None, False)
-    assert (second["lang"], second["lang_origin"], second["metadata"]) == ("en", "detected", {})
+    assert first == AnswerRow(
+        respondent="FG-1", question="Why?", answer=FR_1, lang="fr", lang_origin="column",
+        variety="Tamu Njano", metadata={"role": "processor"}, sheet=None, row=2, is_group=True,
+    )  # fmt: skip
+    assert (second.question, second.variety, second.is_group) == (None, None, False)
+    assert (second.lang, second.lang_origin, second.metadata) == ("en", "detected", {})
 
 
 def test_read_mapping_overrides_recognition(tmp_path: Path) -> None:
     path = tmp_path / "mapped.csv"
     path.write_text(f"Col A,Col B,Text,ID\nK-1,{EN_1},ignored note,99\n", encoding="utf-8")
     row = read(path, mapping={"respondent": "Col A", "answer": "col b"}).rows[0]
-    assert (row["respondent"], row["answer"]) == ("K-1", EN_1)
-    assert row["metadata"] == {"text": "ignored note", "id": "99"}
+    assert (row.respondent, row.answer) == ("K-1", EN_1)
+    assert row.metadata == {"text": "ignored note", "id": "99"}
 
 
 def test_read_mapping_questions_makes_wide_layout(tmp_path: Path) -> None:
@@ -69,11 +69,11 @@ def test_read_mapping_questions_makes_wide_layout(tmp_path: Path) -> None:
     path.write_text("Who,Q1,Q2,Village\nW-1,Sweet,Too small,Lowa\n", encoding="utf-8")
     result = read(path, mapping={"respondent": "Who", "questions": ["Q1", "Q2"]})
     assert result.layout == "wide"
-    assert [(r["question"], r["answer"]) for r in result.rows] == [
+    assert [(r.question, r.answer) for r in result.rows] == [
         ("Q1", "Sweet"),
         ("Q2", "Too small"),
     ]
-    assert result.rows[0]["metadata"] == {"village": "Lowa"}
+    assert result.rows[0].metadata == {"village": "Lowa"}
 
 
 def test_read_csv_without_answer_or_free_text_lists_headers(tmp_path: Path) -> None:

@@ -42,8 +42,8 @@ def test_read_csv_decodes_encodings(
         assert path.read_bytes().startswith(b"\xef\xbb\xbf")  # the Unicode UTF-8 BOM
     result = read(path)
     assert result.encoding == expected_encoding
-    assert result.rows[0]["answer"] == answer
-    assert result.rows[0]["respondent"] == "R1"
+    assert result.rows[0].answer == answer
+    assert result.rows[0].respondent == "R1"
     assert any("cp1252" in w for w in result.warnings) == warns
 
 
@@ -53,7 +53,7 @@ def test_read_csv_falls_back_to_latin1_for_bytes_cp1252_lacks(tmp_path: Path) ->
     path.write_bytes(b"Respondent,Answer\nR1,caf\xe9 \x81 " + EN_1.encode() + b"\n")
     result = read(path)
     assert result.encoding == "latin-1"
-    assert result.rows[0]["answer"].startswith("café \x81 ")
+    assert result.rows[0].answer.startswith("café \x81 ")
     assert any("latin-1" in w for w in result.warnings)
 
 
@@ -61,8 +61,8 @@ def test_read_csv_sniffs_semicolon(tmp_path: Path) -> None:
     path = tmp_path / "survey.csv"
     path.write_text(f"Encuestado;Sexo;Respuesta\nE-01;mujer;{ES_1}\n", encoding="utf-8")
     row = read(path).rows[0]
-    assert (row["respondent"], row["answer"], row["metadata"]) == ("E-01", ES_1, {"sexo": "mujer"})
-    assert (row["lang"], row["lang_origin"]) == ("es", "detected")
+    assert (row.respondent, row.answer, row.metadata) == ("E-01", ES_1, {"sexo": "mujer"})
+    assert (row.lang, row.lang_origin) == ("es", "detected")
 
 
 def test_read_tsv_splits_on_tabs(tmp_path: Path) -> None:
@@ -71,7 +71,7 @@ def test_read_tsv_splits_on_tabs(tmp_path: Path) -> None:
     path.write_text(f"participant\tverbatim\nP1\t{answer}\n", encoding="utf-8")
     result = read(path)
     assert result.kind == "tsv"
-    assert [(r["respondent"], r["answer"]) for r in result.rows] == [("P1", answer)]
+    assert [(r.respondent, r.answer) for r in result.rows] == [("P1", answer)]
 
 
 # Encrypted Office files are OLE compound files; the header signature

@@ -58,4 +58,4 @@ def test_read_short_answer_gets_default_language(tmp_path: Path) -> None:
     path = tmp_path / "long.csv"
     path.write_text("Respondent,Answer\nR1,Oui.\n", encoding="utf-8")
     row = read_interviews(path, languages=LANGS, default_lang="FR").rows[0]
-    assert (row["lang"], row["lang_origin"]) == ("fr", "default")
+    assert (row.lang, row.lang_origin) == ("fr", "default")

@@ -32,11 +32,11 @@ def test_read_xlsx_reads_every_sheet_with_spreadsheet_row_numbers(tmp_path: Path
     result = read(path)
     assert (result.kind, result.layout, result.encoding) == ("xlsx", "long", None)
     # Spreadsheet programmes number the header row 1 and keep counting blank rows.
-    assert [(r["sheet"], r["row"], r["respondent"]) for r in result.rows] == [
+    assert [(r.sheet, r.row, r.respondent) for r in result.rows] == [
         ("Kibali", 2, "007"), ("Kibali", 4, "008"), ("Lowa", 2, "12"),
     ]  # fmt: skip
-    assert [r["lang"] for r in result.rows] == ["en", "en", "fr"]
-    assert result.rows[2]["metadata"] == {"sexe": "femme"}
+    assert [r.lang for r in result.rows] == ["en", "en", "fr"]
+    assert result.rows[2].metadata == {"sexe": "femme"}
 
 
 def test_read_xlsx_reads_only_named_sheet(tmp_path: Path) -> None:
@@ -45,7 +45,7 @@ def test_read_xlsx_reads_only_named_sheet(tmp_path: Path) -> None:
         "Lowa": [["Respondent", "Answer"], ["R2", EN_2]],
     })  # fmt: skip
     rows = read(path, sheet="Lowa").rows
-    assert [(r["respondent"], r["sheet"]) for r in rows] == [("R2", "Lowa")]
+    assert [(r.respondent, r.sheet) for r in rows] == [("R2", "Lowa")]
 
 
 def test_read_xlsx_unknown_sheet_lists_sheets(tmp_path: Path) -> None:
@@ -60,7 +60,7 @@ def test_read_xlsx_skips_unrecognised_sheet_with_warning(tmp_path: Path) -> None
         "Codebook": [["Code", "Meaning"], ["1", "yes"], ["2", "no"]],
     })  # fmt: skip
     result = read(path)
-    assert [r["respondent"] for r in result.rows] == ["R1"]
+    assert [r.respondent for r in result.rows] == ["R1"]
     assert any("'Codebook'" in w for w in result.warnings)
 
 
@@ -69,7 +69,7 @@ def test_read_csv_warns_about_cells_beyond_header(tmp_path: Path) -> None:
     path = tmp_path / "survey.csv"
     path.write_text(f"Respondent,Answer\nR1,{EN_1}\nR2,Too small, and hard\n", encoding="utf-8")
     result = read(path)
-    assert result.rows[1]["answer"] == "Too small"
+    assert result.rows[1].answer == "Too small"
     assert any("row 3 has more cells than the header" in w for w in result.warnings)
 
 
@@ -82,13 +82,13 @@ def test_read_csv_keeps_answer_text_exactly(tmp_path: Path) -> None:
         f'R{i},"{a.replace(chr(34), chr(34) * 2)}"' for i, a in enumerate(answers)
     ]
     path.write_bytes("\r\n".join(lines).encode("utf-8"))
-    assert [r["answer"] for r in read(path).rows] == answers
+    assert [r.answer for r in read(path).rows] == answers
 
 
 def test_read_csv_skips_blank_and_missing_answers(tmp_path: Path) -> None:
     path = tmp_path / "survey.csv"
     path.write_text(f"Respondent,Answer\nR1,   \nR2,NaN\nR3,\nR4,{EN_1}\n", encoding="utf-8")
-    assert [(r["respondent"], r["row"]) for r in read(path).rows] == [("R4", 5)]
+    assert [(r.respondent, r.row) for r in read(path).rows] == [("R4", 5)]
 
 
 def test_read_invalid_workbook_names_file(tmp_path: Path) -> None:
@@ -125,10 +125,10 @@ def test_read_csv_agrees_with_python_csv_reader(tmp_path: Path) -> None:
     with path.open(encoding="utf-8", newline="") as handle:
         reference = [row[1] for row in csv.reader(handle)][1:]
     rows = read(path).rows
-    assert [r["answer"] for r in rows] == reference == TRICKY_ANSWERS
+    assert [r.answer for r in rows] == reference == TRICKY_ANSWERS
     # Rows are numbered by record, as a spreadsheet programme shows the CSV (header = 1),
     # even where a quoted answer spans two lines of the file.
-    assert [r["row"] for r in rows] == [2, 3, 4, 5]
+    assert [r.row for r in rows] == [2, 3, 4, 5]
 
 
 def test_read_xlsx_agrees_with_openpyxl_cells(tmp_path: Path) -> None:
@@ -145,4 +145,4 @@ def test_read_xlsx_agrees_with_openpyxl_cells(tmp_path: Path) -> None:
     )
     sheet = openpyxl.load_workbook(path)["Kibali"]
     reference = [(row[1].row, row[1].value) for row in sheet.iter_rows(min_row=2)]
-    assert [(r["row"], r["answer"]) for r in read(path).rows] == reference
+    assert [(r.row, r.answer) for r in read(path).rows] == reference

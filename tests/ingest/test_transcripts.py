@@ -45,7 +45,7 @@ def test_read_txt_transcript_turns_become_answers(tmp_path: Path) -> None:
     path.write_text(TRANSCRIPT, encoding="utf-8")
     result = read(path)
     assert (result.kind, result.layout, result.encoding) == ("txt", "transcript", "utf-8")
-    got = [(r["respondent"], r["question"], r["answer"], r["row"]) for r in result.rows]
+    got = [(r.respondent, r.question, r.answer, r.row) for r in result.rows]
     assert got == [
         ("KB-07", "What do you like about Tamu Njano?",
          f"{EN_1}\nand it keeps well in the store.", 8),
@@ -55,19 +55,19 @@ def test_read_txt_transcript_turns_become_answers(tmp_path: Path) -> None:
         ("KB-08", "¿Qué le gusta?", ES_1, 18),
     ]  # fmt: skip
     first, last = result.rows[0], result.rows[-1]
-    assert first["metadata"] == {"gender": "female", "age_group": "30-45"}
-    assert first["speaker"] == "Woman 1"
-    assert (first["variety"], first["is_group"], first["lang_origin"]) == ("Tamu Njano", True,
+    assert first.metadata == {"gender": "female", "age_group": "30-45"}
+    assert first.speaker == "Woman 1"
+    assert (first.variety, first.is_group, first.lang_origin) == ("Tamu Njano", True,
                                                                           "detected")  # fmt: skip
-    assert (last["lang"], last["lang_origin"], last["is_group"]) == ("es", "column", False)
-    assert (last["metadata"], last["speaker"]) == ({}, "Agricultor")
+    assert (last.lang, last.lang_origin, last.is_group) == ("es", "column", False)
+    assert (last.metadata, last.speaker) == ({}, "Agricultor")
 
 
 def test_read_txt_without_header_uses_file_stem(tmp_path: Path) -> None:
     path = tmp_path / "R-Minde-03.txt"
     path.write_text(f"Q: Why?\nFarmer: {EN_2}\n\nIt also needs weeding.\n", encoding="utf-8")
     rows = read(path).rows
-    assert [(r["respondent"], r["question"], r["row"]) for r in rows] == [
+    assert [(r.respondent, r.question, r.row) for r in rows] == [
         ("R-Minde-03", "Why?", 2),
         ("R-Minde-03", "Why?", 4),
     ]
@@ -77,7 +77,7 @@ def test_read_txt_numbered_question_labels_are_interviewer(tmp_path: Path) -> No
     path = tmp_path / "minde.txt"
     path.write_text(f"Respondent: M-9\n\nQ1: Why Kibali?\nR: {EN_2}\n", encoding="utf-8")
     rows = read(path).rows
-    assert [(r["question"], r["answer"], r["speaker"]) for r in rows] == [
+    assert [(r.question, r.answer, r.speaker) for r in rows] == [
         ("Why Kibali?", EN_2, "R"),
     ]
 
@@ -90,14 +90,14 @@ def test_read_docx_transcript_one_line_per_paragraph(tmp_path: Path) -> None:
     result = read(path)
     assert (result.kind, result.encoding) == ("docx", None)
     (row,) = result.rows
-    assert (row["respondent"], row["question"], row["row"]) == (
+    assert (row.respondent, row.question, row.row) == (
         "LW-2",
         "Pourquoi cette variété ?",
         5,
     )
-    assert row["answer"] == f"{FR_1}\nElle se conserve bien."
-    assert (row["lang"], row["metadata"]) == ("fr", {"gender": "male"})
-    assert row["speaker"] == "Répondant 1"
+    assert row.answer == f"{FR_1}\nElle se conserve bien."
+    assert (row.lang, row.metadata) == ("fr", {"gender": "male"})
+    assert row.speaker == "Répondant 1"
 
 
 @pytest.mark.parametrize(

@@ -4,12 +4,12 @@ from __future__ import annotations
 
 import sqlite3
 from pathlib import Path
-from typing import Any
 
 import pytest
 
 from extractor.loop.samples import SessionPool, SessionSettings, ensure_samples, evaluation_size
 from extractor.loop.strategies import get_strategy
+from extractor.types import AnswerRow
 from extractor.workspace import store
 from tests.fake_model import ANSWERS, build_store  # noqa: E402
 
@@ -46,19 +46,19 @@ def test_evaluation_sample_grows_with_new_interviews(conn: sqlite3.Connection) -
     for sentence_id in labeled:
         store.add_label(conn, sentence_id, [], "Kofi")
     # A second interview file arrives: twice as many sentences.
-    more: list[dict[str, Any]] = [
-        {
-            "respondent": f"TS-{100 + k}",
-            "question": "Why?",
-            "answer": f"Answer {k} here.",
-            "lang": "en",
-            "lang_origin": "column",
-            "variety": None,
-            "metadata": {},
-            "sheet": None,
-            "row": k + 2,
-            "is_group": False,
-        }
+    more = [
+        AnswerRow(
+            respondent=f"TS-{100 + k}",
+            question="Why?",
+            answer=f"Answer {k} here.",
+            lang="en",
+            lang_origin="column",
+            variety=None,
+            metadata={},
+            sheet=None,
+            row=k + 2,
+            is_group=False,
+        )
         for k in range(n_before)
     ]
     store.add_source(
@@ -68,7 +68,7 @@ def test_evaluation_sample_grows_with_new_interviews(conn: sqlite3.Connection) -
         kind="csv",
         options={},
         rows=more,
-        sentence_offsets=[[(0, len(r["answer"]))] for r in more],
+        sentence_offsets=[[(0, len(r.answer))] for r in more],
     )
     n_after = len(store.sentences(conn))
     grown, stop_after = ensure_samples(conn, settings)

@@ -11,36 +11,36 @@ from typing import Any
 import pytest
 
 from extractor.errors import WorkspaceError
-from extractor.types import AliasEntry, ConceptEntry, Span
+from extractor.types import AliasEntry, AnswerRow, ConceptEntry, Span
 from extractor.workspace import store
 
 
-def _rows() -> list[dict]:
+def _rows() -> list[AnswerRow]:
     return [
-        {
-            "respondent": "R1",
-            "question": "Why?",
-            "answer": "It cooks fast. Good broth.",
-            "lang": "en",
-            "lang_origin": "column",
-            "variety": None,
-            "metadata": {"gender": "woman"},
-            "sheet": None,
-            "row": 2,
-            "is_group": False,
-        },
-        {
-            "respondent": "R2",
-            "question": "Why?",
-            "answer": "Trop petit.",
-            "lang": "fr",
-            "lang_origin": "detected",
-            "variety": "VAR:01",
-            "metadata": {},
-            "sheet": None,
-            "row": 3,
-            "is_group": True,
-        },
+        AnswerRow(
+            respondent="R1",
+            question="Why?",
+            answer="It cooks fast. Good broth.",
+            lang="en",
+            lang_origin="column",
+            variety=None,
+            metadata={"gender": "woman"},
+            sheet=None,
+            row=2,
+            is_group=False,
+        ),
+        AnswerRow(
+            respondent="R2",
+            question="Why?",
+            answer="Trop petit.",
+            lang="fr",
+            lang_origin="detected",
+            variety="VAR:01",
+            metadata={},
+            sheet=None,
+            row=3,
+            is_group=True,
+        ),
     ]
 
 
@@ -150,8 +150,8 @@ def test_counts_report_languages(conn: sqlite3.Connection) -> None:
 
 def test_counts_group_language_tags_by_primary_language(conn: sqlite3.Connection) -> None:
     rows = [
-        dict(_rows()[1], respondent="R3", answer="Muy rico.", lang="es-419"),
-        dict(_rows()[1], respondent="R4", answer="Muy bueno.", lang="es"),
+        _rows()[1]._replace(respondent="R3", answer="Muy rico.", lang="es-419"),
+        _rows()[1]._replace(respondent="R4", answer="Muy bueno.", lang="es"),
     ]
     store.add_source(
         conn,
@@ -202,7 +202,7 @@ def test_sentence_context_refuses_an_unknown_sentence(conn: sqlite3.Connection) 
 
 def test_respondent_metadata_is_merged_not_overwritten(conn: sqlite3.Connection) -> None:
     _add(conn)
-    row = dict(_rows()[0], answer="Soft skin.", metadata={"gender": "man", "district": "Ombala"})
+    row = _rows()[0]._replace(answer="Soft skin.", metadata={"gender": "man", "district": "Ombala"})
     store.add_source(
         conn,
         path="b.csv",

@@ -7,9 +7,9 @@ import json
 import sqlite3
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
 
 from extractor.ingest.labels._record import LabelRecord, fail
+from extractor.types import AnswerRow
 from extractor.workspace import store
 
 
@@ -52,6 +52,7 @@ def _add_sentences(
     Raises:
         InputError: A record without respondent (it could not be filed under anyone).
     """
+    rows: list[AnswerRow] = []
     for record in new:
         if record.respondent is None:
             raise fail(
@@ -61,16 +62,19 @@ def _add_sentences(
                 "file does not say who said it (add a "
                 "respondent)",
             )
-    if not new:
+        rows.append(
+            AnswerRow(
+                respondent=record.respondent,
+                answer=record.text,
+                lang=record.lang if record.lang_given else default_lang,
+                lang_origin="column" if record.lang_given else "default",
+                question=record.question,
+                variety=record.variety,
+                row=record.line,
+            )
+        )
+    if not rows:
         return 0
-    rows: list[dict[str, Any]] = [
-        {"respondent": r.respondent, "question": r.question, "answer": r.text,
-         "lang": r.lang if r.lang_given else default_lang,
-         "lang_origin": "column" if r.lang_given else "default",
-         "variety": r.variety, "metadata": {}, "sheet": None, "row": r.line,
-         "is_group": False}
-        for r in new
-    ]  # fmt: skip
     added = store.add_source(
         conn,
         path=source,

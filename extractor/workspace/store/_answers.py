@@ -9,7 +9,7 @@ from collections.abc import Iterable, Sequence
 from typing import Any, NamedTuple
 
 from extractor.errors import WorkspaceError
-from extractor.types import Sentence
+from extractor.types import AnswerRow, Sentence
 from extractor.workspace.store._schema import now, transaction
 
 
@@ -34,14 +34,13 @@ def add_source(
     sha256: str,
     kind: str,
     options: dict[str, Any],
-    rows: Sequence[dict[str, Any]],
+    rows: Sequence[AnswerRow],
     sentence_offsets: Sequence[Sequence[tuple[int, int]]],
 ) -> dict[str, int]:
     """Store one read file: the source, new respondents, new answers and their sentences.
 
-    ``rows`` are reader rows (respondent, question, answer, lang, lang_origin, variety,
-    metadata, sheet, row, is_group); ``sentence_offsets[i]`` are the sentence offsets of
-    ``rows[i]["answer"]``. Answers already stored (same respondent, question and text)
+    ``rows`` are reader rows; ``sentence_offsets[i]`` are the sentence offsets of
+    ``rows[i].answer``. Answers already stored (same respondent, question and text)
     are skipped, so re-adding a changed file adds only what is new. One transaction.
 
     Returns:
@@ -69,14 +68,14 @@ def add_source(
 
 def _add_answer(
     conn: sqlite3.Connection,
-    row: dict[str, Any],
+    row: AnswerRow,
     offsets: Sequence[tuple[int, int]],
     *,
     respondent_id: int,
     source_id: int | None,
 ) -> bool:
     """Store an answer and its sentences; return False when the answer was already stored."""
-    fingerprint = answer_fingerprint(row["respondent"], row.get("question"), row["answer"])
+    fingerprint = answer_fingerprint(row.respondent, row.question, row.answer)
     cur = conn.execute(
         "INSERT OR IGNORE INTO answers (respondent_id, source_id, question, text, lang, "
         "lang_origin, variety, speaker, sheet, row, fingerprint) "
@@ -84,14 +83,14 @@ def _add_answer(
         (
             respondent_id,
             source_id,
-            row.get("question"),
-            row["answer"],
-            row["lang"],
-            row["lang_origin"],
-            row.get("variety"),
-            row.get("speaker"),
-            row.get("sheet"),
-            row.get("row"),
+            row.question,
+            row.answer,
+            row.lang,
+            row.lang_origin,
+            row.variety,
+            row.speaker,
+            row.sheet,
+            row.row,
             fingerprint,
         ),
     )
@@ -105,12 +104,10 @@ def _add_answer(
     return True
 
 
-def _upsert_respondent(
-    conn: sqlite3.Connection, row: dict[str, Any], stamp: str
-) -> tuple[int, int]:
+def _upsert_respondent(conn: sqlite3.Connection, row: AnswerRow, stamp: str) -> tuple[int, int]:
     """Insert a respondent or merge new metadata keys into the stored ones."""
-    external = row["respondent"]
-    metadata = {k: v for k, v in (row.get("metadata") or {}).items() if v not in (None, "")}
+    external = row.respondent
+    metadata = {k: v for k, v in row.metadata.items() if v not in (None, "")}
     found = conn.execute(
         "SELECT id, metadata, is_group FROM respondents WHERE external_id = ?", (external,)
     ).fetchone()
@@ -118,7 +115,7 @@ def _upsert_respondent(
         cur = conn.execute(
             "INSERT INTO respondents (external_id, metadata, is_group, created_at) "
             "VALUES (?, ?, ?, ?)",
-            (external, json.dumps(metadata, sort_keys=True), int(bool(row.get("is_group"))), stamp),
+            (external, json.dumps(metadata, sort_keys=True), int(row.is_group), stamp),
         )
         return int(cur.lastrowid or 0), 1
     merged = json.loads(found["metadata"])
@@ -127,7 +124,7 @@ def _upsert_respondent(
         "UPDATE respondents SET metadata = ?, is_group = ? WHERE id = ?",
         (
             json.dumps(merged, sort_keys=True),
-            int(bool(found["is_group"]) or bool(row.get("is_group"))),
+            int(bool(found["is_group"]) or row.is_group),
             found["id"],
         ),
     )
