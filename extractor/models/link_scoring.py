@@ -129,16 +129,18 @@ class Scorer:
         self,
         *,
         forms: list[Alias],
+        concepts: list[str],
         context: Pipeline | None,
+        context_classes: list[str],
         exact_own: dict[str, set[str]],
         vectorizer: TfidfVectorizer,
         matrix: spmatrix | None,
         starts: np.ndarray,
     ) -> None:
         self.forms = forms
-        self.concepts = sorted({c for c, _, _ in forms})
+        self.concepts = concepts
         self.context = context
-        self.context_classes = [str(c) for c in context.classes_] if context is not None else []
+        self.context_classes = context_classes
         self.exact_own = exact_own
         self.vectorizer = vectorizer
         self.matrix = matrix
@@ -163,7 +165,9 @@ class Scorer:
                 starts.append(i)
         return cls(
             forms=ordered,
+            concepts=sorted({c for c, _, _ in ordered}),
             context=context,
+            context_classes=[str(c) for c in context.classes_] if context is not None else [],
             exact_own=exact_own,
             vectorizer=vectorizer,
             matrix=matrix,
