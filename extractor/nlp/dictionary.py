@@ -101,19 +101,32 @@ _UNKNOWN = "\x00"
 class Dictionary:
     """Aliases of concepts, matched in sentences to give silver spans.
 
-    Build it with :func:`build_dictionary`. Matchers are built lazily, once per
-    sentence language, and kept.
+    Build it with :func:`build_dictionary` (which checks the aliases) or
+    :meth:`from_aliases`. Matchers are built lazily, once per sentence language, and kept.
     """
 
-    def __init__(self, aliases: Sequence[tuple[str, str, str]]) -> None:
-        self.aliases = tuple(aliases)
+    def __init__(
+        self,
+        aliases: tuple[tuple[str, str, str], ...],
+        tokens: list[tuple[str, tuple[str, ...], str, str]],
+        alias_langs: list[str],
+    ) -> None:
+        self.aliases = aliases
+        self._tokens = tokens
+        self._alias_langs = alias_langs
         self._vocab = Vocab()
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
-        self._alias_langs = sorted({stemmer_language(lang) for _, _, lang in self.aliases})
-        self._tokens = [
+
+    @classmethod
+    def from_aliases(cls, aliases: Sequence[tuple[str, str, str]]) -> Dictionary:
+        """Return the dictionary of ``(concept_id, alias_text, lang)`` triples, tokenized."""
+        triples = tuple(aliases)
+        tokens = [
             (concept, tuple(fold(w) for w in _words(alias, lang)), alias, lang)
-            for concept, alias, lang in self.aliases
+            for concept, alias, lang in triples
         ]
+        alias_langs = sorted({stemmer_language(lang) for _, _, lang in triples})
+        return cls(triples, tokens, alias_langs)
 
     def __len__(self) -> int:
         return len(self.aliases)
@@ -245,4 +258,4 @@ def build_dictionary(aliases: Iterable[tuple[str, str, str]]) -> Dictionary:
                 f"Alias {n} of concept {concept!r} is empty; remove it or give its text."
             )
         triples.append((str(concept), str(alias).strip(), str(lang or "")))
-    return Dictionary(triples)
+    return Dictionary.from_aliases(triples)
