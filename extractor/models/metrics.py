@@ -52,6 +52,15 @@ class _MentionLike(Protocol):
     def stance(self) -> str | None: ...
 
 
+class PredictionLike(Protocol):
+    """What :func:`predicted_mentions` reads of a prediction: its mentions."""
+
+    @property
+    def mentions(self) -> Sequence[_MentionLike]:
+        """The predicted mentions of one sentence."""
+        ...
+
+
 # --------------------------------------------------------------------------- records
 
 
@@ -296,6 +305,6 @@ def summary(result: GroupScores) -> Summary:
     )
 
 
-def predicted_mentions(predictions: Iterable[Any]) -> list[list[Span]]:
+def predicted_mentions(predictions: Iterable[PredictionLike]) -> list[list[Span]]:
     """Return the mentions of model predictions (``SentencePrediction``s) as spans."""
     return [[Span(m.start, m.end, m.concept, m.stance) for m in p.mentions] for p in predictions]

@@ -23,6 +23,7 @@ from extractor.models.bundle import TraitModels
 from extractor.models.metrics import (
     SUMMARY_KEYS,
     Gold,
+    PredictionLike,
     ScoreReport,
     Summary,
     predicted_mentions,
@@ -35,7 +36,7 @@ from extractor.types import Sentence
 
 
 class _Predictor(Protocol):
-    def predict(self, sentences: Sequence[Sentence]) -> Sequence[Any]: ...
+    def predict(self, sentences: Sequence[Sentence]) -> Sequence[PredictionLike]: ...
 
 
 class _Trainable(Protocol):
