@@ -16,7 +16,8 @@ from collections.abc import Callable, Sequence
 from typing import NamedTuple
 
 from extractor.errors import TraitsError
-from extractor.loop.strategies import PoolItem, Strategy, stabilizing_predictions
+from extractor.loop.stopping import stabilizing_predictions
+from extractor.loop.strategies import PoolItem, Strategy
 from extractor.models.bundle import SentencePrediction
 from extractor.types import Sentence, Span
 

@@ -35,11 +35,11 @@ from extractor.loop.predictor import (
     tag_pool,
 )
 from extractor.loop.samples import SessionPool, SessionSettings
+from extractor.loop.stopping import should_stop
 from extractor.loop.strategies import (
     Strategy,
     get_strategy,
     select,
-    should_stop,
     weigh_by_density,
 )
 from extractor.models.bundle import SentencePrediction

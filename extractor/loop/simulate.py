@@ -266,21 +266,6 @@ def simulate(
     pool_gold = to_gold(pool, first_id=0)
     test_gold = to_gold(test, first_id=len(pool_gold))
     shared = _share(pool_gold, test_gold, aliases, chosen, model, model_params, clusters, seed)
-    tasks = [
-        _Task(
-            name,
-            spec,
-            r,
-            tuple(sorted(set(budgets))),
-            seed,
-            seed_size,
-            batch_size,
-            retrain_every,
-            subpool,
-        )
-        for r in range(repeats)
-        for name, spec in zip(strategies, chosen, strict=True)
-    ]
     settings = SimulationSettings(
         strategies=list(strategies),
         budgets=sorted(set(budgets)),
@@ -297,7 +282,26 @@ def simulate(
         aliases=len(aliases),
         strategy_settings={n: _describe(s) for n, s in zip(strategies, chosen, strict=True)},
     )
-    return SimulationResults(settings, tuple(_run_all(tasks, shared, jobs)))
+    return SimulationResults(settings, tuple(_run_all(_tasks(settings, chosen), shared, jobs)))
+
+
+def _tasks(settings: SimulationSettings, chosen: Sequence[active.Strategy]) -> list[_Task]:
+    """Return one run per repeat and strategy, repeat by repeat."""
+    return [
+        _Task(
+            name,
+            spec,
+            r,
+            tuple(settings.budgets),
+            settings.seed,
+            settings.seed_size,
+            settings.batch_size,
+            settings.retrain_every,
+            settings.subpool,
+        )
+        for r in range(settings.repeats)
+        for name, spec in zip(settings.strategies, chosen, strict=True)
+    ]
 
 
 def _check_numbers(

@@ -1,14 +1,13 @@
-"""Query strategies, batch selection and the stopping rule of the active-learning loop.
+"""Query strategies and batch selection of the active-learning loop.
 
 A strategy scores a pool of tagged sentences (higher = more worth an annotator's time)
 with plain functions of one signature, ``score(items) -> np.ndarray``; :func:`select`
 then picks a batch, optionally spread out over sentence vectors so that five copies of
 the same complaint are not asked five times. The formulas follow Settles & Craven (2008),
-"An Analysis of Active Learning Strategies for Sequence Labeling Tasks" (EMNLP); the
-stopping rule follows Bloodgood & Vijay-Shanker (2009), "A Method for Stopping Active
-Learning Based on Stabilizing Predictions and the Need for User-Adjustable Stopping"
-(CoNLL). Density uses modAL's information density; batch diversity follows modAL's
-ranked batch selection (tests check both against modAL).
+"An Analysis of Active Learning Strategies for Sequence Labeling Tasks" (EMNLP).
+Density uses modAL's information density; batch diversity follows modAL's ranked batch
+selection (tests check both against modAL). The stopping rule is in
+:mod:`extractor.loop.stopping`.
 
 Cold start: a sentence without a model prediction (``path_prob is None``) scores 0, so
 with no fitted model every sentence scores the same and :func:`select` falls back to
@@ -372,62 +371,3 @@ def select(
         np.asarray(vectors, dtype=float)[pool], unit, labeled, n, n_unlabeled=len(allowed)
     )
     return [int(pool[i]) for i in picked]
-
-
-# --------------------------------------------------------------------------- stopping
-
-
-def _flatten(tags: Sequence[Sequence[str]] | Sequence[str]) -> list[str]:
-    out: list[str] = []
-    for item in tags:
-        if isinstance(item, str):
-            out.append(item)
-        else:
-            out.extend(item)
-    return out
-
-
-def stabilizing_predictions(
-    previous_tags: Sequence[Sequence[str]] | Sequence[str],
-    current_tags: Sequence[Sequence[str]] | Sequence[str],
-) -> float:
-    """Cohen's kappa between two successive models' token tags on the stop set.
-
-    Bloodgood & Vijay-Shanker (2009): when successive models agree almost perfectly on
-    a fixed unlabeled stop set, further labels change little. Tags may be given per
-    sentence (lists of lists) or flat; they are compared token by token.
-
-    When both models give every token the same single tag (say all ``O``), expected and
-    observed agreement are both 1 and the formula is 0/0; we define kappa = 1.0 there,
-    because the two models agree perfectly (scikit-learn returns NaN unless told
-    ``replace_undefined_by=1.0``).
-
-    Raises:
-        InputError: the two predictions do not cover the same number of tokens, or none.
-    """
-    first, second = _flatten(previous_tags), _flatten(current_tags)
-    if len(first) != len(second) or not first:
-        raise InputError(
-            "Both models' predictions must cover the same stop-set tokens; got "
-            f"{len(first)} and {len(second)} tokens."
-        )
-    n = len(first)
-    observed = sum(a == b for a, b in zip(first, second, strict=True)) / n
-    labels = set(first) | set(second)
-    expected = sum((first.count(t) / n) * (second.count(t) / n) for t in labels)
-    if expected >= 1.0:
-        return 1.0
-    return (observed - expected) / (1.0 - expected)
-
-
-def should_stop(kappas: Sequence[float], threshold: float = 0.99, rounds: int = 3) -> bool:
-    """Return True once the last ``rounds`` kappas are all at or above ``threshold``.
-
-    Bloodgood & Vijay-Shanker (2009) stop when agreement stays above 0.99 over a window
-    of three successive comparisons; both numbers are settings, as their title asks.
-    """
-    if rounds < 1:
-        raise InputError(f"The number of rounds must be at least 1; got {rounds}.")
-    if len(kappas) < rounds:
-        return False
-    return all(k >= threshold for k in kappas[-rounds:])

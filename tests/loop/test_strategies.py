@@ -1,12 +1,11 @@
-"""Query strategies, batch selection and the stopping rule, checked against outside sources.
+"""Query strategies and batch selection, checked against outside sources.
 
 Sources: Settles & Craven (2008), "An Analysis of Active Learning Strategies for Sequence
 Labeling Tasks", EMNLP, section 3.1 (least confidence LC = 1 - P(y*|x); token entropy
 TE = -(1/T) sum_t sum_m P(y_t=m) log P(y_t=m); total token entropy TTE = T * TE) and the
 information density formula (score * mean similarity ** beta), formulas from memory;
-modAL's own uncertainty, density and batch functions; scikit-learn's cohen_kappa_score;
-Bloodgood & Vijay-Shanker (2009), CoNLL, for the stopping rule (window of three, 0.99,
-from memory).
+modAL's own uncertainty, density and batch functions. The stopping rule's tests are in
+test_stopping.py.
 """
 
 from __future__ import annotations
@@ -18,7 +17,6 @@ import pytest
 from modAL.batch import ranked_batch
 from modAL.density import information_density
 from modAL.uncertainty import classifier_entropy, classifier_uncertainty
-from sklearn.metrics import cohen_kappa_score
 
 from extractor.errors import InputError
 from extractor.loop import strategies as active
@@ -31,8 +29,6 @@ from extractor.loop.strategies import (
     mean_entropy,
     norm_logprob,
     select,
-    should_stop,
-    stabilizing_predictions,
     total_entropy,
     weigh_by_density,
 )
@@ -329,61 +325,3 @@ def test_sentence_vectors_are_unit_length_and_one_per_sentence() -> None:
     vectors = active.sentence_vectors(texts + ["Leaves turn bitter in Tinsoka"], dims=8)
     assert vectors.shape[0] == 13
     assert np.linalg.norm(vectors, axis=1) == pytest.approx(np.ones(13))
-
-
-# --------------------------------------------------------------------------- stopping
-
-KAPPA_CASES = [
-    (["O", "O", "B-TRAIT", "I-TRAIT", "O"], ["O", "B-TRAIT", "B-TRAIT", "I-TRAIT", "O"]),
-    (["O"] * 8 + ["B-TRAIT", "I-TRAIT"], ["O"] * 9 + ["B-TRAIT"]),
-    (["O", "B-TRAIT", "O", "B-TRAIT"], ["B-TRAIT", "O", "B-TRAIT", "O"]),
-    (["O", "B-TRAIT", "I-TRAIT"] * 5, ["O", "B-TRAIT", "I-TRAIT"] * 5),
-]
-
-
-@pytest.mark.parametrize(
-    ("first", "second"),
-    KAPPA_CASES,
-    ids=["one-disagreement", "rare-traits", "total-disagreement", "identical"],
-)
-def test_kappa_equals_sklearn_cohen_kappa(first: list[str], second: list[str]) -> None:
-    assert stabilizing_predictions(first, second) == pytest.approx(cohen_kappa_score(first, second))
-
-
-def test_kappa_flattens_per_sentence_tags() -> None:
-    first, second = KAPPA_CASES[0]
-    nested = [first[:2], first[2:]], [second[:2], second[2:]]
-    assert stabilizing_predictions(*nested) == pytest.approx(cohen_kappa_score(first, second))
-
-
-@pytest.mark.filterwarnings("ignore::sklearn.exceptions.UndefinedMetricWarning")
-def test_kappa_is_one_when_both_models_tag_everything_o() -> None:
-    # Degenerate case: expected agreement is 1, the formula is 0/0. We define kappa = 1.0
-    # (perfect agreement); scikit-learn gives NaN unless told replace_undefined_by=1.0.
-    tags = ["O"] * 12
-    assert stabilizing_predictions(tags, tags) == 1.0
-
-
-def test_kappa_rejects_different_token_counts() -> None:
-    with pytest.raises(InputError, match="same stop-set tokens; got 3 and 2"):
-        stabilizing_predictions(["O", "O", "O"], ["O", "O"])
-
-
-@pytest.mark.parametrize(
-    ("kappas", "expected"),
-    [
-        ([0.5, 0.995, 0.992, 0.999], True),
-        ([0.995, 0.98, 0.999, 0.999], False),
-        ([0.999, 0.999], False),
-        ([], False),
-        ([0.9, 0.991, 1.0, 0.99], True),
-    ],
-    ids=["three-above", "dip-inside-window", "too-few-rounds", "none", "at-threshold"],
-)
-def test_should_stop_follows_window_of_three(kappas: list[float], expected: bool) -> None:
-    assert should_stop(kappas, threshold=0.99, rounds=3) is expected
-
-
-def test_should_stop_rejects_zero_rounds() -> None:
-    with pytest.raises(InputError, match="at least 1; got 0"):
-        should_stop([1.0], rounds=0)
