@@ -28,7 +28,7 @@ from __future__ import annotations
 from collections import defaultdict
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, fields
-from typing import Any, Protocol
+from typing import Protocol
 
 from extractor.errors import InputError
 from extractor.nlp.spans import PRF, prf, span_prf
@@ -193,8 +193,10 @@ def respondent_scores(
         return None
     with_stance = any(s.stance for spans in gold for s in spans if s.concept)
 
-    def triples(spans_per_sentence: Sequence[Sequence[_MentionLike]]) -> set[tuple[Any, ...]]:
-        out: set[tuple[Any, ...]] = set()
+    def triples(
+        spans_per_sentence: Sequence[Sequence[_MentionLike]],
+    ) -> set[tuple[str | None, ...]]:
+        out: set[tuple[str | None, ...]] = set()
         for sentence, spans in zip(sentences, spans_per_sentence, strict=True):
             for span in spans:
                 if span.concept:

@@ -11,7 +11,7 @@ from __future__ import annotations
 import json
 import zipfile
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
 
 import skops.io
 from sklearn.feature_extraction import DictVectorizer
@@ -67,7 +67,10 @@ TRUSTED_TYPES = [
 """Types that :func:`load_trusted_skops` accepts in a skops file; anything else is refused."""
 
 
-def load_trusted_skops(path: Path, expected: type) -> Any:
+_T = TypeVar("_T")
+
+
+def load_trusted_skops(path: Path, expected: type[_T]) -> _T:
     """Load a skops file, refusing any type outside :data:`TRUSTED_TYPES`.
 
     skops already refuses types it does not know to be safe unless they are listed;
