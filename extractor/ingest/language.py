@@ -23,6 +23,7 @@ from lingua import Language, LanguageDetector, LanguageDetectorBuilder
 
 from extractor.errors import InputError
 from extractor.nlp.fold import fold
+from extractor.nlp.text import primary_subtag
 
 # RFC 5646 section 2.1 "Syntax": the ABNF of a language tag, one regex per production.
 _LANGUAGE = re.compile(r"[a-z]{2,3}|[a-z]{4}|[a-z]{5,8}")
@@ -258,7 +259,7 @@ def _candidate_map(candidates: Sequence[str] | None) -> dict[Language, str]:
     """Map each detectable candidate's lingua language to the candidate tag as given."""
     out: dict[Language, str] = {}
     for tag in candidates if candidates else DEFAULT_CANDIDATES:
-        lang = _lingua_by_code().get(tag.split("-")[0].lower())
+        lang = _lingua_by_code().get(primary_subtag(tag))
         if lang is not None and lang not in out:
             out[lang] = tag
     return out
