@@ -1,32 +1,33 @@
 """The exports of a workspace: the workbook with its chart, and the plain formats.
 
 Each reads the store into frames (:mod:`extractor.report.results`), applies the
-workspace's export settings and hands the frames to a pure writer in
+workspace's export settings (grouping, confidence floor, pseudonymisation with the
+workspace's own secret and names file) and hands the frames to a pure writer in
 :mod:`extractor.report`.
 """
 
 from __future__ import annotations
 
+import base64
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
+
+import pandas as pd
 
 from extractor.errors import InputError
 from extractor.jobs.inputs import gold_examples
 from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
 from extractor.report.inputs import prepare
-from extractor.report.results import (
-    concept_frame,
-    group_columns,
-    mention_frame,
-    privacy_options,
-    respondent_frame,
-    run_facts,
-)
+from extractor.report.privacy import PrivacyOptions, new_secret
+from extractor.report.results import concept_frame, mention_frame, respondent_frame, run_facts
 from extractor.report.workbook import write_workbook
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
+SECRET_KEY = "pseudonym_secret"
+"""Meta key of the workspace's pseudonym secret (base64); it never leaves the store."""
 OTHER_FORMATS = {"csv": ".csv", "jsonl": ".jsonl", "conll": ".conll", "jsonld": ".jsonld"}
 """Export format -> file suffix, besides the workbook (``xlsx``)."""
 
@@ -38,6 +39,56 @@ class ExportResult:
     path: Path
     mentions: int
     chart: Path | None = None
+
+
+def workspace_secret(ws: Workspace) -> bytes:
+    """Return the workspace's pseudonym key, creating it on first use; it never leaves the store."""
+    found = store.get_meta(ws.conn, SECRET_KEY)
+    if found is None:
+        found = base64.b64encode(new_secret()).decode("ascii")
+        store.set_meta(ws.conn, SECRET_KEY, found)
+    return base64.b64decode(found)
+
+
+def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOptions:
+    """Return the pseudonymisation options from the workspace settings."""
+    settings = ws.settings.export
+    names: tuple[str, ...] = ()
+    path_text = names_file or settings.names_file
+    if path_text:
+        path = Path(path_text) if Path(path_text).is_absolute() else ws.root / path_text
+        if not path.is_file():
+            raise InputError(
+                f"The names file {path} does not exist; give a text file with one name per line."
+            )
+        try:
+            text = path.read_text(encoding="utf-8")
+        except UnicodeDecodeError as exc:
+            raise InputError(
+                f"The names file {path} is not UTF-8 text; save it as UTF-8 and export again."
+            ) from exc
+        names = tuple(line.strip() for line in text.splitlines() if line.strip())
+    return PrivacyOptions(
+        secret=workspace_secret(ws),
+        names=names,
+        drop_columns=settings.identifying_columns,
+    )
+
+
+def group_columns(
+    ws: Workspace, respondents: pd.DataFrame, chosen: Sequence[str] | None = None
+) -> list[str]:
+    """Return the grouping columns to use: chosen ones, else the configured ones present."""
+    wanted = list(chosen) if chosen else list(ws.settings.export.group_by)
+    if chosen:
+        missing = [c for c in wanted if c not in respondents.columns]
+        if missing:
+            raise InputError(
+                f"No respondent column {missing[0]!r}; choose from "
+                + ", ".join(c for c in respondents.columns if c not in ("respondent", "is_group"))
+                + "."
+            )
+    return [c for c in wanted if c in respondents.columns]
 
 
 def min_confidence_floor(ws: Workspace, given: float | None) -> float | None:

@@ -7,22 +7,16 @@ labels always win).
 
 from __future__ import annotations
 
-import base64
 from collections.abc import Callable, Mapping, Sequence
 from datetime import UTC, datetime
-from pathlib import Path
 from typing import Any
 
 import pandas as pd
 
-from extractor.errors import InputError
 from extractor.report.about import RunFacts
-from extractor.report.privacy import PrivacyOptions, new_secret
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
-
-SECRET_KEY = "pseudonym_secret"
 
 
 def _display_name(labels: Mapping[str, str], default: str, fallback: str) -> str:
@@ -142,40 +136,6 @@ def respondent_frame(ws: Workspace) -> pd.DataFrame:
     return pd.DataFrame(store.respondents(ws.conn))
 
 
-def workspace_secret(ws: Workspace) -> bytes:
-    """Return the workspace's pseudonym key, creating it on first use; it never leaves the store."""
-    found = store.get_meta(ws.conn, SECRET_KEY)
-    if found is None:
-        found = base64.b64encode(new_secret()).decode("ascii")
-        store.set_meta(ws.conn, SECRET_KEY, found)
-    return base64.b64decode(found)
-
-
-def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOptions:
-    """Return the pseudonymisation options from the workspace settings."""
-    settings = ws.settings.export
-    names: tuple[str, ...] = ()
-    path_text = names_file or settings.names_file
-    if path_text:
-        path = Path(path_text) if Path(path_text).is_absolute() else ws.root / path_text
-        if not path.is_file():
-            raise InputError(
-                f"The names file {path} does not exist; give a text file with one name per line."
-            )
-        try:
-            text = path.read_text(encoding="utf-8")
-        except UnicodeDecodeError as exc:
-            raise InputError(
-                f"The names file {path} is not UTF-8 text; save it as UTF-8 and export again."
-            ) from exc
-        names = tuple(line.strip() for line in text.splitlines() if line.strip())
-    return PrivacyOptions(
-        secret=workspace_secret(ws),
-        names=names,
-        drop_columns=settings.identifying_columns,
-    )
-
-
 def run_facts(ws: Workspace, version: str | None) -> RunFacts:
     """Return the facts shown on the workbook's About sheet."""
     model = next((m for m in store.models(ws.conn) if m.version == version), None)
@@ -195,19 +155,3 @@ def run_facts(ws: Workspace, version: str | None) -> RunFacts:
         sentences_labeled=counts["labels"],
         exported=datetime.now(UTC).isoformat(timespec="seconds"),
     )
-
-
-def group_columns(
-    ws: Workspace, respondents: pd.DataFrame, chosen: Sequence[str] | None = None
-) -> list[str]:
-    """Return the grouping columns to use: chosen ones, else the configured ones present."""
-    wanted = list(chosen) if chosen else list(ws.settings.export.group_by)
-    if chosen:
-        missing = [c for c in wanted if c not in respondents.columns]
-        if missing:
-            raise InputError(
-                f"No respondent column {missing[0]!r}; choose from "
-                + ", ".join(c for c in respondents.columns if c not in ("respondent", "is_group"))
-                + "."
-            )
-    return [c for c in wanted if c in respondents.columns]

@@ -15,8 +15,17 @@ import openpyxl
 import pytest
 
 from extractor.errors import InputError
-from extractor.jobs.export import ExportResult, export, export_other, export_workbook
+from extractor.jobs.export import (
+    ExportResult,
+    export,
+    export_other,
+    export_workbook,
+    group_columns,
+    privacy_options,
+    workspace_secret,
+)
 from extractor.report.caution import REVIEW_CAUTION
+from extractor.report.results import respondent_frame
 from extractor.workspace.folder import Workspace
 from tests.report.study import VERSION, build_workspace
 
@@ -86,3 +95,39 @@ def test_export_without_a_model_writes_person_labels(tmp_path: Path) -> None:
     with build_workspace(tmp_path / "ws", with_model=False) as ws:
         result = export(ws, "csv", out=tmp_path / "out.csv")
     assert result == ExportResult(tmp_path / "out.csv", 1)
+
+
+def test_workspace_secret_is_made_once_and_kept(ws: Workspace) -> None:
+    first = workspace_secret(ws)
+    # RFC 2104 section 3: the key should be at least as long as the hash output (32 bytes
+    # for SHA-256) to be strong; the same key must come back on every export.
+    assert len(first) >= 32
+    assert workspace_secret(ws) == first
+
+
+def test_privacy_options_read_the_names_file(ws: Workspace) -> None:
+    (ws.root / "names.txt").write_text("Amani\n\n  Wanjiru \n", encoding="utf-8")
+    options = privacy_options(ws, "names.txt")
+    assert options.names == ("Amani", "Wanjiru")
+    assert options.drop_columns == ws.settings.export.identifying_columns
+
+
+@pytest.mark.parametrize(
+    ("content", "message"),
+    [(None, "names file .* does not exist"), (b"Am\xe9lie\n", "is not UTF-8 text")],
+    ids=["missing", "latin-1"],
+)
+def test_privacy_options_bad_names_file_is_one_sentence(
+    ws: Workspace, content: bytes | None, message: str
+) -> None:
+    if content is not None:
+        (ws.root / "names.txt").write_bytes(content)
+    with pytest.raises(InputError, match=message):
+        privacy_options(ws, "names.txt")
+
+
+def test_group_columns_chosen_must_exist(ws: Workspace) -> None:
+    respondents = respondent_frame(ws)
+    assert group_columns(ws, respondents, ["gender"]) == ["gender"]
+    with pytest.raises(InputError, match="No respondent column 'region'; choose from gender."):
+        group_columns(ws, respondents, ["region"])
