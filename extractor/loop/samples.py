@@ -9,6 +9,7 @@ strategy needs.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 import sqlite3
 from collections.abc import Sequence
@@ -169,6 +170,11 @@ class SessionPool:
         if strategy.density_beta and len(pool):
             found = dataclasses.replace(found, density=density(found.vector_rows(pool)))
         return found
+
+    @functools.cached_property
+    def pool_vectors(self) -> np.ndarray:
+        """Return the vectors of the sentences in ``ids``, in that order (computed once)."""
+        return self.vector_rows([int(i) for i in self.ids])
 
     def vector_rows(self, ids: Sequence[int]) -> np.ndarray:
         """Return the vectors of the given sentence IDs (zeros when there are none)."""

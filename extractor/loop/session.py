@@ -83,7 +83,6 @@ class Session:
         self._retrain = retrain
         self.model_version = 0
         self._subpool: set[int] | None = None
-        self._pool_vectors: np.ndarray | None = None
         self._predictions: dict[int, SentencePrediction] = {}
         self._scores = np.zeros(len(pool.ids))
         self._stop_paths: list[tuple[str, ...]] = []
@@ -265,13 +264,9 @@ class Session:
             rows_of = self.pool.vector_rows_of or {}
             recent = [i for i in self._labeled if i in rows_of][-2000:]
             labeled_vectors = self.pool.vector_rows(recent)
-        if self.strategy.diversity and self._pool_vectors is None:
-            # The pool and its sentences' vectors do not change during a session.
-            self._pool_vectors = self.pool.vector_rows([int(i) for i in self.pool.ids])
-        pool_vectors = self._pool_vectors
         picked = select(
             self._scores,
-            pool_vectors,
+            self.pool.pool_vectors if self.strategy.diversity else None,
             self.batch_size,
             diversity=self.strategy.diversity,
             exclude=exclude,
