@@ -4,12 +4,17 @@ from __future__ import annotations
 
 import argparse
 from pathlib import Path
-from typing import Any
 
 from rich.console import Console
 from rich.table import Table
 
-from extractor.cli.common import metric_summary, open_workspace, print_notes, print_warnings
+from extractor.cli.common import (
+    Subcommands,
+    metric_summary,
+    open_workspace,
+    print_notes,
+    print_warnings,
+)
 from extractor.jobs.export import export
 from extractor.jobs.run import RunReport, run_in, train_and_tag
 from extractor.jobs.status import model_versions
@@ -119,7 +124,7 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
-def register(sub: Any) -> None:
+def register(sub: Subcommands) -> None:
     """Add ``train``, ``models``, ``run`` and ``export`` to the command's subparsers."""
     p = sub.add_parser("train", help="train a new model version")
     p.add_argument("--no-cv", action="store_true", help="skip cross-validation")
