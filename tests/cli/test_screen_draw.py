@@ -1,0 +1,94 @@
+"""Drawing the labeling screen: labels, confidences and span marks, as pure functions.
+
+Expected texts are built with plain string operations on the sentence, independently of
+rich, which only renders them.
+"""
+
+from __future__ import annotations
+
+import io
+
+import pytest
+from rich.console import Console
+
+from extractor.cli.screen_draw import (
+    STANCE_STYLE,
+    concept_label,
+    confidence_text,
+    context_grid,
+    sentence_text,
+)
+from extractor.loop.items import Item
+from extractor.loop.marking import ConceptEntry
+from extractor.models.bundle import Mention
+from extractor.types import Sentence, Span
+from extractor.workspace.store import SentenceContext
+
+# invented concept IDs and labels
+ENTRIES = [
+    ConceptEntry("BTX:0001", "cooking time", "en", True),
+    ConceptEntry("BTX:0001", "temps de cuisson", "fr", True),
+    ConceptEntry("BTX:0001", "cooks fast", "en", False),
+    ConceptEntry("BTX:0009", "rendimiento", "es", True),
+]
+TEXT = "It cooks fast and the broth is thick."
+
+
+def _item(context: SentenceContext | None = None) -> Item:
+    sentence = Sentence(id=1, text=TEXT, lang="en", respondent="KA-01")
+    ctx = context or SentenceContext(None, None, "KA-01", {}, False, None)
+    return Item(sentence, ctx, (), None, "none", False)
+
+
+@pytest.mark.parametrize(
+    ("concept", "lang", "expected"),
+    [
+        ("BTX:0001", "fr", "BTX:0001 temps de cuisson"),
+        ("BTX:0001", "es", "BTX:0001 cooking time"),
+        ("BTX:0009", "en", "BTX:0009 rendimiento"),
+        (None, "en", "no concept"),
+    ],
+    ids=["own-language", "english-fallback", "any-label", "none"],
+)
+def test_concept_label_prefers_the_sentence_language(
+    concept: str | None, lang: str, expected: str
+) -> None:
+    assert concept_label(ENTRIES, concept, lang) == expected
+
+
+def test_confidence_text_follows_the_drafted_concept_and_stance() -> None:
+    mention = Mention(
+        3, 13, 0.914, "BTX:0001", 0.8, "liked", 0.7, {"BTX:0001": 0.8}, {"liked": 0.7}
+    )
+    assert confidence_text(mention, Span(3, 13, "BTX:0001", "liked")) == (
+        "span 0.91 concept 0.80 stance 0.70"
+    )
+    # the annotator chose another concept and stance: the model has no figure for them
+    assert confidence_text(mention, Span(3, 13, "BTX:0002", "wanted")) == "span 0.91"
+
+
+def test_sentence_text_numbers_each_span_and_underlines_its_words() -> None:
+    draft = [Span(3, 13, "BTX:0001", "liked"), Span(22, 27, None, "disliked")]
+    text = sentence_text(_item(), draft)
+    expected = TEXT[:13] + "[1]" + TEXT[13:27] + "[2]" + TEXT[27:]
+    assert text.plain == expected
+    marked = {
+        (expected[s.start : s.end], str(s.style)) for s in text.spans if "underline" in str(s.style)
+    }
+    assert marked == {
+        ("cooks fast", f"underline {STANCE_STYLE['liked']}"),
+        ("broth", f"underline {STANCE_STYLE['disliked']}"),
+    }
+
+
+def test_context_lists_the_question_and_who_answered_in_a_fixed_order() -> None:
+    ctx = SentenceContext(
+        "Why do you grow it?", None, "KA-01", {"village": "Vesk", "gender": "woman"}, True, "Zanobi"
+    )
+    console = Console(file=io.StringIO(), width=120)
+    console.print(context_grid(_item(ctx)))
+    out = console.file
+    assert isinstance(out, io.StringIO)
+    text = out.getvalue()
+    assert "Why do you grow it?" in text
+    assert "KA-01 · gender woman · village Vesk · group interview · variety Zanobi" in text
