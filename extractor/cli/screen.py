@@ -259,6 +259,15 @@ class LabelScreen:
         self.mark(item, words, draft)
         return False
 
+    def run(self) -> None:
+        """Show sentences until nothing is left, the annotator quits or presses Ctrl-C."""
+        try:
+            self.loop()
+        except _Quit:
+            pass
+        except KeyboardInterrupt:
+            self.console.print()
+
     def loop(self) -> None:
         """Show sentences until nothing is left or the annotator quits."""
         while True:
@@ -356,12 +365,7 @@ def run_console(
         entries=concept_entries(conn),
         quality=quality,
     )
-    try:
-        screen.loop()
-    except _Quit:
-        pass
-    except KeyboardInterrupt:
-        console.print()
+    screen.run()
     summary = session.quit()
     console.print(
         f"Saved: {summary.labeled} labels this session, {summary.total_labels} in total"
