@@ -1,1 +1,1 @@
-"""nlp."""
+"""Text processing below the models: tokens, the one fold, dictionary matching, features, clusters, spans."""
