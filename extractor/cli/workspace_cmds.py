@@ -52,7 +52,10 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
             ws, [Path(p) for p in args.files], sheet=args.sheet, mapping=_column_mapping(args)
         )
     table = Table(title="Interview files")
-    for column in ("file", "status", "layout", *_COUNT_COLUMNS):
+    # A path is never cut short: it folds onto further lines (no ellipsis) so the user
+    # can see exactly which file each row is about, however narrow the terminal.
+    table.add_column("file", overflow="fold")
+    for column in ("status", "layout", *_COUNT_COLUMNS):
         table.add_column(column, justify="right" if column in _COUNT_COLUMNS else "left")
     for report in reports:
         counts = (getattr(report, k) for k in _COUNT_COLUMNS)
