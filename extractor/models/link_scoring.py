@@ -238,7 +238,7 @@ class Scorer:
                         float(fuzzy[i, col[c]]) if c in col else 0.0,
                         ctx_row.get(c, 0.0),
                     )
-                    for c in pool
+                    for c in sorted(pool)  # sets iterate by hash: sort, so every run fits alike
                 }
             )
         return out

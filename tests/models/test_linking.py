@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -217,3 +220,30 @@ def test_clone_gives_an_unfitted_linker_with_the_same_params(cold: ConceptLinker
     linker = ConceptLinker(threshold=0.4, C=2.0, folds=3, seed=7)
     assert clone(linker).get_params() == {"C": 2.0, "folds": 3, "seed": 7, "threshold": 0.4}
     assert cold.is_fitted and not clone(cold).is_fitted
+
+
+_SEEDED_FIT = """
+from tests.models.test_linking import ALIASES, _examples, _mention
+from extractor.models.linking import ConceptLinker
+linker = ConceptLinker().fit(_examples(4), ALIASES)
+print(repr(list(linker.weights_)))
+print(repr(linker.link(*_mention("The cookin tme is short.", "cookin tme")).probability))
+"""
+
+
+def test_fit_gives_the_same_model_whatever_the_hash_seed() -> None:
+    # Python randomises str hashing per process (PYTHONHASHSEED, see the Python docs on
+    # object.__hash__): a model must not depend on set iteration order, or two runs of the
+    # same study give different probabilities.
+    outputs = []
+    for seed in ("1", "2"):
+        done = subprocess.run(
+            [sys.executable, "-c", _SEEDED_FIT],
+            capture_output=True,
+            text=True,
+            check=True,
+            env={**os.environ, "PYTHONHASHSEED": seed},
+            cwd=Path(__file__).resolve().parents[2],
+        )
+        outputs.append(done.stdout)
+    assert outputs[0] == outputs[1]
