@@ -110,6 +110,20 @@ def test_no_function_level_imports_of_the_package() -> None:
     assert hidden == []
 
 
+# the only library imported inside functions: slow to import and needed only for a chart
+LAZY_LIBRARIES = {"matplotlib"}
+
+
+def test_function_level_imports_only_of_slow_libraries() -> None:
+    lazy = {
+        f"{module}:{node.lineno} {name}"
+        for module, tree in MODULES.items()
+        for node, name, nested in _imports(tree)
+        if nested and name.split(".")[0] not in LAZY_LIBRARIES
+    }
+    assert lazy == set()
+
+
 def test_modules_stay_small() -> None:
     sizes = {_module_name(p): len(p.read_text("utf-8").splitlines()) for p in PACKAGE.rglob("*.py")}
     assert {m: n for m, n in sizes.items() if n > MAX_LINES} == {}

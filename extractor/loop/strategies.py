@@ -22,7 +22,10 @@ from typing import NamedTuple
 
 import numpy as np
 from modAL.density import information_density
+from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.metrics import pairwise_distances_chunked
+from sklearn.preprocessing import normalize
+from sklearn.random_projection import SparseRandomProjection
 
 from extractor.errors import InputError
 
@@ -189,10 +192,6 @@ def sentence_vectors(texts: Sequence[str], *, dims: int = 128, seed: int = 0) ->
     (Johnson-Lindenstrauss) at a fraction of the cost of an SVD, so a pool of 5,000
     sentences is vectorised in about a second.
     """
-    from sklearn.feature_extraction.text import TfidfVectorizer
-    from sklearn.preprocessing import normalize
-    from sklearn.random_projection import SparseRandomProjection
-
     if not texts:
         return np.zeros((0, 1))
     tfidf = TfidfVectorizer(

@@ -51,6 +51,7 @@ def chart_title(grouping: str | None) -> str:
 
 def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
     """Draw ``data`` from :func:`chart_data` as a horizontal grouped bar chart PNG."""
+    # matplotlib is slow to import and only needed here
     import matplotlib
 
     matplotlib.use("Agg")  # no display on servers; set before pyplot is imported
