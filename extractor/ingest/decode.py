@@ -7,6 +7,7 @@ Shared by the interview readers (:mod:`extractor.ingest.tables`,
 
 from __future__ import annotations
 
+import codecs
 import csv
 import io
 import itertools
@@ -21,15 +22,40 @@ OLE_MAGIC = b"\xd0\xcf\x11\xe0"
 ZIP_MAGIC = b"PK\x03\x04"
 """First bytes of a zip archive, which .xlsx and .docx files are."""
 
+BYTE_ORDER_MARKS = (
+    (codecs.BOM_UTF32_LE, "utf-32-le"),
+    (codecs.BOM_UTF32_BE, "utf-32-be"),
+    (codecs.BOM_UTF8, "utf-8-sig"),
+    (codecs.BOM_UTF16_LE, "utf-16-le"),
+    (codecs.BOM_UTF16_BE, "utf-16-be"),
+)
+"""Byte order marks and the encoding each announces, as the Unicode FAQ "UTF-8, UTF-16,
+UTF-32 & BOM" tabulates them. UTF-32 LE comes first because its mark begins with UTF-16
+LE's. Excel's "Unicode text" export is UTF-16 LE with a mark."""
+
+DELIMITERS = (",", ";", "\t", "|")
+"""The CSV delimiters :func:`sniff_delimiter` chooses among (ties go to the earlier one)."""
+
+
+def bom_encoding(data: bytes) -> tuple[str, bytes] | None:
+    """Return the encoding a byte order mark announces and the bytes after it, if any."""
+    for bom, encoding in BYTE_ORDER_MARKS:
+        if data.startswith(bom):
+            return encoding, data[len(bom) :]
+    return None
+
 
 def decode_text(data: bytes, path: Path) -> tuple[str, str, list[str]]:
-    """Decode file bytes: UTF-8 (with or without BOM), else cp1252, else latin-1.
+    """Decode file bytes: by their byte order mark, else UTF-8, else cp1252, else latin-1.
 
     Returns:
         ``(text, encoding, warnings)``; a warning names the fallback encoding used.
     """
-    if data.startswith(b"\xef\xbb\xbf"):
-        return data[3:].decode("utf-8", errors="replace"), "utf-8-sig", []
+    marked = bom_encoding(data)
+    if marked is not None:
+        encoding, body = marked
+        codec = "utf-8" if encoding == "utf-8-sig" else encoding
+        return body.decode(codec, errors="replace"), encoding, []
     try:
         return data.decode("utf-8"), "utf-8", []
     except UnicodeDecodeError:
@@ -48,9 +74,13 @@ def decode_text(data: bytes, path: Path) -> tuple[str, str, list[str]]:
 
 
 def sniff_delimiter(text: str) -> str:
-    """Choose ``,`` or ``;``: the one giving a multi-column, consistently wide header."""
+    """Choose among :data:`DELIMITERS` the one giving a multi-column, consistently wide header.
+
+    Unlike ``csv.Sniffer``, which gives up on tables whose quoted text holds the
+    delimiter, this always answers (a comma when nothing splits the header).
+    """
     best, best_score = ",", (False, -1, -1)
-    for delimiter in (",", ";"):
+    for delimiter in DELIMITERS:
         records = list(itertools.islice(csv.reader(io.StringIO(text, newline=""),
                                                    delimiter=delimiter), 50))  # fmt: skip
         records = [r for r in records if any(c.strip() for c in r)]

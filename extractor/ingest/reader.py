@@ -12,6 +12,7 @@ from typing import Any, NamedTuple
 
 from extractor.errors import InputError
 from extractor.ingest.columns import MAPPING_KEYS
+from extractor.ingest.decode import bom_encoding
 from extractor.ingest.language import detect_languages, normalise_tag
 from extractor.ingest.tables import read_delimited, read_workbook
 from extractor.ingest.transcripts import docx_lines, parse_transcript, text_lines
@@ -118,7 +119,8 @@ def _read_bytes(path: Path) -> bytes:
             f"File '{path.name}' cannot be read ({err.strerror}); check that it is not open "
             "elsewhere and that you may read it."
         ) from err
-    if not data.strip() or data.strip() == b"\xef\xbb\xbf":
+    marked = bom_encoding(data)
+    if not (data if marked is None else marked[1]).strip():
         raise InputError(f"File '{path.name}' is empty; check that it is the right file.")
     return data
 

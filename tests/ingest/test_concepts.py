@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import codecs
 from pathlib import Path
 
 import pytest
@@ -55,3 +56,32 @@ def test_load_concept_list_warns_on_shared_synonyms(tmp_path: Path) -> None:
 
 def test_split_synonyms_accepts_pipe_and_semicolon() -> None:
     assert split_synonyms("a | b;c ;; ") == ["a", "b", "c"]
+
+
+@pytest.mark.parametrize(
+    ("bom", "codec", "delimiter"),
+    [
+        (codecs.BOM_UTF16_LE, "utf-16-le", "\t"),
+        (codecs.BOM_UTF16_BE, "utf-16-be", "\t"),
+        (b"", "utf-8", "|"),
+        (b"", "utf-8", "\t"),
+    ],
+    ids=["utf16-le-tab", "utf16-be-tab", "utf8-pipe", "utf8-tab"],
+)
+def test_load_concept_list_reads_utf16_and_other_delimiters(
+    tmp_path: Path, bom: bytes, codec: str, delimiter: str
+) -> None:
+    # UTF-16 BOMs as Python's codecs module holds them (Unicode FAQ on BOMs); the
+    # synonyms keep their own ';' separator whatever the column delimiter is.
+    rows = [
+        ["id", "label", "lang", "synonyms"],
+        ["BTX:0001", "temps de cuisson", "fr", "cuit vite;cuisson rapide"],
+    ]
+    path = tmp_path / "concepts.csv"
+    path.write_bytes(bom + "\r\n".join(delimiter.join(r) for r in rows).encode(codec))
+    loaded = load_concept_list(path)
+    assert {(a.text, a.lang, a.kind) for a in loaded.aliases} == {
+        ("temps de cuisson", "fr", "preferred"),
+        ("cuit vite", "fr", "alternative"),
+        ("cuisson rapide", "fr", "alternative"),
+    }

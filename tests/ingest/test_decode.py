@@ -7,6 +7,7 @@ the file signatures come from [MS-CFB] (OLE compound files) and PKWARE's APPNOTE
 
 from __future__ import annotations
 
+import codecs
 import csv
 import io
 import zipfile
@@ -137,3 +138,69 @@ def test_check_office_archive_accepts_a_zip_archive(tmp_path: Path) -> None:
 def test_check_office_archive_tells_a_non_archive_by_bad_zip(tmp_path: Path) -> None:
     with pytest.raises(zipfile.BadZipFile):
         check_office_archive(tmp_path / "book.xlsx", b"Respondent,Answer\n", "spreadsheet")
+
+
+# Excel's "Unicode text" export is UTF-16 little-endian with a byte order mark, and tab
+# separated. The BOM bytes are Python's codecs.BOM_UTF16_LE / BOM_UTF16_BE / BOM_UTF8,
+# the signatures the Unicode FAQ "UTF-8, UTF-16, UTF-32 & BOM" lists for each encoding.
+@pytest.mark.parametrize(
+    ("bom", "codec"),
+    [
+        (codecs.BOM_UTF16_LE, "utf-16-le"),
+        (codecs.BOM_UTF16_BE, "utf-16-be"),
+        (codecs.BOM_UTF8, "utf-8"),
+    ],
+    ids=["utf16-le", "utf16-be", "utf8"],
+)
+def test_read_csv_with_a_byte_order_mark_decodes_by_it(
+    tmp_path: Path, bom: bytes, codec: str
+) -> None:
+    answer = "La variété de Minde résiste bien à la sécheresse, et se vend vite."
+    path = tmp_path / "unicode_text.csv"
+    path.write_bytes(bom + f"Répondant\tRéponse\r\nR1\t{answer}\r\n".encode(codec))
+    result = read(path)
+    assert [(r.respondent, r.answer) for r in result.rows] == [("R1", answer)]
+    assert result.warnings == []
+
+
+@pytest.mark.parametrize(
+    ("data", "expected"),
+    [
+        (codecs.BOM_UTF16_LE + "Répondant".encode("utf-16-le"), ("Répondant", "utf-16-le")),
+        (codecs.BOM_UTF16_BE + "Répondant".encode("utf-16-be"), ("Répondant", "utf-16-be")),
+        ("Répondant".encode("utf-16"), ("Répondant", "utf-16-le")),  # Python writes LE + BOM
+    ],
+    ids=["le", "be", "python-utf16"],
+)
+def test_decode_text_follows_a_utf16_byte_order_mark(
+    data: bytes, expected: tuple[str, str]
+) -> None:
+    if data.startswith(codecs.BOM_UTF16_BE):
+        assert data[:2] == b"\xfe\xff"  # the Unicode FAQ's UTF-16 BE signature
+    decoded, used, warnings = decode_text(data, Path("survey.csv"))
+    assert (decoded, used, warnings) == (*expected, [])
+
+
+@pytest.mark.parametrize(
+    "delimiter", [",", ";", "\t", "|"], ids=["comma", "semicolon", "tab", "pipe"]
+)
+def test_sniff_delimiter_agrees_with_python_csv_sniffer_on_all_four(delimiter: str) -> None:
+    buffer = io.StringIO()
+    csv.writer(buffer, delimiter=delimiter).writerows(SNIFF_ROWS)
+    text = buffer.getvalue()
+    # Python's csv.Sniffer, restricted to the same four candidates, is the reference.
+    reference = csv.Sniffer().sniff(text, delimiters=",;\t|").delimiter
+    assert sniff_delimiter(text) == reference == delimiter
+
+
+@pytest.mark.parametrize("delimiter", ["\t", "|"], ids=["tab", "pipe"])
+def test_read_csv_with_tab_or_pipe_delimiters_splits_columns(
+    tmp_path: Path, delimiter: str
+) -> None:
+    # Answers hold commas and semicolons, which must stay inside the answer cell.
+    answer = "Too small, too hard; we sell it cheaply at Lowa market"
+    path = tmp_path / "survey.csv"
+    rows = [["Respondent", "Gender", "Answer"], ["R1", "female", answer]]
+    path.write_text("\n".join(delimiter.join(r) for r in rows) + "\n", encoding="utf-8")
+    row = read(path).rows[0]
+    assert (row.respondent, row.answer, row.metadata) == ("R1", answer, {"gender": "female"})

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import codecs
 import json
 from pathlib import Path
 
@@ -276,3 +277,20 @@ def test_reads_what_interchange_writes(tmp_path: Path) -> None:
     assert [(r.text, r.lang, list(r.spans)) for r in records] == [
         (s.text, s.lang, spans) for s, spans in gold
     ]
+
+
+@pytest.mark.parametrize(
+    ("bom", "codec"),
+    [(codecs.BOM_UTF16_LE, "utf-16-le"), (codecs.BOM_UTF16_BE, "utf-16-be")],
+    ids=["utf16-le", "utf16-be"],
+)
+def test_conll_file_with_a_utf16_byte_order_mark_is_read(
+    tmp_path: Path, bom: bytes, codec: str
+) -> None:
+    # A spreadsheet's "Unicode text" is UTF-16 with a BOM (Python's codecs.BOM_UTF16_*,
+    # the signatures of the Unicode FAQ on BOMs), tab separated like CoNLL columns.
+    path = tmp_path / "gold.tsv"
+    tabbed = [ln if ln.startswith("#") else ln.replace(" ", "\t") for ln in CONLL.splitlines()]
+    path.write_bytes(bom + "\r\n".join(tabbed).encode(codec))
+    expected = parse_conll(CONLL.splitlines(), source="gold.tsv", default_lang="en")
+    assert read_labels(path, default_lang="en") == expected

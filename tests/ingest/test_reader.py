@@ -6,6 +6,7 @@ used (BCP 47 / RFC 5646 for language settings).
 
 from __future__ import annotations
 
+import codecs
 from pathlib import Path
 
 import pytest
@@ -29,6 +30,17 @@ def test_read_empty_file_names_it(tmp_path: Path, suffix: str) -> None:
     path = tmp_path / f"blank{suffix}"
     path.write_bytes(b"")
     with pytest.raises(InputError, match=rf"'blank\{suffix}' is empty"):
+        read(path)
+
+
+@pytest.mark.parametrize(
+    "bom", [codecs.BOM_UTF8, codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE], ids=["utf8", "le", "be"]
+)
+def test_read_file_holding_only_a_byte_order_mark_is_empty(tmp_path: Path, bom: bytes) -> None:
+    # The byte order marks as Python's codecs module holds them (Unicode FAQ on BOMs).
+    path = tmp_path / "blank.csv"
+    path.write_bytes(bom + b"\r\n")
+    with pytest.raises(InputError, match=r"'blank\.csv' is empty"):
         read(path)
 
 

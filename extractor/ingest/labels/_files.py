@@ -7,6 +7,7 @@ from pathlib import Path
 from typing import Any
 
 from extractor.errors import InputError
+from extractor.ingest.decode import bom_encoding
 from extractor.ingest.labels._conll import parse_conll
 from extractor.ingest.labels._jsonl import parse_jsonl, record_from_dict
 from extractor.ingest.labels._record import LabelRecord
@@ -29,7 +30,7 @@ def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
             f"{', '.join(CONLL_SUFFIXES)} file (CoNLL IOB2 columns); got {suffix or 'no suffix'}."
         )
     try:
-        lines = path.read_text(encoding="utf-8-sig").splitlines()
+        lines = _decode(path.read_bytes()).splitlines()
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"{path} cannot be read as UTF-8 text ({exc}); check the path.") from exc
     parse = parse_jsonl if suffix in JSONL_SUFFIXES else parse_conll
@@ -37,6 +38,15 @@ def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
     if not records:
         raise InputError(f"{path.name} holds no labeled sentence; check that it is the right file.")
     return records
+
+
+def _decode(data: bytes) -> str:
+    """Decode a label file by its byte order mark (UTF-8 or UTF-16 "Unicode text"), else UTF-8."""
+    marked = bom_encoding(data)
+    if marked is None:
+        return data.decode("utf-8")
+    encoding, body = marked
+    return body.decode("utf-8" if encoding == "utf-8-sig" else encoding)
 
 
 def to_gold(
