@@ -15,6 +15,59 @@ Subcommands = argparse._SubParsersAction  # argparse has no public name for it
 """The ``traits`` parser's subcommands, where each command module adds its own."""
 
 
+def global_options(parser: argparse.ArgumentParser, *, after: bool = False) -> None:
+    """Add the options every command takes: ``-w DIR``, ``-q`` and ``-v``.
+
+    The program's parser holds their defaults; each command's parser (``after=True``)
+    takes them again without defaults (``argparse.SUPPRESS``), so that ``traits status
+    -w DIR`` and ``traits -w DIR status`` mean the same and an option left out after the
+    command does not undo one given before it.
+    """
+    parser.add_argument(
+        "-w",
+        "--workspace",
+        default=argparse.SUPPRESS if after else ".",
+        help="workspace folder (default: .)",
+    )
+    loudness = parser.add_mutually_exclusive_group()
+    for short, long, what in (
+        ("-q", "--quiet", "print only errors and the file written"),
+        ("-v", "--verbose", "print more detail"),
+    ):
+        loudness.add_argument(
+            short,
+            long,
+            action="store_true",
+            default=argparse.SUPPRESS if after else False,
+            help=what,
+        )
+
+
+def _options_after_command() -> argparse.ArgumentParser:
+    parent = argparse.ArgumentParser(add_help=False)
+    global_options(parent, after=True)
+    return parent
+
+
+_AFTER = _options_after_command()
+"""The parent parser every command's parser is made with."""
+
+
+class CommandsAction(argparse._SubParsersAction):
+    """Subcommands whose parsers all take the global options, nested actions too.
+
+    Registered as the ``parsers`` action of the program's parser; each parser it makes
+    registers it in turn, so ``traits concepts suggest -w DIR`` works as well.
+    """
+
+    def add_parser(self, name: str, **kwargs: Any) -> argparse.ArgumentParser:
+        """Add a command's parser made with the global options as a parent."""
+        kwargs["parents"] = [*kwargs.get("parents", ()), _AFTER]
+        parser = super().add_parser(name, **kwargs)
+        parser.register("action", "parsers", CommandsAction)
+        return parser
+
+
 def open_workspace(args: argparse.Namespace) -> Workspace:
     """Open the workspace the ``-w/--workspace`` option names (the current folder by default)."""
     return Workspace.open(Path(args.workspace))

@@ -17,6 +17,7 @@ from rich.console import Console
 
 from extractor import __version__, progress
 from extractor.cli import concept_cmds, label_cmds, model_cmds, workspace_cmds
+from extractor.cli.common import CommandsAction, global_options
 from extractor.errors import TraitsError
 
 
@@ -27,7 +28,8 @@ def build_parser() -> argparse.ArgumentParser:
         description="Extract preferred, disliked and wanted crop traits from interview answers.",
     )
     parser.add_argument("--version", action="version", version=f"trait-extractor {__version__}")
-    parser.add_argument("-w", "--workspace", default=".", help="workspace folder (default: .)")
+    global_options(parser)
+    parser.register("action", "parsers", CommandsAction)
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
     for commands in (workspace_cmds, concept_cmds, model_cmds, label_cmds):
         commands.register(sub)

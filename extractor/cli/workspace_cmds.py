@@ -21,7 +21,7 @@ _COUNT_COLUMNS = ("respondents", "answers", "sentences")
 
 def cmd_init(args: argparse.Namespace, console: Console) -> int:
     """Create a workspace folder."""
-    root = init_workspace(Path(args.dir))
+    root = init_workspace(Path(args.dir or args.workspace))
     console.print(
         f"Workspace ready in [bold]{root}[/]: traits.toml, traits.sqlite, models/, exports/."
     )
@@ -93,7 +93,7 @@ def cmd_status(args: argparse.Namespace, console: Console) -> int:
 def register(sub: Subcommands) -> None:
     """Add ``init``, ``add`` and ``status`` to the command's subparsers."""
     p = sub.add_parser("init", help="create a workspace folder")
-    p.add_argument("dir", nargs="?", default=".")
+    p.add_argument("dir", nargs="?", help="the folder to make a workspace (default: -w, or .)")
     p.set_defaults(handler=cmd_init)
 
     p = sub.add_parser("add", help="add interview files (.xlsx .csv .tsv .txt .docx)")

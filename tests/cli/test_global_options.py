@@ -1,0 +1,86 @@
+"""Options every command takes, before or after the command's name: ``-w``, ``-q``, ``-v``."""
+
+from __future__ import annotations
+
+import argparse
+import io
+from pathlib import Path
+
+import pytest
+from rich.console import Console
+
+from extractor.cli.main import build_parser, main
+
+# Every command with the arguments it cannot run without. -w must work on each of them,
+# before the command and after it (the README promises "every command takes -w").
+COMMANDS: dict[str, list[str]] = {
+    "add": ["add", "answers.csv"],
+    "status": ["status"],
+    "concepts import": ["concepts", "import", "list.csv"],
+    "concepts list": ["concepts", "list"],
+    "concepts suggest": ["concepts", "suggest"],
+    "concepts accept": ["concepts", "accept", "boils quickly", "BTX:0001"],
+    "concepts export": ["concepts", "export"],
+    "train": ["train"],
+    "models": ["models"],
+    "run": ["run"],
+    "export": ["export"],
+    "label": ["label", "--annotator", "ana"],
+    "import-labels": ["import-labels", "labels.jsonl"],
+    "evaluate": ["evaluate"],
+}
+
+
+def run(*argv: str) -> tuple[int, str]:
+    buffer = io.StringIO()
+    code = main(list(argv), console=Console(file=buffer, width=300, force_terminal=False))
+    return code, buffer.getvalue()
+
+
+def _command_names(parser: argparse.ArgumentParser, prefix: str = "") -> set[str]:
+    """Every command and action of the parser (``concepts suggest``), read from its help."""
+    names: set[str] = set()
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for name, child in action.choices.items():
+                full = f"{prefix}{name}"
+                nested = _command_names(child, f"{full} ")
+                names |= nested or {full}
+    return names
+
+
+def test_the_table_names_every_command() -> None:
+    # init and simulate do not open a workspace; they are tested on their own below.
+    assert _command_names(build_parser()) - {"init", "simulate"} == set(COMMANDS)
+
+
+@pytest.mark.parametrize("position", ["before", "after"])
+@pytest.mark.parametrize("argv", list(COMMANDS.values()), ids=list(COMMANDS))
+def test_workspace_option_is_taken_before_and_after_the_command(
+    tmp_path: Path, argv: list[str], position: str
+) -> None:
+    # An empty folder that is not a workspace: the command must open it (and say so),
+    # not the current folder, and must not stop at argparse (exit code 2).
+    elsewhere = tmp_path / "elsewhere-folder"
+    elsewhere.mkdir()
+    option = ["-w", str(elsewhere)]
+    code, out = run(*(option + argv if position == "before" else argv + option))
+    assert code == 1, out
+    assert "elsewhere-folder" in out and "traits init" in out
+
+
+@pytest.mark.parametrize("position", ["before", "after"])
+def test_init_makes_the_workspace_named_by_the_option(tmp_path: Path, position: str) -> None:
+    target = tmp_path / "study"
+    option = ["-w", str(target)]
+    code, out = run(*(option + ["init"] if position == "before" else ["init", *option]))
+    assert code == 0, out
+    assert (target / "traits.toml").is_file()
+
+
+@pytest.mark.parametrize("position", ["before", "after"])
+def test_simulate_accepts_the_workspace_option(tmp_path: Path, position: str) -> None:
+    argv = ["simulate", "--pool", str(tmp_path / "none.jsonl"), "--test", "t.jsonl"]
+    option = ["-w", str(tmp_path)]
+    code, out = run(*(option + argv if position == "before" else argv + option))
+    assert code == 1 and "none.jsonl" in out  # the missing pool, not a usage error
