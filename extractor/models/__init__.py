@@ -1,1 +1,1 @@
-"""The models of a version: CRF tagger, concept linking, stance, variety, metrics and persistence."""
+"""The models of a version: CRF tagger, linking, stance, variety, metrics, persistence."""

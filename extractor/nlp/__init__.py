@@ -1,1 +1,1 @@
-"""Text processing below the models: tokens, the one fold, dictionary matching, features, clusters, spans."""
+"""Text below the models: tokens, the one fold, dictionary matching, features, clusters, spans."""
