@@ -14,16 +14,23 @@ from rich.table import Table
 from extractor.cli.common import Subcommands, open_workspace, print_warnings
 from extractor.ingest.intake import add_files
 from extractor.jobs.status import workspace_status
-from extractor.workspace.folder import init_workspace
+from extractor.workspace.folder import create_workspace
 
 _COUNT_COLUMNS = ("respondents", "answers", "sentences")
 
 
 def cmd_init(args: argparse.Namespace, console: Console) -> int:
     """Create a workspace folder."""
-    root = init_workspace(Path(args.dir or args.workspace))
+    made = create_workspace(Path(args.dir or args.workspace))
+    if made.existed:
+        console.print(
+            f"A workspace already exists in [bold]{made.root}[/]; nothing was changed. "
+            "See what it holds with [bold]traits status[/]."
+        )
+        return 0
     console.print(
-        f"Workspace ready in [bold]{root}[/]: traits.toml, traits.sqlite, models/, exports/."
+        f"Workspace ready in [bold]{made.root}[/]: traits.toml, traits.sqlite, models/, "
+        "exports/, interviews/."
     )
     console.print("Next: [bold]traits add FILE...[/] and [bold]traits concepts import FILE[/].")
     return 0

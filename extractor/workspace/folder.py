@@ -1,5 +1,7 @@
 """Workspaces: a folder with ``traits.toml``, ``traits.sqlite``, ``models/`` and ``exports/``.
 
+A new workspace also gets the ``interviews/`` folder `traits run` reads new files from.
+
 The repository root is itself the demo workspace: when a folder holds
 ``sample_interviews/`` and no ``traits.toml``, :func:`init_workspace` writes settings
 that point at the demo inputs.
@@ -29,8 +31,26 @@ def is_workspace(root: Path) -> bool:
     return (root / SETTINGS_FILE).is_file() and (root / STORE_FILE).is_file()
 
 
+@dataclass(frozen=True)
+class WorkspaceCreation:
+    """What `traits init` found or made: the folder, and whether it was a workspace already."""
+
+    root: Path
+    existed: bool
+
+
+def create_workspace(root: Path) -> WorkspaceCreation:
+    """Make ``root`` a workspace, or leave an existing workspace exactly as it is."""
+    if is_workspace(root):
+        return WorkspaceCreation(root, existed=True)
+    return WorkspaceCreation(init_workspace(root), existed=False)
+
+
 def init_workspace(root: Path) -> Path:
-    """Create a workspace in ``root`` (idempotent: existing files are kept)."""
+    """Create a workspace in ``root`` (idempotent: existing files are kept).
+
+    New settings come with the folder they read interviews from (``interviews/``).
+    """
     root.mkdir(parents=True, exist_ok=True)
     settings_path = root / SETTINGS_FILE
     if not settings_path.exists():
@@ -45,6 +65,7 @@ def init_workspace(root: Path) -> Path:
             )
             settings = dataclasses.replace(settings, workspace=demo)
         settings_path.write_text(render_template(settings), encoding="utf-8")
+        (root / settings.workspace.interviews).mkdir(parents=True, exist_ok=True)
     for folder in ("models", "exports"):
         (root / folder).mkdir(exist_ok=True)
     store.connect(root / STORE_FILE, create=True).close()

@@ -65,3 +65,38 @@ def test_bad_setting_is_one_sentence_on_the_command_line(tmp_path: Path) -> None
     code = main(["-w", str(root), "status"], console=Console(file=out, width=200))
     assert code != 0
     assert "retrain_every" in out.getvalue() and "Traceback" not in out.getvalue()
+
+
+def _traits(*argv: str) -> tuple[int, str]:
+    import io
+
+    from rich.console import Console
+
+    from extractor.cli.main import main
+
+    out = io.StringIO()
+    code = main(list(argv), console=Console(file=out, width=200, force_terminal=False))
+    return code, out.getvalue()
+
+
+def test_init_makes_the_interviews_folder_traits_run_reads(tmp_path: Path) -> None:
+    code, out = _traits("init", str(tmp_path / "w"))
+    assert code == 0, out
+    assert (tmp_path / "w" / "interviews").is_dir()
+    with Workspace.open(tmp_path / "w") as ws:
+        assert ws.path("interviews").is_dir()
+
+
+def test_init_on_an_existing_workspace_says_so_and_changes_nothing(tmp_path: Path) -> None:
+    root = tmp_path / "w"
+    assert _traits("init", str(root))[0] == 0
+    settings = root / "traits.toml"
+    settings.write_bytes(settings.read_bytes() + b"# my own note\n")
+    (root / "exports").rmdir()
+    before = {p.relative_to(root): p.read_bytes() for p in root.rglob("*") if p.is_file()}
+    code, out = _traits("init", str(root))
+    assert code == 0, out
+    assert "already" in out and "Workspace ready" not in out
+    after = {p.relative_to(root): p.read_bytes() for p in root.rglob("*") if p.is_file()}
+    assert after == before
+    assert not (root / "exports").exists()  # not even a missing folder is put back
