@@ -12,7 +12,7 @@ from rich.console import Console
 from rich.table import Table
 
 from extractor.cli.common import Subcommands, open_workspace, print_warnings
-from extractor.ingest.intake import add_files
+from extractor.jobs.add import AddReport, add_interviews
 from extractor.jobs.status import workspace_status
 from extractor.workspace.folder import create_workspace
 
@@ -55,9 +55,10 @@ def _column_mapping(args: argparse.Namespace) -> dict[str, str] | None:
 def cmd_add(args: argparse.Namespace, console: Console) -> int:
     """Add interview files."""
     with open_workspace(args) as ws:
-        reports = add_files(
+        added = add_interviews(
             ws, [Path(p) for p in args.files], sheet=args.sheet, mapping=_column_mapping(args)
         )
+    reports = added.files
     table = Table(title="Interview files")
     # A path is never cut short: it folds onto further lines (no ellipsis) so the user
     # can see exactly which file each row is about, however narrow the terminal.
@@ -75,7 +76,34 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
     console.print(table)
     for report in reports:
         print_warnings(console, report.warnings)
+    print_languages(console, added)
     return 0
+
+
+_LACKS = {
+    "synonyms": "no synonyms in the concept list (only your labels teach it)",
+    "stance cues": "no stance cues (stances come from your labels only)",
+    "spaCy pipeline": "no spaCy pipeline (spaCy's multi-language tokenizer splits its words)",
+}
+
+
+def print_languages(console: Console, added: AddReport) -> None:
+    """Print the languages of the stored sentences and what each of them lacks."""
+    if not added.languages:
+        return
+    found = ", ".join(f"{lang.tag} {lang.sentences}" for lang in added.languages)
+    console.print(f"Languages found (sentences): {found}.", highlight=False)
+    for lang in added.languages:
+        if lang.lacks:
+            lacks = "; ".join(_LACKS[what] for what in lang.lacks)
+            console.print(f"note: {lang.tag} has {lacks}.", highlight=False)
+    if not added.concept_list:
+        console.print(
+            "note: no concept list is imported yet, so languages were told apart among the "
+            "settings' languages only; after `traits concepts import FILE`, run "
+            "`traits language detect --all` if some are wrong.",
+            highlight=False,
+        )
 
 
 def cmd_status(args: argparse.Namespace, console: Console) -> int:

@@ -249,6 +249,11 @@ def _lingua_by_code() -> dict[str, Language]:
     return out
 
 
+def detectable(tag: str) -> bool:
+    """Return whether lingua ships a model of the tag's language, so it can be detected."""
+    return primary_subtag(tag) in _lingua_by_code()
+
+
 @lru_cache(maxsize=16)
 def _detector(languages: frozenset[Language]) -> LanguageDetector:
     """Build (once per candidate set) a detector that loads only these languages' models."""

@@ -74,14 +74,15 @@ def run(ws: Workspace) -> RunReport:
     """Do the whole job: ingest what is new, import changed lists, train, tag and export."""
     before = store.counts(ws.conn)
     previous = store.latest_model(ws.conn)
-    files = interview_files(ws.path("interviews"))
-    added = add_files(ws, files) if files else []
+    # The lists first: language detection chooses among the concept list's languages too.
     concepts_path = ws.path("concepts")
     concepts = import_concepts(ws, concepts_path) if concepts_path.exists() else None
     varieties_path = ws.path("varieties")
     varieties = (
         import_concepts(ws, varieties_path, kind="variety") if varieties_path.exists() else None
     )
+    files = interview_files(ws.path("interviews"))
+    added = add_files(ws, files) if files else []
     after = store.counts(ws.conn)
     new = NewSince(
         respondents=after["respondents"] - before["respondents"],

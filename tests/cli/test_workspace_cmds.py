@@ -3,11 +3,14 @@
 from __future__ import annotations
 
 import io
+import json
 from pathlib import Path
 
+import spacy
 from rich.console import Console
 
 from extractor.cli.main import main
+from extractor.models.cues import CUES_PATH
 
 
 def run(*argv: str, width: int = 200) -> tuple[int, str]:
@@ -38,3 +41,90 @@ def test_add_table_shows_a_long_path_in_full_on_a_narrow_terminal(tmp_path: Path
     # joined line by line it must give back the whole path.
     body = [line.split("│")[1].strip() for line in out.splitlines() if line.count("│") >= 2]
     assert "".join(body) == path.resolve().as_posix()
+
+
+# Invented answers (fictional varieties and places) in three languages, one sentence each.
+_TRIAL = {
+    "pt": (
+        "A mandioca Branquinha cozinha rápido e tem bom sabor.",
+        "Não gosto porque apodrece logo depois da colheita.",
+        "Aguenta bem a seca e dá muita raiz.",
+    ),
+    "sw": (
+        "Mavuno mengi kuliko Kibanda, na inakomaa mapema.",
+        "Sipendi kwa sababu mizizi inaoza haraka.",
+        "Nataka aina inayostahimili ukame.",
+    ),
+    "en": (
+        "The roots stay firm in the ground for a long time.",
+        "It gives a lot of flour and the flour is very white.",
+        "I would like a variety that matures early.",
+    ),
+}
+
+
+def _trial(tmp_path: Path) -> tuple[Path, Path]:
+    """A workspace with a pt/sw/en concept list imported, and the trial's answer file."""
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    concepts = tmp_path / "concepts.csv"
+    concepts.write_text(
+        "id,label,lang,synonyms,parent,definition\n"
+        "CSV:01,early maturity,en,matures early,,\n"
+        "CSV:01,maturação precoce,pt,amadurece cedo,,\n"
+        "CSV:01,kukomaa mapema,sw,inakomaa mapema,,\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(ws), "concepts", "import", str(concepts))[0] == 0
+    lines = ["respondent,question,answer"]
+    lines += [
+        f"{lang}-{i},Why?,{text}" for lang, texts in _TRIAL.items() for i, text in enumerate(texts)
+    ]
+    answers = tmp_path / "trial.csv"
+    answers.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return ws, answers
+
+
+def _has_spacy_pipeline(code: str) -> bool:
+    try:
+        spacy.util.get_lang_class(code)  # spaCy's own registry of languages
+    except ImportError:
+        return False
+    return True
+
+
+def test_add_detects_the_concept_lists_languages_and_says_what_each_lacks(tmp_path: Path) -> None:
+    ws, answers = _trial(tmp_path)
+    code, out = run("-w", str(ws), "add", str(answers))
+    assert code == 0
+    _, status = run("-w", str(ws), "status", "--json")
+    # ISO 639-1 codes of the languages the answers were written in.
+    assert json.loads(status)["languages"] == {"pt": 3, "sw": 3, "en": 3}
+    # What each language lacks, checked against the packaged cue file and spaCy itself.
+    cue_languages = json.loads(CUES_PATH.read_text(encoding="utf-8"))
+    notes = {line.split()[1]: line for line in out.splitlines() if line.startswith("note: ")}
+    for lang in ("pt", "sw"):
+        assert lang not in cue_languages and "no stance cues" in notes[lang]
+    assert "en" in cue_languages and _has_spacy_pipeline("en") and "en" not in notes
+    assert not _has_spacy_pipeline("sw") and "no spaCy pipeline" in notes["sw"]
+    assert _has_spacy_pipeline("pt") and "spaCy" not in notes["pt"]
+    assert "synonyms" not in notes["pt"]
+    assert "Languages found (sentences): en 3, pt 3, sw 3." in " ".join(out.split())
+
+
+def test_add_says_which_languages_have_no_synonyms(tmp_path: Path) -> None:
+    ws, answers = _trial(tmp_path)
+    concepts = tmp_path / "en_only.csv"
+    concepts.write_text(
+        "id,label,lang,synonyms,parent,definition\nCSV:01,early maturity,en,matures early,,\n",
+        encoding="utf-8",
+    )
+    answers.write_text(
+        "respondent,question,answer,language\nR1,Why?,Aguenta bem a seca e dá muita raiz.,pt\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(ws), "concepts", "import", str(concepts))[0] == 0
+    code, out = run("-w", str(ws), "add", str(answers))
+    assert code == 0
+    note = next(line for line in out.splitlines() if line.startswith("note: pt"))
+    assert "no synonyms" in note

@@ -1,0 +1,82 @@
+"""Adding interview files to a workspace (`traits add`), and what its languages get."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from extractor.ingest.intake import FileReport, add_files
+from extractor.models.languages import LanguageSupport, language_support
+from extractor.nlp.text import primary_subtag
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+
+
+@dataclass(frozen=True)
+class LanguageFound:
+    """One language of the stored answers and what it lacks.
+
+    Attributes:
+        tag: The primary language subtag (``es`` for ``es`` and ``es-419``).
+        sentences: Stored sentences in this language.
+        synonyms: Aliases of the current concept list in this language.
+        support: What the installed libraries give this language.
+    """
+
+    tag: str
+    sentences: int
+    synonyms: int
+    support: LanguageSupport
+
+    @property
+    def lacks(self) -> tuple[str, ...]:
+        """What the language has none of: synonyms, stance cues, a spaCy pipeline."""
+        missing = []
+        if not self.synonyms:
+            missing.append("synonyms")
+        if not self.support.stance_cues:
+            missing.append("stance cues")
+        if not self.support.spacy_pipeline:
+            missing.append("spaCy pipeline")
+        return tuple(missing)
+
+
+@dataclass(frozen=True)
+class AddReport:
+    """What `traits add` did: one report per file, and the languages now stored."""
+
+    files: Sequence[FileReport]
+    languages: Sequence[LanguageFound]
+    concept_list: bool
+
+
+def stored_languages(ws: Workspace) -> tuple[LanguageFound, ...]:
+    """Return the languages of the stored sentences, most sentences first."""
+    synonyms: dict[str, int] = {}
+    for alias in store.aliases(ws.conn):
+        code = primary_subtag(alias.lang)
+        synonyms[code] = synonyms.get(code, 0) + 1
+    counts = store.counts(ws.conn)["languages"]
+    return tuple(
+        LanguageFound(tag, n, synonyms.get(tag, 0), language_support(tag))
+        for tag, n in sorted(counts.items(), key=lambda kv: (-kv[1], kv[0]))
+    )
+
+
+def add_interviews(
+    ws: Workspace,
+    paths: Sequence[Path],
+    *,
+    sheet: str | None = None,
+    mapping: dict[str, Any] | None = None,
+) -> AddReport:
+    """Read, segment and store interview files, then report the stored languages.
+
+    Raises:
+        InputError: a file is missing or cannot be read (nothing is stored then).
+    """
+    files = add_files(ws, paths, sheet=sheet, mapping=mapping)
+    has_list = store.current_concept_version(ws.conn, "trait") is not None
+    return AddReport(files=files, languages=stored_languages(ws), concept_list=has_list)

@@ -1,0 +1,54 @@
+"""What each language gets from the installed libraries: tokenizer, stemmer, cues, detection.
+
+Every fact is read from the code and the libraries in use, never written down by
+hand: the spaCy pipeline :func:`~extractor.nlp.text.spacy_code` picks, the Snowball
+stemmer of :data:`~extractor.nlp.dictionary.SNOWBALL_LANGUAGES`, the sections of the
+packaged stance cue file (:data:`~extractor.models.cues.CUES_PATH`), and lingua's
+bundled models. The README's language table is checked against these facts.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from extractor.ingest.language import detectable
+from extractor.models.cues import packaged_cues
+from extractor.nlp.dictionary import stemmer_language
+from extractor.nlp.text import MULTI, primary_subtag, spacy_code
+
+
+@dataclass(frozen=True)
+class LanguageSupport:
+    """What one language gets.
+
+    Attributes:
+        tag: The language tag asked about.
+        tokenizer: The spaCy language code whose blank pipeline tokenizes it;
+            ``"xx"`` (spaCy's multi-language pipeline) when spaCy has none.
+        stemmer: Whether a Snowball stemmer folds its inflections in matching.
+        stance_cues: Whether the packaged cue lexicon has a section for it.
+        detection: Whether lingua can detect it in an answer.
+    """
+
+    tag: str
+    tokenizer: str
+    stemmer: bool
+    stance_cues: bool
+    detection: bool
+
+    @property
+    def spacy_pipeline(self) -> bool:
+        """Whether spaCy has a pipeline of this language (not the multi-language one)."""
+        return self.tokenizer != MULTI
+
+
+def language_support(tag: str) -> LanguageSupport:
+    """Return what a language gets (see :class:`LanguageSupport`)."""
+    code = primary_subtag(tag)
+    return LanguageSupport(
+        tag=tag,
+        tokenizer=spacy_code(code),
+        stemmer=bool(stemmer_language(code)),
+        stance_cues=code in packaged_cues(),
+        detection=detectable(code),
+    )
