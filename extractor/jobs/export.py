@@ -110,7 +110,7 @@ def export_workbook(
 ) -> ExportResult:
     """Write the preferred-traits workbook and its chart PNG.
 
-    The mention count is of the version's mentions before the confidence floor.
+    The mention count is the one on the workbook's About sheet ("Mentions exported").
     """
     out = out or ws.exports_dir / (
         "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx"
@@ -119,7 +119,7 @@ def export_workbook(
     mentions = mention_frame(ws, version)
     respondents = respondent_frame(ws)
     png = out.with_name(out.stem + "_chart.png")
-    write_workbook(
+    written = write_workbook(
         out,
         mentions,
         respondents,
@@ -130,7 +130,7 @@ def export_workbook(
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
         chart_png=png,
     )
-    return ExportResult(out, len(mentions), png if png.exists() else None)
+    return ExportResult(out, written, png if png.exists() else None)
 
 
 def _export_conll(out: Path, ws: Workspace, pseudonymise: bool) -> ExportResult:
@@ -176,8 +176,7 @@ def export_other(
         "jsonl": formats.write_mentions_jsonl,
         "jsonld": formats.write_web_annotations,
     }[fmt]
-    writer(out, mentions)
-    return ExportResult(out, len(mentions))
+    return ExportResult(out, writer(out, mentions))
 
 
 def export(

@@ -115,9 +115,15 @@ def ensure_tagged(ws: Workspace, version: str | None = None) -> str | None:
     Returns:
         The version, or None when no model is trained yet.
     """
-    if not store.models(ws.conn):
+    recorded = [m.version for m in store.models(ws.conn)]
+    if not recorded:
         return None
-    name, models = load_version(ws, version)
-    if store.count_predictions(ws.conn, name) < store.counts(ws.conn)["sentences"]:
+    name = recorded[-1] if version is None else version
+    # The model files are read only when sentences are left to tag: the stored
+    # predictions are what an export shows.
+    if name not in recorded or (
+        store.count_predictions(ws.conn, name) < store.counts(ws.conn)["sentences"]
+    ):
+        name, models = load_version(ws, version)
         tag(ws, models, name)
     return name

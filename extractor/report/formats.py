@@ -9,6 +9,12 @@
   (Web Annotation Data Model, W3C Recommendation 23 February 2017) inside one
   ``AnnotationCollection``.
 
+Only the CSV is a format spreadsheet programs open by double-click, so only its text
+cells are guarded against formula injection (:func:`spreadsheet_text`). JSON Lines and
+JSON-LD are not spreadsheet formats (a spreadsheet does not evaluate a JSON string), and
+the CoNLL columns are read back token by token by ``traits import-labels``, so a quote
+added there would change the tokens.
+
 These files hold interview text: pseudonymise the frames first
 (:func:`extractor.report.privacy.pseudonymise_frames`) before they leave the machine.
 """
@@ -24,6 +30,7 @@ from typing import Any, TextIO
 import pandas as pd
 
 from extractor.errors import InputError
+from extractor.ingest.decode import FORMULA_GUARD, FORMULA_TRIGGERS
 from extractor.nlp.text import tokenize
 from extractor.report.inputs import plain_value
 from extractor.types import Sentence, Span
@@ -45,10 +52,25 @@ def _open_for_writing(path: Path | str, newline: str | None = None) -> TextIO:
         raise InputError(f"Cannot write {str(path)!r}: {exc.strerror or exc}.") from exc
 
 
+def spreadsheet_text(value: object) -> object:
+    """Put a single quote before text a spreadsheet would run as a formula; keep the rest.
+
+    OWASP's "CSV Injection" guidance: a cell starting with ``=``, ``+``, ``-``, ``@``,
+    tab or carriage return is prefixed with ``'``. Numbers are left alone, so negative
+    numbers stay numbers.
+    """
+    if isinstance(value, str) and value.startswith(FORMULA_TRIGGERS):
+        return FORMULA_GUARD + value
+    return value
+
+
 def write_mentions_csv(
     path: Path | str, mentions: pd.DataFrame, columns: Sequence[str] | None = None
 ) -> int:
     """Write mentions as RFC 4180 CSV (UTF-8, header row, quoted where needed).
+
+    Text cells that a spreadsheet would read as a formula get a leading quote
+    (:func:`spreadsheet_text`); numeric columns are written as they are.
 
     Args:
         path: File to write.
@@ -58,7 +80,9 @@ def write_mentions_csv(
     Returns:
         The number of rows written.
     """
-    frame = mentions if columns is None else mentions.loc[:, list(columns)]
+    frame = (mentions if columns is None else mentions.loc[:, list(columns)]).copy()
+    for column in frame.select_dtypes(exclude=["number", "bool"]).columns:
+        frame[column] = frame[column].map(spreadsheet_text)
     with _open_for_writing(path, newline="") as fh:
         # QUOTE_MINIMAL quotes fields with commas, quotes or line breaks, doubling quotes
         # (RFC 4180 section 2); CRLF line ends are what that RFC specifies.
@@ -159,18 +183,24 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
     The body is the concept ID as a ``TextualBody`` with purpose ``classifying``,
     plus the stance as a second ``TextualBody`` with purpose ``tagging``; the
     target selects the span in the answer by quote (with prefix and suffix from
-    the sentence) and by character position in the answer.
+    the sentence) and by character position in the answer. A mention linked to no
+    concept has no classifying body and the motivation ``highlighting`` (the model
+    allows an annotation without a body, section 3.1), so every mention of the
+    other exports is here too.
     """
     sentence = str(row["sentence"])
     start, end = int(row["start"]), int(row["end"])
-    body: list[dict[str, Any]] = [
-        {
-            "type": "TextualBody",
-            "purpose": "classifying",
-            "value": str(row["concept_id"]),
-            "format": "text/plain",
-        }
-    ]
+    concept = plain_value(row.get("concept_id"))
+    body: list[dict[str, Any]] = []
+    if concept is not None:
+        body.append(
+            {
+                "type": "TextualBody",
+                "purpose": "classifying",
+                "value": str(concept),
+                "format": "text/plain",
+            }
+        )
     stance = plain_value(row.get("stance"))
     if stance:
         body.append(
@@ -195,10 +225,11 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
     annotation: dict[str, Any] = {
         "id": f"urn:traits:annotation:{index}",
         "type": "Annotation",
-        "motivation": "classifying",
-        "body": body,
+        "motivation": "classifying" if concept is not None else "highlighting",
         "target": {"source": source, "selector": selectors},
     }
+    if body:
+        annotation["body"] = body
     return annotation
 
 
@@ -209,11 +240,13 @@ def write_web_annotations(
     *,
     label: str = "Trait mentions",
 ) -> int:
-    """Write linked mentions as a W3C Web Annotation ``AnnotationCollection`` (JSON-LD).
+    """Write every mention as a W3C Web Annotation ``AnnotationCollection`` (JSON-LD).
 
     Args:
         path: File to write (``.jsonld`` or ``.json``).
-        mentions: The mentions frame; unlinked mentions are skipped (nothing to classify by).
+        mentions: The mentions frame; a mention linked to no concept is written as a
+            highlight (see :func:`web_annotation`), so ``total`` counts what the other
+            exports count.
         source_uri_for: Maps a mention row to the URI of its answer; by default
             ``urn:traits:answer:<answer_id>``, which carries no personal ID.
         label: Human-readable label of the collection.
@@ -234,10 +267,9 @@ def write_web_annotations(
             f"The mentions table lacks the column(s) {', '.join(missing)} "
             "needed for web annotations."
         )
-    linked = mentions.loc[mentions["concept_id"].notna()]
     items = [
         web_annotation(row, source_uri_for(row), i)
-        for i, row in enumerate(linked.to_dict("records"), start=1)
+        for i, row in enumerate(mentions.to_dict("records"), start=1)
     ]
     collection = {
         "@context": ANNO_CONTEXT,

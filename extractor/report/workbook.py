@@ -84,7 +84,7 @@ def write_workbook(
     min_confidence: float | None = None,
     pseudonymise: PrivacyOptions | None = None,
     chart_png: Path | str | None = None,
-) -> None:
+) -> int:
     """Write the analysis workbook (.xlsx) and, optionally, the chart as PNG.
 
     Args:
@@ -98,6 +98,10 @@ def write_workbook(
         min_confidence: Drop predicted mentions below this tagger confidence.
         pseudonymise: Pseudonyms, screened text and dropped identifying columns.
         chart_png: Where to write the chart as a PNG too.
+
+    Returns:
+        The number of mentions exported (after the confidence floor), as the About
+        sheet states it.
 
     Raises:
         InputError: If a column is missing, a value is out of range, a grouping
@@ -131,3 +135,4 @@ def write_workbook(
     _save(wb, path)
     if chart_png is not None:
         write_chart_png(chart, Path(chart_png), chart_title(grouping))
+    return len(m)

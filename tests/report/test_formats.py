@@ -169,7 +169,8 @@ def test_reading_conll_back_rejects_bad_tag(tmp_path: Path) -> None:
 @pytest.fixture()
 def collection(tmp_path: Path) -> dict:
     out = tmp_path / "anno.jsonld"
-    assert write_web_annotations(out, _mentions()) == 2  # the unlinked mention is skipped
+    # Every mention is written, the unlinked one as a highlight: the same count as the CSV.
+    assert write_web_annotations(out, _mentions()) == len(_mentions()) == 3
     return json.loads(out.read_text(encoding="utf-8"))
 
 
@@ -180,10 +181,10 @@ def test_web_annotations_collection_shape(collection: dict) -> None:
     assert collection["@context"] == ANNO_CONTEXT == "http://www.w3.org/ns/anno.jsonld"
     assert collection["type"] == "AnnotationCollection"
     assert isinstance(collection["id"], str) and ":" in collection["id"]
-    assert collection["total"] == 2
+    assert collection["total"] == 3
     page = collection["first"]
     assert page["type"] == "AnnotationPage" and isinstance(page["id"], str)
-    assert len(page["items"]) == 2
+    assert len(page["items"]) == 3
 
 
 def test_web_annotations_annotation_keys(collection: dict) -> None:
