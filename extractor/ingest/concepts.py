@@ -24,7 +24,12 @@ from typing import Any, NamedTuple
 import pandas as pd
 
 from extractor.errors import InputError
-from extractor.ingest.decode import check_office_archive, decode_text, sniff_delimiter
+from extractor.ingest.decode import (
+    check_office_archive,
+    decode_text,
+    sniff_delimiter,
+    strip_formula_guard,
+)
 from extractor.ingest.language import normalise_tag
 from extractor.types import AliasEntry, ConceptEntry
 
@@ -94,7 +99,8 @@ def load_concept_list(path: Path, *, default_lang: str = "en") -> ConceptList:
         InputError: a required column is missing, an ID is empty, one ID has two
             different labels in one language, or a language tag is unknown.
     """
-    frame = read_table(path)
+    # The concept export quotes formula-like cells for spreadsheets; drop that quote.
+    frame = read_table(path).map(strip_formula_guard)
     frame.columns = [str(c).strip().lower() for c in frame.columns]
     missing = [c for c in REQUIRED if c not in frame.columns]
     if missing:

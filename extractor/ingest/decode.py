@@ -33,6 +33,13 @@ BYTE_ORDER_MARKS = (
 UTF-32 & BOM" tabulates them. UTF-32 LE comes first because its mark begins with UTF-16
 LE's. Excel's "Unicode text" export is UTF-16 LE with a mark."""
 
+FORMULA_TRIGGERS = ("=", "+", "-", "@", "\t", "\r")
+"""First characters that make a spreadsheet read a text cell as a formula (OWASP, "CSV
+Injection"); exports put :data:`FORMULA_GUARD` before such a cell."""
+
+FORMULA_GUARD = "'"
+"""The single quote OWASP's "CSV Injection" guidance puts before a formula-like cell."""
+
 DELIMITERS = (",", ";", "\t", "|")
 """The CSV delimiters :func:`sniff_delimiter` chooses among (ties go to the earlier one)."""
 
@@ -91,6 +98,17 @@ def sniff_delimiter(text: str) -> str:
         if score > best_score:
             best, best_score = delimiter, score
     return best
+
+
+def strip_formula_guard(cell: str) -> str:
+    """Undo the quote an export put before a formula-like cell, so a list re-imports as it was.
+
+    Only a quote followed by one of :data:`FORMULA_TRIGGERS` is dropped: that is exactly
+    what the exports add, and a label never needs it.
+    """
+    if cell.startswith(FORMULA_GUARD) and cell[1:2] and cell[1] in FORMULA_TRIGGERS:
+        return cell[1:]
+    return cell
 
 
 def check_office_archive(path: Path, data: bytes, program: str) -> None:

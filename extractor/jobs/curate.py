@@ -10,6 +10,7 @@ from pathlib import Path
 from extractor.jobs.train import load_version
 from extractor.models.terms import TermSuggestion
 from extractor.models.terms import suggest_terms as rank_terms
+from extractor.report.formats import spreadsheet_text
 from extractor.types import Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -91,7 +92,8 @@ def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
 
     Aliases from the imported list fill ``synonyms`` and ``hidden`` as they were; aliases
     accepted by annotators are listed apart in ``accepted_aliases`` (with who accepted
-    them), for curators to review and, if they agree, move into ``synonyms``.
+    them), for curators to review and, if they agree, move into ``synonyms``. Cells a
+    spreadsheet would run as formulas start with a quote, dropped again on import.
     """
     out = out or ws.exports_dir / "concepts_with_accepted_aliases.csv"
     out.parent.mkdir(parents=True, exist_ok=True)
@@ -110,16 +112,17 @@ def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
         writer.writerow([*header, "accepted_aliases"])
         for (concept_id, lang), row in sorted(rows.items()):
             concept = concepts.get(concept_id) or store.StoredConcept(concept_id, None, None, {})
-            writer.writerow(
-                [
-                    concept_id,
-                    concept.labels.get(lang, ""),
-                    lang,
-                    "|".join(row["alternative"]),
-                    "|".join(row["hidden"]),
-                    concept.parent or "",
-                    concept.definition or "",
-                    "|".join(row["accepted"]),
-                ]
-            )
+            cells = [
+                concept_id,
+                concept.labels.get(lang, ""),
+                lang,
+                "|".join(row["alternative"]),
+                "|".join(row["hidden"]),
+                concept.parent or "",
+                concept.definition or "",
+                "|".join(row["accepted"]),
+            ]
+            # A spreadsheet opens this list for review: formula-like cells get a quote
+            # (OWASP, "CSV Injection"), which the concept-list reader drops again.
+            writer.writerow([spreadsheet_text(cell) for cell in cells])
     return out

@@ -15,9 +15,10 @@ from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
+from extractor.ingest.decode import FORMULA_TRIGGERS
 from extractor.report.inputs import plain_value
 
-RISKY_FIRST = ("=", "+", "-", "@", "\t", "\r")
+RISKY_FIRST = FORMULA_TRIGGERS
 EXCEL_MAX_CHARS = 32767
 
 HEADER_FONT = Font(bold=True)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import csv
 import json
 from pathlib import Path
 
@@ -79,3 +80,31 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
     run("-w", str(study), "train", "--no-cv")
     code, out = run("-w", str(study), "concepts", "suggest", "--min-count", "1")
     assert code == 0 and "colour" in out
+
+
+def test_concepts_export_neutralises_formula_cells_and_reimports_them(
+    study: Path, tmp_path: Path
+) -> None:
+    concepts = tmp_path / "risky.csv"
+    concepts.write_text(
+        "id,label,lang,synonyms,definition\n"
+        'BTX:0001,cooking time,en,+fast|cooks fast,"=HYPERLINK(""http://example.invalid"")"\n'
+        "BTX:0002,taste,en,-bitter|@sweet,Taste of the porridge.\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(study), "concepts", "import", str(concepts))[0] == 0
+    assert run("-w", str(study), "concepts", "accept", "=1+1", "BTX:0002")[0] == 0
+    assert run("-w", str(study), "concepts", "export")[0] == 0
+    path = study / "exports" / "concepts_with_accepted_aliases.csv"
+    with path.open(newline="", encoding="utf-8") as fh:  # the csv module is the reference
+        rows = {r["id"]: r for r in csv.DictReader(fh)}
+    # OWASP, "CSV Injection": cells starting with =, +, -, @, tab or CR get a leading quote.
+    assert rows["BTX:0001"]["definition"] == '\'=HYPERLINK("http://example.invalid")'
+    assert rows["BTX:0001"]["synonyms"] == "'+fast|cooks fast"
+    assert rows["BTX:0002"]["synonyms"] == "'-bitter|@sweet"
+    assert rows["BTX:0002"]["accepted_aliases"].startswith("'=1+1 (by ")
+    again = load_concept_list(path)
+    original = load_concept_list(concepts)
+    assert {(a.concept_id, a.text, a.kind) for a in again.aliases} == {
+        (a.concept_id, a.text, a.kind) for a in original.aliases
+    }

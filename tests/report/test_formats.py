@@ -228,3 +228,41 @@ def test_web_annotations_source_uri_is_configurable(tmp_path: Path) -> None:
 def test_web_annotations_missing_column(tmp_path: Path) -> None:
     with pytest.raises(InputError, match="answer_id"):
         write_web_annotations(tmp_path / "a.jsonld", _mentions().drop(columns=["answer_id"]))
+
+
+# OWASP, "CSV Injection": a cell starting with =, +, -, @, tab or carriage return is
+# read as a formula by spreadsheet programs; prefix it with a single quote.
+@pytest.mark.parametrize(
+    "text",
+    [
+        '=HYPERLINK("http://example.invalid","more")',
+        "+254 cooks fast",
+        "-2+3",
+        "@SUM(A1)",
+        "\tsweet",
+        "\rsweet",
+    ],
+    ids=["equals", "plus", "minus", "at", "tab", "cr"],
+)
+def test_write_mentions_csv_neutralises_cells_a_spreadsheet_reads_as_formulas(
+    tmp_path: Path, text: str
+) -> None:
+    frame = pd.DataFrame({"sentence": [text], "span_text": ["sweet"]})
+    out = tmp_path / "m.csv"
+    write_mentions_csv(out, frame)
+    with out.open(newline="", encoding="utf-8") as fh:  # the csv module is the reference reader
+        rows = list(csv.DictReader(fh))
+    assert rows == [{"sentence": "'" + text, "span_text": "sweet"}]
+
+
+def test_write_mentions_csv_keeps_negative_numbers_in_numeric_columns(tmp_path: Path) -> None:
+    frame = pd.DataFrame(
+        {"sentence": ["-too bitter"], "offset": [-3], "score": [-0.25], "note": [None]}
+    )
+    out = tmp_path / "m.csv"
+    write_mentions_csv(out, frame)
+    with out.open(newline="", encoding="utf-8") as fh:
+        rows = list(csv.DictReader(fh))
+    # Numbers are not formulas (OWASP, "CSV Injection", concerns text that a spreadsheet
+    # evaluates); only the text cell gets the quote.
+    assert rows == [{"sentence": "'-too bitter", "offset": "-3", "score": "-0.25", "note": ""}]
