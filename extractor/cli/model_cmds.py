@@ -61,13 +61,19 @@ def cmd_models(args: argparse.Namespace, console: Console) -> int:
 
 def cmd_run(args: argparse.Namespace, console: Console) -> int:
     """Run the whole job in the workspace (the demo in the repository root)."""
-    _print_run(run_in(Path(args.workspace)), console)
+    _print_run(run_in(Path(args.workspace), retrain=args.retrain), console)
     return 0
 
 
 def _print_run(report: RunReport, console: Console) -> None:
     new = report.new
-    if new.respondents or new.sentences:
+    if report.first_run:
+        counts = report.counts
+        console.print(
+            f"First run: {counts.respondents} respondents, {counts.sentences} sentences; "
+            f"languages: {', '.join(counts.languages) or 'none'}."
+        )
+    elif new.respondents or new.sentences:
         languages = ", ".join(new.languages) or "none"
         console.print(
             f"New since the last run: {new.respondents} respondents, {new.sentences} "
@@ -79,6 +85,13 @@ def _print_run(report: RunReport, console: Console) -> None:
         if item is not None:
             print_warnings(console, item.warnings)
     print_notes(console, report.train.notes)
+    if not report.retrained:
+        console.print(
+            "Nothing changed since model version "
+            f"[bold]{report.train.version}[/] (interviews, concept lists, labels and model "
+            "settings are as it was trained on), so it is reused. Run "
+            "[bold]traits run --retrain[/] to train a new version anyway."
+        )
     console.print(_run_table(report))
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
 
@@ -132,6 +145,11 @@ def register(sub: Subcommands) -> None:
     p = sub.add_parser("models", help="list model versions and their measured quality")
     p.set_defaults(handler=cmd_models)
     p = sub.add_parser("run", help="the whole job: add new interviews, train, tag, export")
+    p.add_argument(
+        "--retrain",
+        action="store_true",
+        help="train a new model version even when nothing changed since the latest one",
+    )
     p.set_defaults(handler=cmd_run)
     p = sub.add_parser("export", help="write the preferred-traits workbook or another format")
     p.add_argument("--out", help="output file (default: exports/preferred_traits.xlsx)")

@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import hashlib
+import json
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any
 
@@ -17,8 +19,9 @@ from extractor.ingest.intake import (
 )
 from extractor.jobs.export import ExportResult, export_workbook
 from extractor.jobs.status import WorkspaceCounts
-from extractor.jobs.tag import TagReport, tag
+from extractor.jobs.tag import TagReport, ensure_tagged, tag
 from extractor.jobs.train import TrainReport, train
+from extractor.models.bundle import TrainingCounts
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace, is_workspace
 
@@ -50,7 +53,11 @@ class TrainTagReport:
 
 @dataclass(frozen=True)
 class RunReport:
-    """Everything `traits run` did, for the command line to print."""
+    """Everything `traits run` did, for the command line to print.
+
+    ``retrained`` is False when nothing a version learns from changed since the latest
+    one, which was then reused (``train`` describes it, ``previous_version`` is None).
+    """
 
     files: Sequence[FileReport]
     concepts: ConceptImport | None
@@ -61,17 +68,95 @@ class RunReport:
     previous_version: VersionQuality | None
     export: ExportResult
     counts: WorkspaceCounts
+    retrained: bool = True
+    first_run: bool = False
+
+
+TRAINED_INPUTS_KEY = "trained_inputs"
+"""Meta key of the newest version trained and the digest of what it was trained on."""
+
+
+def training_inputs(ws: Workspace) -> str:
+    """Return a digest of everything a model version learns from or is tagged with.
+
+    The interview files and the answers and sentences stored from them (with their
+    languages), every imported concept and variety list, every alias (accepted ones too),
+    the label history (append-only, so undo counts as a change) and the model settings.
+    """
+    counts = store.counts(ws.conn)
+    history = store.label_history(ws.conn)
+    parts = {
+        "sources": [(s["path"], s["sha256"]) for s in store.sources(ws.conn)],
+        "answers": counts["answers"],
+        "sentences": counts["sentences"],
+        "language_tags": counts["language_tags"],
+        "lists": [(v.kind, v.sha256) for v in store.concept_versions(ws.conn)],
+        "aliases": sorted(
+            (kind, a.concept_id, a.lang, a.text, a.kind)
+            for kind in ("trait", "variety")
+            for a in store.aliases(ws.conn, kind)
+        ),
+        "labels": (len(history), history[-1]["id"] if history else None),
+        "tagger": asdict(ws.settings.tagger),
+        "linking": asdict(ws.settings.linking),
+    }
+    text = json.dumps(parts, sort_keys=True, default=str)
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _unchanged_version(ws: Workspace, digest: str) -> store.ModelVersion | None:
+    """Return the newest version when it was trained on exactly these inputs, else None."""
+    latest = store.latest_model(ws.conn)
+    recorded = store.get_meta(ws.conn, TRAINED_INPUTS_KEY)
+    if latest is None or recorded is None:
+        return None
+    found = json.loads(recorded)
+    same = found.get("version") == latest.version and found.get("digest") == digest
+    return latest if same else None
 
 
 def train_and_tag(ws: Workspace, *, cross_validate: bool = True) -> TrainTagReport:
-    """Train a new model version, then tag every sentence with it."""
+    """Train a new model version, then tag every sentence with it.
+
+    What it was trained on is recorded, so that `traits run` can tell when nothing changed.
+    """
+    digest = training_inputs(ws)
     trained = train(ws, cross_validate=cross_validate)
     tagged = tag(ws, trained.models, trained.report.version)
+    store.set_meta(
+        ws.conn,
+        TRAINED_INPUTS_KEY,
+        json.dumps({"version": trained.report.version, "digest": digest}),
+    )
     return TrainTagReport(trained.report, tagged)
 
 
-def run(ws: Workspace) -> RunReport:
-    """Do the whole job: ingest what is new, import changed lists, train, tag and export."""
+def reuse_version(ws: Workspace, version: store.ModelVersion) -> TrainTagReport:
+    """Describe a saved version as training would have, tagging every sentence if needed."""
+    ensure_tagged(ws, version.version)
+    predicted = store.predictions(ws.conn, version.version)
+    mentions = [m for row in predicted.values() for m in row.mentions]
+    return TrainTagReport(
+        TrainReport(
+            version=version.version,
+            counts=TrainingCounts.from_meta(version.meta.get("counts", {})),
+            notes=(),
+            metrics=version.metrics,
+        ),
+        TagReport(
+            sentences=len(predicted),
+            mentions=len(mentions),
+            unlinked=sum(1 for m in mentions if m.get("concept") is None),
+        ),
+    )
+
+
+def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
+    """Do the whole job: ingest what is new, import changed lists, train, tag and export.
+
+    When nothing a version learns from changed since the latest version, that version is
+    reused (and exported) instead of training an identical one, unless ``retrain``.
+    """
     before = store.counts(ws.conn)
     previous = store.latest_model(ws.conn)
     # The lists first: language detection chooses among the concept list's languages too.
@@ -89,7 +174,8 @@ def run(ws: Workspace) -> RunReport:
         sentences=after["sentences"] - before["sentences"],
         languages=tuple(sorted(set(after["languages"]) - set(before["languages"]))),
     )
-    done = train_and_tag(ws)
+    unchanged = None if retrain else _unchanged_version(ws, training_inputs(ws))
+    done = train_and_tag(ws) if unchanged is None else reuse_version(ws, unchanged)
     return RunReport(
         files=added,
         concepts=concepts,
@@ -98,14 +184,16 @@ def run(ws: Workspace) -> RunReport:
         train=done.train,
         tag=done.tag,
         previous_version=None
-        if previous is None
+        if previous is None or unchanged is not None
         else VersionQuality(previous.version, previous.metrics),
         export=export_workbook(ws, done.train.version),
         counts=WorkspaceCounts(**after),
+        retrained=unchanged is None,
+        first_run=previous is None,
     )
 
 
-def run_in(root: Path) -> RunReport:
+def run_in(root: Path, *, retrain: bool = False) -> RunReport:
     """Run the whole job in a folder, making it a workspace first if it holds interviews.
 
     Raises:
@@ -119,4 +207,4 @@ def run_in(root: Path) -> RunReport:
             )
         init_workspace(root)
     with Workspace.open(root) as ws:
-        return run(ws)
+        return run(ws, retrain=retrain)

@@ -3,10 +3,12 @@
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
 from pathlib import Path
 
 import openpyxl
 import pandas as pd
+import pytest
 
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -122,3 +124,71 @@ def test_hostile_answer_stays_text_and_pseudonymised_export_hides_ids(
     for secret in ("KA-98", "KA-99", "KA-01", "712 345 678", "+254"):
         assert secret not in text
     assert "[phone]" in text
+
+
+def test_first_run_after_add_does_not_say_nothing_is_new(study: Path) -> None:
+    assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
+    code, out = run("-w", str(study), "run")
+    assert code == 0, out
+    assert "No new interviews" not in out
+    assert "First run: 6 respondents" in out
+
+
+def test_run_with_nothing_changed_reuses_the_latest_version(study: Path) -> None:
+    assert run("-w", str(study), "run")[0] == 0
+    workbook = study / "exports" / "preferred_traits.xlsx"
+    workbook.unlink()
+    code, out = run("-w", str(study), "run")
+    assert code == 0, out
+    assert "Nothing changed" in out and "--retrain" in out
+    with Workspace.open(study) as ws:
+        assert len(store.models(ws.conn)) == 1
+        version = store.models(ws.conn)[0].version
+    assert version in out
+    # Still exported, from the version reused.
+    frame = pd.read_excel(workbook, sheet_name="Mentions")
+    assert set(frame["Model version"].dropna()) == {version}
+
+
+def test_run_retrain_trains_a_new_version_though_nothing_changed(study: Path) -> None:
+    assert run("-w", str(study), "run")[0] == 0
+    code, out = run("-w", str(study), "run", "--retrain")
+    assert code == 0, out
+    assert "Nothing changed" not in out
+    with Workspace.open(study) as ws:
+        assert len(store.models(ws.conn)) == 2
+
+
+def _new_interview(study: Path) -> None:
+    (study / "interviews" / "more.csv").write_text(
+        "respondent,question,answer\nKA-07,Why?,The broth is thick and it cooks fast.\n",
+        encoding="utf-8",
+    )
+
+
+def _changed_concept_list(study: Path) -> None:
+    path = study / "concepts.csv"
+    path.write_text(
+        path.read_text(encoding="utf-8") + "BTX:0009,colour,en,seed colour\n", encoding="utf-8"
+    )
+
+
+def _accepted_alias(study: Path) -> None:
+    assert run("-w", str(study), "concepts", "accept", "boils quickly", "BTX:0001")[0] == 0
+
+
+@pytest.mark.parametrize(
+    "change",
+    [_new_interview, _changed_concept_list, _accepted_alias],
+    ids=["new-interview", "changed-concept-list", "accepted-alias"],
+)
+def test_run_trains_a_new_version_when_an_input_changed(
+    study: Path, change: Callable[[Path], None]
+) -> None:
+    assert run("-w", str(study), "run")[0] == 0
+    change(study)
+    code, out = run("-w", str(study), "run")
+    assert code == 0, out
+    assert "Nothing changed" not in out
+    with Workspace.open(study) as ws:
+        assert len(store.models(ws.conn)) == 2
