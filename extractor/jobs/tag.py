@@ -9,8 +9,7 @@ from typing import Any
 from extractor.jobs.inputs import alias_tuples
 from extractor.jobs.train import load_version
 from extractor.models.bundle import TraitModels
-from extractor.models.variety import attribute_variety, find_varieties
-from extractor.nlp.dictionary import build_dictionary
+from extractor.models.variety import attribute_corpus
 from extractor.progress import track
 from extractor.types import Sentence, Span
 from extractor.workspace import store
@@ -70,42 +69,25 @@ def attribute_varieties(
 
     A mention is about the nearest variety named before it in its answer, else the
     answer's variety column, else the variety named in the question; a comparison also
-    records the variety compared with. Needs a variety list (`traits concepts import
-    --varieties`); without one, only the variety column is used, as written.
+    records the variety compared with (:func:`extractor.models.variety.attribute_corpus`,
+    which the results apply to labeled spans too). Needs a variety list (`traits concepts
+    import --varieties`); without one, only the variety column is used, as written.
     """
-    names = alias_tuples(ws, "variety")
-    matcher = build_dictionary(names) if names else None
-    column = {a.id: a.variety for a in store.answers(ws.conn)}
-    by_answer: dict[int, list[tuple[Sentence, dict[str, Any]]]] = {}
+    spans = {
+        sentence.id: [Span(m["start"], m["end"]) for m in row["mentions"]]
+        for sentence, row in zip(corpus, rows, strict=True)
+        if row["mentions"]
+    }
+    found = attribute_corpus(
+        corpus,
+        spans,
+        alias_tuples(ws, "variety"),
+        {a.id: a.variety for a in store.answers(ws.conn)},
+    )
     for sentence, row in zip(corpus, rows, strict=True):
-        by_answer.setdefault(sentence.answer_id or 0, []).append((sentence, row))
-
-    def ids_in(text: str | None, lang: str) -> list[str]:
-        if not text or matcher is None:
-            return []
-        return [v for _, _, v in find_varieties(text, lang, matcher)]
-
-    for answer_id, items in by_answer.items():
-        mentions = [
-            (i, Span(m["start"], m["end"]))
-            for i, (_, row) in enumerate(items)
-            for m in row["mentions"]
-        ]
-        if not mentions:
-            continue
-        sentences = [s for s, _ in items]
-        lang = sentences[0].lang
-        written = column.get(answer_id)
-        answer_variety = (ids_in(written, lang) or [written])[0] if written else None
-        found = attribute_variety(
-            sentences,
-            mentions,
-            [find_varieties(s.text, s.lang, matcher) if matcher else [] for s in sentences],
-            answer_variety,
-            ids_in(sentences[0].question, lang),
-        )
-        flat = [m for _, row in items for m in row["mentions"]]
-        for mention, (subject, reference) in zip(flat, found, strict=True):
+        for mention, (subject, reference) in zip(
+            row["mentions"], found.get(sentence.id, ()), strict=True
+        ):
             mention["variety"], mention["ref_variety"] = subject, reference
 
 

@@ -18,7 +18,8 @@ right after the comparison marker (:func:`find_comparisons`).
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections import defaultdict
+from collections.abc import Iterable, Mapping, Sequence
 from typing import Protocol, runtime_checkable
 
 from extractor.models.cues import Cues, lexicon, packaged_cues, parse
@@ -29,6 +30,9 @@ from extractor.types import Sentence, Span
 
 VarietyMention = tuple[int, int, str]
 """(start, end, variety_id) in character offsets of a sentence."""
+
+Attribution = tuple[str | None, str | None]
+"""(variety_id, reference_variety_id) of one trait mention."""
 
 POSSESSIVE_LINKS = frozenset({"of", "de", "del", "du", "des", "d'", "da", "do", "von"})
 """Words joining a trait to the variety that owns it ("the taste of Kivuli")."""
@@ -213,3 +217,72 @@ def _preceding(
         if earlier:
             return earlier[-1][2]
     return None
+
+
+def attribute_corpus(
+    corpus: Sequence[Sentence],
+    spans: Mapping[int, Sequence[Span]],
+    variety_names: Sequence[tuple[str, str, str]],
+    written_varieties: Mapping[int, str | None],
+    *,
+    cues: Cues | None = None,
+) -> dict[int, list[Attribution]]:
+    """Return the subject and reference variety of every trait span, by sentence ID.
+
+    The one way variety attribution is applied, to predicted mentions and to spans a
+    person labeled alike: each answer holding a span is read whole (earlier sentences
+    may name the variety), with :func:`attribute_variety`.
+
+    Args:
+        corpus: Sentences in answer order (at least every sentence of the answers that
+            hold a span).
+        spans: Sentence ID -> its trait spans, in order.
+        variety_names: The variety list's ``(variety_id, name, lang)`` triples.
+        written_varieties: Answer ID -> the answer's variety column, if any.
+        cues: A cue lexicon for comparison markers (the packaged one when ``None``).
+
+    Returns:
+        Sentence ID -> one ``(variety_id, reference_variety_id)`` per span, in the
+        order of ``spans``.
+    """
+    matcher = build_dictionary(variety_names) if variety_names else None
+    by_answer: dict[int, list[Sentence]] = defaultdict(list)
+    for sentence in corpus:
+        by_answer[sentence.answer_id or 0].append(sentence)
+    out: dict[int, list[Attribution]] = {}
+    for answer_id, sentences in by_answer.items():
+        mentions = [(i, sp) for i, s in enumerate(sentences) for sp in spans.get(s.id, ())]
+        if not mentions:
+            continue
+        found = _attribute_answer(
+            sentences, mentions, matcher, written_varieties.get(answer_id), cues
+        )
+        for (i, _), pair in zip(mentions, found, strict=True):
+            out.setdefault(sentences[i].id, []).append(pair)
+    return out
+
+
+def _attribute_answer(
+    sentences: Sequence[Sentence],
+    mentions: Sequence[tuple[int, Span]],
+    matcher: _Matcher | None,
+    written: str | None,
+    cues: Cues | None,
+) -> list[Attribution]:
+    """Attribute the mentions of one answer, reading its variety column and question."""
+    lang = sentences[0].lang
+
+    def ids_in(text: str | None) -> list[str]:
+        if not text or matcher is None:
+            return []
+        return [v for _, _, v in find_varieties(text, lang, matcher)]
+
+    answer_variety = (ids_in(written) or [written])[0] if written else None
+    return attribute_variety(
+        sentences,
+        mentions,
+        [find_varieties(s.text, s.lang, matcher) if matcher else [] for s in sentences],
+        answer_variety,
+        ids_in(sentences[0].question),
+        cues=cues,
+    )

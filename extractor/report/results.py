@@ -2,7 +2,8 @@
 
 Mentions come from the stored predictions of a model version; wherever a person
 labeled a sentence, that label replaces the predictions for the sentence (gold
-labels always win).
+labels always win). A person's spans are attributed to varieties the way tagging
+attributes predicted mentions (:func:`extractor.models.variety.attribute_corpus`).
 """
 
 from __future__ import annotations
@@ -13,10 +14,12 @@ from typing import Any
 
 import pandas as pd
 
+from extractor.models.variety import Attribution, attribute_corpus
 from extractor.report.about import RunFacts
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
+from extractor.workspace.store import StoredLabel
 
 
 def _display_name(labels: Mapping[str, str], default: str, fallback: str) -> str:
@@ -46,8 +49,10 @@ def variety_names(ws: Workspace) -> dict[str, str]:
     }
 
 
-def _person_mentions(spans: Sequence[Span], annotator: str) -> list[dict[str, Any]]:
-    """Return a person's spans as mentions: no model, no probabilities."""
+def _person_mentions(
+    spans: Sequence[Span], annotator: str, varieties: Sequence[Attribution]
+) -> list[dict[str, Any]]:
+    """Return a person's spans as mentions: no model, no probabilities, their varieties."""
     return [
         {
             "start": sp.start,
@@ -57,12 +62,30 @@ def _person_mentions(spans: Sequence[Span], annotator: str) -> list[dict[str, An
             "confidence": None,
             "link_prob": None,
             "stance_prob": None,
+            "variety": variety,
+            "ref_variety": ref_variety,
             "source": "person",
             "annotator": annotator,
             "model_version": None,
         }
-        for sp in spans
+        for sp, (variety, ref_variety) in zip(spans, varieties, strict=True)
     ]
+
+
+def labeled_varieties(
+    ws: Workspace, labels: Mapping[int, StoredLabel]
+) -> dict[int, list[Attribution]]:
+    """Return sentence ID -> ``(variety, ref_variety)`` of each span of its label."""
+    spans = {sid: label.spans for sid, label in labels.items() if label.spans}
+    if not spans:
+        return {}
+    answers = {s.answer_id for s in store.sentences(ws.conn, spans)}
+    return attribute_corpus(
+        [s for s in store.sentences(ws.conn) if s.answer_id in answers],
+        spans,
+        [(a.concept_id, a.text, a.lang) for a in store.aliases(ws.conn, "variety")],
+        {a.id: a.variety for a in store.answers(ws.conn)},
+    )
 
 
 def _mention_row(
@@ -112,6 +135,7 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
     concepts = concept_frame(ws) if ids else pd.DataFrame(columns=["concept_id", "label"])
     concept_names = dict(zip(concepts["concept_id"], concepts["label"], strict=True))
     varieties = variety_names(ws)
+    attributed = labeled_varieties(ws, labels)
 
     def variety(value: str | None) -> str | None:
         return f"{varieties[value]} ({value})" if value in varieties else value
@@ -122,7 +146,9 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
         if sentence is None:
             continue
         if sid in labels:
-            found = _person_mentions(labels[sid].spans, labels[sid].annotator)
+            found = _person_mentions(
+                labels[sid].spans, labels[sid].annotator, attributed.get(sid, [])
+            )
         else:
             found = [
                 m | {"annotator": None, "model_version": version} for m in predicted[sid].mentions
