@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -12,7 +13,7 @@ from rich.console import Console
 from rich.table import Table
 
 from extractor.cli.common import Subcommands, open_workspace, print_warnings
-from extractor.jobs.add import AddReport, add_interviews
+from extractor.jobs.add import LanguageFound, add_interviews
 from extractor.jobs.status import workspace_status
 from extractor.workspace.folder import create_workspace
 
@@ -76,7 +77,14 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
     console.print(table)
     for report in reports:
         print_warnings(console, report.warnings)
-    print_languages(console, added)
+    print_languages(console, added.languages)
+    if added.languages and not added.concept_list:
+        console.print(
+            "note: no concept list is imported yet, so languages were told apart among the "
+            "settings' languages only; after `traits concepts import FILE`, run "
+            "`traits language detect --all` if some are wrong.",
+            highlight=False,
+        )
     return 0
 
 
@@ -87,23 +95,16 @@ _LACKS = {
 }
 
 
-def print_languages(console: Console, added: AddReport) -> None:
+def print_languages(console: Console, languages: Sequence[LanguageFound]) -> None:
     """Print the languages of the stored sentences and what each of them lacks."""
-    if not added.languages:
+    if not languages:
         return
-    found = ", ".join(f"{lang.tag} {lang.sentences}" for lang in added.languages)
+    found = ", ".join(f"{lang.tag} {lang.sentences}" for lang in languages)
     console.print(f"Languages found (sentences): {found}.", highlight=False)
-    for lang in added.languages:
+    for lang in languages:
         if lang.lacks:
             lacks = "; ".join(_LACKS[what] for what in lang.lacks)
             console.print(f"note: {lang.tag} has {lacks}.", highlight=False)
-    if not added.concept_list:
-        console.print(
-            "note: no concept list is imported yet, so languages were told apart among the "
-            "settings' languages only; after `traits concepts import FILE`, run "
-            "`traits language detect --all` if some are wrong.",
-            highlight=False,
-        )
 
 
 def cmd_status(args: argparse.Namespace, console: Console) -> int:

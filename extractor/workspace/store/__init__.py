@@ -13,6 +13,7 @@ The statements live in private modules by table group; callers use this package:
 """
 
 from extractor.workspace.store._answers import (
+    AnswerLanguage,
     SentenceContext,
     StoredAnswer,
     add_source,
@@ -20,8 +21,10 @@ from extractor.workspace.store._answers import (
     answers,
     find_sentence,
     respondents,
+    select_answers,
     sentence_context,
     sentences,
+    set_answer_languages,
     source_known,
     sources,
 )
@@ -73,6 +76,7 @@ from extractor.workspace.store._status import counts
 
 __all__ = [
     "MIGRATIONS",
+    "AnswerLanguage",
     "SCHEMA_VERSION",
     "ConceptListVersion",
     "ModelVersion",
@@ -111,8 +115,10 @@ __all__ = [
     "retract_label",
     "sample_ids",
     "schema_version",
+    "select_answers",
     "sentence_context",
     "sentences",
+    "set_answer_languages",
     "set_meta",
     "set_model_metrics",
     "skipped",

@@ -253,3 +253,68 @@ def respondents(conn: sqlite3.Connection) -> list[dict[str, Any]]:
             | json.loads(row["metadata"])
         )
     return out
+
+
+# --------------------------------------------------------------------------- languages
+
+
+class AnswerLanguage(NamedTuple):
+    """One stored answer's text and language, for setting or detecting its language."""
+
+    id: int
+    text: str
+    lang: str
+
+
+def select_answers(
+    conn: sqlite3.Connection,
+    *,
+    source_path: str | None = None,
+    respondent: str | None = None,
+    answer_id: int | None = None,
+) -> list[AnswerLanguage]:
+    """Return the answers first added from a file, of a respondent or with an ID (all if none)."""
+    query = (
+        "SELECT a.id, a.text, a.lang FROM answers a "
+        "JOIN respondents r ON r.id = a.respondent_id JOIN sources s ON s.id = a.source_id"
+    )
+    where, params = [], []
+    for column, value in (
+        ("s.path", source_path),
+        ("r.external_id", respondent),
+        ("a.id", answer_id),
+    ):
+        if value is not None:
+            where.append(f"{column} = ?")
+            params.append(value)
+    if where:
+        query += " WHERE " + " AND ".join(where)
+    rows = conn.execute(query + " ORDER BY a.id", params).fetchall()
+    return [AnswerLanguage(*r) for r in rows]
+
+
+def set_answer_languages(conn: sqlite3.Connection, changes: Sequence[tuple[int, str, str]]) -> int:
+    """Set the language of answers and drop the predictions of their sentences, as stale.
+
+    ``changes`` are ``(answer_id, tag, origin)``. Sentences and their labels are kept as
+    they are (labels point at the sentences); only the model's predictions, made with the
+    old language's tokens, are removed so that the next tagging computes them again. One
+    transaction.
+
+    Returns:
+        How many sentences lost their (stale) predictions.
+    """
+    stale = 0
+    with transaction(conn):
+        for answer_id, tag, origin in changes:
+            conn.execute(
+                "UPDATE answers SET lang = ?, lang_origin = ? WHERE id = ?",
+                (tag, origin, answer_id),
+            )
+            cur = conn.execute(
+                "DELETE FROM predictions WHERE sentence_id IN "
+                "(SELECT id FROM sentences WHERE answer_id = ?)",
+                (answer_id,),
+            )
+            stale += max(cur.rowcount, 0)
+    return stale

@@ -1,0 +1,136 @@
+"""``traits language``: set or detect again the language of stored answers."""
+
+from __future__ import annotations
+
+import io
+import json
+from pathlib import Path
+
+import pytest
+from rich.console import Console
+
+from extractor.cli.main import main
+from extractor.types import Span
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+
+# Invented answers (fictional varieties), one sentence each, by ISO 639-1 code.
+_TRIAL = {
+    "pt": (
+        "A mandioca Branquinha cozinha rápido e tem bom sabor.",
+        "Não gosto porque apodrece logo depois da colheita.",
+        "Aguenta bem a seca e dá muita raiz.",
+    ),
+    "sw": (
+        "Mavuno mengi kuliko Kibanda, na inakomaa mapema.",
+        "Sipendi kwa sababu mizizi inaoza haraka.",
+        "Nataka aina inayostahimili ukame.",
+    ),
+    "en": (
+        "The roots stay firm in the ground for a long time.",
+        "It gives a lot of flour and the flour is very white.",
+        "I would like a variety that matures early.",
+    ),
+}
+
+
+def run(*argv: str) -> tuple[int, str]:
+    buffer = io.StringIO()
+    code = main(list(argv), console=Console(file=buffer, width=200, force_terminal=False))
+    return code, buffer.getvalue()
+
+
+def languages(ws: Path) -> dict[str, int]:
+    code, out = run("-w", str(ws), "status", "--json")
+    assert code == 0
+    return dict(json.loads(out)["languages"])
+
+
+@pytest.fixture
+def trial(tmp_path: Path) -> Path:
+    """A workspace with the settings' languages only (en fr es) and the trial's answers.
+
+    One Portuguese sentence is labeled, and a model's predictions cover every sentence.
+    """
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    lines = ["respondent,question,answer"]
+    lines += [f"{lang}-{i},Why?,{t}" for lang, texts in _TRIAL.items() for i, t in enumerate(texts)]
+    (tmp_path / "trial.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
+    assert run("-w", str(ws), "add", str(tmp_path / "trial.csv"))[0] == 0
+    with Workspace.open(ws) as opened:
+        first = store.sentences(opened.conn)[0]  # pt-0's sentence
+        store.add_label(opened.conn, first.id, [Span(2, 10, "CSV:01", "liked")], "ana")
+        store.add_model(opened.conn, "v1", "models/v1", {})
+        rows = [{"sentence_id": s.id, "mentions": []} for s in store.sentences(opened.conn)]
+        store.store_predictions(opened.conn, "v1", rows)
+    return ws
+
+
+def _labels_and_predictions(ws: Path) -> tuple[dict[int, list[Span]], set[int]]:
+    with Workspace.open(ws) as opened:
+        labels = {sid: lab.spans for sid, lab in store.current_labels(opened.conn).items()}
+        return labels, set(store.predictions(opened.conn, "v1"))
+
+
+def test_language_set_by_respondent_keeps_labels_and_drops_stale_predictions(trial: Path) -> None:
+    labels, predicted = _labels_and_predictions(trial)
+    before = languages(trial)
+    assert before.get("pt", 0) == 0  # the settings' languages alone miss Portuguese
+    code, out = run("-w", str(trial), "language", "set", "pt", "--respondent", "pt-0")
+    assert code == 0, out
+    after = languages(trial)
+    assert after["pt"] == 1 and sum(after.values()) == sum(before.values())
+    labels_after, predicted_after = _labels_and_predictions(trial)
+    assert labels_after == labels  # nothing a person gave is lost
+    (changed,) = labels  # the labeled sentence is pt-0's, whose language changed
+    assert predicted_after == predicted - {changed}
+    assert "1 answer" in out and "tagged again" in out
+
+
+def test_language_detect_all_after_importing_the_concept_list(trial: Path, tmp_path: Path) -> None:
+    concepts = tmp_path / "concepts.csv"
+    concepts.write_text(
+        "id,label,lang,synonyms,parent,definition\n"
+        "CSV:01,early maturity,en,matures early,,\n"
+        "CSV:01,maturação precoce,pt,amadurece cedo,,\n"
+        "CSV:01,kukomaa mapema,sw,inakomaa mapema,,\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(trial), "concepts", "import", str(concepts))[0] == 0
+    labels, _ = _labels_and_predictions(trial)
+    code, out = run("-w", str(trial), "language", "detect", "--all")
+    assert code == 0, out
+    # ISO 639-1 codes of the languages the answers were written in.
+    assert languages(trial) == {"pt": 3, "sw": 3, "en": 3}
+    assert _labels_and_predictions(trial)[0] == labels
+
+
+def test_language_set_by_file_and_by_answer(trial: Path, tmp_path: Path) -> None:
+    code, _ = run("-w", str(trial), "language", "set", "sw", "--file", str(tmp_path / "trial.csv"))
+    assert code == 0
+    assert languages(trial) == {"sw": 9}
+    with Workspace.open(trial) as opened:
+        answer = store.answers(opened.conn)[-1].id
+    assert run("-w", str(trial), "language", "set", "en", "--answer", str(answer))[0] == 0
+    assert languages(trial) == {"sw": 8, "en": 1}
+
+
+@pytest.mark.parametrize(
+    ("argv", "names"),
+    [
+        (("set", "pt", "--respondent", "NOPE"), "respondent 'NOPE'"),
+        (("set", "pt", "--answer", "999"), "answer 999"),
+        (("set", "pt", "--file", "missing.csv"), "missing.csv"),
+        (("set", "klingonese", "--all"), "klingonese"),
+    ],
+    ids=["unknown-respondent", "unknown-answer", "unknown-file", "bad-tag"],
+)
+def test_language_bad_selection_is_one_sentence_and_changes_nothing(
+    trial: Path, argv: tuple[str, ...], names: str
+) -> None:
+    before = languages(trial), _labels_and_predictions(trial)
+    code, out = run("-w", str(trial), "language", *argv)
+    assert code == 1
+    assert names in out and "Traceback" not in out and len(out.strip().splitlines()) == 1
+    assert (languages(trial), _labels_and_predictions(trial)) == before
