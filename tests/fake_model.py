@@ -65,8 +65,19 @@ KNOWN = {
 """Phrases the fake model recognises, with the concept and stance it suggests."""
 
 
-def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sqlite3.Connection:
-    """Create a store holding the invented answers (sentence IDs 1..N) and concept list."""
+def build_store(
+    path: Path,
+    answers: Sequence[tuple[str, ...]] = ANSWERS,
+    *,
+    question: str = "Why do you grow this bean?",
+    lang: str = "en",
+    aliases: Sequence[tuple[str, str, str, str]] = ALIASES,
+) -> sqlite3.Connection:
+    """Create a store holding the invented answers (sentence IDs 1..N) and concept list.
+
+    Every answer replies to ``question`` and is in ``lang``; ``aliases`` are
+    ``(concept, text, lang, kind)`` rows over the concepts of :data:`CONCEPTS`.
+    """
     conn = store.connect(path, create=True)
     rows: list[AnswerRow] = []
     offsets: list[list[tuple[int, int]]] = []
@@ -80,9 +91,9 @@ def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sql
         rows.append(
             AnswerRow(
                 respondent=f"TS-{k % 4:03d}",
-                question="Why do you grow this bean?",
+                question=question,
                 answer=text,
-                lang="en",
+                lang=lang,
                 lang_origin="column",
                 variety="Zamaro Red" if k % 2 else None,
                 metadata={
@@ -111,7 +122,7 @@ def build_store(path: Path, answers: Sequence[tuple[str, ...]] = ANSWERS) -> sql
         path="traits.csv",
         sha256="x",
         concepts=CONCEPTS,
-        aliases=[AliasEntry(*alias) for alias in ALIASES],
+        aliases=[AliasEntry(*alias) for alias in aliases],
     )
     return conn
 

@@ -10,10 +10,14 @@ tests (an injectable input stream and rich ``Console``). What the annotator can 
   stance with one key.
 - ``x N`` drop span N, ``c N`` change its concept, ``t N`` change its stance,
   ``a N`` add span N's words as a new alias of its concept (N may be left out when
-  there is one span).
+  there is one span). Arguments may follow on the same line (``x 1 3``, ``t 1 d``,
+  ``c 2 yield``); without them the screen asks step by step. Span numbers stay the
+  same while a sentence is shown: dropping span 1 leaves span 2 as 2.
+- Words that overlap a span replace it (the screen says so).
 - ``n`` no trait here, ``s`` skip, ``u`` undo the last answer, ``q`` save and quit,
-  ``?`` help. End of input behaves like ``q``; Ctrl-C at any prompt also quits, and
-  nothing is lost because every answer is committed the moment it is given.
+  ``?`` help and the model's figures behind the plain words. End of input behaves
+  like ``q``; Ctrl-C at any prompt also quits, and nothing is lost because every
+  answer is committed the moment it is given.
 
 The screen holds no scores and writes no SQL: it draws what :class:`Session` returns
 (the drawing is in :mod:`extractor.cli.screen_draw`).
@@ -30,23 +34,51 @@ from rich.console import Console
 from rich.markup import escape
 from rich.text import Text
 
-from extractor.cli.screen_draw import HELP_TEXT, Figures, Quality, draw_item
+from extractor.cli.screen_draw import (
+    HELP_TEXT,
+    Figures,
+    Quality,
+    concept_label,
+    draw_item,
+    figures_text,
+)
 from extractor.errors import TraitsError
 from extractor.loop.items import Item, SessionSummary
 from extractor.loop.marking import (
     ConceptEntry,
     ConceptMatch,
     concept_entries,
+    concepts_for_words,
+    default_stance,
     find_phrase,
+    kept,
     rank_concepts,
 )
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
+from extractor.nlp.fold import fold
 from extractor.types import STANCES, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
 """One key per stance."""
+
+SPAN_COMMANDS = ("x", "c", "t", "a")
+"""Commands on a numbered span: drop, concept, stance, alias."""
+
+Draft = list[Span | None]
+"""The answer being edited: position N-1 holds span N; a dropped span leaves None."""
+
+
+def _either(numbers: Sequence[int]) -> str:
+    """Return "2", "2 or 3", "2, 3 or 4"."""
+    words = [str(n) for n in numbers]
+    return words[0] if len(words) == 1 else f"{', '.join(words[:-1])} or {words[-1]}"
+
+
+def _stance_of(key: str) -> str | None:
+    key = key.lower()
+    return STANCE_KEYS.get(key) or (key if key in STANCES else None)
 
 
 class _Quit(Exception):
@@ -96,7 +128,7 @@ class LabelScreen:
             self._quality_cache = (version, self._quality())
         return self._quality_cache[1]
 
-    def draw(self, item: Item, draft: Sequence[Span]) -> None:
+    def draw(self, item: Item, draft: Draft) -> None:
         """Draw the sentence in its context, the draft answer, progress and help."""
         draw_item(
             self.console,
@@ -127,9 +159,22 @@ class LabelScreen:
                 return found[int(answer) - 1]
             self.console.print(f"Type a number from 1 to {len(found)}.")
 
-    def choose_concept(self, words: str, current: str | None, lang: str) -> str | None:
-        """Ranked completion over every label and alias; returns a concept ID or None."""
-        matches: list[ConceptMatch] = rank_concepts(words, self.entries, lang=lang)
+    def choose_concept(
+        self, words: str, current: str | None, lang: str, query: str | None = None
+    ) -> str | None:
+        """Ranked completion over every label and alias; returns a concept ID or None.
+
+        The first list holds the concepts with a name inside the marked ``words``, then
+        completions of the words; with ``query`` (letters typed on the command line) it
+        holds the completions of the query instead.
+        """
+        matches: list[ConceptMatch] = (
+            concepts_for_words(words, self.entries, lang=lang)
+            if query is None
+            else rank_concepts(query, self.entries, lang=lang)
+        )
+        if query is not None and not matches:
+            self.console.print(f"No concept has a name like {query!r}; try other letters.")
         default = current if current is not None else (matches[0].concept if matches else None)
         while True:
             self._show_matches(matches)
@@ -158,45 +203,72 @@ class LabelScreen:
             self.console.print(line)
 
     def choose_stance(self, current: str | None) -> str:
-        """One key per stance; Enter keeps the current one (neutral for a new span)."""
+        """One key per stance; Enter keeps the current one (the offered one for a new span)."""
         default = current or "neutral"
         keys = " · ".join(f"{k} {v}" for k, v in STANCE_KEYS.items())
         while True:
-            answer = self.ask(f"stance — {keys} (Enter: {default}): ").lower()
+            answer = self.ask(f"stance — {keys} (Enter: {default}): ")
             if answer == "":
                 return default
-            if answer in STANCE_KEYS:
-                return STANCE_KEYS[answer]
-            if answer in STANCES:
-                return answer
+            stance = _stance_of(answer)
+            if stance is not None:
+                return stance
             self.console.print("Press l, d, w or n.")
 
     # ----------------------------------------------------------------- editing
 
-    def _span_number(self, arg: str, draft: Sequence[Span]) -> int | None:
-        if arg == "" and len(draft) == 1:
-            return 0
-        if arg.isdigit() and 1 <= int(arg) <= len(draft):
+    def _span_number(self, arg: str, draft: Draft) -> int | None:
+        """Return the draft position of span number ``arg`` (or of the only span), else None."""
+        numbers = [n for n, span in enumerate(draft, 1) if span is not None]
+        if arg == "" and len(numbers) == 1:
+            return numbers[0] - 1
+        if arg.isdigit() and int(arg) in numbers:
             return int(arg) - 1
-        self.say(f"Give a span number from 1 to {len(draft)}." if draft else "No span to change.")
+        if not numbers:
+            self.say("No span to change.")
+        elif arg.isdigit() and 1 <= int(arg) <= len(draft):
+            self.say(f"Span {arg} was dropped; give {_either(numbers)}.")
+        else:
+            self.say(f"Give a span number: {_either(numbers)}.")
         return None
 
-    def mark(self, item: Item, words: str, draft: list[Span]) -> None:
-        """Mark typed words as a new span, then ask its concept and stance."""
+    def mark(self, item: Item, words: str, draft: Draft) -> None:
+        """Mark typed words as a new span, then ask its concept and stance.
+
+        Words overlapping spans of the draft replace them: the new span takes the first
+        one's number, and its concept and stance are offered as the defaults.
+        """
         text = item.sentence.text
-        found = find_phrase(text, words, item.sentence.lang)
+        lang = item.sentence.lang
+        found = find_phrase(text, words, lang)
         if not found:
             self.say(f"{words!r} is not in this sentence; type words exactly as they appear.")
             return
         start, end = self.choose_occurrence(text, found)
-        for n, other in enumerate(draft, 1):
-            if start < other.end and other.start < end:
-                self.say(f"That overlaps span {n}; drop it first with x {n}.")
-                return
-        concept = self.choose_concept(text[start:end], None, item.sentence.lang)
-        stance = self.choose_stance(None)
-        draft.append(Span(start, end, concept, stance))
-        draft.sort()
+        overlapped = [
+            k
+            for k, other in enumerate(draft)
+            if other is not None and start < other.end and other.start < end
+        ]
+        replaced = draft[overlapped[0]] if overlapped else None
+        concept = self.choose_concept(text[start:end], replaced and replaced.concept, lang)
+        stance = (replaced and replaced.stance) or default_stance(
+            item.sentence, item.prediction, start, end
+        )
+        span = Span(start, end, concept, self.choose_stance(stance))
+        if not overlapped:
+            draft.append(span)
+            return
+        names = " and ".join(
+            f"{k + 1} ({text[o.start : o.end]!r})"
+            for k in overlapped
+            if (o := draft[k]) is not None
+        )
+        for k in overlapped:
+            draft[k] = None
+        draft[overlapped[0]] = span
+        plural = "s" if len(overlapped) > 1 else ""
+        self.say(f"Replaced span{plural} {names} with {text[start:end]!r}.")
 
     def add_alias(self, item: Item, span: Span) -> None:
         """Add the span's words as an alias of its concept."""
@@ -212,13 +284,58 @@ class LabelScreen:
         else:
             self.say(f"{words!r} is already an alias of {span.concept}.")
 
-    def handle(self, item: Item, line: str, draft: list[Span]) -> bool:
+    def edit(self, item: Item, command: str, args: Sequence[str], draft: Draft) -> None:
+        """Apply a span command (``x``, ``c``, ``t``, ``a``) with what followed it on the line."""
+        if command == "x":
+            if not all(a.isdigit() for a in args):
+                self.say("x takes span numbers only, like x 1 or x 1 3.")
+                return
+            picked = [self._span_number(a, draft) for a in args or [""]]
+            if None not in picked:
+                for k in picked:
+                    draft[k or 0] = None
+            return
+        k = self._span_number(args[0] if args else "", draft)
+        span = draft[k] if k is not None else None
+        if k is None or span is None:
+            return
+        rest = " ".join(args[1:])
+        if command == "c":
+            draft[k] = span._replace(concept=self._concept_for(item, span, rest))
+        elif command == "t":
+            stance = _stance_of(rest) if rest else self.choose_stance(span.stance)
+            if stance is None:
+                self.say(f"Give the stance as l, d, w or n, like t {k + 1} d.")
+            else:
+                draft[k] = span._replace(stance=stance)
+        elif rest:
+            self.say(f"a takes one span number, like a {k + 1}.")
+        else:
+            self.add_alias(item, span)
+
+    def _concept_for(self, item: Item, span: Span, query: str) -> str | None:
+        """Return the concept for ``c N [letters]``: one clear match at once, else ask."""
+        words = item.sentence.text[span.start : span.end]
+        lang = item.sentence.lang
+        if not query:
+            return self.choose_concept(words, span.concept, lang)
+        if query == "-":
+            return None
+        matches = rank_concepts(query, self.entries, lang=lang)
+        exact = [m for m in matches if fold(query) in (fold(m.matched), fold(m.concept))]
+        if len(matches) == 1 or len({m.concept for m in exact}) == 1:
+            chosen = (exact or matches)[0].concept
+            self.say(f"Concept: {concept_label(self.entries, chosen, lang)}.")
+            return chosen
+        return self.choose_concept(words, span.concept, lang, query=query)
+
+    def handle(self, item: Item, line: str, draft: Draft) -> bool:
         """Apply one typed line to the draft; return True when the sentence is done."""
         sid = item.sentence.id
         command, _, arg = line.partition(" ")
         arg = arg.strip()
         if line == "":
-            self.session.submit(sid, draft)
+            self.session.submit(sid, kept(draft))
             return True
         if line == "q":
             raise _Quit
@@ -237,23 +354,12 @@ class LabelScreen:
             return True
         if line == "?":
             self.console.print(HELP_TEXT)
+            self.console.print(figures_text(self.session, item, draft, self._quality_figures()))
             self.ask("Enter to go back ")
             return False
-        if command in ("x", "c", "t", "a") and (arg == "" or arg.isdigit()):
-            k = self._span_number(arg, draft)
-            if k is None:
-                return False
-            span = draft[k]
-            if command == "x":
-                del draft[k]
-            elif command == "c":
-                words = item.sentence.text[span.start : span.end]
-                concept = self.choose_concept(words, span.concept, item.sentence.lang)
-                draft[k] = span._replace(concept=concept)
-            elif command == "t":
-                draft[k] = span._replace(stance=self.choose_stance(span.stance))
-            else:
-                self.add_alias(item, span)
+        parts = line.split()
+        if parts[0] in SPAN_COMMANDS and (len(parts) == 1 or parts[1].isdigit()):
+            self.edit(item, parts[0], parts[1:], draft)
             return False
         words = arg if command == "m" and arg else line
         self.mark(item, words, draft)
@@ -275,7 +381,7 @@ class LabelScreen:
             if item is None:
                 self.console.print("Nothing left to ask: every sentence is labeled or skipped.")
                 return
-            draft = list(item.suggestion)
+            draft: Draft = list(item.suggestion)
             done = False
             while not done:
                 self.draw(item, draft)
@@ -325,6 +431,9 @@ def run_console(
     input_stream: TextIO | None = None,
     settings: SessionSettings | None = None,
     quality: Quality | None = None,
+    version: str | None = None,
+    newer_labels: int = 0,
+    notice: str = "",
 ) -> SessionSummary:
     """Run a labeling session in the terminal (or over a pipe) and return its summary.
 
@@ -340,6 +449,9 @@ def run_console(
         input_stream: where to read lines; standard input by default.
         settings: session settings.
         quality: returns estimated quality on the evaluation sample, if known.
+        version: the saved model version ``model_provider`` comes from, shown on screen.
+        newer_labels: labels given after that version was trained (the screen says so).
+        notice: a line shown under the first sentence.
 
     Returns:
         The session summary: labeled, skipped, undone, total_labels, model_version,
@@ -357,6 +469,8 @@ def run_console(
         predictor=model_provider,
         retrain=retrain,
         settings=settings,
+        version=version,
+        newer_labels=newer_labels,
     )
     screen = LabelScreen(
         session,
@@ -365,6 +479,7 @@ def run_console(
         entries=concept_entries(conn),
         quality=quality,
     )
+    screen.say(notice)
     screen.run()
     summary = session.quit()
     console.print(

@@ -15,7 +15,7 @@ from rich.table import Table
 from rich.text import Text
 
 from extractor.loop.items import Item
-from extractor.loop.marking import ConceptEntry
+from extractor.loop.marking import ConceptEntry, kept
 from extractor.loop.session import Session
 from extractor.models.bundle import Mention
 from extractor.types import Span
@@ -28,15 +28,16 @@ STANCE_STYLE = {
     None: "magenta",
 }
 
-HELP_LINE = "Enter keep · type words to mark · n no trait · s skip · u undo · q quit · ? more"
+HELP_LINE = "Enter keep · type words to mark · n no trait · s skip · u undo · q quit · ? help, figures"
 SPAN_HELP_LINE = "x N drop · c N concept · t N stance · a N add words as alias"
 
 HELP_TEXT = """\
 [bold]Enter[/]        keep what is shown and go on (nothing shown = no trait here)
-[bold]words[/]        mark those words of the sentence as a trait (or [bold]m words[/])
-[bold]x N[/]          drop span N
-[bold]c N[/]          choose another concept for span N
-[bold]t N[/]          choose another stance for span N
+[bold]words[/]        mark those words of the sentence as a trait (or [bold]m words[/]);
+             words overlapping a span replace it
+[bold]x N[/]          drop span N (several: [bold]x 1 3[/]); the other spans keep their numbers
+[bold]c N[/]          choose another concept for span N ([bold]c 2 yield[/] searches at once)
+[bold]t N[/]          choose another stance for span N ([bold]t 1 d[/] sets it at once)
 [bold]a N[/]          add the words of span N as a new alias of its concept
 [bold]n[/]            no trait here        [bold]s[/]  skip (not asked again)
 [bold]u[/]            undo your last answer and see it again
@@ -59,28 +60,75 @@ _ORIGIN = {
 }
 
 
+def model_name(session: Session) -> str:
+    """Return which model suggests: its saved version and the updates made in this session."""
+    s = session
+    if not s.model_version:
+        return "no model yet"
+    name = f"model {s.version}" if s.version else "model"
+    if s.updates and s.version:
+        times = "once" if s.updates == 1 else f"{s.updates} times"
+        name += f", updated {times} with this session's labels"
+    elif s.updates:
+        name += " trained on this session's labels"
+    return name
+
+
 def status_line(session: Session) -> Text:
     """Return the top line: labels now and in total, the model version, retraining."""
     s = session
     parts = [f"{s.labeled_this_session} labeled now", f"{s.total_labels} in total"]
-    parts.append(f"model {s.model_version}" if s.model_version else "no model yet")
+    parts.append(model_name(s))
     if s.retraining:
         parts.append("retraining…")
     return Text(" · ".join(parts), style="dim")
 
 
+AGREEMENT_WORDS = (
+    (0.80, "almost perfectly"),
+    (0.60, "substantially"),
+    (0.40, "moderately"),
+    (0.20, "fairly"),
+    (0.00, "slightly"),
+)
+"""Plain words for Cohen's kappa, from Landis & Koch (1977), "The measurement of observer
+agreement for categorical data", Biometrics 33:159-174: above 0.80 almost perfect, 0.61-0.80
+substantial, 0.41-0.60 moderate, 0.21-0.40 fair, 0-0.20 slight, below 0 poor."""
+
+
+def agreement_words(kappa: float) -> str:
+    """Return how well two models agree, in Landis & Koch's words for a kappa."""
+    for floor, words in AGREEMENT_WORDS:
+        if kappa > floor:
+            return words
+    return "poorly" if kappa < 0 else "slightly"
+
+
+def _quality_words(figures: Figures) -> str:
+    score = next((v for v in figures.values() if isinstance(v, float)), None)
+    version = figures.get("of version")
+    of = f" (model {version})" if version else ""
+    if score is None:
+        return f"quality was measured on the random check sample{of}"
+    return f"quality on the random check sample: {round(100 * score)} out of 100{of}"
+
+
 def progress_text(session: Session, figures: Figures | None) -> Text | None:
-    """Return estimated quality, model agreement and the stop sentence, or None for none."""
+    """Return quality, model agreement and the stop sentence in plain words, or None.
+
+    The figures themselves are one key away (``?``, see :func:`figures_text`).
+    """
     s = session
     bits = []
-    if figures:
-        shown = " ".join(
-            f"{k} {v:.2f}" if isinstance(v, float) else f"{k} {v}" for k, v in figures.items()
+    if s.behind and s.version:
+        bits.append(
+            f"suggestions come from model {s.version}, older than the last {s.behind} "
+            "labels; they count once the model updates (or run `traits train`)"
         )
-        bits.append(f"estimated quality on the evaluation sample: {shown}")
+    if figures:
+        bits.append(_quality_words(figures))
     if s.kappas:
-        last = " ".join(f"{k:.3f}" for k in s.kappas[-s.settings.kappa_rounds :])
-        bits.append(f"model agreement κ {last}")
+        bits.append(f"the last two models agree {agreement_words(s.kappas[-1])}")
     if s.last_error:
         bits.append(f"retraining failed ({s.last_error}); the previous model stays")
     if not bits and not s.stop_signal:
@@ -92,6 +140,30 @@ def progress_text(session: Session, figures: Figures | None) -> Text | None:
             style="bold green",
         )
     return text
+
+
+def figures_text(
+    session: Session, item: Item, draft: Sequence[Span | None], figures: Figures | None
+) -> Text:
+    """Return the technical figures behind the plain words: probabilities, quality, kappa."""
+    s = session
+    lines = []
+    for n, span in enumerate(draft, 1):
+        shown = _confidence(item, span) if span is not None else ""
+        if shown:
+            lines.append(f"span [{n}]: model probabilities {shown}")
+    if figures:
+        shown = " ".join(
+            f"{k} {v:.2f}" if isinstance(v, float) else f"{k} {v}" for k, v in figures.items()
+        )
+        lines.append(f"quality on the evaluation sample: {shown}")
+    if s.kappas:
+        last = " ".join(f"{k:.3f}" for k in s.kappas[-s.settings.kappa_rounds :])
+        lines.append(
+            f"agreement of successive models on the stop set, Cohen's kappa: {last} "
+            f"(stop at {s.settings.kappa_threshold} for {s.settings.kappa_rounds} rounds)"
+        )
+    return Text("\n".join(lines) or "No model figures for this sentence yet.", style="dim")
 
 
 def context_grid(item: Item) -> Table:
@@ -119,13 +191,18 @@ def context_grid(item: Item) -> Table:
     return grid
 
 
-def sentence_text(item: Item, draft: Sequence[Span]) -> Text:
+def _numbered(draft: Sequence[Span | None]) -> list[tuple[int, Span]]:
+    """Return the draft's spans with their numbers on screen (dropped ones left out)."""
+    return [(n, span) for n, span in enumerate(draft, 1) if span is not None]
+
+
+def sentence_text(item: Item, draft: Sequence[Span | None]) -> Text:
     """Return the sentence with the drafted spans underlined in their stance's colour."""
     text = Text(item.sentence.text, style="bold")
-    for span in draft:
+    for _, span in _numbered(draft):
         text.stylize(f"underline {STANCE_STYLE.get(span.stance, 'magenta')}", span.start, span.end)
     # Numbers after each span, inserted from the end so offsets stay valid.
-    for n, span in sorted(enumerate(draft, 1), key=lambda p: -p[1].end):
+    for n, span in sorted(_numbered(draft), key=lambda p: -p[1].end):
         text = text[: span.end] + Text(f"[{n}]", style="dim") + text[span.end :]
     return text
 
@@ -151,27 +228,52 @@ def confidence_text(mention: Mention, span: Span) -> str:
     return " ".join(parts)
 
 
-def _confidence(item: Item, span: Span) -> str:
+SURE = ((0.8, "sure"), (0.5, "fairly sure"), (0.0, "unsure"))
+"""Plain words for a model probability (common practice; the figures are behind ``?``)."""
+
+
+def plain_confidence(mention: Mention, span: Span) -> str:
+    """How sure the model is of the span as now drafted, in words: "model sure of the words"."""
+    probs = {"words": mention.confidence}
+    if mention.concept_probs and span.concept in mention.concept_probs:
+        probs["concept"] = mention.concept_probs[span.concept]
+    if mention.stance_probs and span.stance in mention.stance_probs:
+        probs["stance"] = mention.stance_probs[span.stance]
+    groups: dict[str, list[str]] = {}
+    for part, p in probs.items():
+        level = next(words for floor, words in SURE if p >= floor)
+        groups.setdefault(level, []).append(part)
+    said = [f"{level} of the {' and '.join(groups[level])}" for _, level in SURE if level in groups]
+    return "model " + ", ".join(said)
+
+
+def _mention(item: Item, span: Span) -> Mention | None:
     if item.origin != "model" or item.prediction is None:
-        return ""
+        return None
     for m in item.prediction.mentions:
         if (m.start, m.end) == (span.start, span.end):
-            return confidence_text(m, span)
-    return ""
+            return m
+    return None
 
 
-def spans_grid(item: Item, draft: Sequence[Span], entries: Sequence[ConceptEntry]) -> Table:
+def _confidence(item: Item, span: Span) -> str:
+    m = _mention(item, span)
+    return "" if m is None else confidence_text(m, span)
+
+
+def spans_grid(item: Item, draft: Sequence[Span | None], entries: Sequence[ConceptEntry]) -> Table:
     """Return one numbered row per drafted span: words, concept, stance, model confidence."""
     spans = Table.grid(padding=(0, 2))
     for _ in range(5):
         spans.add_column()
-    for n, span in enumerate(draft, 1):
+    for n, span in _numbered(draft):
+        m = _mention(item, span)
         spans.add_row(
             f"[{n}]",
             escape(item.sentence.text[span.start : span.end]),
             escape(concept_label(entries, span.concept, item.sentence.lang)),
             Text(span.stance or "no stance", style=STANCE_STYLE.get(span.stance, "")),
-            _confidence(item, span),
+            "" if m is None else plain_confidence(m, span),
         )
     return spans
 
@@ -180,7 +282,7 @@ def draw_item(
     console: Console,
     session: Session,
     item: Item,
-    draft: Sequence[Span],
+    draft: Sequence[Span | None],
     *,
     entries: Sequence[ConceptEntry],
     figures: Figures | None,
@@ -194,17 +296,17 @@ def draw_item(
     c.print(context_grid(item))
     c.print()
     c.print(sentence_text(item, draft))
-    if draft:
+    if kept(draft):
         c.print(spans_grid(item, draft, entries))
     else:
         c.print(Text("no trait here", style="dim italic"))
-    origin = "edited" if tuple(draft) != item.suggestion else _ORIGIN[item.origin]
+    origin = "edited" if kept(draft) != tuple(sorted(item.suggestion)) else _ORIGIN[item.origin]
     c.print(Text(f"({origin}; Enter saves what is shown)", style="dim"))
     progress = progress_text(session, figures)
     if progress is not None:
         c.print(progress)
     if message:
         c.print(Text(message, style="yellow"))
-    if draft:
+    if kept(draft):
         c.print(Text(SPAN_HELP_LINE, style="dim"))
     c.print(Text(HELP_LINE, style="dim"))

@@ -1,16 +1,21 @@
 """Helping the annotator mark spans: find typed words, complete concept names, check spans.
 
 The labeling screen calls these with what the annotator types; nothing here keeps state
-or scores sentences.
+or scores sentences. A draft answer is a list whose position is the span's number on
+screen; a dropped span leaves ``None`` in its place, so the other numbers never move.
 """
 
 from __future__ import annotations
 
+import re
 import sqlite3
 from collections.abc import Sequence
 from typing import NamedTuple
 
 from extractor.errors import InputError
+from extractor.models.bundle import SentencePrediction
+from extractor.models.cues import packaged_cues, rule_stance
+from extractor.models.stance_features import stance_features
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
 from extractor.types import STANCES, Sentence, Span
@@ -33,6 +38,33 @@ def find_phrase(text: str, words: str, lang: str) -> list[tuple[int, int]]:
         if folded[k : k + len(wanted)] == wanted:
             found.append((tokens[k][0], tokens[k + len(wanted) - 1][1]))
     return found
+
+
+def kept(draft: Sequence[Span | None]) -> tuple[Span, ...]:
+    """Return the spans still in a draft (dropped numbers hold None), in text order."""
+    return tuple(sorted(span for span in draft if span is not None))
+
+
+def default_stance(
+    sentence: Sentence, prediction: SentencePrediction | None, start: int, end: int
+) -> str:
+    """Return the stance to offer for newly marked words ``sentence.text[start:end]``.
+
+    The model's stance of the predicted mention that overlaps the words most, when there
+    is one; otherwise the cue rules' answer (:func:`~extractor.models.cues.rule_stance`),
+    whose last resort is the lean of the question the answer replied to ("What do you
+    dislike about it?" leans disliked).
+    """
+    if prediction is not None:
+        overlaps = [
+            (min(end, m.end) - max(start, m.start), m.stance)
+            for m in prediction.mentions
+            if m.stance and m.start < end and start < m.end
+        ]
+        if overlaps:
+            return str(max(overlaps, key=lambda pair: pair[0])[1])
+    features = stance_features(sentence, Span(start, end, None, None), packaged_cues())
+    return rule_stance(features)[0]
 
 
 def checked_spans(sentence: Sentence, spans: Sequence[Span]) -> tuple[Span, ...]:
@@ -101,6 +133,66 @@ def _match_rank(query: str, name: str) -> int | None:
     return None
 
 
+def _words(text: str) -> list[str]:
+    return re.findall(r"\w+", fold(text))
+
+
+def _gaps_in_order(alias: Sequence[str], typed: Sequence[str]) -> int | None:
+    """Return how many typed words fall between the alias's words, found in order; None if not."""
+    if not alias:
+        return None
+    at, first = 0, None
+    for k, word in enumerate(typed):
+        if word == alias[at]:
+            first = k if first is None else first
+            at += 1
+            if at == len(alias):
+                return k - (first or 0) + 1 - len(alias)
+    return None
+
+
+def _preferred_labels(entries: Sequence[ConceptEntry]) -> dict[str, dict[str, str]]:
+    labels: dict[str, dict[str, str]] = {}
+    for e in entries:
+        if e.preferred:
+            labels.setdefault(e.concept, {}).setdefault(e.lang, e.text)
+    return labels
+
+
+def _as_match(e: ConceptEntry, labels: dict[str, dict[str, str]], lang: str) -> ConceptMatch:
+    own = labels.get(e.concept, {})
+    label = own.get(lang) or own.get("en") or next(iter(own.values()), e.text)
+    return ConceptMatch(e.concept, label, e.text, e.lang)
+
+
+def concepts_for_words(
+    words: str, entries: Sequence[ConceptEntry], *, lang: str = "en", limit: int = 9
+) -> list[ConceptMatch]:
+    """Return the concepts to offer for marked words, best first.
+
+    Concepts with a label or alias whose words all occur in the marked words, in order,
+    come first ("ladha" in "ladha tamu", "aguenta a seca" in "aguenta bem à seca"; case
+    and accents ignored): longer names, then names with fewer words between theirs, first.
+    Then the completions of :func:`rank_concepts` for the words, each concept once.
+    """
+    typed = _words(words)
+    inside: dict[str, tuple[tuple[int, int, int, str], ConceptEntry]] = {}
+    for e in entries:
+        alias = _words(e.text)
+        gaps = _gaps_in_order(alias, typed)
+        if gaps is None:
+            continue
+        key = (-len(alias), gaps, len(e.text), e.concept)
+        if e.concept not in inside or key < inside[e.concept][0]:
+            inside[e.concept] = (key, e)
+    labels = _preferred_labels(entries)
+    first = [_as_match(e, labels, lang) for _, e in sorted(inside.values(), key=lambda kv: kv[0])]
+    rest = [
+        m for m in rank_concepts(words, entries, lang=lang, limit=limit) if m.concept not in inside
+    ]
+    return (first + rest)[:limit]
+
+
 def rank_concepts(
     query: str, entries: Sequence[ConceptEntry], *, lang: str = "en", limit: int = 9
 ) -> list[ConceptMatch]:
@@ -113,10 +205,7 @@ def rank_concepts(
     wanted = fold(query.strip())
     if not wanted:
         return []
-    labels: dict[str, dict[str, str]] = {}
-    for e in entries:
-        if e.preferred:
-            labels.setdefault(e.concept, {}).setdefault(e.lang, e.text)
+    labels = _preferred_labels(entries)
     best: dict[str, tuple[tuple[int, int, str], ConceptEntry]] = {}
     for e in entries:
         ranks = [
@@ -130,9 +219,4 @@ def rank_concepts(
         if e.concept not in best or key < best[e.concept][0]:
             best[e.concept] = (key, e)
     ordered = sorted(best.values(), key=lambda kv: kv[0])[:limit]
-    out = []
-    for _, e in ordered:
-        own = labels.get(e.concept, {})
-        label = own.get(lang) or own.get("en") or next(iter(own.values()), e.text)
-        out.append(ConceptMatch(e.concept, label, e.text, e.lang))
-    return out
+    return [_as_match(e, labels, lang) for _, e in ordered]

@@ -69,6 +69,8 @@ class Session:
         done: set[int],
         predictor: Predictor | None = None,
         retrain: Retrain | None = None,
+        version: str | None = None,
+        newer_labels: int = 0,
     ) -> None:
         self.conn = conn
         self.annotator = annotator
@@ -80,8 +82,11 @@ class Session:
         self._labeled = labeled
         self._done = done
         self._predictor = predictor
+        self._initial_model = predictor is not None
         self._retrain = retrain
         self.model_version = 0
+        self.version = version
+        self.newer_labels = newer_labels
         self._subpool: set[int] | None = None
         self._predictions: dict[int, SentencePrediction] = {}
         self._scores = np.zeros(len(pool.ids))
@@ -110,6 +115,8 @@ class Session:
         predictor: Predictor | None = None,
         retrain: Retrain | None = None,
         settings: SessionSettings | None = None,
+        version: str | None = None,
+        newer_labels: int = 0,
     ) -> Session:
         """Start a session: make sure the samples exist, read the pool, rank it.
 
@@ -121,6 +128,8 @@ class Session:
             predictor: the current model, or None before any model exists (cold start).
             retrain: fits a new model in the background every ``retrain_every`` labels.
             settings: the session settings.
+            version: the saved model version ``predictor`` comes from, if any.
+            newer_labels: labels given after that version was trained (it lacks them).
 
         Raises:
             InputError: an empty annotator name, a batch size below 1, or an unknown strategy.
@@ -145,6 +154,8 @@ class Session:
             done=labeled | store.skipped(conn, annotator.strip()),
             predictor=predictor,
             retrain=retrain,
+            version=version,
+            newer_labels=newer_labels,
         )
         if predictor is not None:
             session._install(tag_pool(predictor, spec, session._pool_snapshot(), pool.stop, []))
@@ -223,6 +234,16 @@ class Session:
         had_error = self.last_error
         self._poll()
         return self.model_version > before or self.last_error != had_error
+
+    @property
+    def updates(self) -> int:
+        """Models fitted in the background during this session and installed."""
+        return max(self.model_version - (1 if self._initial_model else 0), 0)
+
+    @property
+    def behind(self) -> int:
+        """Labels newer than the saved version that no model of this session has learned yet."""
+        return self.newer_labels if self.updates == 0 else 0
 
     @property
     def retraining(self) -> bool:

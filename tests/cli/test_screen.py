@@ -18,12 +18,12 @@ from rich.console import Console
 
 from extractor.cli.screen import LabelScreen, run_console
 from extractor.loop.items import SessionSummary
-from extractor.loop.marking import concept_entries
+from extractor.loop.marking import concept_entries, rank_concepts
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
 from extractor.types import Span
 from extractor.workspace import store
-from tests.fake_model import ANSWERS, FakeModel, build_store  # noqa: E402
+from tests.fake_model import ALIASES, ANSWERS, FakeModel, build_store  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[2]
 NO_EVAL = SessionSettings(evaluation_fraction=0.0, evaluation_min=0, stop_set_size=0)
@@ -216,14 +216,14 @@ def test_screen_shows_context_suggestion_and_help(conn: sqlite3.Connection) -> N
         "Zamaro Red cooks fast on the fire.",
         "BTX:0002 cooking time",
         "liked",
-        "span 0.80",
-        "concept 0.70",
+        "model sure of the words and stance, fairly sure of the concept",
         "Enter keep",
         "q quit",
         "before",
         "Zamaro Red cooks fast on the fire.",
     ]:
         assert expected in screen
+    assert "span 0.80" not in screen  # the figures are behind "?"
 
 
 def test_screen_shows_quality_kappas_and_stop_sentence(conn: sqlite3.Connection) -> None:
@@ -241,9 +241,33 @@ def test_screen_shows_quality_kappas_and_stop_sentence(conn: sqlite3.Connection)
     assert item is not None
     screen.draw(item, list(item.suggestion))
     text = out.getvalue()
-    assert "f1 0.61 sentences 40" in text
-    assert "0.995 0.999 1.000" in text
+    assert "quality on the random check sample: 61 out of 100" in text
+    assert "the last two models agree almost perfectly" in text
     assert "Further labels are changing little" in text
+    for jargon in ("κ", "0.995", "f1 0.61", "span 0.80"):
+        assert jargon not in text
+
+
+def test_help_key_shows_the_figures_behind_the_plain_words(conn: sqlite3.Connection) -> None:
+    out = io.StringIO()
+    session = Session.open(conn, annotator="Ama", predictor=FakeModel(), settings=NO_EVAL)
+    session.kappas.extend([0.908])
+    lines = iter(["?", "", "q"])
+    screen = LabelScreen(
+        session,
+        console=Console(file=out, force_terminal=False, width=160),
+        read_line=lambda prompt: next(lines, None),
+        entries=concept_entries(conn),
+        quality=lambda: {"span F1": 0.61, "of version": "v002"},
+    )
+    screen.run()
+    text = out.getvalue()
+    main, behind = text.split("Enter to go back", 1)[0].split("Stance: l liked", 1)
+    # Landis & Koch (1977) call a kappa above 0.80 "almost perfect" agreement
+    assert "agree almost perfectly" in main and "0.908" not in main
+    assert "span [1]: model probabilities span 0.80 concept 0.70 stance 0.90" in behind
+    assert "quality on the evaluation sample: span F1 0.61 of version v002" in behind
+    assert "Cohen's kappa: 0.908" in behind
 
 
 def test_stop_sentence_absent_before_rule_fires(conn: sqlite3.Connection) -> None:
@@ -302,8 +326,180 @@ def test_killed_process_keeps_the_five_answers_given(tmp_path: Path) -> None:
 
 
 def test_edited_span_shows_model_probability_of_the_new_choice(conn: sqlite3.Connection) -> None:
-    _, screen = _run(conn, ["c 1", "yie", "1", "q"])
+    _, screen = _run(conn, ["c 1", "yie", "1", "?", "", "q"])
     after = screen.split("yie", 1)[1]
     assert "BTX:0015 yield" in after
-    assert "concept 0.30" in after  # the fake linker's probability of BTX:0015
+    assert "model sure of the words and stance, unsure of the concept" in after
+    assert "concept 0.30" in after.split("Enter to go back")[0]  # the fake linker's figure
     assert "(edited; Enter saves what is shown)" in after
+
+
+def _first(sentence: int) -> FakeModel:
+    """A fake model whose least confident sentence, asked first, is ``sentence``."""
+    return FakeModel(path_prob=lambda s: 0.1 if s.id == sentence else 0.9)
+
+
+def _labels(conn: sqlite3.Connection) -> dict[int, list[Span]]:
+    return {k: v.spans for k, v in store.current_labels(conn).items()}
+
+
+def test_span_numbers_stay_the_same_after_a_drop(conn: sqlite3.Connection) -> None:
+    # sentence 19 has two suggestions, [1] "cooks fast" and [2] "bitter"
+    _, screen = _run(conn, ["x 1", "x 2", "", "q"], model_provider=_first(19))
+    assert _labels(conn) == {19: []}
+    assert "Give a span number" not in screen
+
+
+def test_a_dropped_span_number_is_refused_with_the_numbers_left(
+    conn: sqlite3.Connection,
+) -> None:
+    _, screen = _run(conn, ["x 1", "t 1", "", "q"], model_provider=_first(19))
+    assert "Span 1 was dropped; give 2." in screen
+    assert _labels(conn) == {19: [_span(19, "bitter", "BTX:0007", "disliked")]}
+
+
+@pytest.mark.parametrize(
+    ("line", "expected"),
+    [
+        (
+            "t 1 w",
+            [
+                _span(19, "cooks fast", "BTX:0002", "wanted"),
+                _span(19, "bitter", "BTX:0007", "disliked"),
+            ],
+        ),
+        (
+            "t 2 liked",
+            [
+                _span(19, "cooks fast", "BTX:0002", "liked"),
+                _span(19, "bitter", "BTX:0007", "liked"),
+            ],
+        ),
+        (
+            "c 2 yield",
+            [
+                _span(19, "cooks fast", "BTX:0002", "liked"),
+                _span(19, "bitter", "BTX:0015", "disliked"),
+            ],
+        ),
+        (
+            "c 1 -",
+            [_span(19, "cooks fast", None, "liked"), _span(19, "bitter", "BTX:0007", "disliked")],
+        ),
+        ("x 1 2", []),
+    ],
+    ids=["stance-key", "stance-name", "concept-name", "no-concept", "drop-two"],
+)
+def test_command_with_its_arguments_on_one_line(
+    conn: sqlite3.Connection, line: str, expected: list[Span]
+) -> None:
+    _, screen = _run(conn, [line, "", "q"], model_provider=_first(19))
+    assert "is not in this sentence" not in screen
+    assert _labels(conn) == {19: expected}
+
+
+def test_concept_letters_on_one_line_that_fit_several_ask_which(
+    conn: sqlite3.Connection,
+) -> None:
+    # "t" is in several names: the screen lists them and asks, as it does without letters
+    _, screen = _run(conn, ["c 1 t", "2", "", "q"], model_provider=_first(19))
+    assert "number to pick" in screen
+    second = rank_concepts("t", concept_entries(conn), lang="en")[1].concept
+    assert _labels(conn)[19][0] == _span(19, "cooks fast", second, "liked")
+
+
+def test_new_span_stance_defaults_to_the_model_stance(conn: sqlite3.Connection) -> None:
+    # the model says "bitter" is disliked in sentence 19, under a question that leans liked
+    _run(conn, ["x 2", "bitter", "", "", "", "q"], model_provider=_first(19))
+    assert _labels(conn)[19][1] == _span(19, "bitter", "BTX:0007", "disliked")
+
+
+def test_new_span_stance_defaults_to_the_question_lean(tmp_path: Path) -> None:
+    # Hu & Liu's (2004) opinion lexicon lists "dislike" as a negative word (from memory);
+    # the packaged cue lexicon's question_disliked category holds it.
+    conn = build_store(
+        tmp_path / "q.sqlite",
+        [("The soup turns dark.",)],
+        question="What do you dislike about this bean?",
+    )
+    _, screen = _run(conn, ["soup turns dark", "-", "", "", "q"])
+    assert "(Enter: disliked)" in screen
+    assert _labels(conn) == {1: [Span(4, 19, None, "disliked")]}
+
+
+@pytest.mark.parametrize(
+    ("text", "lang", "alias", "words", "concept"),
+    [
+        (
+            "Muhogo huu una ladha tamu sana.",
+            "sw",
+            ("BTX:0007", "ladha", "sw"),
+            "ladha tamu",
+            "BTX:0007",
+        ),
+        # "à" folds to "a": Unicode canonical decomposition (NFKD) drops the grave accent
+        (
+            "A mandioca aguenta bem à seca.",
+            "pt",
+            ("BTX:0020", "aguenta a seca", "pt"),
+            "aguenta bem à seca",
+            "BTX:0020",
+        ),
+    ],
+    ids=["alias-inside-the-words", "alias-words-in-order-accent-folded"],
+)
+def test_typed_words_holding_an_alias_offer_its_concept_first(
+    tmp_path: Path,
+    text: str,
+    lang: str,
+    alias: tuple[str, str, str],
+    words: str,
+    concept: str,
+) -> None:
+    conn = build_store(
+        tmp_path / "a.sqlite",
+        [(text,)],
+        lang=lang,
+        aliases=[*ALIASES, (*alias, "alternative")],
+    )
+    _, screen = _run(conn, [words, "", "l", "", "q"])
+    start = text.index(words)
+    assert _labels(conn) == {1: [Span(start, start + len(words), concept, "liked")]}
+    assert f"1  {concept}" in screen
+
+
+def test_typed_span_overlapping_a_suggestion_replaces_it(conn: sqlite3.Connection) -> None:
+    # sentence 1 suggests [1] "cooks fast"; the annotator marks the longer phrase
+    _, screen = _run(conn, ["cooks fast on the fire", "", "", "", "q"])
+    assert "Replaced span 1 ('cooks fast') with 'cooks fast on the fire'." in screen
+    assert _labels(conn) == {1: [_span(1, "cooks fast on the fire", "BTX:0002", "liked")]}
+
+
+def test_status_line_names_the_model_version(conn: sqlite3.Connection) -> None:
+    out = io.StringIO()
+    run_console(
+        conn,
+        annotator="Ama",
+        model_provider=FakeModel(),
+        settings=NO_EVAL,
+        version="v004-20261201T101500",
+        console=Console(file=out, force_terminal=False, width=120),
+        input_stream=io.StringIO("q\n"),
+    )
+    assert "model v004-20261201T101500" in out.getvalue()
+    assert "model 1" not in out.getvalue()
+
+
+def test_status_line_says_when_labels_are_newer_than_the_model(conn: sqlite3.Connection) -> None:
+    out = io.StringIO()
+    run_console(
+        conn,
+        annotator="Ama",
+        model_provider=FakeModel(),
+        settings=NO_EVAL,
+        version="v002",
+        newer_labels=3,
+        console=Console(file=out, force_terminal=False, width=160),
+        input_stream=io.StringIO("q\n"),
+    )
+    assert "suggestions come from model v002, older than the last 3 labels" in out.getvalue()

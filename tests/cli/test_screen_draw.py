@@ -13,6 +13,7 @@ from rich.console import Console
 
 from extractor.cli.screen_draw import (
     STANCE_STYLE,
+    agreement_words,
     concept_label,
     confidence_text,
     context_grid,
@@ -92,3 +93,26 @@ def test_context_lists_the_question_and_who_answered_in_a_fixed_order() -> None:
     text = out.getvalue()
     assert "Why do you grow it?" in text
     assert "KA-01 · gender woman · village Vesk · group interview · variety Zanobi" in text
+
+
+@pytest.mark.parametrize(
+    ("kappa", "words"),
+    [
+        (0.908, "almost perfectly"),
+        (0.75, "substantially"),
+        (0.5, "moderately"),
+        (0.3, "fairly"),
+        (0.1, "slightly"),
+        (-0.2, "poorly"),
+    ],
+    ids=["almost-perfect", "substantial", "moderate", "fair", "slight", "poor"],
+)
+def test_agreement_words_follow_landis_and_koch(kappa: float, words: str) -> None:
+    # Landis & Koch (1977), Biometrics 33:159-174: 0.81-1 almost perfect, 0.61-0.80
+    # substantial, 0.41-0.60 moderate, 0.21-0.40 fair, 0-0.20 slight, below 0 poor
+    assert agreement_words(kappa) == words
+
+
+def test_sentence_text_keeps_span_numbers_when_one_is_dropped() -> None:
+    draft = [None, Span(22, 27, None, "disliked")]
+    assert sentence_text(_item(), draft).plain == TEXT[:27] + "[2]" + TEXT[27:]
