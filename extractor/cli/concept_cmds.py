@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+from collections.abc import Mapping
 from pathlib import Path
 
 from rich.console import Console
@@ -10,7 +11,14 @@ from rich.table import Table
 
 from extractor.cli.common import Subcommands, open_workspace, print_warnings
 from extractor.ingest.intake import import_concepts
-from extractor.jobs.curate import accept_alias, export_concepts, list_concepts, suggest_terms
+from extractor.jobs.curate import (
+    MIN_COUNT_PERCENT,
+    accept_alias,
+    export_concepts,
+    list_concepts,
+    suggest_terms,
+)
+from extractor.models.terms import TermSuggestion
 
 
 def cmd_concepts_import(args: argparse.Namespace, console: Console) -> int:
@@ -66,21 +74,33 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
     with open_workspace(args) as ws:
         found = suggest_terms(ws, min_count=args.min_count)
     if not found.terms:
-        console.print("No unlinked term occurs often enough; nothing to suggest.")
+        console.print(
+            f"No unlinked term occurs often enough (at least {found.min_count} times); "
+            "nothing to suggest."
+        )
         return 0
-    names = found.names
     table = Table(title="Unlinked terms (accept one with `traits concepts accept TERM ID`)")
-    for column in ("term", "count", "nearest concepts", "nearest by word use", "example"):
+    for column in ("term", "count", "nearest concepts (linker probability)", "example"):
         table.add_column(column, overflow="fold")
     for item in found.terms[: args.limit]:
-        nearest = ", ".join(f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.nearest[:3])
-        similar = ", ".join(
-            f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.nearest_by_vectors[:3]
-        )
         examples = item.examples or ("",)
-        table.add_row(item.term, str(item.count), nearest, similar, str(examples[0]))
+        table.add_row(item.term, str(item.count), _nearest(item, found.names), str(examples[0]))
     console.print(table)
     return 0
+
+
+def _nearest(item: TermSuggestion, names: Mapping[str, str]) -> str:
+    """Return the linker's nearest concepts with their probability: one scale.
+
+    Concepts whose aliases are used alike (word vectors) and not already listed follow,
+    without a figure, since a cosine is not a probability.
+    """
+    shown = [f"{names.get(c, '')} ({c}) {p:.2f}" for c, p in item.nearest[:3]]
+    listed = {c for c, _ in item.nearest[:3]}
+    alike = [f"{names.get(c, '')} ({c})" for c, _ in item.nearest_by_vectors[:3] if c not in listed]
+    if alike:
+        shown.append("used alike: " + ", ".join(alike))
+    return ", ".join(shown)
 
 
 def cmd_concepts_accept(args: argparse.Namespace, console: Console) -> int:
@@ -126,7 +146,12 @@ def register(sub: Subcommands) -> None:
     p.set_defaults(handler=cmd_concepts_list)
 
     p = concepts.add_parser("suggest", help="frequent unlinked terms and their nearest concepts")
-    p.add_argument("--min-count", type=int, default=2)
+    p.add_argument(
+        "--min-count",
+        type=int,
+        help=f"fewest mentions of a term (default: {MIN_COUNT_PERCENT}%% of the respondents, "
+        "at least 1)",
+    )
     p.add_argument("--limit", type=int, default=30)
     p.set_defaults(handler=cmd_concepts_suggest)
     p = concepts.add_parser("accept", help="add a term as an alias of a concept")

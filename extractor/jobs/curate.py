@@ -25,12 +25,27 @@ class ConceptListing:
     versions: Sequence[store.ConceptListVersion]
 
 
+MIN_COUNT_PERCENT = 2
+"""By default a term is suggested when it has at least this percentage of the number of
+respondents in mentions (at least 1): 1 for up to 50 respondents, 2 for 100, 10 for 500.
+A rule of our own, so that a small study shows its terms and a large one its frequent ones."""
+
+
 @dataclass(frozen=True)
 class TermSuggestions:
-    """Frequent unlinked terms, and a display name for every concept ID they point at."""
+    """Frequent unlinked terms, a display name for each concept they point at, the threshold.
+
+    ``min_count`` is the fewest mentions a term needed to be listed.
+    """
 
     terms: Sequence[TermSuggestion]
     names: Mapping[str, str]
+    min_count: int = 1
+
+
+def default_min_count(respondents: int) -> int:
+    """Return the default fewest mentions of a suggested term (:data:`MIN_COUNT_PERCENT`)."""
+    return max(1, -(-respondents * MIN_COUNT_PERCENT // 100))  # ceiling, in whole numbers
 
 
 @dataclass(frozen=True)
@@ -53,12 +68,15 @@ def list_concepts(ws: Workspace, kind: str = "trait") -> ConceptListing:
     return ConceptListing(found, per_concept, versions)
 
 
-def suggest_terms(ws: Workspace, *, min_count: int = 2) -> TermSuggestions:
+def suggest_terms(ws: Workspace, *, min_count: int | None = None) -> TermSuggestions:
     """Return frequent mentions of the newest version that no concept was linked to.
 
     Each concept is named by its label in the workspace's default language (else its
-    first label).
+    first label). Without ``min_count``, the default scales with the number of
+    respondents (:func:`default_min_count`).
     """
+    if min_count is None:
+        min_count = default_min_count(store.counts(ws.conn)["respondents"])
     version, models = load_version(ws)
     predicted = store.predictions(ws.conn, version)
     sentences = {s.id: s for s in store.sentences(ws.conn, predicted)}
@@ -75,7 +93,7 @@ def suggest_terms(ws: Workspace, *, min_count: int = 2) -> TermSuggestions:
         c.id: c.labels.get(default) or next(iter(c.labels.values()), "")
         for c in store.concepts(ws.conn)
     }
-    return TermSuggestions(terms, names)
+    return TermSuggestions(terms, names, min_count)
 
 
 def accept_alias(

@@ -7,8 +7,10 @@ import json
 from pathlib import Path
 
 import pandas as pd
+import pytest
 
 from extractor.ingest.concepts import load_concept_list
+from extractor.jobs.curate import default_min_count
 from tests.jobs.study import run
 
 
@@ -108,3 +110,58 @@ def test_concepts_export_neutralises_formula_cells_and_reimports_them(
     assert {(a.concept_id, a.text, a.kind) for a in again.aliases} == {
         (a.concept_id, a.text, a.kind) for a in original.aliases
     }
+
+
+def _study_with_one_unlinked_term(study: Path, tmp_path: Path) -> None:
+    """Eight respondents; one sentence labels "husk", a trait no concept lists."""
+    extra = tmp_path / "husk.csv"
+    extra.write_text(
+        "respondent,question,answer\n"
+        "KA-10,Why?,The husk is hard to remove.\n"
+        "KA-11,Why?,I like the husk of this one.\n",
+        encoding="utf-8",
+    )
+    text = "The husk is hard to remove."
+    span = {"start": 4, "end": 8, "stance": "disliked"}
+    labels = tmp_path / "husk.jsonl"
+    labels.write_text(
+        json.dumps({"respondent": "KA-10", "lang": "en", "text": text, "spans": [span]}) + "\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(study), "add", str(extra))[0] == 0
+    assert run("-w", str(study), "import-labels", str(labels))[0] == 0
+    assert run("-w", str(study), "run")[0] == 0
+
+
+def test_concepts_suggest_default_scales_with_a_small_study(study: Path, tmp_path: Path) -> None:
+    _study_with_one_unlinked_term(study, tmp_path)
+    code, out = run("-w", str(study), "concepts", "suggest")
+    assert code == 0, out
+    assert "husk" in out and "nothing to suggest" not in out
+
+
+def test_concepts_suggest_help_states_the_default_rule(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    with pytest.raises(SystemExit):
+        run("concepts", "suggest", "--help")
+    usage = " ".join(capsys.readouterr().out.split())
+    assert "2% of the respondents" in usage
+
+
+def test_concepts_suggest_shows_one_similarity_scale(study: Path, tmp_path: Path) -> None:
+    _study_with_one_unlinked_term(study, tmp_path)
+    code, out = run("-w", str(study), "concepts", "suggest", "--min-count", "1")
+    assert code == 0, out
+    assert "by word use" not in out
+    header = next(line for line in out.splitlines() if "term" in line and "count" in line)
+    assert header.count("probability") == 1
+
+
+@pytest.mark.parametrize(
+    ("respondents", "expected"),
+    [(0, 1), (8, 1), (50, 1), (51, 2), (100, 2), (500, 10)],
+    ids=["empty", "eight", "fifty", "fifty-one", "hundred", "five-hundred"],
+)
+def test_default_min_count_is_two_percent_of_respondents(respondents: int, expected: int) -> None:
+    assert default_min_count(respondents) == expected
