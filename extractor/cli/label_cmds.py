@@ -24,6 +24,13 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
             batch_size=args.batch,
             strategy=args.strategy,
             evaluation=args.evaluation,
+            train_first=not args.keep_model,
+        )
+        notice = (
+            f"Trained model {setup.version} first: {setup.trained_labels} labels were newer "
+            f"than model {setup.trained_from}."
+            if setup.trained_from
+            else ""
         )
         summary = run_console(
             setup.conn,
@@ -35,11 +42,12 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
             console=console,
             settings=setup.settings,
             quality=setup.quality,
+            version=setup.version,
+            newer_labels=setup.newer_labels,
+            notice=notice,
         )
-    console.print(
-        f"Saved {summary.labeled} labels this session ({summary.total_labels} in all). "
-        "Run `traits train` (or `traits run`) to build a model version from them."
-    )
+    if summary.labeled:
+        console.print("Run `traits train` (or `traits run`) to build a model version from them.")
     return 0
 
 
@@ -127,6 +135,12 @@ def register(sub: Subcommands) -> None:
         action="store_true",
         help="label sentences of the random evaluation sample (for honest "
         "quality figures) instead of the most informative ones",
+    )
+    p.add_argument(
+        "--keep-model",
+        action="store_true",
+        help="start at once with the newest saved model even when labels are newer than "
+        "it (by default a new version learns them first); the screen says so",
     )
     p.set_defaults(handler=cmd_label)
     p = sub.add_parser("import-labels", help="import labels (gold JSON Lines or CoNLL IOB2)")

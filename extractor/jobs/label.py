@@ -1,7 +1,9 @@
 """The labeling session's wiring from a workspace, and importing labels from files.
 
 :func:`labeling_setup` turns the workspace's settings and newest model version into
-what a labeling screen needs (the screen itself lives in the command line).
+what a labeling screen needs (the screen itself lives in the command line). When labels
+were given after the newest version was trained, it trains a new version from them
+first (or, when asked not to, reports how many labels the suggestions lack).
 """
 
 from __future__ import annotations
@@ -16,10 +18,11 @@ from typing import Any
 from extractor.ingest.labels import LabelImport, import_labels, read_labels
 from extractor.jobs.evaluate import stored_quality
 from extractor.jobs.inputs import alias_tuples, session_settings
-from extractor.jobs.train import load_version
+from extractor.jobs.train import load_version, train
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
 from extractor.models.bundle import TraitModels
+from extractor.progress import track
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -27,7 +30,14 @@ from extractor.workspace.folder import Workspace
 
 @dataclass(frozen=True)
 class LabelingSetup:
-    """Everything a labeling screen needs to run a session over a workspace."""
+    """Everything a labeling screen needs to run a session over a workspace.
+
+    Attributes:
+        version: the saved model version the suggestions come from (None: no model).
+        newer_labels: labels given after that version was trained, which it lacks.
+        trained_from: the previous newest version, when a new one was trained first
+            because ``trained_labels`` labels were newer than it.
+    """
 
     conn: sqlite3.Connection
     annotator: str
@@ -37,6 +47,23 @@ class LabelingSetup:
     retrain: Retrain
     settings: SessionSettings
     quality: Callable[[], Mapping[str, float | str] | None]
+    version: str | None = None
+    newer_labels: int = 0
+    trained_from: str | None = None
+    trained_labels: int = 0
+
+
+def labels_newer_than(ws: Workspace, version: store.ModelVersion) -> int:
+    """Return how many labels (and withdrawn labels) were given after ``version`` was saved.
+
+    Labels of the evaluation sample are not counted: training keeps them out anyway.
+    """
+    held_out = set(store.sample_ids(ws.conn, "evaluation"))
+    return sum(
+        1
+        for row in store.label_history(ws.conn)
+        if row["created_at"] > version.created_at and row["sentence_id"] not in held_out
+    )
 
 
 def retrainer(ws: Workspace) -> Retrain:
@@ -67,17 +94,30 @@ def labeling_setup(
     batch_size: int | None = None,
     strategy: str | None = None,
     evaluation: bool = False,
+    train_first: bool = True,
 ) -> LabelingSetup:
     """Return a labeling session's setup over the newest model version (or a cold start).
 
     With ``evaluation``, the sentences come from the unlabeled part of the random
     evaluation sample instead, so that quality can be measured honestly. Options left
-    as None come from the workspace's settings.
+    as None come from the workspace's settings. With ``train_first``, labels given since
+    the newest version was trained are learned first: a new version is trained and
+    saved (without cross-validation, so it is quick), with a progress bar.
     """
     active = ws.settings.active
-    predictor = None
-    if store.models(ws.conn):
-        _, models = load_version(ws)
+    predictor = version = trained_from = None
+    newer = trained = 0
+    latest = store.latest_model(ws.conn)
+    if latest is not None:
+        newer = labels_newer_than(ws, latest)
+        if newer and train_first:
+            described = f"Learning the {newer} labels newer than model {latest.version}"
+            for _ in track(range(1), described, 1):
+                fresh = train(ws, cross_validate=False)
+            version, models = fresh.report.version, fresh.models
+            trained_from, trained, newer = latest.version, newer, 0
+        else:
+            version, models = load_version(ws)
         predictor = models.predict
     return LabelingSetup(
         conn=ws.conn,
@@ -88,6 +128,10 @@ def labeling_setup(
         retrain=retrainer(ws),
         settings=dataclasses.replace(session_settings(ws), offer_evaluation=evaluation),
         quality=lambda: stored_quality(ws),
+        version=version,
+        newer_labels=newer,
+        trained_from=trained_from,
+        trained_labels=trained,
     )
 
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 import tomllib
 from pathlib import Path
 
@@ -59,3 +60,27 @@ def test_labeling_setup_takes_what_is_not_given_from_traits_toml(study: Path) ->
     assert (chosen.batch_size, chosen.strategy) == (3, "random")
     assert cold.predictor is None  # no version trained yet: a cold start
     assert not cold.settings.offer_evaluation and chosen.settings.offer_evaluation
+
+
+def test_labels_newer_than_the_model_are_learned_before_labeling(
+    study: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    run("-w", str(study), "run")
+    first = latest_version(study).version
+    with Workspace.open(study) as ws:
+        assert labeling_setup(ws, annotator="ana").trained_from is None  # nothing new
+        time.sleep(1.1)  # stored times have whole seconds (ISO 8601, store.now)
+        held_out = set(store.sample_ids(ws.conn, "evaluation"))
+        sid = next(s.id for s in store.sentences(ws.conn) if s.id not in held_out)
+        store.add_label(ws.conn, sid, [], "ana")
+        kept = labeling_setup(ws, annotator="ana", train_first=False)
+        assert (kept.version, kept.newer_labels, kept.trained_from) == (first, 1, None)
+        assert len(store.models(ws.conn)) == 1
+    code, out = run(
+        "-w", str(study), "label", "--annotator", "ana", stdin="q\n", monkeypatch=monkeypatch
+    )
+    assert code == 0, out
+    second = latest_version(study).version
+    assert second != first
+    assert f"Trained model {second} first: 1 labels were newer than model {first}." in out
+    assert f"model {second}" in out
