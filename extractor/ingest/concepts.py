@@ -1,4 +1,4 @@
-"""Loading and validating a concept list (traits or varieties) from CSV or XLSX.
+"""Loading and validating a concept list (traits or varieties) from CSV, TSV or a workbook.
 
 A concept list has the columns ``id, label, lang, synonyms, parent, definition``
 (``lang``, ``synonyms``, ``parent``, ``definition`` optional; an optional ``hidden``
@@ -31,6 +31,7 @@ from extractor.ingest.decode import (
     strip_formula_guard,
 )
 from extractor.ingest.language import normalise_tag
+from extractor.ingest.sheets import WORKBOOK_SUFFIXES, read_sheets
 from extractor.types import AliasEntry, ConceptEntry
 
 REQUIRED = ("id", "label")
@@ -57,17 +58,18 @@ def file_sha256(path: Path) -> str:
 
 
 def read_table(path: Path) -> pd.DataFrame:
-    """Read a CSV, TSV or XLSX file as strings.
+    """Read a CSV or TSV file, or the first sheet of an XLSX, XLS or ODS workbook, as strings.
 
-    Text files are decoded as the interview readers decode them (UTF-8, with or without
-    BOM, then cp1252 or latin-1), with the same delimiter choice.
+    Text files are decoded as the interview readers decode them (by their byte order
+    mark, else UTF-8, then cp1252 or latin-1), with the same delimiter choice; workbooks
+    are read as the interview readers read them (:mod:`extractor.ingest.sheets`).
     """
     if not path.exists():
         raise InputError(f"{path} does not exist; check the path.")
     suffix = path.suffix.lower()
-    if suffix not in (".xlsx", ".csv", ".tsv"):
+    if suffix not in (".csv", ".tsv", *WORKBOOK_SUFFIXES):
         raise InputError(
-            f"{path} has suffix {suffix!r}; a concept list must be .csv, .tsv or .xlsx."
+            f"{path} has suffix {suffix!r}; a concept list must be .csv, .tsv, .xlsx, .xls or .ods."
         )
     data = path.read_bytes()
     if not data.strip():
@@ -76,6 +78,8 @@ def read_table(path: Path) -> pd.DataFrame:
         if suffix == ".xlsx":
             check_office_archive(path, data, "spreadsheet programme")
             return pd.read_excel(io.BytesIO(data), dtype=str, keep_default_na=False)
+        if suffix in WORKBOOK_SUFFIXES:
+            return _first_sheet(path, data)
         text, _, _ = decode_text(data, path)
         sep = "\t" if suffix == ".tsv" else sniff_delimiter(text)
         return pd.read_csv(io.StringIO(text), dtype=str, keep_default_na=False, sep=sep)
@@ -85,6 +89,20 @@ def read_table(path: Path) -> pd.DataFrame:
         raise InputError(
             f"{path} could not be read as a {suffix} table ({exc}); save it again as CSV or XLSX."
         ) from exc
+
+
+def _first_sheet(path: Path, data: bytes) -> pd.DataFrame:
+    """Return the first sheet of an .xls or .ods workbook: its first row is the header."""
+    sheets = read_sheets(path, data)
+    grid = sheets[0].grid if sheets else []
+    if not grid:
+        raise pd.errors.EmptyDataError("the first sheet has no filled cells")
+    (_, header), body = grid[0], [cells for _, cells in grid[1:]]
+    width = max(len(header), *(len(cells) for cells in body)) if body else len(header)
+    columns = [str(h or "").strip() or f"column_{i + 1}" for i, h in enumerate(header)]
+    columns += [f"column_{i + 1}" for i in range(len(columns), width)]
+    rows = [[c or "" for c in cells] + [""] * (width - len(cells)) for cells in body]
+    return pd.DataFrame(rows, columns=columns, dtype=str)
 
 
 def split_synonyms(cell: str) -> list[str]:

@@ -14,11 +14,12 @@ from extractor.errors import InputError
 from extractor.ingest.columns import MAPPING_KEYS
 from extractor.ingest.decode import bom_encoding
 from extractor.ingest.language import detect_languages, normalise_tag
+from extractor.ingest.sheets import WORKBOOK_SUFFIXES
 from extractor.ingest.tables import read_delimited, read_workbook
 from extractor.ingest.transcripts import docx_lines, parse_transcript, text_lines
 from extractor.types import AnswerRow
 
-SUFFIXES = (".xlsx", ".csv", ".tsv", ".txt", ".docx")
+SUFFIXES = (".xlsx", ".xls", ".ods", ".csv", ".tsv", ".txt", ".docx")
 """File suffixes :func:`read_interviews` can read."""
 
 
@@ -65,8 +66,8 @@ def read_interviews(
     """Read the answers of one interview file.
 
     Args:
-        path: An .xlsx, .csv, .tsv, .txt or .docx file.
-        sheet: For .xlsx, the only sheet to read; by default every visible sheet.
+        path: An .xlsx, .xls, .ods, .csv, .tsv, .txt or .docx file.
+        sheet: For a workbook, the only sheet to read; by default every visible sheet.
         mapping: Explicit column roles overriding header recognition, e.g.
             ``{"respondent": "Code", "answer": "Verbatim", "question": ...,
             "language": ..., "variety": ..., "group": ...}``, or
@@ -101,7 +102,7 @@ def _check_path(path: Path) -> str:
     if suffix not in SUFFIXES:
         raise InputError(
             f"File '{path.name}' has the suffix {suffix or '(none)'!r}, which cannot be read; "
-            f"allowed are {', '.join(SUFFIXES)} (save older .xls/.doc files in the new format)."
+            f"allowed are {', '.join(SUFFIXES)} (save an older .doc file as .docx)."
         )
     if not path.is_file():
         raise InputError(
@@ -134,7 +135,7 @@ def _read_rows(
         rows, layout, encoding, warnings = read_delimited(path, data, mapping)
         if sheet is not None:
             warnings.append(f"File '{path.name}' has no sheets; the sheet {sheet!r} was ignored.")
-    elif suffix == ".xlsx":
+    elif suffix in WORKBOOK_SUFFIXES:
         rows, layout, warnings = read_workbook(path, data, sheet, mapping)
     else:
         if suffix == ".txt":

@@ -1,24 +1,18 @@
-"""Spreadsheet readers (.xlsx, .csv, .tsv): long and wide layouts to answer rows.
+"""Spreadsheet readers (.xlsx, .xls, .ods, .csv, .tsv): long and wide layouts to answer rows.
 
 A *long* table has a row per answer (respondent, question, answer); a *wide* table has
 a row per respondent and a column per question, whose header is the question. Which
 column plays which role is :mod:`extractor.ingest.columns`' job; decoding the bytes is
-:mod:`extractor.ingest.decode`'s.
+:mod:`extractor.ingest.decode`'s, and reading workbook sheets :mod:`extractor.ingest.sheets`'.
 """
 
 from __future__ import annotations
 
 import csv
 import io
-import math
-import zipfile
-from collections.abc import Iterable, Mapping
-from datetime import date, datetime, time
+from collections.abc import Mapping
 from pathlib import Path
 from typing import Any, NamedTuple
-
-import openpyxl
-from openpyxl.utils.exceptions import InvalidFileException
 
 from extractor.errors import InputError
 from extractor.ingest.columns import (
@@ -32,22 +26,8 @@ from extractor.ingest.columns import (
     snake_key,
     unique_headers,
 )
-from extractor.ingest.decode import check_office_archive, decode_text, sniff_delimiter
-
-
-def cell_text(value: object) -> str | None:
-    """Turn a spreadsheet cell value into text, ``None`` when empty; ``7.0`` becomes ``"7"``."""
-    if value is None:
-        return None
-    if isinstance(value, float):
-        if math.isnan(value):
-            return None
-        return str(int(value)) if value.is_integer() else repr(value)
-    if isinstance(value, datetime) and value.time() == time(0):
-        return value.date().isoformat()
-    if isinstance(value, (date, time)):
-        return value.isoformat()
-    return str(value)
+from extractor.ingest.decode import decode_text, sniff_delimiter
+from extractor.ingest.sheets import Sheet, drop_empty, read_sheets
 
 
 def _cell(cells: list[str | None], index: int | None) -> str | None:
@@ -146,11 +126,6 @@ def table_rows(
     return rows, table.layout, warnings
 
 
-def _drop_empty(records: Iterable[tuple[int, list[str | None]]]) -> Grid:
-    """Keep the rows that have at least one non-blank cell."""
-    return [(n, cells) for n, cells in records if any(c is not None and c.strip() for c in cells)]
-
-
 def read_delimited(
     path: Path, data: bytes, mapping: Mapping[str, Any] | None
 ) -> tuple[list[dict[str, Any]], str, str, list[str]]:
@@ -159,7 +134,7 @@ def read_delimited(
     delimiter = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(text)
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
     try:
-        grid = _drop_empty((n, list(cells)) for n, cells in enumerate(reader, start=1))
+        grid = drop_empty((n, list(cells)) for n, cells in enumerate(reader, start=1))
     except csv.Error as err:
         raise InputError(
             f"File '{path.name}', row {reader.line_num}: the table cannot be parsed ({err}); "
@@ -174,28 +149,6 @@ def read_delimited(
     return rows, layout, encoding, warnings
 
 
-def _open_workbook(path: Path, data: bytes) -> Any:
-    """Open a workbook read-only, turning every failure into one InputError."""
-    try:
-        check_office_archive(path, data, "spreadsheet programme")
-        return openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=True)
-    except (zipfile.BadZipFile, InvalidFileException, KeyError, ValueError, OSError) as err:
-        raise InputError(
-            f"File '{path.name}' is not a valid .xlsx workbook ({type(err).__name__}); "
-            "open it in a spreadsheet programme and save it as .xlsx again."
-        ) from err
-
-
-def _sheet_grid(worksheet: Any) -> Grid:
-    """Return a worksheet's non-empty rows, numbered as the spreadsheet numbers them."""
-    return _drop_empty(
-        (n, [cell_text(v) for v in values])
-        for n, values in enumerate(
-            worksheet.iter_rows(min_row=1, min_col=1, values_only=True), start=1
-        )  # fmt: skip
-    )
-
-
 class _Sheets(NamedTuple):
     """What the sheets of one workbook gave: rows, layouts, warnings, skipped sheets."""
 
@@ -206,21 +159,20 @@ class _Sheets(NamedTuple):
 
 
 def _read_sheets(
-    workbook: Any, path: Path, sheet: str | None, mapping: Mapping[str, Any] | None
+    sheets: list[Sheet], path: Path, sheet: str | None, mapping: Mapping[str, Any] | None
 ) -> _Sheets:
     """Read the named sheet, or every visible one (skipping those without usable columns)."""
     read = _Sheets([], set(), [], [])
-    for name in [sheet] if sheet is not None else workbook.sheetnames:
-        worksheet = workbook[name]
-        if sheet is None and worksheet.sheet_state != "visible":
+    for found in sheets:
+        name = found.name
+        if sheet is None and not found.visible:
             read.warnings.append(f"File '{path.name}': hidden sheet {name!r} was not read.")
             continue
-        grid = _sheet_grid(worksheet)
-        if not grid:
+        if not found.grid:
             continue
         where = f"File '{path.name}', sheet {name!r}"
         try:
-            sheet_rows, layout, sheet_warnings = table_rows(grid, mapping, where, name)
+            sheet_rows, layout, sheet_warnings = table_rows(found.grid, mapping, where, name)
         except LayoutError as err:
             if sheet is not None:
                 raise
@@ -235,21 +187,13 @@ def _read_sheets(
 def read_workbook(
     path: Path, data: bytes, sheet: str | None, mapping: Mapping[str, Any] | None
 ) -> tuple[list[dict[str, Any]], str, list[str]]:
-    """Read every visible sheet of an .xlsx file (or the one named); return rows, layout, warnings.
+    """Read every visible sheet of a workbook (or the one named); return rows, layout, warnings.
 
-    When reading all sheets, a sheet whose columns cannot be recognised (a codebook, a
-    notes sheet) is skipped with a warning, unless no sheet can be read at all.
+    The workbook is an .xlsx, .xls or .ods file (:mod:`extractor.ingest.sheets`). When
+    reading all sheets, a sheet whose columns cannot be recognised (a codebook, a notes
+    sheet) is skipped with a warning, unless no sheet can be read at all.
     """
-    workbook = _open_workbook(path, data)
-    try:
-        if sheet is not None and sheet not in workbook.sheetnames:
-            raise InputError(
-                f"File '{path.name}' has no sheet {sheet!r}; the sheets are "
-                f"{', '.join(repr(s) for s in workbook.sheetnames)}."
-            )
-        read = _read_sheets(workbook, path, sheet, mapping)
-    finally:
-        workbook.close()
+    read = _read_sheets(read_sheets(path, data, sheet), path, sheet, mapping)
     if not read.layouts:
         if read.skipped:
             raise read.skipped[0]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import codecs
 import io
 import json
 from pathlib import Path
@@ -10,6 +11,7 @@ import pytest
 from rich.console import Console
 
 from extractor.cli.main import main
+from tests.ingest.interview_files import write_ods
 
 
 def run(*argv: str) -> tuple[int, str]:
@@ -76,8 +78,18 @@ def test_changed_file_adds_only_new_answers(ws: Path, tmp_path: Path) -> None:
         ("broken.xlsx", b"PK\x03\x04 not really a workbook", "broken.xlsx"),
         ("locked.docx", b"\xd0\xcf\x11\xe0" + b"\0" * 600, "password"),
         ("noanswer.csv", b"gender,district\nwoman,Kalindi\n", "noanswer.csv"),
+        ("broken.ods", b"PK\x03\x04 not really a workbook", "'broken.ods' is not a valid .ods"),
+        ("broken.xls", b"respondent,answer\nKA-9,Sweet\n", "'broken.xls' is not a valid .xls"),
     ],
-    ids=["missing-path", "empty-file", "bad-xlsx", "encrypted-docx", "no-answer-column"],
+    ids=[
+        "missing-path",
+        "empty-file",
+        "bad-xlsx",
+        "encrypted-docx",
+        "no-answer-column",
+        "bad-ods",
+        "bad-xls",
+    ],
 )
 def test_bad_interview_files_fail_with_one_sentence(
     ws: Path, tmp_path: Path, name: str, content: bytes | None, message: str
@@ -206,3 +218,31 @@ def test_simulate_refuses_budgets_that_are_not_numbers(
         )
     assert caught.value.code == 2
     assert "budgets must be whole numbers" in capsys.readouterr().err
+
+
+def test_add_reads_ods_xls_and_utf16_text(ws: Path, tmp_path: Path) -> None:
+    # An .ods written by odfpy; Excel's "Unicode text" (UTF-16 LE with the BOM of
+    # Python's codecs.BOM_UTF16_LE, tab separated) named .csv; and a real Excel 97-2003
+    # .xls that statsmodels ships, whose columns are named by the mapping options.
+    statsmodels = pytest.importorskip("statsmodels")
+    xls = Path(statsmodels.__file__).parent.joinpath(
+        "tsa/statespace/tests/results/frbny_nowcast/Nowcasting/test_spec.xls"
+    )
+    if not xls.is_file():
+        pytest.skip("statsmodels was installed without its test files")
+    ods = write_ods(tmp_path / "kibali.ods", {"Kibali": [
+        ["respondent", "answer"], ["KA-01", "It cooks fast."], ["KA-02", "Too small."],
+    ]})  # fmt: skip
+    unicode_text = tmp_path / "lowa.csv"
+    unicode_text.write_bytes(
+        codecs.BOM_UTF16_LE
+        + "respondent\tanswer\r\nLO-01\tLa bouillie est sucrée, épaisse.\r\n".encode("utf-16-le")
+    )
+    assert run("-w", str(ws), "add", str(ods), str(unicode_text))[0] == 0
+    assert status(ws)["respondents"] == 3
+    code, out = run(
+        "-w", str(ws), "add", str(xls),
+        "--respondent-column", "SeriesID", "--answer-column", "SeriesName",
+    )  # fmt: skip
+    assert code == 0, out
+    assert status(ws)["respondents"] == 3 + 5  # the five series rows of the sheet

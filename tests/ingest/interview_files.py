@@ -10,6 +10,9 @@ from typing import Any
 
 import docx
 import openpyxl
+from odf.opendocument import OpenDocumentSpreadsheet
+from odf.table import Table, TableCell, TableRow
+from odf.text import P
 
 from extractor.ingest import ReadResult, read_interviews
 
@@ -29,6 +32,33 @@ def write_xlsx(path: Path, sheets: dict[str, list[list[Any]]]) -> Path:
         for row in rows:
             sheet.append(row)
     workbook.save(path)
+    return path
+
+
+def write_ods(path: Path, sheets: dict[str, list[list[Any]]]) -> Path:
+    """Write an OpenDocument spreadsheet with odfpy: one table per entry, rows as given.
+
+    Numbers become ``float`` cells and text ``string`` cells (OpenDocument 1.2, part 1,
+    section 19.385 office:value-type, from memory); ``None`` is an empty cell.
+    """
+    document = OpenDocumentSpreadsheet()
+    for name, rows in sheets.items():
+        table = Table(name=name)
+        for values in rows:
+            row = TableRow()
+            for value in values:
+                if value is None:
+                    cell = TableCell()
+                elif isinstance(value, (int, float)):
+                    cell = TableCell(valuetype="float", value=value)
+                    cell.addElement(P(text=str(value)))
+                else:
+                    cell = TableCell(valuetype="string")
+                    cell.addElement(P(text=str(value)))
+                row.addElement(cell)
+            table.addElement(row)
+        document.spreadsheet.addElement(table)
+    document.save(str(path))
     return path
 
 

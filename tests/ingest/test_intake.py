@@ -213,7 +213,7 @@ def test_interview_files_picks_only_the_readers_suffixes(tmp_path: Path) -> None
     folder = tmp_path / "interviews"
     folder.mkdir()
     readable = [f"answers{suffix}" for suffix in SUFFIXES] + ["UPPER.CSV"]
-    skipped = ["notes.pdf", "old.xls", "old.doc", "labels.jsonl", ".hidden.csv", "~$open.xlsx"]
+    skipped = ["notes.pdf", "old.sav", "old.doc", "labels.jsonl", ".hidden.csv", "~$open.xlsx"]
     for name in readable + skipped:
         (folder / name).write_bytes(b"x")
     (folder / "more.csv").mkdir()  # a folder with a readable suffix is not a file

@@ -25,7 +25,9 @@ def test_read_missing_path_names_it(tmp_path: Path) -> None:
         read(tmp_path / "nowhere.csv")
 
 
-@pytest.mark.parametrize("suffix", [".csv", ".txt", ".xlsx", ".docx"], ids=lambda s: s[1:])
+@pytest.mark.parametrize(
+    "suffix", [".csv", ".txt", ".xlsx", ".xls", ".ods", ".docx"], ids=lambda s: s[1:]
+)
 def test_read_empty_file_names_it(tmp_path: Path, suffix: str) -> None:
     path = tmp_path / f"blank{suffix}"
     path.write_bytes(b"")
@@ -45,9 +47,9 @@ def test_read_file_holding_only_a_byte_order_mark_is_empty(tmp_path: Path, bom: 
 
 
 def test_read_unknown_suffix_lists_allowed(tmp_path: Path) -> None:
-    path = tmp_path / "survey.xls"
+    path = tmp_path / "survey.sav"
     path.write_bytes(b"x")
-    with pytest.raises(InputError, match=r"'survey\.xls'.*allowed are \.xlsx, \.csv"):
+    with pytest.raises(InputError, match=r"'survey\.sav'.*allowed are \.xlsx, \.xls, \.ods, \.csv"):
         read(path)
     assert ".docx" in SUFFIXES
 
