@@ -27,6 +27,12 @@ def _print(console: Console, change: LanguageChange) -> None:
         f"{change.selected} answer{plural} selected; the language of {change.changed} changed.",
         highlight=False,
     )
+    if change.given:
+        console.print(
+            f"{change.given} kept the language a person gave (a language column or "
+            "`traits language set`); change those with `traits language set`.",
+            highlight=False,
+        )
     if change.undecided:
         console.print(
             f"{change.undecided} could not be told (too short or unclear) and kept their "

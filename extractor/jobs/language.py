@@ -42,6 +42,8 @@ class LanguageChange:
         undecided: Answers detection could not tell (too short or unclear); kept as they were.
         stale: Sentences whose predictions were dropped, to be tagged again.
         languages: The languages of the stored sentences afterwards.
+        given: Selected answers whose language a person gave (a language column or
+            `traits language set`); detection leaves them alone.
     """
 
     selected: int
@@ -49,6 +51,7 @@ class LanguageChange:
     undecided: int
     stale: int
     languages: Sequence[LanguageFound]
+    given: int = 0
 
 
 def _select(ws: Workspace, selection: Selection) -> list[store.AnswerLanguage]:
@@ -78,23 +81,25 @@ def _select(ws: Workspace, selection: Selection) -> list[store.AnswerLanguage]:
 
 
 def _apply(
-    ws: Workspace, chosen: list[store.AnswerLanguage], new: Sequence[tuple[str, str] | None]
+    ws: Workspace,
+    chosen: list[store.AnswerLanguage],
+    new: Sequence[tuple[str, str] | None],
+    given: int = 0,
 ) -> LanguageChange:
     """Store the new languages that differ from the old ones and report the change."""
     changes = [
-        (answer.id, tag, origin)
+        (answer.id, pick[0], pick[1])
         for answer, pick in zip(chosen, new, strict=True)
-        if pick is not None
-        for tag, origin in [pick]
-        if tag != answer.lang
+        if pick is not None and pick[0] != answer.lang
     ]
     stale = store.set_answer_languages(ws.conn, changes)
     return LanguageChange(
-        selected=len(chosen),
+        selected=len(chosen) + given,
         changed=len(changes),
         undecided=sum(pick is None for pick in new),
         stale=stale,
         languages=stored_languages(ws),
+        given=given,
     )
 
 
@@ -114,14 +119,15 @@ def detect_language_again(ws: Workspace, selection: Selection) -> LanguageChange
 
     The candidates are those of :func:`~extractor.ingest.intake.detection_languages`, so a
     concept list imported after the interviews brings its languages in. An answer
-    detection cannot tell keeps the language it has.
+    detection cannot tell keeps the language it has, and so does one whose language a
+    person gave (change those with :func:`set_language`).
 
     Raises:
         InputError: the selection matches no answer.
     """
     chosen = _select(ws, selection)
+    todo = [answer for answer in chosen if answer.origin != GIVEN]
     default = ws.settings.workspace.default_language
-    found = detect_languages([a.text for a in chosen], detection_languages(ws), default)
-    return _apply(
-        ws, chosen, [None if origin == "default" else (tag, origin) for tag, origin in found]
-    )
+    found = detect_languages([a.text for a in todo], detection_languages(ws), default)
+    picks = [None if origin == "default" else (tag, origin) for tag, origin in found]
+    return _apply(ws, todo, picks, given=len(chosen) - len(todo))

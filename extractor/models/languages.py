@@ -16,6 +16,9 @@ from extractor.models.cues import packaged_cues
 from extractor.nlp.dictionary import stemmer_language
 from extractor.nlp.text import MULTI, primary_subtag, spacy_code
 
+STANCE_WORDS = ("liked", "disliked", "wanted")
+"""The cue categories that carry a stance (the others mark negation, clauses, comparisons)."""
+
 
 @dataclass(frozen=True)
 class LanguageSupport:
@@ -26,7 +29,8 @@ class LanguageSupport:
         tokenizer: The spaCy language code whose blank pipeline tokenizes it;
             ``"xx"`` (spaCy's multi-language pipeline) when spaCy has none.
         stemmer: Whether a Snowball stemmer folds its inflections in matching.
-        stance_cues: Whether the packaged cue lexicon has a section for it.
+        stance_cues: Whether the packaged cue lexicon has stance words for it (liked,
+            disliked or wanted cues); a section of comparison words alone has none.
         detection: Whether lingua can detect it in an answer.
     """
 
@@ -49,6 +53,6 @@ def language_support(tag: str) -> LanguageSupport:
         tag=tag,
         tokenizer=spacy_code(code),
         stemmer=bool(stemmer_language(code)),
-        stance_cues=code in packaged_cues(),
+        stance_cues=any(packaged_cues().get(code, {}).get(c) for c in STANCE_WORDS),
         detection=detectable(code),
     )

@@ -134,3 +134,11 @@ def test_language_bad_selection_is_one_sentence_and_changes_nothing(
     assert code == 1
     assert names in out and "Traceback" not in out and len(out.strip().splitlines()) == 1
     assert (languages(trial), _labels_and_predictions(trial)) == before
+
+
+def test_language_detect_leaves_a_language_a_person_set(trial: Path) -> None:
+    assert run("-w", str(trial), "language", "set", "sw", "--respondent", "en-0")[0] == 0
+    code, out = run("-w", str(trial), "language", "detect", "--all")
+    assert code == 0
+    assert languages(trial).get("sw", 0) >= 1
+    assert "1 kept the language a person gave" in out

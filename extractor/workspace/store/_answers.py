@@ -264,6 +264,7 @@ class AnswerLanguage(NamedTuple):
     id: int
     text: str
     lang: str
+    origin: str
 
 
 def select_answers(
@@ -275,7 +276,7 @@ def select_answers(
 ) -> list[AnswerLanguage]:
     """Return the answers first added from a file, of a respondent or with an ID (all if none)."""
     query = (
-        "SELECT a.id, a.text, a.lang FROM answers a "
+        "SELECT a.id, a.text, a.lang, a.lang_origin FROM answers a "
         "JOIN respondents r ON r.id = a.respondent_id JOIN sources s ON s.id = a.source_id"
     )
     where, params = [], []
