@@ -44,7 +44,7 @@ def cmd_models(args: argparse.Namespace, console: Console) -> int:
         console.print("No model versions yet; run `traits train` or `traits run`.")
         return 0
     table = Table(title="Model versions")
-    for column in ("version", "trained", "labeled", "silver", "quality"):
+    for column in ("version", "trained", "labeled", "matched by concept list", "quality"):
         table.add_column(column)
     for model in found:
         counts = model.meta.get("counts", {})

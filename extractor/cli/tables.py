@@ -87,7 +87,7 @@ def evaluation_tables(results: ScoreReport | Evaluation | CrossValidation) -> li
     tables = [_prf_table("Scores", [
         _prf_row("span (strict)", scores.span),
         _prf_row("span + concept", scores.span_concept),
-        _prf_row("respondent triples", scores.respondent),
+        _prf_row("respondent + trait + stance", scores.respondent),
     ], "figure")]  # fmt: skip
     if scores.by_concept:
         tables.append(

@@ -55,7 +55,7 @@ def test_evaluation_tables_draw_every_part() -> None:
     text = _render(evaluation_tables(_result()))
     for title in ("Scores", "Span + concept by concept", "By language", "gold \\ predicted"):
         assert title in text
-    assert "span (strict)" in text and "respondent triples" in text
+    assert "span (strict)" in text and "respondent + trait + stance" in text
 
 
 def test_simulation_tables_show_rows_and_wins() -> None:
