@@ -117,7 +117,8 @@ def _xls_sheets(path: Path, data: bytes, only: str | None) -> list[Sheet]:
         )
     if not data.startswith(OLE_MAGIC):
         raise xlrd.XLRDError("not an OLE compound file")
-    book = xlrd.open_workbook(file_contents=data, on_demand=True)
+    # xlrd writes its warnings to the stdout of import time; library code never prints.
+    book = xlrd.open_workbook(file_contents=data, on_demand=True, logfile=io.StringIO())
     try:
         sheets = []
         for name in _check_sheet(path, book.sheet_names(), only):
