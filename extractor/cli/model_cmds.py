@@ -123,7 +123,7 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
         report = export(
             ws,
             args.format,
-            version=args.version,
+            version=args.model_version,
             out=Path(args.out) if args.out else None,
             pseudonymise=args.pseudonymise,
             min_confidence=args.min_confidence,
@@ -167,5 +167,5 @@ def register(sub: Subcommands) -> None:
     )
     p.add_argument("--group-by", help="comma-separated respondent columns to compare")
     p.add_argument("--names-file", help="text file of names to screen out of quotes")
-    p.add_argument("--version", help="model version (default: the newest)")
+    p.add_argument("--model-version", help="model version to export (default: the newest)")
     p.set_defaults(handler=cmd_export)

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pandas as pd
 
-from extractor.errors import InputError
+from extractor.errors import InputError, ModelError
 from extractor.jobs.inputs import gold_examples
 from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
@@ -202,8 +202,17 @@ def export(
             floor by default.
         group_by: Respondent columns the workbook breaks shares down by (``xlsx`` only).
         names_file: Names to screen out of quotes, one per line, when pseudonymising.
+
+    Raises:
+        ModelError: no model is trained and no sentence labeled yet (except for
+            ``conll``, which writes the labels alone).
     """
     version = ensure_tagged(ws, version)
+    if version is None and fmt != "conll" and not store.current_labels(ws.conn):
+        raise ModelError(
+            "There is no model yet and no labeled sentence, so there are no mentions to "
+            "export; run `traits run` (or `traits train`) first."
+        )
     if fmt == "xlsx":
         return export_workbook(
             ws,

@@ -5,8 +5,11 @@ from __future__ import annotations
 from pathlib import Path
 
 import pandas as pd
+import pytest
 
+from extractor.workspace import store
 from tests.jobs.study import run
+from tests.report.study import VERSION, build_workspace
 
 
 def test_names_file_not_in_utf8_is_one_sentence(study: Path) -> None:
@@ -29,3 +32,62 @@ def test_other_formats_apply_the_settings_confidence_floor(study: Path, tmp_path
     code, out = run("-w", str(study), "export", "--format", "csv", "--out", str(out_file))
     assert code == 0, out
     assert len(pd.read_csv(out_file)) == 0  # no prediction is fully certain
+
+
+def test_models_table_says_matched_by_concept_list_not_silver(study: Path) -> None:
+    assert run("-w", str(study), "run")[0] == 0
+    code, out = run("-w", str(study), "models")
+    text = " ".join(out.split())
+    assert code == 0, out
+    assert "silver" not in text
+    assert "matched by concept list" in text
+
+
+def _tagged_by_hand(root: Path) -> Path:
+    """The hand-built workspace with its recorded version tagged on every sentence."""
+    ws = build_workspace(root)
+    ids = [s.id for s in store.sentences(ws.conn)]
+    rows = [{"sentence_id": i, "path_prob": 0.9, "mentions": []} for i in ids]
+    store.store_predictions(ws.conn, VERSION, rows)
+    ws.close()
+    return root
+
+
+def test_export_takes_the_model_version_by_its_own_option(tmp_path: Path) -> None:
+    root = _tagged_by_hand(tmp_path / "ws")
+    out_file = tmp_path / "m.jsonl"
+    code, out = run(
+        "-w", str(root), "export", "--format", "jsonl", "--model-version", VERSION,
+        "--out", str(out_file),
+    )  # fmt: skip
+    assert code == 0, out
+    assert out_file.is_file()
+    code, out = run("-w", str(root), "export", "--model-version", "v999-unknown")
+    assert code == 1 and "v999-unknown" in out and "traits models" in out
+
+
+def test_export_has_no_version_option_of_its_own(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # --version belongs to the program (it prints the program's version), not to export.
+    root = _tagged_by_hand(tmp_path / "ws")
+    with pytest.raises(SystemExit) as stopped:
+        run("-w", str(root), "export", "--version", VERSION)
+    assert stopped.value.code == 2
+    assert "unrecognized arguments: --version" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("fmt", ["xlsx", "csv", "jsonl", "jsonld"])
+def test_export_before_any_model_says_to_run_first(ws_without_model: Path, fmt: str) -> None:
+    code, out = run("-w", str(ws_without_model), "export", "--format", fmt)
+    assert code == 1
+    assert "no model" in out.lower() and "traits run" in out
+    assert "lacks the column" not in out and "Traceback" not in out
+
+
+@pytest.fixture
+def ws_without_model(study: Path) -> Path:
+    """The study with its answers and concept list added, before any model or label."""
+    assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
+    assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
+    return study
