@@ -17,13 +17,14 @@ import pytest
 from rich.console import Console
 
 from extractor.cli.screen import LabelScreen, run_console
+from extractor.cli.screen_draw import status_line
 from extractor.loop.items import SessionSummary
 from extractor.loop.marking import concept_entries, rank_concepts
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
 from extractor.types import Span
 from extractor.workspace import store
-from tests.fake_model import ALIASES, ANSWERS, FakeModel, build_store  # noqa: E402
+from tests.fake_model import ALIASES, ANSWERS, FakeModel, build_store, fake_retrain  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[2]
 NO_EVAL = SessionSettings(evaluation_fraction=0.0, evaluation_min=0, stop_set_size=0)
@@ -503,3 +504,28 @@ def test_status_line_says_when_labels_are_newer_than_the_model(conn: sqlite3.Con
         input_stream=io.StringIO("q\n"),
     )
     assert "suggestions come from model v002, older than the last 3 labels" in out.getvalue()
+
+
+def test_status_line_counts_updates_after_the_saved_version(conn: sqlite3.Connection) -> None:
+    settings = SessionSettings(
+        evaluation_fraction=0, evaluation_min=0, stop_set_size=0, retrain_every=1
+    )
+    session = Session.open(
+        conn,
+        annotator="Ama",
+        predictor=FakeModel(),
+        retrain=fake_retrain(),
+        settings=settings,
+        version="v002",
+        newer_labels=4,
+    )
+    assert status_line(session).plain.endswith("model v002")
+    assert session.behind == 4
+    item = session.next()
+    assert item is not None
+    session.submit(item.sentence.id, [])
+    assert session.wait_for_model(timeout=10)
+    assert status_line(session).plain.endswith(
+        "model v002, updated once with this session's labels"
+    )
+    assert session.behind == 0  # the update learned every label

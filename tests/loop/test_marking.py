@@ -11,11 +11,13 @@ from extractor.loop.marking import (
     ConceptEntry,
     checked_spans,
     concept_entries,
+    concepts_for_words,
+    default_stance,
     find_phrase,
     rank_concepts,
 )
 from extractor.types import Sentence, Span
-from tests.fake_model import ALIASES  # noqa: E402
+from tests.fake_model import ALIASES, FakeModel  # noqa: E402
 
 
 @pytest.mark.parametrize(
@@ -107,3 +109,48 @@ def test_checked_spans_are_plain_spans_in_order() -> None:
 def test_checked_spans_refuse_what_does_not_fit(span: Span, message: str) -> None:
     with pytest.raises(InputError, match=message):
         checked_spans(SENTENCE, [span])
+
+
+def test_concepts_for_words_puts_aliases_inside_the_words_first() -> None:
+    entries = [*ENTRIES, ConceptEntry("BTX:0020", "aguenta a seca", "pt", False)]
+    # "à" and "a" meet after NFKD decomposition (Unicode Standard Annex #15)
+    found = concepts_for_words("aguenta bem à seca", entries, lang="pt")
+    assert found[0].concept == "BTX:0020"
+    assert rank_concepts("aguenta bem à seca", entries) == []  # completion alone finds none
+
+
+def test_concepts_for_words_prefers_the_longer_alias_inside() -> None:
+    entries = [
+        ConceptEntry("BTX:0007", "ladha", "sw", False),
+        ConceptEntry("BTX:0002", "ladha tamu", "sw", False),
+    ]
+    assert [m.concept for m in concepts_for_words("ladha tamu sana", entries)] == [
+        "BTX:0002",
+        "BTX:0007",
+    ]
+
+
+def test_default_stance_is_the_overlapping_mention_stance() -> None:
+    sentence = Sentence(1, "It cooks fast but it is bitter.", "en", "Why do you grow it?")
+    prediction = FakeModel().predict(sentence)  # "bitter" disliked, "cooks fast" liked
+    start = sentence.text.index("is bitter")
+    assert default_stance(sentence, prediction, start, start + 9) == "disliked"
+
+
+@pytest.mark.parametrize(
+    ("question", "stance"),
+    [
+        ("What do you dislike about this bean?", "disliked"),
+        ("What would you like breeders to improve?", "wanted"),
+        ("Why do you grow this bean?", "liked"),
+        (None, "neutral"),
+    ],
+    ids=["dislike", "improve", "why-grow", "no-question"],
+)
+def test_default_stance_without_a_model_leans_on_the_question(
+    question: str | None, stance: str
+) -> None:
+    # question words as in Hu & Liu's (2004) opinion lexicon ("dislike" negative, from
+    # memory) and the wish wording of the packaged cue lexicon's question_wanted category
+    sentence = Sentence(1, "The soup turns dark.", "en", question)
+    assert default_stance(sentence, None, 4, 19) == stance
