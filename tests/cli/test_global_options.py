@@ -28,6 +28,8 @@ COMMANDS: dict[str, list[str]] = {
     "label": ["label", "--annotator", "ana"],
     "import-labels": ["import-labels", "labels.jsonl"],
     "evaluate": ["evaluate"],
+    "language set": ["language", "set", "pt", "--all"],
+    "language detect": ["language", "detect", "--all"],
 }
 
 
