@@ -2,7 +2,9 @@
 
 Shared by the interview readers (:mod:`extractor.ingest.tables`,
 :mod:`extractor.ingest.transcripts`) and the concept-list reader
-(:mod:`extractor.ingest.concepts`), so every file kind is decoded the same way.
+(:mod:`extractor.ingest.concepts`), so every file kind is decoded the same way. It also
+holds the formula guard of CSV cells (:data:`FORMULA_TRIGGERS`): the exports add it and
+the concept-list reader takes it off again, so both sides share one definition.
 """
 
 from __future__ import annotations
