@@ -100,7 +100,7 @@ def print_languages(console: Console, languages: Sequence[LanguageFound]) -> Non
     if not languages:
         return
     found = ", ".join(f"{lang.tag} {lang.sentences}" for lang in languages)
-    console.print(f"Languages found (sentences): {found}.", highlight=False)
+    console.print(f"Languages of the stored sentences: {found}.", highlight=False)
     for lang in languages:
         if lang.lacks:
             lacks = "; ".join(_LACKS[what] for what in lang.lacks)
@@ -132,7 +132,7 @@ def register(sub: Subcommands) -> None:
     p.add_argument("dir", nargs="?", help="the folder to make a workspace (default: -w, or .)")
     p.set_defaults(handler=cmd_init)
 
-    p = sub.add_parser("add", help="add interview files (.xlsx .csv .tsv .txt .docx)")
+    p = sub.add_parser("add", help="add interview files (.xlsx .xls .ods .csv .tsv .txt .docx)")
     p.add_argument("files", nargs="+")
     p.add_argument("--sheet", help="read only this sheet of a workbook")
     p.add_argument("--respondent-column")
