@@ -133,8 +133,21 @@ def _match_rank(query: str, name: str) -> int | None:
     return None
 
 
+MIN_SHARED = 4
+"""Shortest word that counts when an alias shares words with the marked ones; shorter words
+are mostly articles and prepositions ("de", "en", "the") in the languages of the demo."""
+
+
 def _words(text: str) -> list[str]:
     return re.findall(r"\w+", fold(text))
+
+
+def _same_word(alias_word: str, typed_word: str) -> bool:
+    """Equal words, or one a prefix of the other when both are long ("fast", "faster")."""
+    if alias_word == typed_word:
+        return True
+    short, long = sorted((alias_word, typed_word), key=len)
+    return len(short) >= MIN_SHARED and long.startswith(short)
 
 
 def _gaps_in_order(alias: Sequence[str], typed: Sequence[str]) -> int | None:
@@ -143,12 +156,17 @@ def _gaps_in_order(alias: Sequence[str], typed: Sequence[str]) -> int | None:
         return None
     at, first = 0, None
     for k, word in enumerate(typed):
-        if word == alias[at]:
+        if _same_word(alias[at], word):
             first = k if first is None else first
             at += 1
             if at == len(alias):
                 return k - (first or 0) + 1 - len(alias)
     return None
+
+
+def _shared(alias: Sequence[str], typed: Sequence[str]) -> int:
+    """Return how many of the alias's words of :data:`MIN_SHARED` letters or more were typed."""
+    return sum(1 for a in alias if len(a) >= MIN_SHARED and any(_same_word(a, t) for t in typed))
 
 
 def _preferred_labels(entries: Sequence[ConceptEntry]) -> dict[str, dict[str, str]]:
@@ -170,25 +188,31 @@ def concepts_for_words(
 ) -> list[ConceptMatch]:
     """Return the concepts to offer for marked words, best first.
 
-    Concepts with a label or alias whose words all occur in the marked words, in order,
-    come first ("ladha" in "ladha tamu", "aguenta a seca" in "aguenta bem à seca"; case
-    and accents ignored): longer names, then names with fewer words between theirs, first.
-    Then the completions of :func:`rank_concepts` for the words, each concept once.
+    First the concepts with a label or alias whose words all occur in the marked words,
+    in order ("ladha" in "ladha tamu", "aguenta a seca" in "aguenta bem à seca"): longer
+    names, then names with fewer words between theirs, first. Then those sharing some
+    words of four letters or more ("cuit vite" for "cuit en peu de temps"), most shared
+    first. Then the completions of :func:`rank_concepts`. Case and accents are ignored,
+    a long word matches its own prefix ("fast" in "faster"), and each concept comes once.
     """
     typed = _words(words)
-    inside: dict[str, tuple[tuple[int, int, int, str], ConceptEntry]] = {}
+    best: dict[str, tuple[tuple[int, int, int, int, str], ConceptEntry]] = {}
     for e in entries:
         alias = _words(e.text)
         gaps = _gaps_in_order(alias, typed)
-        if gaps is None:
+        shared = _shared(alias, typed)
+        if gaps is not None:
+            key = (0, -len(alias), gaps, len(e.text), e.concept)
+        elif shared:
+            key = (1, -shared, len(alias) - shared, len(e.text), e.concept)
+        else:
             continue
-        key = (-len(alias), gaps, len(e.text), e.concept)
-        if e.concept not in inside or key < inside[e.concept][0]:
-            inside[e.concept] = (key, e)
+        if e.concept not in best or key < best[e.concept][0]:
+            best[e.concept] = (key, e)
     labels = _preferred_labels(entries)
-    first = [_as_match(e, labels, lang) for _, e in sorted(inside.values(), key=lambda kv: kv[0])]
+    first = [_as_match(e, labels, lang) for _, e in sorted(best.values(), key=lambda kv: kv[0])]
     rest = [
-        m for m in rank_concepts(words, entries, lang=lang, limit=limit) if m.concept not in inside
+        m for m in rank_concepts(words, entries, lang=lang, limit=limit) if m.concept not in best
     ]
     return (first + rest)[:limit]
 

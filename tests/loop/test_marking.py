@@ -154,3 +154,13 @@ def test_default_stance_without_a_model_leans_on_the_question(
     # memory) and the wish wording of the packaged cue lexicon's question_wanted category
     sentence = Sentence(1, "The soup turns dark.", "en", question)
     assert default_stance(sentence, None, 4, 19) == stance
+
+
+@pytest.mark.parametrize(
+    ("words", "first"),
+    [("cooks faster", "BTX:0002"), ("it cooks slowly", "BTX:0002"), ("grain", "BTX:0011")],
+    ids=["longer-form-of-alias-word", "shares-a-word", "completion"],
+)
+def test_concepts_for_words_tolerates_longer_forms_and_shared_words(words: str, first: str) -> None:
+    assert rank_concepts("cooks faster", ENTRIES) == []  # completion alone finds none
+    assert concepts_for_words(words, ENTRIES)[0].concept == first
