@@ -13,14 +13,23 @@ mention is attributed to, in order:
 
 A comparison ("bigger than the old Mbegu", "plus rapide que Kivuli", "más grande que
 el Mbegu", "compared to Mbegu, ...") also records the reference variety: the one
-right after the comparison marker (:func:`find_comparisons`).
+right after the comparison marker (:func:`find_comparisons`). The reference gets the
+comparison only: a marker after a trait ("more yield than Mbegu, and it matures
+early") belongs to the trait before it, and only a marker that opens its clause
+("Compared to Mbegu, it cooks faster") reaches the traits after it.
+
+A variety spelling counts only where it is written as a name (:func:`written_as_name`):
+capitalised ("Clara", "the old Kivuli"), or exactly as the variety list writes it (a
+name people write in lower case is listed in lower case), or in a script without letter
+case. So a variety called after an ordinary word does not capture the word: "Clara"
+is found in "I grow Clara", not in Portuguese "a farinha é mais clara".
 """
 
 from __future__ import annotations
 
 from collections import defaultdict
-from collections.abc import Iterable, Mapping, Sequence
-from typing import Protocol, runtime_checkable
+from collections.abc import Collection, Iterable, Mapping, Sequence
+from typing import NamedTuple, Protocol, runtime_checkable
 
 from extractor.models.cues import Cues, lexicon, packaged_cues, parse
 from extractor.nlp.dictionary import build_dictionary
@@ -43,11 +52,41 @@ REFERENCE_REACH = 4
 
 @runtime_checkable
 class _Matcher(Protocol):
+    aliases: tuple[tuple[str, str, str], ...]
+
     def match(self, text: str, lang: str) -> list[Span]: ...
 
 
+def written_as_name(found: str, listed: Collection[str]) -> bool:
+    """Return whether matched text is written as a name, not as an ordinary word.
+
+    It is when a word of it starts with a capital ("Clara", "old Kivuli"; a capital at
+    the start of a sentence counts too), when it is written exactly as a listed
+    spelling (case included: a list that writes "ksq 12" in lower case says so), or
+    when it has no letter with case at all (Devanagari, Ethiopic, Arabic... scripts).
+
+    Args:
+        found: The text the alias matched in the sentence.
+        listed: The variety list's spellings, as written there.
+    """
+    if found in listed:
+        return True
+    cased = [c for c in found if c.lower() != c.upper()]
+    if not cased:
+        return True
+    for word in found.split():
+        first = next((c for c in word if c.lower() != c.upper()), "")
+        if first.isupper():
+            return True
+    return False
+
+
 def find_varieties(
-    text: str, lang: str, variety_dictionary: _Matcher | Iterable[tuple[str, str, str]]
+    text: str,
+    lang: str,
+    variety_dictionary: _Matcher | Iterable[tuple[str, str, str]],
+    *,
+    names_only: bool = True,
 ) -> list[VarietyMention]:
     """Return the variety names in ``text`` as ``(start, end, variety_id)``.
 
@@ -57,6 +96,8 @@ def find_varieties(
         variety_dictionary: A :class:`extractor.nlp.dictionary.Dictionary` built from the
             variety list (fast; build it once), or the ``(variety_id, name, lang)``
             triples themselves.
+        names_only: Keep only matches written as names (:func:`written_as_name`); off
+            for a variety column, which holds variety names whatever their case.
 
     Returns:
         Non-overlapping matches in order.
@@ -66,15 +107,48 @@ def find_varieties(
         if isinstance(variety_dictionary, _Matcher)
         else build_dictionary(variety_dictionary)
     )
-    return [(s.start, s.end, str(s.concept)) for s in matcher.match(text, lang) if s.concept]
+    listed = {name for _, name, _ in matcher.aliases}
+    return [
+        (s.start, s.end, str(s.concept))
+        for s in matcher.match(text, lang)
+        if s.concept and (not names_only or written_as_name(text[s.start : s.end], listed))
+    ]
+
+
+class Comparison(NamedTuple):
+    """A comparison marker of a sentence and the variety it compares with."""
+
+    start: int
+    end: int
+    reference: VarietyMention
+    fronted: bool
+    """Whether the marker opens its clause ("Compared to X, ..."), so it reaches forward."""
+
+
+def _markers(text: str, lang: str, cues: Cues | None) -> list[tuple[int, int, bool]]:
+    """Return ``(start, end, fronted)`` of each comparison marker of ``text``."""
+    lex = lexicon(cues if cues is not None else packaged_cues(), lang)
+    p = parse(text, lex)
+    comparatives = [i for i, _ in p.matches.get("comparative", ())]
+    out: list[tuple[int, int, bool]] = []
+    for i, j in sorted(p.matches.get("comparison_marker", ())):
+        # "que" compares only after a comparative word, also inside Portuguese "do que".
+        if {"que", "qu'"} & set(p.words[i:j]) and not any(c < i for c in comparatives):
+            continue
+        if out and p.offsets[i][0] < out[-1][1]:
+            continue  # "que" inside "que el": keep the first, longest-starting match
+        fronted = i == 0 or p.boundary[i - 1]
+        out.append((p.offsets[i][0], p.offsets[j - 1][1], fronted))
+    return out
 
 
 def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tuple[int, int]]:
     """Return the character offsets of comparison markers ("than", "compared to", "que").
 
     What follows a marker is the reference of the comparison ("bigger than Kivuli").
-    French and Spanish "que" counts only after a comparative word ("plus ... que",
-    "más ... que"), since it is also a relative pronoun and a conjunction.
+    French, Spanish and Portuguese "que" counts only after a comparative word ("plus
+    ... que", "más ... que", "mais ... do que"), since it is also a relative pronoun
+    and a conjunction.
 
     Args:
         text: One sentence.
@@ -85,22 +159,12 @@ def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tup
     Returns:
         ``(start, end)`` of each marker, in order.
     """
-    lex = lexicon(cues if cues is not None else packaged_cues(), lang)
-    p = parse(text, lex)
-    comparatives = [i for i, _ in p.matches.get("comparative", ())]
-    out: list[tuple[int, int]] = []
-    for i, j in sorted(p.matches.get("comparison_marker", ())):
-        if p.words[i] in {"que", "qu'"} and not any(c < i for c in comparatives):
-            continue
-        if out and p.offsets[i][0] < out[-1][1]:
-            continue  # "que" inside "que el": keep the first, longest-starting match
-        out.append((p.offsets[i][0], p.offsets[j - 1][1]))
-    return out
+    return [(start, end) for start, end, _ in _markers(text, lang, cues)]
 
 
 def comparison_references(
     sentence: Sentence, varieties: Sequence[VarietyMention], cues: Cues | None = None
-) -> list[tuple[tuple[int, int], VarietyMention]]:
+) -> list[Comparison]:
     """Return each comparison marker of the sentence with its reference variety.
 
     Args:
@@ -109,20 +173,20 @@ def comparison_references(
         cues: A cue lexicon (the packaged one when ``None``).
 
     Returns:
-        ``((marker_start, marker_end), variety_mention)`` for each marker that has a
-        variety within :data:`REFERENCE_REACH` tokens after it.
+        A :class:`Comparison` for each marker that has a variety within
+        :data:`REFERENCE_REACH` tokens after it.
     """
     if not varieties:
         return []  # nothing to compare with: skip tokenizing
     tokens = tokenize(sentence.text, sentence.lang or "xx")
     out = []
-    for m_start, m_end in find_comparisons(sentence.text, sentence.lang or "xx", cues):
+    for m_start, m_end, fronted in _markers(sentence.text, sentence.lang or "xx", cues):
         after = [v for v in varieties if v[0] >= m_end]
         if not after:
             continue
         gap = sum(1 for s, _ in tokens if m_end <= s < after[0][0])
         if gap <= REFERENCE_REACH:
-            out.append(((m_start, m_end), after[0]))
+            out.append(Comparison(m_start, m_end, after[0], fronted))
     return out
 
 
@@ -153,7 +217,7 @@ def attribute_variety(
         comparison_references(s, v, cues)
         for s, v in zip(sentences_of_answer, variety_mentions_per_sentence, strict=True)
     ]
-    ref_mentions = [{r for _, r in sentence_refs} for sentence_refs in refs]
+    ref_mentions = [{c.reference for c in sentence_refs} for sentence_refs in refs]
     out = []
     for index, span in mentions:
         sentence = sentences_of_answer[index]
@@ -169,18 +233,22 @@ def attribute_variety(
     return out
 
 
-def _reference(
-    span: Span, refs: Sequence[tuple[tuple[int, int], VarietyMention]]
-) -> VarietyMention | None:
+def _reference(span: Span, refs: Sequence[Comparison]) -> VarietyMention | None:
     """Return the reference of the comparison the span belongs to, if any.
 
-    The nearest marker after the span wins ("bigger than X"); else a marker before
-    the span whose reference also lies before it ("compared to X, it cooks faster").
+    The nearest marker after the span wins ("bigger than X"); else a marker before the
+    span that opens its clause and whose reference also lies before the span
+    ("compared to X, it cooks faster"). A marker that follows another word of its clause
+    ("more yield than X, and it matures early") belongs to what came before it.
     """
-    after = [r for (m_start, _), r in refs if m_start >= span.end]
+    after = [c.reference for c in refs if c.start >= span.end]
     if after:
         return after[0]
-    before = [r for (_, m_end), r in refs if m_end <= span.start and r[1] <= span.start]
+    before = [
+        c.reference
+        for c in refs
+        if c.fronted and c.end <= span.start and c.reference[1] <= span.start
+    ]
     return before[-1] if before else None
 
 
@@ -277,7 +345,8 @@ def _attribute_answer(
             return []
         return [v for _, _, v in find_varieties(text, lang, matcher)]
 
-    answer_variety = (ids_in(written) or [written])[0] if written else None
+    column = find_varieties(written, lang, matcher, names_only=False) if written and matcher else []
+    answer_variety = column[0][2] if column else written or None
     return attribute_variety(
         sentences,
         mentions,

@@ -4,7 +4,12 @@ from __future__ import annotations
 
 import pytest
 
-from extractor.models.variety import attribute_variety, find_comparisons, find_varieties
+from extractor.models.variety import (
+    attribute_corpus,
+    attribute_variety,
+    find_comparisons,
+    find_varieties,
+)
 from extractor.nlp.dictionary import build_dictionary
 from extractor.types import Sentence, Span
 
@@ -45,13 +50,14 @@ def _attribute(
 @pytest.mark.parametrize(
     ("text", "lang", "expected"),
     [
-        ("We grow Kivuli and tembala.", "en", ["VAR:K", "VAR:T"]),
+        # "tembala" in lower case is not written as a name, and the list writes it "Tembala".
+        ("We grow Kivuli and tembala.", "en", ["VAR:K"]),
         ("Tembala Red cooks fast.", "en", ["VAR:T"]),
         ("On préfère la Kivüli.", "fr", ["VAR:K"]),
         ("Sembramos Orvane.", "es", ["VAR:O"]),
         ("No variety named here.", "en", []),
     ],
-    ids=["two-names-any-case", "longest-name", "accent-tolerant", "spanish", "none"],
+    ids=["lower-case-is-no-name", "longest-name", "accent-tolerant", "spanish", "none"],
 )
 def test_find_varieties_returns_ids(text: str, lang: str, expected: list[str]) -> None:
     assert [v for _, _, v in find_varieties(text, lang, DICTIONARY)] == expected
@@ -94,6 +100,12 @@ def test_find_varieties_accepts_alias_triples_and_gives_offsets() -> None:
             {},
             [("VAR:K", None)],
         ),
+        (
+            ["It gives more yield than Tembala, and it matures early."],
+            [(0, "more yield"), (0, "matures early")],
+            {"answer_variety": "VAR:K"},
+            [("VAR:K", "VAR:T"), ("VAR:K", None)],
+        ),
     ],
     ids=[
         "same-sentence",
@@ -104,6 +116,7 @@ def test_find_varieties_accepts_alias_triples_and_gives_offsets() -> None:
         "column-before-question",
         "nothing",
         "possessive-of",
+        "than-clause-ends-at-and",
     ],
 )
 def test_attribute_variety_picks_subject(texts, where, kwargs, expected) -> None:
@@ -180,3 +193,92 @@ def test_find_comparisons_takes_que_only_after_a_comparative(
     # French and Spanish grammar (from memory): "que" introduces the second term of a
     # comparison only after "plus"/"más"; in "il faut que" it is a conjunction.
     assert [text[s:e] for s, e in find_comparisons(text, lang)] == markers
+
+
+# Varieties whose names are also ordinary words, all invented: "Clara" (Portuguese
+# "clara", light-coloured), "Alvorina", "Zimbo" and "Nyota Tamu" (Swahili "nyota", star),
+# and a breeder's code people write in lower case, listed that way.
+ORDINARY = [
+    ("VAR:A", "Alvorina", "pt"),
+    ("VAR:C", "Clara", "pt"),
+    ("VAR:Z", "Zimbo", "sw"),
+    ("VAR:N", "Nyota Tamu", "sw"),
+    ("VAR:Q", "ksq 12", ""),
+    ("VAR:H", "सोनाली", "hi"),
+]
+ORDINARY_DICTIONARY = build_dictionary(ORDINARY)
+
+
+@pytest.mark.parametrize(
+    ("text", "lang", "expected"),
+    [
+        ("A farinha fica mais clara.", "pt", []),
+        ("Planto a Clara há anos.", "pt", ["VAR:C"]),
+        ("Clara dá farinha boa.", "pt", ["VAR:C"]),
+        ("plantamos alvorina.", "pt", []),
+        ("Tunapanda ksq 12 na KSQ 12.", "sw", ["VAR:Q", "VAR:Q"]),
+        ("Tunapanda nyota tamu.", "sw", []),
+        ("हम सोनाली उगाते हैं।", "hi", ["VAR:H"]),
+    ],
+    ids=[
+        "ordinary-adjective",
+        "capitalised-name",
+        "sentence-start",
+        "listed-capitalised-written-lower",
+        "listed-lower-written-as-listed",
+        "two-ordinary-words",
+        "script-without-case",
+    ],
+)
+def test_find_varieties_takes_only_what_is_written_as_a_name(
+    text: str, lang: str, expected: list[str]
+) -> None:
+    # A proper name is capitalised in languages written with letter case (Portuguese,
+    # Swahili, English orthography; from memory); Devanagari has no letter case, so
+    # capitals cannot be asked for there.
+    assert [v for _, _, v in find_varieties(text, lang, ORDINARY_DICTIONARY)] == expected
+
+
+def _attribute_corpus(texts: list[str], lang: str, where: list[tuple[int, str]], written: str):
+    sentences = [Sentence(id=i + 1, text=t, lang=lang, answer_id=7) for i, t in enumerate(texts)]
+    spans: dict[int, list[Span]] = {}
+    for index, term in where:
+        spans.setdefault(index + 1, []).append(_span(sentences[index], term))
+    found = attribute_corpus(sentences, spans, ORDINARY, {7: written})
+    return [pair for sid in sorted(found) for pair in found[sid]]
+
+
+@pytest.mark.parametrize(
+    ("texts", "lang", "where", "written", "expected"),
+    [
+        (
+            ["Mavuno mengi kuliko Zimbo, na inakomaa mapema."],
+            "sw",
+            [(0, "Mavuno mengi"), (0, "inakomaa mapema")],
+            "Nyota Tamu",
+            [("VAR:N", "VAR:Z"), ("VAR:N", None)],
+        ),
+        (
+            ["A Alvorina dá mais raiz do que a Clara, e aguenta bem a seca."],
+            "pt",
+            [(0, "mais raiz"), (0, "aguenta bem a seca")],
+            "",
+            [("VAR:A", "VAR:C"), ("VAR:A", None)],
+        ),
+        (
+            ["Gosto do que a Alvorina dá.", "A farinha é mais clara."],
+            "pt",
+            [(1, "farinha")],
+            "",
+            [("VAR:A", None)],
+        ),
+    ],
+    ids=["sw-kuliko", "pt-do-que", "pt-do-que-without-comparative"],
+)
+def test_attribute_corpus_gives_the_compared_variety_the_comparison_only(
+    texts, lang, where, written, expected
+) -> None:
+    # Swahili "kuliko" ("than") and Portuguese "(do) que" after "mais" ("more ... than")
+    # introduce the variety compared against (from memory); what follows "and" ("na",
+    # "e") is a new clause about the answer's own variety.
+    assert _attribute_corpus(texts, lang, where, written) == expected
