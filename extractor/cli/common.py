@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
+import json
 from collections.abc import Iterable, Mapping
 from pathlib import Path
 from typing import Any
@@ -66,6 +68,23 @@ class CommandsAction(argparse._SubParsersAction):
         parser = super().add_parser(name, **kwargs)
         parser.register("action", "parsers", CommandsAction)
         return parser
+
+
+def print_json(console: Console, result: Any) -> None:
+    """Write a job's typed result as one JSON object, for scripts (``--json``).
+
+    Dataclasses become objects (:func:`dataclasses.asdict`), paths and anything else
+    JSON lacks become text. It is written past rich, so ``-q`` does not silence it.
+    """
+    is_instance = dataclasses.is_dataclass(result) and not isinstance(result, type)
+    data = dataclasses.asdict(result) if is_instance else result
+    console.file.write(json.dumps(data, sort_keys=True, default=str) + "\n")
+
+
+def print_written(console: Console, args: argparse.Namespace, path: Path | str) -> None:
+    """Under ``-q``, print the path of the file the command wrote: all ``-q`` leaves."""
+    if getattr(args, "quiet", False) and not getattr(args, "json", False):
+        console.file.write(f"{path}\n")
 
 
 def open_workspace(args: argparse.Namespace) -> Workspace:

@@ -9,7 +9,7 @@ from pathlib import Path
 from rich.console import Console
 from rich.table import Table
 
-from extractor.cli.common import Subcommands, open_workspace, print_warnings
+from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
 from extractor.ingest.intake import import_concepts
 from extractor.jobs.curate import (
     MIN_COUNT_PERCENT,
@@ -119,6 +119,7 @@ def cmd_concepts_export(args: argparse.Namespace, console: Console) -> int:
     """Write the concept list with accepted aliases for curators."""
     with open_workspace(args) as ws:
         path = export_concepts(ws, Path(args.out) if args.out else None)
+    print_written(console, args, path)
     console.print(f"Wrote {path}; aliases accepted by annotators are in 'accepted_aliases'.")
     return 0
 

@@ -7,7 +7,7 @@ from pathlib import Path
 
 from rich.console import Console
 
-from extractor.cli.common import Subcommands, open_workspace
+from extractor.cli.common import Subcommands, open_workspace, print_json, print_written
 from extractor.cli.screen import run_console
 from extractor.cli.tables import curve_table, evaluation_tables, gain_table
 from extractor.jobs.evaluate import evaluate_workspace
@@ -67,6 +67,9 @@ def cmd_evaluate(args: argparse.Namespace, console: Console) -> int:
     """Cross-validate on the labeled sentences and score the evaluation sample."""
     with open_workspace(args) as ws:
         report = evaluate_workspace(ws, k=args.folds)
+    if args.json:
+        print_json(console, report)
+        return 0
     for title, part in (
         ("cross-validation", report.cross_validation),
         ("evaluation sample", report.evaluation_sample),
@@ -121,6 +124,7 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
     if args.plot:
         console.print(f"Plot: {args.plot}")
     console.print(f"Results: {args.out}")
+    print_written(console, args, args.out)
     return 0
 
 
@@ -149,6 +153,7 @@ def register(sub: Subcommands) -> None:
     p.set_defaults(handler=cmd_import_labels)
     p = sub.add_parser("evaluate", help="cross-validated quality and the evaluation sample")
     p.add_argument("--folds", type=int, default=5)
+    p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(handler=cmd_evaluate)
     _register_simulate(sub)
 

@@ -40,14 +40,23 @@ def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -
     """Run the ``traits`` command; return its exit code."""
     console = console or Console()
     errors = Console(stderr=True) if console.file is sys.stdout else console
-    args = build_parser().parse_args(argv)
-    progress.enable(console if console.is_terminal else None)
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.quiet and args.verbose:  # one before the command, one after it
+        parser.error("argument -v/--verbose: not allowed with argument -q/--quiet")
+    # -q: rich prints nothing (errors aside, below); a command still prints the path of
+    # the file it wrote, and --json its object, past rich (common.print_written/print_json).
+    was_quiet = console.quiet
+    console.quiet = was_quiet or args.quiet
+    progress.enable(console if console.is_terminal and not args.quiet else None)
     try:
         return int(args.handler(args, console))
     except TraitsError as exc:
+        console.quiet = was_quiet
         errors.print(f"[bold red]error:[/] {exc}", highlight=False, soft_wrap=True)
         return 1
     except OSError as exc:
+        console.quiet = was_quiet
         # A file the command was told to read or write (e.g. --out in a missing folder).
         where = exc.filename or "a file"
         errors.print(
@@ -58,7 +67,9 @@ def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -
         )
         return 1
     except KeyboardInterrupt:
+        console.quiet = was_quiet
         errors.print("Interrupted; everything confirmed so far is saved.")
         return 130
     finally:
+        console.quiet = was_quiet
         progress.enable(None)

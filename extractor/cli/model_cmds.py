@@ -12,8 +12,10 @@ from extractor.cli.common import (
     Subcommands,
     metric_summary,
     open_workspace,
+    print_json,
     print_notes,
     print_warnings,
+    print_written,
 )
 from extractor.jobs.export import export
 from extractor.jobs.run import RunReport, run_in, train_and_tag
@@ -40,29 +42,62 @@ def cmd_models(args: argparse.Namespace, console: Console) -> int:
     """List model versions with their metrics."""
     with open_workspace(args) as ws:
         found = model_versions(ws)
+    if args.json:
+        print_json(console, {"versions": [model._asdict() for model in found]})
+        return 0
     if not found:
         console.print("No model versions yet; run `traits train` or `traits run`.")
         return 0
     table = Table(title="Model versions")
-    for column in ("version", "trained", "labeled", "matched by concept list", "quality"):
+    columns = ["version", "trained", "labeled", "matched by concept list", "quality"]
+    if args.verbose:
+        columns += ["folder", "concept list"]
+    for column in columns:
         table.add_column(column)
     for model in found:
         counts = model.meta.get("counts", {})
-        table.add_row(
+        row = [
             model.version,
             model.created_at,
             str(counts.get("gold_sentences", "")),
             str(counts.get("silver_sentences", "")),
             metric_summary(model.metrics),
-        )
+        ]
+        if args.verbose:
+            concept_list = model.meta.get("concept_list") or {}
+            row += [model.path, str(concept_list.get("path", "none"))]
+        table.add_row(*row)
     console.print(table)
     return 0
 
 
 def cmd_run(args: argparse.Namespace, console: Console) -> int:
     """Run the whole job in the workspace (the demo in the repository root)."""
-    _print_run(run_in(Path(args.workspace), retrain=args.retrain), console)
+    report = run_in(Path(args.workspace), retrain=args.retrain)
+    if args.json:
+        print_json(console, report)
+        return 0
+    if args.verbose:
+        _print_run_detail(report, console)
+    _print_run(report, console)
+    print_written(console, args, report.export.path)
     return 0
+
+
+def _print_run_detail(report: RunReport, console: Console) -> None:
+    """What ``-v`` adds: each interview file and list read, and what training learned from."""
+    for item in report.files:
+        counts = f"{item.answers or 0} new answers, {item.sentences or 0} new sentences"
+        console.print(f"{item.path}: {item.status} ({counts})", soft_wrap=True)
+    for listed in (report.concepts, report.varieties):
+        if listed is not None:
+            console.print(f"{listed.path}: {listed.status}", soft_wrap=True)
+    learned = report.train.counts
+    console.print(
+        f"Model version {report.train.version} learned from {learned.gold_sentences} "
+        f"labeled sentences ({learned.gold_spans} spans), {learned.silver_sentences} "
+        f"sentences matched by the concept list and {learned.aliases} aliases."
+    )
 
 
 def _print_run(report: RunReport, console: Console) -> None:
@@ -130,6 +165,10 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
             group_by=args.group_by.split(",") if args.group_by else None,
             names_file=args.names_file,
         )
+    if args.json:
+        print_json(console, report)
+        return 0
+    print_written(console, args, report.path)
     console.print(f"Wrote {report.path} ({report.mentions} mentions).")
     if report.chart:
         console.print(f"Chart: {report.chart}")
@@ -143,6 +182,7 @@ def register(sub: Subcommands) -> None:
     p.add_argument("--no-cv", action="store_true", help="skip cross-validation")
     p.set_defaults(handler=cmd_train)
     p = sub.add_parser("models", help="list model versions and their measured quality")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(handler=cmd_models)
     p = sub.add_parser("run", help="the whole job: add new interviews, train, tag, export")
     p.add_argument(
@@ -150,6 +190,7 @@ def register(sub: Subcommands) -> None:
         action="store_true",
         help="train a new model version even when nothing changed since the latest one",
     )
+    p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(handler=cmd_run)
     p = sub.add_parser("export", help="write the preferred-traits workbook or another format")
     p.add_argument("--out", help="output file (default: exports/preferred_traits.xlsx)")
@@ -168,4 +209,5 @@ def register(sub: Subcommands) -> None:
     p.add_argument("--group-by", help="comma-separated respondent columns to compare")
     p.add_argument("--names-file", help="text file of names to screen out of quotes")
     p.add_argument("--model-version", help="model version to export (default: the newest)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(handler=cmd_export)

@@ -10,6 +10,8 @@ import pytest
 from rich.console import Console
 
 from extractor.cli.main import build_parser, main
+from extractor.workspace import store
+from tests.report.study import VERSION, build_workspace
 
 # Every command with the arguments it cannot run without. -w must work on each of them,
 # before the command and after it (the README promises "every command takes -w").
@@ -86,3 +88,51 @@ def test_simulate_accepts_the_workspace_option(tmp_path: Path, position: str) ->
     option = ["-w", str(tmp_path)]
     code, out = run(*(option + argv if position == "before" else argv + option))
     assert code == 1 and "none.jsonl" in out  # the missing pool, not a usage error
+
+
+def _tagged_by_hand(root: Path) -> Path:
+    """The hand-built workspace with its recorded version tagged on every sentence."""
+    ws = build_workspace(root)
+    ids = [s.id for s in store.sentences(ws.conn)]
+    rows = [{"sentence_id": i, "path_prob": 0.9, "mentions": []} for i in ids]
+    store.store_predictions(ws.conn, VERSION, rows)
+    ws.close()
+    return root
+
+
+@pytest.mark.parametrize("position", ["before", "after"])
+def test_quiet_export_prints_only_the_file_written(tmp_path: Path, position: str) -> None:
+    root = _tagged_by_hand(tmp_path / "ws")
+    argv = ["export", "--format", "jsonl"]
+    code, out = run("-w", str(root), *(["-q", *argv] if position == "before" else [*argv, "-q"]))
+    assert code == 0
+    assert out.splitlines() == [str(root / "exports" / "mentions.jsonl")]
+
+
+def test_quiet_still_prints_errors(tmp_path: Path) -> None:
+    code, out = run("-q", "-w", str(tmp_path), "status")
+    assert code == 1 and "error:" in out and "traits init" in out
+
+
+def test_quiet_and_verbose_run(study: Path) -> None:
+    code, out = run("-w", str(study), "-q", "run")
+    assert code == 0
+    assert out.splitlines() == [str(study / "exports" / "preferred_traits.xlsx")]
+    code, out = run("-w", str(study), "run", "-v")
+    assert code == 0
+    assert "survey.csv: unchanged" in out and "learned from 0 labeled sentences" in out
+
+
+def test_verbose_models_shows_each_version_folder(tmp_path: Path) -> None:
+    root = _tagged_by_hand(tmp_path / "ws")
+    _, plain = run("-w", str(root), "models")
+    code, detailed = run("-w", str(root), "models", "-v")
+    assert code == 0
+    assert "folder" in detailed and "folder" not in plain
+
+
+def test_quiet_and_verbose_together_is_a_usage_error(capsys: pytest.CaptureFixture[str]) -> None:
+    with pytest.raises(SystemExit) as stopped:
+        run("-q", "status", "-v")
+    assert stopped.value.code == 2
+    assert "not allowed with" in capsys.readouterr().err
