@@ -84,6 +84,37 @@ def wilson_interval(k: int, n: int, alpha: float = 0.05) -> tuple[float, float]:
     return low, high
 
 
+MIN_SAMPLE = 30
+"""Fewest items (gold spans, matched mentions) for a quality figure to mean much.
+
+Common practice (the n >= 30 rule of thumb for a proportion): below it the 95% Wilson
+interval is too wide to tell a good model from a poor one; even at 30 items an interval
+around 0.5 still spans about 0.33 to 0.67.
+"""
+
+
+def too_few(n: int) -> bool:
+    """Return whether ``n`` items are too few for a figure to mean much (:data:`MIN_SAMPLE`)."""
+    return n < MIN_SAMPLE
+
+
+def f1_interval(tp: int, fp: int, fn: int, alpha: float = 0.05) -> tuple[float, float] | None:
+    """Return an interval for F1 from the Wilson interval of the Jaccard index.
+
+    F1 = 2J / (1 + J) with J = tp / (tp + fp + fn) (an identity of the two measures;
+    from memory). J is a share of the ``tp + fp + fn`` items that are hits, so its
+    Wilson interval is carried to F1 through that increasing map.
+
+    Returns:
+        ``(low, high)``, or None when there is nothing to score (no item at all).
+    """
+    n = tp + fp + fn
+    if n == 0:
+        return None
+    low, high = wilson_interval(tp, n, alpha)
+    return 2 * low / (1 + low), 2 * high / (1 + high)
+
+
 def _clean_table(table: Sequence[Sequence[int]] | np.ndarray) -> np.ndarray:
     """Return the table as integers without all-zero rows and columns, or raise."""
     arr = np.asarray(table)

@@ -7,6 +7,7 @@ import io
 from rich.console import Console
 from rich.table import Table
 from sklearn.metrics import accuracy_score, confusion_matrix, f1_score
+from statsmodels.stats.proportion import proportion_confint
 
 from extractor.cli.tables import curve_table, evaluation_tables, gain_table
 from extractor.loop.curves import CurveRow, GainRow
@@ -44,7 +45,10 @@ def test_evaluation_tables_show_stance_figures_as_scikit_learn_computes_them() -
     # classes seen in gold or prediction, 0 where a class is never predicted).
     accuracy = accuracy_score(GOLD_STANCES, PRED_STANCES)
     macro = f1_score(GOLD_STANCES, PRED_STANCES, average="macro", zero_division=0)
-    assert f"accuracy {accuracy:.3f}, macro-F1 {macro:.3f}" in text
+    correct = sum(g == p for g, p in zip(GOLD_STANCES, PRED_STANCES, strict=True))
+    n = len(GOLD_STANCES)
+    assert f"accuracy {accuracy:.3f} ({correct}/{n}, {_wilson(correct, n)}), " in text
+    assert f"macro-F1 {macro:.3f} (of {n})" in text
     labels = ["liked", "disliked", "wanted"]
     matrix = confusion_matrix(GOLD_STANCES, PRED_STANCES, labels=labels)
     for label, row in zip(labels, matrix, strict=True):
@@ -64,3 +68,35 @@ def test_simulation_tables_show_rows_and_wins() -> None:
     text = _render([curve_table(curve), gain_table(gains)])
     assert "0.500" in text and "0.125" in text
     assert "+3.1" in text and "0.4" in text and "1/2" in text
+
+
+def _perfect(n: int) -> ScoreReport:
+    """``n`` sentences with one gold span each, every span found with its concept and stance."""
+    gold = [
+        (Sentence(id=i, text="xxx yyy", lang="en", respondent=f"R{i}"), [Span(0, 3, "C1", "liked")])
+        for i in range(n)
+    ]
+    return score(gold, [[Span(0, 3, "C1", "liked")] for _ in range(n)])
+
+
+def _wilson(k: int, n: int) -> str:
+    # statsmodels' Wilson score interval is the outside reference (Wilson, 1927).
+    low, high = proportion_confint(k, n, alpha=0.05, method="wilson")
+    return f"{low:.2f}–{min(1.0, high):.2f}"
+
+
+def test_evaluation_tables_give_counts_and_wilson_intervals_beside_each_figure() -> None:
+    text = " ".join(_render(evaluation_tables(_perfect(2))).split())
+    # precision 1.000 from 2 of 2 predicted spans, recall from 2 of 2 gold spans
+    assert f"1.000 (2/2, {_wilson(2, 2)})" in text
+    assert "precision 1.000 │" not in text and "│ 1.000 │" not in text  # no bare figure
+    # stance accuracy: 2 of 2 matched mentions
+    assert f"accuracy 1.000 (2/2, {_wilson(2, 2)})" in text
+
+
+def test_evaluation_tables_say_when_the_sample_is_too_small() -> None:
+    small = " ".join(_render(evaluation_tables(_perfect(2))).split())
+    assert "Only 2 gold spans" in small and "too few" in small
+    large = " ".join(_render(evaluation_tables(_perfect(30))).split())
+    assert "too few" not in large
+    assert f"1.000 (30/30, {_wilson(30, 30)})" in large

@@ -14,10 +14,13 @@ from extractor.errors import InputError
 from extractor.report.stats import (
     CHI_SQUARE,
     FISHER_2X2,
+    MIN_SAMPLE,
     NO_TEST,
     bh_adjust,
     chi_square_allowed,
+    f1_interval,
     group_difference,
+    too_few,
     wilson_interval,
 )
 
@@ -253,3 +256,30 @@ def test_group_difference_handles_many_single_respondent_groups() -> None:
         np.array(table), method=sps.MonteCarloMethod(n_resamples=999, rng=np.random.default_rng(3))
     )
     assert result.p_value == pytest.approx(float(np.ravel(reference.pvalue)[0]))
+
+
+@pytest.mark.parametrize(
+    ("tp", "fp", "fn"), [(2, 0, 0), (8, 3, 5), (0, 4, 4)], ids=["perfect", "mixed", "no-hit"]
+)
+def test_f1_interval_is_the_wilson_interval_of_jaccard_carried_to_f1(
+    tp: int, fp: int, fn: int
+) -> None:
+    # F1 = 2J / (1 + J), J = tp / (tp + fp + fn) (from memory); statsmodels' Wilson
+    # interval of J is the outside reference.
+    low_j, high_j = proportion_confint(tp, tp + fp + fn, alpha=0.05, method="wilson")
+    bounds = f1_interval(tp, fp, fn)
+    assert bounds is not None
+    low, high = bounds
+    assert low == pytest.approx(2 * max(0.0, low_j) / (1 + max(0.0, low_j)), abs=1e-12)
+    assert high == pytest.approx(2 * min(1.0, high_j) / (1 + min(1.0, high_j)), abs=1e-12)
+    f1 = 2 * tp / (2 * tp + fp + fn)
+    assert low <= f1 <= high
+
+
+def test_f1_interval_is_none_without_items() -> None:
+    assert f1_interval(0, 0, 0) is None
+
+
+def test_too_few_below_thirty() -> None:
+    # Common practice: the n >= 30 rule of thumb for a proportion.
+    assert MIN_SAMPLE == 30 and too_few(29) and not too_few(30)
