@@ -27,8 +27,13 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
             train_first=not args.keep_model,
         )
         notice = (
-            f"Trained model {setup.version} first: {setup.trained_labels} labels were newer "
-            f"than model {setup.trained_from}."
+            f"Trained model {setup.version} first: "
+            + (
+                "1 label was"
+                if setup.trained_labels == 1
+                else f"{setup.trained_labels} labels were"
+            )
+            + f" newer than model {setup.trained_from}."
             if setup.trained_from
             else ""
         )

@@ -28,7 +28,9 @@ STANCE_STYLE = {
     None: "magenta",
 }
 
-HELP_LINE = "Enter keep · type words to mark · n no trait · s skip · u undo · q quit · ? help, figures"
+HELP_LINE = (
+    "Enter keep · type words to mark · n no trait · s skip · u undo · q quit · ? help, figures"
+)
 SPAN_HELP_LINE = "x N drop · c N concept · t N stance · a N add words as alias"
 
 HELP_TEXT = """\
@@ -122,8 +124,9 @@ def progress_text(session: Session, figures: Figures | None) -> Text | None:
     bits = []
     if s.behind and s.version:
         bits.append(
-            f"suggestions come from model {s.version}, older than the last {s.behind} "
-            "labels; they count once the model updates (or run `traits train`)"
+            f"suggestions come from model {s.version}, older than the last "
+            + ("label" if s.behind == 1 else f"{s.behind} labels")
+            + "; they count once the model updates (or run `traits train`)"
         )
     if figures:
         bits.append(_quality_words(figures))

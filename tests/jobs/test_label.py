@@ -82,5 +82,5 @@ def test_labels_newer_than_the_model_are_learned_before_labeling(
     assert code == 0, out
     second = latest_version(study).version
     assert second != first
-    assert f"Trained model {second} first: 1 labels were newer than model {first}." in out
+    assert f"Trained model {second} first: 1 label was newer than model {first}." in out
     assert f"model {second}" in out
