@@ -11,6 +11,7 @@ from typing import Any
 
 from rich.console import Console
 
+from extractor.report.stats import f1_interval, too_few
 from extractor.workspace.folder import Workspace
 
 Subcommands = argparse._SubParsersAction  # argparse has no public name for it
@@ -101,8 +102,21 @@ def metric_summary(metrics: Mapping[str, Any]) -> str:
         if isinstance(span, dict):
             span = span.get("mean")
         if isinstance(span, (int, float)):
-            parts.append(f"span F1 {span:.2f} ({tag})")
+            parts.append(f"span F1 {span:.2f} ({tag}{_sample_size(found)})")
     return "; ".join(parts) or "not measured"
+
+
+def _sample_size(found: Mapping[str, Any]) -> str:
+    """Return ``: N gold spans, 95% low–high`` for a stored evaluation, or nothing."""
+    counts = found.get("span")
+    n_gold = found.get("n_gold_spans")
+    if not isinstance(counts, dict) or not isinstance(n_gold, int):
+        return ""  # cross-validation stores means over folds, not one sample
+    bounds = f1_interval(int(counts["tp"]), int(counts["fp"]), int(counts["fn"]))
+    text = f": {n_gold} gold spans"
+    if bounds is not None:
+        text += f", 95% {bounds[0]:.2f}–{bounds[1]:.2f}"
+    return text + (", too few to mean much" if too_few(n_gold) else "")
 
 
 def print_warnings(console: Console, warnings: Iterable[str]) -> None:
