@@ -34,6 +34,8 @@ def test_predictions_of_changed_answers_are_tagged_again(
         store.add_model(ws.conn, "v1", "models/v1", {})
         rows = [{"sentence_id": s.id, "mentions": []} for s in store.sentences(ws.conn)]
         store.store_predictions(ws.conn, "v1", rows)
+        store.add_model(ws.conn, "v0", "models/v0", {})  # an older version, tagged too
+        store.store_predictions(ws.conn, "v0", rows)
         assert tag_job.ensure_tagged(ws) == "v1" and tagged == []  # all tagged already
         change = set_language(ws, "pt", Selection(respondent="R1"))
         assert (change.changed, change.stale) == (1, 1)

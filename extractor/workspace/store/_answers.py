@@ -312,10 +312,15 @@ def set_answer_languages(conn: sqlite3.Connection, changes: Sequence[tuple[int, 
                 "UPDATE answers SET lang = ?, lang_origin = ? WHERE id = ?",
                 (tag, origin, answer_id),
             )
-            cur = conn.execute(
+            # Sentences, not prediction rows: each model version holds one row per sentence.
+            stale += conn.execute(
+                "SELECT COUNT(DISTINCT p.sentence_id) FROM predictions p "
+                "JOIN sentences s ON s.id = p.sentence_id WHERE s.answer_id = ?",
+                (answer_id,),
+            ).fetchone()[0]
+            conn.execute(
                 "DELETE FROM predictions WHERE sentence_id IN "
                 "(SELECT id FROM sentences WHERE answer_id = ?)",
                 (answer_id,),
             )
-            stale += max(cur.rowcount, 0)
     return stale
