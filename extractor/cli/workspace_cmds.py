@@ -12,7 +12,7 @@ from typing import Any
 from rich.console import Console
 from rich.table import Table
 
-from extractor.cli.common import Subcommands, open_workspace, print_warnings
+from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
 from extractor.jobs.add import LanguageFound, add_interviews
 from extractor.jobs.status import workspace_status
 from extractor.workspace.folder import create_workspace
@@ -29,6 +29,7 @@ def cmd_init(args: argparse.Namespace, console: Console) -> int:
             "See what it holds with [bold]traits status[/]."
         )
         return 0
+    print_written(console, args, made.root)
     console.print(
         f"Workspace ready in [bold]{made.root}[/]: traits.toml, traits.sqlite, models/, "
         "exports/, interviews/."

@@ -136,3 +136,9 @@ def test_quiet_and_verbose_together_is_a_usage_error(capsys: pytest.CaptureFixtu
         run("-q", "status", "-v")
     assert stopped.value.code == 2
     assert "not allowed with" in capsys.readouterr().err
+
+
+def test_quiet_init_prints_only_the_new_workspace(tmp_path: Path) -> None:
+    code, out = run("-q", "init", str(tmp_path / "study"))
+    assert code == 0
+    assert out.splitlines() == [str(tmp_path / "study")]
