@@ -1,4 +1,8 @@
-"""What the command modules share: opening the workspace named by ``-w``, headline figures."""
+"""What the command modules share: the options every command takes, the workspace, JSON, figures.
+
+The options ``-w``, ``-q`` and ``-v`` are taken before or after a command's name
+(:class:`CommandsAction`); ``--json`` output is written from a job's typed result.
+"""
 
 from __future__ import annotations
 
