@@ -95,7 +95,8 @@ def _folds_table(results: CrossValidation) -> Table:
             str(fold.fold + 1), *(_fmt(getattr(fold.summary, k)) for k in SUMMARY_KEYS), str(n)
         )
     table.add_row("mean", *(_fmt(getattr(results.mean, k)) for k in SUMMARY_KEYS), "")
-    table.add_row("sd", *(_fmt(getattr(results.sd, k)) for k in SUMMARY_KEYS), str(sum(n_gold)))
+    table.add_row("sd", *(_fmt(getattr(results.sd, k)) for k in SUMMARY_KEYS), "")
+    table.add_row("total", *("" for _ in SUMMARY_KEYS), str(sum(n_gold)))
     return table
 
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+from dataclasses import replace
 
 from rich.console import Console
 from rich.table import Table
@@ -11,7 +12,8 @@ from statsmodels.stats.proportion import proportion_confint
 
 from extractor.cli.tables import curve_table, evaluation_tables, gain_table
 from extractor.loop.curves import CurveRow, GainRow
-from extractor.models.metrics import ScoreReport, score
+from extractor.models.metrics import ScoreReport, score, summary
+from extractor.models.validation import CrossValidation, Evaluation, Fold
 from extractor.types import Sentence, Span
 
 
@@ -100,3 +102,22 @@ def test_evaluation_tables_say_when_the_sample_is_too_small() -> None:
     large = " ".join(_render(evaluation_tables(_perfect(30))).split())
     assert "too few" not in large
     assert f"1.000 (30/30, {_wilson(30, 30)})" in large
+
+
+def test_cross_validation_table_gives_each_folds_gold_spans_and_their_total_apart() -> None:
+    report = _result()
+    fold = Fold(
+        fold=0, n_train=8, n_test=4, seconds=0.1, result=Evaluation(report, summary(report))
+    )
+    cv = CrossValidation(
+        k=2, seed=0, mean=summary(report), sd=summary(report), folds=(fold, replace(fold, fold=1))
+    )
+    cells = {
+        words[0]: words[1:]
+        for line in _render(evaluation_tables(cv)).splitlines()
+        if (words := line.replace("│", " ").split())
+    }
+    n = report.n_gold_spans
+    assert cells["1"][-1] == cells["2"][-1] == str(n)
+    assert str(2 * n) not in cells["sd"] and str(2 * n) not in cells["mean"]
+    assert cells["total"] == [str(2 * n)]
