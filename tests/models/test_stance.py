@@ -15,6 +15,7 @@ from extractor.models.cues import load_cues, rule_stance
 from extractor.models.stance import StanceModel
 from extractor.models.stance_features import stance_features
 from extractor.types import STANCES, Sentence, Span
+from tests.mams import SKIP_REASON, load_mams
 
 CUES = load_cues()
 
@@ -128,10 +129,9 @@ def test_stance_model_beats_majority_on_mams_by_15_points() -> None:
     # MAMS aspect-term sentiment (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0): every
     # sentence holds aspects of different polarities, so only span-relative features
     # can beat the majority class. Positive/negative/neutral read as liked/disliked/neutral.
-    mams = pytest.importorskip("mams", reason="tests/mams.py (the MAMS reader) is absent")
-    train, test = mams.load_mams("train"), mams.load_mams("test")
+    train, test = load_mams("train"), load_mams("test")
     if train is None or test is None:
-        pytest.skip(mams.SKIP_REASON)
+        pytest.skip(SKIP_REASON)
 
     def triples(rows: list[dict]) -> list[tuple[Sentence, Span, str]]:
         return [
