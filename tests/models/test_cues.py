@@ -10,25 +10,9 @@ import pytest
 from extractor.errors import InputError
 from extractor.models.cues import load_cues, rule_stance
 from extractor.models.stance_features import stance_features
-from extractor.types import Sentence, Span
-
-CUES = load_cues()
-
-
-def _mention(
-    text: str, term: str, lang: str = "en", question: str | None = None, nth: int = 0
-) -> tuple[Sentence, Span]:
-    """Build a sentence and the span of the ``nth`` occurrence of ``term`` in it."""
-    start = -1
-    for _ in range(nth + 1):
-        start = text.index(term, start + 1)
-    return Sentence(id=0, text=text, lang=lang, question=question), Span(start, start + len(term))
-
-
-def _features(text: str, term: str, lang: str = "en", question: str | None = None) -> dict:
-    sentence, span = _mention(text, term, lang, question)
-    return stance_features(sentence, span, CUES)
-
+from tests.models.toy import CUES
+from tests.models.toy import features as _features
+from tests.models.toy import mention as _mention
 
 # ------------------------------------------------------------------ cue lexicon
 

@@ -19,24 +19,8 @@ from extractor.models.linking import (
     linking_quality,
 )
 from extractor.types import Sentence, Span
-
-# Invented trait IDs, one alias per language.
-ALIASES = [
-    ("TX:01", "cooking time", "en"),
-    ("TX:01", "temps de cuisson", "fr"),
-    ("TX:01", "tiempo de cocción", "es"),
-    ("TX:02", "seed size", "en"),
-    ("TX:02", "taille des grains", "fr"),
-    ("TX:02", "tamaño del grano", "es"),
-    ("TX:03", "drought tolerance", "en"),
-    ("TX:03", "tolérance à la sécheresse", "fr"),
-    ("TX:03", "tolerancia a la sequía", "es"),
-]
-
-
-def _mention(text: str, term: str, lang: str = "en", sid: int = 0) -> tuple[Sentence, Span]:
-    start = text.index(term)
-    return Sentence(id=sid, text=text, lang=lang), Span(start, start + len(term))
+from tests.models.toy import ALIASES
+from tests.models.toy import mention as _mention
 
 
 @pytest.fixture(scope="module")

@@ -4,27 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from extractor.models.cues import load_cues
-from extractor.models.stance_features import stance_features
-from extractor.types import Sentence, Span
-
-CUES = load_cues()
-
-
-def _mention(
-    text: str, term: str, lang: str = "en", question: str | None = None, nth: int = 0
-) -> tuple[Sentence, Span]:
-    """Build a sentence and the span of the ``nth`` occurrence of ``term`` in it."""
-    start = -1
-    for _ in range(nth + 1):
-        start = text.index(term, start + 1)
-    return Sentence(id=0, text=text, lang=lang, question=question), Span(start, start + len(term))
-
-
-def _features(text: str, term: str, lang: str = "en", question: str | None = None) -> dict:
-    sentence, span = _mention(text, term, lang, question)
-    return stance_features(sentence, span, CUES)
-
+from tests.models.toy import features as _features
 
 # ------------------------------------------------------------------ negation (NegEx)
 # Triggers below come from the NegEx lists (Chapman et al., 2001, J Biomed Inform
