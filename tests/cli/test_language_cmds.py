@@ -2,42 +2,15 @@
 
 from __future__ import annotations
 
-import io
 import json
 from pathlib import Path
 
 import pytest
-from rich.console import Console
 
-from extractor.cli.main import main
 from extractor.types import Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
-
-# Invented answers (fictional varieties), one sentence each, by ISO 639-1 code.
-_TRIAL = {
-    "pt": (
-        "A mandioca Branquinha cozinha rápido e tem bom sabor.",
-        "Não gosto porque apodrece logo depois da colheita.",
-        "Aguenta bem a seca e dá muita raiz.",
-    ),
-    "sw": (
-        "Mavuno mengi kuliko Kibanda, na inakomaa mapema.",
-        "Sipendi kwa sababu mizizi inaoza haraka.",
-        "Nataka aina inayostahimili ukame.",
-    ),
-    "en": (
-        "The roots stay firm in the ground for a long time.",
-        "It gives a lot of flour and the flour is very white.",
-        "I would like a variety that matures early.",
-    ),
-}
-
-
-def run(*argv: str) -> tuple[int, str]:
-    buffer = io.StringIO()
-    code = main(list(argv), console=Console(file=buffer, width=200, force_terminal=False))
-    return code, buffer.getvalue()
+from tests.cli.trial import run, trial_lines
 
 
 def languages(ws: Path) -> dict[str, int]:
@@ -54,8 +27,7 @@ def trial(tmp_path: Path) -> Path:
     """
     ws = tmp_path / "ws"
     assert run("init", str(ws))[0] == 0
-    lines = ["respondent,question,answer"]
-    lines += [f"{lang}-{i},Why?,{t}" for lang, texts in _TRIAL.items() for i, t in enumerate(texts)]
+    lines = trial_lines()
     (tmp_path / "trial.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
     assert run("-w", str(ws), "add", str(tmp_path / "trial.csv"))[0] == 0
     with Workspace.open(ws) as opened:

@@ -2,22 +2,13 @@
 
 from __future__ import annotations
 
-import io
 import json
 from pathlib import Path
 
 import spacy
-from rich.console import Console
 
-from extractor.cli.main import main
 from extractor.models.cues import CUES_PATH
-
-
-def run(*argv: str, width: int = 200) -> tuple[int, str]:
-    """Run the command with a captured console of ``width`` columns; return (code, output)."""
-    buffer = io.StringIO()
-    code = main(list(argv), console=Console(file=buffer, width=width, force_terminal=False))
-    return code, buffer.getvalue()
+from tests.cli.trial import run, trial_lines
 
 
 def _answers(path: Path) -> Path:
@@ -43,26 +34,6 @@ def test_add_table_shows_a_long_path_in_full_on_a_narrow_terminal(tmp_path: Path
     assert "".join(body) == path.resolve().as_posix()
 
 
-# Invented answers (fictional varieties and places) in three languages, one sentence each.
-_TRIAL = {
-    "pt": (
-        "A mandioca Branquinha cozinha rápido e tem bom sabor.",
-        "Não gosto porque apodrece logo depois da colheita.",
-        "Aguenta bem a seca e dá muita raiz.",
-    ),
-    "sw": (
-        "Mavuno mengi kuliko Kibanda, na inakomaa mapema.",
-        "Sipendi kwa sababu mizizi inaoza haraka.",
-        "Nataka aina inayostahimili ukame.",
-    ),
-    "en": (
-        "The roots stay firm in the ground for a long time.",
-        "It gives a lot of flour and the flour is very white.",
-        "I would like a variety that matures early.",
-    ),
-}
-
-
 def _trial(tmp_path: Path) -> tuple[Path, Path]:
     """A workspace with a pt/sw/en concept list imported, and the trial's answer file."""
     ws = tmp_path / "ws"
@@ -76,10 +47,7 @@ def _trial(tmp_path: Path) -> tuple[Path, Path]:
         encoding="utf-8",
     )
     assert run("-w", str(ws), "concepts", "import", str(concepts))[0] == 0
-    lines = ["respondent,question,answer"]
-    lines += [
-        f"{lang}-{i},Why?,{text}" for lang, texts in _TRIAL.items() for i, text in enumerate(texts)
-    ]
+    lines = trial_lines()
     answers = tmp_path / "trial.csv"
     answers.write_text("\n".join(lines) + "\n", encoding="utf-8")
     return ws, answers
