@@ -13,6 +13,7 @@ from extractor.models.terms import suggest_terms as rank_terms
 from extractor.report.formats import spreadsheet_text
 from extractor.types import Span
 from extractor.workspace import store
+from extractor.workspace.files import atomic_open
 from extractor.workspace.folder import Workspace
 
 
@@ -125,7 +126,7 @@ def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
         elif alias.kind != "preferred":
             row[alias.kind].append(alias.text)
     header = ["id", "label", "lang", "synonyms", "hidden", "parent", "definition"]
-    with out.open("w", encoding="utf-8", newline="") as handle:
+    with atomic_open(out, newline="") as handle:
         writer = csv.writer(handle)
         writer.writerow([*header, "accepted_aliases"])
         for (concept_id, lang), row in sorted(rows.items()):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -13,6 +14,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from extractor.report.cells import write_table
 from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
+from extractor.workspace.files import atomic_path
 
 
 def chart_data(
@@ -49,6 +51,12 @@ def chart_title(grouping: str | None) -> str:
     return "Share of individual respondents liking each trait"
 
 
+def _save_png(fig: Any, path: Path) -> None:
+    """Save atomically: a kill or a full disk leaves the previous PNG in place."""
+    with atomic_path(path) as temp:
+        fig.savefig(temp, dpi=150, format="png")
+
+
 def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
     """Draw ``data`` from :func:`chart_data` as a horizontal grouped bar chart PNG."""
     # matplotlib is slow to import and only needed here
@@ -62,7 +70,7 @@ def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
         fig, ax = plt.subplots(figsize=(6, 2))
         ax.axis("off")
         ax.text(0.5, 0.5, "No linked traits to chart.", ha="center", va="center")
-        fig.savefig(path, dpi=150)
+        _save_png(fig, path)
         plt.close(fig)
         return
     fig, ax = plt.subplots(figsize=(8, 0.5 + 0.45 * max(1, len(data)) * max(1, len(series)) / 1.5))
@@ -79,7 +87,7 @@ def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
     if len(series) > 1:
         ax.legend()
     fig.tight_layout()
-    fig.savefig(path, dpi=150)
+    _save_png(fig, path)
     plt.close(fig)
 
 

@@ -25,7 +25,7 @@ import csv
 import json
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from pathlib import Path
-from typing import Any, TextIO
+from typing import Any
 
 import pandas as pd
 
@@ -34,6 +34,7 @@ from extractor.ingest.decode import FORMULA_GUARD, FORMULA_TRIGGERS
 from extractor.nlp.text import tokenize
 from extractor.report.inputs import plain_value
 from extractor.types import Sentence, Span
+from extractor.workspace.files import atomic_open
 
 ANNO_CONTEXT = "http://www.w3.org/ns/anno.jsonld"
 QUOTE_CONTEXT_CHARS = 32
@@ -42,14 +43,9 @@ EMPTY = "_"
 """CoNLL placeholder for an empty column."""
 
 
-def _open_for_writing(path: Path | str, newline: str | None = None) -> TextIO:
-    path = Path(path)
-    if not path.parent.is_dir():
-        raise InputError(f"The folder {str(path.parent)!r} for {path.name!r} does not exist.")
-    try:
-        return path.open("w", encoding="utf-8", newline=newline)
-    except OSError as exc:
-        raise InputError(f"Cannot write {str(path)!r}: {exc.strerror or exc}.") from exc
+def _open_for_writing(path: Path | str, newline: str | None = None) -> Any:
+    """Open ``path`` for an atomic UTF-8 write (:func:`extractor.workspace.files.atomic_open`)."""
+    return atomic_open(path, newline=newline)
 
 
 def spreadsheet_text(value: object) -> object:

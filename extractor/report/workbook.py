@@ -28,6 +28,7 @@ from extractor.report.tables import (
     trait_matrix,
     unlinked_terms,
 )
+from extractor.workspace.files import atomic_path
 
 SHEETS = {
     "preferred": "Traits per respondent",
@@ -64,13 +65,9 @@ def _write_about_sheet(wb: Workbook, frame: pd.DataFrame) -> None:
 
 
 def _save(wb: Workbook, path: Path) -> None:
-    try:
-        wb.save(path)
-    except OSError as exc:
-        raise InputError(
-            f"Cannot write the workbook {str(path)!r}: {exc.strerror or exc}; close it in any "
-            "spreadsheet program and check the folder is writable."
-        ) from exc
+    """Save atomically: a kill or a full disk leaves the previous workbook in place."""
+    with atomic_path(path) as temp:
+        wb.save(temp)
 
 
 def write_workbook(

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import csv
 import json
+from collections.abc import Callable
 from pathlib import Path
 
 import pandas as pd
@@ -266,3 +267,30 @@ def test_write_mentions_csv_keeps_negative_numbers_in_numeric_columns(tmp_path: 
     # Numbers are not formulas (OWASP, "CSV Injection", concerns text that a spreadsheet
     # evaluates); only the text cell gets the quote.
     assert rows == [{"sentence": "'-too bitter", "offset": "-3", "score": "-0.25", "note": ""}]
+
+
+# --- atomic writes: a failure mid-write keeps the previous export ----------------------
+
+
+def _failing_write(self: object, *args: object, **kwargs: object) -> None:
+    raise OSError(28, "No space left on device")
+
+
+@pytest.mark.parametrize(
+    "writer",
+    [write_mentions_csv, write_mentions_jsonl, write_web_annotations],
+    ids=["csv", "jsonl", "jsonld"],
+)
+def test_mention_writers_keep_the_previous_file_when_the_disk_fills(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, writer: Callable[..., int]
+) -> None:
+    out = tmp_path / "mentions.out"
+    writer(out, _mentions())
+    before = out.read_bytes()
+    monkeypatch.setattr(json, "dump", _failing_write)
+    monkeypatch.setattr(json, "dumps", _failing_write)
+    monkeypatch.setattr(pd.DataFrame, "to_csv", _failing_write)
+    with pytest.raises(InputError, match=r"mentions\.out.*unchanged"):
+        writer(out, _mentions())
+    assert out.read_bytes() == before
+    assert [p.name for p in tmp_path.iterdir()] == ["mentions.out"]

@@ -145,3 +145,21 @@ def test_write_workbook_without_any_mentions(tmp_path: Path) -> None:
     frame = pd.read_excel(out, sheet_name=SHEETS["preferred"])
     assert frame["Respondent"].tolist() == ["W1"]
     assert np.all(frame["Mentions"] == 0)
+
+
+def test_write_workbook_keeps_the_previous_workbook_when_saving_fails(
+    study: Study, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    out = tmp_path / "traits.xlsx"
+    write_workbook(out, *study, CONCEPTS, NO_FACTS)
+    before = out.read_bytes()
+
+    def half_then_full_disk(self: openpyxl.Workbook, filename: str | Path) -> None:
+        Path(filename).write_bytes(before[:100])
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(openpyxl.Workbook, "save", half_then_full_disk)
+    with pytest.raises(InputError, match=r"traits\.xlsx.*No space left"):
+        write_workbook(out, *study, CONCEPTS, NO_FACTS)
+    assert out.read_bytes() == before
+    assert [p.name for p in tmp_path.iterdir()] == ["traits.xlsx"]
