@@ -2,26 +2,34 @@
 
 from __future__ import annotations
 
+import re
 import shutil
+import time
 from collections.abc import Mapping, Sequence
 from dataclasses import asdict, dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from extractor.errors import ModelError, TraitsError
+from extractor.errors import ModelError, TraitsError, WorkspaceError
 from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
 from extractor.models.bundle import TrainingCounts, TraitModels
+from extractor.models.tagger import ALGORITHMS
+from extractor.models.tagger_training import SILVER_FILTERS
 from extractor.models.validation import CrossValidation, cross_validate
 from extractor.nlp.clusters import corpus_fingerprint, load_clusters
 from extractor.types import Sentence, Span
 from extractor.workspace import store
-from extractor.workspace.folder import Workspace
+from extractor.workspace.folder import SETTINGS_FILE, Workspace
 
 MIN_LABELS_FOR_CV = 20
 """Cross-validate a new version only when at least this many sentences are labeled."""
+VERSION_NAME = re.compile(r"v\d{3,}-\d{8}T\d{6}")
+"""The shape of :func:`new_version_name`: only such folders are ever removed."""
+ORPHAN_AGE_S = 600
+"""An unrecorded version folder younger than this may be another training saving now."""
 
 
 @dataclass(frozen=True)
@@ -68,6 +76,12 @@ def reusable_clusters(ws: Workspace, corpus: Sequence[Sentence]) -> dict[str, An
         return None
 
 
+_NOTHING_TO_TRAIN_ON = (
+    "There is nothing to train on yet: import a concept list with "
+    "`traits concepts import FILE`, or label sentences with `traits label`."
+)
+
+
 def _training_notes(held_out: frozenset[int], has_aliases: bool) -> list[str]:
     notes = []
     if held_out:
@@ -77,6 +91,72 @@ def _training_notes(held_out: frozenset[int], has_aliases: bool) -> list[str]:
         )
     if not has_aliases:
         notes.append("No concept list is imported, so the tagger learns from labels alone.")
+    return notes
+
+
+def check_tagger_settings(ws: Workspace) -> None:
+    """Refuse a tagger setting that training would reject, before anything is written.
+
+    Raises:
+        WorkspaceError: naming ``traits.toml``, the ``[tagger]`` section and the key.
+    """
+    tagger = ws.settings.tagger
+    problems = [
+        ("algorithm", tagger.algorithm, tagger.algorithm in ALGORITHMS, f"one of {ALGORITHMS}"),
+        (
+            "silver_filter",
+            tagger.silver_filter,
+            tagger.silver_filter in SILVER_FILTERS,
+            f"one of {SILVER_FILTERS}",
+        ),
+        ("gold_weight", tagger.gold_weight, tagger.gold_weight >= 1, "a whole number from 1"),
+        ("max_iterations", tagger.max_iterations, tagger.max_iterations >= 1, "from 1"),
+        ("c1", tagger.c1, tagger.c1 >= 0, "zero or more"),
+        ("c2", tagger.c2, tagger.c2 >= 0, "zero or more"),
+    ]
+    for key, value, ok, allowed in problems:
+        if not ok:
+            raise WorkspaceError(
+                f"{str(ws.root / SETTINGS_FILE)!r}, section [tagger]: {key} must be "
+                f"{allowed}; got {value!r}. Fix it and train again (nothing was written)."
+            )
+
+
+def tidy_model_folders(ws: Workspace) -> list[str]:
+    """Remove version folders the store never recorded (a killed training); report others.
+
+    Only folders named like a version (:data:`VERSION_NAME`) and untouched for
+    :data:`ORPHAN_AGE_S` seconds are removed: a younger one may be another training's
+    save in progress, and a folder of another name is the user's own.
+
+    Returns:
+        One note per folder removed or left in place.
+    """
+    if not ws.models_dir.is_dir():
+        return []
+    recorded = {(ws.root / m.path).resolve() for m in store.models(ws.conn)}
+    removed, left = [], []
+    for folder in sorted(p for p in ws.models_dir.iterdir() if p.is_dir()):
+        if folder.resolve() in recorded:
+            continue
+        old = time.time() - folder.stat().st_mtime > ORPHAN_AGE_S
+        if VERSION_NAME.fullmatch(folder.name) and old:
+            shutil.rmtree(folder, ignore_errors=True)
+            removed.append(folder.name)
+        else:
+            left.append(folder.name)
+    notes = []
+    if removed:
+        notes.append(
+            "Removed model folders an interrupted training left unrecorded: "
+            + ", ".join(removed)
+            + "."
+        )
+    if left:
+        notes.append(
+            f"Folders in {str(ws.models_dir)!r} that no model version records were left in "
+            "place: " + ", ".join(left) + " (delete them if no training is running)."
+        )
     return notes
 
 
@@ -90,19 +170,20 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     Raises:
         ModelError: neither a concept list nor labels are there to learn from.
     """
-    evaluation = set(ensure_samples(ws.conn, session_settings(ws))[0])
+    # Everything that can refuse is checked before the samples below are written.
+    check_tagger_settings(ws)
     labeled = gold_examples(ws)
-    gold = [(s, spans) for s, spans in labeled if s.id not in evaluation]
-    held_out = frozenset(s.id for s, _ in labeled if s.id in evaluation)
     aliases = alias_tuples(ws)
-    if not gold and not aliases:
-        raise ModelError(
-            "There is nothing to train on yet: import a concept list with "
-            "`traits concepts import FILE`, or label sentences with `traits label`."
-        )
+    if not labeled and not aliases:
+        raise ModelError(_NOTHING_TO_TRAIN_ON)
     if not store.counts(ws.conn)["sentences"]:
         raise ModelError("The workspace holds no sentences; add interviews with `traits add FILE`.")
-    notes = _training_notes(held_out, bool(aliases))
+    evaluation = set(ensure_samples(ws.conn, session_settings(ws))[0])
+    gold = [(s, spans) for s, spans in labeled if s.id not in evaluation]
+    held_out = frozenset(s.id for s, _ in labeled if s.id in evaluation)
+    if not gold and not aliases:
+        raise ModelError(_NOTHING_TO_TRAIN_ON)
+    notes = tidy_model_folders(ws) + _training_notes(held_out, bool(aliases))
     corpus = store.sentences(ws.conn)
     models = TraitModels(
         tagger_params=asdict(ws.settings.tagger),

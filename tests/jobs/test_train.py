@@ -2,8 +2,14 @@
 
 from __future__ import annotations
 
+import os
+import re
+import sqlite3
+import time
 from datetime import datetime
 from pathlib import Path
+
+import pytest
 
 from extractor.jobs.run import train_and_tag
 from extractor.jobs.train import new_version_name
@@ -55,3 +61,89 @@ def test_train_and_tag_report_what_the_store_holds(study: Path) -> None:
     assert done.tag.sentences == len(predicted) == n_sentences
     assert done.tag.mentions == len(mentions)
     assert done.tag.unlinked == sum(1 for m in mentions if m["concept"] is None)
+
+
+def _dump(root: Path) -> list[str]:
+    """Every row of the store as SQL (sqlite3's own dump), to compare before and after."""
+    conn = sqlite3.connect(root / "traits.sqlite")
+    try:
+        return list(conn.iterdump())
+    finally:
+        conn.close()
+
+
+def _set_setting(root: Path, line: str) -> None:
+    """Replace the template's line of the same key with ``line``."""
+    path = root / "traits.toml"
+    key = line.split("=")[0].strip()
+    text = re.sub(rf"(?m)^#?\s*{key} = .*$", line, path.read_text(encoding="utf-8"), count=1)
+    path.write_text(text, encoding="utf-8")
+
+
+def test_train_without_a_concept_list_or_labels_writes_nothing(study: Path) -> None:
+    assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
+    before = _dump(study)
+    code, out = run("-w", str(study), "train")
+    assert code == 1 and "concepts import" in out
+    assert _dump(study) == before
+    assert not any((study / "models").iterdir())
+
+
+@pytest.mark.parametrize(
+    ("line", "named"),
+    [
+        ('algorithm = "fastest"', "algorithm"),
+        ('silver_filter = "none"', "silver_filter"),
+        ("gold_weight = 0", "gold_weight"),
+    ],
+    ids=["algorithm", "silver-filter", "gold-weight"],
+)
+def test_train_with_a_bad_tagger_setting_writes_nothing(study: Path, line: str, named: str) -> None:
+    assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
+    assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
+    _set_setting(study, line)
+    before = _dump(study)
+    code, out = run("-w", str(study), "train")
+    assert code == 1 and named in out and "traits.toml" in out, out
+    assert _dump(study) == before
+    assert not any((study / "models").iterdir())
+
+
+def _trained(study: Path) -> None:
+    assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
+    assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
+
+
+def test_train_removes_model_folders_an_interrupted_training_left(study: Path) -> None:
+    _trained(study)
+    # What a kill during saving leaves: a version folder the store never recorded.
+    orphan = study / "models" / "v001-20260101T000000"
+    orphan.mkdir(parents=True)
+    (orphan / "tagger.crfsuite").write_bytes(b"half")
+    old = time.time() - 3600
+    os.utime(orphan, (old, old))
+    code, out = run("-w", str(study), "train")
+    assert code == 0, out
+    assert not orphan.exists()
+    assert "v001-20260101T000000" in out
+    recorded = {m.path for m in _models(study)}
+    assert {p.relative_to(study).as_posix() for p in (study / "models").iterdir()} == recorded
+
+
+def test_train_leaves_a_fresh_unrecorded_folder_and_other_folders_but_reports_them(
+    study: Path,
+) -> None:
+    _trained(study)
+    fresh = study / "models" / "v009-20260101T000000"  # maybe another training saving now
+    mine = study / "models" / "my notes"  # not a version name: the user's own
+    fresh.mkdir(parents=True)
+    mine.mkdir()
+    code, out = run("-w", str(study), "train")
+    assert code == 0, out
+    assert fresh.is_dir() and mine.is_dir()
+    assert "v009-20260101T000000" in out and "my notes" in out
+
+
+def _models(root: Path) -> list[store.ModelVersion]:
+    with Workspace.open(root) as ws:
+        return store.models(ws.conn)
