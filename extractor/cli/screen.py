@@ -81,6 +81,17 @@ def _stance_of(key: str) -> str | None:
     return STANCE_KEYS.get(key) or (key if key in STANCES else None)
 
 
+MAX_LINE = 500
+"""Longest line the screen takes; a longer one (a paste by mistake) is refused."""
+ECHO_CHARS = 120
+"""Characters of a piped line echoed back; rich's highlighter is quadratic in length."""
+
+
+def clip(text: str, limit: int = ECHO_CHARS) -> str:
+    """Return ``text`` cut to ``limit`` characters, with an ellipsis when cut."""
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
 class _Quit(Exception):
     """The annotator asked to stop (``q``, end of input)."""
 
@@ -108,11 +119,19 @@ class LabelScreen:
     # ----------------------------------------------------------------- prompts
 
     def ask(self, prompt: str) -> str:
-        """Read one line; end of input quits."""
-        line = self._read(prompt)
-        if line is None:
-            raise _Quit
-        return line.strip()
+        """Read one line; end of input quits; a line over :data:`MAX_LINE` is asked again."""
+        while True:
+            line = self._read(prompt)
+            if line is None:
+                raise _Quit
+            if len(line) <= MAX_LINE:
+                return line.strip()
+            self.console.print(
+                Text(
+                    f"That line has {len(line):,} characters; a command or the words to mark "
+                    f"take at most {MAX_LINE}. Nothing was changed."
+                )
+            )
 
     def say(self, message: str) -> None:
         """Show a one-line message under the sentence on the next redraw."""
@@ -413,7 +432,7 @@ def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str
         if line == "":
             return None
         if not console.is_terminal:
-            console.print(escape(line.rstrip("\n")))
+            console.print(escape(clip(line.rstrip("\n"))), highlight=False)
         return line.rstrip("\r\n")
 
     return read_stream

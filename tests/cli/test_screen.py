@@ -529,3 +529,17 @@ def test_status_line_counts_updates_after_the_saved_version(conn: sqlite3.Connec
         "model v002, updated once with this session's labels"
     )
     assert session.behind == 0  # the update learned every label
+
+
+def test_screen_refuses_a_very_long_line_without_echoing_it_whole(
+    conn: sqlite3.Connection,
+) -> None:
+    long = "cooks fast " * 2_000  # 22,000 characters, e.g. a file pasted by mistake
+    started = time.perf_counter()
+    summary, shown = _run(conn, [long, "q"])
+    elapsed = time.perf_counter() - started
+    assert summary.labeled == 0
+    assert "22,000 characters" in shown
+    # The echo is cut: no shown line holds more than a screen's worth of the paste.
+    assert max(len(line) for line in shown.splitlines()) < 400
+    assert elapsed < 10, elapsed  # rich's highlighter took 5.5 s for 20,000 characters
