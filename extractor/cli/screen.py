@@ -36,11 +36,14 @@ from rich.text import Text
 
 from extractor.cli.screen_draw import (
     HELP_TEXT,
+    MAX_LINE,
     Figures,
     Quality,
+    clip,
     concept_label,
     draw_item,
     figures_text,
+    too_long,
 )
 from extractor.errors import TraitsError
 from extractor.loop.items import Item, SessionSummary
@@ -81,17 +84,6 @@ def _stance_of(key: str) -> str | None:
     return STANCE_KEYS.get(key) or (key if key in STANCES else None)
 
 
-MAX_LINE = 500
-"""Longest line the screen takes; a longer one (a paste by mistake) is refused."""
-ECHO_CHARS = 120
-"""Characters of a piped line echoed back; rich's highlighter is quadratic in length."""
-
-
-def clip(text: str, limit: int = ECHO_CHARS) -> str:
-    """Return ``text`` cut to ``limit`` characters, with an ellipsis when cut."""
-    return text if len(text) <= limit else text[: limit - 1] + "…"
-
-
 class _Quit(Exception):
     """The annotator asked to stop (``q``, end of input)."""
 
@@ -126,12 +118,7 @@ class LabelScreen:
                 raise _Quit
             if len(line) <= MAX_LINE:
                 return line.strip()
-            self.console.print(
-                Text(
-                    f"That line has {len(line):,} characters; a command or the words to mark "
-                    f"take at most {MAX_LINE}. Nothing was changed."
-                )
-            )
+            self.console.print(Text(too_long(line)))
 
     def say(self, message: str) -> None:
         """Show a one-line message under the sentence on the next redraw."""

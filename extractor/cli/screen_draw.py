@@ -62,6 +62,25 @@ _ORIGIN = {
 }
 
 
+MAX_LINE = 500
+"""Longest line the screen takes; a longer one (a paste by mistake) is refused."""
+ECHO_CHARS = 120
+"""Characters of a piped line echoed back; rich's highlighter is quadratic in length."""
+
+
+def clip(text: str, limit: int = ECHO_CHARS) -> str:
+    """Return ``text`` cut to ``limit`` characters, with an ellipsis when cut."""
+    return text if len(text) <= limit else text[: limit - 1] + "…"
+
+
+def too_long(line: str) -> str:
+    """Return the message for a line over :data:`MAX_LINE` characters."""
+    return (
+        f"That line has {len(line):,} characters; a command or the words to mark take at "
+        f"most {MAX_LINE}. Nothing was changed."
+    )
+
+
 def model_name(session: Session) -> str:
     """Return which model suggests: its saved version and the updates made in this session."""
     s = session

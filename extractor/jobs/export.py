@@ -72,7 +72,23 @@ def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOpti
         secret=workspace_secret(ws),
         names=names,
         drop_columns=settings.identifying_columns,
+        phone_regions=phone_regions(ws),
     )
+
+
+def phone_regions(ws: Workspace) -> tuple[str, ...]:
+    """Return the regions whose phone formats are screened.
+
+    They are the settings' ``phone_regions`` and the region subtags (BCP 47: two letters
+    after the language) of the settings' languages and of the stored answers' tags.
+    """
+    tags = list(ws.settings.workspace.languages)
+    tags += [a.lang for a in store.answers(ws.conn)]
+    regions = [r.upper() for r in ws.settings.export.phone_regions]
+    for tag in dict.fromkeys(tags):
+        subtags = str(tag).replace("_", "-").split("-")[1:]
+        regions += [t.upper() for t in subtags if len(t) == 2 and t.isalpha()]
+    return tuple(dict.fromkeys(regions))
 
 
 def group_columns(

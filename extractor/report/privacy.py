@@ -29,7 +29,7 @@ from typing import Any
 import pandas as pd
 
 from extractor.errors import InputError
-from extractor.nlp.fold import fold_with_offsets
+from extractor.nlp.identifiers import Screening, find_identifiers, identifying_value
 
 MIN_SECRET_BYTES = 16
 """Shortest secret accepted; RFC 2104 advises against keys much shorter than the hash."""
@@ -53,7 +53,13 @@ DEFAULT_IDENTIFYING = (
     "national_id",
     "id_number",
 )
-"""Metadata columns dropped by default when pseudonymising (compared case-insensitively)."""
+"""Metadata columns always dropped when pseudonymising (compared case-insensitively, also
+as the last or first word of a longer name: ``respondent_name``, ``phone_2``)."""
+NAME_COLUMNS = ("name", "full_name", "first_name", "last_name", "surname")
+"""Columns whose values are also screened out of free text as names."""
+VALUE_SHARE = 0.5
+"""A column is identifying when at least this share of its filled cells is a phone,
+an e-mail or a coordinate pair (common practice: a majority)."""
 
 TEXT_COLUMNS = ("sentence", "span_text", "question")
 """Mention columns holding free text that is screened."""
@@ -66,12 +72,16 @@ class PrivacyOptions:
     Attributes:
         secret: Key of the keyed hash; keep it in the workspace, never in the export.
         names: Names (people, places) to replace with ``[name]`` in free text.
-        drop_columns: Respondent metadata columns removed from the export.
+        drop_columns: Respondent metadata columns removed from the export, besides
+            :data:`DEFAULT_IDENTIFYING` (a list from the settings adds to it, never
+            replaces it).
+        phone_regions: ISO 3166 regions whose national phone formats are screened.
     """
 
     secret: bytes
     names: tuple[str, ...] = ()
     drop_columns: tuple[str, ...] = field(default=DEFAULT_IDENTIFYING)
+    phone_regions: tuple[str, ...] = ()
 
 
 def new_secret() -> bytes:
@@ -121,65 +131,18 @@ def pseudonym_map(respondent_ids: Iterable[str], secret: bytes) -> dict[str, str
 
 # --- screening -----------------------------------------------------------------------
 
-_EMAIL = re.compile(r"(?<![\w.+-])[\w.+-]+@[\w-]+(?:\.[\w-]+)+", re.UNICODE)
-# International: +CC then 6-14 more digits in groups separated by space, dot, dash or
-# brackets. Local: a leading 0 then 8-11 more digits in groups (0712-345-678).
-_PHONE = re.compile(
-    r"(?<![\w+])(?:\+|00)\d{1,3}(?:[ .\-]?\(?\d{1,4}\)?){2,5}(?!\w)"
-    r"|(?<![\w+])\(?0\d{1,4}\)?(?:[ .\-]?\d{2,4}){2,4}(?!\w)"
-)
-# Letters+digits (A1234567, KE12345678) or digit groups with separators, e.g. 12-345678-9.
-_ID_NUMBER = re.compile(
-    r"(?<!\w)(?:[A-Za-z]{1,3}\d{6,}|\d{6,}[A-Za-z]{1,2}|\d+(?:[/\-]\d+)+|\d{6,})(?!\w)"
-)
-_DATE = re.compile(r"\d{1,2}[/\-.]\d{1,2}[/\-.](?:\d{2}|\d{4})|\d{4}-\d{1,2}-\d{1,2}")
 
-
-def _digits(s: str) -> int:
-    return sum(ch.isdigit() for ch in s)
-
-
-def _name_pattern(names: Iterable[str]) -> re.Pattern[str] | None:
-    parts = []
-    for name in names:
-        folded, _ = fold_with_offsets(str(name).strip())
-        words = folded.split()
-        if words:
-            parts.append(r"\s+".join(re.escape(w) for w in words))
-    if not parts:
-        return None
-    parts.sort(key=len, reverse=True)  # "Ana Maria" before "Ana"
-    return re.compile(r"(?<!\w)(?:" + "|".join(parts) + r")(?!\w)")
-
-
-def redactions(text: str, names: Iterable[str] = ()) -> list[tuple[int, int, str]]:
+def redactions(text: str, names: Iterable[str] = (), **more: Any) -> list[tuple[int, int, str]]:
     """Return the non-overlapping ``(start, end, tag)`` stretches of ``text`` to replace.
 
-    Earlier kinds win where stretches overlap: e-mail, phone, ID number, then name.
+    Earlier kinds win where stretches overlap: e-mail, phone, ID number, respondent ID,
+    then name (:func:`extractor.nlp.identifiers.find_identifiers`). ``ids`` and
+    ``regions`` may be given by keyword (see :class:`~extractor.nlp.identifiers.Screening`).
     """
-    found: list[tuple[int, int, str]] = []
-
-    def free(a: int, b: int) -> bool:
-        return all(b <= s or a >= e for s, e, _ in found)
-
-    for m in _EMAIL.finditer(text):
-        found.append((m.start(), m.end(), "[email]"))
-    for m in _PHONE.finditer(text):
-        if _digits(m.group()) >= 8 and free(m.start(), m.end()):
-            found.append((m.start(), m.end(), "[phone]"))
-    for m in _ID_NUMBER.finditer(text):
-        s = m.group()
-        # Dates and short codes ("2-3 bags", "12/05/2023") are not identifiers.
-        if _digits(s) >= 6 and not _DATE.fullmatch(s) and free(m.start(), m.end()):
-            found.append((m.start(), m.end(), "[id-number]"))
-    pattern = _name_pattern(names)
-    if pattern is not None:
-        folded, where = fold_with_offsets(text)
-        for m in pattern.finditer(folded):
-            a, b = where[m.start()], where[m.end() - 1] + 1
-            if free(a, b):
-                found.append((a, b, "[name]"))
-    return sorted(found)
+    screening = Screening(
+        names=tuple(names), ids=tuple(more.get("ids", ())), regions=tuple(more.get("regions", ()))
+    )
+    return find_identifiers(text, screening)
 
 
 def _apply(text: str, found: Sequence[tuple[int, int, str]]) -> str:
@@ -192,19 +155,23 @@ def _apply(text: str, found: Sequence[tuple[int, int, str]]) -> str:
     return "".join(out)
 
 
-def screen_text(text: str, names: Iterable[str] = ()) -> str:
-    """Return ``text`` with phones, e-mails, ID-like numbers and listed names replaced.
+def screen_text(
+    text: str, names: Iterable[str] = (), *, ids: Iterable[str] = (), regions: Iterable[str] = ()
+) -> str:
+    """Return ``text`` with phones, e-mails, ID-like numbers, IDs and listed names replaced.
 
-    Names match whole words, ignoring case and accents ("José" matches "jose").
+    Names and IDs match whole words, ignoring case and accents ("José" matches "jose").
 
     Args:
         text: Free text from an interview.
         names: Names to hide; multi-word names match across any whitespace.
+        ids: The workspace's respondent IDs, replaced with ``[respondent]``.
+        regions: ISO 3166 regions whose national phone formats are recognised.
 
     Returns:
         The screened text, e.g. ``"call [name] on [phone]"``.
     """
-    return _apply(text, redactions(text, names))
+    return _apply(text, redactions(text, names, ids=ids, regions=regions))
 
 
 def _shift(offset: int, found: Sequence[tuple[int, int, str]], *, is_end: bool) -> int:
@@ -221,7 +188,7 @@ def _shift(offset: int, found: Sequence[tuple[int, int, str]], *, is_end: bool) 
 
 
 def _screen_sentence(
-    sent: Any, start: Any, end: Any, names: Sequence[str]
+    sent: Any, start: Any, end: Any, screening: Screening
 ) -> tuple[Any, Any, Any, str | None]:
     """Return the screened sentence, the span's moved offsets and its screened text.
 
@@ -230,7 +197,7 @@ def _screen_sentence(
     """
     if not isinstance(sent, str):
         return sent, start, end, None
-    found = redactions(sent, names)
+    found = find_identifiers(sent, screening)
     new = _apply(sent, found)
     if not (pd.notna(start) and pd.notna(end)):
         return new, start, end, None
@@ -239,18 +206,25 @@ def _screen_sentence(
     return new, s2, e2, new[s2:e2]
 
 
-def screen_mentions(mentions: pd.DataFrame, names: Iterable[str] = ()) -> pd.DataFrame:
+def screen_mentions(
+    mentions: pd.DataFrame, names: Iterable[str] = (), screening: Screening | None = None
+) -> pd.DataFrame:
     """Return mentions with screened sentence, span and question texts.
 
     ``start``/``end`` are moved so they still index the screened sentence;
     ``span_text`` becomes that stretch of the screened sentence. ``answer_start``
     and ``answer_end`` keep pointing into the stored answer, which is not changed.
     """
-    names = tuple(names)
+    screening = screening or Screening()
+    screening = Screening(tuple(names) + screening.names, screening.ids, screening.regions)
+
+    def screen(t: Any) -> Any:
+        return _apply(t, find_identifiers(t, screening)) if isinstance(t, str) else t
+
     out = mentions.copy()
     if "sentence" in out.columns:
         screened = [
-            _screen_sentence(sent, start, end, names)
+            _screen_sentence(sent, start, end, screening)
             for sent, start, end in zip(
                 out["sentence"],
                 out.get("start", [None] * len(out)),
@@ -263,31 +237,79 @@ def screen_mentions(mentions: pd.DataFrame, names: Iterable[str] = ()) -> pd.Dat
             out["start"] = [row[1] for row in screened]
             out["end"] = [row[2] for row in screened]
             if "span_text" in out.columns:
-                fallback = out["span_text"].map(
-                    lambda t: screen_text(t, names) if isinstance(t, str) else t
-                )
+                fallback = out["span_text"].map(screen)
                 out["span_text"] = [
                     row[3] if row[3] is not None else f
                     for row, f in zip(screened, fallback, strict=True)
                 ]
     for col in TEXT_COLUMNS:
         if col in out.columns and col not in ("sentence", "span_text"):
-            out[col] = out[col].map(lambda t: screen_text(t, names) if isinstance(t, str) else t)
+            out[col] = out[col].map(screen)
     if "span_text" in out.columns and "sentence" not in out.columns:
-        out["span_text"] = out["span_text"].map(
-            lambda t: screen_text(t, names) if isinstance(t, str) else t
-        )
+        out["span_text"] = out["span_text"].map(screen)
     return out
 
 
+def _norm(column: Any) -> str:
+    return re.sub(r"[\s\-_]+", "_", str(column).strip().casefold())
+
+
 def identifying_columns(columns: Iterable[str], drop: Iterable[str]) -> list[str]:
-    """Return the columns whose names match ``drop``, ignoring case, spaces and dashes."""
+    """Return the columns named in ``drop``, ignoring case, spaces and dashes.
 
-    def norm(c: str) -> str:
-        return re.sub(r"[\s\-_]+", "_", str(c).strip().casefold())
+    A listed name also matches as the first or last word of a longer column name
+    (``name`` finds ``respondent_name``; ``phone`` finds ``phone_2``).
+    """
+    wanted = {_norm(d) for d in drop}
 
-    wanted = {norm(d) for d in drop}
-    return [c for c in columns if norm(c) in wanted]
+    def named(c: str) -> bool:
+        n = _norm(c)
+        return n in wanted or any(n.endswith("_" + w) or n.startswith(w + "_") for w in wanted)
+
+    return [c for c in columns if named(c)]
+
+
+def identifying_by_values(
+    frame: pd.DataFrame, regions: Iterable[str] = ()
+) -> list[tuple[str, str]]:
+    """Return ``(column, kind)`` for columns whose cells are mostly phones, e-mails, places.
+
+    A cell counts when it is wholly an e-mail, a phone number or a coordinate pair
+    (:func:`extractor.nlp.identifiers.identifying_value`).
+    """
+    regions = tuple(regions)
+    found = []
+    for column in frame.columns:
+        if column == "respondent":
+            continue
+        cells = [str(v) for v in frame[column] if isinstance(v, str) and v.strip()]
+        kinds = [k for k in (identifying_value(v, regions) for v in cells) if k]
+        if cells and len(kinds) >= VALUE_SHARE * len(cells):
+            found.append((str(column), max(set(kinds), key=kinds.count)))
+    return found
+
+
+def dropped_columns(respondents: pd.DataFrame, options: PrivacyOptions) -> list[tuple[str, str]]:
+    """Return ``(column, why)`` for every respondent column a pseudonymised export drops."""
+    listed = identifying_columns(
+        [c for c in respondents.columns if c != "respondent"],
+        DEFAULT_IDENTIFYING + tuple(options.drop_columns),
+    )
+    out = [(c, "named as identifying") for c in listed]
+    rest = respondents.drop(columns=listed)
+    out += [
+        (c, f"values look like {kind}")
+        for c, kind in identifying_by_values(rest, options.phone_regions)
+    ]
+    return out
+
+
+def _screening(ids: pd.Series, respondents: pd.DataFrame, options: PrivacyOptions) -> Screening:
+    """Return an export's screening: names given and in name columns, IDs, phone regions."""
+    names = list(options.names)
+    for column in identifying_columns(respondents.columns, NAME_COLUMNS):
+        names += [str(v) for v in respondents[column] if isinstance(v, str) and v.strip()]
+    return Screening(tuple(names), tuple(ids.astype(str).unique()), options.phone_regions)
 
 
 def pseudonymise_frames(
@@ -314,10 +336,10 @@ def pseudonymise_frames(
     def swap(col: pd.Series) -> pd.Series:
         return col.map(lambda r: mapping[str(r)] if pd.notna(r) else r)
 
-    m = screen_mentions(mentions, options.names)
+    m = screen_mentions(mentions, screening=_screening(ids, respondents, options))
     if "respondent" in m.columns:
         m["respondent"] = swap(m["respondent"])
-    r = respondents.drop(columns=identifying_columns(respondents.columns, options.drop_columns))
+    r = respondents.drop(columns=[c for c, _ in dropped_columns(respondents, options)])
     r = r.copy()
     if "respondent" in r.columns:
         r["respondent"] = swap(r["respondent"])

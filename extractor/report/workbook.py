@@ -20,7 +20,12 @@ from extractor.report.about import RunFacts, about_table, export_counts
 from extractor.report.cells import HEADER_FONT, write_table
 from extractor.report.chart import chart_data, chart_title, write_chart_png, write_chart_sheet
 from extractor.report.inputs import prepare
-from extractor.report.privacy import PrivacyOptions, identifying_columns
+from extractor.report.privacy import (
+    DEFAULT_IDENTIFYING,
+    PrivacyOptions,
+    dropped_columns,
+    identifying_columns,
+)
 from extractor.report.summary import SUMMARY_NOTES, trait_summary
 from extractor.report.tables import (
     mention_evidence,
@@ -48,7 +53,7 @@ def _check_target(path: Path, group_by: Sequence[str], pseudonymise: PrivacyOpti
     if not path.parent.is_dir():
         raise InputError(f"The folder {str(path.parent)!r} for the workbook does not exist.")
     if pseudonymise is not None:
-        dropped = identifying_columns(group_by, pseudonymise.drop_columns)
+        dropped = identifying_columns(group_by, DEFAULT_IDENTIFYING + pseudonymise.drop_columns)
         if dropped:
             raise InputError(
                 f"The grouping column {dropped[0]!r} is dropped as identifying when "
@@ -62,6 +67,17 @@ def _write_about_sheet(wb: Workbook, frame: pd.DataFrame) -> None:
     ws.column_dimensions["B"].width = 80
     ws.cell(row=2, column=1).font = HEADER_FONT  # the caution row stands out
     ws.cell(row=2, column=2).font = HEADER_FONT
+
+
+def _dropped_rows(
+    respondents: pd.DataFrame, pseudonymise: PrivacyOptions | None
+) -> list[tuple[str, str]]:
+    """Return the About row that lists the columns a pseudonymised export left out."""
+    if pseudonymise is None:
+        return []
+    dropped = dropped_columns(respondents, pseudonymise)
+    listed = "; ".join(f"{c} ({why})" for c, why in dropped) or "none"
+    return [("Columns dropped as identifying", listed)]
 
 
 def _save(wb: Workbook, path: Path) -> None:
@@ -114,6 +130,7 @@ def write_workbook(
     written: list[tuple[str, Any]] = [
         ("Minimum tagger confidence", min_confidence if min_confidence is not None else "none"),
         ("Pseudonymised", "yes" if pseudonymise is not None else "no"),
+        *_dropped_rows(respondents, pseudonymise),
         ("Written", datetime.now().isoformat(timespec="seconds")),
     ]
     tables = [

@@ -94,7 +94,11 @@ class ExportSettings:
         "respondent columns to compare groups by, when present",
     )
     identifying_columns: tuple[str, ...] = _setting(
-        ("name", "phone", "village", "address"), "respondent columns never exported"
+        ("name", "phone", "village", "address"),
+        "respondent columns never exported, besides the built-in list",
+    )
+    phone_regions: tuple[str, ...] = _setting(
+        (), "ISO 3166 regions whose phone formats are screened (besides those of the languages)"
     )
     names_file: str = _setting("", "a text file of names to screen out of pseudonymised quotes")
     min_confidence: float = _setting(

@@ -7,6 +7,7 @@ counts are worked out from what it stores. All people and trait IDs are invented
 from __future__ import annotations
 
 import csv
+import dataclasses
 import json
 from collections.abc import Iterator
 from pathlib import Path
@@ -131,3 +132,16 @@ def test_group_columns_chosen_must_exist(ws: Workspace) -> None:
     assert group_columns(ws, respondents, ["gender"]) == ["gender"]
     with pytest.raises(InputError, match="No respondent column 'region'; choose from gender."):
         group_columns(ws, respondents, ["region"])
+
+
+def test_privacy_options_take_phone_regions_from_language_tags_and_settings(
+    ws: Workspace,
+) -> None:
+    settings = ws.settings
+    changed = dataclasses.replace(
+        settings,
+        workspace=dataclasses.replace(settings.workspace, languages=("en-KE", "sw", "pt-MZ")),
+        export=dataclasses.replace(settings.export, phone_regions=("in",)),
+    )
+    options = privacy_options(dataclasses.replace(ws, settings=changed))
+    assert set(options.phone_regions) >= {"KE", "MZ", "IN"}

@@ -11,6 +11,8 @@ import pytest
 from extractor.errors import InputError
 from extractor.report.privacy import (
     PrivacyOptions,
+    dropped_columns,
+    identifying_by_values,
     new_secret,
     pseudonym,
     pseudonym_map,
@@ -171,3 +173,95 @@ def test_pseudonymise_frames_drops_identifying_columns() -> None:
     assert r.loc[0, "respondent"] == m.loc[0, "respondent"] == pseudonym("KOR-017", SECRET)
     assert m.loc[0, "sentence"] == "[name] likes it"
     assert m.loc[0, "span_text"] == "likes"
+
+
+# --- identifying columns: merged lists, and recognised by their values ------------------
+
+USER_LIST = ("name", "phone", "village", "address")  # a traits.toml list shorter than ours
+
+
+def _respondents() -> pd.DataFrame:
+    # Invented people; the phone numbers follow the national plans of the regions named.
+    return pd.DataFrame(
+        {
+            "respondent": ["OMB-777", "OMB-778", "OMB-779"],
+            "gender": ["woman", "man", "woman"],
+            "email": ["zawadi@example.org", "", "tumaini@example.net"],
+            "mobile": ["0712 345 678", "0723 456 789", ""],
+            "gps": ["-1.29210, 36.82190", "-1.30001, 36.80002", "-1.31000, 36.79999"],
+            "national_id": ["KX1234567", "KX7654321", "KX5555555"],
+            "respondent_name": ["Zawadi Achieng", "Baraka Otieno", "Tumaini Wekesa"],
+            "contact": ["+254 733 111 222", "zuri@example.com", "0711 222 333"],
+            "where": ["-1.2921 36.8219", "-1.3000 36.8000", "-1.3100 36.7999"],
+            "district": ["Lumoro", "Keth", "Lumoro"],
+            "age": [34, 51, 29],
+            "notes": ["sells at market", "", "grows two varieties"],
+        }
+    )
+
+
+def test_pseudonymise_frames_merges_a_settings_list_with_the_built_in_one() -> None:
+    options = PrivacyOptions(secret=SECRET, drop_columns=USER_LIST, phone_regions=("KE",))
+    _, r = pseudonymise_frames(pd.DataFrame({"respondent": []}), _respondents(), options)
+    assert list(r.columns) == ["respondent", "gender", "district", "age", "notes"]
+
+
+def test_identifying_by_values_finds_phones_emails_and_coordinates() -> None:
+    found = dict(identifying_by_values(_respondents(), ("KE",)))
+    assert set(found) == {"email", "mobile", "gps", "contact", "where"}
+    assert "phone" in found["mobile"] and "e-mail" in found["email"] and "coord" in found["gps"]
+
+
+def test_dropped_columns_say_why() -> None:
+    options = PrivacyOptions(secret=SECRET, drop_columns=USER_LIST, phone_regions=("KE",))
+    dropped = dict(dropped_columns(_respondents(), options))
+    assert set(dropped) == {
+        "email",
+        "mobile",
+        "gps",
+        "national_id",
+        "respondent_name",
+        "contact",
+        "where",
+    }
+
+
+# --- screening: phone numbers by region, the workspace's own respondent IDs ------------
+
+
+@pytest.mark.parametrize(
+    ("text", "region", "expected"),
+    [
+        ("call me on 98765 43210 please", "IN", "call me on [phone] please"),
+        ("my number is 712 345 678.", "KE", "my number is [phone]."),
+        ("we sold 2000 bags in 2023 for 150000", "KE", None),
+        ("it took 3 to 4 weeks, 1998-2003", "KE", None),
+    ],
+    ids=["india-mobile", "kenya-mobile-no-prefix", "amounts", "ranges"],
+)
+def test_screen_text_finds_national_phone_formats_of_named_regions(
+    text: str, region: str, expected: str | None
+) -> None:
+    # Valid numbers by the national numbering plans phonenumbers ships (libphonenumber);
+    # amounts and year ranges are no phone numbers (six-digit amounts are hidden as
+    # ID-like numbers, a separate older rule).
+    screened = screen_text(text, regions=(region,))
+    if expected is None:
+        assert "[phone]" not in screened
+    else:
+        assert screened == expected
+
+
+def test_pseudonymise_frames_screens_the_workspaces_respondent_ids_and_names() -> None:
+    mentions = pd.DataFrame(
+        {
+            "respondent": ["OMB-778"],
+            "sentence": ["Respondent OMB-777 told me Zawadi Achieng grows it"],
+            "question": ["Did omb-779 or Baraka Otieno plant it?"],
+        }
+    )
+    m, _ = pseudonymise_frames(
+        mentions, _respondents(), PrivacyOptions(secret=SECRET, phone_regions=("KE",))
+    )
+    assert m.loc[0, "sentence"] == "Respondent [respondent] told me [name] grows it"
+    assert m.loc[0, "question"] == "Did [respondent] or [name] plant it?"

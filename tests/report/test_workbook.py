@@ -163,3 +163,27 @@ def test_write_workbook_keeps_the_previous_workbook_when_saving_fails(
         write_workbook(out, *study, CONCEPTS, NO_FACTS)
     assert out.read_bytes() == before
     assert [p.name for p in tmp_path.iterdir()] == ["traits.xlsx"]
+
+
+def test_write_workbook_about_sheet_lists_the_columns_pseudonymising_dropped(
+    study: Study, tmp_path: Path
+) -> None:
+    mentions, respondents = study
+    respondents = respondents.assign(
+        mobile="0712 345 678", contact="someone@example.org", respondent_name="Zawadi"
+    )
+    out = tmp_path / "p.xlsx"
+    write_workbook(
+        out,
+        mentions,
+        respondents,
+        CONCEPTS,
+        NO_FACTS,
+        pseudonymise=PrivacyOptions(secret=SECRET, drop_columns=("village",)),
+    )
+    about = {row[0]: row[1] for row in openpyxl.load_workbook(out)[SHEETS["about"]].values}
+    dropped = about["Columns dropped as identifying"]
+    for column in ("mobile", "contact", "respondent_name"):
+        assert column in dropped
+    cells = [str(v) for v in _all_cells(out) if v is not None]
+    assert not any("0712 345 678" in c or "someone@example.org" in c for c in cells)

@@ -1,0 +1,178 @@
+"""Finding what identifies a person in free text: phones, e-mails, ID numbers, names, IDs.
+
+One screening, used twice:
+
+* exports replace each stretch with a tag (``[phone]``, ``[email]``, ``[id-number]``,
+  ``[respondent]``, ``[name]``; :mod:`extractor.report.privacy`);
+* training masks each stretch with a same-length placeholder before any feature,
+  cluster or vocabulary is learned (:func:`mask_identifiers`), so that model files
+  never hold them. Such words never generalise to other people anyway.
+
+Phone numbers are found twice over: a pattern for international (``+`` or ``00``) and
+zero-prefixed national numbers, and Google's libphonenumber (the ``phonenumbers``
+package) for the national plans of the regions a workspace names (ISO 3166-1 alpha-2,
+e.g. ``KE``): a number such as ``712 345 678`` is valid only by its region's plan.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+import phonenumbers
+
+from extractor.nlp.fold import fold_with_offsets
+
+Stretch = tuple[int, int, str]
+"""``(start, end, tag)``: characters of a text to hide, and what they were."""
+
+_EMAIL = re.compile(r"(?<![\w.+-])[\w.+-]+@[\w-]+(?:\.[\w-]+)+", re.UNICODE)
+# International: +CC then 6-14 more digits in groups separated by space, dot, dash or
+# brackets. Local: a leading 0 then 8-11 more digits in groups (0712-345-678).
+_PHONE = re.compile(
+    r"(?<![\w+])(?:\+|00)\d{1,3}(?:[ .\-]?\(?\d{1,4}\)?){2,5}(?!\w)"
+    r"|(?<![\w+])\(?0\d{1,4}\)?(?:[ .\-]?\d{2,4}){2,4}(?!\w)"
+)
+# Letters+digits (A1234567, KE12345678) or digit groups with separators, e.g. 12-345678-9.
+_ID_NUMBER = re.compile(
+    r"(?<!\w)(?:[A-Za-z]{1,3}\d{6,}|\d{6,}[A-Za-z]{1,2}|\d+(?:[/\-]\d+)+|\d{6,})(?!\w)"
+)
+_DATE = re.compile(r"\d{1,2}[/\-.]\d{1,2}[/\-.](?:\d{2}|\d{4})|\d{4}-\d{1,2}-\d{1,2}")
+_YEARS = re.compile(r"(?:1[89]|20)\d\d\s*[-–/]\s*(?:(?:1[89]|20)\d\d|\d\d)")
+COORDINATES = re.compile(r"\s*[-+]?\d{1,2}\.\d{3,}\s*[,; ]\s*[-+]?\d{1,3}\.\d{3,}\s*")
+"""A decimal-degree latitude and longitude pair, as GPS apps write it."""
+MIN_PHONE_DIGITS = 8
+MIN_ID_CHARS = 3
+"""Shorter respondent IDs ("R1", "12") are not screened: they are ordinary words and numbers."""
+
+
+@dataclass(frozen=True)
+class Screening:
+    """What to look for besides the patterns: names, respondent IDs, phone regions.
+
+    Attributes:
+        names: Names of people and places, matched as whole words ignoring case and accents.
+        ids: The workspace's respondent IDs ("OMB-777"), matched the same way.
+        regions: ISO 3166-1 alpha-2 regions whose national phone formats are recognised.
+    """
+
+    names: tuple[str, ...] = ()
+    ids: tuple[str, ...] = ()
+    regions: tuple[str, ...] = ()
+
+
+def _digits(s: str) -> int:
+    return sum(ch.isdigit() for ch in s)
+
+
+def word_pattern(words: Iterable[str]) -> re.Pattern[str] | None:
+    """Return a pattern of whole words over folded text (see :mod:`extractor.nlp.fold`)."""
+    parts = []
+    for word in words:
+        folded, _ = fold_with_offsets(str(word).strip())
+        tokens = folded.split()
+        if tokens:
+            parts.append(r"\s+".join(re.escape(w) for w in tokens))
+    if not parts:
+        return None
+    parts.sort(key=len, reverse=True)  # "Ana Maria" before "Ana"
+    return re.compile(r"(?<!\w)(?:" + "|".join(parts) + r")(?!\w)")
+
+
+def _screened_ids(ids: Iterable[str]) -> list[str]:
+    out = []
+    for raw in ids:
+        i = str(raw).strip()
+        if len(i) >= MIN_ID_CHARS and not (i.isdigit() and len(i) < 4):
+            out.append(i)
+    return out
+
+
+def national_phones(text: str, regions: Iterable[str]) -> list[tuple[int, int]]:
+    """Return stretches that are valid phone numbers by a region's numbering plan."""
+    if _digits(text) < MIN_PHONE_DIGITS - 1:
+        return []
+    found = []
+    for region in regions:
+        region = region.upper()
+        if region not in phonenumbers.SUPPORTED_REGIONS:
+            continue
+        matcher = phonenumbers.PhoneNumberMatcher(
+            text, region, leniency=phonenumbers.Leniency.POSSIBLE
+        )
+        for match in matcher:
+            raw = match.raw_string
+            if _YEARS.fullmatch(raw) or _digits(raw) < MIN_PHONE_DIGITS - 1:
+                continue
+            if phonenumbers.is_valid_number(match.number):
+                found.append((match.start, match.end))
+    return found
+
+
+def find_identifiers(text: str, screening: Screening = Screening()) -> list[Stretch]:
+    """Return the non-overlapping stretches of ``text`` that identify someone, in order.
+
+    Earlier kinds win where stretches overlap: e-mail, phone, ID number, respondent
+    ID, then name.
+    """
+    found: list[Stretch] = []
+
+    def free(a: int, b: int) -> bool:
+        return all(b <= s or a >= e for s, e, _ in found)
+
+    for m in _EMAIL.finditer(text):
+        found.append((m.start(), m.end(), "[email]"))
+    for m in _PHONE.finditer(text):
+        if _digits(m.group()) >= MIN_PHONE_DIGITS and free(m.start(), m.end()):
+            found.append((m.start(), m.end(), "[phone]"))
+    for a, b in national_phones(text, screening.regions):
+        if free(a, b):
+            found.append((a, b, "[phone]"))
+    for m in _ID_NUMBER.finditer(text):
+        s = m.group()
+        # Dates and short codes ("2-3 bags", "12/05/2023") are not identifiers.
+        if _digits(s) >= 6 and not _DATE.fullmatch(s) and free(m.start(), m.end()):
+            found.append((m.start(), m.end(), "[id-number]"))
+    for words, tag in ((_screened_ids(screening.ids), "[respondent]"), (screening.names, "[name]")):
+        pattern = word_pattern(words)
+        if pattern is None:
+            continue
+        folded, where = fold_with_offsets(text)
+        for m in pattern.finditer(folded):
+            a, b = where[m.start()], where[m.end() - 1] + 1
+            if free(a, b):
+                found.append((a, b, tag))
+    return sorted(found)
+
+
+def identifying_value(value: str, regions: Iterable[str] = ()) -> str | None:
+    """Return the kind (``e-mail``, ``phone``, ``coordinates``) of a whole cell, or None."""
+    text = value.strip()
+    if not text:
+        return None
+    if _EMAIL.fullmatch(text):
+        return "e-mail"
+    if COORDINATES.fullmatch(text):
+        return "coordinates"
+    for a, b, tag in find_identifiers(text, Screening(regions=tuple(regions))):
+        if tag == "[phone]" and a == 0 and b == len(text):
+            return "phone"
+    return None
+
+
+def mask_identifiers(text: str, screening: Screening = Screening()) -> str:
+    """Return ``text`` with every identifying stretch masked, keeping every offset.
+
+    Letters become ``x`` and digits ``0`` (spaces and punctuation stay), so tokens,
+    spans and sentence offsets are unchanged while no model learns the word itself.
+    """
+    chars = list(text)
+    for start, end, _ in find_identifiers(text, screening):
+        for k in range(start, end):
+            ch = chars[k]
+            if ch.isdigit():
+                chars[k] = "0"
+            elif ch.isalpha():
+                chars[k] = "x"
+    return "".join(chars)
