@@ -9,7 +9,8 @@ Everything the ``traits`` command does can be done from Python. The public surfa
   :func:`build_dictionary`, :func:`learn_clusters`, :class:`TraitTagger`,
   :class:`ConceptLinker`, :class:`StanceModel`; strict :func:`span_prf`;
 - labeling: :func:`run_console` over a :class:`Session`, query :data:`STRATEGIES`;
-- value types: :class:`Sentence`, :class:`Span`, :data:`STANCES`, :data:`TAGS`;
+- value types: :class:`Sentence`, :class:`Span`, :class:`Implicit`, :data:`STANCES`,
+  :data:`TAGS`;
 - errors: :class:`TraitsError` and its subclasses.
 
 Submodules are imported on first use, so ``import extractor`` stays cheap.
@@ -21,7 +22,7 @@ from importlib import import_module
 from typing import Any
 
 from extractor.errors import InputError, ModelError, NotFittedError, TraitsError, WorkspaceError
-from extractor.types import STANCES, TAGS, Sentence, Span
+from extractor.types import STANCES, TAGS, Implicit, Sentence, Span
 
 __version__ = "0.1.0"
 
@@ -50,6 +51,7 @@ _LAZY = {
 __all__ = [
     "STANCES",
     "TAGS",
+    "Implicit",
     "InputError",
     "ModelError",
     "NotFittedError",

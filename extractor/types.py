@@ -88,3 +88,14 @@ class Span(NamedTuple):
     end: int
     concept: str | None = None
     stance: str | None = None
+
+
+class Implicit(NamedTuple):
+    """A trait a sentence states without a phrase naming it: a concept and its stance.
+
+    "My children finish the plate" states taste, liked, with no span to mark. It belongs
+    to the whole sentence, so it has no offsets; ``stance`` is ``None`` when not given.
+    """
+
+    concept: str
+    stance: str | None = None

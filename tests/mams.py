@@ -23,7 +23,7 @@ SKIP_REASON = f"MAMS data not found in {MAMS_DIR} (open data, not shipped with t
 
 
 def load_mams(split: str, folder: Path | None = None) -> list[dict[str, Any]] | None:
-    """Return one split of MAMS as ``[{"text", "lang", "spans": [{"start", "end", "stance"}]}]``.
+    """Return one split of MAMS in the label format (``sentence``, ``lang``, ``mentions``).
 
     Args:
         split: ``"train"``, ``"val"`` or ``"test"``.
@@ -53,9 +53,9 @@ def load_mams(split: str, folder: Path | None = None) -> list[dict[str, Any]] | 
         ]
         out.append(
             {
-                "text": text,
+                "sentence": text,
                 "lang": "en",
-                "spans": sorted(spans, key=lambda s: (s["start"], s["end"])),
+                "mentions": sorted(spans, key=lambda s: (s["start"], s["end"])),
             }
         )
     return out

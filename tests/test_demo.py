@@ -57,4 +57,4 @@ def test_readding_the_demo_changes_nothing(demo: Workspace) -> None:
 def test_demo_gold_matches_stored_sentences(demo: Workspace) -> None:
     for line in (SAMPLE / "gold.jsonl").read_text(encoding="utf-8").splitlines():
         record = json.loads(line)
-        assert store.find_sentence(demo.conn, record["text"], record["respondent"]) is not None
+        assert store.find_sentence(demo.conn, record["sentence"], record["respondent"]) is not None

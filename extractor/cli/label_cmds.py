@@ -1,4 +1,4 @@
-"""Commands about labels: ``label``, ``import-labels``, ``evaluate``, ``simulate``."""
+"""Commands about labels: `label`, `import-labels`, `convert-labels`, `evaluate`, `simulate`."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ from extractor.cli.common import Subcommands, open_workspace, print_json, print_
 from extractor.cli.screen import run_console
 from extractor.cli.tables import curve_table, evaluation_tables, gain_table
 from extractor.jobs.evaluate import evaluate_workspace
-from extractor.jobs.label import import_label_file, labeling_setup
+from extractor.jobs.label import convert_label_file, import_label_file, labeling_setup
 from extractor.jobs.simulate import simulate_files
 
 
@@ -57,14 +57,26 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
 
 
 def cmd_import_labels(args: argparse.Namespace, console: Console) -> int:
-    """Import gold labels from JSON Lines or CoNLL IOB2 columns."""
+    """Import labels from the label format (JSON Lines) or CoNLL IOB2 columns."""
     path = Path(args.file)
     with open_workspace(args) as ws:
         counts = import_label_file(ws, path, annotator=args.annotator)
     console.print(
-        f"Imported {counts.labels} labels ({counts.spans} spans) from {path.name}: "
-        f"{counts.matched} matched stored sentences, {counts.added_sentences} were added."
+        f"Imported {counts.labels} labels ({counts.spans} spans, {counts.implicit} implicit "
+        f"traits) from {path.name}: {counts.matched} matched stored sentences, "
+        f"{counts.added_sentences} were added.",
+        markup=False,
     )
+    return 0
+
+
+def cmd_convert_labels(args: argparse.Namespace, console: Console) -> int:
+    """Write a label file of earlier versions in the label format."""
+    written = convert_label_file(Path(args.old), Path(args.new))
+    console.print(
+        f"Wrote {written} labeled sentences to {args.new} in the label format.", markup=False
+    )
+    print_written(console, args, Path(args.new))
     return 0
 
 
@@ -134,7 +146,7 @@ def cmd_simulate(args: argparse.Namespace, console: Console) -> int:
 
 
 def register(sub: Subcommands) -> None:
-    """Add ``label``, ``import-labels``, ``evaluate`` and ``simulate`` to the subparsers."""
+    """Add ``label``, ``import-labels``, ``convert-labels``, ``evaluate`` and ``simulate``."""
     p = sub.add_parser("label", help="label the most informative sentences in the terminal")
     p.add_argument("--annotator", required=True, help="your name, stored with every label")
     p.add_argument("--batch", type=int, help="sentences chosen together (default from settings)")
@@ -152,10 +164,16 @@ def register(sub: Subcommands) -> None:
         "it (by default a new version learns them first); the screen says so",
     )
     p.set_defaults(handler=cmd_label)
-    p = sub.add_parser("import-labels", help="import labels (gold JSON Lines or CoNLL IOB2)")
+    p = sub.add_parser("import-labels", help="import labels (label JSON Lines or CoNLL IOB2)")
     p.add_argument("file")
     p.add_argument("--annotator", default="import", help="who the labels are attributed to")
     p.set_defaults(handler=cmd_import_labels)
+    p = sub.add_parser(
+        "convert-labels", help="rewrite a label file of earlier versions (text/spans) as JSON Lines"
+    )
+    p.add_argument("old", help="the old file (JSON Lines with 'text' and 'spans')")
+    p.add_argument("new", help="the file to write (must not exist)")
+    p.set_defaults(handler=cmd_convert_labels)
     p = sub.add_parser("evaluate", help="cross-validated quality and the evaluation sample")
     p.add_argument("--folds", type=int, default=5)
     p.add_argument("--json", action="store_true", help="print one JSON object")

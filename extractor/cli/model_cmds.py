@@ -169,7 +169,8 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
         print_json(console, report)
         return 0
     print_written(console, args, report.path)
-    console.print(f"Wrote {report.path} ({report.mentions} mentions).")
+    what = "labeled sentences" if args.format in ("conll", "labels") else "mentions"
+    console.print(f"Wrote {report.path} ({report.mentions} {what}).", markup=False)
     if report.chart:
         console.print(f"Chart: {report.chart}")
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
@@ -194,7 +195,9 @@ def register(sub: Subcommands) -> None:
     p.set_defaults(handler=cmd_run)
     p = sub.add_parser("export", help="write the preferred-traits workbook or another format")
     p.add_argument("--out", help="output file (default: exports/preferred_traits.xlsx)")
-    p.add_argument("--format", choices=("xlsx", "csv", "jsonl", "conll", "jsonld"), default="xlsx")
+    p.add_argument(
+        "--format", choices=("xlsx", "csv", "jsonl", "conll", "jsonld", "labels"), default="xlsx"
+    )
     p.add_argument(
         "--pseudonymise",
         action="store_true",

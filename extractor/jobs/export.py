@@ -16,7 +16,7 @@ from pathlib import Path
 import pandas as pd
 
 from extractor.errors import InputError, ModelError
-from extractor.jobs.inputs import gold_examples
+from extractor.jobs.inputs import gold_examples, gold_implicit, gold_records
 from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
 from extractor.report.inputs import prepare
@@ -28,8 +28,16 @@ from extractor.workspace.folder import Workspace
 
 SECRET_KEY = "pseudonym_secret"
 """Meta key of the workspace's pseudonym secret (base64); it never leaves the store."""
-OTHER_FORMATS = {"csv": ".csv", "jsonl": ".jsonl", "conll": ".conll", "jsonld": ".jsonld"}
+OTHER_FORMATS = {
+    "csv": ".csv",
+    "jsonl": ".jsonl",
+    "conll": ".conll",
+    "jsonld": ".jsonld",
+    "labels": ".jsonl",
+}
 """Export format -> file suffix, besides the workbook (``xlsx``)."""
+LABEL_FORMATS = ("conll", "labels")
+"""Formats of the labeled sentences themselves (not of a model's mentions)."""
 
 
 @dataclass(frozen=True)
@@ -149,13 +157,15 @@ def export_workbook(
     return ExportResult(out, written, png if png.exists() else None)
 
 
-def _export_conll(out: Path, ws: Workspace, pseudonymise: bool) -> ExportResult:
+def _export_labeled(out: Path, ws: Workspace, fmt: str, pseudonymise: bool) -> ExportResult:
     if pseudonymise:
         raise InputError(
-            "CoNLL export holds the labeled sentences verbatim and cannot be pseudonymised; "
-            "export it without --pseudonymise and keep it inside the project."
+            f"The {fmt} export holds the labeled sentences verbatim and cannot be "
+            "pseudonymised; export it without --pseudonymise and keep it inside the project."
         )
-    return ExportResult(out, formats.write_conll(out, gold_examples(ws)))
+    if fmt == "labels":
+        return ExportResult(out, formats.write_labels(out, gold_records(ws)))
+    return ExportResult(out, formats.write_conll(out, gold_examples(ws), gold_implicit(ws)))
 
 
 def export_other(
@@ -168,19 +178,19 @@ def export_other(
     min_confidence: float | None = None,
     names_file: str | None = None,
 ) -> ExportResult:
-    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or labels as CoNLL IOB2."""
+    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or the labels themselves."""
     if fmt not in OTHER_FORMATS:
         raise InputError(
             f"The export format must be one of xlsx, {', '.join(OTHER_FORMATS)}; got {fmt!r}."
         )
-    stem = "labeled_sentences" if fmt == "conll" else "mentions"
+    stem = "labeled_sentences" if fmt in LABEL_FORMATS else "mentions"
     out = (
         out
         or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}{OTHER_FORMATS[fmt]}"
     )
     out.parent.mkdir(parents=True, exist_ok=True)
-    if fmt == "conll":
-        return _export_conll(out, ws, pseudonymise)
+    if fmt in LABEL_FORMATS:
+        return _export_labeled(out, ws, fmt, pseudonymise)
     mentions, _ = prepare(
         mention_frame(ws, version),
         respondent_frame(ws),
@@ -221,10 +231,10 @@ def export(
 
     Raises:
         ModelError: no model is trained and no sentence labeled yet (except for
-            ``conll``, which writes the labels alone).
+            ``conll`` and ``labels``, which write the labels alone).
     """
     version = ensure_tagged(ws, version)
-    if version is None and fmt != "conll" and not store.current_labels(ws.conn):
+    if version is None and fmt not in LABEL_FORMATS and not store.current_labels(ws.conn):
         raise ModelError(
             "There is no model yet and no labeled sentence, so there are no mentions to "
             "export; run `traits run` (or `traits train`) first."

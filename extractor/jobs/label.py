@@ -15,7 +15,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from extractor.ingest.labels import LabelImport, import_labels, read_labels
+from extractor.errors import InputError
+from extractor.ingest.labels import LabelImport, convert_legacy_lines, import_labels, read_labels
 from extractor.jobs.evaluate import stored_quality
 from extractor.jobs.inputs import alias_tuples, session_settings
 from extractor.jobs.train import load_version, train
@@ -136,13 +137,40 @@ def labeling_setup(
 
 
 def import_label_file(ws: Workspace, path: Path, *, annotator: str) -> LabelImport:
-    """Import gold labels from JSON Lines or CoNLL IOB2 columns into the workspace.
+    """Import labels from the label format (JSON Lines) or CoNLL IOB2 columns.
+
+    Every line is checked, and every concept against the workspace's concept list,
+    before anything is stored; a bad file stores nothing.
 
     Returns:
-        The counts of the import: labels, spans, matched and added sentences.
+        The counts of the import: labels, spans, implicit traits, matched and added sentences.
     """
     default_lang = ws.settings.workspace.default_language
     records = read_labels(path, default_lang=default_lang)
     return import_labels(
         ws.conn, records, annotator=annotator, default_lang=default_lang, source=path.name
     )
+
+
+def convert_label_file(old: Path, new: Path) -> int:
+    """Write a label file of earlier versions (``text``/``spans``) in the label format.
+
+    Returns:
+        The number of labeled sentences written.
+
+    Raises:
+        InputError: ``old`` cannot be read or breaks the format (by line), or ``new``
+            exists already or cannot be written.
+    """
+    if new.exists():
+        raise InputError(f"{new} exists already; name a new file to write the labels to.")
+    try:
+        text = old.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{old} cannot be read as UTF-8 text ({exc}); check the path.") from exc
+    lines = convert_legacy_lines(text.splitlines(), source=old.name)
+    try:
+        new.write_text("".join(line + "\n" for line in lines), encoding="utf-8")
+    except OSError as exc:
+        raise InputError(f"Cannot write {new}: {exc.strerror or exc}; check the folder.") from exc
+    return len(lines)

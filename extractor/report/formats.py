@@ -2,9 +2,12 @@
 
 * :func:`write_mentions_csv` and :func:`write_mentions_jsonl` write the long table
   of mentions (the ``mentions`` frame described in :mod:`extractor.report.inputs`).
+* :func:`write_labels` writes labeled sentences in the label format (JSON Lines with
+  ``mentions`` and ``implicit``, :mod:`extractor.ingest.labels`), the format
+  ``traits import-labels`` and ``traits simulate`` read.
 * :func:`write_conll` writes labeled sentences as IOB2 token columns (token, tag,
-  concept, stance) with CoNLL-U style ``# sent_id =`` / ``# text =`` comments;
-  ``traits import-labels`` (:mod:`extractor.ingest.labels`) reads them back.
+  concept, stance) with CoNLL-U style ``# sent_id =`` / ``# text =`` comments and an
+  ``# implicit =`` line per implicit trait; ``traits import-labels`` reads them back.
 * :func:`write_web_annotations` writes each mention as a W3C Web Annotation
   (Web Annotation Data Model, W3C Recommendation 23 February 2017) inside one
   ``AnnotationCollection``.
@@ -31,9 +34,10 @@ import pandas as pd
 
 from extractor.errors import InputError
 from extractor.ingest.decode import FORMULA_GUARD, FORMULA_TRIGGERS
+from extractor.ingest.labels import LabelRecord, record_to_dict
 from extractor.nlp.text import tokenize
 from extractor.report.inputs import plain_value
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 from extractor.workspace.files import atomic_open
 
 ANNO_CONTEXT = "http://www.w3.org/ns/anno.jsonld"
@@ -138,15 +142,32 @@ def _one_line(text: str) -> str:
     return " ".join(text.split())
 
 
+def write_labels(path: Path | str, records: Iterable[LabelRecord]) -> int:
+    """Write labeled sentences in the label format, one JSON object per line.
+
+    Returns:
+        The number of sentences written.
+    """
+    count = 0
+    with _open_for_writing(path) as fh:
+        for record in records:
+            fh.write(json.dumps(record_to_dict(record), ensure_ascii=False) + "\n")
+            count += 1
+    return count
+
+
 def write_conll(
-    path: Path | str, labeled_sentences: Iterable[tuple[Sentence, Sequence[Span]]]
+    path: Path | str,
+    labeled_sentences: Iterable[tuple[Sentence, Sequence[Span]]],
+    implicit: Mapping[int, Sequence[Implicit]] | None = None,
 ) -> int:
     """Write labeled sentences as tab-separated IOB2 columns: token, tag, concept, stance.
 
     A ``#`` header states the scheme; each sentence starts with ``# sent_id =``,
-    ``# lang =`` and ``# text =`` comment lines (CoNLL-U convention) and ends with a
-    blank line. Tokens come from :func:`extractor.nlp.text.tokenize`; ``_`` marks an
-    empty column.
+    ``# lang =`` and ``# text =`` comment lines (CoNLL-U convention), then one
+    ``# implicit = CONCEPT STANCE`` line per trait the sentence states without a span
+    (``implicit`` by sentence ID), and ends with a blank line. Tokens come from
+    :func:`extractor.nlp.text.tokenize`; ``_`` marks an empty column.
 
     Returns:
         The number of sentences written.
@@ -159,6 +180,8 @@ def write_conll(
             fh.write(f"# sent_id = {sentence.id}\n")
             fh.write(f"# lang = {sentence.lang}\n")
             fh.write(f"# text = {_one_line(sentence.text)}\n")
+            for trait in (implicit or {}).get(sentence.id, ()):
+                fh.write(f"# implicit = {trait.concept} {trait.stance or EMPTY}\n")
             for token, tag, span in iob2_tags(sentence.text, sentence.lang, spans):
                 concept = span.concept if span is not None and span.concept else EMPTY
                 stance = span.stance if span is not None and span.stance else EMPTY

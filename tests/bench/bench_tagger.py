@@ -48,7 +48,7 @@ def synthetic(records: list[dict[str, Any]], n: int, seed: int = 0) -> list[Sent
     rng = random.Random(seed)
     by_lang: dict[str, list[str]] = {}
     for r in records:
-        by_lang.setdefault(r["lang"].split("-")[0], []).append(r["text"])
+        by_lang.setdefault(r["lang"].split("-")[0], []).append(r["sentence"])
     langs = sorted(by_lang)
     out = []
     for i in range(n):
@@ -119,8 +119,8 @@ def main() -> None:
     dictionary = build_dictionary(demo_aliases())
     gold = [
         (
-            Sentence(id=-(i + 1), text=r["text"], lang=r["lang"]),
-            [Span(s["start"], s["end"], s.get("concept"), s.get("stance")) for s in r["spans"]],
+            Sentence(id=-(i + 1), text=r["sentence"], lang=r["lang"]),
+            [Span(s["start"], s["end"], s.get("concept"), s.get("stance")) for s in r["mentions"]],
         )
         for i, r in enumerate(records[: min(args.gold, args.train)])
     ]

@@ -55,9 +55,9 @@ def write_mams(out: Path) -> None:
         dropped = 0
         with (out / f"mams_{split}.jsonl").open("w", encoding="utf-8") as f:
             for i, record in enumerate(records):
-                spans, n = non_overlapping(record["spans"])
+                spans, n = non_overlapping(record["mentions"])
                 dropped += n
-                row = {"respondent": f"mams-{split}-{i}", **record, "spans": spans}
+                row = {"respondent": f"mams-{split}-{i}", **record, "mentions": spans}
                 f.write(json.dumps(row) + "\n")
         print(f"mams_{split}.jsonl: {len(records)} sentences, {dropped} overlapping spans dropped")
 

@@ -139,8 +139,8 @@ def test_concepts_import_unknown_language(ws: Path, tmp_path: Path) -> None:
 def test_output_in_a_missing_folder_is_one_sentence(tmp_path: Path) -> None:
     pool = tmp_path / "pool.jsonl"
     pool.write_text(
-        '{"respondent": "A", "text": "It cooks fast.", "lang": "en", '
-        '"spans": [{"start": 3, "end": 13}]}\n',
+        '{"respondent": "A", "sentence": "It cooks fast.", "lang": "en", '
+        '"mentions": [{"start": 3, "end": 13}]}\n',
         encoding="utf-8",
     )
     code, out = run(
@@ -173,9 +173,9 @@ def test_simulate_writes_results_and_the_paired_gain(tmp_path: Path) -> None:
             json.dumps(
                 {
                     "respondent": f"R{i % 6}",
-                    "text": text,
+                    "sentence": text,
                     "lang": "en",
-                    "spans": [{"start": start, "end": start + len(trait)}],
+                    "mentions": [{"start": start, "end": start + len(trait)}],
                 }
             )
         )

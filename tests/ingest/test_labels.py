@@ -12,15 +12,30 @@ from seqeval.metrics.sequence_labeling import get_entities
 from extractor.errors import InputError
 from extractor.ingest.labels import (
     LabelImport,
+    convert_legacy_lines,
     import_labels,
     parse_conll,
     parse_jsonl,
     read_labels,
+    record_to_dict,
     to_gold,
 )
-from extractor.types import Span
+from extractor.types import ConceptEntry, Implicit, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
+
+
+def _with_concepts(ws: Workspace, *ids: str) -> Workspace:
+    store.replace_concept_list(
+        ws.conn,
+        kind="trait",
+        path="concepts.csv",
+        sha256="0" * 64,
+        concepts=[ConceptEntry(i) for i in ids],
+        aliases=[],
+    )
+    return ws
+
 
 CONLL = """\
 # respondent = KAL-07
@@ -81,9 +96,10 @@ def test_conll_round_trips_through_jsonl(tmp_path: Path) -> None:
             json.dumps(
                 {
                     "respondent": r.respondent,
-                    "text": r.text,
+                    "sentence": r.text,
                     "lang": r.lang,
-                    "spans": [s._asdict() for s in r.spans],
+                    "mentions": [s._asdict() for s in r.spans],
+                    "implicit": [],
                 }
             )
             for r in records
@@ -98,25 +114,62 @@ def test_conll_round_trips_through_jsonl(tmp_path: Path) -> None:
 
 BAD_JSONL = {
     "end-beyond-text": (
-        '{"text": "Soft beans", "spans": [{"start": 0, "end": 40}]}',
+        '{"sentence": "Soft beans", "mentions": [{"start": 0, "end": 40}]}',
         r"g\.jsonl, line 2: 'end' 40 is beyond the sentence's 10 characters",
     ),
-    "not-json": ('{"text": "Soft beans", ', r"line 2: not valid JSON"),
-    "spans-missing": ('{"text": "Soft beans"}', r"line 2: 'spans' must be a list"),
+    "not-json": ('{"sentence": "Soft beans", ', r"line 2: not valid JSON"),
+    "mentions-missing": ('{"sentence": "Soft beans"}', r"line 2: 'mentions' must be a list"),
     "bad-stance": (
-        '{"text": "Soft beans", "spans": [{"start": 0, "end": 4, "stance": "x"}]}',
-        r"line 2: 'stance' must be one of liked",
+        '{"sentence": "Soft beans", "mentions": [{"start": 0, "end": 4, "stance": "x"}]}',
+        r"line 2: the stance of mention 1 must be one of liked",
+    ),
+    "old-format": (
+        '{"text": "Soft beans", "spans": []}',
+        r"line 2: this line is in the label format of earlier versions; convert the file with "
+        r"`traits convert-labels",
+    ),
+    "unknown-key": (
+        '{"sentence": "Soft beans", "mentions": [], "implict": []}',
+        r"line 2: unknown key 'implict'",
+    ),
+    "implicit-without-concept": (
+        '{"sentence": "Soft beans", "mentions": [], "implicit": [{"stance": "liked"}]}',
+        r"line 2: implicit trait 1 needs a 'concept'",
+    ),
+    "implicit-bad-stance": (
+        '{"sentence": "Soft beans", "mentions": [], "implicit": [{"concept": "C:1", '
+        '"stance": "sad"}]}',
+        r"line 2: the stance of implicit trait 1 must be one of",
+    ),
+    "implicit-not-a-list": (
+        '{"sentence": "Soft beans", "mentions": [], "implicit": {"concept": "C:1"}}',
+        r"line 2: 'implicit' must be a list",
+    ),
+    # The interview readers refuse such tags (BCP 47, RFC 5646 grammar; item 14 of the
+    # red team's list): so must the label reader.
+    "language-not-bcp47": (
+        '{"sentence": "Soft beans", "mentions": [], "lang": "klingon!!"}',
+        r"line 2: language 'klingon!!' is not a BCP 47 tag of a known language",
+    ),
+    "language-unknown": (
+        '{"sentence": "Soft beans", "mentions": [], "lang": "qzz"}',
+        r"line 2: language 'qzz'",
+    ),
+    "metadata-not-text": (
+        '{"sentence": "Soft beans", "mentions": [], "metadata": {"age": [1, 2]}}',
+        r"line 2: 'metadata' must be an object of text values",
     ),
     "end-before-start": (
-        '{"text": "Soft beans", "spans": [{"start": 4, "end": 2}]}',
-        r"line 2: 'end' 2 of span 1 must be after 'start' 4",
+        '{"sentence": "Soft beans", "mentions": [{"start": 4, "end": 2}]}',
+        r"line 2: 'end' 2 of mention 1 must be after 'start' 4",
     ),
     "whitespace-span": (
-        '{"text": "Soft  beans", "spans": [{"start": 4, "end": 6}]}',
+        '{"sentence": "Soft  beans", "mentions": [{"start": 4, "end": 6}]}',
         r"line 2: span 4-6 \(' {2}'\) covers no word",
     ),
     "overlap": (
-        '{"text": "Soft beans", "spans": [{"start": 0, "end": 10}, {"start": 5, "end": 10}]}',
+        '{"sentence": "Soft beans", '
+        '"mentions": [{"start": 0, "end": 10}, {"start": 5, "end": 10}]}',
         r"line 2: spans 0-10 and 5-10 overlap",
     ),
 }
@@ -124,7 +177,7 @@ BAD_JSONL = {
 
 @pytest.mark.parametrize("line,message", BAD_JSONL.values(), ids=BAD_JSONL.keys())
 def test_bad_jsonl_line_is_reported_by_number(line: str, message: str) -> None:
-    good = '{"text": "Good taste", "spans": []}'
+    good = '{"sentence": "Good taste", "mentions": []}'
     with pytest.raises(InputError, match=message):
         parse_jsonl([good, line], source="g.jsonl", default_lang="en")
 
@@ -138,6 +191,8 @@ BAD_CONLL = {
         r"line 3: token 'beans' is not in the '# text'",
     ),
     "bad-stance": ("\n\na B-TRAIT _ happy\n", r"line 3: stance 'happy'"),
+    "bad-implicit-stance": ("# implicit = BTX:1 glad\na O\n", r"line 1: stance 'glad'"),
+    "bad-language": ("# lang = klingon!!\na O\n", r"line 1: language 'klingon!!'"),
 }
 
 
@@ -157,7 +212,9 @@ SNAPS = {
 
 @pytest.mark.parametrize("given,expected", SNAPS.values(), ids=SNAPS.keys())
 def test_spans_snap_outwards_to_words(given: tuple[int, int], expected: tuple[int, int]) -> None:
-    line = json.dumps({"text": "Soft beans sell", "spans": [{"start": given[0], "end": given[1]}]})
+    line = json.dumps(
+        {"sentence": "Soft beans sell", "mentions": [{"start": given[0], "end": given[1]}]}
+    )
     (record,) = parse_jsonl([line], source="g.jsonl", default_lang="en")
     assert (record.spans[0].start, record.spans[0].end) == expected
     assert record.snapped == int(given != expected)
@@ -166,8 +223,8 @@ def test_spans_snap_outwards_to_words(given: tuple[int, int], expected: tuple[in
 def test_spans_snapping_onto_the_same_words_merge() -> None:
     line = json.dumps(
         {
-            "text": "Seafood was fine",
-            "spans": [
+            "sentence": "Seafood was fine",
+            "mentions": [
                 {"start": 0, "end": 7, "stance": "neutral"},
                 {"start": 3, "end": 7, "stance": "liked"},
             ],
@@ -186,7 +243,8 @@ def test_unknown_suffix_is_refused(tmp_path: Path) -> None:
 
 def test_to_gold_accepts_dicts_and_records() -> None:
     gold = to_gold(
-        [{"text": "Good taste", "lang": "en", "spans": [{"start": 5, "end": 10}]}], first_id=7
+        [{"sentence": "Good taste", "lang": "en", "mentions": [{"start": 5, "end": 10}]}],
+        first_id=7,
     )
     assert gold[0][0].id == 7 and gold[0][1] == [Span(5, 10)]
 
@@ -201,34 +259,38 @@ ROWS = [
     json.dumps(
         {
             "respondent": "KAL-07",
-            "text": "The Zanobi beans cook fast.",
+            "sentence": "The Zanobi beans cook fast.",
             "lang": "en",
-            "spans": [{"start": 17, "end": 26, "concept": "BTX:9002", "stance": "liked"}],
+            "mentions": [{"start": 17, "end": 26, "concept": "BTX:9002", "stance": "liked"}],
+            "implicit": [{"concept": "BTX:9003", "stance": "liked"}],
         }
     ),
     json.dumps(
         {
             "respondent": "KAL-08",
-            "text": "We sell them at Mirelo market.",
+            "sentence": "We sell them at Mirelo market.",
             "lang": "en",
-            "spans": [],
+            "mentions": [],
         }
     ),
 ]
 
 
 def test_import_adds_sentences_and_labels(workspace: Workspace, tmp_path: Path) -> None:
+    _with_concepts(workspace, "BTX:9002", "BTX:9003")
     records = read_labels(_jsonl(tmp_path, ROWS), default_lang="en")
     counts = import_labels(
         workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
     )
     assert counts == LabelImport(
-        records=2, matched=0, added_sentences=2, labels=2, spans=1, snapped=0
+        records=2, matched=0, added_sentences=2, labels=2, spans=1, snapped=0, implicit=1
     )
     labels = store.current_labels(workspace.conn)
     sentences = {s.id: s for s in store.sentences(workspace.conn)}
     by_text = {sentences[sid].text: v for sid, v in labels.items()}
     assert by_text["The Zanobi beans cook fast."].spans == [Span(17, 26, "BTX:9002", "liked")]
+    assert by_text["The Zanobi beans cook fast."].implicit == (Implicit("BTX:9003", "liked"),)
+    assert by_text["We sell them at Mirelo market."].empty
     assert by_text["We sell them at Mirelo market."].origin == "import"
     again = import_labels(
         workspace.conn, records, annotator="tester", default_lang="en", source="labels.jsonl"
@@ -238,14 +300,108 @@ def test_import_adds_sentences_and_labels(workspace: Workspace, tmp_path: Path) 
 
 
 def test_bad_line_leaves_the_store_unchanged(workspace: Workspace, tmp_path: Path) -> None:
-    bad = json.dumps({"respondent": "KAL-09", "text": "Short", "spans": [{"start": 0, "end": 40}]})
+    bad = json.dumps(
+        {"respondent": "KAL-09", "sentence": "Short", "mentions": [{"start": 0, "end": 40}]}
+    )
     with pytest.raises(InputError, match="line 3"):
         read_labels(_jsonl(tmp_path, [*ROWS, bad]), default_lang="en")
     assert store.sentences(workspace.conn) == []
     assert store.current_labels(workspace.conn) == {}
 
 
+UNKNOWN = {
+    "mention": ("mentions", {"start": 0, "end": 4, "concept": "NOPE:9999", "stance": "liked"}),
+    "implicit": ("implicit", {"concept": "NOPE:9999", "stance": "liked"}),
+}
+
+
+@pytest.mark.parametrize(("key", "item"), UNKNOWN.values(), ids=UNKNOWN.keys())
+def test_import_refuses_a_concept_the_list_lacks(
+    workspace: Workspace, tmp_path: Path, key: str, item: dict[str, object]
+) -> None:
+    # Item 14 of the red team's list: an unknown concept was stored silently.
+    _with_concepts(workspace, "BTX:9002", "BTX:9003")
+    bad = {"respondent": "KAL-09", "sentence": "Soft beans.", "mentions": [], key: [item]}
+    records = read_labels(_jsonl(tmp_path, [*ROWS, json.dumps(bad)]), default_lang="en")
+    with pytest.raises(InputError, match=r"labels.jsonl, line 3: concept 'NOPE:9999' is not in"):
+        import_labels(
+            workspace.conn, records, annotator="t", default_lang="en", source="labels.jsonl"
+        )
+    assert store.sentences(workspace.conn) == []
+    assert store.current_labels(workspace.conn) == {}
+
+
+def test_import_without_a_concept_list_says_to_import_it(
+    workspace: Workspace, tmp_path: Path
+) -> None:
+    records = read_labels(_jsonl(tmp_path, ROWS), default_lang="en")
+    with pytest.raises(InputError, match=r"line 1: .* no concept list yet; import it first"):
+        import_labels(workspace.conn, records, annotator="t", default_lang="en", source="x")
+    assert store.sentences(workspace.conn) == []
+
+
+def test_old_label_files_convert_and_read_back_the_same() -> None:
+    old = [
+        '{"respondent": "KAL-07", "text": "The Zanobi beans cook fast.", "lang": "en", '
+        '"question": "Why?", "spans": [{"start": 17, "end": 26, "concept": "BTX:9002", '
+        '"stance": "liked"}]}',
+        "",
+        '{"text": "No trait here.", "spans": []}',
+    ]
+    new = convert_legacy_lines(old, source="old.jsonl")
+    assert [json.loads(line) for line in new] == [
+        {
+            "respondent": "KAL-07",
+            "sentence": "The Zanobi beans cook fast.",
+            "lang": "en",
+            "mentions": [{"start": 17, "end": 26, "concept": "BTX:9002", "stance": "liked"}],
+            "implicit": [],
+            "question": "Why?",
+        },
+        {"sentence": "No trait here.", "mentions": [], "implicit": []},
+    ]
+    (first, second) = parse_jsonl(new, source="new.jsonl", default_lang="en")
+    assert first.spans == (Span(17, 26, "BTX:9002", "liked"),) and first.question == "Why?"
+    assert second.spans == () and second.implicit == ()
+
+
+def test_converter_names_the_bad_line() -> None:
+    with pytest.raises(InputError, match=r"old.jsonl, line 2: 'end' 40 is beyond"):
+        convert_legacy_lines(
+            ['{"text": "Ok", "spans": []}', '{"text": "Ok", "spans": [{"start": 0, "end": 40}]}'],
+            source="old.jsonl",
+        )
+
+
+def test_label_format_round_trips_implicit_and_metadata() -> None:
+    line = json.dumps(
+        {
+            "respondent": "KAL-07",
+            "sentence": "My children finish the plate.",
+            "lang": "EN",
+            "mentions": [],
+            "implicit": [{"concept": "BTX:9003", "stance": "liked"}],
+            "variety": "Zanobi",
+            "metadata": {"gender": "female", "age": 41},
+        }
+    )
+    (record,) = parse_jsonl([line], source="g.jsonl", default_lang="fr")
+    assert record.lang == "en"  # BCP 47 conventional case (RFC 5646 section 2.1.1)
+    assert record.implicit == (Implicit("BTX:9003", "liked"),)
+    assert record.metadata == {"gender": "female", "age": "41"}
+    again = parse_jsonl([json.dumps(record_to_dict(record))], source="g", default_lang="fr")
+    assert again == [record]
+
+
+def test_conll_reads_implicit_lines() -> None:
+    text = "# implicit = BTX:9003 liked\n# implicit = BTX:9005 _\nThey O\nfinish O\n"
+    (record,) = parse_conll(text.splitlines(), source="c.conll", default_lang="en")
+    assert record.implicit == (Implicit("BTX:9003", "liked"), Implicit("BTX:9005"))
+    assert record.spans == ()
+
+
 def test_import_is_all_or_nothing(workspace: Workspace, tmp_path: Path) -> None:
+    _with_concepts(workspace, "BTX:9002", "BTX:9003")
     records = read_labels(_jsonl(tmp_path, ROWS), default_lang="en")
     orphan = records[1]._replace(respondent=None, text="Nobody said this here.", line=9)
     with pytest.raises(InputError, match="labels.jsonl, line 9: the sentence is not in the"):

@@ -85,9 +85,9 @@ def labeled(respondent: str, text: str) -> str:
         for p, c in PHRASES.items()
         if p in text
     ]
-    return json.dumps({"respondent": respondent, "lang": "en", "text": text, "spans": spans})
+    return json.dumps({"respondent": respondent, "lang": "en", "sentence": text, "mentions": spans})
 
 
 def label_line(respondent: str, text: str, spans: list[dict[str, object]]) -> str:
     """A gold JSON line with the spans given."""
-    return json.dumps({"respondent": respondent, "lang": "en", "text": text, "spans": spans})
+    return json.dumps({"respondent": respondent, "lang": "en", "sentence": text, "mentions": spans})

@@ -58,8 +58,8 @@ def test_concepts_suggest_lists_frequent_unlinked_terms(study: Path, tmp_path: P
                 {
                     "respondent": r,
                     "lang": "en",
-                    "text": t,
-                    "spans": [
+                    "sentence": t,
+                    "mentions": [
                         {
                             "start": t.index("colour"),
                             "end": t.index("colour") + 6,
@@ -125,7 +125,8 @@ def _study_with_one_unlinked_term(study: Path, tmp_path: Path) -> None:
     span = {"start": 4, "end": 8, "stance": "disliked"}
     labels = tmp_path / "husk.jsonl"
     labels.write_text(
-        json.dumps({"respondent": "KA-10", "lang": "en", "text": text, "spans": [span]}) + "\n",
+        json.dumps({"respondent": "KA-10", "lang": "en", "sentence": text, "mentions": [span]})
+        + "\n",
         encoding="utf-8",
     )
     assert run("-w", str(study), "add", str(extra))[0] == 0

@@ -16,6 +16,7 @@ import openpyxl
 import pytest
 
 from extractor.errors import InputError
+from extractor.ingest.labels import read_labels
 from extractor.jobs.export import (
     ExportResult,
     export,
@@ -27,6 +28,8 @@ from extractor.jobs.export import (
 )
 from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.results import respondent_frame
+from extractor.types import Implicit, Span
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 from tests.report.study import VERSION, build_workspace
 
@@ -78,9 +81,29 @@ def test_export_other_conll_refuses_pseudonymising(ws: Workspace) -> None:
         export_other(ws, VERSION, "conll", pseudonymise=True)
 
 
+def test_export_labels_round_trip_through_import(ws: Workspace) -> None:
+    store.add_label(
+        ws.conn, 2, [], "coder-a", implicit=[Implicit("BTX:0003", "liked")], origin="terminal"
+    )
+    result = export_other(ws, VERSION, "labels")
+    assert result == ExportResult(ws.exports_dir / "labeled_sentences.jsonl", 2)
+    records = read_labels(result.path, default_lang="en")
+    assert sorted((list(r.spans), r.implicit) for r in records) == [
+        ([], (Implicit("BTX:0003", "liked"),)),
+        ([Span(4, 9, "BTX:0003", "liked")], ()),
+    ]
+    conll = export_other(ws, VERSION, "conll")
+    again = read_labels(conll.path, default_lang="en")
+    assert [(list(r.spans), r.implicit) for r in again] == [
+        (list(r.spans), r.implicit) for r in records
+    ]
+    with pytest.raises(InputError, match="labels export holds the labeled sentences verbatim"):
+        export_other(ws, VERSION, "labels", pseudonymise=True)
+
+
 def test_export_other_rejects_unknown_format(ws: Workspace) -> None:
     with pytest.raises(
-        InputError, match="must be one of xlsx, csv, jsonl, conll, jsonld; got 'pdf'"
+        InputError, match="must be one of xlsx, csv, jsonl, conll, jsonld, labels; got 'pdf'"
     ):
         export_other(ws, VERSION, "pdf")
 

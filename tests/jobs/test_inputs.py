@@ -49,8 +49,8 @@ def test_aliases_and_gold_examples_come_from_the_store(study: Path, tmp_path: Pa
     assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
     labels = tmp_path / "labels.jsonl"
     labels.write_text(
-        '{"respondent": "KA-02", "lang": "en", "text": "The grains are too small.", '
-        '"spans": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}]}\n',
+        '{"respondent": "KA-02", "lang": "en", "sentence": "The grains are too small.", '
+        '"mentions": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}]}\n',
         encoding="utf-8",
     )
     assert run("-w", str(study), "import-labels", str(labels))[0] == 0

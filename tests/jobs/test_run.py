@@ -45,8 +45,8 @@ def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: P
             {
                 "respondent": "KA-01",
                 "lang": "en",
-                "text": "It cooks fast and the broth is thick.",
-                "spans": [{"start": 3, "end": 13, "concept": "BTX:0001", "stance": "liked"}],
+                "sentence": "It cooks fast and the broth is thick.",
+                "mentions": [{"start": 3, "end": 13, "concept": "BTX:0001", "stance": "liked"}],
             }
         )
         + "\n",
@@ -67,8 +67,8 @@ def test_person_labels_override_predictions_in_the_workbook(study: Path, tmp_pat
             {
                 "respondent": "KA-05",
                 "lang": "en",
-                "text": "We planted after the rains.",
-                "spans": [],
+                "sentence": "We planted after the rains.",
+                "mentions": [],
             }
         )
         + "\n"
@@ -76,8 +76,8 @@ def test_person_labels_override_predictions_in_the_workbook(study: Path, tmp_pat
             {
                 "respondent": "KA-02",
                 "lang": "en",
-                "text": "The grains are too small.",
-                "spans": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}],
+                "sentence": "The grains are too small.",
+                "mentions": [{"start": 4, "end": 10, "concept": "BTX:0004", "stance": "disliked"}],
             }
         )
         + "\n",

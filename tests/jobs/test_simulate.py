@@ -26,7 +26,7 @@ def _records() -> list[str]:
         text = f"In Vesk village {i} we like the {trait} of Zanobi."
         start = text.index(trait)
         span = {"start": start, "end": start + len(trait)}
-        lines.append(json.dumps({"respondent": f"R{i % 6}", "text": text, "spans": [span]}))
+        lines.append(json.dumps({"respondent": f"R{i % 6}", "sentence": text, "mentions": [span]}))
     return lines
 
 

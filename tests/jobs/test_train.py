@@ -31,6 +31,7 @@ def test_train_with_labels_from_one_respondent_skips_cross_validation(
     lines = [labeled("KA-01", f"In Vesk {k} the yield is good.") for k in range(60)]
     labels = tmp_path / "one.jsonl"
     labels.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
     assert run("-w", str(study), "import-labels", str(labels))[0] == 0
     code, out = run("-w", str(study), "train")
     assert code == 0, out

@@ -39,9 +39,9 @@ def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any
         if i % 4 == 3:
             out.append(
                 {
-                    "text": f"{filler} we sold the beans.",
+                    "sentence": f"{filler} we sold the beans.",
                     "lang": "en",
-                    "spans": [],
+                    "mentions": [],
                     "respondent": f"R{i % 7}",
                 }
             )
@@ -52,7 +52,7 @@ def toy_records(n: int, seed: int, concepts: bool = False) -> list[dict[str, Any
         span: dict[str, Any] = {"start": start, "end": start + len(TRAITS[k])}
         if concepts:
             span |= {"concept": f"ZZ:{k}", "stance": "liked"}
-        out.append({"text": text, "lang": "en", "spans": [span], "respondent": f"R{i % 7}"})
+        out.append({"sentence": text, "lang": "en", "mentions": [span], "respondent": f"R{i % 7}"})
     return out
 
 

@@ -26,7 +26,7 @@ def gold_pairs(split: str) -> list[tuple[Sentence, list[Span]]]:
     if data is None:
         pytest.skip(SKIP_REASON)
     return [
-        (Sentence(i, d["text"], d["lang"]), [Span(s["start"], s["end"]) for s in d["spans"]])
+        (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
         for i, d in enumerate(data)
     ]
 

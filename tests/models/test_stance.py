@@ -119,9 +119,13 @@ def test_stance_model_beats_majority_on_mams_by_15_points() -> None:
 
     def triples(rows: list[dict]) -> list[tuple[Sentence, Span, str]]:
         return [
-            (Sentence(id=n, text=row["text"], lang="en"), Span(s["start"], s["end"]), s["stance"])
+            (
+                Sentence(id=n, text=row["sentence"], lang="en"),
+                Span(s["start"], s["end"]),
+                s["stance"],
+            )
             for n, row in enumerate(rows)
-            for s in row["spans"]
+            for s in row["mentions"]
         ]
 
     started = time.perf_counter()

@@ -50,4 +50,4 @@ def test_gold_sentences_of_the_demo_are_segmenter_sentences() -> None:
         pytest.skip("the demo gold file is not there")
     for line in path.read_text(encoding="utf-8").splitlines():
         record = json.loads(line)
-        assert split_sentences(record["text"], record["lang"]) == [(0, len(record["text"]))]
+        assert split_sentences(record["sentence"], record["lang"]) == [(0, len(record["sentence"]))]

@@ -11,7 +11,7 @@ from typing import Any
 import pytest
 
 from extractor.errors import WorkspaceError
-from extractor.types import AliasEntry, AnswerRow, ConceptEntry, Span
+from extractor.types import AliasEntry, AnswerRow, ConceptEntry, Implicit, Span
 from extractor.workspace import store
 
 
@@ -121,6 +121,43 @@ def test_labels_are_append_only_and_undo_retracts(conn: sqlite3.Connection) -> N
     assert current.label_id == first
     assert current.spans == [Span(3, 13, "BTX:0001", "liked")]
     assert len(store.label_history(conn)) == 3
+
+
+def test_labels_keep_implicit_traits_in_the_same_row(conn: sqlite3.Connection) -> None:
+    _add(conn)
+    sid = store.sentences(conn)[0].id
+    traits = [Implicit("BTX:0003", "liked"), Implicit("BTX:0005")]
+    store.add_label(conn, sid, [Span(3, 13, "BTX:0001", "liked")], "ana", implicit=traits)
+    current = store.current_labels(conn)[sid]
+    assert current.implicit == tuple(traits) and current.mentions == current.spans
+    assert not current.empty
+    store.add_label(conn, sid, [], "ana")
+    assert store.current_labels(conn)[sid].empty
+    assert len(store.label_history(conn)) == 2
+
+
+def test_version_1_labels_gain_an_empty_implicit_list(tmp_path: Path) -> None:
+    path = tmp_path / "v1.sqlite"
+    raw = sqlite3.connect(path)
+    raw.executescript(store.MIGRATIONS[0] + "PRAGMA user_version = 1;")
+    raw.execute("INSERT INTO sources VALUES (1, 'f', 's', 'table', '{}', 'now', 1)")
+    raw.execute("INSERT INTO respondents VALUES (1, 'R1', '{}', 0, 'now')")
+    raw.execute(
+        "INSERT INTO answers (id, respondent_id, source_id, text, lang, lang_origin, "
+        "fingerprint) VALUES (1, 1, 1, 'It cooks fast.', 'en', 'column', 'x')"
+    )
+    raw.execute("INSERT INTO sentences VALUES (1, 1, 0, 0, 14)")
+    raw.execute(
+        "INSERT INTO labels (sentence_id, annotator, created_at, action, spans) "
+        "VALUES (1, 'ana', 'now', 'label', '[{\"start\": 3, \"end\": 13}]')"
+    )
+    raw.commit()
+    raw.close()
+    conn = store.connect(path)
+    label = store.current_labels(conn)[1]
+    assert (label.spans, label.implicit) == ([Span(3, 13)], ())
+    assert store.schema_version(conn) == store.SCHEMA_VERSION
+    conn.close()
 
 
 def test_concept_reimport_keeps_annotator_aliases(conn: sqlite3.Connection) -> None:

@@ -5,14 +5,16 @@ from __future__ import annotations
 from collections.abc import Iterable
 from typing import NamedTuple
 
-from extractor.ingest.labels._record import LabelRecord, align_spans, fail
-from extractor.types import STANCES, Span
+from extractor.ingest.labels._record import LabelRecord, align_spans, checked_lang, fail
+from extractor.types import STANCES, Implicit, Span
 
 EMPTY = "_"
 """The placeholder of an empty concept or stance column in CoNLL files."""
 
 _META_KEYS = ("text", "respondent", "lang", "question", "variety")
 """The ``# key = value`` comment lines honoured before a sentence's tokens."""
+IMPLICIT_KEY = "implicit"
+"""``# implicit = CONCEPT STANCE``: a trait the sentence states without a span (repeatable)."""
 
 
 class _Token(NamedTuple):
@@ -94,17 +96,35 @@ def _entity_spans(tokens: list[_Token], offsets: list[tuple[int, int]], source: 
     return spans
 
 
+def _implicit(value: str, source: str, number: int) -> Implicit:
+    """Return the trait of one ``# implicit = CONCEPT [STANCE]`` line."""
+    cols = value.split()
+    if not 1 <= len(cols) <= 2:
+        raise fail(source, number, "'# implicit =' takes a concept ID and a stance")
+    stance = cols[1] if len(cols) == 2 and cols[1] != EMPTY else None
+    if stance is not None and stance not in STANCES:
+        raise fail(
+            source, number, f"stance {stance!r} must be one of {', '.join(STANCES)} or '{EMPTY}'"
+        )
+    return Implicit(cols[0], stance)
+
+
 def _conll_sentence(
-    tokens: list[_Token], meta: dict[str, str], first_line: int, source: str, default_lang: str
+    tokens: list[_Token],
+    meta: dict[str, str],
+    implicit: list[Implicit],
+    first_line: int,
+    source: str,
+    default_lang: str,
 ) -> LabelRecord:
     text, offsets = _token_offsets(tokens, meta.get("text"), source)
     spans = _entity_spans(tokens, offsets, source)
-    lang = meta.get("lang") or default_lang
+    lang = checked_lang(meta["lang"], source, first_line) if "lang" in meta else default_lang
     aligned, moved = align_spans(text, lang, spans, source=source, line=first_line)
     return LabelRecord(
         text=text, respondent=meta.get("respondent"), lang=lang, question=meta.get("question"),
         spans=aligned, line=first_line, lang_given="lang" in meta, snapped=moved,
-        variety=meta.get("variety"),
+        variety=meta.get("variety"), implicit=tuple(dict.fromkeys(implicit)),
     )  # fmt: skip
 
 
@@ -117,21 +137,24 @@ def parse_conll(lines: Iterable[str], *, source: str, default_lang: str) -> list
     out: list[LabelRecord] = []
     tokens: list[_Token] = []
     meta: dict[str, str] = {}
+    implicit: list[Implicit] = []
     first = 0
     for number, raw in enumerate([*lines, ""], start=1):
         line = raw.rstrip("\r\n")
         if not line.strip():
             if tokens:
-                out.append(_conll_sentence(tokens, meta, first, source, default_lang))
-            elif meta:
+                out.append(_conll_sentence(tokens, meta, implicit, first, source, default_lang))
+            elif meta or implicit:
                 raise fail(source, first, "comment lines with no token lines after them")
-            tokens, meta, first = [], {}, 0
+            tokens, meta, implicit, first = [], {}, [], 0
             continue
         first = first or number
         if line.lstrip().startswith("#"):
             key, sep, value = line.lstrip()[1:].partition("=")
             key = key.strip()
-            if sep and key in _META_KEYS:
+            if sep and key == IMPLICIT_KEY:
+                implicit.append(_implicit(value, source, number))
+            elif sep and key in _META_KEYS:
                 # The text keeps its own inner and trailing spaces: offsets depend on them.
                 meta[key] = value.removeprefix(" ") if key == "text" else value.strip()
             continue

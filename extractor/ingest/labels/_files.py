@@ -18,7 +18,7 @@ CONLL_SUFFIXES = (".conll", ".iob", ".bio", ".tsv", ".txt")
 
 
 def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
-    """Read a gold JSONL or CoNLL file (chosen by its suffix), checking every line.
+    """Read a label-format JSONL or CoNLL file (chosen by its suffix), checking every line.
 
     Raises:
         InputError: The file cannot be read, its suffix is unknown, or a line is bad.
@@ -26,8 +26,9 @@ def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
     suffix = path.suffix.lower()
     if suffix not in JSONL_SUFFIXES + CONLL_SUFFIXES:
         raise InputError(
-            f"{path.name}: labels must be a {', '.join(JSONL_SUFFIXES)} file (gold JSONL) or a "
-            f"{', '.join(CONLL_SUFFIXES)} file (CoNLL IOB2 columns); got {suffix or 'no suffix'}."
+            f"{path.name}: labels must be a {', '.join(JSONL_SUFFIXES)} file (label JSON Lines) "
+            f"or a {', '.join(CONLL_SUFFIXES)} file (CoNLL IOB2 columns); "
+            f"got {suffix or 'no suffix'}."
         )
     try:
         lines = _decode(path.read_bytes()).splitlines()

@@ -24,6 +24,7 @@ class LabelImport:
         labels: Labels stored (one per record).
         spans: Spans in those labels.
         snapped: Spans that were moved to token boundaries when read.
+        implicit: Implicit traits (no quote span) in those labels.
     """
 
     records: int
@@ -32,6 +33,7 @@ class LabelImport:
     labels: int
     spans: int
     snapped: int
+    implicit: int = 0
 
 
 def _digest(records: Sequence[LabelRecord]) -> str:
@@ -70,6 +72,7 @@ def _add_sentences(
                 lang_origin="column" if record.lang_given else "default",
                 question=record.question,
                 variety=record.variety,
+                metadata=record.metadata,
                 row=record.line,
             )
         )
@@ -105,6 +108,35 @@ def _added_sentence(conn: sqlite3.Connection, record: LabelRecord, source: str) 
     return sid
 
 
+def check_concepts(conn: sqlite3.Connection, records: Sequence[LabelRecord], source: str) -> None:
+    """Refuse a record naming a concept that the workspace's trait concept list lacks.
+
+    Raises:
+        InputError: The first such record, by line, with the unknown ID.
+    """
+    known = {c.id for c in store.concepts(conn, "trait")}
+    for record in records:
+        named = [s.concept for s in record.spans if s.concept] + [
+            i.concept for i in record.implicit
+        ]
+        unknown = next((c for c in named if c not in known), None)
+        if unknown is None:
+            continue
+        if not known:
+            raise fail(
+                source,
+                record.line,
+                f"concept {unknown!r} cannot be checked because the workspace has no concept "
+                "list yet; import it first with `traits concepts import`",
+            )
+        raise fail(
+            source,
+            record.line,
+            f"concept {unknown!r} is not in the workspace's concept list; correct the ID "
+            "(`traits concepts list` shows them) or import the list that holds it",
+        )
+
+
 def import_labels(
     conn: sqlite3.Connection,
     records: Sequence[LabelRecord],
@@ -128,9 +160,11 @@ def import_labels(
         source: Name of the source the new answers are filed under (the file name).
 
     Raises:
-        InputError: A record without respondent matches no stored sentence, or a record's
-            text is stored only as part of a longer answer.
+        InputError: A record names a concept the workspace's concept list lacks, a record
+            without respondent matches no stored sentence, or a record's text is stored
+            only as part of a longer answer.
     """
+    check_concepts(conn, records, source)
     with store.transaction(conn):
         found = [store.find_sentence(conn, r.text, r.respondent) for r in records]
         new = [r for r, sid in zip(records, found, strict=True) if sid is None]
@@ -140,7 +174,9 @@ def import_labels(
         for record, sid in zip(records, found, strict=True):
             if sid is None:
                 sid = _added_sentence(conn, record, source)
-            store.add_label(conn, sid, list(record.spans), annotator, origin="import")
+            store.add_label(
+                conn, sid, list(record.spans), annotator, origin="import", implicit=record.implicit
+            )
     return LabelImport(
         records=len(records),
         matched=sum(sid is not None for sid in found),
@@ -148,4 +184,5 @@ def import_labels(
         labels=len(records),
         spans=sum(len(r.spans) for r in records),
         snapped=sum(r.snapped for r in records),
+        implicit=sum(len(r.implicit) for r in records),
     )

@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from types import MappingProxyType
 from typing import NamedTuple
 
 from extractor.errors import InputError
+from extractor.ingest.language import normalise_tag
 from extractor.nlp.text import tokenize
-from extractor.types import Span
+from extractor.types import Implicit, Span
 
 
 class LabelRecord(NamedTuple):
@@ -18,11 +20,14 @@ class LabelRecord(NamedTuple):
         respondent: Who said it (``None`` when the file does not say).
         lang: Language tag (the file's, or the default).
         question: The question it answers, if known.
-        spans: Gold spans, token-aligned (an empty tuple = no trait).
+        spans: Gold trait mentions, token-aligned (the format's ``mentions``).
         line: Line of the file where the sentence starts, for messages.
         lang_given: Whether the language came from the file (not the default).
         snapped: How many spans were moved to token boundaries.
         variety: The variety the answer is about, if the file says.
+        implicit: Traits the sentence states without a span. No spans and no implicit
+            traits means "no trait here".
+        metadata: Respondent metadata the file gives (gender, role ...), as text.
     """
 
     text: str
@@ -34,11 +39,30 @@ class LabelRecord(NamedTuple):
     lang_given: bool = True
     snapped: int = 0
     variety: str | None = None
+    implicit: tuple[Implicit, ...] = ()
+    metadata: Mapping[str, str] = MappingProxyType({})
 
 
 def fail(source: str, line: int, message: str) -> InputError:
     """Return the error of one bad line: the file, the line, what is wrong, what to do."""
     return InputError(f"{source}, line {line}: {message}; fix or remove the line.")
+
+
+def checked_lang(value: str, source: str, line: int) -> str:
+    """Return a language tag in its conventional case, checked as interview readers check it.
+
+    Raises:
+        InputError: The tag is not well-formed BCP 47 or its language is unknown.
+    """
+    try:
+        return normalise_tag(value)
+    except InputError as exc:
+        raise fail(
+            source,
+            line,
+            f"language {value!r} is not a BCP 47 tag of a known language "
+            "(use a code such as 'en', 'fr', 'es-419' or 'sw')",
+        ) from exc
 
 
 def align_spans(

@@ -8,7 +8,7 @@ from collections.abc import Iterable, Sequence
 from typing import Any, NamedTuple
 
 from extractor.errors import WorkspaceError
-from extractor.types import Span
+from extractor.types import Implicit, Span
 from extractor.workspace.store._schema import now, transaction
 
 
@@ -22,6 +22,14 @@ def _spans_from_json(text: str) -> list[Span]:
     return [Span(d["start"], d["end"], d.get("concept"), d.get("stance")) for d in json.loads(text)]
 
 
+def _implicit_json(implicit: Sequence[Implicit]) -> str:
+    return json.dumps([{"concept": i.concept, "stance": i.stance} for i in implicit])
+
+
+def _implicit_from_json(text: str | None) -> tuple[Implicit, ...]:
+    return tuple(Implicit(d["concept"], d.get("stance")) for d in json.loads(text or "[]"))
+
+
 def add_label(
     conn: sqlite3.Connection,
     sentence_id: int,
@@ -29,13 +37,18 @@ def add_label(
     annotator: str,
     *,
     origin: str = "terminal",
+    implicit: Sequence[Implicit] = (),
 ) -> int:
-    """Append a label (an empty ``spans`` means "no trait here"); committed on return."""
+    """Append a label; committed on return.
+
+    ``spans`` are the trait mentions with a quote span, ``implicit`` the traits the
+    sentence states without one; both empty means "no trait here".
+    """
     with transaction(conn):
         cur = conn.execute(
-            "INSERT INTO labels (sentence_id, annotator, created_at, action, spans, origin) "
-            "VALUES (?, ?, ?, 'label', ?, ?)",
-            (sentence_id, annotator, now(), _spans_json(spans), origin),
+            "INSERT INTO labels (sentence_id, annotator, created_at, action, spans, origin, "
+            "implicit) VALUES (?, ?, ?, 'label', ?, ?, ?)",
+            (sentence_id, annotator, now(), _spans_json(spans), origin, _implicit_json(implicit)),
         )
     return int(cur.lastrowid or 0)
 
@@ -56,19 +69,41 @@ def retract_label(conn: sqlite3.Connection, label_id: int, annotator: str) -> No
 
 
 class StoredLabel(NamedTuple):
-    """The label in force for one sentence (an empty ``spans`` means "no trait here")."""
+    """The label in force for one sentence.
+
+    Attributes:
+        label_id: The label's row.
+        spans: Trait mentions with a quote span (offsets into the sentence).
+        annotator: Who gave it.
+        created_at: When (ISO 8601, UTC).
+        origin: ``terminal``, ``import`` ...
+        implicit: Traits the sentence states without a span (concept and stance).
+            Empty ``spans`` and empty ``implicit`` mean "no trait here".
+    """
 
     label_id: int
     spans: list[Span]
     annotator: str
     created_at: str
     origin: str
+    implicit: tuple[Implicit, ...] = ()
+
+    @property
+    def mentions(self) -> list[Span]:
+        """The trait mentions with a quote span (the label format's ``mentions``)."""
+        return self.spans
+
+    @property
+    def empty(self) -> bool:
+        """Whether the label says "no trait here"."""
+        return not self.spans and not self.implicit
 
 
 def current_labels(conn: sqlite3.Connection) -> dict[int, StoredLabel]:
     """Return the label in force per sentence ID: the newest one not retracted."""
     rows = conn.execute(
-        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin FROM labels l "
+        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin, l.implicit "
+        "FROM labels l "
         "WHERE l.action = 'label' AND l.id NOT IN "
         "(SELECT retracts FROM labels WHERE action = 'retract') ORDER BY l.id"
     ).fetchall()
@@ -79,6 +114,7 @@ def current_labels(conn: sqlite3.Connection) -> dict[int, StoredLabel]:
             annotator=row["annotator"],
             created_at=row["created_at"],
             origin=row["origin"],
+            implicit=_implicit_from_json(row["implicit"]),
         )
         for row in rows
     }

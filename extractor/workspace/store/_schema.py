@@ -119,7 +119,12 @@ CREATE TABLE samples (
 );
 """
 
-MIGRATIONS: tuple[str, ...] = (SCHEMA_V1,)
+IMPLICIT_TRAITS = """
+ALTER TABLE labels ADD COLUMN implicit TEXT NOT NULL DEFAULT '[]';
+"""
+"""Version 2: a label also holds the traits its sentence states without a span (JSON list)."""
+
+MIGRATIONS: tuple[str, ...] = (SCHEMA_V1, IMPLICIT_TRAITS)
 """Forward migrations; ``MIGRATIONS[i]`` takes the schema from version ``i`` to ``i + 1``."""
 
 SCHEMA_VERSION = len(MIGRATIONS)
