@@ -13,8 +13,10 @@ from rich.console import Console
 from rich.table import Table
 
 from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
+from extractor.errors import InputError
 from extractor.jobs.add import LanguageFound, add_interviews
-from extractor.jobs.status import workspace_status
+from extractor.jobs.status import metadata_merges, workspace_status
+from extractor.report.metadata import Harmonised
 from extractor.workspace.folder import create_workspace
 
 _COUNT_COLUMNS = ("respondents", "answers", "sentences")
@@ -54,13 +56,38 @@ def _column_mapping(args: argparse.Namespace) -> dict[str, str] | None:
     return mapping or None
 
 
+def _metadata_renames(given: Sequence[str] | None) -> dict[str, str]:
+    """Return ``--metadata STORED=NAME`` options as a mapping, or raise InputError."""
+    renames: dict[str, str] = {}
+    for item in given or ():
+        stored, sep, name = item.partition("=")
+        if not sep or not stored.strip() or not name.strip():
+            raise InputError(
+                f"--metadata takes STORED=NAME, like --metadata sex=gender; got {item!r}."
+            )
+        renames[stored.strip()] = name.strip()
+    return renames
+
+
 def cmd_add(args: argparse.Namespace, console: Console) -> int:
-    """Add interview files."""
+    """Add interview files, and metadata column renames."""
+    renames = _metadata_renames(args.metadata)
+    if not args.files and not renames:
+        raise InputError("Give interview files to add, or --metadata STORED=NAME, or both.")
     with open_workspace(args) as ws:
         added = add_interviews(
-            ws, [Path(p) for p in args.files], sheet=args.sheet, mapping=_column_mapping(args)
+            ws,
+            [Path(p) for p in args.files],
+            sheet=args.sheet,
+            mapping=_column_mapping(args),
+            metadata=renames,
         )
+        merged = metadata_merges(ws) if renames else None
+    if merged is not None:
+        print_metadata(console, merged)
     reports = added.files
+    if not reports:
+        return 0
     table = Table(title="Interview files")
     # A path is never cut short: it folds onto further lines (no ellipsis) so the user
     # can see exactly which file each row is about, however narrow the terminal.
@@ -108,10 +135,27 @@ def print_languages(console: Console, languages: Sequence[LanguageFound]) -> Non
             console.print(f"note: {lang.tag} has {lacks}.", highlight=False)
 
 
+def print_metadata(console: Console, merged: Harmonised) -> None:
+    """Print the metadata columns and values that exports read as one."""
+    if not merged.columns and not merged.values:
+        return
+    table = Table(title="Metadata read as one (as stored -> as exported)")
+    table.add_column("column")
+    table.add_column("stored as", overflow="fold")
+    table.add_column("read as")
+    table.add_column("respondents", justify="right")
+    for col in merged.columns:
+        table.add_row("(column)", ", ".join(col.sources), col.column, str(col.respondents))
+    for val in merged.values:
+        table.add_row(val.column, ", ".join(val.spellings), val.value, str(val.respondents))
+    console.print(table)
+
+
 def cmd_status(args: argparse.Namespace, console: Console) -> int:
-    """Print the workspace's counts."""
+    """Print the workspace's counts, and the metadata merged for exports."""
     with open_workspace(args) as ws:
         counts = dataclasses.asdict(workspace_status(ws))
+        merged = metadata_merges(ws)
     if args.json:
         console.file.write(json.dumps(counts, sort_keys=True) + "\n")
         return 0
@@ -124,6 +168,7 @@ def cmd_status(args: argparse.Namespace, console: Console) -> int:
             shown = ", ".join(f"{lang} {n}" for lang, n in value.items()) or "-"
         table.add_row(key, str(shown))
     console.print(table)
+    print_metadata(console, merged)
     return 0
 
 
@@ -134,7 +179,14 @@ def register(sub: Subcommands) -> None:
     p.set_defaults(handler=cmd_init)
 
     p = sub.add_parser("add", help="add interview files (.xlsx .xls .ods .csv .tsv .txt .docx)")
-    p.add_argument("files", nargs="+")
+    p.add_argument("files", nargs="*")
+    p.add_argument(
+        "--metadata",
+        action="append",
+        metavar="STORED=NAME",
+        help="read the metadata column STORED as NAME in every file, stored ones too "
+        "(repeatable; e.g. sex=gender)",
+    )
     p.add_argument("--sheet", help="read only this sheet of a workbook")
     p.add_argument("--respondent-column")
     p.add_argument("--question-column")

@@ -71,12 +71,24 @@ def add_interviews(
     *,
     sheet: str | None = None,
     mapping: dict[str, Any] | None = None,
+    metadata: dict[str, str] | None = None,
 ) -> AddReport:
     """Read, segment and store interview files, then report the stored languages.
+
+    Args:
+        ws: The open workspace.
+        paths: Interview files; none to change only the metadata renames.
+        sheet: Read only this sheet of a workbook.
+        mapping: Explicit columns by role (respondent, answer, ...).
+        metadata: Metadata column renames (stored column -> the column it is read
+            as), stored with the workspace after the files are in; they apply to
+            every respondent stored, from any file.
 
     Raises:
         InputError: a file is missing or cannot be read (nothing is stored then).
     """
-    files = add_files(ws, paths, sheet=sheet, mapping=mapping)
+    files = add_files(ws, paths, sheet=sheet, mapping=mapping) if paths else []
+    if metadata:
+        store.add_metadata_renames(ws.conn, metadata)
     has_list = store.current_concept_version(ws.conn, "trait") is not None
     return AddReport(files=files, languages=stored_languages(ws), concept_list=has_list)

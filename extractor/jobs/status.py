@@ -5,6 +5,8 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
+from extractor.report.metadata import Harmonised
+from extractor.report.results import harmonised_respondents
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
@@ -38,3 +40,8 @@ def workspace_status(ws: Workspace) -> WorkspaceCounts:
 def model_versions(ws: Workspace) -> Sequence[store.ModelVersion]:
     """Return the recorded model versions, oldest first, with their metadata and metrics."""
     return store.models(ws.conn)
+
+
+def metadata_merges(ws: Workspace) -> Harmonised:
+    """Return the respondents' metadata as exports read it, with the columns and values merged."""
+    return harmonised_respondents(ws)

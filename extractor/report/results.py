@@ -16,6 +16,7 @@ import pandas as pd
 
 from extractor.models.variety import Attribution, attribute_corpus
 from extractor.report.about import RunFacts
+from extractor.report.metadata import Harmonised, harmonise
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -157,9 +158,26 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
     return pd.DataFrame(rows)
 
 
+def harmonised_respondents(ws: Workspace) -> Harmonised:
+    """Return the stored respondents read through the workspace's metadata mappings.
+
+    Column renames come from ``[metadata] columns`` in ``traits.toml`` and from
+    ``traits add --metadata`` (which wins for the same column); value spellings from
+    ``[metadata] values`` and ``merge_spellings``.
+    """
+    settings = ws.settings.metadata
+    renames = dict(settings.columns) | store.metadata_renames(ws.conn)
+    return harmonise(
+        store.respondents(ws.conn),
+        renames,
+        settings.values,
+        merge_spellings=settings.merge_spellings,
+    )
+
+
 def respondent_frame(ws: Workspace) -> pd.DataFrame:
-    """Return one row per respondent with ``is_group`` and metadata columns."""
-    return pd.DataFrame(store.respondents(ws.conn))
+    """Return one row per respondent with ``is_group`` and harmonised metadata columns."""
+    return pd.DataFrame(harmonised_respondents(ws).records)
 
 
 def run_facts(ws: Workspace, version: str | None) -> RunFacts:

@@ -106,6 +106,32 @@ class ExportSettings:
     )
 
 
+def _table_setting(default: Mapping[str, Any], doc: str = "", *, depth: int = 1) -> Any:
+    """Return a field holding a TOML table of texts, ``depth`` tables deep, with its comment."""
+    return field(
+        default_factory=lambda: dict(default),
+        metadata={"doc": doc, "fraction": False, "depth": depth},
+    )
+
+
+@dataclass(frozen=True)
+class MetadataSettings:
+    """Respondent metadata: columns that name the same thing, and spellings of one value."""
+
+    columns: Mapping[str, str] = _table_setting(
+        {"sex": "gender", "occupation": "role"},
+        "stored column -> the column it is read as, across files",
+    )
+    values: Mapping[str, Mapping[str, str]] = _table_setting(
+        {},
+        'per column, spelling -> value, e.g. { role = { agricultrice = "farmer" } }',
+        depth=2,
+    )
+    merge_spellings: bool = _setting(
+        True, "one value for spellings differing in case, accents or spaces; F/M for gender"
+    )
+
+
 @dataclass(frozen=True)
 class Settings:
     """All of ``traits.toml``; ``columns`` is the explicit column mapping (role -> header)."""
@@ -116,6 +142,7 @@ class Settings:
     linking: LinkingSettings = field(default_factory=LinkingSettings)
     active: ActiveSettings = field(default_factory=ActiveSettings)
     export: ExportSettings = field(default_factory=ExportSettings)
+    metadata: MetadataSettings = field(default_factory=MetadataSettings)
 
 
 SECTIONS: dict[str, type] = {
@@ -124,10 +151,11 @@ SECTIONS: dict[str, type] = {
     "linking": LinkingSettings,
     "active": ActiveSettings,
     "export": ExportSettings,
+    "metadata": MetadataSettings,
 }
 """The sections with fixed keys, in file order; ``columns`` is free-form."""
 
-SECTION_ORDER = ("workspace", "columns", "tagger", "linking", "active", "export")
+SECTION_ORDER = ("workspace", "columns", "tagger", "linking", "active", "export", "metadata")
 
 COLUMN_EXAMPLES = {
     "respondent": "Code",
@@ -189,18 +217,43 @@ def _section(kind: type, values: Mapping[str, Any], name: str, path: Path) -> An
     given: dict[str, Any] = {}
     for key, value in values.items():
         spec = fields[key]
-        problem = _problem(value, spec.default, fraction=spec.metadata["fraction"])
+        default = _default(spec)
+        problem = _problem(
+            value, default, fraction=spec.metadata["fraction"], depth=spec.metadata.get("depth", 1)
+        )
         if problem:
             raise WorkspaceError(
                 f"{path}: [{name}] {key} {problem} (got {value!r}); fix it, "
-                f"or delete the line to use the default {toml_value(spec.default)}."
+                f"or delete the line to use the default {toml_value(default)}."
             )
-        given[key] = _typed(value, spec.default)
+        given[key] = _typed(value, default)
     return kind(**given)
 
 
-def _problem(value: Any, default: Any, *, fraction: bool) -> str | None:
+def _default(spec: dataclasses.Field[Any]) -> Any:
+    """Return a field's default, made by its factory when it has one."""
+    if spec.default_factory is not dataclasses.MISSING:
+        return spec.default_factory()
+    return spec.default
+
+
+def _texts_table(value: Any, depth: int) -> bool:
+    """Return whether ``value`` is a table of texts, nested ``depth`` tables deep."""
+    if not isinstance(value, dict) or not all(isinstance(k, str) for k in value):
+        return False
+    if depth == 1:
+        return all(isinstance(v, str) for v in value.values())
+    return all(_texts_table(v, depth - 1) for v in value.values())
+
+
+def _problem(value: Any, default: Any, *, fraction: bool, depth: int = 1) -> str | None:
     """Return what is wrong with a value, judged by its default's type, or None."""
+    if isinstance(default, Mapping):
+        if _texts_table(value, depth):
+            return None
+        if depth == 1:
+            return 'must be a table of texts, like { sex = "gender" }'
+        return 'must be a table of tables of texts, like { gender = { F = "female" } }'
     if isinstance(default, bool):
         return None if isinstance(value, bool) else "must be true or false"
     if isinstance(default, int):
@@ -227,6 +280,8 @@ def _typed(value: Any, default: Any) -> Any:
         return float(value)
     if isinstance(default, tuple):
         return tuple(value)
+    if isinstance(default, Mapping):
+        return {k: dict(v) if isinstance(v, dict) else v for k, v in value.items()}
     return value
 
 
@@ -244,6 +299,11 @@ def toml_value(value: Any) -> str:
         return json.dumps(value, ensure_ascii=False)
     if isinstance(value, tuple | list):
         return "[" + ", ".join(toml_value(v) for v in value) + "]"
+    if isinstance(value, Mapping):
+        pairs = ", ".join(
+            f"{json.dumps(str(k), ensure_ascii=False)} = {toml_value(v)}" for k, v in value.items()
+        )
+        return "{ " + pairs + " }" if pairs else "{}"
     raise TypeError(f"no TOML form for {value!r}")
 
 

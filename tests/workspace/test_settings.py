@@ -21,6 +21,7 @@ from extractor.workspace.settings import (
     SECTION_ORDER,
     SECTIONS,
     ActiveSettings,
+    MetadataSettings,
     Settings,
     TaggerSettings,
     WorkspaceSettings,
@@ -169,3 +170,30 @@ def test_bad_setting_is_one_sentence_naming_file_section_and_key(
 def test_bad_value_names_the_default(tmp_path: Path) -> None:
     with pytest.raises(WorkspaceError, match=r'default \["gender", "sex"'):
         load_settings(_write(tmp_path, "[export]\ngroup_by = 3\n"))
+
+
+def test_metadata_tables_round_trip_through_the_template(tmp_path: Path) -> None:
+    changed = Settings(
+        metadata=MetadataSettings(
+            columns={"sex": "gender", "Job title": "role"},
+            values={"role": {"agricultrice": "farmer", 'say "x"': "y"}},
+            merge_spellings=False,
+        )
+    )
+    text = render_template(changed)
+    assert tomllib.loads(text) == _as_toml_data(changed)
+    assert load_settings(_write(tmp_path, text)) == changed
+
+
+@pytest.mark.parametrize(
+    ("text", "allowed"),
+    [
+        ('[metadata]\ncolumns = { sex = { F = "female" } }\n', "table of texts"),
+        ("[metadata]\nvalues = { gender = 3 }\n", "table of tables of texts"),
+        ('[metadata]\ncolumns = ["sex"]\n', "table of texts"),
+    ],
+    ids=["nested-columns", "flat-values", "list-for-table"],
+)
+def test_bad_metadata_table_is_one_sentence(tmp_path: Path, text: str, allowed: str) -> None:
+    with pytest.raises(WorkspaceError, match=allowed):
+        load_settings(_write(tmp_path, text))

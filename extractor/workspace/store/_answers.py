@@ -255,6 +255,28 @@ def respondents(conn: sqlite3.Connection) -> list[dict[str, Any]]:
     return out
 
 
+METADATA_RENAMES_KEY = "metadata_renames"
+"""Meta key of the column renames given to ``traits add --metadata`` (a JSON object)."""
+
+
+def metadata_renames(conn: sqlite3.Connection) -> dict[str, str]:
+    """Return the stored metadata column renames: stored column -> the column it is read as."""
+    row = conn.execute("SELECT value FROM meta WHERE key = ?", (METADATA_RENAMES_KEY,)).fetchone()
+    return {} if row is None else dict(json.loads(row["value"]))
+
+
+def add_metadata_renames(conn: sqlite3.Connection, renames: dict[str, str]) -> dict[str, str]:
+    """Add column renames (a later one for the same column replaces it); return them all."""
+    with transaction(conn):
+        merged = metadata_renames(conn) | dict(renames)
+        conn.execute(
+            "INSERT INTO meta (key, value) VALUES (?, ?) "
+            "ON CONFLICT (key) DO UPDATE SET value = excluded.value",
+            (METADATA_RENAMES_KEY, json.dumps(merged, sort_keys=True)),
+        )
+    return merged
+
+
 # --------------------------------------------------------------------------- languages
 
 
