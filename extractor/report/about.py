@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -94,30 +93,114 @@ def export_counts(mentions: pd.DataFrame, respondents: pd.DataFrame) -> ExportCo
     )
 
 
-def _flatten(prefix: str, value: Any, rows: list[tuple[str, Any]]) -> None:
-    """Append ``value`` to ``rows``: mappings as "parent / key" rows, lists as JSON text."""
-    if isinstance(value, Mapping):
-        for k, v in value.items():
-            _flatten(f"{prefix} / {k}" if prefix else str(k), v, rows)
-    elif isinstance(value, list | tuple | set):
-        rows.append((prefix, json.dumps(list(value), ensure_ascii=False, default=str)))
-    else:
-        rows.append((prefix, value))
+QUALITY_MEANINGS = {
+    "span_f1": "How well the tagger finds the words a person marked as a trait (0 to 1, 1 best)",
+    "span_concept_f1": "As span F1, counting a mention only when its trait ID is right too",
+    "stance_accuracy": "Share of found mentions whose stance (liked, disliked...) is right",
+    "respondent_f1": "How well each respondent's trait lists match a person's reading",
+}
+"""Headline quality figure -> its one-line meaning on the About sheet."""
+QUALITY_NAMES = {
+    "span_f1": "span F1",
+    "span_concept_f1": "span + trait ID F1",
+    "stance_accuracy": "stance accuracy",
+    "respondent_f1": "respondent F1",
+}
+FACT_MEANINGS = {
+    "Model version": "The model whose mentions this export holds",
+    "Model trained": "When that model was trained (UTC)",
+    "Concept list": "The validated trait list the mentions are linked to",
+    "Concept list SHA-256": "Fingerprint of that list's file, to tell versions apart",
+    "Concept list imported": "When the list was imported (UTC)",
+    "Respondents in workspace": "Everyone stored, before any filter of this export",
+    "Sentences in workspace": "Sentences stored, all respondents",
+    "Sentences labeled by a person": "Sentences a person marked; their marks replace the model's",
+    "Exported": "When this export was made (UTC)",
+    "Individual respondents": "People interviewed one by one: the n behind every share",
+    "Focus groups": "Group interviews, counted as groups and never as individuals",
+    "Mentions exported": "Trait mentions in this export, after the confidence floor",
+    "Mentions linked to a concept": "Mentions given a trait ID of the list",
+    "Mentions not linked": "Mentions no trait ID fitted well enough; see Unlinked terms",
+    "Mentions labeled by a person": "Mentions a person marked",
+    "Mentions predicted by the tagger": "Mentions the tagger found; review them",
+    "Mentions from the dictionary": "Mentions matched from the list's synonyms",
+    "Distinct concepts mentioned": "Trait IDs named by at least one respondent",
+    "Minimum tagger confidence": "Predicted mentions below this were left out",
+    "Pseudonymised": "Whether respondent IDs are pseudonyms and quotes screened",
+    "Columns dropped as identifying": "Respondent columns left out of this export, and why",
+    "Written": "When the file was written (local time)",
+}
+"""About item -> its one-line meaning."""
+ABOUT_COLUMNS = ["Item", "Value", "Meaning"]
+
+
+def _figure(value: Any) -> Any:
+    """Return a figure rounded for reading: two decimals; whole numbers and text as they are."""
+    if isinstance(value, float):
+        return round(value, 2)
+    return value
+
+
+def _mean_sd(entry: Any) -> str | None:
+    """Return "0.61 ± 0.05" for a cross-validated ``{"mean", "sd"}`` entry, or None."""
+    if not isinstance(entry, Mapping) or entry.get("mean") is None:
+        return None
+    sd = entry.get("sd")
+    return f"{entry['mean']:.2f}" + (f" ± {sd:.2f}" if isinstance(sd, int | float) else "")
+
+
+def quality_rows(where: str, figures: Mapping[str, Any] | None) -> list[tuple[str, Any, str]]:
+    """Return About rows for one set of quality figures: each headline figure, rounded.
+
+    Args:
+        where: ``cross-validated`` or ``evaluation sample``.
+        figures: What the model version recorded: per figure a number, or a
+            ``{"mean", "sd"}`` mapping (cross-validation), with ``k`` folds or
+            ``n_gold_spans``; None when not measured.
+    """
+    if not figures:
+        return [(f"Quality ({where})", "not measured", "Label sentences to measure it")]
+    rows: list[tuple[str, Any, str]] = []
+    for key, meaning in QUALITY_MEANINGS.items():
+        entry = figures.get(key)
+        value = _mean_sd(entry) if isinstance(entry, Mapping) else entry
+        if value is None:
+            continue
+        rows.append((f"Quality ({where}): {QUALITY_NAMES[key]}", _figure(value), meaning))
+    if isinstance(figures.get("k"), int):
+        rows.append((f"Quality ({where}): folds", figures["k"], "Figures are mean ± sd over these"))
+    if isinstance(figures.get("n_gold_spans"), int):
+        rows.append(
+            (
+                f"Quality ({where}): spans a person marked",
+                figures["n_gold_spans"],
+                "Below 30 the figures are too few to mean much",
+            )
+        )
+    return rows
 
 
 def about_table(
     facts: RunFacts, counts: ExportCounts, written: list[tuple[str, Any]]
 ) -> pd.DataFrame:
-    """Return the About sheet as Item/Value rows: caution, run facts, counts, how it was written.
+    """Return the About sheet as Item/Value/Meaning rows: caution, facts, quality, counts.
+
+    Figures are rounded for reading and each has a one-line meaning; nested records
+    (quality) become one row per headline figure.
 
     Args:
         facts: The model version and workspace behind the export.
         counts: What the export holds.
         written: Further (item, value) rows about this export, such as its settings.
     """
-    rows: list[tuple[str, Any]] = [("Caution", REVIEW_CAUTION)]
+    rows: list[tuple[str, Any, str]] = [("Caution", REVIEW_CAUTION, "Read this first")]
     for item, value in facts.items():
-        _flatten(item, value, rows)
-    rows.extend(counts.items())
-    rows.extend(written)
-    return pd.DataFrame(rows, columns=["Item", "Value"])
+        if item == "Quality (cross-validated)":
+            rows += quality_rows("cross-validated", value)
+        elif item == "Quality (evaluation sample)":
+            rows += quality_rows("evaluation sample", value)
+        else:
+            rows.append((item, _figure(value), FACT_MEANINGS.get(item, "")))
+    rows += [(item, n, FACT_MEANINGS.get(item, "")) for item, n in counts.items()]
+    rows += [(item, _figure(v), FACT_MEANINGS.get(item, "")) for item, v in written]
+    return pd.DataFrame(rows, columns=ABOUT_COLUMNS)

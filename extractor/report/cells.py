@@ -33,12 +33,16 @@ WRAPPED_COLUMNS = {
     "Disliked",
     "Wanted",
     "Value",
+    "Meaning",
     "Caution",
+    "Neutral",
 }
 PERCENT_COLUMNS = {"Share", "95% CI low", "95% CI high"}
+P_VALUE_COLUMNS = {"p", "p (BH-adjusted)"}
+P_VALUE_FORMAT = '[<0.001]"< 0.001";0.000'
+"""p-values as people read them: three decimals, and "< 0.001" below that (APA style)."""
 PROBABILITY_COLUMNS = {
-    "p",
-    "p (BH-adjusted)",
+    *P_VALUE_COLUMNS,
     "Link probability",
     "Stance probability",
     "Tagger confidence",
@@ -101,7 +105,9 @@ def _format_column(ws: Worksheet, j: int, name: str, header: int, n_rows: int) -
     wrapped = name in WRAPPED_COLUMNS
     if not (wrapped or name in PERCENT_COLUMNS or name in PROBABILITY_COLUMNS):
         return
-    fmt = "0.0%" if name in PERCENT_COLUMNS else "0.0000"
+    fmt = "0.0%" if name in PERCENT_COLUMNS else "0.00"
+    if name in P_VALUE_COLUMNS:
+        fmt = P_VALUE_FORMAT
     for (cell,) in ws.iter_rows(min_row=header + 1, max_row=header + n_rows, min_col=j, max_col=j):
         if wrapped:
             cell.alignment = WRAP

@@ -211,3 +211,22 @@ def bh_adjust(pvalues: Sequence[float]) -> list[float]:
     if ok.any():
         out[ok] = multipletests(p[ok], method="fdr_bh")[1]
     return [float(x) for x in out]
+
+
+def format_p(p: float | None) -> str:
+    """Return a p-value as people read it: ``< 0.001``, else three decimals; blank when none.
+
+    The three decimals and the ``< 0.001`` floor follow the APA publication manual
+    (7th edition, section 6.36; from memory).
+    """
+    if p is None or math.isnan(p):
+        return ""
+    return "< 0.001" if p < 0.001 else f"{p:.3f}"
+
+
+def format_share(k: int, n: int) -> str:
+    """Return ``"42% (31–54%)"``: the share of ``k`` in ``n`` with its 95% Wilson interval."""
+    if n == 0:
+        return ""
+    low, high = wilson_interval(k, n)
+    return f"{k / n:.0%} ({low:.0%}–{high:.0%})"

@@ -66,7 +66,9 @@ def respondent_type(is_group: bool) -> str:
 
 def _trait_lists(keyed: pd.DataFrame, labels: dict[str, str]) -> dict[tuple[str, str, str], str]:
     """Return (respondent, variety, stance) -> "label (ID); ...", most mentioned first."""
-    said = keyed.loc[keyed["concept_id"].notna() & keyed["stance"].isin(SAID)]
+    # A mention without a stance is a neutral one: the trait was named, no judgement given.
+    keyed = keyed.assign(stance=keyed["stance"].where(keyed["stance"].isin(SAID), "neutral"))
+    said = keyed.loc[keyed["concept_id"].notna()]
     lists: dict[tuple[str, str, str], str] = {}
     if said.empty:
         return lists
@@ -86,11 +88,11 @@ def _trait_lists(keyed: pd.DataFrame, labels: dict[str, str]) -> dict[tuple[str,
 def preferred_traits(
     mentions: pd.DataFrame, respondents: pd.DataFrame, concepts: pd.DataFrame
 ) -> pd.DataFrame:
-    """Return one row per respondent and variety with liked, disliked and wanted traits.
+    """Return one row per respondent and variety with liked, disliked, wanted, neutral traits.
 
-    Each list reads "label (ID); ...", most-mentioned first, then by label.
-    Respondents without any mention still get one row, so the table lists everyone
-    interviewed. Variety is blank where the statement names none.
+    Neutral lists traits named without a stance. Each list reads "label (ID); ...",
+    most-mentioned first, then by label. Respondents without any mention still get one
+    row, so the table lists everyone interviewed. Variety is blank where the statement names none.
     """
     meta = metadata_columns(respondents)
     variety = mentions["variety"].where(mentions["variety"].notna(), "").astype(str)
@@ -105,7 +107,7 @@ def preferred_traits(
         base = {"Respondent": resp, "Type": respondent_type(rec["is_group"])}
         base.update({m: rec[m] for m in meta})
         for var, n in sorted(by_resp.get(resp, [("", 0)])):
-            said = {s: lists.get((resp, var, s), "") for s in SAID}
+            said = {s: lists.get((resp, var, s), "") for s in (*SAID, "neutral")}
             rows.append(
                 {
                     **base,
@@ -113,10 +115,21 @@ def preferred_traits(
                     "Liked": said["liked"],
                     "Disliked": said["disliked"],
                     "Wanted": said["wanted"],
+                    "Neutral": said["neutral"],
                     "Mentions": n,
                 }
             )
-    columns = ["Respondent", "Type", *meta, "Variety", "Liked", "Disliked", "Wanted", "Mentions"]
+    columns = [
+        "Respondent",
+        "Type",
+        *meta,
+        "Variety",
+        "Liked",
+        "Disliked",
+        "Wanted",
+        "Neutral",
+        "Mentions",
+    ]
     return pd.DataFrame(rows, columns=columns)
 
 

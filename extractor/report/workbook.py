@@ -20,6 +20,7 @@ from extractor.report.about import RunFacts, about_table, export_counts
 from extractor.report.cells import HEADER_FONT, write_table
 from extractor.report.chart import chart_data, chart_title, write_chart_png, write_chart_sheet
 from extractor.report.inputs import prepare
+from extractor.report.pivot import write_pivot_sheet
 from extractor.report.privacy import (
     DEFAULT_IDENTIFYING,
     PrivacyOptions,
@@ -40,6 +41,7 @@ SHEETS = {
     "matrix": "Respondent x trait",
     "mentions": "Mentions",
     "summary": "Summary by group",
+    "pivot": "Shares by group",
     "unlinked": "Unlinked terms",
     "chart": "Chart",
     "about": "About",
@@ -64,7 +66,8 @@ def _check_target(path: Path, group_by: Sequence[str], pseudonymise: PrivacyOpti
 def _write_about_sheet(wb: Workbook, frame: pd.DataFrame) -> None:
     ws = wb.create_sheet(SHEETS["about"])
     write_table(ws, frame, freeze_columns=1)
-    ws.column_dimensions["B"].width = 80
+    ws.column_dimensions["B"].width = 60
+    ws.column_dimensions["C"].width = 60
     ws.cell(row=2, column=1).font = HEADER_FONT  # the caution row stands out
     ws.cell(row=2, column=2).font = HEADER_FONT
 
@@ -144,6 +147,7 @@ def write_workbook(
     wb.remove(wb.active)
     for title, frame, notes, freeze in tables:
         write_table(wb.create_sheet(title), frame, notes=notes, freeze_columns=freeze)
+    write_pivot_sheet(wb.create_sheet(SHEETS["pivot"], index=4), summary)
     write_chart_sheet(wb.create_sheet(SHEETS["chart"]), chart, chart_title(grouping))
     _write_about_sheet(wb, about_table(about, export_counts(m, r), written))
     _save(wb, path)

@@ -30,20 +30,37 @@ def test_export_counts_of_the_study(study: Study) -> None:
 
 
 def test_about_table_caution_first_then_facts_then_counts() -> None:
-    facts = RunFacts(model_version="m-3", quality_cross_validated={"span": {"f1": 0.71}})
+    facts = RunFacts(model_version="m-3")
     table = about_table(facts, COUNTS, [("Pseudonymised", "no")])
     items = table["Item"].tolist()
-    assert table.iloc[0].tolist() == ["Caution", REVIEW_CAUTION]
+    assert table.iloc[0].tolist()[:2] == ["Caution", REVIEW_CAUTION]
     assert items[1:3] == ["Model version", "Model trained"]
-    # Nested figures become "parent / key" rows.
-    row = table.loc[table["Item"] == "Quality (cross-validated) / span / f1", "Value"]
-    assert row.tolist() == [0.71]
     assert items[-10:] == [name for name, _ in COUNTS.items()] + ["Pseudonymised"]
     assert items.count("Caution") == 1
 
 
-def test_about_table_lists_as_json_text() -> None:
-    facts = RunFacts(quality_evaluation_sample={"folds": [0.5, 0.6]})
-    table = about_table(facts, COUNTS, [])
-    value = table.loc[table["Item"] == "Quality (evaluation sample) / folds", "Value"].item()
-    assert value == "[0.5, 0.6]"  # JSON array text (RFC 8259 section 5)
+def test_about_table_rounds_quality_figures_and_gives_each_a_meaning() -> None:
+    cv = {
+        "k": 5,
+        "span_f1": {"mean": 0.71234, "sd": 0.0456},
+        "folds": [{"fold": 1, "summary": {"span_f1": 0.7}}],
+    }
+    sample = {"span_f1": 0.6666666, "n_gold_spans": 42, "by_concept": {"X:1": {"f1": 0.5}}}
+    table = about_table(
+        RunFacts(quality_cross_validated=cv, quality_evaluation_sample=sample), COUNTS, []
+    )
+    value = dict(zip(table["Item"], table["Value"], strict=True))
+    assert value["Quality (cross-validated): span F1"] == "0.71 ± 0.05"
+    assert value["Quality (cross-validated): folds"] == 5
+    assert value["Quality (evaluation sample): span F1"] == 0.67
+    assert value["Quality (evaluation sample): spans a person marked"] == 42
+    # no JSON text: fold lists and per-concept records stay in the model's files
+    assert not any(isinstance(v, str) and v.startswith(("[", "{")) for v in table["Value"])
+    # every row but the caution says in one line what it means
+    assert table["Meaning"].map(lambda t: bool(t) and "\n" not in t).all()
+
+
+def test_about_table_says_when_quality_was_not_measured() -> None:
+    table = about_table(RunFacts(), COUNTS, [])
+    value = dict(zip(table["Item"], table["Value"], strict=True))
+    assert value["Quality (cross-validated)"] == "not measured"

@@ -43,7 +43,8 @@ def test_respondent_frame_one_row_per_respondent_with_metadata(ws: Workspace) ->
     frame = respondent_frame(ws)
     assert frame["respondent"].tolist() == ["KR-01", "KR-02", "FG-01"]
     assert frame["is_group"].tolist() == [False, False, True]
-    assert frame["gender"].tolist()[:2] == ["woman", "man"]
+    # stored as woman/man; read through the metadata harmonisation as female/male
+    assert frame["gender"].tolist()[:2] == ["female", "male"]
     assert pd.isna(frame["gender"].iloc[2])
 
 

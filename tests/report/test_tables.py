@@ -113,3 +113,15 @@ def test_unlinked_terms_meets_case_accent_and_spacing_variants() -> None:
     got = table[["Mentions", "Respondents"]].values.tolist()
     assert got == [[3, 3], [2, 2]]
     assert table["Term"].iloc[0] in {"résiste", "RESISTE", "re\u0301siste"}
+
+
+def test_preferred_traits_lists_traits_named_without_a_stance_as_neutral() -> None:
+    rows = [
+        mention("N1", 1, S1, "cooks fast", "BTX:0001", "neutral"),
+        mention("N1", 2, S2, "pest tolerance", "BTX:0002", None),
+        mention("N1", 3, S3, "Cooks fast", "BTX:0001", "liked"),
+    ]
+    m, r = prepare(pd.DataFrame(rows), pd.DataFrame({"respondent": ["N1"]}))
+    row = preferred_traits(m, r, CONCEPTS).iloc[0]
+    assert row["Liked"] == "fast cooking (BTX:0001)"
+    assert row["Neutral"] == "fast cooking (BTX:0001); pest tolerance (BTX:0002)"

@@ -35,7 +35,7 @@ def test_write_workbook_sheets_and_craft(study: Study, tmp_path: Path) -> None:
         out,
         *study,
         CONCEPTS,
-        RunFacts(model_version="m-3", quality_cross_validated={"f1": 0.71}),
+        RunFacts(model_version="m-3", quality_cross_validated={"span_f1": 0.71}),
         group_by=["gender"],
         min_confidence=None,
         pseudonymise=None,
@@ -50,8 +50,8 @@ def test_write_workbook_sheets_and_craft(study: Study, tmp_path: Path) -> None:
     assert "respondents, not of mentions" in summary["A1"].value
     assert summary.auto_filter.ref.startswith("A6:")
     about = [c.value for row in wb[SHEETS["about"]].iter_rows() for c in row]
-    assert about[2:4] == ["Caution", REVIEW_CAUTION]  # first row under the header
-    assert "Quality (cross-validated) / f1" in about
+    assert about[3:5] == ["Caution", REVIEW_CAUTION]  # first row under the header
+    assert "Quality (cross-validated): span F1" in about
     with zipfile.ZipFile(out) as zf:  # a native chart part (ECMA-376 DrawingML chart)
         assert any(n.startswith("xl/charts/chart") for n in zf.namelist())
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature, RFC 2083 section 3.1
