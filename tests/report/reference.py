@@ -8,6 +8,7 @@ Wilson score interval).
 from __future__ import annotations
 
 from collections.abc import Iterable
+from typing import Any
 
 import pandas as pd
 from statsmodels.stats.proportion import proportion_confint
@@ -49,3 +50,32 @@ def counts(
     """(k, n): members holding the outcome for the concept, and the members."""
     members = set(members)
     return len(holders(mentions, concept, outcome) & members), len(members)
+
+
+def assert_no_overlap(fig: Any) -> None:
+    """Assert that no two texts of a matplotlib figure overlap, and close it.
+
+    Every tick label, axis label, title and legend entry is measured with the
+    figure's own renderer (matplotlib's ``get_window_extent``).
+    """
+    import matplotlib.pyplot as plt
+    from matplotlib.text import Text
+
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    texts = [
+        t
+        for t in fig.findobj(Text)
+        if t.get_visible() and t.get_text().strip() and t.get_figure() is not None
+    ]
+    boxes = [(t.get_text(), t.get_window_extent(renderer)) for t in texts]
+    try:
+        for i, (a, box_a) in enumerate(boxes):
+            for b, box_b in boxes[i + 1 :]:
+                overlap = box_a.overlaps(box_b) and a != b
+                assert not overlap, f"labels overlap: {a!r} and {b!r}"
+            # every text lies inside the figure
+            w, h = fig.canvas.get_width_height()
+            assert box_a.x0 >= -1 and box_a.y0 >= -1 and box_a.x1 <= w + 1 and box_a.y1 <= h + 1, a
+    finally:
+        plt.close(fig)
