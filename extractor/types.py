@@ -62,11 +62,23 @@ class AnswerRow(NamedTuple):
 
 
 class ConceptEntry(NamedTuple):
-    """One concept of a validated concept (or variety) list."""
+    """One concept of a validated concept (or variety) list.
+
+    ``parent`` is its first parent and ``more_parents`` the others (an OBO term may have
+    several ``is_a`` parents, a SKOS concept several ``broader`` ones); ``iri`` is the
+    concept's IRI when the list is SKOS.
+    """
 
     id: str
     parent: str | None = None
     definition: str | None = None
+    more_parents: tuple[str, ...] = ()
+    iri: str | None = None
+
+    @property
+    def parents(self) -> tuple[str, ...]:
+        """Every parent, the first one first."""
+        return ((self.parent,) if self.parent else ()) + self.more_parents
 
 
 class AliasEntry(NamedTuple):

@@ -3,55 +3,118 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
 from collections.abc import Mapping
 from pathlib import Path
 
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
+from rich.tree import Tree
 
-from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
+from extractor.cli.common import (
+    Subcommands,
+    open_workspace,
+    print_notes,
+    print_warnings,
+    print_written,
+)
+from extractor.ingest.concept_changes import ConceptChanges
 from extractor.ingest.intake import import_concepts
 from extractor.jobs.curate import (
     MIN_COUNT_PERCENT,
+    ConceptListing,
     accept_alias,
     export_concepts,
     list_concepts,
     suggest_terms,
 )
 from extractor.models.terms import TermSuggestion
+from extractor.workspace import store
+from extractor.workspace.folder import Workspace
+from extractor.workspace.settings import ConceptListSettings
+
+MAPPING_OPTIONS = {
+    "id_column": "--id-column",
+    "label_column": "--label-column",
+    "synonyms_columns": "--synonyms-column",
+    "lang_column": "--lang-column",
+    "lang": "--lang",
+    "parent_column": "--parent-column",
+    "definition_column": "--definition-column",
+    "split": "--split",
+    "roots": "--root",
+    "exclude": "--exclude",
+}
+"""Setting of ``[concept_list]`` -> the option of ``traits concepts import`` that overrides it."""
+
+
+def _options(args: argparse.Namespace, ws: Workspace) -> ConceptListSettings:
+    """Return traits.toml's ``[concept_list]`` (trait lists only) with the options given."""
+    base = ws.settings.concept_list if args.kind == "trait" else ConceptListSettings()
+    given = {name: getattr(args, name) for name in MAPPING_OPTIONS if getattr(args, name)}
+    for name in ("synonyms_columns", "roots", "exclude"):
+        if name in given:
+            given[name] = tuple(given[name])
+    return dataclasses.replace(base, **given)
 
 
 def cmd_concepts_import(args: argparse.Namespace, console: Console) -> int:
-    """Import a concept or variety list."""
+    """Import a concept or variety list; show what it changes first."""
     with open_workspace(args) as ws:
-        report = import_concepts(ws, Path(args.file), kind=args.kind)
+        report = import_concepts(
+            ws, Path(args.file), kind=args.kind, options=_options(args, ws), dry_run=args.dry_run
+        )
     print_warnings(console, report.warnings)
+    print_notes(console, report.notes)
     noun = "varieties" if args.kind == "variety" else "concepts"
     if report.status == "unchanged":
-        console.print(f"{report.path} is already the current list; nothing to import.")
+        console.print(f"{escape(report.path)} is already the current list; nothing to import.")
+        return 0
+    print_changes(console, report.changes)
+    if report.status == "checked":
+        console.print(
+            f"Checked {report.concepts} {noun} with {report.aliases} aliases in "
+            f"{escape(report.path)}; nothing was stored (--dry-run)."
+        )
     else:
         console.print(
-            f"Imported {report.concepts} {noun} with {report.aliases} aliases from {report.path}."
+            f"Imported {report.concepts} {noun} with {report.aliases} aliases from "
+            f"{escape(report.path)}."
         )
     return 0
 
 
+def print_changes(console: Console, changes: ConceptChanges) -> None:
+    """Print what a new list version changes: added, removed, renamed, synonyms, labels kept."""
+    if changes.first or not changes.any:
+        if not changes.first:
+            console.print("The new version changes no concept, label or synonym.")
+        return
+    table = Table(title="Changes against the list in force")
+    for column in ("change", "concept", "detail"):
+        table.add_column(column, overflow="fold")
+    for cid in changes.added:
+        table.add_row("added", escape(cid), "")
+    for cid in changes.removed:
+        kept = changes.labels_kept.get(cid, 0)
+        detail = f"{kept} labeled sentences point at it; their labels are kept" if kept else ""
+        table.add_row("removed", escape(cid), detail)
+    for r in changes.renamed:
+        table.add_row(
+            "renamed", escape(r.concept), escape(f"{r.lang}: {r.before!r} -> {r.after!r}")
+        )
+    for c in changes.synonyms:
+        parts = [f"+ {t}" for t in c.added] + [f"- {t}" for t in c.removed]
+        table.add_row("synonyms", escape(c.concept), escape("; ".join(parts)))
+    console.print(table)
+
+
 def cmd_concepts_list(args: argparse.Namespace, console: Console) -> int:
-    """List concepts and the imported list versions."""
+    """Show the concepts as a tree (with mention counts once a model has run) and the versions."""
     with open_workspace(args) as ws:
         listing = list_concepts(ws, args.kind)
-    table = Table(title="Concepts" if args.kind == "trait" else "Varieties")
-    for column in ("id", "labels", "parent", "aliases"):
-        table.add_column(column)
-    for concept in listing.concepts:
-        labels = "; ".join(f"{lang}: {text}" for lang, text in concept.labels.items())
-        table.add_row(
-            concept.id,
-            labels,
-            concept.parent or "",
-            str(listing.alias_counts.get(concept.id, 0)),
-        )
-    console.print(table)
+    console.print(concept_tree(listing, "Concepts" if args.kind == "trait" else "Varieties"))
     history = Table(title="Imported versions")
     for column in ("#", "kind", "file", "sha256", "imported", "concepts", "aliases"):
         history.add_column(column)
@@ -59,7 +122,7 @@ def cmd_concepts_list(args: argparse.Namespace, console: Console) -> int:
         history.add_row(
             str(v.id),
             v.kind,
-            v.path,
+            escape(v.path),
             v.sha256[:12],
             v.imported_at,
             str(v.n_concepts),
@@ -67,6 +130,39 @@ def cmd_concepts_list(args: argparse.Namespace, console: Console) -> int:
         )
     console.print(history)
     return 0
+
+
+def concept_tree(listing: ConceptListing, title: str) -> Tree:
+    """Return the hierarchy as a rich tree; a concept with two parents shows under both."""
+    known = {c.id: c for c in listing.concepts}
+    children: dict[str | None, list[str]] = {}
+    for concept in listing.concepts:
+        parents: list[str | None] = [p for p in concept.parents if p in known]
+        for parent in parents or [None]:
+            children.setdefault(parent, []).append(concept.id)
+    heading = title
+    if listing.mentions is not None:
+        heading += f" (mentions and respondents: model {listing.model_version})"
+    tree = Tree(escape(heading))
+    stack = [(tree, cid) for cid in reversed(children.get(None, []))]
+    while stack:
+        branch, cid = stack.pop()
+        node = branch.add(_concept_line(listing, known[cid]))
+        stack += [(node, child) for child in reversed(children.get(cid, []))]
+    return tree
+
+
+def _concept_line(listing: ConceptListing, concept: store.StoredConcept) -> str:
+    """Return one concept's line: ID, labels per language, alias count and mention counts."""
+    labels = "; ".join(f"{lang}: {text}" for lang, text in concept.labels.items())
+    line = f"[bold]{escape(concept.id)}[/] {escape(labels)}"
+    aliases = listing.alias_counts.get(concept.id, 0)
+    line += f" [dim]({aliases} alias{'' if aliases == 1 else 'es'})[/]"
+    if listing.mentions is not None and listing.respondents is not None:
+        n = listing.mentions.get(concept.id, 0)
+        people = listing.respondents.get(concept.id, 0)
+        line += f" [cyan]{n} mentions, {people} respondents[/]" if n else " [dim]no mentions[/]"
+    return line
 
 
 def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
@@ -129,8 +225,10 @@ def register(sub: Subcommands) -> None:
     concepts = sub.add_parser("concepts", help="the trait concept list").add_subparsers(
         dest="concepts_command", required=True, metavar="ACTION"
     )
-    p = concepts.add_parser("import", help="import a concept list (CSV or XLSX)")
-    p.add_argument("file")
+    p = concepts.add_parser(
+        "import", help="import a concept list (table, OBO or SKOS); shows what it changes"
+    )
+    p.add_argument("file", help="a table (.csv .tsv .xlsx .xls .ods), .obo, or SKOS (.ttl .rdf)")
     p.add_argument(
         "--varieties",
         dest="kind",
@@ -138,6 +236,10 @@ def register(sub: Subcommands) -> None:
         const="variety",
         default="trait",
         help="the file is a variety list",
+    )
+    _add_mapping_options(p)
+    p.add_argument(
+        "--dry-run", action="store_true", help="show what the list changes, store nothing"
     )
     p.set_defaults(handler=cmd_concepts_import)
     p = concepts.add_parser("list", help="list concepts and imported versions")
@@ -164,3 +266,41 @@ def register(sub: Subcommands) -> None:
     p = concepts.add_parser("export", help="the concept list with accepted aliases, for curators")
     p.add_argument("--out", help="output CSV (default: exports/concepts_with_accepted_aliases.csv)")
     p.set_defaults(handler=cmd_concepts_export)
+
+
+def _add_mapping_options(p: argparse.ArgumentParser) -> None:
+    """Add the options naming a table's columns and the branch to import."""
+    table = p.add_argument_group("columns of a trait table (also [concept_list] in traits.toml)")
+    table.add_argument("--id-column", dest="id_column", metavar="C", help="concept IDs")
+    table.add_argument("--label-column", dest="label_column", metavar="C", help="labels")
+    table.add_argument(
+        "--synonyms-column",
+        dest="synonyms_columns",
+        metavar="C",
+        action="append",
+        help="synonyms (repeat for several columns)",
+    )
+    lang = table.add_mutually_exclusive_group()
+    lang.add_argument("--lang-column", dest="lang_column", metavar="C", help="language tags")
+    lang.add_argument("--lang", metavar="TAG", help="the language of every row (BCP 47)")
+    table.add_argument("--parent-column", dest="parent_column", metavar="C", help="parent IDs")
+    table.add_argument(
+        "--definition-column", dest="definition_column", metavar="C", help="definitions"
+    )
+    table.add_argument(
+        "--split", metavar="SEP", help='separator inside a cell (default: "|" or ";")'
+    )
+    branch = p.add_argument_group("one branch of the hierarchy (any kind of list)")
+    branch.add_argument(
+        "--root",
+        dest="roots",
+        metavar="ID",
+        action="append",
+        help="import only this concept and its descendants (repeatable)",
+    )
+    branch.add_argument(
+        "--exclude",
+        metavar="ID",
+        action="append",
+        help="leave out this concept and its descendants (repeatable)",
+    )

@@ -6,18 +6,23 @@ and then stored in one transaction: a bad file leaves the store exactly as it wa
 
 from __future__ import annotations
 
+import dataclasses
+import hashlib
+import json
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, NamedTuple
 
 from extractor.errors import InputError
+from extractor.ingest.concept_changes import ConceptChanges, compare_lists
 from extractor.ingest.concepts import file_sha256, load_concept_list
 from extractor.ingest.reader import SUFFIXES, ReadResult, read_interviews
 from extractor.nlp.text import split_sentences
 from extractor.progress import track
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
+from extractor.workspace.settings import ConceptListSettings
 
 
 @dataclass(frozen=True)
@@ -50,13 +55,16 @@ class ConceptImport:
     """What importing a concept (or variety) list did.
 
     Attributes:
-        status: ``"imported"``, or ``"unchanged"`` when this exact file is the current
-            list already.
+        status: ``"imported"``; ``"unchanged"`` when this exact file, read with the same
+            options, is the current list already; ``"checked"`` when a dry run
+            stored nothing.
         path: The list as recorded in the store.
-        concepts: How many concepts the current list holds.
-        aliases: How many aliases the current list holds.
+        concepts: How many concepts the current (or checked) list holds.
+        aliases: How many aliases the current (or checked) list holds.
         warnings: What validation noticed, one sentence each.
-        version: The new list version; ``None`` when unchanged.
+        version: The new list version; ``None`` when nothing was stored.
+        notes: What the reader left out on purpose (obsolete terms, other branches).
+        changes: What the new version changes compared with the list in force.
     """
 
     status: str
@@ -65,6 +73,8 @@ class ConceptImport:
     aliases: int
     warnings: tuple[str, ...] = ()
     version: int | None = None
+    notes: tuple[str, ...] = ()
+    changes: ConceptChanges = field(default_factory=ConceptChanges)
 
 
 class _Pending(NamedTuple):
@@ -203,14 +213,47 @@ def interview_files(folder: Path) -> list[Path]:
     )
 
 
-def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> ConceptImport:
+def list_fingerprint(path: Path, options: ConceptListSettings) -> str:
+    """Return what identifies an imported list: the file's SHA-256, with the options if any.
+
+    The file's own hash when the options are the defaults, so that a list imported before
+    options existed is still recognised as unchanged.
+    """
+    sha = file_sha256(path)
+    if options == ConceptListSettings():
+        return sha
+    given = json.dumps(dataclasses.asdict(options), sort_keys=True)
+    return hashlib.sha256(f"{sha}\n{given}".encode()).hexdigest()
+
+
+def import_concepts(
+    ws: Workspace,
+    path: Path,
+    *,
+    kind: str = "trait",
+    options: ConceptListSettings | None = None,
+    dry_run: bool = False,
+) -> ConceptImport:
     """Validate and store a concept (or variety) list unless this exact version is current.
 
+    What the new version changes is worked out before anything is stored; labels
+    pointing at a removed concept are kept (the concept stays, inactive).
+
+    Args:
+        ws: The open workspace.
+        path: The list: a table, an OBO or a SKOS file.
+        kind: ``trait`` or ``variety``.
+        options: Columns and branch to read; by default traits.toml's ``[concept_list]``
+            for a trait list, none for a variety list.
+        dry_run: Work out and return the changes but store nothing.
+
     Raises:
-        InputError: The list is missing or breaks the concept-list format.
+        InputError: The list is missing or broken (nothing is stored then).
     """
+    if options is None:
+        options = ws.settings.concept_list if kind == "trait" else ConceptListSettings()
     current = store.current_concept_version(ws.conn, kind)
-    sha = file_sha256(path) if path.exists() else None
+    sha = list_fingerprint(path, options) if path.is_file() else None
     if current is not None and sha == current.sha256:
         return ConceptImport(
             status="unchanged",
@@ -218,20 +261,33 @@ def import_concepts(ws: Workspace, path: Path, *, kind: str = "trait") -> Concep
             concepts=current.n_concepts,
             aliases=current.n_aliases,
         )
-    loaded = load_concept_list(path, default_lang=ws.settings.workspace.default_language)
-    version = store.replace_concept_list(
-        ws.conn,
-        kind=kind,
-        path=stored_path(ws, path),
-        sha256=loaded.sha256,
-        concepts=loaded.concepts,
-        aliases=loaded.aliases,
+    loaded = load_concept_list(
+        path, default_lang=ws.settings.workspace.default_language, options=options
     )
+    changes = compare_lists(
+        store.concepts(ws.conn, kind),
+        store.aliases(ws.conn, kind),
+        loaded.concepts,
+        loaded.aliases,
+        store.current_labels(ws.conn) if kind == "trait" else {},
+    )
+    version = None
+    if not dry_run:
+        version = store.replace_concept_list(
+            ws.conn,
+            kind=kind,
+            path=stored_path(ws, path),
+            sha256=sha or loaded.sha256,
+            concepts=loaded.concepts,
+            aliases=loaded.aliases,
+        )
     return ConceptImport(
-        status="imported",
+        status="checked" if dry_run else "imported",
         path=stored_path(ws, path),
         concepts=len(loaded.concepts),
         aliases=len(loaded.aliases),
         warnings=tuple(loaded.warnings),
         version=version,
+        notes=loaded.notes,
+        changes=changes,
     )

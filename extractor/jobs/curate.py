@@ -11,6 +11,7 @@ from extractor.jobs.train import load_version
 from extractor.models.terms import TermSuggestion
 from extractor.models.terms import suggest_terms as rank_terms
 from extractor.report.formats import spreadsheet_text
+from extractor.report.results import mention_frame
 from extractor.types import Span
 from extractor.workspace import store
 from extractor.workspace.files import atomic_open
@@ -19,11 +20,19 @@ from extractor.workspace.folder import Workspace
 
 @dataclass(frozen=True)
 class ConceptListing:
-    """The concepts (or varieties) in force, their alias counts, and the imported versions."""
+    """The concepts (or varieties) in force, their alias counts, and the imported versions.
+
+    ``mentions`` and ``respondents`` count, per concept, the mentions of the newest
+    model version (people's labels replacing its predictions) and the respondents who
+    made them; both are None before a model has run.
+    """
 
     concepts: Sequence[store.StoredConcept]
     alias_counts: Mapping[str, int]
     versions: Sequence[store.ConceptListVersion]
+    mentions: Mapping[str, int] | None = None
+    respondents: Mapping[str, int] | None = None
+    model_version: str | None = None
 
 
 MIN_COUNT_PERCENT = 2
@@ -66,7 +75,21 @@ def list_concepts(ws: Workspace, kind: str = "trait") -> ConceptListing:
     per_concept: dict[str, int] = {}
     for alias in store.aliases(ws.conn, kind):
         per_concept[alias.concept_id] = per_concept.get(alias.concept_id, 0) + 1
-    return ConceptListing(found, per_concept, versions)
+    latest = store.latest_model(ws.conn)
+    if kind != "trait" or latest is None:
+        return ConceptListing(found, per_concept, versions)
+    frame = mention_frame(ws, latest.version)
+    linked = frame.loc[frame["concept_id"].notna()] if not frame.empty else frame
+    mentions = linked.groupby("concept_id").size() if not linked.empty else {}
+    people = linked.groupby("concept_id")["respondent"].nunique() if not linked.empty else {}
+    return ConceptListing(
+        found,
+        per_concept,
+        versions,
+        {str(k): int(v) for k, v in dict(mentions).items()},
+        {str(k): int(v) for k, v in dict(people).items()},
+        latest.version,
+    )
 
 
 def suggest_terms(ws: Workspace, *, min_count: int | None = None) -> TermSuggestions:
@@ -137,7 +160,7 @@ def export_concepts(ws: Workspace, out: Path | None = None) -> Path:
                 lang,
                 "|".join(row["alternative"]),
                 "|".join(row["hidden"]),
-                concept.parent or "",
+                "|".join(concept.parents) or concept.parent or "",
                 concept.definition or "",
                 "|".join(row["accepted"]),
             ]

@@ -44,6 +44,22 @@ class WorkspaceSettings:
 
 
 @dataclass(frozen=True)
+class ConceptListSettings:
+    """How to read the trait concept list, when its columns or branch need saying."""
+
+    id_column: str = _setting("", "column holding the concept ID (default: id)")
+    label_column: str = _setting("", "column holding the preferred label (default: label)")
+    synonyms_columns: tuple[str, ...] = _setting((), "columns holding synonyms")
+    lang_column: str = _setting("", "column holding each row's language tag (default: lang)")
+    lang: str = _setting("", "language of every row, when the list has no language column")
+    parent_column: str = _setting("", "column holding the parent ID(s) (default: parent)")
+    definition_column: str = _setting("", "column holding the definition")
+    split: str = _setting("", 'separator inside a synonyms or parent cell (default: "|" or ";")')
+    roots: tuple[str, ...] = _setting((), "import only these concepts and their descendants")
+    exclude: tuple[str, ...] = _setting((), "leave out these concepts and their descendants")
+
+
+@dataclass(frozen=True)
 class TaggerSettings:
     """The CRF tagger's training."""
 
@@ -138,6 +154,7 @@ class Settings:
 
     workspace: WorkspaceSettings = field(default_factory=WorkspaceSettings)
     columns: Mapping[str, Any] = field(default_factory=dict)
+    concept_list: ConceptListSettings = field(default_factory=ConceptListSettings)
     tagger: TaggerSettings = field(default_factory=TaggerSettings)
     linking: LinkingSettings = field(default_factory=LinkingSettings)
     active: ActiveSettings = field(default_factory=ActiveSettings)
@@ -147,6 +164,7 @@ class Settings:
 
 SECTIONS: dict[str, type] = {
     "workspace": WorkspaceSettings,
+    "concept_list": ConceptListSettings,
     "tagger": TaggerSettings,
     "linking": LinkingSettings,
     "active": ActiveSettings,
@@ -155,7 +173,16 @@ SECTIONS: dict[str, type] = {
 }
 """The sections with fixed keys, in file order; ``columns`` is free-form."""
 
-SECTION_ORDER = ("workspace", "columns", "tagger", "linking", "active", "export", "metadata")
+SECTION_ORDER = (
+    "workspace",
+    "columns",
+    "concept_list",
+    "tagger",
+    "linking",
+    "active",
+    "export",
+    "metadata",
+)
 
 COLUMN_EXAMPLES = {
     "respondent": "Code",

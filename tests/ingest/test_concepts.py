@@ -9,6 +9,7 @@ import pytest
 
 from extractor.errors import InputError
 from extractor.ingest.concepts import load_concept_list, split_synonyms
+from extractor.workspace.settings import ConceptListSettings
 
 
 def _write(tmp_path: Path, text: str, name: str = "c.csv") -> Path:
@@ -85,3 +86,90 @@ def test_load_concept_list_reads_utf16_and_other_delimiters(
         ("cuit vite", "fr", "alternative"),
         ("cuisson rapide", "fr", "alternative"),
     }
+
+
+# --- tables by column mapping -------------------------------------------------------
+
+TRAIT_TABLE = (
+    "Trait ID,Trait name,Other names,Local names,Language,Parent trait,Description,Unit\n"
+    "BTX:0001,cooking quality,eating quality,,en,,How the beans cook.,\n"
+    "BTX:0002,cooking time,cooks fast,quick to cook / slow to cook,en,BTX:0001,Minutes.,min\n"
+)
+
+
+def test_load_concept_list_reads_a_trait_table_by_mapping(tmp_path: Path) -> None:
+    options = ConceptListSettings(
+        id_column="Trait ID",
+        label_column="trait name",  # header names match without regard to case
+        synonyms_columns=("Other names", "Local names"),
+        lang_column="Language",
+        parent_column="Parent trait",
+        definition_column="Description",
+        split="/",
+    )
+    loaded = load_concept_list(_write(tmp_path, TRAIT_TABLE), options=options)
+    assert [(c.id, c.parents, c.definition) for c in loaded.concepts] == [
+        ("BTX:0001", (), "How the beans cook."),
+        ("BTX:0002", ("BTX:0001",), "Minutes."),
+    ]
+    assert {(a.concept_id, a.text, a.kind) for a in loaded.aliases} == {
+        ("BTX:0001", "cooking quality", "preferred"),
+        ("BTX:0001", "eating quality", "alternative"),
+        ("BTX:0002", "cooking time", "preferred"),
+        ("BTX:0002", "cooks fast", "alternative"),
+        ("BTX:0002", "quick to cook", "alternative"),
+        ("BTX:0002", "slow to cook", "alternative"),
+    }
+
+
+def test_load_concept_list_lang_option_sets_every_row(tmp_path: Path) -> None:
+    path = _write(tmp_path, "code,name\nBTX:1,temps de cuisson\n")
+    options = ConceptListSettings(id_column="code", label_column="name", lang="fr")
+    assert {a.lang for a in load_concept_list(path, options=options).aliases} == {"fr"}
+
+
+def test_load_concept_list_unrecognised_table_lists_columns_and_the_options(
+    tmp_path: Path,
+) -> None:
+    with pytest.raises(InputError) as caught:
+        load_concept_list(_write(tmp_path, TRAIT_TABLE))
+    message = str(caught.value)
+    assert "'Trait ID', 'Trait name', 'Other names'" in message
+    assert "--id-column 'Trait ID' --label-column 'Trait name'" in message
+
+
+def test_load_concept_list_mapping_to_a_missing_column_names_it(tmp_path: Path) -> None:
+    options = ConceptListSettings(id_column="Trait ID", label_column="Name of trait")
+    with pytest.raises(InputError, match=r"no column 'Name of trait' \(given with --label-col"):
+        load_concept_list(_write(tmp_path, TRAIT_TABLE), options=options)
+
+
+def test_load_concept_list_several_parents_in_one_cell(tmp_path: Path) -> None:
+    path = _write(tmp_path, "id,label,parent\nA,a,\nB,b,\nC,c,A|B\n")
+    assert load_concept_list(path).concepts[2].parents == ("A", "B")
+
+
+# --- malformed tables (reliability issue, item 3) -----------------------------------
+
+
+@pytest.mark.parametrize(
+    ("text", "message"),
+    [
+        # found by fuzzing: duplicate header names and a row longer than the header
+        ("label,label,id\nnan,es-419,yes,\n", r"header names 'label' twice \(columns 1 and 2\)"),
+        ("id,label\nBTX:1,taste,sweet\n", r"row 2: 3 filled cells but the header names 2"),
+        ("id,label,lang\nBTX:1,taste,en\nBTX:2,smell,en,x,y\n", r"row 3: 5 filled cells"),
+    ],
+    ids=["duplicate-header", "longer-row", "longer-third-row"],
+)
+def test_load_concept_list_malformed_table_is_one_sentence(
+    tmp_path: Path, text: str, message: str
+) -> None:
+    with pytest.raises(InputError, match=message) as caught:
+        load_concept_list(_write(tmp_path, text))
+    assert "\n" not in str(caught.value)
+
+
+def test_load_concept_list_tolerates_empty_trailing_cells(tmp_path: Path) -> None:
+    loaded = load_concept_list(_write(tmp_path, "id,label\nBTX:1,taste,,\n"))
+    assert [c.id for c in loaded.concepts] == ["BTX:1"]

@@ -147,7 +147,7 @@ def test_load_concept_list_from_ods(tmp_path: Path) -> None:
 def test_load_concept_list_from_real_xls_reads_its_first_sheet(tmp_path: Path) -> None:
     # The statsmodels file has no id/label columns: the reader must get far enough to
     # name the columns xlrd finds in it.
-    with pytest.raises(InputError, match=r"no 'id' or 'label' column.*'seriesid'"):
+    with pytest.raises(InputError, match=r"no 'id' or 'label' column.*'SeriesID'"):
         load_concept_list(_real_xls())
 
 

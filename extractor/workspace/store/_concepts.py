@@ -70,13 +70,24 @@ def replace_concept_list(
         )
         version_id = int(cur.lastrowid or 0)
         conn.execute("UPDATE concepts SET active = 0 WHERE kind = ?", (kind,))
+        conn.execute(
+            "DELETE FROM concept_parents WHERE concept_id IN "
+            "(SELECT id FROM concepts WHERE kind = ?)",
+            (kind,),
+        )
         for concept in concepts:
             conn.execute(
-                "INSERT INTO concepts (id, kind, parent, definition, version_id, active) "
-                "VALUES (?, ?, ?, ?, ?, 1) ON CONFLICT (id) DO UPDATE SET kind = excluded.kind, "
-                "parent = excluded.parent, definition = excluded.definition, "
-                "version_id = excluded.version_id, active = 1",
-                (concept.id, kind, concept.parent, concept.definition, version_id),
+                "INSERT INTO concepts (id, kind, parent, definition, version_id, active, iri) "
+                "VALUES (?, ?, ?, ?, ?, 1, ?) ON CONFLICT (id) DO UPDATE SET "
+                "kind = excluded.kind, parent = excluded.parent, "
+                "definition = excluded.definition, version_id = excluded.version_id, "
+                "active = 1, iri = excluded.iri",
+                (concept.id, kind, concept.parent, concept.definition, version_id, concept.iri),
+            )
+            conn.executemany(
+                "INSERT OR IGNORE INTO concept_parents (concept_id, parent_id, position) "
+                "VALUES (?, ?, ?)",
+                [(concept.id, p, i) for i, p in enumerate(concept.parents)],
             )
         conn.execute(
             "DELETE FROM aliases WHERE origin = 'list' AND concept_id IN "
@@ -111,12 +122,17 @@ def add_alias(
 
 
 class StoredConcept(NamedTuple):
-    """An active concept (or variety) with its preferred label per language."""
+    """An active concept (or variety) with its preferred label per language.
+
+    ``parent`` is the first parent, ``parents`` all of them; ``iri`` the SKOS IRI.
+    """
 
     id: str
     parent: str | None
     definition: str | None
     labels: dict[str, str]
+    parents: tuple[str, ...] = ()
+    iri: str | None = None
 
 
 class StoredAlias(NamedTuple):
@@ -133,8 +149,16 @@ class StoredAlias(NamedTuple):
 def concepts(conn: sqlite3.Connection, kind: str = "trait") -> list[StoredConcept]:
     """Return active concepts with their preferred labels per language."""
     out = []
+    parents: dict[str, list[str]] = {}
+    for concept_id, parent_id in conn.execute(
+        "SELECT p.concept_id, p.parent_id FROM concept_parents p JOIN concepts c "
+        "ON c.id = p.concept_id WHERE c.kind = ? ORDER BY p.concept_id, p.position",
+        (kind,),
+    ):
+        parents.setdefault(concept_id, []).append(parent_id)
     for row in conn.execute(
-        "SELECT id, parent, definition FROM concepts WHERE kind = ? AND active = 1 ORDER BY id",
+        "SELECT id, parent, definition, iri FROM concepts WHERE kind = ? AND active = 1 "
+        "ORDER BY id",
         (kind,),
     ):
         labels = {
@@ -145,7 +169,16 @@ def concepts(conn: sqlite3.Connection, kind: str = "trait") -> list[StoredConcep
                 (row["id"],),
             )
         }
-        out.append(StoredConcept(row["id"], row["parent"], row["definition"], labels))
+        out.append(
+            StoredConcept(
+                row["id"],
+                row["parent"],
+                row["definition"],
+                labels,
+                tuple(parents.get(row["id"], ())),
+                row["iri"],
+            )
+        )
     return out
 
 

@@ -124,7 +124,20 @@ ALTER TABLE labels ADD COLUMN implicit TEXT NOT NULL DEFAULT '[]';
 """
 """Version 2: a label also holds the traits its sentence states without a span (JSON list)."""
 
-MIGRATIONS: tuple[str, ...] = (SCHEMA_V1, IMPLICIT_TRAITS)
+CONCEPT_PARENTS = """
+ALTER TABLE concepts ADD COLUMN iri TEXT;
+CREATE TABLE concept_parents (
+    concept_id TEXT NOT NULL REFERENCES concepts (id),
+    parent_id TEXT NOT NULL,
+    position INTEGER NOT NULL,
+    PRIMARY KEY (concept_id, parent_id)
+);
+INSERT INTO concept_parents (concept_id, parent_id, position)
+    SELECT id, parent, 0 FROM concepts WHERE parent IS NOT NULL AND parent != '';
+"""
+"""Version 3: every parent of a concept (OBO terms may have several), and a SKOS concept's IRI."""
+
+MIGRATIONS: tuple[str, ...] = (SCHEMA_V1, IMPLICIT_TRAITS, CONCEPT_PARENTS)
 """Forward migrations; ``MIGRATIONS[i]`` takes the schema from version ``i`` to ``i + 1``."""
 
 SCHEMA_VERSION = len(MIGRATIONS)
