@@ -18,6 +18,7 @@ waits. Successive models' agreement on the stop set gives the stopping signal
 from __future__ import annotations
 
 import sqlite3
+import uuid
 from collections import deque
 from collections.abc import Sequence
 
@@ -46,6 +47,10 @@ from extractor.models.bundle import SentencePrediction
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 
+LEASE_S = 900.0
+"""How long a shown sentence stays leased to a session (renewed when shown again); a
+killed session's sentences come free after this."""
+
 
 class Session:
     """One annotator's labeling session over a store; start one with :meth:`open`.
@@ -71,8 +76,10 @@ class Session:
         retrain: Retrain | None = None,
         version: str | None = None,
         newer_labels: int = 0,
+        holder: str = "",
     ) -> None:
         self.conn = conn
+        self.holder = holder or annotator
         self.annotator = annotator
         self.strategy_name = strategy_name
         self.strategy = strategy
@@ -156,6 +163,7 @@ class Session:
             retrain=retrain,
             version=version,
             newer_labels=newer_labels,
+            holder=f"{annotator.strip()}:{uuid.uuid4().hex[:12]}",
         )
         if predictor is not None:
             session._install(tag_pool(predictor, spec, session._pool_snapshot(), pool.stop, []))
@@ -317,20 +325,34 @@ class Session:
             in_evaluation=sentence_id in self.pool.evaluation_ids,
         )
 
+    def _claim(self, sentence_id: int) -> bool:
+        """Hold the sentence for this session; False (and never ask it) if another has it."""
+        if sentence_id in self._done:
+            return False
+        if store.claim_sentence(self.conn, sentence_id, self.holder, ttl_s=LEASE_S):
+            return True
+        self._done.add(sentence_id)  # another live session shows it, or has labeled it
+        return False
+
     def next(self) -> Item | None:
-        """Return the next sentence to show, or None when nothing is left to ask."""
+        """Return the next sentence to show, or None when nothing is left to ask.
+
+        The sentence is leased to this session in the store, so that another session
+        labeling the same workspace is never handed it (:func:`store.claim_sentence`).
+        """
         self._poll()
         while self._front:
             sid = self._front.popleft()
-            if sid not in self._done:
+            if self._claim(sid):
                 return self._item(sid, self._previous.pop(sid, None))
-        for _ in range(2):
+        while True:
             while self._batch:
                 sid = self._batch.popleft()
-                if sid not in self._done:
+                if self._claim(sid):
                     return self._item(sid, None)
             self._refill()
-        return None
+            if not self._batch:
+                return None
 
     # ----------------------------------------------------------------- answering
 
@@ -350,6 +372,7 @@ class Session:
         """
         checked = self._check_spans(sentence_id, spans)
         label_id = store.add_label(self.conn, sentence_id, checked, self.annotator)
+        store.release_sentences(self.conn, self.holder, sentence_id)
         self._session_label_ids.add(label_id)
         self._done.add(sentence_id)
         self._labeled.add(sentence_id)
@@ -364,6 +387,7 @@ class Session:
         if sentence_id not in self.pool.sentences:
             raise InputError(f"Sentence {sentence_id} is not in this workspace.")
         store.add_skip(self.conn, sentence_id, self.annotator)
+        store.release_sentences(self.conn, self.holder, sentence_id)
         self._done.add(sentence_id)
         self.skipped_this_session += 1
 
@@ -433,4 +457,5 @@ class Session:
         is a daemon and holds no store connection), so quitting never waits.
         """
         self._closed = True
+        store.release_sentences(self.conn, self.holder)
         return self.summary()

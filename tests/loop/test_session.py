@@ -289,3 +289,30 @@ def test_session_over_empty_store_has_nothing_to_ask(tmp_path: Path, strategy: s
     session = Session.open(conn, annotator="Ama", strategy=strategy, predictor=FakeModel())
     assert session.next() is None
     assert session.quit().labeled == 0
+
+
+def test_two_live_sessions_are_never_handed_the_same_sentence(tmp_path: Path) -> None:
+    path = tmp_path / "two.sqlite"
+    first = build_store(path)
+    second = store.connect(path)
+    settings = SessionSettings(evaluation_fraction=0.0, evaluation_min=0, stop_set_size=0)
+    ama = Session.open(first, annotator="Ama", strategy="random", batch_size=3, settings=settings)
+    baraka = Session.open(
+        second, annotator="Baraka", strategy="random", batch_size=3, settings=settings
+    )
+    shown: dict[str, list[int]] = {"Ama": [], "Baraka": []}
+    for _ in range(4):  # each looks at a sentence, skips it, and the other looks too
+        for session in (ama, baraka):
+            item = session.next()
+            assert item is not None
+            shown[session.annotator].append(item.sentence.id)
+            session.submit(item.sentence.id, [])
+    assert not set(shown["Ama"]) & set(shown["Baraka"])
+    held = baraka.next()
+    assert held is not None
+    ama_next = ama.next()
+    assert ama_next is not None and ama_next.sentence.id != held.sentence.id
+    ama.quit()
+    baraka.quit()
+    first.close()
+    second.close()

@@ -52,6 +52,14 @@ from extractor.workspace.store._labels import (
     sample_ids,
     skipped,
 )
+from extractor.workspace.store._leases import (
+    Disagreement,
+    claim_sentence,
+    disagreements,
+    held_elsewhere,
+    labels_by_annotator,
+    release_sentences,
+)
 from extractor.workspace.store._models import (
     ModelVersion,
     StoredPrediction,
@@ -77,6 +85,12 @@ from extractor.workspace.store._schema import (
 from extractor.workspace.store._status import counts
 
 __all__ = [
+    "release_sentences",
+    "labels_by_annotator",
+    "held_elsewhere",
+    "disagreements",
+    "claim_sentence",
+    "Disagreement",
     "MIGRATIONS",
     "AnswerLanguage",
     "SCHEMA_VERSION",

@@ -137,7 +137,17 @@ INSERT INTO concept_parents (concept_id, parent_id, position)
 """
 """Version 3: every parent of a concept (OBO terms may have several), and a SKOS concept's IRI."""
 
-MIGRATIONS: tuple[str, ...] = (SCHEMA_V1, IMPLICIT_TRAITS, CONCEPT_PARENTS)
+LEASES = """
+CREATE TABLE leases (
+    sentence_id INTEGER PRIMARY KEY REFERENCES sentences (id),
+    holder TEXT NOT NULL,
+    expires_at REAL NOT NULL
+);
+"""
+"""Version 4: a labeling session's hold on the sentence it shows; it runs out at ``expires_at``
+(seconds since the epoch) so that a killed session's sentences come free again."""
+
+MIGRATIONS: tuple[str, ...] = (SCHEMA_V1, IMPLICIT_TRAITS, CONCEPT_PARENTS, LEASES)
 """Forward migrations; ``MIGRATIONS[i]`` takes the schema from version ``i`` to ``i + 1``."""
 
 SCHEMA_VERSION = len(MIGRATIONS)
