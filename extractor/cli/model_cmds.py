@@ -173,6 +173,8 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
     console.print(f"Wrote {report.path} ({report.mentions} {what}).", markup=False)
     if report.chart:
         console.print(f"Chart: {report.chart}")
+    if report.charts:
+        console.print(f"Charts (PNG and SVG): {report.charts}", markup=False)
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
     return 0
 

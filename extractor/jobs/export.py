@@ -42,11 +42,15 @@ LABEL_FORMATS = ("conll", "labels")
 
 @dataclass(frozen=True)
 class ExportResult:
-    """A file an export wrote, how many mentions (or labeled sentences) it holds, its chart."""
+    """A file an export wrote, how many mentions (or labeled sentences) it holds, its charts.
+
+    ``charts`` is the folder of the workbook's charts as PNG and SVG, when written.
+    """
 
     path: Path
     mentions: int
     chart: Path | None = None
+    charts: Path | None = None
 
 
 def workspace_secret(ws: Workspace) -> bytes:
@@ -132,9 +136,11 @@ def export_workbook(
     group_by: Sequence[str] | None = None,
     names_file: str | None = None,
 ) -> ExportResult:
-    """Write the preferred-traits workbook and its chart PNG.
+    """Write the preferred-traits workbook, its chart PNG and its charts folder.
 
-    The mention count is the one on the workbook's About sheet ("Mentions exported").
+    The charts (PNG and SVG) go into a folder beside the workbook named after it
+    (``preferred_traits_charts/``). The mention count is the one on the workbook's About
+    sheet ("Mentions exported").
     """
     out = out or ws.exports_dir / (
         "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx"
@@ -143,6 +149,7 @@ def export_workbook(
     mentions = mention_frame(ws, version)
     respondents = respondent_frame(ws)
     png = out.with_name(out.stem + "_chart.png")
+    charts = out.with_name(out.stem + "_charts")
     written = write_workbook(
         out,
         mentions,
@@ -153,8 +160,11 @@ def export_workbook(
         min_confidence=min_confidence_floor(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
         chart_png=png,
+        chart_dir=charts,
     )
-    return ExportResult(out, written, png if png.exists() else None)
+    return ExportResult(
+        out, written, png if png.exists() else None, charts if charts.is_dir() else None
+    )
 
 
 def _export_labeled(out: Path, ws: Workspace, fmt: str, pseudonymise: bool) -> ExportResult:

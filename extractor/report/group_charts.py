@@ -25,6 +25,7 @@ from openpyxl.chart.data_source import NumDataSource, NumRef
 from openpyxl.chart.error_bar import ErrorBars
 from openpyxl.worksheet.worksheet import Worksheet
 
+from extractor.progress import track
 from extractor.report.cells import HEADER_FONT, NOTE_FONT, append_row
 from extractor.report.pivot import wide_groupings
 from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
@@ -213,7 +214,7 @@ def write_chart_files(charts: list[GroupChart], folder: Path) -> list[Path]:
     """Write each chart as ``NAME.png`` and ``NAME.svg`` into ``folder``; return the PNGs."""
     folder.mkdir(parents=True, exist_ok=True)
     written = []
-    for chart in charts:
+    for chart in track(charts, "Drawing charts"):
         png = folder / f"{chart.name}.png"
         draw_chart(chart, png, folder / f"{chart.name}.svg")
         written.append(png)

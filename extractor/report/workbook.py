@@ -18,7 +18,8 @@ from openpyxl import Workbook
 from extractor.errors import InputError
 from extractor.report.about import RunFacts, about_table, export_counts
 from extractor.report.cells import HEADER_FONT, write_table
-from extractor.report.chart import chart_data, chart_title, write_chart_png, write_chart_sheet
+from extractor.report.chart import chart_data, chart_title, write_chart_png
+from extractor.report.group_charts import all_charts, write_chart_files, write_charts_sheet
 from extractor.report.inputs import prepare
 from extractor.report.pivot import write_pivot_sheet
 from extractor.report.privacy import (
@@ -34,6 +35,12 @@ from extractor.report.tables import (
     trait_matrix,
     unlinked_terms,
 )
+from extractor.report.varieties import (
+    HEAD_TO_HEAD_NOTES,
+    VARIETY_NOTES,
+    head_to_head,
+    variety_table,
+)
 from extractor.workspace.files import atomic_path
 
 SHEETS = {
@@ -42,8 +49,10 @@ SHEETS = {
     "mentions": "Mentions",
     "summary": "Summary by group",
     "pivot": "Shares by group",
+    "varieties": "Traits by variety",
+    "head_to_head": "Head to head",
     "unlinked": "Unlinked terms",
-    "chart": "Chart",
+    "chart": "Charts",
     "about": "About",
 }
 
@@ -100,8 +109,9 @@ def write_workbook(
     min_confidence: float | None = None,
     pseudonymise: PrivacyOptions | None = None,
     chart_png: Path | str | None = None,
+    chart_dir: Path | str | None = None,
 ) -> int:
-    """Write the analysis workbook (.xlsx) and, optionally, the chart as PNG.
+    """Write the analysis workbook (.xlsx) and, optionally, its charts as PNG and SVG.
 
     Args:
         path: Where to write the ``.xlsx``; its folder must exist.
@@ -113,7 +123,9 @@ def write_workbook(
             the first one also splits the chart.
         min_confidence: Drop predicted mentions below this tagger confidence.
         pseudonymise: Pseudonyms, screened text and dropped identifying columns.
-        chart_png: Where to write the chart as a PNG too.
+        chart_png: Where to write the chart of liked traits by the first grouping as a PNG.
+        chart_dir: A folder to write every chart of the Charts sheet into, as PNG and SVG
+            (liked, disliked and wanted, by each grouping).
 
     Returns:
         The number of mentions exported (after the confidence floor), as the About
@@ -141,6 +153,8 @@ def write_workbook(
         (SHEETS["matrix"], trait_matrix(m, r, concepts), (), 1),
         (SHEETS["mentions"], mention_evidence(m, r, concepts), (), 1),
         (SHEETS["summary"], summary, SUMMARY_NOTES, 2),
+        (SHEETS["varieties"], variety_table(m, r, concepts), VARIETY_NOTES, 1),
+        (SHEETS["head_to_head"], head_to_head(m, r, concepts), HEAD_TO_HEAD_NOTES, 1),
         (SHEETS["unlinked"], unlinked_terms(m), (), 1),
     ]
     wb = Workbook()
@@ -148,9 +162,12 @@ def write_workbook(
     for title, frame, notes, freeze in tables:
         write_table(wb.create_sheet(title), frame, notes=notes, freeze_columns=freeze)
     write_pivot_sheet(wb.create_sheet(SHEETS["pivot"], index=4), summary)
-    write_chart_sheet(wb.create_sheet(SHEETS["chart"]), chart, chart_title(grouping))
+    charts = all_charts(summary, group_by)
+    write_charts_sheet(wb.create_sheet(SHEETS["chart"]), charts)
     _write_about_sheet(wb, about_table(about, export_counts(m, r), written))
     _save(wb, path)
     if chart_png is not None:
         write_chart_png(chart, Path(chart_png), chart_title(grouping))
+    if chart_dir is not None:
+        write_chart_files(charts, Path(chart_dir))
     return len(m)

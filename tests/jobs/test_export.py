@@ -49,7 +49,9 @@ def test_export_workbook_default_paths_and_counts(ws: Workspace) -> None:
         ws.exports_dir / "preferred_traits.xlsx",
         3,
         ws.exports_dir / "preferred_traits_chart.png",
+        ws.exports_dir / "preferred_traits_charts",
     )
+    assert (ws.exports_dir / "preferred_traits_charts" / "liked_all.svg").is_file()
     about = openpyxl.load_workbook(result.path)["About"]
     assert (about["A2"].value, about["B2"].value) == ("Caution", REVIEW_CAUTION)
 
