@@ -16,7 +16,14 @@ from collections.abc import Sequence
 from rich.console import Console
 
 from extractor import __version__, progress
-from extractor.cli import concept_cmds, label_cmds, language_cmds, model_cmds, workspace_cmds
+from extractor.cli import (
+    concept_cmds,
+    label_cmds,
+    language_cmds,
+    model_cmds,
+    review_cmds,
+    workspace_cmds,
+)
 from extractor.cli.common import CommandsAction, global_options
 from extractor.errors import TraitsError
 
@@ -31,7 +38,14 @@ def build_parser() -> argparse.ArgumentParser:
     global_options(parser)
     parser.register("action", "parsers", CommandsAction)
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
-    for commands in (workspace_cmds, concept_cmds, model_cmds, label_cmds, language_cmds):
+    for commands in (
+        workspace_cmds,
+        concept_cmds,
+        model_cmds,
+        label_cmds,
+        review_cmds,
+        language_cmds,
+    ):
         commands.register(sub)
     return parser
 

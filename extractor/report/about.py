@@ -23,6 +23,7 @@ class RunFacts:
     model_trained: str | None = None
     quality_cross_validated: Mapping[str, Any] | None = None
     quality_evaluation_sample: Mapping[str, Any] | None = None
+    quality_reviewed_sample: Mapping[str, Any] | None = None
     concept_list: str | None = None
     concept_list_sha256: str | None = None
     concept_list_imported: str | None = None
@@ -38,6 +39,7 @@ class RunFacts:
             ("Model trained", self.model_trained),
             ("Quality (cross-validated)", self.quality_cross_validated),
             ("Quality (evaluation sample)", self.quality_evaluation_sample),
+            ("Quality (reviewed sample)", self.quality_reviewed_sample),
             ("Concept list", self.concept_list),
             ("Concept list SHA-256", self.concept_list_sha256),
             ("Concept list imported", self.concept_list_imported),

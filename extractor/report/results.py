@@ -186,11 +186,17 @@ def run_facts(ws: Workspace, version: str | None) -> RunFacts:
     concepts = store.current_concept_version(ws.conn)
     counts = store.counts(ws.conn)
     metrics = {} if model is None else model.metrics
+    # A review measures the version that was reviewed; later versions show that figure,
+    # with the version it was measured on, until a sample of theirs is reviewed.
+    reviewed = [
+        m.metrics["review_sample"] for m in store.models(ws.conn) if m.metrics.get("review_sample")
+    ]
     return RunFacts(
         model_version=version or "none (labels only)",
         model_trained=None if model is None else model.created_at,
         quality_cross_validated=metrics.get("cross_validation"),
         quality_evaluation_sample=metrics.get("evaluation_sample"),
+        quality_reviewed_sample=reviewed[-1] if reviewed else None,
         concept_list=None if concepts is None else concepts.path,
         concept_list_sha256=None if concepts is None else concepts.sha256,
         concept_list_imported=None if concepts is None else concepts.imported_at,
