@@ -213,9 +213,13 @@ def reviewed_labels(
 ) -> tuple[dict[int, list[Span]], list[Problem]]:
     """Return each good reviewed sentence's label, and every problem found."""
     problems = list(file.problems)
+    # A sentence with a bad row is not checked further: its other rows would only
+    # repeat the same fault in other words.
+    bad = {file.keys[p.key].sentence_id for p in problems if p.key in file.keys}
     entries: dict[int, list[ReviewEntry]] = defaultdict(list)
     for entry in file.entries:
-        entries[file.keys[entry.key].sentence_id].append(entry)
+        if file.keys[entry.key].sentence_id not in bad:
+            entries[file.keys[entry.key].sentence_id].append(entry)
     keys: dict[int, list[RowKey]] = defaultdict(list)
     for key in file.keys.values():
         keys[key.sentence_id].append(key)
