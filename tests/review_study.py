@@ -35,7 +35,7 @@ def review_study(root: Path) -> Path:
         store.add_model(ws.conn, VERSION, str(root / "models" / VERSION), {})
         rows = []
         for sentence in store.sentences(ws.conn):
-            mentions = []
+            mentions: list[dict[str, Any]] = []
             for phrase, concept in PHRASES.items():
                 for found in re.finditer(re.escape(phrase), sentence.text):
                     mentions.append(

@@ -39,6 +39,7 @@ from extractor.ingest.review import (
 from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.cells import HEADER_FONT, append_row, write_table
 from extractor.types import STANCES
+from extractor.workspace.files import atomic_path
 
 EDIT_FILL = PatternFill("solid", fgColor="FFF2CC")
 SPARE_ROWS = 200
@@ -160,7 +161,7 @@ def write_review_workbook(
 
     Raises:
         InputError: The path is not an ``.xlsx`` file in an existing folder, or cannot
-            be written.
+            be written (the previous file is then kept).
     """
     if path.suffix.lower() != ".xlsx" or not path.parent.is_dir():
         raise InputError(
@@ -175,11 +176,6 @@ def write_review_workbook(
     lists = _lists_sheet(wb, [concept_choice(cid, label) for cid, label in concepts])
     _validate(ws, header, len(lines), lists)
     _keys_sheet(wb, lines, meta)
-    try:
-        wb.save(path)
-    except OSError as exc:
-        raise InputError(
-            f"Cannot write the review workbook {str(path)!r}: {exc.strerror or exc}; close it "
-            "in any spreadsheet program and check the folder is writable."
-        ) from exc
+    with atomic_path(path) as temp:  # a kill or a full disk keeps the previous file
+        wb.save(temp)
     return len(lines)

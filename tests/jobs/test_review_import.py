@@ -87,13 +87,13 @@ def test_review_sentence_reviewed_again_gets_newer_label(reviewed: tuple[Path, P
 def _soffice() -> str:
     found = shutil.which("soffice") or shutil.which("libreoffice")
     if found is None:
-        pytest.skip("LibreOffice (soffice) is not installed: apt-get install libreoffice-calc-nogui")
+        pytest.skip(
+            "LibreOffice (soffice) is not installed: apt-get install libreoffice-calc-nogui"
+        )
     return found
 
 
-def test_review_round_trip_through_libreoffice(
-    reviewed: tuple[Path, Path], tmp_path: Path
-) -> None:
+def test_review_round_trip_through_libreoffice(reviewed: tuple[Path, Path], tmp_path: Path) -> None:
     # Outside check: LibreOffice Calc itself reads the edited workbook and writes it again
     # (its own xlsx writer: shared strings, its data validations, hidden sheets).
     soffice = _soffice()
@@ -127,8 +127,13 @@ BAD_ROWS = [
     pytest.param(
         ("S1-1", Col.CONCEPT), "moon phase (BTX:9999)", Col.CONCEPT, "not a concept", id="concept"
     ),
-    pytest.param(("S5", Col.MISSED_WORDS), "boils slowly", Col.MISSED_WORDS, "not in the sentence",
-                 id="words"),
+    pytest.param(
+        ("S5", Col.MISSED_WORDS),
+        "boils slowly",
+        Col.MISSED_WORDS,
+        "not in the sentence",
+        id="words",
+    ),
     pytest.param(("S1-1", Col.VERDICT), "fix", Col.CONCEPT, "fix needs", id="fix-without-fields"),
     pytest.param(("S1-1", Col.VERDICT), "maybe", Col.VERDICT, "not one of", id="verdict"),
     pytest.param(("S12-1", Col.VERDICT), "correct", Col.SENTENCE, "changed", id="sentence-changed"),
@@ -143,7 +148,10 @@ def test_review_bad_row_gives_one_sentence_and_imports_nothing(
     edit(path, {("S12-1", Col.VERDICT): "correct"} | {cell: value})
     with Workspace.open(root) as ws:
         if column == Col.SENTENCE:
-            ws.conn.execute("UPDATE answers SET text = 'Good yield even in drought. It cooks slowly.' WHERE id = 6")
+            ws.conn.execute(
+                "UPDATE answers SET text = ? WHERE id = 6",
+                ("Good yield even in drought. It cooks slowly.",),
+            )
         with pytest.raises(ReviewRowsError) as raised:
             import_review(ws, path, reviewer="Amina")
         assert store.label_history(ws.conn) == []
