@@ -40,8 +40,8 @@ def cmd_review_export(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
-def quality_table(quality: ReviewQuality, version: str | None) -> Table:
-    """Return the quality measured on a reviewed sample, overall and by concept."""
+def quality_table(quality: ReviewQuality, version: str | None, by_concept: bool) -> Table:
+    """Return the quality measured on a reviewed sample, overall (and by concept)."""
     table = Table(
         title=f"Model {version}: measured on {quality.respondents} reviewed respondents "
         f"({quality.sentences} sentences)"
@@ -55,7 +55,7 @@ def quality_table(quality: ReviewQuality, version: str | None) -> Table:
         ("respondent table", quality.table_precision, quality.table_recall),
     ):
         table.add_row(name, p.text(), r.text())
-    for c in quality.by_concept:
+    for c in quality.by_concept if by_concept else ():
         table.add_row(f"concept {c.concept}", c.precision.text(), c.recall.text())
     return table
 
@@ -74,7 +74,9 @@ def cmd_review_import(args: argparse.Namespace, console: Console) -> int:
         f"stored for {result.reviewer}, {result.unchanged} unchanged since an earlier import."
     )
     if result.quality is not None:
-        console.print(quality_table(result.quality, result.model_version))
+        console.print(quality_table(result.quality, result.model_version, args.verbose))
+        if not args.verbose:
+            console.print("By concept: add -v.")
     if result.stored:
         console.print("Run `traits train` (or `traits run`) to build a model version from them.")
     return 0
