@@ -98,8 +98,11 @@ KEY_COLUMNS = (
 )
 """The keys sheet's table: one row per review row key."""
 META_ITEMS = ("Format", "Workspace", "Workspace ID", "Model version", "Selection", "Exported")
-ORIGINS = ("model", "person", "none")
-"""What a row shows: a model's mention, a person's labeled mention, or no mention."""
+IMPLIED = "implied"
+"""The origin of a row showing a trait a person's label states without words."""
+ORIGINS = ("model", "person", "none", IMPLIED)
+"""What a row shows: a model's mention, a person's labeled mention, no mention, or a
+trait a person's label states without words (start and end are then blank)."""
 
 
 def sentence_digest(text: str) -> str:

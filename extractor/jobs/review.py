@@ -19,11 +19,11 @@ from pathlib import Path
 import numpy as np
 
 from extractor.errors import InputError
-from extractor.ingest.review import RowKey, sentence_digest
+from extractor.ingest.review import IMPLIED, RowKey, sentence_digest
 from extractor.jobs.tag import ensure_tagged
 from extractor.report.results import concept_frame
 from extractor.report.review import ReviewLine, write_review_workbook
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
@@ -117,6 +117,10 @@ class _Found:
         self.labels = store.current_labels(ws.conn)
         self.predicted = store.predictions(ws.conn, version) if version else {}
 
+    def implicit(self, sid: int) -> tuple[Implicit, ...]:
+        """Return the traits a person's label states without words (none for predictions)."""
+        return self.labels[sid].implicit if sid in self.labels else ()
+
     def mentions(self, sid: int) -> tuple[str, list[Span], list[float | None]]:
         if sid in self.labels:
             spans = list(self.labels[sid].spans)
@@ -145,6 +149,8 @@ def sentence_lines(
     conf: Sequence[float | None],
     labels: Mapping[str, str],
     found_by: Sequence[str] = (),
+    implicit: Sequence[Implicit] = (),
+    implicit_by: Sequence[str] = (),
 ) -> list[ReviewLine]:
     """Return a sentence's review rows: one per mention, or one saying it has none.
 
@@ -155,6 +161,8 @@ def sentence_lines(
         conf: The tagger's confidence of each mention (None for a person's).
         labels: Concept ID -> display label.
         found_by: Who found each mention, when several people did (else the origin).
+        implicit: Traits a person's label states without words: one row each.
+        implicit_by: Who stated each of those, when several people did.
     """
     digest = sentence_digest(sentence.text)
 
@@ -169,6 +177,25 @@ def sentence_lines(
             confidence=confidence,
         )
 
+    implied = [
+        line(
+            RowKey(
+                f"S{sentence.id}-i{k}",
+                sentence.id,
+                None,
+                None,
+                digest,
+                IMPLIED,
+                t.concept,
+                t.stance,
+            ),
+            "",
+            None,
+        )._replace(found_by=implicit_by[k - 1] if implicit_by else "person")
+        for k, t in enumerate(implicit, start=1)
+    ]
+    if not spans and implied:
+        return implied
     if not spans:
         none = "none" if origin == "model" else "person"
         return [
@@ -194,7 +221,7 @@ def sentence_lines(
             c,
         )._replace(found_by=found_by[k - 1] if found_by else "")
         for k, (sp, c) in enumerate(zip(spans, conf, strict=True), start=1)
-    ]
+    ] + implied
 
 
 def review_lines(
@@ -216,7 +243,8 @@ def review_lines(
     for sentence in kept:
         origin, spans, conf = found.mentions(sentence.id)
         if _keeps(origin, spans, conf, selection):
-            lines.extend(sentence_lines(sentence, origin, spans, conf, labels))
+            implicit = found.implicit(sentence.id)
+            lines.extend(sentence_lines(sentence, origin, spans, conf, labels, implicit=implicit))
     return lines
 
 

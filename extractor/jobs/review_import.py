@@ -20,9 +20,11 @@ from collections import defaultdict
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import NamedTuple
 
 from extractor.errors import InputError
 from extractor.ingest.review import (
+    IMPLIED,
     REVIEW_SHEET,
     Col,
     Problem,
@@ -36,7 +38,7 @@ from extractor.jobs.review import SAMPLE_SELECTION, WORKSPACE_ID_KEY
 from extractor.loop.marking import find_phrase
 from extractor.report.results import concept_frame
 from extractor.report.review_quality import ReviewedSentence, ReviewQuality, review_quality
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
@@ -68,6 +70,13 @@ class ReviewImport:
     skipped: tuple[str, ...] = ()
     quality: ReviewQuality | None = None
     model_version: str | None = None
+
+
+class Reviewed(NamedTuple):
+    """A sentence's label after review: its mentions and the traits it states without words."""
+
+    spans: list[Span]
+    implicit: tuple[Implicit, ...]
 
 
 class _Sentence:
@@ -120,19 +129,13 @@ class _Sentence:
             return None
         return found._replace(concept=concept or key.concept, stance=stance or key.stance)
 
-    def _added(self, entry: ReviewEntry, taken: list[Span]) -> Span | None:
+    def _added(self, entry: ReviewEntry, taken: list[Span]) -> Span | Implicit | None:
+        """Return the missed trait a row adds: a span of its words, or an implied trait."""
         added = entry.added
         if added is None:
             return None
         if not added.words:
-            self.problem(
-                entry.key,
-                entry.row,
-                Col.MISSED_WORDS,
-                "a trait without words cannot be stored in this workspace's labels yet; type "
-                "the words that say it",
-            )
-            return None
+            return Implicit(added.concept, added.stance)
         places = find_phrase(self.sentence.text, added.words, self.sentence.lang)
         if not places:
             self.problem(
@@ -154,14 +157,20 @@ class _Sentence:
             return None
         return Span(free[0][0], free[0][1], added.concept, added.stance)
 
-    def label(self, keys: Sequence[RowKey], entries: Sequence[ReviewEntry]) -> list[Span] | None:
+    def label(self, keys: Sequence[RowKey], entries: Sequence[ReviewEntry]) -> Reviewed | None:
         """Return the sentence's label after review, or None when a row of it is bad."""
         by_key: dict[str, list[ReviewEntry]] = defaultdict(list)
         for entry in entries:
             by_key[entry.key].append(entry)
         spans: list[Span] = []
+        implicit: list[Implicit] = []
         for key in keys:
             got = by_key.get(key.key, [])
+            if key.origin == IMPLIED:
+                kept = self._mention(key, got)
+                if kept is not None and kept.concept:
+                    implicit.append(Implicit(kept.concept, kept.stance))
+                continue
             if key.start is None:
                 verdicts = {e.verdict for e in got if e.verdict}
                 if verdicts - {"correct"} and not any(e.added for e in got):
@@ -179,9 +188,15 @@ class _Sentence:
         self._no_overlap(spans, by_key)
         for entry in entries:
             added = self._added(entry, spans)
-            if added is not None:
+            if isinstance(added, Span):
                 spans.append(added)
-        return None if self.problems else sorted(spans)
+            elif added is not None:
+                implicit.append(added)
+        if self.problems:
+            return None
+        return Reviewed(
+            sorted(spans), tuple(sorted(set(implicit), key=lambda t: (t.concept, t.stance or "")))
+        )
 
     def _no_overlap(self, spans: Sequence[Span], by_key: dict[str, list[ReviewEntry]]) -> None:
         """Note a problem when two kept mentions share words (e.g. two annotators' versions)."""
@@ -210,7 +225,7 @@ def _check_workspace(ws: Workspace, file: ReviewFile, path: Path) -> None:
 
 def reviewed_labels(
     ws: Workspace, path: Path, file: ReviewFile
-) -> tuple[dict[int, list[Span]], list[Problem]]:
+) -> tuple[dict[int, Reviewed], list[Problem]]:
     """Return each good reviewed sentence's label, and every problem found."""
     problems = list(file.problems)
     # A sentence with a bad row is not checked further: its other rows would only
@@ -224,7 +239,7 @@ def reviewed_labels(
     for key in file.keys.values():
         keys[key.sentence_id].append(key)
     sentences = {s.id: s for s in store.sentences(ws.conn, sorted(entries))}
-    labels: dict[int, list[Span]] = {}
+    labels: dict[int, Reviewed] = {}
     for sid, got in sorted(entries.items()):
         sentence = sentences.get(sid)
         if sentence is None or sentence_digest(sentence.text) != keys[sid][0].digest:
@@ -246,7 +261,7 @@ def reviewed_labels(
 
 
 def _quality(
-    file: ReviewFile, labels: dict[int, list[Span]], respondents: dict[int, str]
+    file: ReviewFile, labels: dict[int, Reviewed], respondents: dict[int, str]
 ) -> ReviewQuality | None:
     """Return the model's quality on the reviewed sentences, if the file was a random sample."""
     if not file.meta.get("Selection", "").startswith(SAMPLE_SELECTION):
@@ -258,7 +273,9 @@ def _quality(
             found = [
                 Span(k.start, k.end or 0, k.concept, k.stance) for k in keys if k.start is not None
             ]
-            measured.append(ReviewedSentence(respondents[sid], sorted(found), final))
+            measured.append(
+                ReviewedSentence(respondents[sid], sorted(found), final.spans, final.implicit)
+            )
     return review_quality(measured) if measured else None
 
 
@@ -286,10 +303,18 @@ def import_review(
     bad = {file.keys[p.key].sentence_id for p in problems if p.key in file.keys}
     labels = {sid: spans for sid, spans in labels.items() if sid not in bad}
     mine = store.labels_by_annotator(ws.conn).get(reviewer, {})
-    fresh = {sid: s for sid, s in labels.items() if sid not in mine or sorted(mine[sid].spans) != s}
+    fresh = {
+        sid: new
+        for sid, new in labels.items()
+        if sid not in mine
+        or sorted(mine[sid].spans) != new.spans
+        or set(mine[sid].implicit) != set(new.implicit)
+    }
     with store.transaction(ws.conn):
-        for sid, spans in fresh.items():
-            store.add_label(ws.conn, sid, spans, reviewer, origin=REVIEW_ORIGIN)
+        for sid, new in fresh.items():
+            store.add_label(
+                ws.conn, sid, new.spans, reviewer, origin=REVIEW_ORIGIN, implicit=new.implicit
+            )
     respondents = {s.id: s.respondent or "" for s in store.sentences(ws.conn, labels)}
     quality = _quality(file, labels, respondents)
     version = file.meta.get("Model version")

@@ -182,6 +182,37 @@ def quality_rows(where: str, figures: Mapping[str, Any] | None) -> list[tuple[st
     return rows
 
 
+REVIEW_MEANINGS = {
+    "measured on": "A person reviewed every row of these respondents' sentences (random sample)",
+    "model version": "The model whose mentions were reviewed",
+    "reviewer": "Who reviewed them",
+    "precision (words)": "Share of found mentions whose words the reviewer kept (95% interval)",
+    "precision (words and concept)": "As above, with the trait ID kept too",
+    "precision (words, concept and stance)": "As above, with the stance kept too",
+    "recall (words)": "Share of the reviewer's mentions the model had found",
+    "recall (words and concept)": "As above, with the same trait ID",
+    "respondent table precision": "Share of (respondent, trait, stance) rows the review kept",
+    "respondent table recall": "Share of the reviewed (respondent, trait, stance) rows found",
+}
+"""Figure of a reviewed sample (:mod:`extractor.report.review_quality`) -> its meaning."""
+
+
+def reviewed_rows(figures: Mapping[str, Any] | None) -> list[tuple[str, Any, str]]:
+    """Return About rows for the quality measured on a reviewed random sample."""
+    if not figures:
+        return [
+            (
+                "Quality (reviewed sample)",
+                "not measured",
+                "Review a random sample: traits review export --sample N, then import it",
+            )
+        ]
+    return [
+        (f"Quality (reviewed sample): {key}", value, REVIEW_MEANINGS.get(key, ""))
+        for key, value in figures.items()
+    ]
+
+
 def about_table(
     facts: RunFacts, counts: ExportCounts, written: list[tuple[str, Any]]
 ) -> pd.DataFrame:
@@ -201,6 +232,8 @@ def about_table(
             rows += quality_rows("cross-validated", value)
         elif item == "Quality (evaluation sample)":
             rows += quality_rows("evaluation sample", value)
+        elif item == "Quality (reviewed sample)":
+            rows += reviewed_rows(value)
         else:
             rows.append((item, _figure(value), FACT_MEANINGS.get(item, "")))
     rows += [(item, n, FACT_MEANINGS.get(item, "")) for item, n in counts.items()]

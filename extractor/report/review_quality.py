@@ -16,15 +16,20 @@ from dataclasses import dataclass
 from typing import Any, NamedTuple
 
 from extractor.report.stats import wilson_interval
-from extractor.types import Span
+from extractor.types import Implicit, Span
 
 
 class ReviewedSentence(NamedTuple):
-    """A reviewed sentence: who said it, what the model found, the reviewer's answer."""
+    """A reviewed sentence: who said it, what the model found, the reviewer's answer.
+
+    ``implied`` are traits the reviewer says the sentence states without words; they
+    count in the respondent table only (no words to compare).
+    """
 
     respondent: str
     found: Sequence[Span]
     reviewed: Sequence[Span]
+    implied: Sequence[Implicit] = ()
 
 
 @dataclass(frozen=True)
@@ -100,11 +105,18 @@ def _matches(found: Sequence[Span], reviewed: Sequence[Span], fields: int) -> in
 
 def _table(sentences: Sequence[ReviewedSentence], reviewed: bool) -> set[tuple[str, str, str]]:
     return {
-        (s.respondent, span.concept, span.stance)
+        (s.respondent, trait.concept, trait.stance)
         for s in sentences
-        for span in (s.reviewed if reviewed else s.found)
-        if span.concept and span.stance
+        for trait in _traits(s, reviewed)
+        if trait.concept and trait.stance
     }
+
+
+def _traits(sentence: ReviewedSentence, reviewed: bool) -> list[Span | Implicit]:
+    """Return the traits of the reviewer's answer (with implied ones) or of the model's."""
+    if not reviewed:
+        return list(sentence.found)
+    return [*sentence.reviewed, *sentence.implied]
 
 
 def _by_concept(sentences: Sequence[ReviewedSentence]) -> tuple[ConceptQuality, ...]:

@@ -9,7 +9,7 @@ from extractor.ingest.review import KEYS_SHEET, Col
 from extractor.jobs.review import ReviewSelection, export_review
 from extractor.jobs.review_import import ReviewRowsError, import_review
 from extractor.report.results import run_facts
-from extractor.types import Span
+from extractor.types import Implicit, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 from tests.review_study import VERSION, edit, review_study, row_of
@@ -207,3 +207,25 @@ def test_review_sample_measures_quality_shown_on_about_sheet(tmp_path: Path) -> 
     assert quality.respondents == 5  # KA-04 has no reviewed sentence
     assert facts.quality_reviewed_sample is not None
     assert facts.quality_reviewed_sample["measured on"].startswith("5 reviewed respondents")
+
+
+def test_review_trait_without_words_is_stored_as_implicit(reviewed: tuple[Path, Path]) -> None:
+    root, path = reviewed
+    # "We planted after the rains." states nothing by name; the reviewer says it implies
+    # earliness, wanted (an implicit trait: concept and stance, no words).
+    edit(
+        path,
+        {
+            ("S10", Col.VERDICT): None,
+            ("S10", Col.MISSED_CONCEPT): "earliness (BTX:0006)",
+            ("S10", Col.MISSED_STANCE): "wanted",
+        },
+    )
+    with Workspace.open(root) as ws:
+        import_review(ws, path, reviewer="Amina")
+        label = store.labels_by_annotator(ws.conn)["Amina"][10]
+        assert (label.spans, label.implicit) == ([], (Implicit("BTX:0006", "wanted"),))
+        # exported again, the implicit trait is a row of its own, and "correct" keeps it
+        again = export_review(ws, ReviewSelection(), out=path.with_name("again.xlsx")).path
+        edit(again, {("S10-i1", Col.VERDICT): "correct"})
+        assert import_review(ws, again, reviewer="Amina").stored == 0

@@ -64,3 +64,12 @@ def test_about_table_says_when_quality_was_not_measured() -> None:
     table = about_table(RunFacts(), COUNTS, [])
     value = dict(zip(table["Item"], table["Value"], strict=True))
     assert value["Quality (cross-validated)"] == "not measured"
+
+
+def test_about_table_shows_quality_measured_on_reviewed_respondents() -> None:
+    reviewed = {"measured on": "10 reviewed respondents (133 sentences)", "reviewer": "Amina"}
+    table = about_table(RunFacts(quality_reviewed_sample=reviewed), COUNTS, [])
+    rows = dict(zip(table["Item"], table["Value"], strict=True))
+    assert rows["Quality (reviewed sample): measured on"].startswith("10 reviewed respondents")
+    unmeasured = about_table(RunFacts(), COUNTS, [])
+    assert "Quality (reviewed sample)" in set(unmeasured["Item"])

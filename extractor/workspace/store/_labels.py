@@ -177,7 +177,8 @@ def labels_by_annotator(conn: sqlite3.Connection) -> dict[str, dict[int, StoredL
     annotator's own answer, which agreement between annotators compares.
     """
     rows = conn.execute(
-        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin FROM labels l "
+        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin, l.implicit "
+        "FROM labels l "
         "WHERE l.action = 'label' AND l.id NOT IN "
         "(SELECT retracts FROM labels WHERE action = 'retract') ORDER BY l.id"
     ).fetchall()
@@ -189,5 +190,6 @@ def labels_by_annotator(conn: sqlite3.Connection) -> dict[str, dict[int, StoredL
             annotator=row["annotator"],
             created_at=row["created_at"],
             origin=row["origin"],
+            implicit=_implicit_from_json(row["implicit"]),
         )
     return out
