@@ -32,6 +32,9 @@ COMMANDS: dict[str, list[str]] = {
     "evaluate": ["evaluate"],
     "language set": ["language", "set", "pt", "--all"],
     "language detect": ["language", "detect", "--all"],
+    "review export": ["review", "export"],
+    "review import": ["review", "import", "review.xlsx", "--reviewer", "ana"],
+    "agreement": ["agreement"],
 }
 
 
