@@ -22,6 +22,7 @@ from extractor.report.review import ReviewLine
 from extractor.types import Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
+from extractor.workspace.store import StoredLabel
 
 
 @dataclass(frozen=True)
@@ -40,7 +41,9 @@ def annotator_labels(
     Raises:
         InputError: A named annotator has no label in the workspace.
     """
-    found = store.labels_by_annotator(ws.conn)
+    found: dict[str, dict[int, StoredLabel]] = {}
+    for (sid, who), label in store.labels_by_annotator(ws.conn).items():
+        found.setdefault(who, {})[sid] = label
     if annotators:
         missing = [a for a in annotators if a not in found]
         if missing:

@@ -302,7 +302,11 @@ def import_review(
         )
     bad = {file.keys[p.key].sentence_id for p in problems if p.key in file.keys}
     labels = {sid: spans for sid, spans in labels.items() if sid not in bad}
-    mine = store.labels_by_annotator(ws.conn).get(reviewer, {})
+    mine = {
+        sid: lab
+        for (sid, who), lab in store.labels_by_annotator(ws.conn).items()
+        if who == reviewer
+    }
     fresh = {
         sid: new
         for sid, new in labels.items()

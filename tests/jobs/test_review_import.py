@@ -51,7 +51,8 @@ def reviewed(tmp_path: Path) -> tuple[Path, Path]:
 
 def _review_labels(root: Path, reviewer: str = "Amina") -> dict[int, list[Span]]:
     with Workspace.open(root) as ws:
-        mine = store.labels_by_annotator(ws.conn).get(reviewer, {})
+        found = store.labels_by_annotator(ws.conn)
+        mine = {sid: label for (sid, who), label in found.items() if who == reviewer}
         assert all(label.origin == "review" for label in mine.values())
         return {sid: label.spans for sid, label in mine.items()}
 
@@ -223,7 +224,7 @@ def test_review_trait_without_words_is_stored_as_implicit(reviewed: tuple[Path, 
     )
     with Workspace.open(root) as ws:
         import_review(ws, path, reviewer="Amina")
-        label = store.labels_by_annotator(ws.conn)["Amina"][10]
+        label = store.labels_by_annotator(ws.conn)[(10, "Amina")]
         assert (label.spans, label.implicit) == ([], (Implicit("BTX:0006", "wanted"),))
         # exported again, the implicit trait is a row of its own, and "correct" keeps it
         again = export_review(ws, ReviewSelection(), out=path.with_name("again.xlsx")).path

@@ -168,28 +168,3 @@ def add_to_sample(conn: sqlite3.Connection, purpose: str, ids: Iterable[int]) ->
             "INSERT OR IGNORE INTO samples (sentence_id, purpose) VALUES (?, ?)",
             [(i, purpose) for i in ids],
         )
-
-
-def labels_by_annotator(conn: sqlite3.Connection) -> dict[str, dict[int, StoredLabel]]:
-    """Return each annotator's label in force per sentence: their newest one not retracted.
-
-    Unlike :func:`current_labels` (the newest label of anyone), this keeps every
-    annotator's own answer, which agreement between annotators compares.
-    """
-    rows = conn.execute(
-        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin, l.implicit "
-        "FROM labels l "
-        "WHERE l.action = 'label' AND l.id NOT IN "
-        "(SELECT retracts FROM labels WHERE action = 'retract') ORDER BY l.id"
-    ).fetchall()
-    out: dict[str, dict[int, StoredLabel]] = {}
-    for row in rows:
-        out.setdefault(row["annotator"], {})[row["sentence_id"]] = StoredLabel(
-            label_id=row["id"],
-            spans=_spans_from_json(row["spans"]),
-            annotator=row["annotator"],
-            created_at=row["created_at"],
-            origin=row["origin"],
-            implicit=_implicit_from_json(row["implicit"]),
-        )
-    return out
