@@ -38,6 +38,14 @@ def cmd_train(args: argparse.Namespace, console: Console) -> int:
     return 0
 
 
+MODEL_FOLDERS_NOTE = (
+    "Model folders hold words from the interviews (features, word clusters, the linker's "
+    "vocabulary): they are personal data like the interviews. Phone numbers, e-mails, "
+    "respondent IDs and listed names are masked before training, but share a model folder "
+    "only as you would share the interviews."
+)
+
+
 def cmd_models(args: argparse.Namespace, console: Console) -> int:
     """List model versions with their metrics."""
     with open_workspace(args) as ws:
@@ -68,6 +76,7 @@ def cmd_models(args: argparse.Namespace, console: Console) -> int:
             row += [model.path, str(concept_list.get("path", "none"))]
         table.add_row(*row)
     console.print(table)
+    console.print(MODEL_FOLDERS_NOTE)
     return 0
 
 

@@ -16,7 +16,13 @@ from pathlib import Path
 import pandas as pd
 
 from extractor.errors import InputError, ModelError
-from extractor.jobs.inputs import gold_examples, gold_implicit, gold_records
+from extractor.jobs.inputs import (
+    gold_examples,
+    gold_implicit,
+    gold_records,
+    listed_names,
+    phone_regions,
+)
 from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
 from extractor.report.inputs import prepare
@@ -64,43 +70,12 @@ def workspace_secret(ws: Workspace) -> bytes:
 
 def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOptions:
     """Return the pseudonymisation options from the workspace settings."""
-    settings = ws.settings.export
-    names: tuple[str, ...] = ()
-    path_text = names_file or settings.names_file
-    if path_text:
-        path = Path(path_text) if Path(path_text).is_absolute() else ws.root / path_text
-        if not path.is_file():
-            raise InputError(
-                f"The names file {path} does not exist; give a text file with one name per line."
-            )
-        try:
-            text = path.read_text(encoding="utf-8")
-        except UnicodeDecodeError as exc:
-            raise InputError(
-                f"The names file {path} is not UTF-8 text; save it as UTF-8 and export again."
-            ) from exc
-        names = tuple(line.strip() for line in text.splitlines() if line.strip())
     return PrivacyOptions(
         secret=workspace_secret(ws),
-        names=names,
-        drop_columns=settings.identifying_columns,
+        names=listed_names(ws, names_file),
+        drop_columns=ws.settings.export.identifying_columns,
         phone_regions=phone_regions(ws),
     )
-
-
-def phone_regions(ws: Workspace) -> tuple[str, ...]:
-    """Return the regions whose phone formats are screened.
-
-    They are the settings' ``phone_regions`` and the region subtags (BCP 47: two letters
-    after the language) of the settings' languages and of the stored answers' tags.
-    """
-    tags = list(ws.settings.workspace.languages)
-    tags += [a.lang for a in store.answers(ws.conn)]
-    regions = [r.upper() for r in ws.settings.export.phone_regions]
-    for tag in dict.fromkeys(tags):
-        subtags = str(tag).replace("_", "-").split("-")[1:]
-        regions += [t.upper() for t in subtags if len(t) == 2 and t.isalpha()]
-    return tuple(dict.fromkeys(regions))
 
 
 def group_columns(

@@ -6,8 +6,13 @@ store the same way.
 
 from __future__ import annotations
 
+from pathlib import Path
+
+from extractor.errors import InputError
 from extractor.ingest.labels import LabelRecord
 from extractor.loop.samples import SessionSettings
+from extractor.nlp.identifiers import Screening, mask_identifiers, name_variants
+from extractor.report.privacy import NAME_COLUMNS, identifying_columns
 from extractor.types import Implicit, Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -59,3 +64,59 @@ def session_settings(ws: Workspace) -> SessionSettings:
         kappa_rounds=active.stop_rounds,
         subpool=active.subpool or None,
     )
+
+
+# --- what identifies a person: screened out of exports, masked before training ---------
+
+
+def listed_names(ws: Workspace, names_file: str | None = None) -> tuple[str, ...]:
+    """Return the names of the names file (given, or traits.toml's), one per line."""
+    path_text = names_file or ws.settings.export.names_file
+    if not path_text:
+        return ()
+    path = Path(path_text) if Path(path_text).is_absolute() else ws.root / path_text
+    if not path.is_file():
+        raise InputError(
+            f"The names file {path} does not exist; give a text file with one name per line."
+        )
+    try:
+        text = path.read_text(encoding="utf-8")
+    except UnicodeDecodeError as exc:
+        raise InputError(
+            f"The names file {path} is not UTF-8 text; save it as UTF-8 and run the command again."
+        ) from exc
+    return tuple(line.strip() for line in text.splitlines() if line.strip())
+
+
+def phone_regions(ws: Workspace) -> tuple[str, ...]:
+    """Return the regions whose phone formats are screened.
+
+    They are the settings' ``phone_regions`` and the region subtags (BCP 47: two letters
+    after the language) of the settings' languages and of the stored answers' tags.
+    """
+    tags = list(ws.settings.workspace.languages)
+    tags += [a.lang for a in store.answers(ws.conn)]
+    regions = [r.upper() for r in ws.settings.export.phone_regions]
+    for tag in dict.fromkeys(tags):
+        subtags = str(tag).replace("_", "-").split("-")[1:]
+        regions += [t.upper() for t in subtags if len(t) == 2 and t.isalpha()]
+    return tuple(dict.fromkeys(regions))
+
+
+def screening(ws: Workspace) -> Screening:
+    """Return what identifies the workspace's people: names, respondent IDs, phone regions.
+
+    Names are the names file's and the values of name columns (``respondent_name`` ...).
+    """
+    people = store.respondents(ws.conn)
+    names = list(listed_names(ws))
+    columns = {key for person in people for key in person}
+    for column in identifying_columns(sorted(columns), NAME_COLUMNS):
+        names += name_variants(str(p[column]) for p in people if isinstance(p.get(column), str))
+    ids = tuple(str(p["respondent"]) for p in people)
+    return Screening(tuple(dict.fromkeys(names)), ids, phone_regions(ws))
+
+
+def masked(sentences: list[Sentence], screen: Screening) -> list[Sentence]:
+    """Return the sentences with identifying stretches masked, offsets unchanged."""
+    return [s._replace(text=mask_identifiers(s.text, screen)) for s in sentences]

@@ -12,7 +12,7 @@ from pathlib import Path
 from typing import Any
 
 from extractor.errors import ModelError, TraitsError, WorkspaceError
-from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings
+from extractor.jobs.inputs import alias_tuples, gold_examples, masked, screening, session_settings
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
 from extractor.models.bundle import TrainingCounts, TraitModels
@@ -172,7 +172,11 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     """
     # Everything that can refuse is checked before the samples below are written.
     check_tagger_settings(ws)
-    labeled = gold_examples(ws)
+    # Model files must not hold words that identify someone (phones, e-mails, IDs,
+    # names): those stretches are masked, offsets unchanged, before anything is learned.
+    screen = screening(ws)
+    found = gold_examples(ws)
+    labeled = list(zip(masked([s for s, _ in found], screen), [sp for _, sp in found], strict=True))
     aliases = alias_tuples(ws)
     if not labeled and not aliases:
         raise ModelError(_NOTHING_TO_TRAIN_ON)
@@ -184,7 +188,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     if not gold and not aliases:
         raise ModelError(_NOTHING_TO_TRAIN_ON)
     notes = tidy_model_folders(ws) + _training_notes(held_out, bool(aliases))
-    corpus = store.sentences(ws.conn)
+    corpus = masked(store.sentences(ws.conn), screen)
     models = TraitModels(
         tagger_params=asdict(ws.settings.tagger),
         link_threshold=ws.settings.linking.threshold,

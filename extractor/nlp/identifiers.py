@@ -16,6 +16,7 @@ e.g. ``KE``): a number such as ``712 345 678`` is valid only by its region's pla
 
 from __future__ import annotations
 
+import functools
 import re
 from collections.abc import Iterable
 from dataclasses import dataclass
@@ -68,6 +69,11 @@ def _digits(s: str) -> int:
 
 def word_pattern(words: Iterable[str]) -> re.Pattern[str] | None:
     """Return a pattern of whole words over folded text (see :mod:`extractor.nlp.fold`)."""
+    return _word_pattern(tuple(words))
+
+
+@functools.lru_cache(maxsize=16)
+def _word_pattern(words: tuple[str, ...]) -> re.Pattern[str] | None:
     parts = []
     for word in words:
         folded, _ = fold_with_offsets(str(word).strip())
@@ -78,6 +84,18 @@ def word_pattern(words: Iterable[str]) -> re.Pattern[str] | None:
         return None
     parts.sort(key=len, reverse=True)  # "Ana Maria" before "Ana"
     return re.compile(r"(?<!\w)(?:" + "|".join(parts) + r")(?!\w)")
+
+
+def name_variants(full_names: Iterable[str]) -> list[str]:
+    """Return each full name and its words of three letters or more.
+
+    People are often called by one of their names ("Wanjiku" for "Wanjiku Moraa").
+    """
+    out = []
+    for full in full_names:
+        out.append(full.strip())
+        out += [w for w in full.split() if len(w) >= 3 and any(ch.isalpha() for ch in w)]
+    return [n for n in out if n]
 
 
 def _screened_ids(ids: Iterable[str]) -> list[str]:

@@ -29,7 +29,12 @@ from typing import Any
 import pandas as pd
 
 from extractor.errors import InputError
-from extractor.nlp.identifiers import Screening, find_identifiers, identifying_value
+from extractor.nlp.identifiers import (
+    Screening,
+    find_identifiers,
+    identifying_value,
+    name_variants,
+)
 
 MIN_SECRET_BYTES = 16
 """Shortest secret accepted; RFC 2104 advises against keys much shorter than the hash."""
@@ -308,7 +313,7 @@ def _screening(ids: pd.Series, respondents: pd.DataFrame, options: PrivacyOption
     """Return an export's screening: names given and in name columns, IDs, phone regions."""
     names = list(options.names)
     for column in identifying_columns(respondents.columns, NAME_COLUMNS):
-        names += [str(v) for v in respondents[column] if isinstance(v, str) and v.strip()]
+        names += name_variants(str(v) for v in respondents[column] if isinstance(v, str))
     return Screening(tuple(names), tuple(ids.astype(str).unique()), options.phone_regions)
 
 

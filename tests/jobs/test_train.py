@@ -148,3 +148,45 @@ def test_train_leaves_a_fresh_unrecorded_folder_and_other_folders_but_reports_th
 def _models(root: Path) -> list[store.ModelVersion]:
     with Workspace.open(root) as ws:
         return store.models(ws.conn)
+
+
+# --- model files hold no screened identifiers -----------------------------------------
+
+PLANTED = {
+    "email": "wanjiku.moraa@mvuamail.org",
+    "phone": "0798 765 432",
+    "respondent": "KA-07",
+    "name": "Wanjiku",
+    "listed": "Tumaini",
+}
+
+
+def _plant_identifiers(study: Path) -> None:
+    lines = ["respondent,respondent_name,language,question,answer"]
+    answers = [
+        "KA-07,Wanjiku Moraa,en-KE,Why?,Wanjiku says it cooks fast. Call 0798 765 432 for seed.",
+        "KA-08,Zuri Atieno,en-KE,Why?,Write to wanjiku.moraa@mvuamail.org. KA-07 likes the taste.",
+        "KA-09,Imani Odhiambo,en-KE,Why?,Tumaini sold us the seed. The yield is good.",
+    ]
+    (study / "interviews" / "more.csv").write_text(
+        "\n".join(lines + answers) + "\n", encoding="utf-8"
+    )
+    (study / "names.txt").write_text("Tumaini\n", encoding="utf-8")
+    _set_setting(study, 'names_file = "names.txt"')
+
+
+def test_model_files_hold_no_identifier_the_screening_finds(study: Path) -> None:
+    _plant_identifiers(study)
+    _trained(study)
+    assert run("-w", str(study), "add", str(study / "interviews" / "more.csv"))[0] == 0
+    code, out = run("-w", str(study), "train")
+    assert code == 0, out
+    (folder,) = [p for p in (study / "models").iterdir() if p.is_dir()]
+    files = [p for p in folder.rglob("*") if p.is_file()]
+    assert files
+    for path in files:
+        data = path.read_bytes().lower()
+        for kind, planted in PLANTED.items():
+            for piece in planted.lower().replace("@", " ").replace(".", " ").split():
+                if len(piece) >= 4:  # shorter byte strings turn up by chance in binaries
+                    assert piece.encode() not in data, (kind, piece, path.name)
