@@ -161,7 +161,8 @@ def _concept_line(listing: ConceptListing, concept: store.StoredConcept) -> str:
     if listing.mentions is not None and listing.respondents is not None:
         n = listing.mentions.get(concept.id, 0)
         people = listing.respondents.get(concept.id, 0)
-        line += f" [cyan]{n} mentions, {people} respondents[/]" if n else " [dim]no mentions[/]"
+        counts = f"{n} mention{'s' * (n != 1)}, {people} respondent{'s' * (people != 1)}"
+        line += f" [cyan]{counts}[/]" if n else " [dim]no mentions[/]"
     return line
 
 

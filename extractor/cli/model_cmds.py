@@ -173,6 +173,7 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
             min_confidence=args.min_confidence,
             group_by=args.group_by.split(",") if args.group_by else None,
             names_file=args.names_file,
+            level=args.level,
         )
     if args.json:
         print_json(console, report)
@@ -223,5 +224,11 @@ def register(sub: Subcommands) -> None:
     p.add_argument("--group-by", help="comma-separated respondent columns to compare")
     p.add_argument("--names-file", help="text file of names to screen out of quotes")
     p.add_argument("--model-version", help="model version to export (default: the newest)")
+    p.add_argument(
+        "--level",
+        type=int,
+        metavar="N",
+        help="show every table at level N of the concept list (1 = its top concepts)",
+    )
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.set_defaults(handler=cmd_export)

@@ -28,6 +28,7 @@ from extractor.report import formats
 from extractor.report.inputs import prepare
 from extractor.report.privacy import PrivacyOptions, new_secret
 from extractor.report.results import concept_frame, mention_frame, respondent_frame, run_facts
+from extractor.report.rollup import roll_up
 from extractor.report.workbook import write_workbook
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -110,18 +111,23 @@ def export_workbook(
     min_confidence: float | None = None,
     group_by: Sequence[str] | None = None,
     names_file: str | None = None,
+    level: int | None = None,
 ) -> ExportResult:
     """Write the preferred-traits workbook, its chart PNG and its charts folder.
 
     The charts (PNG and SVG) go into a folder beside the workbook named after it
-    (``preferred_traits_charts/``). The mention count is the one on the workbook's About
-    sheet ("Mentions exported").
+    (``preferred_traits_charts/``). With ``level``, every table shows the concepts rolled
+    up to that level of the concept list (:func:`extractor.report.rollup.roll_up`). The
+    mention count is the one on the workbook's About sheet ("Mentions exported").
     """
     out = out or ws.exports_dir / (
         "preferred_traits_pseudonymised.xlsx" if pseudonymise else "preferred_traits.xlsx"
     )
     out.parent.mkdir(parents=True, exist_ok=True)
+    concepts = concept_frame(ws)
     mentions = mention_frame(ws, version)
+    if level is not None:
+        mentions = roll_up(mentions, concepts, level)
     respondents = respondent_frame(ws)
     png = out.with_name(out.stem + "_chart.png")
     charts = out.with_name(out.stem + "_charts")
@@ -129,7 +135,7 @@ def export_workbook(
         out,
         mentions,
         respondents,
-        concept_frame(ws),
+        concepts,
         run_facts(ws, version),
         group_by=group_columns(ws, respondents, group_by),
         min_confidence=min_confidence_floor(ws, min_confidence),
@@ -200,6 +206,7 @@ def export(
     min_confidence: float | None = None,
     group_by: Sequence[str] | None = None,
     names_file: str | None = None,
+    level: int | None = None,
 ) -> ExportResult:
     """Do `traits export`: tag with ``version`` (default the newest) if needed, then write.
 
@@ -213,11 +220,19 @@ def export(
             floor by default.
         group_by: Respondent columns the workbook breaks shares down by (``xlsx`` only).
         names_file: Names to screen out of quotes, one per line, when pseudonymising.
+        level: Roll the workbook's tables up to this level of the concept list (1 is
+            the top; ``xlsx`` only).
 
     Raises:
         ModelError: no model is trained and no sentence labeled yet (except for
             ``conll`` and ``labels``, which write the labels alone).
+        InputError: ``level`` is given for another format than ``xlsx``, or is below 1.
     """
+    if level is not None and fmt != "xlsx":
+        raise InputError(
+            f"--level rolls up the workbook's tables; it does not apply to --format {fmt}. "
+            "Leave it out, or export the workbook (--format xlsx)."
+        )
     version = ensure_tagged(ws, version)
     if version is None and fmt not in LABEL_FORMATS and not store.current_labels(ws.conn):
         raise ModelError(
@@ -233,6 +248,7 @@ def export(
             min_confidence=min_confidence,
             group_by=group_by,
             names_file=names_file,
+            level=level,
         )
     return export_other(
         ws,

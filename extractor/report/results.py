@@ -29,17 +29,18 @@ def _display_name(labels: Mapping[str, str], default: str, fallback: str) -> str
 
 
 def concept_frame(ws: Workspace) -> pd.DataFrame:
-    """Return the active concepts: ``concept_id``, ``label``, ``parent``."""
+    """Return the active concepts: ``concept_id``, ``label``, ``parent``, ``parents`` (all)."""
     default = ws.settings.workspace.default_language
     rows = [
         {
             "concept_id": concept.id,
             "label": _display_name(concept.labels, default, concept.id),
             "parent": concept.parent,
+            "parents": concept.parents,
         }
         for concept in store.concepts(ws.conn)
     ]
-    return pd.DataFrame(rows, columns=["concept_id", "label", "parent"])
+    return pd.DataFrame(rows, columns=["concept_id", "label", "parent", "parents"])
 
 
 def variety_names(ws: Workspace) -> dict[str, str]:

@@ -28,6 +28,7 @@ from extractor.report.privacy import (
     dropped_columns,
     identifying_columns,
 )
+from extractor.report.rollup import has_hierarchy, parent_summary
 from extractor.report.summary import SUMMARY_NOTES, trait_summary
 from extractor.report.tables import (
     mention_evidence,
@@ -49,6 +50,7 @@ SHEETS = {
     "mentions": "Mentions",
     "summary": "Summary by group",
     "pivot": "Shares by group",
+    "parents": "Summary by parent trait",
     "varieties": "Traits by variety",
     "head_to_head": "Head to head",
     "unlinked": "Unlinked terms",
@@ -96,6 +98,20 @@ def _save(wb: Workbook, path: Path) -> None:
     """Save atomically: a kill or a full disk leaves the previous workbook in place."""
     with atomic_path(path) as temp:
         wb.save(temp)
+
+
+def _parent_sheet(
+    m: pd.DataFrame, r: pd.DataFrame, concepts: pd.DataFrame, group_by: Sequence[str]
+) -> list[tuple[str, pd.DataFrame, Sequence[str], int]]:
+    """Return the parent-level summary sheet when the concept list has parents, else none."""
+    if not has_hierarchy(concepts):
+        return []
+    first = (
+        "Traits rolled up to the top of the concept list: a respondent counts once per "
+        "parent trait, however many of its traits they mentioned."
+    )
+    notes = (first, *SUMMARY_NOTES)
+    return [(SHEETS["parents"], parent_summary(m, r, concepts, group_by), notes, 2)]
 
 
 def write_workbook(
@@ -153,6 +169,7 @@ def write_workbook(
         (SHEETS["matrix"], trait_matrix(m, r, concepts), (), 1),
         (SHEETS["mentions"], mention_evidence(m, r, concepts), (), 1),
         (SHEETS["summary"], summary, SUMMARY_NOTES, 2),
+        *_parent_sheet(m, r, concepts, group_by),
         (SHEETS["varieties"], variety_table(m, r, concepts), VARIETY_NOTES, 1),
         (SHEETS["head_to_head"], head_to_head(m, r, concepts), HEAD_TO_HEAD_NOTES, 1),
         (SHEETS["unlinked"], unlinked_terms(m), (), 1),

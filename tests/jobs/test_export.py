@@ -170,3 +170,24 @@ def test_privacy_options_take_phone_regions_from_language_tags_and_settings(
     )
     options = privacy_options(dataclasses.replace(ws, settings=changed))
     assert set(options.phone_regions) >= {"KE", "MZ", "IN"}
+
+
+def _matrix_header(path: Path) -> list[str]:
+    sheet = openpyxl.load_workbook(path)["Respondent x trait"]
+    return [str(c.value) for c in next(sheet.iter_rows(min_row=1, max_row=1))]
+
+
+def test_export_workbook_level_rolls_children_into_their_parent(ws: Workspace) -> None:
+    # KR-02's "grain" is linked to BTX:0003, whose parent is BTX:0001 (tests/report/study.py).
+    plain = _matrix_header(export_workbook(ws, VERSION).path)
+    rolled = _matrix_header(export_workbook(ws, VERSION, level=1, out=ws.root / "l1.xlsx").path)
+    assert any("BTX:0003" in c for c in plain)
+    assert not any("BTX:0003" in c for c in rolled)
+    assert any("BTX:0001" in c for c in rolled)
+    parents = openpyxl.load_workbook(ws.root / "l1.xlsx")["Summary by parent trait"]
+    assert parents.max_row > 1
+
+
+def test_export_level_applies_to_the_workbook_only(ws: Workspace) -> None:
+    with pytest.raises(InputError, match="--level rolls up the workbook"):
+        export(ws, "csv", level=1)

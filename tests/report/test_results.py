@@ -32,11 +32,12 @@ def ws(tmp_path: Path) -> Iterator[Workspace]:
 
 def test_concept_frame_labels_in_default_language_else_first(ws: Workspace) -> None:
     frame = concept_frame(ws)
-    assert list(frame.columns) == ["concept_id", "label", "parent"]
+    assert list(frame.columns) == ["concept_id", "label", "parent", "parents"]
     assert frame["concept_id"].tolist() == ["BTX:0001", "BTX:0002", "BTX:0003"]
     assert frame["label"].tolist() == ["fast cooking", "résistance aux charançons", "large grain"]
     assert frame["parent"].isna().tolist() == [True, True, False]
     assert frame["parent"].iloc[2] == "BTX:0001"
+    assert frame["parents"].tolist() == [(), (), ("BTX:0001",)]
 
 
 def test_respondent_frame_one_row_per_respondent_with_metadata(ws: Workspace) -> None:

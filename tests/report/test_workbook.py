@@ -42,7 +42,8 @@ def test_write_workbook_sheets_and_craft(study: Study, tmp_path: Path) -> None:
         chart_png=png,
     )
     wb = openpyxl.load_workbook(out)
-    assert wb.sheetnames == list(SHEETS.values())
+    # the study's concept list has no parents, so no parent-level sheet
+    assert wb.sheetnames == [s for s in SHEETS.values() if s != SHEETS["parents"]]
     for name in (SHEETS["preferred"], SHEETS["matrix"], SHEETS["mentions"]):
         assert wb[name].freeze_panes == "B2"
         assert wb[name].auto_filter.ref.startswith("A1:")
