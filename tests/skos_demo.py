@@ -29,14 +29,16 @@ def demo_graph(concepts_csv: Path) -> rdflib.Graph:
             graph.add((node, RDF.type, SKOS.Concept))
             graph.add((node, SKOS.inScheme, scheme))
             graph.add((node, SKOS.notation, rdflib.Literal(row["id"])))
-            lang = row["lang"]
+            lang = row.get("lang") or "en"
             graph.add((node, SKOS.prefLabel, rdflib.Literal(row["label"], lang=lang)))
-            for synonym in filter(None, (s.strip() for s in row["synonyms"].split("|"))):
+            for synonym in filter(
+                None, (s.strip() for s in (row.get("synonyms") or "").split("|"))
+            ):
                 graph.add((node, SKOS.altLabel, rdflib.Literal(synonym, lang=lang)))
-            if row["parent"]:
+            if row.get("parent"):
                 parent = rdflib.URIRef(BASE + row["parent"].replace(":", "_"))
                 graph.add((node, SKOS.broader, parent))
-            if row["definition"]:
+            if row.get("definition"):
                 graph.add((node, SKOS.definition, rdflib.Literal(row["definition"], lang=lang)))
     return graph
 

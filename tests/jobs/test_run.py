@@ -12,7 +12,8 @@ import pytest
 
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
-from tests.jobs.study import run
+from tests.jobs.study import make_study, run
+from tests.skos_demo import write_demo_skos
 
 
 def test_run_writes_workbook_and_model_version(study: Path) -> None:
@@ -192,3 +193,27 @@ def test_run_trains_a_new_version_when_an_input_changed(
     assert "Nothing changed" not in out
     with Workspace.open(study) as ws:
         assert len(store.models(ws.conn)) == 2
+
+
+def test_run_with_a_skos_list_finds_the_mentions_the_csv_list_finds(tmp_path: Path) -> None:
+    # The study's list written as SKOS Turtle by rdflib (tests/skos_demo.py); the same
+    # run over both must store the same mentions (the demo run was compared the same way).
+    csv_root = make_study(tmp_path / "csv")
+    skos_root = make_study(tmp_path / "skos")
+    write_demo_skos(skos_root / "concepts.csv", skos_root / "concepts.ttl")
+    settings = skos_root / "traits.toml"
+    text = settings.read_text(encoding="utf-8")
+    settings.write_text(text.replace('"concepts.csv"', '"concepts.ttl"', 1), encoding="utf-8")
+    found = []
+    for root, listed_file in ((csv_root, "concepts.csv"), (skos_root, "concepts.ttl")):
+        assert run("-w", str(root), "run")[0] == 0
+        with Workspace.open(root) as ws:
+            version = store.latest_model(ws.conn)
+            assert version is not None
+            listed = store.current_concept_version(ws.conn)
+            assert listed is not None and listed.path == listed_file
+            found.append(
+                {sid: p.mentions for sid, p in store.predictions(ws.conn, version.version).items()}
+            )
+    assert found[0] == found[1]
+    assert sum(len(m) for m in found[0].values()) > 0
