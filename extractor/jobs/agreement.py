@@ -19,7 +19,7 @@ from extractor.jobs.review import sentence_lines, write_lines
 from extractor.models.agreement import AgreementReport, agreement
 from extractor.report.results import concept_frame
 from extractor.report.review import ReviewLine
-from extractor.types import Span
+from extractor.types import Implicit, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 from extractor.workspace.store import StoredLabel
@@ -35,7 +35,7 @@ class AgreementResult:
 
 def annotator_labels(
     ws: Workspace, annotators: Sequence[str] | None = None
-) -> dict[str, dict[int, list[Span]]]:
+) -> dict[str, dict[int, StoredLabel]]:
     """Return each annotator's label in force per sentence (all annotators, or those named).
 
     Raises:
@@ -52,24 +52,27 @@ def annotator_labels(
                 f"{', '.join(sorted(found)) or 'none'}."
             )
         found = {a: found[a] for a in annotators}
-    return {
-        who: {sid: list(label.spans) for sid, label in got.items()} for who, got in found.items()
-    }
+    return found
 
 
 def _disagreement_lines(
-    ws: Workspace, labels: dict[str, dict[int, list[Span]]], sentence_ids: Sequence[int]
+    ws: Workspace, labels: dict[str, dict[int, StoredLabel]], sentence_ids: Sequence[int]
 ) -> list[ReviewLine]:
-    """Return review rows of the sentences: each distinct mention once, with who marked it."""
+    """Return review rows of the sentences: each distinct trait once, with who gave it."""
     concepts = concept_frame(ws)
     names = dict(zip(concepts["concept_id"], concepts["label"], strict=True))
     lines: list[ReviewLine] = []
     for sentence in store.sentences(ws.conn, sentence_ids):
         marked: dict[Span, list[str]] = {}
+        stated: dict[Implicit, list[str]] = {}
         for who in sorted(labels):
-            for span in labels[who].get(sentence.id, []):
+            label = labels[who].get(sentence.id)
+            for span in label.spans if label else ():
                 marked.setdefault(Span(*span), []).append(who)
+            for trait in label.implicit if label else ():
+                stated.setdefault(trait, []).append(who)
         spans = sorted(marked)
+        implicit = sorted(stated, key=lambda t: (t.concept, t.stance or ""))
         lines.extend(
             sentence_lines(
                 sentence,
@@ -78,6 +81,8 @@ def _disagreement_lines(
                 [None] * len(spans),
                 names,
                 found_by=[", ".join(marked[s]) for s in spans],
+                implicit=implicit,
+                implicit_by=[", ".join(stated[t]) for t in implicit],
             )
         )
     return lines
@@ -97,7 +102,10 @@ def workspace_agreement(
         InputError: Fewer than two annotators, or no sentence labeled by two of them.
     """
     labels = annotator_labels(ws, annotators)
-    report = agreement(labels)
+    report = agreement(
+        {who: {sid: lab.spans for sid, lab in got.items()} for who, got in labels.items()},
+        {who: {sid: lab.implicit for sid, lab in got.items()} for who, got in labels.items()},
+    )
     if len(labels) < 2 or report.sentences == 0:
         raise InputError(
             "Agreement needs sentences labeled by at least two annotators; annotators with "

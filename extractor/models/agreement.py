@@ -4,6 +4,8 @@ The units are the trait mentions of sentences that two or more annotators labele
 Mentions of one sentence that overlap are one unit (grouped across all annotators); an
 annotator who labeled the sentence but marked nothing there gave that unit the value
 ``none``, so the coefficients on concept and on stance weigh missed mentions too.
+Traits a label states without words (implicit traits) are units too, one per concept
+of the sentence.
 Span F1 compares the annotators' spans by exact boundaries (and, per concept, by
 boundaries and concept), as in the strict scoring of :mod:`extractor.nlp.spans`.
 
@@ -23,13 +25,15 @@ import numpy as np
 from sklearn.metrics import cohen_kappa_score
 
 from extractor.nlp.spans import PRF, prf
-from extractor.types import Span
+from extractor.types import Implicit, Span
 
 NONE = "none"
 """The value of a unit an annotator saw (labeled the sentence) but marked no trait in."""
 
 Labels = Mapping[str, Mapping[int, Sequence[Span]]]
 """Annotator -> sentence ID -> the spans of that annotator's label in force."""
+Implied = Mapping[str, Mapping[int, Sequence[Implicit]]]
+"""Annotator -> sentence ID -> the traits that label states without words."""
 
 
 @dataclass(frozen=True)
@@ -131,6 +135,31 @@ def mention_units(spans: Mapping[str, Sequence[Span]]) -> list[dict[str, Span]]:
     return units
 
 
+def implied_units(implicit: Mapping[str, Sequence[Implicit]]) -> list[dict[str, Span]]:
+    """Group one sentence's implicit traits of several annotators into units, one per concept.
+
+    An implicit trait has no words, so the unit is its concept; the value is carried in a
+    span without offsets (``-1, -1``) so that units of both kinds are read the same way.
+    """
+    concepts = sorted({t.concept for found in implicit.values() for t in found})
+    return [
+        {
+            who: Span(-1, -1, t.concept, t.stance)
+            for who, found in implicit.items()
+            for t in found
+            if t.concept == concept
+        }
+        for concept in concepts
+    ]
+
+
+def _units(labels: Labels, implied: Implied, sid: int, who: Sequence[str]) -> list[dict[str, Span]]:
+    """Return one sentence's units: overlapping mentions, then implicit traits by concept."""
+    spans = {w: labels[w][sid] for w in who}
+    implicit = {w: implied.get(w, {}).get(sid, ()) for w in who}
+    return mention_units(spans) + implied_units(implicit)
+
+
 def _value(unit: Mapping[str, Span], who: str, field: str) -> str:
     span = unit.get(who)
     if span is None:
@@ -147,23 +176,23 @@ def _shared(labels: Labels) -> list[int]:
     return sorted(sid for sid, n in counts.items() if n >= 2)
 
 
-def _alpha(labels: Labels, shared: Sequence[int], field: str) -> Coefficient:
+def _alpha(labels: Labels, implied: Implied, shared: Sequence[int], field: str) -> Coefficient:
     who = sorted(labels)
     columns: list[list[str | None]] = []
     for sid in shared:
         seen = [w for w in who if sid in labels[w]]
-        for unit in mention_units({w: labels[w][sid] for w in seen}):
+        for unit in _units(labels, implied, sid, seen):
             columns.append([_value(unit, w, field) if w in seen else None for w in who])
     return nominal_alpha([list(row) for row in zip(*columns, strict=True)] if columns else [])
 
 
-def _pair(labels: Labels, first: str, second: str) -> PairAgreement:
+def _pair(labels: Labels, implied: Implied, first: str, second: str) -> PairAgreement:
     both = sorted(set(labels[first]) & set(labels[second]))
     values: dict[str, tuple[list[str], list[str]]] = {"concept": ([], []), "stance": ([], [])}
     counts = {"span": [0, 0, 0], "concept": [0, 0, 0]}
     for sid in both:
         a, b = labels[first][sid], labels[second][sid]
-        for unit in mention_units({first: a, second: b}):
+        for unit in _units(labels, implied, sid, (first, second)):
             for field, (xs, ys) in values.items():
                 xs.append(_value(unit, first, field))
                 ys.append(_value(unit, second, field))
@@ -212,31 +241,46 @@ def _by_concept(labels: Labels, pairs: Sequence[tuple[str, str]]) -> list[Concep
     ]
 
 
-def _differs(found: Sequence[Sequence[Span]]) -> bool:
-    keys = [sorted((s.start, s.end, s.concept or "", s.stance or "") for s in f) for f in found]
+def _differs(found: Sequence[Sequence[Span]], implicit: Sequence[Sequence[Implicit]]) -> bool:
+    keys = [
+        (
+            sorted((s.start, s.end, s.concept or "", s.stance or "") for s in spans),
+            sorted((t.concept, t.stance or "") for t in traits),
+        )
+        for spans, traits in zip(found, implicit, strict=True)
+    ]
     return any(k != keys[0] for k in keys[1:])
 
 
-def agreement(labels: Labels) -> AgreementReport:
+def agreement(labels: Labels, implied: Implied | None = None) -> AgreementReport:
     """Return the agreement between annotators on the sentences two or more of them labeled.
 
     Args:
-        labels: Each annotator's label in force per sentence (an empty list: no trait).
+        labels: Each annotator's label in force per sentence: its spans (an empty list
+            with no implicit traits: no trait).
+        implied: The traits each label states without words; they are units of the
+            coefficients on concept and stance (one per concept), not of span F1.
     """
+    implied = implied or {}
     shared = _shared(labels)
     annotators = tuple(sorted(labels))
     pairs = [
         (a, b) for a, b in itertools.combinations(annotators, 2) if set(labels[a]) & set(labels[b])
     ]
     disagreements = tuple(
-        sid for sid in shared if _differs([labels[w][sid] for w in annotators if sid in labels[w]])
+        sid
+        for sid in shared
+        if _differs(
+            [labels[w][sid] for w in annotators if sid in labels[w]],
+            [implied.get(w, {}).get(sid, ()) for w in annotators if sid in labels[w]],
+        )
     )
     return AgreementReport(
         annotators=annotators,
         sentences=len(shared),
-        concept_alpha=_alpha(labels, shared, "concept"),
-        stance_alpha=_alpha(labels, shared, "stance"),
-        pairs=tuple(_pair(labels, a, b) for a, b in pairs),
+        concept_alpha=_alpha(labels, implied, shared, "concept"),
+        stance_alpha=_alpha(labels, implied, shared, "stance"),
+        pairs=tuple(_pair(labels, implied, a, b) for a, b in pairs),
         by_concept=tuple(_by_concept(labels, pairs)),
         disagreements=disagreements,
     )

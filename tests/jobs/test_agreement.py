@@ -83,3 +83,21 @@ def test_agreement_needs_two_annotators(tmp_path: Path) -> None:
     root = review_study(tmp_path / "study")
     with Workspace.open(root) as ws, pytest.raises(InputError, match="two annotators"):
         workspace_agreement(ws)
+
+
+def test_disagreement_on_an_implicit_trait_is_a_row(tmp_path: Path) -> None:
+    root = review_study(tmp_path / "study")
+    implied = {("S10", Col.MISSED_CONCEPT): "BTX:0006", ("S10", Col.MISSED_STANCE): "wanted"}
+    with Workspace.open(root) as ws:
+        path = export_review(ws, ReviewSelection()).path
+        for name, edits in (("Amina", implied), ("Baraka", {("S10", Col.VERDICT): "correct"})):
+            copy = tmp_path / f"{name}.xlsx"
+            edit(path, edits, out=copy)
+            import_review(ws, copy, reviewer=name)
+        result = workspace_agreement(ws)
+    assert result.report.disagreements == (10,)
+    assert result.disagreements is not None
+    ws_ = openpyxl.load_workbook(result.disagreements)["Review"]
+    rows = [r for r in ws_.iter_rows(values_only=True) if r[-1] == "S10-i1"]
+    assert len(rows) == 1
+    assert "Amina" in rows[0]

@@ -14,7 +14,7 @@ from extractor.models.agreement import (
 )
 from extractor.nlp.spans import spans_to_iob
 from extractor.nlp.text import tokenize
-from extractor.types import Span
+from extractor.types import Implicit, Span
 
 # Krippendorff, K. (2011). "Computing Krippendorff's Alpha-Reliability", Annenberg School
 # for Communication, Departmental Papers 43: the worked example of four observers, twelve
@@ -142,3 +142,25 @@ def test_agreement_ignores_sentences_one_annotator_labeled():
     assert report.sentences == 0
     assert report.pairs == ()
     assert report.concept_alpha.value is None
+
+
+def test_agreement_counts_implicit_traits_as_units_by_concept() -> None:
+    implied = {"ana": {3: [Implicit("T:7", "wanted")]}, "ben": {3: [Implicit("T:7", "liked")]}}
+    report = agreement(ANN, implied)
+    (pair,) = report.pairs
+    # The hand-listed units above, plus one implicit unit of sentence 3 (T:7 both).
+    ana_concepts = ["T:2", "T:3", "T:4", NONE, "T:7"]
+    ben_concepts = ["T:2", "T:3", "T:5", "T:6", "T:7"]
+    ana_stances = ["liked", "liked", "liked", NONE, "wanted"]
+    ben_stances = ["liked", "wanted", "liked", "disliked", "liked"]
+    # scikit-learn's cohen_kappa_score is the outside reference.
+    assert pair.concept_kappa.value == pytest.approx(cohen_kappa_score(ana_concepts, ben_concepts))
+    assert pair.stance_kappa.value == pytest.approx(cohen_kappa_score(ana_stances, ben_stances))
+    assert pair.span == agreement(ANN).pairs[0].span  # no words, so span F1 is unchanged
+
+
+def test_agreement_disagreement_on_implicit_traits_alone() -> None:
+    labels: dict[str, dict[int, list[Span]]] = {"ana": {1: []}, "ben": {1: []}}
+    assert agreement(labels).disagreements == ()
+    implied = {"ana": {1: [Implicit("T:7", "liked")]}}
+    assert agreement(labels, implied).disagreements == (1,)
