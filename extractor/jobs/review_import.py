@@ -93,8 +93,20 @@ class _Sentence:
             )
         )
 
-    def _mention(self, key: RowKey, entries: Sequence[ReviewEntry]) -> Span | None:
-        row = entries[0].row if entries else self.file.rows.get(key.key, 0)
+    def _mention(
+        self, key: RowKey, entries: Sequence[ReviewEntry], reviewed_row: int
+    ) -> Span | None:
+        """Return a shown mention as the reviewer left it (None: dropped or bad)."""
+        if not entries and key.key not in self.file.rows:
+            self.problem(
+                key.key,
+                reviewed_row,
+                Col.KEY,
+                f"the row with key {key.key!r} of this sentence was deleted; restore it "
+                "(undo, or copy it from a fresh export) and give it a verdict",
+            )
+            return None
+        row = entries[0].row if entries else self.file.rows[key.key]
         verdicts = {e.verdict for e in entries if e.verdict}
         if len(verdicts) > 1:
             self.problem(key.key, row, Col.VERDICT, "copies of this row give different verdicts")
@@ -167,7 +179,7 @@ class _Sentence:
         for key in keys:
             got = by_key.get(key.key, [])
             if key.origin == IMPLIED:
-                kept = self._mention(key, got)
+                kept = self._mention(key, got, entries[0].row)
                 if kept is not None and kept.concept:
                     implicit.append(Implicit(kept.concept, kept.stance))
                 continue
@@ -182,7 +194,7 @@ class _Sentence:
                         "this sentence had no mention; mark correct, or add the missed trait",
                     )
                 continue
-            found = self._mention(key, got)
+            found = self._mention(key, got, entries[0].row)
             if found is not None:
                 spans.append(found)
         self._no_overlap(spans, by_key)

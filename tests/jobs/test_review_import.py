@@ -230,3 +230,12 @@ def test_review_trait_without_words_is_stored_as_implicit(reviewed: tuple[Path, 
         again = export_review(ws, ReviewSelection(), out=path.with_name("again.xlsx")).path
         edit(again, {("S10-i1", Col.VERDICT): "correct"})
         assert import_review(ws, again, reviewer="Amina").stored == 0
+
+
+def test_review_deleted_row_of_a_reviewed_sentence_is_bad(reviewed: tuple[Path, Path]) -> None:
+    root, path = reviewed
+    wb = openpyxl.load_workbook(path)
+    wb["Review"].delete_rows(row_of(path, "S1-2"))
+    wb.save(path)
+    with Workspace.open(root) as ws, pytest.raises(ReviewRowsError, match="'S1-2' of this"):
+        import_review(ws, path, reviewer="Amina")
