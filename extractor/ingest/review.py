@@ -152,10 +152,11 @@ class ReviewEntry(NamedTuple):
 
 
 class Problem(NamedTuple):
-    """A bad row: its key (None when it has none) and one sentence saying what is wrong."""
+    """A bad row: its key (None when it has none), one sentence saying what is wrong, its row."""
 
     key: str | None
     text: str
+    row: int = 0
 
 
 class ReviewFile(NamedTuple):
@@ -344,7 +345,9 @@ def read_review(path: Path, concept_labels: Mapping[str, str]) -> ReviewFile:
             reader.problem(Col.KEY, f"the key {entry.key!r} is not one this file was exported with")
             entry = None
         key = cells.get(Col.KEY)
-        problems.extend(Problem(key if key in keys else None, text) for text in reader.problems)
+        problems.extend(
+            Problem(key if key in keys else None, text, reader.row) for text in reader.problems
+        )
         if entry is not None and not reader.problems:
             entries.append(entry)
     return ReviewFile(meta, keys, entries, problems, rows)

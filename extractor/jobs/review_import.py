@@ -89,7 +89,9 @@ class _Sentence:
     def problem(self, key: str, row: int, column: str, what: str) -> None:
         self.problems.append(
             Problem(
-                key, f"{self.source}, sheet {REVIEW_SHEET}, row {row}, column {column!r}: {what}."
+                key,
+                f"{self.source}, sheet {REVIEW_SHEET}, row {row}, column {column!r}: {what}.",
+                row,
             )
         )
 
@@ -260,7 +262,8 @@ def reviewed_labels(
                     got[0].key,
                     f"{path.name}, sheet {REVIEW_SHEET}, row {got[0].row}, column "
                     f"{Col.SENTENCE!r}: the sentence changed in the workspace since the export; "
-                    "export a new review workbook for it",
+                    "export a new review workbook for it.",
+                    got[0].row,
                 )
             )
             continue
@@ -306,6 +309,7 @@ def import_review(
     file = read_review(path, dict(zip(concepts["concept_id"], concepts["label"], strict=True)))
     _check_workspace(ws, file, path)
     labels, problems = reviewed_labels(ws, path, file)
+    problems.sort(key=lambda p: p.row)
     if problems and not skip_bad:
         raise ReviewRowsError(
             f"{len(problems)} row{'s' if len(problems) != 1 else ''} of {path.name} "
