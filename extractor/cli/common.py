@@ -14,6 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from rich.console import Console
+from rich.text import Text
 
 from extractor.report.stats import f1_interval, too_few
 from extractor.workspace.folder import Workspace
@@ -123,13 +124,22 @@ def _sample_size(found: Mapping[str, Any]) -> str:
     return text + (", too few to mean much" if too_few(n_gold) else "")
 
 
+def print_said(console: Console, kind: str, style: str, message: str, **options: Any) -> None:
+    """Print ``kind: message`` with the kind styled and the message as plain text.
+
+    Messages carry user text (file names, cells, settings such as ``[active]``), which
+    is never rich markup: brackets in it are shown as they are, never read as styles.
+    """
+    console.print(Text.assemble((f"{kind}:", style), " ", message), **options)
+
+
 def print_warnings(console: Console, warnings: Iterable[str]) -> None:
     """Print each warning on its own line."""
     for warning in warnings:
-        console.print(f"[yellow]warning:[/] {warning}")
+        print_said(console, "warning", "yellow", warning)
 
 
 def print_notes(console: Console, notes: Iterable[str]) -> None:
     """Print each note on its own line."""
     for note in notes:
-        console.print(f"[yellow]note:[/] {note}")
+        print_said(console, "note", "yellow", note)

@@ -10,8 +10,11 @@ as one sentence without a traceback.
 from __future__ import annotations
 
 import argparse
+import errno
+import sqlite3
 import sys
 from collections.abc import Sequence
+from pathlib import Path
 
 from rich.console import Console
 
@@ -24,8 +27,10 @@ from extractor.cli import (
     review_cmds,
     workspace_cmds,
 )
-from extractor.cli.common import CommandsAction, global_options
+from extractor.cli.common import CommandsAction, global_options, print_said
 from extractor.errors import TraitsError
+from extractor.workspace import store
+from extractor.workspace.folder import STORE_FILE
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -50,6 +55,29 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _sentence(exc: Exception, args: argparse.Namespace) -> str:
+    """Return the one sentence a failure is printed as."""
+    if isinstance(exc, sqlite3.Error):
+        # A failure of the store that its own functions did not word (e.g. a damaged page
+        # found while reading, a full disk at commit): say what is true about the store.
+        return str(store.store_failure(exc, Path(getattr(args, "workspace", ".")) / STORE_FILE))
+    if isinstance(exc, OSError):
+        # A file the command was told to read or write (e.g. --out in a missing folder).
+        where = f"'{exc.filename}'" if exc.filename else None
+        if exc.errno == errno.ENOSPC:
+            into = where or f"into the workspace {getattr(args, 'workspace', '.')}"
+            return (
+                f"The disk is full: writing {into} failed, and nothing of it was recorded in "
+                "the store; free some space on that disk (old versions in models/ and files "
+                "in exports/ can go) and run the command again."
+            )
+        return (
+            f"Cannot use {where or 'a file'}: {exc.strerror or exc}; check the path and its "
+            "permissions."
+        )
+    return str(exc)
+
+
 def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -> int:
     """Run the ``traits`` command; return its exit code."""
     console = console or Console()
@@ -65,19 +93,10 @@ def main(argv: Sequence[str] | None = None, *, console: Console | None = None) -
     progress.enable(console if console.is_terminal and not args.quiet else None)
     try:
         return int(args.handler(args, console))
-    except TraitsError as exc:
+    except (TraitsError, OSError, sqlite3.Error) as exc:
         console.quiet = was_quiet
-        errors.print(f"[bold red]error:[/] {exc}", highlight=False, soft_wrap=True)
-        return 1
-    except OSError as exc:
-        console.quiet = was_quiet
-        # A file the command was told to read or write (e.g. --out in a missing folder).
-        where = exc.filename or "a file"
-        errors.print(
-            f"[bold red]error:[/] cannot use {where}: {exc.strerror or exc}; check the path "
-            "and its permissions.",
-            highlight=False,
-            soft_wrap=True,
+        print_said(
+            errors, "error", "bold red", _sentence(exc, args), highlight=False, soft_wrap=True
         )
         return 1
     except KeyboardInterrupt:

@@ -1,10 +1,14 @@
-"""The headline quality figure the model commands print: with its count and interval."""
+"""What the command modules share: the headline quality figure, and messages with user text."""
 
 from __future__ import annotations
 
+import io
+
+import pytest
+from rich.console import Console
 from statsmodels.stats.proportion import proportion_confint
 
-from extractor.cli.common import metric_summary
+from extractor.cli.common import metric_summary, print_said, print_warnings
 from extractor.models.metrics import score, summary
 from extractor.models.validation import Evaluation
 from extractor.types import Sentence, Span
@@ -27,3 +31,18 @@ def test_metric_summary_gives_the_evaluation_count_interval_and_a_small_sample_w
     assert f"span F1 1.00 (eval: 2 gold spans, 95% {2 * low / (1 + low):.2f}–1.00" in text
     assert "too few" in text
     assert "too few" not in metric_summary(_stored(30))
+
+
+@pytest.mark.parametrize(
+    "text", ["survey [round 2].csv", "x[/]y.csv", "[active] strategy", "[bold]x"], ids=str
+)
+def test_warnings_and_errors_show_user_text_as_it_is(text: str) -> None:
+    # user text is never rich markup: brackets are shown, and "[/]" raises nothing
+    buffer = io.StringIO()
+    console = Console(file=buffer, width=200)
+    print_warnings(console, [f"File '{text}' has no answers."])
+    print_said(console, "error", "bold red", f"File '{text}' is empty.")
+    assert buffer.getvalue().splitlines() == [
+        f"warning: File '{text}' has no answers.",
+        f"error: File '{text}' is empty.",
+    ]

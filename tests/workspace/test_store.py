@@ -82,7 +82,7 @@ def test_connect_refuses_newer_schema(tmp_path: Path) -> None:
 def test_connect_refuses_a_file_that_is_not_a_database(tmp_path: Path) -> None:
     path = tmp_path / "junk.sqlite"
     path.write_bytes(b"this is not sqlite" * 100)
-    with pytest.raises(WorkspaceError, match="not a readable"):
+    with pytest.raises(WorkspaceError, match="is damaged or is not a trait-extractor store"):
         store.connect(path)
 
 

@@ -80,6 +80,7 @@ from extractor.workspace.store._schema import (
     now,
     schema_version,
     set_meta,
+    store_failure,
     transaction,
 )
 from extractor.workspace.store._status import counts
@@ -142,6 +143,7 @@ __all__ = [
     "skipped",
     "source_known",
     "sources",
+    "store_failure",
     "store_predictions",
     "transaction",
 ]

@@ -174,12 +174,46 @@ def connect(path: Path, *, create: bool = False) -> sqlite3.Connection:
         conn.execute("PRAGMA foreign_keys=ON")
         conn.execute("PRAGMA synchronous=NORMAL")
         migrate(conn)
-    except sqlite3.DatabaseError as exc:
-        raise WorkspaceError(
-            f"{path} is not a readable trait-extractor store ({exc}); restore it from a backup "
-            "or create a new workspace with `traits init`."
-        ) from exc
+    except sqlite3.Error as exc:
+        raise store_failure(exc, path) from exc
     return conn
+
+
+def store_failure(exc: sqlite3.Error, path: Path) -> WorkspaceError:
+    """Return the one sentence a failure of the store at ``path`` deserves.
+
+    It says what is true, judged by SQLite's own error code: a full disk or a read-only
+    folder leaves a healthy store behind, so only a damaged file gets the advice to
+    restore a backup. A failed write was rolled back (every write is one transaction).
+    """
+    name = str(getattr(exc, "sqlite_errorname", "") or "")
+    said = str(exc).lower()
+    if name.startswith("SQLITE_FULL") or "disk is full" in said:
+        return WorkspaceError(
+            f"The disk holding {path} is full, so the change being saved was undone and the "
+            "store is as it was before it; free some space on that disk (old versions in "
+            "models/ and files in exports/ can go) and run the command again."
+        )
+    if name.startswith("SQLITE_READONLY") or "readonly" in said:
+        return WorkspaceError(
+            f"{path} cannot be written: the file or its folder is read-only (the store is "
+            "unchanged and healthy); allow writing to the folder, or copy the workspace to a "
+            "folder you may write, and run the command again."
+        )
+    if name.startswith(("SQLITE_BUSY", "SQLITE_LOCKED")) or "locked" in said:
+        return WorkspaceError(
+            f"{path} is held by another program for more than 30 seconds (the store is "
+            "unchanged); let the other `traits` command finish, or close it, and try again."
+        )
+    if name.startswith(("SQLITE_CANTOPEN", "SQLITE_IOERR", "SQLITE_PERM")):
+        return WorkspaceError(
+            f"{path} cannot be opened or written ({exc}); check that the disk is attached and "
+            "that you may write the folder (SQLite writes -wal and -shm files beside the store)."
+        )
+    return WorkspaceError(
+        f"{path} is damaged or is not a trait-extractor store ({exc}); keep a copy of the "
+        "file, then restore it from a backup or create a new workspace with `traits init`."
+    )
 
 
 def migrate(conn: sqlite3.Connection) -> int:
