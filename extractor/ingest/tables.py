@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -132,14 +133,7 @@ def read_delimited(
     """Read a .csv or .tsv file; return ``(rows, layout, encoding, warnings)``."""
     text, encoding, warnings = decode_text(data, path)
     delimiter = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(text)
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
-    try:
-        grid = drop_empty((n, list(cells)) for n, cells in enumerate(reader, start=1))
-    except csv.Error as err:
-        raise InputError(
-            f"File '{path.name}', row {reader.line_num}: the table cannot be parsed ({err}); "
-            "check the quotes on that row or save the file again from a spreadsheet."
-        ) from err
+    grid = drop_empty(_records(path, text, delimiter))
     if not grid:
         raise InputError(f"File '{path.name}' has no rows; export the interviews into it again.")
     rows, layout, table_warnings = table_rows(grid, mapping, f"File '{path.name}'", None)
@@ -147,6 +141,72 @@ def read_delimited(
     if not rows:
         warnings.append(f"File '{path.name}' has a header but no answers.")
     return rows, layout, encoding, warnings
+
+
+def _records(path: Path, text: str, delimiter: str) -> list[tuple[int, list[str | None]]]:
+    """Parse delimited text into numbered records (header = 1), refusing broken quoting.
+
+    Raises:
+        InputError: A cell is longer than the csv module's field limit, or a quote left
+            open swallows the rows after it (see :func:`_swallowed`); the row is named.
+    """
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+    records: list[tuple[int, list[str]]] = []
+    try:
+        for number, cells in enumerate(reader, start=1):
+            records.append((number, cells))
+    except csv.Error as err:
+        row = len(records) + 1
+        if "field limit" in str(err):
+            raise InputError(
+                f"File '{path.name}', row {row}: a cell is longer than "
+                f"{csv.field_size_limit():,} characters, far more than a spreadsheet cell "
+                "holds; a quote is probably not closed (close it), or, if it is one long "
+                "answer, put it in a .txt transcript instead."
+            ) from err
+        raise InputError(
+            f"File '{path.name}', row {row}: the table cannot be parsed ({err}); "
+            "check the quotes on that row or save the file again from a spreadsheet."
+        ) from err
+    for number, cells in records:
+        swallowed = _swallowed(cells, delimiter)
+        if swallowed is not None:
+            raise InputError(
+                f"File '{path.name}', row {number}: a quote opened in this row is not closed "
+                f"where the row ends, so the rows after it (from {swallowed[:30]!r}) would be "
+                'read as part of one answer; close the quote (write a quote inside text as "") '
+                "and try again."
+            )
+    return [(number, list[str | None](cells)) for number, cells in records]
+
+
+_SHAPE = re.compile(r"([a-z]+)|([0-9]+)|(.)", re.IGNORECASE)
+
+
+def _shape(cell: str) -> str:
+    """The shape of an ID: letter runs as ``a``, digit runs as ``9`` (``KA-01`` -> ``a-9``)."""
+    return "".join("a" if m[1] else "9" if m[2] else m[3] for m in _SHAPE.finditer(cell.strip()))
+
+
+def _swallowed(cells: list[str], delimiter: str) -> str | None:
+    """Return the first swallowed row inside a record's cells, or None.
+
+    A quote left open makes the csv module read on, past the end of the row, until the
+    next quote: the rows in between end up inside one cell, line by line. A line inside
+    a cell that splits into cells and begins with a value of the record's own first
+    cell's shape (``R2`` after ``R1``, ``KA-02`` after ``KA-01``) is such a row; a line
+    of a real multi-line answer ("Also, the taste...") does not begin with an ID.
+    """
+    first = cells[0].strip() if cells else ""
+    if not first or "\n" in first:
+        return None
+    shape = _shape(first)
+    for cell in cells[1:]:
+        for line in cell.split("\n")[1:]:
+            parts = line.split(delimiter)
+            if len(parts) > 1 and parts[0].strip() and _shape(parts[0]) == shape:
+                return line
+    return None
 
 
 class _Sheets(NamedTuple):

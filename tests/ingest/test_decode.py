@@ -48,14 +48,13 @@ def test_read_csv_decodes_encodings(
     assert any("cp1252" in w for w in result.warnings) == warns
 
 
-def test_read_csv_falls_back_to_latin1_for_bytes_cp1252_lacks(tmp_path: Path) -> None:
-    # 0x81 is unassigned in Windows-1252 but is a C1 control in ISO 8859-1 (from memory).
+def test_read_csv_refuses_bytes_windows_1252_lacks_naming_the_line(tmp_path: Path) -> None:
+    # 0x81 is unassigned in Windows-1252 and a C1 control code in ISO 8859-1 (from memory):
+    # no text holds it, so reading the file as Latin-1 would store a control code.
     path = tmp_path / "survey.csv"
     path.write_bytes(b"Respondent,Answer\nR1,caf\xe9 \x81 " + EN_1.encode() + b"\n")
-    result = read(path)
-    assert result.encoding == "latin-1"
-    assert result.rows[0].answer.startswith("café \x81 ")
-    assert any("latin-1" in w for w in result.warnings)
+    with pytest.raises(InputError, match=r"'survey.csv', line 2: .* save it as UTF-8"):
+        read(path)
 
 
 def test_read_csv_sniffs_semicolon(tmp_path: Path) -> None:
@@ -204,3 +203,70 @@ def test_read_csv_with_tab_or_pipe_delimiters_splits_columns(
     path.write_text("\n".join(delimiter.join(r) for r in rows) + "\n", encoding="utf-8")
     row = read(path).rows[0]
     assert (row.respondent, row.answer, row.metadata) == ("R1", answer, {"gender": "female"})
+
+
+# The encoding evidence (issue 18, item 10): Python's codecs write each file, so the
+# bytes are what those encodings are, and the reader must give the text back or refuse.
+LINES = ["Respondent: R1", "", "Farmer: Ça cuit très vite.", "Farmer: Não gosto – é duro."]
+
+
+@pytest.mark.parametrize("encoding", ["utf-16-le", "utf-16-be"])
+def test_decode_text_reads_utf16_without_a_byte_order_mark(encoding: str) -> None:
+    text = "\n".join(LINES) + "\n"
+    decoded, used, warnings = decode_text(text.encode(encoding), Path("notes.txt"))
+    assert (decoded, used, warnings) == (text, encoding, [])
+
+
+def test_decode_text_reads_mixed_utf8_and_cp1252_line_by_line() -> None:
+    data = b"\n".join([LINES[0].encode(), b"", LINES[2].encode("utf-8"), LINES[3].encode("cp1252")])
+    decoded, used, warnings = decode_text(data, Path("notes.txt"))
+    assert decoded.split("\n") == LINES
+    assert used == "utf-8, cp1252"
+    assert warnings == [
+        "File 'notes.txt': line 4 is not UTF-8 and was read as Windows-1252 (cp1252); "
+        "check the accented letters there, or save the file as UTF-8."
+    ]
+
+
+@pytest.mark.parametrize(
+    ("encoding", "line"),
+    [("shift_jis", 2), ("euc-kr", 2), ("gbk", 2), ("cp1251", 2)],
+    ids=["shift-jis", "euc-kr", "gbk", "cyrillic-cp1251"],
+)
+def test_decode_text_refuses_other_encodings_naming_the_line(encoding: str, line: int) -> None:
+    answers = {
+        "shift_jis": "この豆は早く煮えるので好きです。",
+        "euc-kr": "이 콩은 빨리 익어요.",
+        "gbk": "这个豆子煮得很快。",
+        "cp1251": "Эти бобы быстро варятся.",
+    }
+    data = f"Respondent: R1\nFarmer: {answers[encoding]}\n".encode(encoding)
+    with pytest.raises(InputError, match=rf"'notes.txt', line {line}: .*save it as UTF-8"):
+        decode_text(data, Path("notes.txt"))
+
+
+@pytest.mark.parametrize(
+    "data",
+    [
+        bytes(range(256)) * 8,
+        b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR" + bytes(200),
+        b"a,b\n\x00\x01\x02",
+    ],
+    ids=["random", "png", "nul-bytes"],
+)
+def test_decode_text_refuses_binary(data: bytes) -> None:
+    with pytest.raises(InputError, match=r"File 'notes.txt' is not text"):
+        decode_text(data, Path("notes.txt"))
+
+
+def test_decode_text_refuses_a_cut_utf16_file() -> None:
+    data = "respondent,answer\n".encode("utf-16-le") + b"\x00"
+    with pytest.raises(InputError, match=r"UTF-16-LE text but is damaged at byte 36"):
+        decode_text(data, Path("notes.txt"))
+
+
+def test_read_utf16_csv_without_a_mark_finds_its_columns(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_bytes(f"respondent,answer\nR1,{EN_1}\n".encode("utf-16-le"))
+    result = read(path)
+    assert [(r.respondent, r.answer) for r in result.rows] == [("R1", EN_1)]

@@ -146,3 +146,26 @@ def test_read_xlsx_agrees_with_openpyxl_cells(tmp_path: Path) -> None:
     sheet = openpyxl.load_workbook(path)["Kibali"]
     reference = [(row[1].row, row[1].value) for row in sheet.iter_rows(min_row=2)]
     assert [(r.row, r.answer) for r in read(path).rows] == reference
+
+
+def test_read_csv_cell_over_the_field_limit_names_the_row(tmp_path: Path) -> None:
+    # The csv module's default field limit is 131,072 characters (its docs); Excel's cell
+    # limit is 32,767 (from memory), so such a cell comes from a quote left open.
+    path = tmp_path / "big.csv"
+    path.write_text('respondent,answer\nR1,fast\nR2,"' + "beans " * 30_000 + '"\n')
+    with pytest.raises(InputError, match=r"File 'big.csv', row 3: a cell is longer than 131,072"):
+        read(path)
+
+
+def test_read_csv_quote_left_open_swallowing_rows_is_refused(tmp_path: Path) -> None:
+    path = tmp_path / "quote.csv"
+    path.write_text('respondent,answer\nKA-01,fast\nKA-02,"It cooks fast.\nKA-03,Bad taste.\n')
+    with pytest.raises(InputError, match=r"'quote.csv', row 3: a quote opened in this row"):
+        read(path)
+
+
+def test_read_csv_multiline_answer_with_commas_is_kept(tmp_path: Path) -> None:
+    path = tmp_path / "lines.csv"
+    path.write_text('respondent,answer\nKA-01,"It cooks fast.\nAlso, the taste, is good."\n')
+    result = read(path)
+    assert [r.answer for r in result.rows] == ["It cooks fast.\nAlso, the taste, is good."]
