@@ -23,9 +23,25 @@ from extractor.errors import WorkspaceError
 T = TypeVar("T")
 
 
-def _setting(default: T, doc: str = "", *, fraction: bool = False) -> T:
-    """Return a dataclass field with its template comment and whether it is a share."""
-    return field(default=default, metadata={"doc": doc, "fraction": fraction})
+def _setting(
+    default: T, doc: str = "", *, fraction: bool = False, choices: tuple[str, ...] = ()
+) -> T:
+    """Return a dataclass field with its template comment, whether it is a share, its choices."""
+    return field(default=default, metadata={"doc": doc, "fraction": fraction, "choices": choices})
+
+
+ALGORITHMS = ("lbfgs", "l2sgd", "ap", "pa", "arow")
+"""The ``[tagger] algorithm`` choices: CRFsuite's trainers (the tagger's own list, checked
+equal by the settings tests)."""
+
+SILVER_FILTERS = ("all", "matched", "gold-check", "self-train")
+"""The ``[tagger] silver_filter`` choices (the tagger training's own list, checked equal)."""
+
+STRATEGIES = (
+    "combined", "default", "least_confidence", "link_stance", "mean_entropy", "norm_logprob",
+    "random", "total_entropy",
+)  # fmt: skip
+"""The ``[active] strategy`` choices (the query strategies' names, checked equal)."""
 
 
 @dataclass(frozen=True)
@@ -63,13 +79,17 @@ class ConceptListSettings:
 class TaggerSettings:
     """The CRF tagger's training."""
 
-    algorithm: str = _setting("l2sgd", "CRFsuite trainer: l2sgd, or lbfgs (then c1 counts too)")
+    algorithm: str = _setting(
+        "l2sgd", "CRFsuite trainer: l2sgd, or lbfgs (then c1 counts too)", choices=ALGORITHMS
+    )
     c1: float = _setting(0.05, "L1 penalty of the CRF (lbfgs only)")
     c2: float = _setting(2.0, "L2 penalty of the CRF")
     max_iterations: int = _setting(30, "epochs (l2sgd) or iterations (lbfgs)")
     gold_weight: int = _setting(10, "a labeled sentence counts this many times a silver one")
     silver_filter: str = _setting(
-        "self-train", "guard on dictionary-labeled sentences: all, matched, gold-check, self-train"
+        "self-train",
+        "guard on dictionary-labeled sentences: all, matched, gold-check, self-train",
+        choices=SILVER_FILTERS,
     )
 
 
@@ -86,7 +106,7 @@ class LinkingSettings:
 class ActiveSettings:
     """The labeling loop: which sentences are asked, when to retrain, when to stop."""
 
-    strategy: str = _setting("default", "query strategy")
+    strategy: str = _setting("default", "query strategy", choices=STRATEGIES)
     batch_size: int = _setting(5, "sentences chosen together")
     retrain_every: int = _setting(10, "retrain in the background after this many labels")
     evaluation_share: float = _setting(
@@ -205,9 +225,22 @@ def load_settings(path: Path) -> Settings:
             value has the wrong type or range; one sentence naming file, section and key.
     """
     try:
-        with path.open("rb") as handle:
-            found = tomllib.load(handle)
-    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        data = path.read_bytes()
+    except OSError as exc:
+        raise WorkspaceError(
+            f"{path} cannot be read ({exc.strerror}); check its permissions."
+        ) from exc
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        raise WorkspaceError(
+            f"{path}, line {line}: the file is not UTF-8 text, which TOML requires; save it as "
+            "UTF-8 in a text editor (or delete it and run `traits init` for a fresh one)."
+        ) from exc
+    try:
+        found = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
         raise WorkspaceError(f"{path} is not valid TOML ({exc}); fix the line it names.") from exc
     return settings_from_dict(found, path)
 
@@ -248,6 +281,9 @@ def _section(kind: type, values: Mapping[str, Any], name: str, path: Path) -> An
         problem = _problem(
             value, default, fraction=spec.metadata["fraction"], depth=spec.metadata.get("depth", 1)
         )
+        choices = spec.metadata.get("choices", ())
+        if problem is None and choices and value not in choices:
+            problem = f"must be one of {', '.join(choices)}"
         if problem:
             raise WorkspaceError(
                 f"{path}: [{name}] {key} {problem} (got {value!r}); fix it, "

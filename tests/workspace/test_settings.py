@@ -17,6 +17,9 @@ from typing import Any
 import pytest
 
 from extractor.errors import WorkspaceError
+from extractor.loop import strategies
+from extractor.models import tagger, tagger_training
+from extractor.workspace import settings
 from extractor.workspace.settings import (
     SECTION_ORDER,
     SECTIONS,
@@ -135,6 +138,9 @@ def test_bad_toml_is_reported_with_the_file(tmp_path: Path) -> None:
         ("[workspace]\ndefault_language = 1\n", "[workspace]", "default_language", "text"),
         ('[export]\ngroup_by = "gender"\n', "[export]", "group_by", "list of texts"),
         ("[workspace]\nlanguages = [1, 2]\n", "[workspace]", "languages", "list of texts"),
+        ('[active]\nstrategy = "fastest"\n', "[active]", "strategy", "one of combined"),
+        ('[tagger]\nalgorithm = "adam"\n', "[tagger]", "algorithm", "one of lbfgs"),
+        ('[tagger]\nsilver_filter = "some"\n', "[tagger]", "silver_filter", "one of all"),
     ],
     ids=[
         "unknown-section",
@@ -149,6 +155,9 @@ def test_bad_toml_is_reported_with_the_file(tmp_path: Path) -> None:
         "number-for-text",
         "text-for-list",
         "numbers-in-list",
+        "unknown-strategy",
+        "unknown-algorithm",
+        "unknown-silver-filter",
     ],
 )
 def test_bad_setting_is_one_sentence_naming_file_section_and_key(
@@ -197,3 +206,21 @@ def test_metadata_tables_round_trip_through_the_template(tmp_path: Path) -> None
 def test_bad_metadata_table_is_one_sentence(tmp_path: Path, text: str, allowed: str) -> None:
     with pytest.raises(WorkspaceError, match=allowed):
         load_settings(_write(tmp_path, text))
+
+
+def test_choices_are_the_ones_the_models_and_the_loop_accept() -> None:
+    assert settings.ALGORITHMS == tagger.ALGORITHMS
+    assert settings.SILVER_FILTERS == tagger_training.SILVER_FILTERS
+    assert settings.STRATEGIES == tuple(sorted(strategies.STRATEGIES))
+
+
+@pytest.mark.parametrize(
+    "data",
+    ["[workspace]\n# Ségou\n".encode("cp1252"), bytes(range(256)), "[tagger]\n".encode("utf-16")],
+    ids=["cp1252", "random-bytes", "utf-16"],
+)
+def test_settings_not_utf8_name_the_file_and_line(tmp_path: Path, data: bytes) -> None:
+    path = tmp_path / "traits.toml"
+    path.write_bytes(data)
+    with pytest.raises(WorkspaceError, match=r"traits.toml, line \d+: the file is not UTF-8"):
+        load_settings(path)
