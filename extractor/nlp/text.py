@@ -69,7 +69,12 @@ def split_sentences(text: str, lang: str) -> list[tuple[int, int]]:
     ``text[start:end]`` is always the sentence exactly as written; blank stretches
     yield no sentence.
     """
-    bounds = [(sent.start_char, sent.end_char) for sent in blank_pipeline(lang)(text).sents]
+    nlp = blank_pipeline(lang)
+    # spaCy refuses texts over max_length (a million characters) to spare the memory its
+    # parser and NER need; a blank pipeline has neither, and tokenizing is linear, so a
+    # long answer (a whole transcript pasted in one turn) is read, not refused.
+    nlp.max_length = max(nlp.max_length, len(text) + 1)
+    bounds = [(sent.start_char, sent.end_char) for sent in nlp(text).sents]
     # spaCy's sentencizer leaves Spanish opening marks (¿ ¡) at the end of the sentence
     # before the one they open; hand them to the sentence they belong to.
     for i in range(len(bounds) - 1):

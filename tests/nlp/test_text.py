@@ -51,3 +51,14 @@ def test_gold_sentences_of_the_demo_are_segmenter_sentences() -> None:
     for line in path.read_text(encoding="utf-8").splitlines():
         record = json.loads(line)
         assert split_sentences(record["sentence"], record["lang"]) == [(0, len(record["sentence"]))]
+
+
+def test_split_sentences_reads_an_answer_longer_than_spacys_limit() -> None:
+    # spaCy's Language.max_length is 1,000,000 characters (its docs); an answer of a whole
+    # transcript pasted in one cell or turn is longer, and must be read, not refused.
+    sentence = "The beans cook fast and the broth is thick. "
+    text = sentence * (1_000_000 // len(sentence) + 1)
+    assert len(text) > 1_000_000
+    found = split_sentences(text, "en")
+    assert len(found) == text.count(".")
+    assert text[slice(*found[-1])] == sentence.strip()
