@@ -309,17 +309,17 @@ class TraitModels(BaseEstimator):
         Raises:
             ModelError: a file is missing, corrupt or foreign.
         """
-        try:
-            meta = json.loads((folder / META_FILE).read_text(encoding="utf-8"))
-            aliases: list[Alias] = [
-                (str(c), str(t), str(lang))
-                for c, t, lang in json.loads((folder / ALIASES_FILE).read_text("utf-8"))
-            ]
-        except (OSError, ValueError, TypeError) as exc:
+        meta = _read_json(folder, META_FILE)
+        aliases = _aliases(_read_json(folder, ALIASES_FILE))
+        params = meta.get("parameters", {}) if isinstance(meta, dict) else None
+        counts = meta.get("counts", {}) if isinstance(meta, dict) else None
+        counts_ok = isinstance(counts, dict) and all(isinstance(v, int) for v in counts.values())
+        if aliases is None or not isinstance(params, dict) or not counts_ok:
             raise ModelError(
-                f"{folder} is not a readable model version ({exc}); retrain with `traits train`."
-            ) from exc
-        params = meta.get("parameters", {})
+                f"Model version {folder.name} ({folder}) has a damaged {META_FILE} or "
+                f"{ALIASES_FILE} (not the shape this tool writes); train a new version with "
+                "`traits train`."
+            )
         models = cls(link_threshold=params.get("link_threshold", 0.25), seed=params.get("seed", 0))
         models.aliases_ = aliases
         models.dictionary_ = build_dictionary(aliases) if aliases else None
@@ -328,5 +328,26 @@ class TraitModels(BaseEstimator):
         models.tagger_.clusters_fingerprint_ = models.clusters_.get("fingerprint")
         models.linker_ = ConceptLinker.load(folder / "linker")
         models.stance_ = StanceModel.load(folder / "stance")
-        models.counts_ = TrainingCounts.from_meta(meta.get("counts", {}))
+        models.counts_ = TrainingCounts.from_meta(counts or {})
         return models
+
+
+def _aliases(listed: Any) -> list[Alias] | None:
+    """Return the aliases of ``aliases.json`` (rows of three texts), None for another shape."""
+    if not isinstance(listed, list):
+        return None
+    rows = [row for row in listed if isinstance(row, list) and len(row) == 3]
+    if len(rows) != len(listed) or not all(isinstance(v, str) for row in rows for v in row):
+        return None
+    return [(c, t, lang) for c, t, lang in rows]
+
+
+def _read_json(folder: Path, name: str) -> Any:
+    """Read one JSON file of a version folder, naming the version when it cannot be read."""
+    try:
+        return json.loads((folder / name).read_text(encoding="utf-8"))
+    except (OSError, ValueError) as exc:
+        raise ModelError(
+            f"Model version {folder.name} ({folder}) has no readable {name} "
+            f"({type(exc).__name__}); train a new version with `traits train`."
+        ) from exc

@@ -244,9 +244,12 @@ def load_clusters(folder: str | Path) -> dict[str, Any]:
     try:
         meta = json.loads((folder / "clusters.json").read_text(encoding="utf-8"))
         vectors = np.load(folder / "vectors.npy", allow_pickle=False)
-    except (OSError, ValueError) as exc:
+    except (OSError, ValueError, EOFError) as exc:
+        # numpy's own message about object arrays advises unpickling the file: never relay it
         raise ModelError(
-            f"The word clusters in {folder} cannot be read ({exc}); relearn them from the corpus."
+            f"The word clusters of model version {folder.name} ({folder}) cannot be read: "
+            "clusters.json or vectors.npy is missing, damaged or not a plain array; train a "
+            "new version with `traits train`."
         ) from exc
     if not isinstance(meta, dict) or meta.get("format") != FORMAT:
         raise ModelError(

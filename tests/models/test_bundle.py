@@ -7,7 +7,7 @@ from pathlib import Path
 import pytest
 from sklearn.base import clone
 
-from extractor.errors import NotFittedError
+from extractor.errors import ModelError, NotFittedError
 from extractor.models.bundle import Mention, SentencePrediction, TraitModels
 from extractor.types import STANCES, Sentence, Span
 
@@ -73,3 +73,57 @@ def test_save_load_round_trip_predicts_the_same(trained: TraitModels, tmp_path: 
     assert loaded.counts_ == trained.counts_
     assert (trained.counts_.gold_sentences, trained.counts_.gold_spans) == (2, 1)
     assert trained.counts_.aliases == 2
+
+
+@pytest.mark.parametrize(
+    ("name", "text"),
+    [
+        ("meta.json", "[]"),
+        ("meta.json", '{"parameters": 5}'),
+        ("meta.json", '{"counts": []}'),
+        ("aliases.json", '{"a": 1}'),
+        ("aliases.json", '[["TX:01", "fast", ["en"]]]'),
+        ("aliases.json", "[[1, 2, 3]]"),
+        ("meta.json", "{bad"),
+    ],
+    ids=[
+        "meta-list",
+        "parameters-number",
+        "counts-list",
+        "aliases-object",
+        "aliases-nested",
+        "aliases-numbers",
+        "meta-not-json",
+    ],  # fmt: skip
+)
+def test_load_refuses_a_wrong_shaped_file_naming_the_version(
+    trained: TraitModels, tmp_path: Path, name: str, text: str
+) -> None:
+    trained.save(tmp_path / "v7")
+    (tmp_path / "v7" / name).write_text(text, encoding="utf-8")
+    with pytest.raises(ModelError, match=rf"Model version v7 .*{name}.*`traits train`"):
+        TraitModels.load(tmp_path / "v7")
+
+
+@pytest.mark.parametrize(
+    "data",
+    [
+        bytes(range(256)) * 4,
+        # an .npy header announcing an object array, which numpy loads only by unpickling
+        b"\x93NUMPY\x01\x00v\x00{'descr': '|O', 'fortran_order': False, 'shape': (1,), }"
+        + b" " * 43
+        + b"\n"
+        + bytes(64),
+    ],
+    ids=["random-bytes", "object-array"],
+)
+def test_load_never_relays_advice_to_unpickle(
+    trained: TraitModels, tmp_path: Path, data: bytes
+) -> None:
+    trained.save(tmp_path / "v8")
+    (tmp_path / "v8" / "vectors.npy").write_bytes(data)
+    with pytest.raises(ModelError) as caught:
+        TraitModels.load(tmp_path / "v8")
+    message = str(caught.value)
+    assert "model version v8" in message and "`traits train`" in message
+    assert "pickle" not in message

@@ -313,3 +313,10 @@ def test_concept_list_versions_name_the_file_hash_and_sizes(conn: sqlite3.Connec
     [concept] = store.concepts(conn)
     assert concept.labels == {"en": "cooking time", "fr": "temps de cuisson"}
     assert concept.definition == "Time to cook."
+
+
+def test_models_names_a_version_whose_record_is_not_json(conn: sqlite3.Connection) -> None:
+    store.add_model(conn, "v003", "models/v003", {"counts": {}})
+    conn.execute("UPDATE models SET meta = '{bad'")
+    with pytest.raises(WorkspaceError, match=r"record of model version v003 is damaged"):
+        store.models(conn)

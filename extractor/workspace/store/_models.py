@@ -46,7 +46,7 @@ def set_model_metrics(conn: sqlite3.Connection, version: str, metrics: dict[str,
         row = conn.execute("SELECT metrics FROM models WHERE version = ?", (version,)).fetchone()
         if row is None:
             raise WorkspaceError(f"Model version {version!r} is not recorded in this workspace.")
-        merged = json.loads(row["metrics"]) | metrics
+        merged = _decoded(version, "metrics", row["metrics"]) | metrics
         conn.execute(
             "UPDATE models SET metrics = ? WHERE version = ?", (json.dumps(merged), version)
         )
@@ -59,11 +59,25 @@ def models(conn: sqlite3.Connection) -> list[ModelVersion]:
             version=row["version"],
             created_at=row["created_at"],
             path=row["path"],
-            meta=json.loads(row["meta"]),
-            metrics=json.loads(row["metrics"]),
+            meta=_decoded(row["version"], "meta", row["meta"]),
+            metrics=_decoded(row["version"], "metrics", row["metrics"]),
         )
         for row in conn.execute("SELECT * FROM models ORDER BY created_at, version")
     ]
+
+
+def _decoded(version: str, column: str, text: str) -> dict[str, Any]:
+    """Decode a model row's JSON object, naming the version when the store holds another thing."""
+    try:
+        value = json.loads(text)
+    except ValueError:
+        value = None
+    if not isinstance(value, dict):
+        raise WorkspaceError(
+            f"The store's record of model version {version} is damaged (its {column} is not a "
+            "JSON object); keep a copy of traits.sqlite, then restore it from a backup."
+        )
+    return value
 
 
 def latest_model(conn: sqlite3.Connection) -> ModelVersion | None:
