@@ -43,9 +43,10 @@ from extractor.cli.screen_draw import (
     concept_label,
     draw_item,
     figures_text,
+    read_utf8,
     too_long,
 )
-from extractor.errors import TraitsError
+from extractor.errors import InputError, TraitsError
 from extractor.loop.items import Item, SessionSummary
 from extractor.loop.marking import (
     ConceptEntry,
@@ -180,7 +181,7 @@ class LabelScreen:
             else rank_concepts(query, self.entries, lang=lang)
         )
         if query is not None and not matches:
-            self.console.print(f"No concept has a name like {query!r}; try other letters.")
+            self.console.print(Text(f"No concept is named like {query!r}; try others."))
         default = current if current is not None else (matches[0].concept if matches else None)
         while True:
             self._show_matches(matches)
@@ -195,11 +196,11 @@ class LabelScreen:
             if answer.isdigit():
                 if 1 <= int(answer) <= len(matches):
                     return matches[int(answer) - 1].concept
-                self.console.print(f"There is no match number {answer}.")
+                self.console.print(Text(f"There is no match number {answer}."))
                 continue
             matches = rank_concepts(answer, self.entries, lang=lang)
             if not matches:
-                self.console.print(f"No concept has a name like {answer!r}; try other letters.")
+                self.console.print(Text(f"No concept is named like {answer!r}; try others."))
 
     def _show_matches(self, matches: Sequence[ConceptMatch]) -> None:
         for n, m in enumerate(matches, 1):
@@ -405,17 +406,21 @@ def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str
     if stream is None and console.is_terminal and sys.stdin.isatty():
 
         def read_terminal(prompt: str) -> str | None:
-            try:
-                return console.input(Text(prompt))
-            except EOFError:
-                return None
+            while True:
+                try:
+                    return read_utf8(lambda: console.input(Text(prompt)), 0)
+                except EOFError:
+                    return None
+                except InputError:
+                    console.print(Text("That line is not UTF-8 text; type it again."))
 
         return read_terminal
     source = stream if stream is not None else sys.stdin
+    count = iter(range(1, sys.maxsize))
 
     def read_stream(prompt: str) -> str | None:
         console.print(Text(prompt), end="")
-        line = source.readline()
+        line = read_utf8(source.readline, next(count))
         if line == "":
             return None
         if not console.is_terminal:

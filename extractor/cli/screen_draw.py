@@ -14,6 +14,7 @@ from rich.rule import Rule
 from rich.table import Table
 from rich.text import Text
 
+from extractor.errors import InputError
 from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry, kept
 from extractor.loop.session import Session
@@ -79,6 +80,32 @@ def too_long(line: str) -> str:
         f"That line has {len(line):,} characters; a command or the words to mark take at "
         f"most {MAX_LINE}. Nothing was changed."
     )
+
+
+def not_utf8(where: str) -> InputError:
+    """Return the error for input that is not UTF-8 text, ``where`` naming the line."""
+    return InputError(
+        f"{where} is not UTF-8 text; nothing from it was stored (labels confirmed before it "
+        "are saved); send UTF-8 text and start again."
+    )
+
+
+def read_utf8(read: Callable[[], str], number: int) -> str:
+    """Return the line ``read`` gives (line ``number`` of the input), refusing one not in UTF-8.
+
+    Under the C locale Python reads bytes that are not UTF-8 as lone surrogates
+    (``surrogateescape``), which can be neither stored nor shown; a stream decoding
+    strictly raises instead, at the read of the chunk that holds them.
+    """
+    try:
+        line = read()
+    except UnicodeDecodeError as exc:
+        raise not_utf8(f"The input (at or after line {number})") from exc
+    try:
+        line.encode("utf-8")
+    except UnicodeEncodeError as exc:
+        raise not_utf8(f"Line {number} of the input") from exc
+    return line
 
 
 def model_name(session: Session) -> str:

@@ -18,6 +18,7 @@ from rich.console import Console
 
 from extractor.cli.screen import LabelScreen, run_console
 from extractor.cli.screen_draw import status_line
+from extractor.errors import InputError
 from extractor.loop.items import SessionSummary
 from extractor.loop.marking import concept_entries, rank_concepts
 from extractor.loop.samples import SessionSettings
@@ -543,3 +544,29 @@ def test_screen_refuses_a_very_long_line_without_echoing_it_whole(
     # The echo is cut: no shown line holds more than a screen's worth of the paste.
     assert max(len(line) for line in shown.splitlines()) < 400
     assert elapsed < 10, elapsed  # rich's highlighter took 5.5 s for 20,000 characters
+
+
+@pytest.mark.parametrize("typed", ["[/]", "x[/]y", "[bold]x"], ids=str)
+def test_typed_markup_is_text_never_rich_markup(conn: sqlite3.Connection, typed: str) -> None:
+    # letters for a concept that match nothing are said back: "[/]" once raised MarkupError
+    _, screen = _run(conn, [f"c 1 {typed}", typed, "-", "q"], model_provider=_first(19))
+    assert f"No concept is named like {typed!r}" in screen
+    assert screen.count(typed) >= 3  # the echo of both lines and the message, brackets kept
+
+
+def test_pipe_line_not_in_utf8_is_refused_by_number_keeping_earlier_labels(
+    conn: sqlite3.Connection,
+) -> None:
+    # Python reads a pipe in the C locale with surrogateescape: bad bytes become surrogates
+    stream = io.TextIOWrapper(io.BytesIO(b"n\ncooks \xff fast\nq\n"), errors="surrogateescape")
+    with pytest.raises(InputError, match=r"Line 2 of the input is not UTF-8 text"):
+        _run(conn, [], input_stream=stream)
+    assert len(store.current_labels(conn)) == 1  # the "n" of line 1 is kept
+
+
+def test_pipe_decoding_strictly_is_refused_not_a_traceback(conn: sqlite3.Connection) -> None:
+    # a strict stream decodes a whole chunk at once, so the error comes at the first read
+    stream = io.TextIOWrapper(io.BytesIO(b"n\n\xff\xfe broken\nq\n"), encoding="utf-8")
+    with pytest.raises(InputError, match=r"The input \(at or after line 1\) is not UTF-8"):
+        _run(conn, [], input_stream=stream)
+    assert store.current_labels(conn) == {}
