@@ -39,11 +39,16 @@ _SAVE_AS = "open it in a spreadsheet programme and save it as .xlsx again"
 
 
 class Sheet(NamedTuple):
-    """One sheet of a workbook: its name, whether it is shown, and its non-empty rows."""
+    """One sheet of a workbook: its name, whether it is shown, and its non-empty rows.
+
+    ``uncomputed`` names the cells (``B3``) holding a formula without a saved value:
+    their text cannot be read (files written by scripts, which do not compute formulas).
+    """
 
     name: str
     visible: bool
     grid: Grid
+    uncomputed: tuple[str, ...] = ()
 
 
 def cell_text(value: object) -> str | None:
@@ -86,16 +91,41 @@ def _check_sheet(path: Path, names: list[str], only: str | None) -> list[str]:
 def _xlsx_sheets(path: Path, data: bytes, only: str | None) -> list[Sheet]:
     check_office_archive(path, data, "spreadsheet programme")
     workbook = openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=True)
+    formulas = openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=False)
     try:
         sheets = []
         for name in _check_sheet(path, workbook.sheetnames, only):
             worksheet = workbook[name]
             visible = worksheet.sheet_state == "visible"
-            rows = worksheet.iter_rows(min_row=1, min_col=1, values_only=True)
-            sheets.append(Sheet(name, visible, _numbered(rows) if visible or only else []))
+            if not (visible or only):
+                sheets.append(Sheet(name, visible, []))
+                continue
+            rows = list(worksheet.iter_rows(min_row=1, min_col=1, values_only=True))
+            missing = _uncomputed(formulas[name], rows)
+            sheets.append(Sheet(name, visible, _numbered(rows), missing))
         return sheets
     finally:
         workbook.close()
+        formulas.close()
+
+
+def _uncomputed(worksheet: Any, values: list[tuple[object, ...]]) -> tuple[str, ...]:
+    """Return the cells holding a formula whose saved value is missing.
+
+    openpyxl reads the value a spreadsheet programme saved with a formula; a program
+    that writes formulas without computing them (openpyxl itself, many scripts) saves
+    none, so such a cell reads as empty although it is not.
+    """
+    missing = []
+    for cells in worksheet.iter_rows(min_row=1, min_col=1):
+        for cell in cells:
+            if getattr(cell, "data_type", None) != "f":
+                continue
+            row, column = cell.row - 1, cell.column - 1
+            value = values[row][column] if row < len(values) and column < len(values[row]) else None
+            if value is None:
+                missing.append(cell.coordinate)
+    return tuple(missing)
 
 
 def _xls_value(cell: Any, datemode: int) -> object:

@@ -231,6 +231,13 @@ def _read_sheets(
         if not found.grid:
             continue
         where = f"File '{path.name}', sheet {name!r}"
+        if found.uncomputed:
+            cells = ", ".join(found.uncomputed[:6]) + (" ..." if len(found.uncomputed) > 6 else "")
+            raise InputError(
+                f"{where}: the formulas in {cells} have no saved value (the program that wrote "
+                "the file did not compute them), so their text cannot be read; open the file in "
+                "a spreadsheet programme, save it, and try again."
+            )
         try:
             sheet_rows, layout, sheet_warnings = table_rows(found.grid, mapping, where, name)
         except LayoutError as err:

@@ -193,3 +193,17 @@ def test_read_xls_prints_nothing_even_when_xlrd_warns() -> None:
     )
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
     assert (done.returncode, done.stdout, done.stderr) == (0, "3\n", "")
+
+
+def test_xlsx_formulas_without_a_saved_value_are_named_not_dropped(tmp_path: Path) -> None:
+    # openpyxl writes formulas without computing them (its docs: "openpyxl never evaluates
+    # formula"), as scripts do; the answers in those cells must not vanish silently.
+    path = write_xlsx(tmp_path / "scripted.xlsx", {"Answers": [
+        ["respondent", "answer"],
+        ["R1", EN_1],
+        ["R2", '=CONCAT("Good ", "yield")'],
+        ["R3", "=B2"],
+    ]})  # fmt: skip
+    expected = r"'scripted.xlsx', sheet 'Answers': the formulas in B3, B4 have no saved value"
+    with pytest.raises(InputError, match=expected):
+        read(path)
