@@ -17,7 +17,7 @@ from typing import Any, NamedTuple
 from extractor.errors import InputError
 from extractor.ingest.concept_changes import ConceptChanges, compare_lists
 from extractor.ingest.concepts import file_sha256, load_concept_list
-from extractor.ingest.reader import SUFFIXES, ReadResult, read_interviews
+from extractor.ingest.reader import SUFFIXES, ReadResult, metadata_conflicts, read_interviews
 from extractor.nlp.text import split_sentences
 from extractor.progress import track
 from extractor.workspace import store
@@ -139,6 +139,7 @@ def _read(
         default_lang=settings.default_language,
         languages=detection_languages(ws),
     )
+    result.warnings.extend(_stored_conflicts(ws, path, result))
     offsets = [
         split_sentences(row.answer, row.lang)
         for row in track(result.rows, f"Segmenting {path.name}", len(result.rows))
@@ -146,6 +147,21 @@ def _read(
     options = {"sheet": sheet, "mapping": mapping, "layout": result.layout}
     options["encoding"] = result.encoding
     return _Pending(where, sha, result, offsets, options)
+
+
+def _stored_conflicts(ws: Workspace, path: Path, result: ReadResult) -> list[str]:
+    """Warn where the file gives a stored respondent other metadata than the store keeps."""
+    ids = {row.respondent for row in result.rows}
+    known = {
+        (stored["respondent"], key): (str(value), "the workspace (added before)")
+        for stored in store.respondents(ws.conn)
+        if stored["respondent"] in ids
+        for key, value in stored.items()
+        if key not in ("respondent", "is_group")
+    }
+    rows = [row._asdict() for row in result.rows]
+    # conflicts inside the file were told by the reader already
+    return metadata_conflicts(path, rows, known, within=False)
 
 
 def _store(ws: Workspace, pending: _Pending) -> FileReport:

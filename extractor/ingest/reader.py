@@ -91,6 +91,7 @@ def read_interviews(
     candidates = [_setting_tag(t, "languages") for t in languages] if languages else None
     data = _read_bytes(path)
     rows, layout, encoding, warnings = _read_rows(path, suffix, data, sheet, mapping)
+    warnings += metadata_conflicts(path, rows, {})
     _fill_languages(rows, candidates, default)
     answers = [AnswerRow(**row) for row in rows]
     return ReadResult(answers, suffix.lstrip("."), layout, encoding, warnings)
@@ -146,6 +147,47 @@ def _read_rows(
         if not rows:
             warnings.append(f"File '{path.name}' has no respondent turns.")
     return rows, layout, encoding, warnings
+
+
+def row_place(path: Path, row: dict[str, Any]) -> str:
+    """Return where an answer row is in its file: ``row 3``, ``sheet 'A', row 3``, ``line 3``."""
+    if path.suffix.lower() in (".txt", ".docx"):  # a transcript's row is its line (paragraph)
+        return f"line {row['row']}"
+    return f"sheet {row['sheet']!r}, row {row['row']}" if row.get("sheet") else f"row {row['row']}"
+
+
+def metadata_conflicts(
+    path: Path,
+    rows: Sequence[dict[str, Any]],
+    known: dict[tuple[str, str], tuple[str, str]],
+    *,
+    within: bool = True,
+) -> list[str]:
+    """Warn, by file and row, where a respondent's metadata differs from an earlier value.
+
+    Args:
+        path: The file the rows come from.
+        rows: Answer rows (``respondent``, ``metadata``, ``row``, ``sheet``).
+        known: ``(respondent, key) -> (value, where)`` seen before, e.g. stored values;
+            the first value is the one kept (the store adds new keys only).
+        within: Whether to compare the rows with each other too, not only with ``known``.
+    """
+    warnings = []
+    told = set()
+    for row in rows:
+        for key, value in row["metadata"].items():
+            here = f"File '{path.name}', {row_place(path, row)}"
+            pair = (row["respondent"], key)
+            if pair not in known and not within:
+                continue
+            first, where = known.setdefault(pair, (value, row_place(path, row)))
+            if first != value and (*pair, value) not in told:
+                told.add((*pair, value))
+                warnings.append(
+                    f"{here}: respondent {row['respondent']!r} has {key} {value!r}, but "
+                    f"{first!r} in {where}; {first!r} is kept, so correct the file if it is wrong."
+                )
+    return warnings
 
 
 def _fill_languages(

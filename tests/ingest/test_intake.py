@@ -31,6 +31,7 @@ from extractor.ingest.intake import (
     stored_path,
 )
 from extractor.ingest.reader import SUFFIXES
+from extractor.workspace import store
 from extractor.workspace.folder import STORE_FILE, Workspace
 
 HEADER = ["Respondent ID", "Question", "Answer", "Language"]
@@ -271,3 +272,18 @@ def test_import_concepts_imports_then_reports_unchanged(
 def test_import_concepts_missing_file_names_it(workspace: Workspace) -> None:
     with pytest.raises(InputError, match=r"nothing\.csv does not exist"):
         import_concepts(workspace, workspace.root / "nothing.csv")
+
+
+def test_add_warns_when_a_file_contradicts_a_stored_respondent(
+    workspace: Workspace, tmp_path: Path
+) -> None:
+    first, second = tmp_path / "round1.csv", tmp_path / "round2.csv"
+    first.write_text("respondent,gender,answer\nR1,female,It cooks fast.\n", encoding="utf-8")
+    second.write_text("respondent,gender,answer\nR1,male,Birds eat it.\n", encoding="utf-8")
+    add_files(workspace, [first])
+    [report] = add_files(workspace, [second])
+    assert report.warnings == (
+        "File 'round2.csv', row 2: respondent 'R1' has gender 'male', but 'female' in the "
+        "workspace (added before); 'female' is kept, so correct the file if it is wrong.",
+    )
+    assert store.respondents(workspace.conn)[0]["gender"] == "female"

@@ -73,3 +73,31 @@ def test_read_short_answer_gets_default_language(tmp_path: Path) -> None:
     path.write_text("Respondent,Answer\nR1,Oui.\n", encoding="utf-8")
     row = read_interviews(path, languages=LANGS, default_lang="FR").rows[0]
     assert (row.lang, row.lang_origin) == ("fr", "default")
+
+
+def test_respondent_with_conflicting_metadata_is_warned_by_row(tmp_path: Path) -> None:
+    path = tmp_path / "survey.csv"
+    path.write_text(
+        "respondent,gender,district,answer\n"
+        "R1,female,Lowa,It cooks fast.\n"
+        "R2,male,Lowa,The grain is small.\n"
+        "R1,male,Lowa,Birds eat it.\n",
+        encoding="utf-8",
+    )
+    result = read_interviews(path, default_lang="en")
+    assert result.warnings == [
+        "File 'survey.csv', row 4: respondent 'R1' has gender 'male', but 'female' in row 2; "
+        "'female' is kept, so correct the file if it is wrong."
+    ]
+
+
+def test_transcript_respondent_with_conflicting_metadata_names_the_line(tmp_path: Path) -> None:
+    path = tmp_path / "notes.txt"
+    path.write_text(
+        "Respondent: KB-07\nGender: female\n\nFarmer: It cooks fast.\n\n"
+        "Respondent: KB-07\nGender: male\n\nFarmer: Birds eat it.\n",
+        encoding="utf-8",
+    )
+    [warning] = read_interviews(path, default_lang="en").warnings
+    assert warning.startswith("File 'notes.txt', line 9: respondent 'KB-07' has gender 'male'")
+    assert "'female' in line 4" in warning
