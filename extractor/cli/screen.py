@@ -420,7 +420,7 @@ def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str
 
     def read_stream(prompt: str) -> str | None:
         console.print(Text(prompt), end="")
-        line = read_utf8(source.readline, next(count))
+        line = read_utf8(source.readline, next(count), console)
         if line == "":
             return None
         if not console.is_terminal:
@@ -454,8 +454,7 @@ def run_console(
         batch_size: sentences picked together by the strategy.
         strategy: a name from :data:`extractor.loop.strategies.STRATEGIES`.
         model_provider: the current model's predictor, or None before any model.
-        retrain: fits a new model in the background every few labels (see
-            :data:`extractor.loop.predictor.Retrain`).
+        retrain: background refits every few labels (:data:`~extractor.loop.predictor.Retrain`).
         console: where to draw; a new rich Console on standard output by default.
         input_stream: where to read lines; standard input by default.
         settings: session settings.
@@ -465,8 +464,7 @@ def run_console(
         notice: a line shown under the first sentence.
 
     Returns:
-        The session summary: labeled, skipped, undone, total_labels, model_version,
-        kappas, stop_signal, annotator, strategy.
+        The session summary (also when input fails, the session quits: its leases end).
 
     Raises:
         TraitsError: the session cannot start (unknown strategy, empty annotator...).
@@ -491,8 +489,10 @@ def run_console(
         quality=quality,
     )
     screen.say(notice)
-    screen.run()
-    summary = session.quit()
+    try:
+        screen.run()
+    finally:
+        summary = session.quit()
     console.print(
         f"Saved: {summary.labeled} labels this session, {summary.total_labels} in total"
         f", {summary.skipped} skipped."

@@ -90,22 +90,26 @@ def not_utf8(where: str) -> InputError:
     )
 
 
-def read_utf8(read: Callable[[], str], number: int) -> str:
+def read_utf8(read: Callable[[], str], number: int, console: Console | None = None) -> str:
     """Return the line ``read`` gives (line ``number`` of the input), refusing one not in UTF-8.
 
     Under the C locale Python reads bytes that are not UTF-8 as lone surrogates
     (``surrogateescape``), which can be neither stored nor shown; a stream decoding
-    strictly raises instead, at the read of the chunk that holds them.
+    strictly raises instead, at the read of the chunk that holds them. On refusal the
+    prompt's line on ``console`` is ended, so the error starts a line of its own.
     """
     try:
         line = read()
-    except UnicodeDecodeError as exc:
-        raise not_utf8(f"The input (at or after line {number})") from exc
-    try:
         line.encode("utf-8")
-    except UnicodeEncodeError as exc:
-        raise not_utf8(f"Line {number} of the input") from exc
-    return line
+        return line
+    except UnicodeError as exc:
+        if console is not None:
+            console.print()
+        decoding = isinstance(exc, UnicodeDecodeError)
+        where = (
+            f"The input (at or after line {number})" if decoding else f"Line {number} of the input"
+        )
+        raise not_utf8(where) from exc
 
 
 def model_name(session: Session) -> str:

@@ -121,7 +121,7 @@ def _is_binary(body: bytes) -> bool:
     The 1% share is common practice for telling text from binary.
     """
     head = body[:8192]
-    if not head or _utf16_without_mark(head + b"\0" * (len(head) % 2)) is not None:
+    if not head or _utf16_without_mark(head) is not None:
         return False
     controls = sum(1 for byte in head if byte in _CONTROL)
     return controls > len(head) / 100
@@ -135,8 +135,8 @@ def _utf16_without_mark(body: bytes) -> str | None:
     at even ones in big-endian. Zero bytes at most of one parity and almost none of the
     other are that pattern; UTF-8 and the single-byte code pages never hold zero bytes.
     """
-    head = body[:8192]
-    half = len(head) // 2
+    half = min(len(body), 8192) // 2
+    head = body[: 2 * half]  # a last odd byte (a file cut short) does not count
     if half < 2:
         return None
     even = head[0::2].count(0) / half

@@ -31,9 +31,17 @@ def read_labels(path: Path, *, default_lang: str) -> list[LabelRecord]:
             f"got {suffix or 'no suffix'}."
         )
     try:
-        lines = _decode(path.read_bytes()).splitlines()
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path} cannot be read as UTF-8 text ({exc}); check the path.") from exc
+        data = path.read_bytes()
+    except OSError as exc:
+        raise InputError(f"{path} cannot be read ({exc.strerror}); check the path.") from exc
+    try:
+        lines = _decode(data).splitlines()
+    except UnicodeDecodeError as exc:
+        line = data[: exc.start].count(b"\n") + 1
+        raise InputError(
+            f"{path.name}, line {line}: the file is not UTF-8 text, which label files are; "
+            "save it as UTF-8 and import it again."
+        ) from exc
     parse = parse_jsonl if suffix in JSONL_SUFFIXES else parse_conll
     records = parse(lines, source=path.name, default_lang=default_lang)
     if not records:
