@@ -488,7 +488,7 @@ def _pipe_surrogates(ws: Path, tmp: Path, mp: pytest.MonkeyPatch) -> tuple[list[
     # Python reads a pipe in the C locale with surrogateescape: bad bytes become surrogates
     stream = io.TextIOWrapper(io.BytesIO(b"cooks \xff\xfe fast\nq\n"), errors="surrogateescape")
     mp.setattr("sys.stdin", stream)
-    return ["label", "-w", str(ws), "--annotator", "t"], "line 1"
+    return ["label", "-w", str(ws), "--annotator", "t"], "Line 1"
 
 
 @case("label-pipe-strict-decoding")

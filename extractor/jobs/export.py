@@ -71,9 +71,10 @@ def workspace_secret(ws: Workspace) -> bytes:
 
 def privacy_options(ws: Workspace, names_file: str | None = None) -> PrivacyOptions:
     """Return the pseudonymisation options from the workspace settings."""
+    names = listed_names(ws, names_file)  # a bad names file stores nothing, not even the secret
     return PrivacyOptions(
         secret=workspace_secret(ws),
-        names=listed_names(ws, names_file),
+        names=names,
         drop_columns=ws.settings.export.identifying_columns,
         phone_regions=phone_regions(ws),
     )
