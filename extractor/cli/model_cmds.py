@@ -179,7 +179,9 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
         print_json(console, report)
         return 0
     print_written(console, args, report.path)
-    what = "labeled sentences" if args.format in ("conll", "labels") else "mentions"
+    what = {"conll": "labeled sentences", "labels": "labeled sentences"}.get(
+        args.format, "respondents" if args.format == "indicators" else "mentions"
+    )
     console.print(f"Wrote {report.path} ({report.mentions} {what}).", markup=False)
     if report.chart:
         console.print(f"Chart: {report.chart}")
@@ -208,7 +210,9 @@ def register(sub: Subcommands) -> None:
     p = sub.add_parser("export", help="write the preferred-traits workbook or another format")
     p.add_argument("--out", help="output file (default: exports/preferred_traits.xlsx)")
     p.add_argument(
-        "--format", choices=("xlsx", "csv", "jsonl", "conll", "jsonld", "labels"), default="xlsx"
+        "--format",
+        choices=("xlsx", "csv", "jsonl", "conll", "jsonld", "labels", "indicators"),
+        default="xlsx",
     )
     p.add_argument(
         "--pseudonymise",

@@ -25,6 +25,7 @@ from extractor.jobs.inputs import (
 )
 from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
+from extractor.report.indicators import indicator_table, write_indicators
 from extractor.report.inputs import prepare
 from extractor.report.privacy import PrivacyOptions, new_secret
 from extractor.report.results import concept_frame, mention_frame, respondent_frame, run_facts
@@ -41,6 +42,7 @@ OTHER_FORMATS = {
     "conll": ".conll",
     "jsonld": ".jsonld",
     "labels": ".jsonl",
+    "indicators": ".csv",
 }
 """Export format -> file suffix, besides the workbook (``xlsx``)."""
 LABEL_FORMATS = ("conll", "labels")
@@ -170,12 +172,19 @@ def export_other(
     min_confidence: float | None = None,
     names_file: str | None = None,
 ) -> ExportResult:
-    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or the labels themselves."""
+    """Write mentions as CSV, JSON Lines or W3C Web Annotations, or the labels themselves.
+
+    ``indicators`` writes one row per respondent (0/1 per trait and stance) as CSV,
+    Stata ``.dta`` and SPSS ``.sav`` beside each other, with a codebook CSV; its
+    count is of respondents.
+    """
     if fmt not in OTHER_FORMATS:
         raise InputError(
             f"The export format must be one of xlsx, {', '.join(OTHER_FORMATS)}; got {fmt!r}."
         )
-    stem = "labeled_sentences" if fmt in LABEL_FORMATS else "mentions"
+    stem = {"indicators": "indicators"}.get(
+        fmt, "labeled_sentences" if fmt in LABEL_FORMATS else "mentions"
+    )
     out = (
         out
         or ws.exports_dir / f"{stem}{'_pseudonymised' if pseudonymise else ''}{OTHER_FORMATS[fmt]}"
@@ -183,12 +192,16 @@ def export_other(
     out.parent.mkdir(parents=True, exist_ok=True)
     if fmt in LABEL_FORMATS:
         return _export_labeled(out, ws, fmt, pseudonymise)
-    mentions, _ = prepare(
+    mentions, respondents = prepare(
         mention_frame(ws, version),
         respondent_frame(ws),
         min_confidence=min_confidence_floor(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
     )
+    if fmt == "indicators":
+        table = indicator_table(mentions, respondents, concept_frame(ws))
+        out = write_indicators(out.with_suffix(".csv"), table)["csv"]
+        return ExportResult(out, len(table.frame))
     writer = {
         "csv": formats.write_mentions_csv,
         "jsonl": formats.write_mentions_jsonl,

@@ -34,6 +34,7 @@ WRAPPED_COLUMNS = {
     "Wanted",
     "Value",
     "Meaning",
+    "Quote",
     "Caution",
     "Neutral",
 }

@@ -28,6 +28,7 @@ from extractor.report.privacy import (
     dropped_columns,
     identifying_columns,
 )
+from extractor.report.quotes import QUOTE_NOTES, quotes_by_trait
 from extractor.report.rollup import has_hierarchy, parent_summary
 from extractor.report.summary import SUMMARY_NOTES, trait_summary
 from extractor.report.tables import (
@@ -53,6 +54,7 @@ SHEETS = {
     "parents": "Summary by parent trait",
     "varieties": "Traits by variety",
     "head_to_head": "Head to head",
+    "quotes": "Quotes by trait",
     "unlinked": "Unlinked terms",
     "chart": "Charts",
     "about": "About",
@@ -172,6 +174,7 @@ def write_workbook(
         *_parent_sheet(m, r, concepts, group_by),
         (SHEETS["varieties"], variety_table(m, r, concepts), VARIETY_NOTES, 1),
         (SHEETS["head_to_head"], head_to_head(m, r, concepts), HEAD_TO_HEAD_NOTES, 1),
+        (SHEETS["quotes"], quotes_by_trait(m, r, concepts, grouping), QUOTE_NOTES, 2),
         (SHEETS["unlinked"], unlinked_terms(m), (), 1),
     ]
     wb = Workbook()

@@ -13,6 +13,7 @@ from collections.abc import Iterator
 from pathlib import Path
 
 import openpyxl
+import pandas as pd
 import pytest
 
 from extractor.errors import InputError
@@ -105,7 +106,8 @@ def test_export_labels_round_trip_through_import(ws: Workspace) -> None:
 
 def test_export_other_rejects_unknown_format(ws: Workspace) -> None:
     with pytest.raises(
-        InputError, match="must be one of xlsx, csv, jsonl, conll, jsonld, labels; got 'pdf'"
+        InputError,
+        match="must be one of xlsx, csv, jsonl, conll, jsonld, labels, indicators; got 'pdf'",
     ):
         export_other(ws, VERSION, "pdf")
 
@@ -191,3 +193,13 @@ def test_export_workbook_level_rolls_children_into_their_parent(ws: Workspace) -
 def test_export_level_applies_to_the_workbook_only(ws: Workspace) -> None:
     with pytest.raises(InputError, match="--level rolls up the workbook"):
         export(ws, "csv", level=1)
+
+
+def test_export_indicators_writes_csv_stata_spss_and_codebook(ws: Workspace) -> None:
+    result = export_other(ws, VERSION, "indicators")
+    assert result.path == ws.exports_dir / "indicators.csv"
+    for name in ("indicators.dta", "indicators.sav", "indicators_codebook.csv"):
+        assert (ws.exports_dir / name).is_file()
+    with pd.io.stata.StataReader(ws.exports_dir / "indicators.dta") as reader:
+        frame = reader.read()
+    assert len(frame) == result.mentions  # one row per respondent
