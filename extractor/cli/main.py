@@ -24,6 +24,7 @@ from extractor.cli import (
     label_cmds,
     language_cmds,
     model_cmds,
+    report_cmds,
     review_cmds,
     workspace_cmds,
 )
@@ -47,6 +48,7 @@ def build_parser() -> argparse.ArgumentParser:
         workspace_cmds,
         concept_cmds,
         model_cmds,
+        report_cmds,
         label_cmds,
         review_cmds,
         language_cmds,
