@@ -27,6 +27,7 @@ COMMANDS: dict[str, list[str]] = {
     "models": ["models"],
     "run": ["run"],
     "export": ["export"],
+    "report": ["report"],
     "label": ["label", "--annotator", "ana"],
     "import-labels": ["import-labels", "labels.jsonl"],
     "evaluate": ["evaluate"],
