@@ -23,6 +23,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
+import pyreadstat
 
 from extractor.report.formats import write_mentions_csv
 from extractor.report.inputs import concept_labels, metadata_columns, trait_name
@@ -180,9 +181,6 @@ def write_indicators(csv_path: Path | str, table: Indicators) -> dict[str, Path]
     Returns:
         The paths written, by kind.
     """
-    # pyreadstat is only needed here and takes a while to load
-    import pyreadstat
-
     paths = indicator_paths(Path(csv_path))
     write_mentions_csv(paths["csv"], table.frame)
     write_mentions_csv(paths["codebook"], table.codebook)
