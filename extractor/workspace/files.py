@@ -16,8 +16,10 @@ still run.
 from __future__ import annotations
 
 import contextlib
+import glob
 import os
 import tempfile
+import time
 from collections.abc import Iterator
 from pathlib import Path
 from typing import TextIO
@@ -26,6 +28,9 @@ from extractor.errors import InputError
 
 TEMP_PREFIX = ".partial-"
 """Name prefix of a file being written; a leftover one can be deleted safely."""
+STALE_S = 600
+"""A temporary file untouched this long was left by a killed writer; the next write of the
+same target removes it."""
 
 
 def _problem(path: Path, exc: OSError) -> InputError:
@@ -34,6 +39,14 @@ def _problem(path: Path, exc: OSError) -> InputError:
         f"Cannot write {str(path)!r}: {reason}; the previous file, if any, is unchanged. "
         "Free disk space or choose a writable folder, then run the command again."
     )
+
+
+def _remove_stale(path: Path) -> None:
+    """Remove temporary files a killed writer of ``path`` left (a kill -9 cannot clean up)."""
+    for old in path.parent.glob(TEMP_PREFIX + glob.escape(path.name) + ".*"):
+        with contextlib.suppress(OSError):
+            if time.time() - old.stat().st_mtime > STALE_S:
+                old.unlink()
 
 
 @contextlib.contextmanager
@@ -51,6 +64,7 @@ def atomic_path(path: Path | str) -> Iterator[Path]:
         raise InputError(
             f"The folder {str(path.parent)!r} for {path.name!r} does not exist; create it first."
         )
+    _remove_stale(path)
     try:
         handle, name = tempfile.mkstemp(prefix=TEMP_PREFIX + path.name + ".", dir=path.parent)
     except OSError as exc:

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import errno
+import os
+import time
 from pathlib import Path
 
 import pytest
@@ -47,3 +49,16 @@ def test_atomic_path_names_a_missing_folder(tmp_path: Path) -> None:
     with pytest.raises(InputError, match="does not exist"):
         with atomic_path(tmp_path / "nope" / "w.xlsx"):
             pass
+
+
+def test_atomic_path_removes_what_a_killed_writer_left_long_ago(tmp_path: Path) -> None:
+    out = tmp_path / "w.xlsx"
+    stale = tmp_path / (TEMP_PREFIX + "w.xlsx.abc123")
+    fresh = tmp_path / (TEMP_PREFIX + "w.xlsx.def456")  # maybe another writer, right now
+    for leftover in (stale, fresh):
+        leftover.write_bytes(b"half")
+    old = time.time() - 3600
+    os.utime(stale, (old, old))
+    with atomic_path(out) as temp:
+        temp.write_bytes(b"new")
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(["w.xlsx", fresh.name])
