@@ -10,6 +10,7 @@ bytes. None may hold a planted identifier.
 
 from __future__ import annotations
 
+import csv
 import re
 from pathlib import Path
 
@@ -54,6 +55,11 @@ PEOPLE = [
     ),
 ]
 LISTED = ["Tumaini"]
+FORMULAS = [  # answers a spreadsheet would run (OWASP, "CSV Injection")
+    ("OMB-781", "=1+1 it cooks fast", "@SUM(A1) why?"),
+    ("OMB-782", "+254 it cooks fast", "-why?"),
+    ("OMB-783", "-2+3 it cooks fast", "=HYPERLINK(x) why?"),
+]
 
 
 def _planted() -> list[str]:
@@ -75,6 +81,8 @@ def study(tmp_path_factory: pytest.TempPathFactory) -> Path:
             f'{respondent},{name},{email},{mobile},"{gps}",{national},woman,en-KE,'
             f'{question},"{answer}"'
         )
+    for respondent, answer, question in FORMULAS:
+        lines.append(f'{respondent},,,,,,man,en-KE,"{question}","{answer}"')
     (root / "interviews" / "planted.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
     (root / "names.txt").write_text("\n".join(LISTED) + "\n", encoding="utf-8")
     settings = root / "traits.toml"
@@ -136,3 +144,26 @@ def test_model_folder_holds_no_planted_identifier(study: Path) -> None:
             if len(piece) >= (6 if piece.isdigit() else 4)
         }
         assert [p for p in pieces if p.casefold() in data.casefold()] == [], path.name
+
+
+@pytest.mark.parametrize("private", [False, True], ids=["plain", "pseudonymised"])
+def test_csv_export_cells_never_start_a_formula(study: Path, private: bool) -> None:
+    out = study / "exports" / f"cells-{private}.csv"
+    argv = ["-w", str(study), "export", "--format", "csv", "--out", str(out)]
+    code, said = run(*argv, *(["--pseudonymise"] if private else []))
+    assert code == 0, said
+    with out.open(newline="", encoding="utf-8") as fh:  # the csv module is the reference reader
+        cells = [cell for row in csv.reader(fh) for cell in row]
+    guarded = [c for c in cells if c.startswith("'")]
+    assert len(guarded) >= len(FORMULAS)  # the planted answers are there, with the quote
+    risky = [c for c in cells if c[:1] in ("=", "+", "@", "\t", "\r")]
+    risky += [c for c in cells if c.startswith("-") and not _number(c)]
+    assert risky == []
+
+
+def _number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
