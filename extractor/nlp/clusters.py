@@ -34,6 +34,7 @@ from sklearn.cluster import MiniBatchKMeans
 from sklearn.decomposition import TruncatedSVD
 
 from extractor.errors import ModelError
+from extractor.nlp import pretrained
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
 
@@ -106,6 +107,8 @@ def learn_clusters(
     granularities: tuple[int, ...] = (32, 128, 512),
     prototypes: int = 2000,
     neighbours: int = 3,
+    space: str | None = pretrained.DEFAULT,
+    space_granularities: tuple[int, ...] = (64, 256, 1024),
 ) -> dict[str, Any]:
     """Learn word vectors and clusters from unlabeled ``(text, lang)`` pairs.
 
@@ -119,12 +122,19 @@ def learn_clusters(
         granularities: Numbers of clusters, coarse to fine (capped at the word count).
         prototypes: The most frequent words that serve as neighbours.
         neighbours: How many nearest prototypes to keep per word.
+        space: The pretrained multilingual space (:mod:`extractor.nlp.pretrained`) that
+            clusters every word of the corpus (even words seen once) by meaning across
+            languages; ``None`` or ``"none"``, or a space whose package is missing, for
+            none.
+        space_granularities: Numbers of clusters in the pretrained space, coarse to fine.
 
     Returns:
         A JSON-serialisable dict: ``format``, ``version``, ``params``, ``fingerprint``,
         ``words`` (vocabulary in vector order), ``clusters`` (word -> one cluster ID per
         granularity), ``neighbours`` (word -> its nearest prototype words) and
-        ``vectors`` (one list of floats per word, rounded).
+        ``vectors`` (one list of floats per word, rounded) and ``pretrained`` (``space``:
+        the space's name or ``"none"``; ``clusters``: word -> one cluster ID per
+        granularity of ``space_granularities``).
         With fewer than :data:`MIN_WORDS` frequent words, ``clusters`` and ``vectors``
         are empty.
     """
@@ -133,13 +143,15 @@ def learn_clusters(
         "seed": seed, "window": window, "min_count": min_count, "max_words": max_words,
         "dims": dims, "granularities": list(granularities), "alpha": 0.75,
         "prototypes": prototypes, "neighbours": neighbours,
+        "space_granularities": list(space_granularities),
     }  # fmt: skip
     model: dict[str, Any] = {
         "format": FORMAT, "version": VERSION, "params": params,
         "fingerprint": corpus_fingerprint(corpus), "words": [], "clusters": {}, "neighbours": {},
-        "vectors": [],
+        "vectors": [], "pretrained": {"space": pretrained.NONE, "clusters": {}},
     }  # fmt: skip
     sentences = _sentences(corpus)
+    model["pretrained"] = _pretrained_clusters(corpus, space, space_granularities, seed)
     counts = Counter(w for sent in sentences for w in sent)
     vocab = [w for w, c in counts.most_common(max_words) if c >= min_count]
     if len(vocab) < MIN_WORDS:
@@ -153,6 +165,33 @@ def learn_clusters(
     model["neighbours"] = _prototype_neighbours(vocab, vectors, prototypes, neighbours)
     model["vectors"] = np.round(vectors, 4).tolist()
     return model
+
+
+def _pretrained_clusters(
+    corpus: list[tuple[str, str]], name: str | None, granularities: tuple[int, ...], seed: int
+) -> dict[str, Any]:
+    """Return the pretrained space's clusters of every word of the corpus (keyed folded).
+
+    Each folded form is embedded in its most frequent lower-cased spelling (accents
+    kept: the encoder knows "preço", not "preco") and carries its most frequent language.
+    """
+    space = pretrained.load_space(name)
+    if space is None:
+        return {"space": pretrained.NONE, "clusters": {}}
+    spellings: dict[str, Counter[str]] = {}
+    langs: dict[str, Counter[str]] = {}
+    for text, lang in corpus:
+        for s, e in tokenize(text, lang):
+            word = text[s:e]
+            if not any(c.isalpha() for c in word):
+                continue
+            key = fold(word)
+            spellings.setdefault(key, Counter())[word.lower()] += 1
+            langs.setdefault(key, Counter())[lang] += 1
+    surface = {key: c.most_common(1)[0][0] for key, c in spellings.items()}
+    by_surface = {surface[key]: langs[key].most_common(1)[0][0] for key in surface}
+    ids = pretrained.word_clusters(space, by_surface, granularities=granularities, seed=seed)
+    return {"space": space.name, "clusters": {key: ids[surface[key]] for key in surface}}
 
 
 def _word_vectors(weights: sparse.csr_matrix, dims: int, seed: int) -> np.ndarray:

@@ -85,6 +85,17 @@ def cluster_ids(word: str, clusters: Clusters | None) -> tuple[str, ...]:
     return tuple(str(i) for i in ids) if ids else ()
 
 
+def space_ids(word: str, clusters: Clusters | None) -> tuple[str, ...]:
+    """Return the word's clusters in the pretrained multilingual space, coarse to fine.
+
+    ``()`` when the model has no pretrained clusters or does not know the word.
+    """
+    if not clusters:
+        return ()
+    ids = clusters.get("pretrained", {}).get("clusters", {}).get(fold(word))
+    return tuple(str(i) for i in ids) if ids else ()
+
+
 def neighbour_words(word: str, clusters: Clusters | None) -> list[str]:
     """Return the frequent words nearest to ``word`` in the cluster model, ``[]`` if none."""
     if not clusters:
@@ -93,6 +104,7 @@ def neighbour_words(word: str, clusters: Clusters | None) -> list[str]:
 
 
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
+_SPACE_KEYS = tuple(f"x{level}" for level in range(8))
 # Feature names of the window, built once: (offset, word key, cluster key, dictionary key,
 # finer-cluster keys used only right next to the token).
 _WINDOW = tuple(
@@ -135,6 +147,7 @@ def sentence_features(
     lowers = [t.lower() for t in tokens]
     clus = [cluster_ids(t, clusters) for t in tokens]
     protos = [neighbour_words(t, clusters) for t in tokens]
+    space = [space_ids(t, clusters) for t in tokens]
     # Window features use the coarsest cluster: finer ones are too sparse at a distance.
     coarse = [c[0] if c else "-" for c in clus]
     tags = list(dict_tags) if dict_tags is not None else ["O"] * n
@@ -145,6 +158,12 @@ def sentence_features(
             f[_CLUSTER_KEYS[level]] = cid
         for proto in protos[i]:
             f["nn=" + proto] = 1.0
+        for level, cid in enumerate(space[i]):
+            f[_SPACE_KEYS[level]] = cid
+        if i > 0 and space[i - 1]:
+            f["-1x"] = space[i - 1][0]
+        if i < n - 1 and space[i + 1]:
+            f["+1x"] = space[i + 1][0]
         if dict_tags is not None:
             f["d"] = tags[i]
             concept = dict_concepts[i] if dict_concepts is not None else None
