@@ -108,7 +108,7 @@ def learn_clusters(
     prototypes: int = 2000,
     neighbours: int = 3,
     space: str | None = pretrained.DEFAULT,
-    space_granularities: tuple[int, ...] = (64, 256, 1024),
+    space_granularities: tuple[int, ...] = (32, 128, 512),
 ) -> dict[str, Any]:
     """Learn word vectors and clusters from unlabeled ``(text, lang)`` pairs.
 
@@ -191,7 +191,8 @@ def _pretrained_clusters(
     surface = {key: c.most_common(1)[0][0] for key, c in spellings.items()}
     by_surface = {surface[key]: langs[key].most_common(1)[0][0] for key in surface}
     ids = pretrained.word_clusters(space, by_surface, granularities=granularities, seed=seed)
-    return {"space": space.name, "clusters": {key: ids[surface[key]] for key in surface}}
+    found = {key: ids[surface[key]] for key in surface if surface[key] in ids}
+    return {"space": space.name, "clusters": found}
 
 
 def _word_vectors(weights: sparse.csr_matrix, dims: int, seed: int) -> np.ndarray:
