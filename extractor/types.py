@@ -111,3 +111,22 @@ class Implicit(NamedTuple):
 
     concept: str
     stance: str | None = None
+
+
+DIRECTIONS = ("likes", "dislikes", "wishes", "open")
+"""What a question asks for, as a codebook gives it: evidence for stance, never the answer."""
+
+
+class QuestionCode(NamedTuple):
+    """One question of a question codebook: its wording and the direction it asks for.
+
+    Attributes:
+        key: The question as stored with the answers (a survey field name such as
+            ``q5_dislike``, or the question's text).
+        text: The question's wording, when known (read for its cue words).
+        direction: One of :data:`DIRECTIONS`, or ``None`` when only the text is given.
+    """
+
+    key: str
+    text: str | None = None
+    direction: str | None = None

@@ -10,6 +10,7 @@ from pathlib import Path
 from typing import Any
 
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
@@ -18,6 +19,7 @@ from extractor.jobs.add import LanguageFound, add_interviews
 from extractor.jobs.status import metadata_merges, workspace_status
 from extractor.report.metadata import Harmonised
 from extractor.workspace.folder import create_workspace
+from extractor.workspace.store import StoredQuestion
 
 _COUNT_COLUMNS = ("respondents", "answers", "sentences")
 
@@ -113,12 +115,34 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
             "`traits language detect --all` if some are wrong.",
             highlight=False,
         )
+    print_unknown_questions(console, added.unknown_questions)
     return 0
+
+
+def print_unknown_questions(console: Console, unknown: Sequence[StoredQuestion]) -> None:
+    """Print the stored questions whose direction is unknown, and how to give it."""
+    if not unknown:
+        return
+    shown = ", ".join(f"{q.question} ({q.answers} answers)" for q in unknown[:_SHOWN_QUESTIONS])
+    more = f" and {len(unknown) - _SHOWN_QUESTIONS} more" if len(unknown) > _SHOWN_QUESTIONS else ""
+    console.print(
+        f"note: {len(unknown)} questions tell stance nothing: {escape(shown)}{more}. "
+        "Give each its direction (likes, dislikes, wishes or open) in questions.csv "
+        "(columns question, text, direction) or under [codebook] in traits.toml; "
+        "it is evidence for stance, never the answer.",
+        highlight=False,
+    )
+
+
+_SHOWN_QUESTIONS = 8
 
 
 _LACKS = {
     "synonyms": "no synonyms in the concept list (only your labels teach it)",
-    "stance cues": "no stance cues (stances come from your labels only)",
+    "stance cues": (
+        "no stance cues (stances come from the question, your labels in any language, "
+        "and cue words you add: see the README's 'Stance cues for your language')"
+    ),
     "spaCy pipeline": "no spaCy pipeline (spaCy's multi-language tokenizer splits its words)",
 }
 

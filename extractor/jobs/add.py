@@ -3,12 +3,15 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
 from extractor.ingest.intake import FileReport, add_files
+from extractor.jobs.inputs import question_codebook, stance_params
+from extractor.models.cues import Cues, has_stance_cues, lexicon, load_cues
 from extractor.models.languages import LanguageSupport, language_support
+from extractor.models.stance_features import question_features
 from extractor.nlp.text import primary_subtag
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -45,24 +48,60 @@ class LanguageFound:
 
 @dataclass(frozen=True)
 class AddReport:
-    """What `traits add` did: one report per file, and the languages now stored."""
+    """What `traits add` did: the files, the languages and the questions now stored.
+
+    ``unknown_questions`` are the stored questions whose direction is unknown (see
+    :func:`unknown_questions`).
+    """
 
     files: Sequence[FileReport]
     languages: Sequence[LanguageFound]
     concept_list: bool
+    unknown_questions: Sequence[store.StoredQuestion] = ()
+
+
+def unknown_questions(ws: Workspace) -> tuple[store.StoredQuestion, ...]:
+    """Return the stored questions that give stance no lean, most answered first.
+
+    A question is known when the codebook gives it a direction (``open`` counts), or
+    when its wording (the codebook's, else the question as stored) holds a question cue
+    of its language. Survey field names (``q5_dislike``) are unknown until coded.
+    """
+    codebook = question_codebook(ws)
+    cues = load_cues(stance_params(ws)["cues_path"])
+    unknown = []
+    for q in store.questions(ws.conn):
+        code = codebook.get(q.question)
+        if code is not None and code.direction is not None:
+            continue
+        if not question_features(q.question, lexicon(cues, q.lang), codebook):
+            unknown.append(q)
+    return tuple(unknown)
 
 
 def stored_languages(ws: Workspace) -> tuple[LanguageFound, ...]:
-    """Return the languages of the stored sentences, most sentences first."""
+    """Return the languages of the stored sentences, most sentences first.
+
+    A language counts as having stance cues when the packaged lexicon or the
+    workspace's own cue file has stance words for it.
+    """
+    cues = load_cues(stance_params(ws)["cues_path"])
     synonyms: dict[str, int] = {}
     for alias in store.aliases(ws.conn):
         code = primary_subtag(alias.lang)
         synonyms[code] = synonyms.get(code, 0) + 1
     counts = store.counts(ws.conn)["languages"]
     return tuple(
-        LanguageFound(tag, n, synonyms.get(tag, 0), language_support(tag))
+        LanguageFound(tag, n, synonyms.get(tag, 0), _support(tag, cues))
         for tag, n in sorted(counts.items(), key=lambda kv: (-kv[1], kv[0]))
     )
+
+
+def _support(tag: str, cues: Cues) -> LanguageSupport:
+    support = language_support(tag)
+    if not support.stance_cues and has_stance_cues(cues, tag):
+        return replace(support, stance_cues=True)
+    return support
 
 
 def add_interviews(
@@ -91,4 +130,9 @@ def add_interviews(
     if metadata:
         store.add_metadata_renames(ws.conn, metadata)
     has_list = store.current_concept_version(ws.conn, "trait") is not None
-    return AddReport(files=files, languages=stored_languages(ws), concept_list=has_list)
+    return AddReport(
+        files=files,
+        languages=stored_languages(ws),
+        concept_list=has_list,
+        unknown_questions=unknown_questions(ws),
+    )

@@ -6,14 +6,18 @@ store the same way.
 
 from __future__ import annotations
 
+from dataclasses import asdict
 from pathlib import Path
+from typing import Any
 
 from extractor.errors import InputError
+from extractor.ingest.codebook import read_codebook
 from extractor.ingest.labels import LabelRecord
 from extractor.loop.samples import SessionSettings
+from extractor.models.stance import codebook_params
 from extractor.nlp.identifiers import Screening, mask_identifiers, name_variants
 from extractor.report.privacy import NAME_COLUMNS, identifying_columns
-from extractor.types import Implicit, Sentence, Span
+from extractor.types import Implicit, QuestionCode, Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
@@ -120,3 +124,32 @@ def screening(ws: Workspace) -> Screening:
 def masked(sentences: list[Sentence], screen: Screening) -> list[Sentence]:
     """Return the sentences with identifying stretches masked, offsets unchanged."""
     return [s._replace(text=mask_identifiers(s.text, screen)) for s in sentences]
+
+
+def question_codebook(ws: Workspace) -> dict[str, QuestionCode]:
+    """Return the question codebook: the questions file, with ``[codebook]`` entries over it.
+
+    Raises:
+        InputError: The questions file is unreadable or malformed.
+    """
+    path = ws.root / ws.settings.workspace.questions
+    found = read_codebook(path) if ws.settings.workspace.questions and path.is_file() else {}
+    return found | dict(ws.settings.codebook)
+
+
+def stance_params(ws: Workspace) -> dict[str, Any]:
+    """Return the stance model's parameters from the workspace: its cue file and codebook."""
+    cues = ws.settings.workspace.stance_cues
+    return {
+        "cues_path": str(ws.root / cues) if cues else None,
+        "questions": codebook_params(question_codebook(ws)) or None,
+    }
+
+
+def model_params(ws: Workspace) -> dict[str, Any]:
+    """Return the keyword arguments of ``TraitModels`` that ``traits.toml`` sets."""
+    return {
+        "tagger_params": asdict(ws.settings.tagger),
+        "link_threshold": ws.settings.linking.threshold,
+        "stance_params": stance_params(ws),
+    }

@@ -18,7 +18,7 @@ from typing import Any
 from extractor.errors import InputError
 from extractor.ingest.labels import LabelImport, convert_legacy_lines, import_labels, read_labels
 from extractor.jobs.evaluate import stored_quality
-from extractor.jobs.inputs import alias_tuples, session_settings
+from extractor.jobs.inputs import alias_tuples, model_params, session_settings
 from extractor.jobs.train import load_version, train
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
@@ -75,12 +75,11 @@ def retrainer(ws: Workspace) -> Retrain:
     """
     corpus = store.sentences(ws.conn)
     aliases = alias_tuples(ws)
-    params = dataclasses.asdict(ws.settings.tagger)
-    threshold = ws.settings.linking.threshold
+    params = model_params(ws)
     clusters_box: dict[str, Any] = {}
 
     def retrain(gold: Sequence[tuple[Sentence, Sequence[Span]]]) -> Predictor:
-        models = TraitModels(tagger_params=params, link_threshold=threshold)
+        models = TraitModels(**params)
         models.fit(list(gold), corpus, aliases, clusters=clusters_box.get("clusters"))
         clusters_box["clusters"] = models.clusters_
         return models.predict

@@ -18,6 +18,7 @@ from extractor.ingest.intake import (
     interview_files,
 )
 from extractor.jobs.export import ExportResult, export_workbook
+from extractor.jobs.inputs import stance_params
 from extractor.jobs.status import WorkspaceCounts
 from extractor.jobs.tag import TagReport, ensure_tagged, tag
 from extractor.jobs.train import TrainReport, train
@@ -99,9 +100,21 @@ def training_inputs(ws: Workspace) -> str:
         "labels": (len(history), history[-1]["id"] if history else None),
         "tagger": asdict(ws.settings.tagger),
         "linking": asdict(ws.settings.linking),
+        "stance": stance_params(ws),
+        "stance_cues": _file_digest(ws.root / ws.settings.workspace.stance_cues)
+        if ws.settings.workspace.stance_cues
+        else None,
     }
     text = json.dumps(parts, sort_keys=True, default=str)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _file_digest(path: Path) -> str | None:
+    """Return the SHA-256 of a file's bytes, or None when it cannot be read."""
+    try:
+        return hashlib.sha256(path.read_bytes()).hexdigest()
+    except OSError:
+        return None
 
 
 def _unchanged_version(ws: Workspace, digest: str) -> store.ModelVersion | None:

@@ -6,13 +6,20 @@ import re
 import shutil
 import time
 from collections.abc import Mapping, Sequence
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
 from extractor.errors import ModelError, TraitsError, WorkspaceError
-from extractor.jobs.inputs import alias_tuples, gold_examples, masked, screening, session_settings
+from extractor.jobs.inputs import (
+    alias_tuples,
+    gold_examples,
+    masked,
+    model_params,
+    screening,
+    session_settings,
+)
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
 from extractor.models.bundle import TrainingCounts, TraitModels
@@ -189,10 +196,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
         raise ModelError(_NOTHING_TO_TRAIN_ON)
     notes = tidy_model_folders(ws) + _training_notes(held_out, bool(aliases))
     corpus = masked(store.sentences(ws.conn), screen)
-    models = TraitModels(
-        tagger_params=asdict(ws.settings.tagger),
-        link_threshold=ws.settings.linking.threshold,
-    )
+    models = TraitModels(**model_params(ws))
     models.fit(gold, corpus, aliases, clusters=reusable_clusters(ws, corpus), held_out=held_out)
     figures: dict[str, Any] = {}
     if cross_validate:
@@ -260,10 +264,7 @@ def cross_validation(
         alias_tuples(ws),
         k=k,
         seed=0,
-        model_params={
-            "tagger_params": asdict(ws.settings.tagger),
-            "link_threshold": ws.settings.linking.threshold,
-        },
+        model_params=model_params(ws),
         clusters=clusters,
     ), ""
 

@@ -114,6 +114,8 @@ class TraitModels(BaseEstimator):
         tagger_params: Keyword arguments of :func:`extractor.models.tagger_training.fit_tagger`.
         link_threshold: Link probability below which a mention stays unlinked.
         seed: Random seed of the word clusters.
+        stance_params: Keyword arguments of :class:`~extractor.models.stance.StanceModel`
+            (a user cue file, the question codebook).
     """
 
     def __init__(
@@ -122,10 +124,12 @@ class TraitModels(BaseEstimator):
         tagger_params: dict[str, Any] | None = None,
         link_threshold: float = 0.25,
         seed: int = 0,
+        stance_params: dict[str, Any] | None = None,
     ) -> None:
         self.tagger_params = tagger_params
         self.link_threshold = link_threshold
         self.seed = seed
+        self.stance_params = stance_params
 
     @classmethod
     def train(
@@ -187,7 +191,7 @@ class TraitModels(BaseEstimator):
                 link_examples += [(sentence, m, m.concept) for m in matches if m.concept]
         self.linker_ = ConceptLinker(threshold=self.link_threshold).fit(link_examples, aliases)
         stance_examples = [(s, sp, sp.stance) for s, spans in gold for sp in spans if sp.stance]
-        self.stance_ = StanceModel()
+        self.stance_ = StanceModel(**(self.stance_params or {}))
         if len({label for _, _, label in stance_examples}) >= 2:
             self.stance_.fit(stance_examples)
         self.counts_ = TrainingCounts(

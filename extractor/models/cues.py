@@ -124,6 +124,16 @@ def _check_section(path: Path, lang: str, section: Any) -> None:
             raise InputError(f"Cue file {path}: {lang}.{cat} must be a list of non-empty strings.")
 
 
+def has_stance_cues(cues: Cues, lang: str) -> bool:
+    """Return whether a lexicon holds stance words (liked, disliked or wanted) for a language."""
+    section = cues.get(primary_subtag(lang) if lang else "", {})
+    return any(section.get(cat) for cat in STANCE_CATEGORIES)
+
+
+STANCE_CATEGORIES = ("liked", "disliked", "wanted")
+"""The cue categories that carry a stance (the others mark negation, clauses, comparisons)."""
+
+
 # --------------------------------------------------------------------------- matching
 
 
@@ -356,10 +366,11 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     The rules, first match wins: a negated wish is disliked; a wish before the span
     or in its clause is wanted; excess is disliked; a negated fault word in the span
     is liked and a negated good word disliked; then the net polarity of cues in the
-    clause, then in the contrast segment, then the opposite of the other side of a
+    clause, then of cue words inside the span ("then they spoil", "cozinha
+    rápido"), then in the contrast segment, then the opposite of the other side of a
     contrast; a negated span with no cue is disliked (the trait is missing); the
     praised side of a comparison is liked (the lowered side disliked); then the
-    question's lean; else neutral.
+    question's lean (a codebook direction, or the question's cue words); else neutral.
 
     Args:
         features: Features from :func:`extractor.models.stance.stance_features`.
@@ -381,6 +392,9 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     score = g("clause_liked", 0) - g("clause_disliked", 0)
     if score:
         return ("liked" if score > 0 else "disliked"), min(0.6 + 0.1 * abs(score), 0.85)
+    own = g("span_good", 0) - g("span_fault", 0)
+    if own:
+        return ("liked" if own > 0 else "disliked"), 0.6
     seg = g("seg_liked", 0) - g("seg_disliked", 0)
     if seg:
         return ("liked" if seg > 0 else "disliked"), 0.55

@@ -12,12 +12,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from extractor.ingest.language import detectable
-from extractor.models.cues import packaged_cues
+from extractor.models.cues import has_stance_cues, packaged_cues
 from extractor.nlp.dictionary import stemmer_language
 from extractor.nlp.text import MULTI, primary_subtag, spacy_code
-
-STANCE_WORDS = ("liked", "disliked", "wanted")
-"""The cue categories that carry a stance (the others mark negation, clauses, comparisons)."""
 
 
 @dataclass(frozen=True)
@@ -53,6 +50,6 @@ def language_support(tag: str) -> LanguageSupport:
         tag=tag,
         tokenizer=spacy_code(code),
         stemmer=bool(stemmer_language(code)),
-        stance_cues=any(packaged_cues().get(code, {}).get(c) for c in STANCE_WORDS),
+        stance_cues=has_stance_cues(packaged_cues(), code),
         detection=detectable(code),
     )

@@ -8,7 +8,7 @@ Until it is fitted it answers with the rules alone.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
 
 import numpy as np
@@ -21,17 +21,19 @@ from sklearn.pipeline import Pipeline
 from extractor.errors import InputError
 from extractor.models.cues import Cues, load_cues, packaged_cues, rule_proba, rule_stance
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
-from extractor.models.stance_features import stance_features
-from extractor.types import STANCES, Sentence, Span
+from extractor.models.stance_features import Codebook, stance_features
+from extractor.types import STANCES, QuestionCode, Sentence, Span
 
 _FORMAT = "trait-extractor/stance/1"
 _SKOPS_FILE = "stance.skops"
 _JSON_FILE = "stance.json"
 
 
-def _model_features(sentence: Sentence, span: Span, cues: Cues) -> dict[str, float]:
+def _model_features(
+    sentence: Sentence, span: Span, cues: Cues, codebook: Codebook | None
+) -> dict[str, float]:
     """Return :func:`stance_features` plus the rule's answer, so the model can learn to trust it."""
-    f = stance_features(sentence, span, cues)
+    f = stance_features(sentence, span, cues, codebook)
     f[f"rule={rule_stance(f)[0]}"] = 1.0
     return f
 
@@ -50,6 +52,9 @@ class StanceModel(BaseEstimator):
         class_weight: ``None`` or ``"balanced"``, passed to the logistic regression.
         cues_path: A user cue file merged over the packaged lexicon
             (see :func:`~extractor.models.cues.load_cues`).
+        questions: The question codebook as plain data, question key ->
+            ``{"text": ..., "direction": ...}`` (either may be missing); saved with
+            the model (see :func:`codebook_params`).
     """
 
     def __init__(
@@ -59,11 +64,21 @@ class StanceModel(BaseEstimator):
         max_iter: int = 2000,
         class_weight: str | None = None,
         cues_path: str | None = None,
+        questions: Mapping[str, Mapping[str, str]] | None = None,
     ) -> None:
         self.C = C
         self.max_iter = max_iter
         self.class_weight = class_weight
         self.cues_path = cues_path
+        self.questions = questions
+
+    @property
+    def codebook(self) -> dict[str, QuestionCode]:
+        """The question codebook of :attr:`questions`, as typed entries."""
+        return {
+            key: QuestionCode(key, entry.get("text") or None, entry.get("direction") or None)
+            for key, entry in (self.questions or {}).items()
+        }
 
     @property
     def cues(self) -> Cues:
@@ -106,7 +121,8 @@ class StanceModel(BaseEstimator):
                 f"got {sorted(set(labels))}. Label more mentions or keep the rule-based stance."
             )
         cues = load_cues(self.cues_path)
-        X = [_model_features(s, sp, cues) for s, sp, _ in examples]
+        codebook = self.codebook
+        X = [_model_features(s, sp, cues, codebook) for s, sp, _ in examples]
         pipe = Pipeline(
             [
                 ("vectorizer", DictVectorizer()),
@@ -149,8 +165,8 @@ class StanceModel(BaseEstimator):
 
         One feature pass serves both; an unfitted model gives the rules alone.
         """
-        cues = self.cues
-        feats = [_model_features(s, sp, cues) for s, sp in items]
+        cues, codebook = self.cues, self.codebook
+        feats = [_model_features(s, sp, cues, codebook) for s, sp in items]
         if not feats:
             return np.zeros((0, len(STANCES)))
         if not self.is_fitted or weight <= 0.0:
@@ -213,3 +229,13 @@ class StanceModel(BaseEstimator):
         model.classes_ = list(meta["classes"])
         model.cues_ = meta["cues"]
         return model
+
+
+def codebook_params(codebook: Mapping[str, QuestionCode]) -> dict[str, dict[str, str]]:
+    """Return a codebook as the plain ``questions`` parameter of :class:`StanceModel`."""
+    return {
+        key: {
+            name: value for name, value in (("text", c.text), ("direction", c.direction)) if value
+        }
+        for key, c in codebook.items()
+    }

@@ -14,6 +14,7 @@ replied to. The cue rules (:func:`extractor.models.cues.rule_stance`) and the le
 from __future__ import annotations
 
 from collections import defaultdict
+from collections.abc import Mapping
 from typing import NamedTuple
 
 from extractor.models.cues import (
@@ -27,7 +28,13 @@ from extractor.models.cues import (
     segment,
     span_tokens,
 )
-from extractor.types import Sentence, Span
+from extractor.types import QuestionCode, Sentence, Span
+
+Codebook = Mapping[str, QuestionCode]
+"""A question codebook: question key -> its wording and direction."""
+
+DIRECTION_FEATURES = {"likes": "q_liked", "dislikes": "q_disliked", "wishes": "q_wanted"}
+"""The question feature each codebook direction gives (``open`` gives none)."""
 
 WINDOW = 5
 """Tokens either side of a span whose words become context features of the learned model."""
@@ -49,7 +56,9 @@ class _Where(NamedTuple):
 # ------------------------------------------------------------------ features
 
 
-def stance_features(sentence: Sentence, span: Span, cues: Cues) -> dict[str, float]:
+def stance_features(
+    sentence: Sentence, span: Span, cues: Cues, codebook: Codebook | None = None
+) -> dict[str, float]:
     """Return the stance features of a mention, all relative to the span.
 
     Named features (used by :func:`~extractor.models.cues.rule_stance` and the model)
@@ -61,7 +70,10 @@ def stance_features(sentence: Sentence, span: Span, cues: Cues) -> dict[str, flo
     ``other_side_liked``, ``other_side_disliked``), comparison (``comparison``,
     ``comparison_less``, ``span_before_marker``, ``span_after_marker``), wishes
     (``wanted_before``, ``wanted_clause``, ``wanted_neg``) and the question
-    (``q_liked``, ``q_disliked``, ``q_wanted``). Keys starting ``w`` are the words
+    (``q_liked``, ``q_disliked``, ``q_wanted``: from the codebook's direction when it
+    has one, else from the cue words of the question's text). A cue word inside the span
+    that is not negated marks it (``span_good``, ``span_fault``: "then they spoil",
+    "cozinha rápido"). Keys starting ``w`` are the words
     within :data:`WINDOW` tokens of the span (``wL:``/``wR:`` by side, ``wL1:``/``wR1:``
     adjacent, ``wN:`` when negated, ``wC:`` elsewhere in the clause); they never
     include the span's own words.
@@ -70,6 +82,7 @@ def stance_features(sentence: Sentence, span: Span, cues: Cues) -> dict[str, flo
         sentence: The sentence holding the mention.
         span: The mention, in character offsets of ``sentence.text``.
         cues: A lexicon from :func:`~extractor.models.cues.load_cues`.
+        codebook: The question codebook, if any (see :mod:`extractor.ingest.codebook`).
 
     Returns:
         Feature name -> value; absent features are zero.
@@ -84,7 +97,7 @@ def stance_features(sentence: Sentence, span: Span, cues: Cues) -> dict[str, flo
     _excess_features(p, where, f)
     _contrast_features(p, where, f)
     _comparison(p, lex, where, f)
-    _question(sentence.question, lex, f)
+    f.update(question_features(sentence.question, lex, codebook))
     _window_features(p, where, f)
     return dict(f)
 
@@ -125,13 +138,18 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
 
 
 def _negation_features(p: Parsed, where: _Where, in_span: set[str], f: _Features) -> None:
-    """Mark a negated span, and whether the negated words are a fault or a good."""
+    """Mark a negated span, and whether its words are a fault or a good, negated or not."""
     if any(p.negated[k] and not p.trigger[k] for k in range(where.a, where.b)):
         f["span_negated"] += 1.0
         if "disliked" in in_span:
             f["span_negated_fault"] += 1.0
         if "liked" in in_span:
             f["span_negated_good"] += 1.0
+        return
+    if "disliked" in in_span:
+        f["span_fault"] += 1.0
+    if "liked" in in_span:
+        f["span_good"] += 1.0
 
 
 def _excess_features(p: Parsed, where: _Where, f: _Features) -> None:
@@ -229,11 +247,24 @@ def _comparison(p: Parsed, lex: Lexicon, where: _Where, f: _Features) -> None:
         return
 
 
-def _question(question: str | None, lex: Lexicon, f: _Features) -> None:
-    """Add the lean of the question the answer replied to."""
+def question_features(
+    question: str | None, lex: Lexicon, codebook: Codebook | None = None
+) -> dict[str, float]:
+    """Return the lean of the question an answer replied to, as ``q_*`` features.
+
+    A codebook direction decides when there is one (``open``: no lean); otherwise the
+    cue words of the question's text (the codebook's wording, else the question as
+    stored) give it. A survey field name (``reason_lesspreferred``) reads as one word
+    and gives none.
+    """
     if not question:
-        return
-    q = parse(question, lex)
+        return {}
+    code = (codebook or {}).get(question)
+    if code is not None and code.direction is not None:
+        feature = DIRECTION_FEATURES.get(code.direction)
+        return {feature: 1.0} if feature else {}
+    q = parse(code.text if code is not None and code.text else question, lex)
+    f: _Features = defaultdict(float)
     taken = [False] * len(q.words)
     # "don't like" holds "like": disliked cues claim their words first, then wishes.
     for cat in ("question_disliked", "question_wanted", "question_liked"):
@@ -245,3 +276,4 @@ def _question(question: str | None, lex: Lexicon, f: _Features) -> None:
             else:
                 f["q_" + cat.split("_", 1)[1]] += 1.0
             taken[i:j] = [True] * (j - i)
+    return dict(f)

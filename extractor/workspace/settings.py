@@ -19,6 +19,7 @@ from pathlib import Path
 from typing import Any, TypeVar
 
 from extractor.errors import WorkspaceError
+from extractor.types import DIRECTIONS, QuestionCode
 
 T = TypeVar("T")
 
@@ -57,6 +58,10 @@ class WorkspaceSettings:
     )
     concepts: str = _setting("concepts.csv", "the validated trait concept list")
     varieties: str = _setting("varieties.csv", "optional list of variety names")
+    questions: str = _setting(
+        "questions.csv", "optional question codebook: columns question, text, direction"
+    )
+    stance_cues: str = _setting("", "optional JSON file of your own stance cues (see README)")
 
 
 @dataclass(frozen=True)
@@ -170,11 +175,16 @@ class MetadataSettings:
 
 @dataclass(frozen=True)
 class Settings:
-    """All of ``traits.toml``; ``columns`` is the explicit column mapping (role -> header)."""
+    """All of ``traits.toml``.
+
+    ``columns`` is the explicit column mapping (role -> header); ``codebook`` the
+    questions given a direction in the file (question key -> :class:`QuestionCode`).
+    """
 
     workspace: WorkspaceSettings = field(default_factory=WorkspaceSettings)
     columns: Mapping[str, Any] = field(default_factory=dict)
     concept_list: ConceptListSettings = field(default_factory=ConceptListSettings)
+    codebook: Mapping[str, QuestionCode] = field(default_factory=dict)
     tagger: TaggerSettings = field(default_factory=TaggerSettings)
     linking: LinkingSettings = field(default_factory=LinkingSettings)
     active: ActiveSettings = field(default_factory=ActiveSettings)
@@ -191,11 +201,12 @@ SECTIONS: dict[str, type] = {
     "export": ExportSettings,
     "metadata": MetadataSettings,
 }
-"""The sections with fixed keys, in file order; ``columns`` is free-form."""
+"""The sections with fixed keys, in file order; ``columns`` and ``codebook`` are free-form."""
 
 SECTION_ORDER = (
     "workspace",
     "columns",
+    "codebook",
     "concept_list",
     "tagger",
     "linking",
@@ -262,7 +273,26 @@ def settings_from_dict(found: Mapping[str, Any], path: Path) -> Settings:
     parts: dict[str, Any] = {
         name: _section(kind, found.get(name, {}), name, path) for name, kind in SECTIONS.items()
     }
-    return Settings(columns=dict(found.get("columns", {})), **parts)
+    codebook = _codebook(found.get("codebook", {}), path)
+    return Settings(columns=dict(found.get("columns", {})), codebook=codebook, **parts)
+
+
+def _codebook(values: Mapping[str, Any], path: Path) -> dict[str, QuestionCode]:
+    """Return the ``[codebook]`` section checked: key = "direction" or {text, direction}."""
+    allowed = ", ".join(DIRECTIONS)
+    out: dict[str, QuestionCode] = {}
+    for key, value in values.items():
+        entry = {"direction": value} if isinstance(value, str) else value
+        ok = isinstance(entry, dict) and set(entry) <= {"text", "direction"}
+        ok = ok and all(isinstance(v, str) for v in entry.values())
+        direction = entry.get("direction") if ok else None
+        if not ok or (direction is not None and direction not in DIRECTIONS):
+            raise WorkspaceError(
+                f"{path}: [codebook] {key} must be one of {allowed}, or "
+                f'{{ text = "...", direction = "..." }} (got {value!r}); fix or delete the line.'
+            )
+        out[str(key)] = QuestionCode(str(key), entry.get("text") or None, direction)
+    return out
 
 
 def _section(kind: type, values: Mapping[str, Any], name: str, path: Path) -> Any:
@@ -382,6 +412,9 @@ def render_template(settings: Settings | None = None) -> str:
         if name == "columns":
             lines += _columns_lines(settings.columns)
             continue
+        if name == "codebook":
+            lines += _codebook_lines(settings.codebook)
+            continue
         section = getattr(settings, name)
         lines.append(f"# {type(section).__doc__}")
         lines.append(f"[{name}]")
@@ -400,4 +433,25 @@ def _columns_lines(columns: Mapping[str, Any]) -> list[str]:
     lines += [f"{role} = {toml_value(header)}" for role, header in columns.items()]
     if not columns:
         lines += [f"# {role} = {toml_value(h)}" for role, h in COLUMN_EXAMPLES.items()]
+    return lines
+
+
+def _codebook_lines(codebook: Mapping[str, QuestionCode]) -> list[str]:
+    lines = [
+        "# What each question asks for, when answers name it by a field name (likes, dislikes,",
+        "# wishes, open). Evidence for stance, never the answer; the questions file works too.",
+        "[codebook]",
+    ]
+    for key, code in codebook.items():
+        parts = [
+            f"{name} = {toml_value(v)}"
+            for name, v in zip(("text", "direction"), code[1:], strict=True)
+            if v
+        ]
+        lines.append(f"{toml_value(key)} = {{ {', '.join(parts)} }}")
+    if not codebook:
+        lines += [
+            '# q5_dislike = "dislikes"',
+            '# reason_preferred = { text = "Why did you prefer this one?", direction = "likes" }',
+        ]
     return lines

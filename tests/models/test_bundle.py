@@ -37,6 +37,7 @@ def test_clone_gives_unfitted_models_with_the_same_params() -> None:
     assert copy.get_params() == {
         "link_threshold": 0.4,
         "seed": 2,
+        "stance_params": None,
         "tagger_params": {"gold_weight": 3},
     }
     assert copy.tagger_params is not models.tagger_params

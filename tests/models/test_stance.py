@@ -167,5 +167,6 @@ def test_stance_model_clone_gives_an_unfitted_copy_with_the_same_params() -> Non
         "class_weight": "balanced",
         "cues_path": None,
         "max_iter": 2000,
+        "questions": None,
     }
     assert model.is_fitted and not copy.is_fitted

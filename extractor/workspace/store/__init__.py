@@ -16,12 +16,14 @@ from extractor.workspace.store._answers import (
     AnswerLanguage,
     SentenceContext,
     StoredAnswer,
+    StoredQuestion,
     add_metadata_renames,
     add_source,
     answer_fingerprint,
     answers,
     find_sentence,
     metadata_renames,
+    questions,
     respondents,
     select_answers,
     sentence_context,
@@ -86,6 +88,8 @@ from extractor.workspace.store._schema import (
 from extractor.workspace.store._status import counts
 
 __all__ = [
+    "StoredQuestion",
+    "questions",
     "release_sentences",
     "labels_by_annotator",
     "held_elsewhere",

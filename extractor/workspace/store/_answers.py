@@ -244,6 +244,31 @@ def answers(conn: sqlite3.Connection) -> list[StoredAnswer]:
     return [StoredAnswer(*r) for r in rows]
 
 
+class StoredQuestion(NamedTuple):
+    """One stored question, the commonest language of its answers, and their count."""
+
+    question: str
+    lang: str
+    answers: int
+
+
+def questions(conn: sqlite3.Connection) -> list[StoredQuestion]:
+    """Return every distinct stored question, most answered first."""
+    rows = conn.execute(
+        "SELECT question, lang, COUNT(*) FROM answers WHERE question IS NOT NULL "
+        "GROUP BY question, lang ORDER BY COUNT(*) DESC, question, lang"
+    ).fetchall()
+    found: dict[str, StoredQuestion] = {}
+    for question, lang, n in rows:
+        seen = found.get(question)
+        found[question] = (
+            StoredQuestion(question, lang, n)
+            if seen is None
+            else seen._replace(answers=seen.answers + n)
+        )
+    return sorted(found.values(), key=lambda q: (-q.answers, q.question))
+
+
 def respondents(conn: sqlite3.Connection) -> list[dict[str, Any]]:
     """Return respondents as dicts: ``respondent``, ``is_group`` and their metadata keys."""
     out = []
