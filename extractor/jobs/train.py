@@ -23,10 +23,12 @@ from extractor.jobs.inputs import (
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
 from extractor.models.bundle import TrainingCounts, TraitModels
+from extractor.models.cues import Cues, has_stance_cues
 from extractor.models.tagger import ALGORITHMS
 from extractor.models.tagger_training import SILVER_FILTERS
 from extractor.models.validation import CrossValidation, cross_validate
 from extractor.nlp.clusters import corpus_fingerprint, load_clusters
+from extractor.nlp.text import primary_subtag
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import SETTINGS_FILE, Workspace
@@ -167,6 +169,26 @@ def tidy_model_folders(ws: Workspace) -> list[str]:
     return notes
 
 
+def stance_gaps(
+    corpus: Sequence[Sentence], gold: Sequence[tuple[Sentence, Sequence[Span]]], cues: Cues
+) -> list[str]:
+    """Return the languages of the corpus that have neither stance cues nor stance labels."""
+    labelled = {primary_subtag(s.lang) for s, spans in gold if any(sp.stance for sp in spans)}
+    found = sorted({primary_subtag(s.lang) for s in corpus if s.lang})
+    return [lang for lang in found if lang not in labelled and not has_stance_cues(cues, lang)]
+
+
+def _stance_note(gaps: Sequence[str]) -> list[str]:
+    if not gaps:
+        return []
+    return [
+        f"Answers in {', '.join(gaps)} have neither stance cue words nor stance labels: their "
+        "stances come from the question, negation and the labels of other languages only. "
+        "Label a few of their mentions, or add cue words (README: 'Stance cues for your "
+        "language')."
+    ]
+
+
 def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     """Train and save a new model version from the workspace's labels and concept list.
 
@@ -198,6 +220,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     corpus = masked(store.sentences(ws.conn), screen)
     models = TraitModels(**model_params(ws))
     models.fit(gold, corpus, aliases, clusters=reusable_clusters(ws, corpus), held_out=held_out)
+    notes += _stance_note(stance_gaps(corpus, labeled, models.stance_.cues))
     figures: dict[str, Any] = {}
     if cross_validate:
         cv, why = cross_validation(ws, gold, corpus, models.clusters_)

@@ -29,6 +29,7 @@ CUES_PATH = Path(__file__).parent / "data" / "stance_cues.json"
 
 CUE_CATEGORIES = (
     "liked", "disliked", "wanted", "negation_pre", "negation_post", "pseudo_negation",
+    "resistance_pre", "resistance_post",
     "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
     "comparison_marker", "question_liked", "question_disliked", "question_wanted",
 )  # fmt: skip
@@ -214,8 +215,16 @@ def _match_cue(words: Sequence[str], i: int, toks: tuple[str, ...]) -> bool:
     return True
 
 
+_CLAIMING = ("liked", "disliked", "wanted", "excess")
+"""Categories whose longer matches claim their words from shorter ones ("only good for")."""
+
+
 def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
-    """Return every cue match per category as token ranges ``(i, j)``."""
+    """Return every cue match per category as token ranges ``(i, j)``.
+
+    A stance cue inside a longer cue of a claiming category is dropped: "only good
+    for" is a fault, not also a "good"; "needs a lot of" is not also a wish.
+    """
     found: Matches = defaultdict(list)
     for i, w in enumerate(words):
         for cat, toks in lex.by_first.get(w, ()):
@@ -224,6 +233,14 @@ def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
         for cat, prefix in lex.prefixes:
             if w.startswith(prefix):
                 found[cat].append((i, i + 1))
+    claims = [m for cat in _CLAIMING for m in found.get(cat, ())]
+    for cat in _CLAIMING:
+        if cat in found:
+            found[cat] = [
+                (i, j)
+                for i, j in found[cat]
+                if not any(a <= i and j <= b and b - a > j - i for a, b in claims)
+            ]
     return found
 
 
@@ -236,7 +253,9 @@ class Parsed:
     Build with :meth:`read` (or the cached :func:`parse`).
     """
 
-    __slots__ = ("offsets", "words", "matches", "boundary", "negated", "trigger", "contrast")
+    __slots__ = (
+        "offsets", "words", "matches", "boundary", "negated", "trigger", "contrast", "resisted",
+    )  # fmt: skip
 
     def __init__(
         self,
@@ -248,6 +267,7 @@ class Parsed:
         negated: list[bool],
         trigger: list[bool],
         contrast: list[bool],
+        resisted: list[bool],
     ) -> None:
         self.offsets = offsets
         self.words = words
@@ -256,18 +276,24 @@ class Parsed:
         self.negated = negated
         self.trigger = trigger
         self.contrast = contrast
+        self.resisted = resisted  # held off by a resistance word, not negated again
 
     @classmethod
     def read(cls, text: str, lex: Lexicon) -> Parsed:
         """Tokenise ``text``, match the lexicon and mark boundaries and negation scopes."""
-        offsets = tokenize(text, lex.lang)
-        words = [cue_form(text[s:e]) for s, e in offsets]
+        # Typed answers write the apostrophe as a backtick ("Doesn`t"); the swap keeps
+        # every offset, so the tokenizer splits "n't" off as it does for an apostrophe.
+        plain = text.replace("`", "'")
+        offsets = tokenize(plain, lex.lang)
+        words = [cue_form(plain[s:e]) for s, e in offsets]
         found = _find_all(words, lex)
         boundary = _boundaries(words, found)
         contrast = [False] * len(words)
         for i, _ in found.get("contrast", ()):
             contrast[i] = True
-        trigger, negated = _negation(found, boundary, lex.scope)
+        # A resistance word reaches over "and" ("resistant to drought and diseases").
+        hard = _boundaries(words, {k: v for k, v in found.items() if k != "clause_break"})
+        trigger, negated, resisted = _negation(found, boundary, hard, lex.scope)
         return cls(
             offsets=offsets,
             words=words,
@@ -276,6 +302,7 @@ class Parsed:
             negated=negated,
             trigger=trigger,
             contrast=contrast,
+            resisted=resisted,
         )
 
 
@@ -289,9 +316,17 @@ def _boundaries(words: Sequence[str], found: Matches) -> list[bool]:
 
 
 def _negation(
-    found: Matches, boundary: Sequence[bool], scope: int
-) -> tuple[list[bool], list[bool]]:
-    """Return the NegEx trigger tokens and the tokens in a negation scope."""
+    found: Matches, boundary: Sequence[bool], hard: Sequence[bool], scope: int
+) -> tuple[list[bool], list[bool], list[bool]]:
+    """Return the trigger tokens, the tokens negated, and the tokens held off by resistance.
+
+    NegEx-style scopes (Chapman et al., 2001) run from each trigger for ``scope``
+    tokens up to a clause boundary; resistance words ("resistant to", "drought
+    tolerant") negate a fault the same way but run up to a ``hard`` boundary only, so
+    they reach over "and". A token counts as negated when an odd number of scopes
+    reach it: in "not resistant to disease" the two cancel and disease stays a fault.
+    It is *resisted* when a resistance scope reaches it and plain negations cancel out.
+    """
     n = len(boundary)
     # Pseudo-triggers (and excess phrases such as "not enough") contain a trigger
     # word but negate nothing; NegEx matches them first and skips their tokens.
@@ -299,25 +334,35 @@ def _negation(
     for cat in ("pseudo_negation", "excess"):
         for i, j in found.get(cat, ()):
             masked[i:j] = [True] * (j - i)
+    kinds = (
+        ("negation_pre", 1, boundary),
+        ("negation_post", -1, boundary),
+        ("resistance_pre", 1, hard),
+        ("resistance_post", -1, hard),
+    )
+    # Overlapping triggers ("no" in "no longer", "resistant" in "resistant to") count
+    # once: the longest (then the earliest, then the first kind) wins.
+    claimed: list[tuple[int, int]] = []
     trigger = [False] * n
-    negated = [False] * n
-    for i, j in found.get("negation_pre", ()):
-        if any(masked[i:j]):
+    plain, held = [0] * n, [0] * n
+    ordered = sorted(
+        ((i, j, rank, step, ends) for rank, (cat, step, ends) in enumerate(kinds)
+         for i, j in found.get(cat, ())),
+        key=lambda m: (-(m[1] - m[0]), m[0], m[2]),
+    )  # fmt: skip
+    for i, j, rank, step, ends in ordered:
+        if any(masked[i:j]) or any(a < j and i < b for a, b in claimed):
             continue
+        claimed.append((i, j))
         trigger[i:j] = [True] * (j - i)
-        k = j
-        while k < n and k < j + scope and not boundary[k]:
-            negated[k] = True
-            k += 1
-    for i, j in found.get("negation_post", ()):
-        if any(masked[i:j]):
-            continue
-        trigger[i:j] = [True] * (j - i)
-        k = i - 1
-        while k >= 0 and k >= i - scope and not boundary[k]:
-            negated[k] = True
-            k -= 1
-    return trigger, negated
+        counts = held if rank >= 2 else plain
+        k = j if step > 0 else i - 1
+        while 0 <= k < n and abs(k - (j - 1 if step > 0 else i)) <= scope and not ends[k]:
+            counts[k] += 1
+            k += step
+    negated = [(plain[k] + held[k]) % 2 == 1 for k in range(n)]
+    resisted = [held[k] > 0 and plain[k] % 2 == 0 for k in range(n)]
+    return trigger, negated, resisted
 
 
 @lru_cache(maxsize=8192)
@@ -364,7 +409,8 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     """Return a stance and a confidence from cue features alone (the cold-start answer).
 
     The rules, first match wins: a negated wish is disliked; a wish before the span
-    or in its clause is wanted; excess is disliked; a negated fault word in the span
+    or in its clause is wanted; excess is disliked; a span held off by a resistance
+    word ("drought tolerant") is liked; a negated fault word in the span
     is liked and a negated good word disliked; then the net polarity of cues in the
     clause, then of cue words inside the span ("then they spoil", "cozinha
     rápido"), then in the contrast segment, then the opposite of the other side of a
@@ -385,6 +431,8 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
         return "wanted", 0.75
     if g("excess_near", 0) or g("excess", 0):
         return "disliked", 0.75 if g("excess_near", 0) else 0.65
+    if g("span_resisted", 0):
+        return "liked", 0.7
     if g("span_negated_fault", 0):
         return "liked", 0.7
     if g("span_negated_good", 0):

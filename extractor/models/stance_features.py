@@ -66,6 +66,7 @@ def stance_features(
     ``cue_disliked_after_neg`` when negated...), their net polarity (``clause_liked``,
     ``clause_disliked``), cues elsewhere in the same contrast segment (``seg_liked``...),
     negation of the span (``span_negated``, ``span_negated_fault``, ``span_negated_good``),
+    a span held off by a resistance word (``span_resisted``: "drought tolerant"),
     excess (``excess``, ``excess_near``), contrast (``after_contrast``, ``before_contrast``,
     ``other_side_liked``, ``other_side_disliked``), comparison (``comparison``,
     ``comparison_less``, ``span_before_marker``, ``span_after_marker``), wishes
@@ -109,7 +110,8 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
     for cat in ("liked", "disliked", "wanted"):
         for i, j in p.matches.get(cat, ()):
             if i < b and j > a:  # cue inside the span: only for negation logic
-                in_span.add(cat)
+                if not all(p.trigger[i:j]):  # "resistant" in "drought resistant" negates
+                    in_span.add(cat)
                 continue
             side = "before" if j <= a else "after"
             neg = p.negated[i]
@@ -138,7 +140,9 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
 
 
 def _negation_features(p: Parsed, where: _Where, in_span: set[str], f: _Features) -> None:
-    """Mark a negated span, and whether its words are a fault or a good, negated or not."""
+    """Mark a negated or resisted span, and whether its words are a fault or a good."""
+    if any(p.resisted[k] and not p.trigger[k] for k in range(where.a, where.b)):
+        f["span_resisted"] += 1.0  # "drought resistant", "withstands all weather"
     if any(p.negated[k] and not p.trigger[k] for k in range(where.a, where.b)):
         f["span_negated"] += 1.0
         if "disliked" in in_span:

@@ -78,11 +78,10 @@ def test_add_detects_the_concept_lists_languages_and_says_what_each_lacks(tmp_pa
     }
     notes = {line.split()[1]: line for line in out.splitlines() if line.startswith("note: ")}
     for lang in ("pt", "sw"):
-        assert lang not in cue_languages and "no stance cues" in notes[lang]
+        assert lang in cue_languages and "stance cues" not in notes.get(lang, "")
     assert "en" in cue_languages and _has_spacy_pipeline("en") and "en" not in notes
     assert not _has_spacy_pipeline("sw") and "no spaCy pipeline" in notes["sw"]
-    assert _has_spacy_pipeline("pt") and "spaCy" not in notes["pt"]
-    assert "synonyms" not in notes["pt"]
+    assert _has_spacy_pipeline("pt") and "pt" not in notes
     assert "Languages of the stored sentences: en 3, pt 3, sw 3." in " ".join(out.split())
 
 
@@ -102,3 +101,44 @@ def test_add_says_which_languages_have_no_synonyms(tmp_path: Path) -> None:
     assert code == 0
     note = next(line for line in out.splitlines() if line.startswith("note: pt"))
     assert "no synonyms" in note
+
+
+def test_add_lists_the_questions_stance_cannot_read_until_a_codebook_names_them(
+    tmp_path: Path,
+) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    first = tmp_path / "survey.csv"
+    first.write_text(
+        "respondent,question,answer\n"
+        "R1,q5_dislike,The cobs are small.\n"
+        "R2,q5_dislike,It rots.\n"
+        "R1,What do you like about it?,It yields well.\n",
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(ws), "add", str(first))
+    flat = " ".join(out.split())
+    assert code == 0
+    assert "note: 1 questions tell stance nothing: q5_dislike (2 answers)" in flat
+    # A codebook row gives the field name its direction; a question still uncoded is listed.
+    (ws / "questions.csv").write_text("question,text,direction\nq5_dislike,,dislikes\n", "utf-8")
+    second = tmp_path / "round2.csv"
+    second.write_text("respondent,question,answer\nR3,q7,Bigger cobs.\n", encoding="utf-8")
+    code, out = run("-w", str(ws), "add", str(second))
+    flat = " ".join(out.split())
+    assert code == 0 and "q7 (1 answers)" in flat and "q5_dislike" not in flat
+
+
+def test_add_takes_a_users_cue_file_as_stance_cues_of_its_language(tmp_path: Path) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    answers = tmp_path / "ha.csv"
+    answers.write_text("respondent,language,answer\nR1,ha,Ina son masara.\n", encoding="utf-8")
+    code, out = run("-w", str(ws), "add", str(answers))
+    assert "no stance cues" in " ".join(out.split())
+    (ws / "my_cues.json").write_text(json.dumps({"ha": {"wanted": ["ina son"]}}), "utf-8")
+    toml = (ws / "traits.toml").read_text(encoding="utf-8")
+    toml = toml.replace('stance_cues = ""', 'stance_cues = "my_cues.json"')
+    (ws / "traits.toml").write_text(toml, encoding="utf-8")
+    code, out = run("-w", str(ws), "add", str(answers))
+    assert code == 0 and "no stance cues" not in " ".join(out.split())

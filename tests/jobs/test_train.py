@@ -12,7 +12,9 @@ from pathlib import Path
 import pytest
 
 from extractor.jobs.run import train_and_tag
-from extractor.jobs.train import new_version_name
+from extractor.jobs.train import new_version_name, stance_gaps
+from extractor.models.cues import load_cues
+from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 from tests.jobs.study import labeled, latest_version, run
@@ -190,3 +192,15 @@ def test_model_files_hold_no_identifier_the_screening_finds(study: Path) -> None
             for piece in planted.lower().replace("@", " ").replace(".", " ").split():
                 if len(piece) >= 4:  # shorter byte strings turn up by chance in binaries
                     assert piece.encode() not in data, (kind, piece, path.name)
+
+
+def test_stance_gaps_are_the_languages_with_neither_cues_nor_stance_labels() -> None:
+    corpus = [
+        Sentence(1, "Ina son masara.", "ha"),
+        Sentence(2, "Oka ni dun.", "yo"),
+        Sentence(3, "It is good.", "en"),
+        Sentence(4, "Ni tamu.", "sw-KE"),
+    ]
+    gold = [(corpus[1], [Span(0, 3, None, "liked")])]
+    # en and sw have packaged cue words; yo has a stance label; ha has neither.
+    assert stance_gaps(corpus, gold, load_cues()) == ["ha"]

@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from extractor.errors import InputError
-from extractor.models.cues import load_cues, rule_stance
+from extractor.models.cues import has_stance_cues, load_cues, rule_stance
 from extractor.models.stance_features import stance_features
 from tests.models.toy import CUES
 from tests.models.toy import features as _features
@@ -27,10 +27,10 @@ def test_load_cues_has_three_languages_and_documents_its_shape() -> None:
 
 def test_load_cues_merges_user_file_over_packaged(tmp_path: Path) -> None:
     user = tmp_path / "cues.json"
-    user.write_text(json.dumps({"en": {"liked": ["zingy"]}, "sw": {"liked": ["tamu"]}}), "utf-8")
+    user.write_text(json.dumps({"en": {"liked": ["zingy"]}, "ha": {"liked": ["dadi"]}}), "utf-8")
     cues = load_cues(user)
     assert "zingy" in cues["en"]["liked"] and "good" in cues["en"]["liked"]
-    assert cues["sw"]["liked"] == ["tamu"]
+    assert cues["ha"]["liked"] == ["dadi"]  # a language the packaged file lacks is added
     features = stance_features(*_mention("Its flavour is zingy.", "flavour"), cues)
     assert rule_stance(features)[0] == "liked"
 
@@ -124,3 +124,14 @@ def test_rule_stance_is_more_confident_with_a_cue_than_from_the_question_alone()
     cue = rule_stance(_features("The seeds are too small.", "seeds"))[1]
     question = rule_stance(_features("Small seeds.", "seeds", question="What do you dislike?"))[1]
     assert cue > question
+
+
+def test_readme_cue_file_example_loads_and_adds_its_language(tmp_path: Path) -> None:
+    # The README's example of a user cue file must be a valid one.
+    readme = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
+    section = readme.split("### Stance cues for your language", 1)[1]
+    example = section.split("```json", 1)[1].split("```", 1)[0]
+    user = tmp_path / "my_cues.json"
+    user.write_text(example, encoding="utf-8")
+    cues = load_cues(user)
+    assert has_stance_cues(cues, "ha") and not has_stance_cues(load_cues(), "ha")

@@ -4,6 +4,10 @@ from __future__ import annotations
 
 import pytest
 
+from extractor.models.cues import rule_stance
+from extractor.models.stance_features import stance_features
+from extractor.types import QuestionCode
+from tests.models.toy import CUES, mention
 from tests.models.toy import features as _features
 
 # ------------------------------------------------------------------ negation (NegEx)
@@ -80,3 +84,68 @@ def test_stance_features_same_context_gives_same_features_whatever_the_trait() -
     bitter = _features("We really like the bitterness of Tembala.", "bitterness")
     sweet = _features("We really like the sweetness of Tembala.", "sweetness")
     assert bitter == sweet
+
+
+# ------------------------------------------------------------------ question codebook
+
+
+def test_codebook_direction_gives_the_question_feature_for_a_field_name() -> None:
+    codebook = {"q5_dislike": QuestionCode("q5_dislike", None, "dislikes")}
+    sentence, span = mention("The cobs are small.", "cobs", question="q5_dislike")
+    assert "q_disliked" not in stance_features(sentence, span, CUES)
+    assert stance_features(sentence, span, CUES, codebook)["q_disliked"] == 1.0
+
+
+def test_codebook_text_is_read_for_cue_words_when_no_direction_is_given() -> None:
+    codebook = {"q7": QuestionCode("q7", "What would you change in it?", None)}
+    sentence, span = mention("Bigger cobs.", "cobs", question="q7")
+    assert stance_features(sentence, span, CUES, codebook)["q_wanted"] >= 1.0
+
+
+def test_codebook_direction_is_evidence_not_the_answer() -> None:
+    # An answer to "why did you prefer it" that names a fault stays a fault.
+    codebook = {"reason_preferred": QuestionCode("reason_preferred", None, "likes")}
+    sentence, span = mention("It is not drought resistant.", "drought", question="reason_preferred")
+    assert rule_stance(stance_features(sentence, span, CUES, codebook))[0] == "disliked"
+
+
+# ------------------------------------------------------------------ errors measured on a trial
+# Cases a new user met on an invented cassava trial (issue 12): before, the first three
+# came out disliked and the last two liked, or everything in pt/sw was neutral.
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "expected"),
+    [
+        ("It is not bitter.", "bitter", "en", "liked"),
+        ("Não é amarga.", "amarga", "pt", "liked"),
+        ("A mandioca cozinha rápido e tem bom sabor.", "cozinha rápido", "pt", "liked"),
+        ("The roots are big, then they spoil.", "spoil", "en", "disliked"),
+        ("Sipendi kwa sababu mizizi inaoza haraka.", "inaoza", "sw", "disliked"),
+        ("Nataka aina inayostahimili ukame.", "ukame", "sw", "wanted"),
+        ("It is resistant to drought and diseases.", "diseases", "en", "liked"),
+        ("It is not resistant to diseases.", "diseases", "en", "disliked"),
+        ("Drought tolerant and early.", "Drought", "en", "liked"),
+        ("It Doesn`t resist drought.", "drought", "en", "disliked"),
+    ],
+    ids=[
+        "en-negated-fault",
+        "pt-negated-fault",
+        "pt-good-word-in-span",
+        "en-fault-word-in-span",
+        "sw-fault-after-dislike",
+        "sw-wish",
+        "en-resistance-reaches-over-and",
+        "en-negated-resistance",
+        "en-resistance-after",
+        "en-backtick-negation",
+    ],
+)
+def test_rules_read_faults_goods_and_resistance(
+    text: str, term: str, lang: str, expected: str
+) -> None:
+    assert rule_stance(_features(text, term, lang))[0] == expected
+
+
+def test_takes_months_to_mature_is_not_liked() -> None:
+    assert rule_stance(_features("It takes 18 months to mature.", "mature"))[0] != "liked"

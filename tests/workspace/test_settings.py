@@ -19,6 +19,7 @@ import pytest
 from extractor.errors import WorkspaceError
 from extractor.loop import strategies
 from extractor.models import tagger, tagger_training
+from extractor.types import QuestionCode
 from extractor.workspace import settings
 from extractor.workspace.settings import (
     SECTION_ORDER,
@@ -224,3 +225,23 @@ def test_settings_not_utf8_name_the_file_and_line(tmp_path: Path, data: bytes) -
     path.write_bytes(data)
     with pytest.raises(WorkspaceError, match=r"traits.toml, line \d+: the file is not UTF-8"):
         load_settings(path)
+
+
+def test_codebook_entries_are_checked_and_typed(tmp_path: Path) -> None:
+    text = (
+        '[codebook]\nq5_dislike = "dislikes"\n'
+        'reason_preferred = { text = "Why did you prefer it?", direction = "likes" }\n'
+    )
+    found = load_settings(_write(tmp_path, text))
+    assert found.codebook["q5_dislike"] == QuestionCode("q5_dislike", None, "dislikes")
+    assert found.codebook["reason_preferred"].text == "Why did you prefer it?"
+
+
+@pytest.mark.parametrize(
+    "line",
+    ['q5 = "hates"', 'q5 = { direction = "likes", note = "x" }', "q5 = 3"],
+    ids=["unknown-direction", "unknown-key", "not-text"],
+)
+def test_codebook_bad_entries_name_the_key_and_the_directions(tmp_path: Path, line: str) -> None:
+    with pytest.raises(WorkspaceError, match=r"\[codebook\] q5 must be one of likes, dislikes"):
+        load_settings(_write(tmp_path, f"[codebook]\n{line}\n"))
