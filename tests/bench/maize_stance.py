@@ -24,6 +24,7 @@ import argparse
 import sys
 from collections import Counter
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 from sklearn.model_selection import GroupKFold
@@ -55,7 +56,8 @@ def main() -> None:
         for n, row in enumerate(answers)
     ]
     questions = codebook_params(maize.CODEBOOK)
-    for label, params in (("with codebook", {"questions": questions}), ("without", {})):
+    variants: list[tuple[str, dict[str, Any]]] = [("with codebook", {"questions": questions})]
+    for label, params in [*variants, ("without", {})]:
         models = TraitModels(stance_params=params).fit([], corpus, aliases)
         predicted = models.predict(corpus)
         stances = [
@@ -63,7 +65,7 @@ def main() -> None:
             for s, p in zip(corpus, predicted, strict=True)
             for m in p.mentions
         ]
-        agree = np.mean([maize.DIRECTION_STANCE[q] == st for q, st in stances])
+        agree = np.mean([maize.DIRECTION_STANCE[q or ""] == st for q, st in stances])
         print(
             f"{label}: {len(stances)} mentions in {len(corpus)} answers, "
             f"share agreeing with the question's direction {agree:.3f}; "

@@ -99,7 +99,7 @@ def use_lexicon(variant: str) -> None:
         else:
             for cat in STANCE_CATEGORIES:
                 cues[lang].pop(cat, None)
-    stance_module.load_cues = lambda path=None: cues  # type: ignore[assignment]
+    stance_module.load_cues = lambda path=None: cues
     stance_module.packaged_cues = lambda: cues  # type: ignore[assignment]
 
 
