@@ -17,6 +17,11 @@ from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.review_quality import ReviewQuality
 
 
+def _n(count: int, word: str) -> str:
+    """Return ``1 row`` or ``3 rows``."""
+    return f"{count} {word}{'' if count == 1 else 's'}"
+
+
 def cmd_review_export(args: argparse.Namespace, console: Console) -> int:
     """Write a review workbook of the chosen rows."""
     selection = ReviewSelection(
@@ -32,8 +37,8 @@ def cmd_review_export(args: argparse.Namespace, console: Console) -> int:
         )
     print_written(console, args, result.path)
     console.print(
-        f"Wrote {result.path}: {result.rows} rows, {result.sentences} sentences of "
-        f"{result.respondents} respondents ({selection.describe()}). Fill in the coloured "
+        f"Wrote {result.path}: {_n(result.rows, 'row')}, {_n(result.sentences, 'sentence')} of "
+        f"{_n(result.respondents, 'respondent')} ({selection.describe()}). Fill in the coloured "
         "columns, then `traits review import FILE --reviewer NAME`."
     )
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
