@@ -28,6 +28,7 @@ from sklearn.pipeline import Pipeline
 
 from extractor.nlp.dictionary import stem_word
 from extractor.nlp.fold import fold, fold_words
+from extractor.nlp.nontrait import never_alone
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -189,7 +190,15 @@ class Scorer:
         text = sentence.text[span.start : span.end]
         key = alias_key(text, sentence.lang)
         hits = set(self._exact_index(sentence.lang).get(key, set()))
-        return hits | self.exact_own.get(key, set())
+        hits |= self.exact_own.get(key, set())
+        tokens = tokenize(sentence.text, sentence.lang or "xx")
+        inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
+        if len(inside) == 1:
+            words = [sentence.text[s:e] for s, e in tokens]
+            forms = [t for c, t, _ in self.forms if c in hits]
+            if never_alone(words, inside[0], sentence.lang, forms):
+                return set()  # a verb of liking, or an infinitive meeting a noun by its stem
+        return hits
 
     def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
         """Return an ``(n, concepts)`` array of the best alias cosine per concept."""

@@ -34,6 +34,7 @@ from spacy.vocab import Vocab
 
 from extractor.errors import InputError
 from extractor.nlp.fold import fold
+from extractor.nlp.nontrait import never_alone
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -203,6 +204,10 @@ class Dictionary:
         strings = self._vocab.strings
         for match_id, first, stop in matcher(Doc(self._vocab, words=keys)):
             options = entries[strings[match_id]]
+            if stop - first == 1 and never_alone(
+                words, first, sent_code, [" ".join(e.form) for e in options]
+            ):
+                continue  # a verb of liking, or an infinitive meeting a noun by its stem
             written = tuple(forms[first:stop])
             best = min(
                 options,

@@ -11,6 +11,7 @@ import pytest
 from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError, NotFittedError
+from extractor.models.link_scoring import Scorer
 from extractor.models.linking import (
     DEFAULT_WEIGHTS,
     ConceptLinker,
@@ -231,3 +232,10 @@ def test_fit_gives_the_same_model_whatever_the_hash_seed() -> None:
         )
         outputs.append(done.stdout)
     assert outputs[0] == outputs[1]
+
+
+def test_verb_of_liking_gets_no_exact_link_but_the_noun_does() -> None:
+    # Portuguese "gosto" is "taste" after a determiner and "I like" otherwise.
+    scorer = Scorer.build([("C:taste", "gosto", "pt"), ("C:taste", "taste", "en")], None)
+    assert scorer.exact(Sentence(1, "Gosto da cor.", "pt"), Span(0, 5)) == set()
+    assert scorer.exact(Sentence(2, "O gosto é bom.", "pt"), Span(2, 7)) == {"C:taste"}

@@ -1,0 +1,86 @@
+"""Words that never name a trait on their own, however an alias is spelled.
+
+Some aliases collide with everyday words of another part of speech: Portuguese "gosto"
+is both "taste" and "I like", "seca" (drought) shares its stem with "secar" (to dry).
+A dictionary match made of such a word alone is dropped:
+
+* a verb of liking, wanting or disliking (the stance, not the trait), unless a
+  determiner stands right before it ("o gosto", "le goût": then it is the noun);
+* an infinitive that matches a noun alias by its stem only ("secar" for "seca").
+
+The word lists are short, typed from memory (common words of each language), and
+cover the languages of the stance cues; other languages get the infinitive rule only
+where their endings are listed.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from extractor.nlp.fold import fold
+
+LIKING_VERBS: dict[str, frozenset[str]] = {
+    "en": frozenset(
+        "like likes liked love loves loved prefer prefers want wants wanted need needs "
+        "hate hates dislike dislikes wish".split()
+    ),
+    "fr": frozenset(
+        "aime aimes aimons aiment aimer adore adorons prefere preferons preferent "
+        "veux veut voulons voudrais voudrait deteste detestons souhaite souhaitons".split()
+    ),
+    "es": frozenset(
+        "gusta gustan gusto gustaria encanta encantan prefiero preferimos quiero "
+        "queremos quisiera odio necesito necesitamos deseo".split()
+    ),
+    "pt": frozenset(
+        "gosto gosta gostamos gostam gostaria adoro adoramos prefiro preferimos quero "
+        "queremos queria odeio preciso precisamos desejo".split()
+    ),
+    "sw": frozenset(
+        "napenda anapenda tunapenda wanapenda sipendi hapendi hatupendi nataka tunataka "
+        "sitaki hatutaki ningependa tungependa".split()
+    ),
+}
+"""Verb forms of liking, wanting and disliking, folded (case and accents dropped)."""
+
+DETERMINERS: dict[str, frozenset[str]] = {
+    "en": frozenset("the a an its their our my his her this that".split()),
+    "fr": frozenset("le la les l un une son sa ses leur leurs ce cette du des".split()),
+    "es": frozenset("el la los las un una su sus este esta ese esa del".split()),
+    "pt": frozenset("o a os as um uma seu sua seus suas este esta esse essa do da dos das".split()),
+    "sw": frozenset(),
+}
+"""Determiners before a noun, folded: after one, a liking-verb form is the noun."""
+
+INFINITIVE_ENDINGS: dict[str, tuple[str, ...]] = {
+    "pt": ("ar", "er", "ir"),
+    "es": ("ar", "er", "ir"),
+    "fr": ("er", "ir", "re"),
+}
+"""Infinitive endings of languages whose stemmer joins infinitives with nouns."""
+
+
+def _code(lang: str) -> str:
+    return lang.split("-")[0].lower()
+
+
+def is_liking_verb(words: Sequence[str], i: int, lang: str) -> bool:
+    """Whether ``words[i]`` is a verb of liking (not the noun it may also spell)."""
+    code = _code(lang)
+    if fold(words[i]) not in LIKING_VERBS.get(code, frozenset()):
+        return False
+    return not (i > 0 and fold(words[i - 1]) in DETERMINERS.get(code, frozenset()))
+
+
+def is_stem_only_infinitive(word: str, alias_forms: Sequence[str], lang: str) -> bool:
+    """Whether ``word`` is an infinitive that meets a one-word alias by its stem only."""
+    endings = INFINITIVE_ENDINGS.get(_code(lang), ())
+    folded = fold(word)
+    if not endings or not folded.endswith(endings) or len(folded) < 4:
+        return False
+    return all(fold(form) != folded and not fold(form).endswith(endings) for form in alias_forms)
+
+
+def never_alone(words: Sequence[str], i: int, lang: str, alias_forms: Sequence[str]) -> bool:
+    """Whether a one-word match of ``words[i]`` must be dropped (see the module docstring)."""
+    return is_liking_verb(words, i, lang) or is_stem_only_infinitive(words[i], alias_forms, lang)
