@@ -17,6 +17,7 @@ from extractor.cli.common import (
     print_warnings,
     print_written,
 )
+from extractor.cli.concept_cmds import print_changes
 from extractor.jobs.export import export
 from extractor.jobs.run import RunReport, run_in, train_and_tag
 from extractor.jobs.status import model_versions
@@ -128,6 +129,9 @@ def _print_run(report: RunReport, console: Console) -> None:
     for item in (report.concepts, report.varieties):
         if item is not None:
             print_warnings(console, item.warnings)
+            print_notes(console, item.notes)
+            if item.status == "imported":
+                print_changes(console, item.changes)  # what a changed list changed
     print_notes(console, report.train.notes)
     if not report.retrained:
         console.print(

@@ -10,8 +10,9 @@ import pandas as pd
 import pytest
 
 from extractor.ingest.concepts import load_concept_list
-from extractor.jobs.curate import default_min_count
+from extractor.jobs.curate import default_min_count, list_concepts
 from tests.jobs.study import run
+from tests.report.study import VERSION, build_workspace
 
 
 def test_accepted_alias_is_exported_apart_and_list_reimports(study: Path) -> None:
@@ -166,3 +167,19 @@ def test_concepts_suggest_shows_one_similarity_scale(study: Path, tmp_path: Path
 )
 def test_default_min_count_is_two_percent_of_respondents(respondents: int, expected: int) -> None:
     assert default_min_count(respondents) == expected
+
+
+def test_list_concepts_counts_mentions_and_respondents_once_a_model_ran(tmp_path: Path) -> None:
+    # The hand-built workspace (tests/report/study.py): KR-01's sentence 2 has predicted
+    # BTX:0001 and BTX:0002; KR-02's person label links "grain" to BTX:0003.
+    with build_workspace(tmp_path / "ws") as ws:
+        listing = list_concepts(ws)
+    assert listing.model_version == VERSION
+    assert listing.mentions == {"BTX:0001": 1, "BTX:0002": 1, "BTX:0003": 1}
+    assert listing.respondents == {"BTX:0001": 1, "BTX:0002": 1, "BTX:0003": 1}
+    assert next(c for c in listing.concepts if c.id == "BTX:0003").parents == ("BTX:0001",)
+
+
+def test_list_concepts_has_no_counts_before_a_model(tmp_path: Path) -> None:
+    with build_workspace(tmp_path / "ws", with_model=False) as ws:
+        assert list_concepts(ws).mentions is None
