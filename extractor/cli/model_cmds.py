@@ -40,10 +40,10 @@ def cmd_train(args: argparse.Namespace, console: Console) -> int:
 
 
 MODEL_FOLDERS_NOTE = (
-    "Model folders hold words from the interviews (features, word clusters, the linker's "
-    "vocabulary): they are personal data like the interviews. Phone numbers, e-mails, "
-    "respondent IDs and listed names are masked before training, but share a model folder "
-    "only as you would share the interviews."
+    "Model versions (in models/) hold words from the interviews (features, word clusters, "
+    "the linker's vocabulary): they are personal data like the interviews. Phone numbers, "
+    "e-mails, respondent IDs and listed names are masked before training, but share a "
+    "model version only as you would share the interviews."
 )
 
 

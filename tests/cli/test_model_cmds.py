@@ -41,7 +41,10 @@ def test_models_table_says_matched_by_concept_list_not_silver(study: Path) -> No
     assert code == 0, out
     assert "silver" not in text
     assert "matched by concept list" in text
-    assert "Model folders hold words from the interviews" in text and "personal data" in text
+    assert (
+        "Model versions (in models/) hold words from the interviews" in text
+        and "personal data" in text
+    )
 
 
 def _tagged_by_hand(root: Path) -> Path:
