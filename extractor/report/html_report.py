@@ -32,6 +32,7 @@ from extractor.report.inputs import plain_value, prepare
 from extractor.report.pivot import PIVOT_NOTES, pivot_table
 from extractor.report.privacy import PrivacyOptions
 from extractor.report.quotes import quotes_by_trait
+from extractor.report.stats import format_share
 from extractor.report.summary import trait_summary
 from extractor.report.varieties import head_to_head, variety_table
 from extractor.workspace.files import atomic_open
@@ -112,6 +113,17 @@ def chart_png_uri(chart: GroupChart) -> str:
     fig.savefig(buffer, format="png", dpi=110)
     plt.close(fig)
     return "data:image/png;base64," + base64.b64encode(buffer.getvalue()).decode("ascii")
+
+
+def readable_shares(frame: pd.DataFrame) -> pd.DataFrame:
+    """Return a share table with one "42% (31–54%)" column instead of share and bounds."""
+    out = frame.drop(columns=["Concept ID", "Share", "95% CI low", "95% CI high"])
+    text = [
+        format_share(int(k), int(n))
+        for k, n in zip(frame["Respondents"], frame["Respondents of variety"], strict=True)
+    ]
+    out.insert(out.columns.get_loc("Respondents") + 1, "Share (95% CI)", text)
+    return out
 
 
 def _section(anchor: str, title: str, body: str) -> str:

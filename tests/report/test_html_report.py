@@ -10,8 +10,10 @@ import pytest
 from extractor.errors import InputError
 from extractor.report.about import RunFacts
 from extractor.report.caution import REVIEW_CAUTION
-from extractor.report.html_report import write_report
+from extractor.report.html_report import readable_shares, write_report
 from extractor.report.privacy import PrivacyOptions, pseudonym
+from extractor.report.varieties import variety_table
+from tests.report.reference import share
 from tests.report.study import CONCEPTS, SECRET, Study, study_frames
 
 CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
@@ -142,3 +144,15 @@ def test_report_renders_offline_in_headless_chromium(private_report: Path, tmp_p
     bad.write_text(head + '<body><img src="https://example.invalid/x.png"></body></html>')
     _, console = _chromium(bad, tmp_path, tmp_path / "bad.png")
     assert any("example.invalid" in line for line in console)
+
+
+def test_report_variety_shares_read_as_percent_with_wilson_interval(study: Study) -> None:
+    mentions, respondents = study
+    table = variety_table(mentions, respondents, CONCEPTS)
+    shown = readable_shares(table)
+    assert len(shown) == len(table) > 0
+    for text, k, n in zip(
+        shown["Share (95% CI)"], table["Respondents"], table["Respondents of variety"], strict=True
+    ):
+        p, low, high = share(int(k), int(n))  # statsmodels' Wilson interval
+        assert text == f"{p:.0%} ({low:.0%}–{high:.0%})"
