@@ -1,4 +1,8 @@
-"""The chart of liked traits: its data, a PNG drawn with matplotlib, a native Excel chart."""
+"""The chart of liked traits by the first grouping: its data and a PNG drawn with matplotlib.
+
+The workbook's native charts, and the charts of every outcome and grouping, are in
+:mod:`extractor.report.group_charts`; this PNG is kept beside the workbook as before.
+"""
 
 from __future__ import annotations
 
@@ -8,11 +12,7 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
-from openpyxl.chart import BarChart, Reference
-from openpyxl.utils import get_column_letter
-from openpyxl.worksheet.worksheet import Worksheet
 
-from extractor.report.cells import write_table
 from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
 from extractor.workspace.files import atomic_path
 
@@ -89,35 +89,3 @@ def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:
     fig.tight_layout()
     _save_png(fig, path)
     plt.close(fig)
-
-
-def add_bar_chart(ws: Worksheet, data: pd.DataFrame, title: str, anchor: str) -> None:
-    """Add a native clustered bar chart of ``data`` (first column = categories)."""
-    if data.empty or data.shape[1] < 2:
-        return
-    chart = BarChart()
-    chart.type = "bar"
-    chart.grouping = "clustered"
-    chart.title = title
-    chart.x_axis.title = "Trait"
-    chart.y_axis.title = "Share of respondents"
-    chart.y_axis.number_format = "0%"
-    chart.y_axis.scaling.min = 0
-    chart.y_axis.scaling.max = 1
-    chart.x_axis.scaling.orientation = "maxMin"  # top trait at the top
-    chart.height = 4 + 0.8 * len(data)
-    chart.width = 20
-    values = Reference(ws, min_col=2, max_col=data.shape[1], min_row=1, max_row=len(data) + 1)
-    cats = Reference(ws, min_col=1, min_row=2, max_row=len(data) + 1)
-    chart.add_data(values, titles_from_data=True)
-    chart.set_categories(cats)
-    ws.add_chart(chart, anchor)
-
-
-def write_chart_sheet(ws: Worksheet, data: pd.DataFrame, title: str) -> None:
-    """Write the chart's data as a table of percentages, with the native chart beside it."""
-    write_table(ws, data, freeze_columns=1)
-    for j in range(2, data.shape[1] + 1):
-        for i in range(2, len(data) + 2):
-            ws.cell(row=i, column=j).number_format = "0.0%"
-    add_bar_chart(ws, data, title, f"{get_column_letter(data.shape[1] + 2)}2")
