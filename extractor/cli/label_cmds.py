@@ -9,7 +9,7 @@ from rich.console import Console
 
 from extractor.cli.common import Subcommands, open_workspace, print_json, print_written
 from extractor.cli.screen import run_console
-from extractor.cli.tables import curve_table, evaluation_tables, gain_table
+from extractor.cli.tables import curve_table, evaluation_tables, gain_table, sentence_line
 from extractor.jobs.evaluate import evaluate_workspace
 from extractor.jobs.label import convert_label_file, import_label_file, labeling_setup
 from extractor.jobs.simulate import simulate_files
@@ -97,6 +97,9 @@ def cmd_evaluate(args: argparse.Namespace, console: Console) -> int:
         console.rule(title)
         for table in evaluation_tables(part):
             console.print(table)
+        sentence = getattr(part, "sentence", None)
+        if sentence is not None:
+            console.print(sentence_line(sentence), markup=False)
     if report.notes.get("stale version"):
         console.print(f"[bold]Note[/bold]: {report.notes['stale version']}")
     if report.version:

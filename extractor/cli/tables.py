@@ -14,6 +14,7 @@ from rich.table import Table
 
 from extractor.loop.curves import CurveRow, GainRow
 from extractor.models.metrics import PRF, SUMMARY_KEYS, GroupScores, ScoreReport, StanceScores
+from extractor.models.sentence_metrics import SentenceScores
 from extractor.models.validation import CrossValidation, Evaluation
 from extractor.report.stats import MIN_SAMPLE, f1_interval, too_few, wilson_interval
 
@@ -190,3 +191,20 @@ def gain_table(gains: Sequence[GainRow]) -> Table:
             f"{row.wins}/{row.n}",
         )
     return table
+
+
+def sentence_line(scores: SentenceScores) -> str:
+    """Return the sentence-level figures (mentions and implicit traits together) as one line."""
+    stance = (
+        "no stance to judge"
+        if scores.stance_accuracy is None
+        else f"stance accuracy {scores.stance_accuracy:.3f} on {scores.stance_n}"
+    )
+    respondent = (
+        "" if scores.respondent is None else f"; respondent-triple F1 {scores.respondent.f1:.3f}"
+    )
+    return (
+        f"Traits per sentence (mentions and implicit traits, {scores.n_sentences} sentences): "
+        f"concept F1 {scores.concept.f1:.3f} (P {scores.concept.precision:.3f}, "
+        f"R {scores.concept.recall:.3f}), {stance}{respondent}."
+    )

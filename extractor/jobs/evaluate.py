@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
-from extractor.jobs.inputs import gold_examples, session_settings
+from extractor.jobs.inputs import gold_examples, gold_implicit, session_settings
 from extractor.jobs.train import cross_validation, load_version, reusable_clusters
 from extractor.loop.samples import ensure_samples
 from extractor.models.validation import CrossValidation, Evaluation, evaluate_on
@@ -53,7 +53,7 @@ def evaluate_workspace(ws: Workspace, *, k: int = 5) -> EvaluationReport:
         )
     else:
         version, models = load_version(ws)
-        scored = evaluate_on(models, held_out)
+        scored = evaluate_on(models, held_out, gold_implicit(ws))
         learned = int(latest.meta.get("counts", {}).get("gold_sentences", 0))
         if learned != len(outside):
             notes["stale version"] = (

@@ -51,7 +51,7 @@ def tag(ws: Workspace, models: TraitModels, version: str) -> TagReport:
                     "mentions": [
                         m._asdict()
                         | {"source": "predicted", "concept_probs": None, "stance_probs": None}
-                        for m in prediction.mentions
+                        for m in [*prediction.mentions, *prediction.implicit]
                     ],
                 }
             )

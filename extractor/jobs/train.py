@@ -15,6 +15,7 @@ from extractor.errors import ModelError, TraitsError, WorkspaceError
 from extractor.jobs.inputs import (
     alias_tuples,
     gold_examples,
+    gold_implicit,
     masked,
     model_params,
     screening,
@@ -219,7 +220,14 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
     notes = tidy_model_folders(ws) + _training_notes(held_out, bool(aliases))
     corpus = masked(store.sentences(ws.conn), screen)
     models = TraitModels(**model_params(ws))
-    models.fit(gold, corpus, aliases, clusters=reusable_clusters(ws, corpus), held_out=held_out)
+    models.fit(
+        gold,
+        corpus,
+        aliases,
+        clusters=reusable_clusters(ws, corpus),
+        held_out=held_out,
+        implicit=gold_implicit(ws),
+    )
     notes += _stance_note(stance_gaps(corpus, labeled, models.stance_.cues))
     figures: dict[str, Any] = {}
     if cross_validate:

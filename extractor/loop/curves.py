@@ -30,6 +30,11 @@ class RunRecord:
         span_concept_f1: span and concept F1 (None when the test gold has no concepts).
         stance_accuracy: stance accuracy (None when the model gives no stance).
         respondent_f1: per-respondent concept F1 (None when the test gold has no concepts).
+        sentence_concept_f1: micro F1 of the concepts each test sentence states, from
+            mentions and implicit traits together (:mod:`extractor.models.sentence_metrics`).
+        sentence_stance_accuracy: stance accuracy on the sentence concepts found.
+        respondent_f1_with_implicit: respondent-triple F1 counting mentions and implicit
+            traits (None when the test gold has no concepts).
         seconds: the run's time up to this budget.
     """
 
@@ -42,6 +47,9 @@ class RunRecord:
     span_concept_f1: float | None = None
     stance_accuracy: float | None = None
     respondent_f1: float | None = None
+    sentence_concept_f1: float | None = None
+    sentence_stance_accuracy: float | None = None
+    respondent_f1_with_implicit: float | None = None
     seconds: float = 0.0
 
     def figure(self, name: str) -> float | None:

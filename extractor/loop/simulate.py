@@ -39,18 +39,25 @@ from typing import Any, NamedTuple
 import numpy as np
 
 from extractor.errors import InputError
-from extractor.ingest.labels import LabelRecord, to_gold
+from extractor.ingest.labels import LabelRecord, record_from_dict, to_gold
 from extractor.loop import strategies as active
 from extractor.loop.curves import RunRecord, SimulationResults, SimulationSettings
 from extractor.loop.predictor import pool_item
 from extractor.loop.tagger_only import MODELS, Alias, TaggerOnly, make_models
 from extractor.models.metrics import SUMMARY_KEYS, predicted_mentions, score, summary
+from extractor.models.sentence_metrics import sentence_scores, stated
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.text import tokenize
 from extractor.progress import track
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 
-FIGURES = SUMMARY_KEYS
+SENTENCE_FIGURES = (
+    "sentence_concept_f1",
+    "sentence_stance_accuracy",
+    "respondent_f1_with_implicit",
+)
+"""Figures over whole sentences, counting mentions and implicit traits."""
+FIGURES = SUMMARY_KEYS + SENTENCE_FIGURES
 Gold = list[tuple[Sentence, list[Span]]]
 
 
@@ -67,6 +74,7 @@ class _Shared(NamedTuple):
     vectors: np.ndarray | None
     density: np.ndarray | None
     tokens: list[int]
+    implicit: dict[int, tuple[Implicit, ...]]
 
 
 _SHARED: _Shared | None = None
@@ -97,7 +105,9 @@ def _fit(shared: _Shared, labeled: Sequence[int], cache: dict[int, Any]) -> Any:
         return model.fit(
             gold, corpus, shared.aliases, clusters=shared.clusters, feature_cache=cache
         )
-    return model.fit(gold, corpus, shared.aliases, clusters=shared.clusters)
+    return model.fit(
+        gold, corpus, shared.aliases, clusters=shared.clusters, implicit=shared.implicit
+    )
 
 
 def _record(
@@ -120,8 +130,20 @@ def _record(
 
 
 def _figures(model: Any, shared: _Shared) -> dict[str, Any]:
-    preds = model.predict([s for s, _ in shared.test])
-    return asdict(summary(score(shared.test, predicted_mentions(preds))))
+    sentences = [s for s, _ in shared.test]
+    preds = model.predict(sentences)
+    figures = asdict(summary(score(shared.test, predicted_mentions(preds))))
+    whole = sentence_scores(
+        sentences,
+        [stated(spans, shared.implicit.get(s.id, ())) for s, spans in shared.test],
+        [stated([*p.mentions, *getattr(p, "implicit", [])]) for p in preds],
+    )
+    states_concepts = whole.concept.gold > 0
+    return figures | {
+        "sentence_concept_f1": whole.concept.f1 if states_concepts else None,
+        "sentence_stance_accuracy": whole.stance_accuracy,
+        "respondent_f1_with_implicit": None if whole.respondent is None else whole.respondent.f1,
+    }
 
 
 def _seed_records(
@@ -263,9 +285,18 @@ def simulate(
     """
     chosen = [active.get_strategy(n) for n in strategies]
     _check_numbers(model, subpool, budgets, repeats, batch_size, retrain_every)
+    pool, test = _as_records(pool, "pool"), _as_records(test, "test")
     pool_gold = to_gold(pool, first_id=0)
     test_gold = to_gold(test, first_id=len(pool_gold))
     shared = _share(pool_gold, test_gold, aliases, chosen, model, model_params, clusters, seed)
+    shared = shared._replace(
+        implicit={
+            first + n: record.implicit
+            for first, records in ((0, pool), (len(pool_gold), test))
+            for n, record in enumerate(records)
+            if record.implicit
+        }
+    )
     settings = SimulationSettings(
         strategies=list(strategies),
         budgets=sorted(set(budgets)),
@@ -283,6 +314,16 @@ def simulate(
         strategy_settings={n: _describe(s) for n, s in zip(strategies, chosen, strict=True)},
     )
     return SimulationResults(settings, tuple(_run_all(_tasks(settings, chosen), shared, jobs)))
+
+
+def _as_records(items: Sequence[LabelRecord | Mapping[str, Any]], source: str) -> list[LabelRecord]:
+    """Return label-format dicts as checked records (records stay as they are)."""
+    return [
+        item
+        if isinstance(item, LabelRecord)
+        else record_from_dict(item, source=source, line=n, default_lang="en")
+        for n, item in enumerate(items, start=1)
+    ]
 
 
 def _tasks(settings: SimulationSettings, chosen: Sequence[active.Strategy]) -> list[_Task]:
@@ -353,6 +394,7 @@ def _share(
         vectors,
         dens,
         [len(tokenize(s.text, s.lang)) for s, _ in pool_gold],
+        {},
     )
 
 

@@ -1,12 +1,14 @@
 """The trained models of one version, together: dictionary, clusters, tagger, linker, stance.
 
 :class:`TraitModels` trains them from the analyst's labels and the workspace's text,
-predicts every mention of a sentence (span, concept, stance, confidences), and saves
-and loads a model version folder without pickle:
+predicts every mention of a sentence (span, concept, stance, confidences) and the traits
+it states without a span (the sentence-level model, :mod:`extractor.models.sentence_traits`),
+and saves and loads a model version folder without pickle:
 
 ``tagger.crfsuite`` + ``tagger.json`` (CRFsuite's own format), ``clusters.json`` +
-``vectors.npy``, ``linker/`` and ``stance/`` (skops + JSON), ``aliases.json`` and
-``meta.json``.
+``vectors.npy``, ``linker/``, ``stance/`` and ``sentence/`` (skops + JSON),
+``aliases.json`` and ``meta.json``. A version saved before the sentence-level model
+existed loads with it unfitted (no implicit traits).
 """
 
 from __future__ import annotations
@@ -25,12 +27,13 @@ from sklearn.base import BaseEstimator
 
 from extractor.errors import ModelError, NotFittedError
 from extractor.models.linking import ConceptLinker
+from extractor.models.sentence_traits import SentenceTraits, anchor_span
 from extractor.models.stance import StanceModel
 from extractor.models.tagger import TagResult, TraitTagger, tag_sentences
 from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.clusters import learn_clusters, load_clusters, save_clusters
 from extractor.nlp.dictionary import Dictionary, build_dictionary
-from extractor.types import STANCES, Sentence, Span
+from extractor.types import STANCES, Implicit, Sentence, Span
 
 Alias = tuple[str, str, str]
 """(concept_id, alias text, language)."""
@@ -54,6 +57,7 @@ class Mention(NamedTuple):
     stance_prob: float
     concept_probs: dict[str, float] | None = None
     stance_probs: dict[str, float] | None = None
+    implicit: bool = False  # a trait the sentence states without a span: start 0, end its length
 
 
 @dataclass(frozen=True)
@@ -66,6 +70,8 @@ class TrainingCounts:
     link_examples: int = 0
     stance_examples: int = 0
     aliases: int = 0
+    implicit_traits: int = 0
+    sentence_examples: int = 0
 
     @classmethod
     def from_meta(cls, counts: Mapping[str, Any]) -> TrainingCounts:
@@ -75,10 +81,16 @@ class TrainingCounts:
 
 
 class SentencePrediction(NamedTuple):
-    """Everything the models say about one sentence."""
+    """Everything the models say about one sentence.
+
+    ``mentions`` have quote spans; ``implicit`` are the concepts the sentence-level model
+    detects that no mention of the sentence is linked to (``Mention.implicit`` is true,
+    the span is the whole sentence, ``confidence`` and ``link_prob`` its probability).
+    """
 
     mentions: list[Mention]
     tagged: TagResult
+    implicit: list[Mention] = []  # noqa: RUF012 -- NamedTuple default; never mutated
 
 
 def library_versions() -> dict[str, str]:
@@ -143,10 +155,13 @@ class TraitModels(BaseEstimator):
         seed: int = 0,
         clusters: dict[str, Any] | None = None,
         held_out: frozenset[int] = frozenset(),
+        implicit: Mapping[int, Sequence[Implicit]] | None = None,
     ) -> TraitModels:
         """Return models of the given parameters fitted on the data (see :meth:`fit`)."""
         models = cls(tagger_params=tagger_params, link_threshold=link_threshold, seed=seed)
-        return models.fit(gold, corpus, aliases, clusters=clusters, held_out=held_out)
+        return models.fit(
+            gold, corpus, aliases, clusters=clusters, held_out=held_out, implicit=implicit
+        )
 
     # ------------------------------------------------------------------ training
 
@@ -158,6 +173,7 @@ class TraitModels(BaseEstimator):
         *,
         clusters: dict[str, Any] | None = None,
         held_out: frozenset[int] = frozenset(),
+        implicit: Mapping[int, Sequence[Implicit]] | None = None,
     ) -> TraitModels:
         """Train every model.
 
@@ -169,6 +185,7 @@ class TraitModels(BaseEstimator):
             clusters: Word clusters to reuse (when the corpus has not changed).
             held_out: IDs of sentences kept out of training entirely (the labeled part of
                 the evaluation sample), not even as silver sentences.
+            implicit: Per labeled sentence ID, the traits it states without a span.
         """
         if not gold and not aliases:
             raise ModelError(
@@ -190,7 +207,15 @@ class TraitModels(BaseEstimator):
             for sentence, matches in zip(silver, self.dictionary_.match_many(silver), strict=True):
                 link_examples += [(sentence, m, m.concept) for m in matches if m.concept]
         self.linker_ = ConceptLinker(threshold=self.link_threshold).fit(link_examples, aliases)
+        implicit = implicit or {}
+        self.sentence_ = self._fit_sentence_traits(gold, implicit)
         stance_examples = [(s, sp, sp.stance) for s, spans in gold for sp in spans if sp.stance]
+        stance_examples += [
+            (s, self._anchor(s, trait.concept), trait.stance)
+            for s, _ in gold
+            for trait in implicit.get(s.id, ())
+            if trait.stance
+        ]
         self.stance_ = StanceModel(**(self.stance_params or {}))
         if len({label for _, _, label in stance_examples}) >= 2:
             self.stance_.fit(stance_examples)
@@ -201,8 +226,39 @@ class TraitModels(BaseEstimator):
             link_examples=len(link_examples),
             stance_examples=len(stance_examples),
             aliases=len(aliases),
+            implicit_traits=sum(len(implicit.get(s.id, ())) for s, _ in gold),
+            sentence_examples=len(gold) if self.sentence_.is_fitted else 0,
         )
         return self
+
+    def _fit_sentence_traits(
+        self,
+        gold: Sequence[tuple[Sentence, Sequence[Span]]],
+        implicit: Mapping[int, Sequence[Implicit]],
+    ) -> SentenceTraits:
+        """Fit the sentence-level model on every labeled sentence, if any states a concept.
+
+        A sentence states the concepts of its mentions and its implicit traits; a sentence
+        labeled "no trait here" is a negative for every concept.
+        """
+        model = SentenceTraits()
+        stated = [
+            {sp.concept for sp in spans if sp.concept} | {t.concept for t in implicit.get(s.id, ())}
+            for s, spans in gold
+        ]
+        if any(stated) and len(gold) >= 2:
+            model.fit(
+                [s for s, _ in gold], stated, dictionary=self.dictionary_, clusters=self.clusters_
+            )
+        self._weights: dict[str, dict[str, float]] = {}
+        return model
+
+    def _anchor(self, sentence: Sentence, concept: str) -> Span:
+        """Return the words the stance of an implicit trait is judged on (see anchor_span)."""
+        if concept not in self._weights:
+            fitted = self.sentence_.is_fitted and concept in self.sentence_.classes_
+            self._weights[concept] = self.sentence_.word_weights(concept) if fitted else {}
+        return anchor_span(sentence, concept, self._weights[concept], self.dictionary_)
 
     def _check(self) -> None:
         if not hasattr(self, "tagger_"):
@@ -254,7 +310,49 @@ class TraitModels(BaseEstimator):
                     )
                 )
             out.append(SentencePrediction(mentions, result))
-        return out
+        return self._with_implicit(sentences, out)
+
+    def _with_implicit(
+        self, sentences: Sequence[Sentence], predictions: list[SentencePrediction]
+    ) -> list[SentencePrediction]:
+        """Add the concepts the sentence-level model detects that no mention is linked to."""
+        if not getattr(self, "sentence_", None) or not self.sentence_.is_fitted or not sentences:
+            return predictions
+        proba = self.sentence_.predict_proba(
+            sentences, dictionary=self.dictionary_, clusters=self.clusters_
+        )
+        found = []
+        for sentence, prediction, detected in zip(
+            sentences, predictions, self.sentence_.detected(proba), strict=True
+        ):
+            linked = {m.concept for m in prediction.mentions if m.concept}
+            found += [(sentence, c, p) for c, p in detected if c not in linked]
+        if not found:
+            return predictions
+        self._weights = getattr(self, "_weights", {})
+        items = [(s, self._anchor(s, c)) for s, c, _ in found]
+        stance_probs = self._stance_proba(items)
+        extra: dict[int, list[Mention]] = {}
+        for (sentence, concept, p), probs in zip(found, stance_probs, strict=True):
+            best = int(probs.argmax())
+            extra.setdefault(sentence.id, []).append(
+                Mention(
+                    0,
+                    len(sentence.text),
+                    p,
+                    concept,
+                    p,
+                    STANCES[best],
+                    float(probs[best]),
+                    {concept: p},
+                    {st: float(q) for st, q in zip(STANCES, probs, strict=True)},
+                    implicit=True,
+                )  # fmt: skip
+            )
+        return [
+            prediction._replace(implicit=extra.get(sentence.id, []))
+            for sentence, prediction in zip(sentences, predictions, strict=True)
+        ]
 
     def _stance_proba(self, items: Sequence[tuple[Sentence, Span]]) -> np.ndarray:
         """Blend the learned stance model with the cue rules by how much it has learned from.
@@ -297,6 +395,7 @@ class TraitModels(BaseEstimator):
         save_clusters(self.clusters_, folder)
         self.linker_.save(folder / "linker")
         self.stance_.save(folder / "stance")
+        self.sentence_.save(folder / "sentence")
         (folder / ALIASES_FILE).write_text(
             json.dumps([list(a) for a in self.aliases_], ensure_ascii=False), encoding="utf-8"
         )
@@ -332,6 +431,10 @@ class TraitModels(BaseEstimator):
         models.tagger_.clusters_fingerprint_ = models.clusters_.get("fingerprint")
         models.linker_ = ConceptLinker.load(folder / "linker")
         models.stance_ = StanceModel.load(folder / "stance")
+        sentence_folder = folder / "sentence"
+        models.sentence_ = (
+            SentenceTraits.load(sentence_folder) if sentence_folder.is_dir() else SentenceTraits()
+        )
         models.counts_ = TrainingCounts.from_meta(counts or {})
         return models
 

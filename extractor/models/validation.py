@@ -14,7 +14,7 @@ import random
 import statistics
 import time
 from collections import defaultdict
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import asdict, dataclass
 from typing import Any, Protocol
 
@@ -31,8 +31,9 @@ from extractor.models.metrics import (
     score,
     summary,
 )
+from extractor.models.sentence_metrics import SentenceScores, sentence_scores, stated
 from extractor.progress import track
-from extractor.types import Sentence
+from extractor.types import Implicit, Sentence
 
 
 class _Predictor(Protocol):
@@ -56,10 +57,15 @@ ModelFactory = Callable[..., _Trainable]
 
 @dataclass(frozen=True)
 class Evaluation:
-    """Fitted models scored on labeled sentences they never saw."""
+    """Fitted models scored on labeled sentences they never saw.
+
+    ``sentence`` scores whole sentences, counting mentions and implicit traits
+    (:mod:`extractor.models.sentence_metrics`).
+    """
 
     scores: ScoreReport
     summary: Summary
+    sentence: SentenceScores | None = None
 
     def to_dict(self) -> dict[str, Any]:
         """Return the JSON record: the scores, ``"summary"``, and its figures at the top too.
@@ -67,7 +73,8 @@ class Evaluation:
         ``traits models`` reads the figures (``"span_f1"``...) at the top level.
         """
         figures = asdict(self.summary)
-        return asdict(self.scores) | {"summary": figures} | figures
+        extra = {} if self.sentence is None else {"sentence": asdict(self.sentence)}
+        return asdict(self.scores) | {"summary": figures} | figures | extra
 
 
 @dataclass(frozen=True)
@@ -124,13 +131,17 @@ class CrossValidation:
         }
 
 
-def evaluate_on(models: _Predictor, gold: Gold) -> Evaluation:
+def evaluate_on(
+    models: _Predictor, gold: Gold, implicit: Mapping[int, Sequence[Implicit]] | None = None
+) -> Evaluation:
     """Score fitted models on an evaluation sample (labeled sentences they never saw).
 
     Args:
         models: Fitted models with ``predict(sentences) -> [SentencePrediction]``,
             e.g. :class:`extractor.models.bundle.TraitModels`.
         gold: The evaluation sentences and their gold spans.
+        implicit: Per sentence ID, its gold implicit traits; the sentence-level figures
+            count them with the mentions.
 
     Raises:
         InputError: The sample holds no labeled sentence.
@@ -139,8 +150,16 @@ def evaluate_on(models: _Predictor, gold: Gold) -> Evaluation:
         raise InputError(
             "The evaluation sample holds no labeled sentence; label some sentences of it first."
         )
-    result = score(gold, predicted_mentions(models.predict([s for s, _ in gold])))
-    return Evaluation(result, summary(result))
+    sentences = [s for s, _ in gold]
+    predictions = models.predict(sentences)
+    result = score(gold, predicted_mentions(predictions))
+    wanted = implicit or {}
+    by_sentence = sentence_scores(
+        sentences,
+        [stated(spans, wanted.get(s.id, ())) for s, spans in gold],
+        [stated([*p.mentions, *getattr(p, "implicit", [])]) for p in predictions],
+    )
+    return Evaluation(result, summary(result), by_sentence)
 
 
 def group_folds(groups: Sequence[str], k: int, seed: int = 0) -> list[list[int]]:

@@ -202,13 +202,18 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
     The body is the concept ID as a ``TextualBody`` with purpose ``classifying``,
     plus the stance as a second ``TextualBody`` with purpose ``tagging``; the
     target selects the span in the answer by quote (with prefix and suffix from
-    the sentence) and by character position in the answer. A mention linked to no
-    concept has no classifying body and the motivation ``highlighting`` (the model
-    allows an annotation without a body, section 3.1), so every mention of the
-    other exports is here too.
+    the sentence) and by character position in the answer. An implicit trait (stated
+    without a phrase naming it) selects its whole sentence: a ``TextQuoteSelector``
+    whose ``exact`` is the sentence, and the sentence's position in the answer. A
+    mention linked to no concept has no classifying body and the motivation
+    ``highlighting`` (the model allows an annotation without a body, section 3.1), so
+    every mention of the other exports is here too.
     """
     sentence = str(row["sentence"])
     start, end = int(row["start"]), int(row["end"])
+    implicit = bool(plain_value(row.get("implicit")))
+    if implicit:  # no quote span: the target is the whole sentence
+        start, end = 0, len(sentence)
     concept = plain_value(row.get("concept_id"))
     body: list[dict[str, Any]] = []
     if concept is not None:
@@ -230,14 +235,11 @@ def web_annotation(row: Mapping[str, Any], source: str, index: int) -> dict[str,
                 "format": "text/plain",
             }
         )
-    selectors: list[dict[str, Any]] = [
-        {
-            "type": "TextQuoteSelector",
-            "exact": sentence[start:end],
-            "prefix": sentence[max(0, start - QUOTE_CONTEXT_CHARS) : start],
-            "suffix": sentence[end : end + QUOTE_CONTEXT_CHARS],
-        }
-    ]
+    quote = {"type": "TextQuoteSelector", "exact": sentence[start:end]}
+    if not implicit:
+        quote["prefix"] = sentence[max(0, start - QUOTE_CONTEXT_CHARS) : start]
+        quote["suffix"] = sentence[end : end + QUOTE_CONTEXT_CHARS]
+    selectors: list[dict[str, Any]] = [quote]
     a_start, a_end = plain_value(row.get("answer_start")), plain_value(row.get("answer_end"))
     if a_start is not None and a_end is not None:
         selectors.append({"type": "TextPositionSelector", "start": int(a_start), "end": int(a_end)})

@@ -11,7 +11,9 @@ Input frames
     ``link_prob`` (float or None), ``stance`` (liked/disliked/wanted/neutral or None),
     ``stance_prob``, ``variety`` (str or None), ``ref_variety`` (str or None),
     ``confidence`` (tagger probability or None), ``source`` ("person", "predicted"
-    or "dictionary"), ``model_version`` (str or None), ``annotator`` (str or None).
+    or "dictionary"), ``model_version`` (str or None), ``annotator`` (str or None),
+    ``implicit`` (bool: a trait the sentence states without a phrase naming it; its
+    span is the whole sentence, which is its evidence; missing means False).
     Only ``respondent``, ``sentence_id``, ``sentence``, ``start``, ``end``,
     ``span_text``, ``concept_id``, ``stance`` and ``source`` are required; a missing
     optional column is treated as empty.
@@ -61,6 +63,7 @@ OPTIONAL_MENTION_COLUMNS = (
     "confidence",
     "model_version",
     "annotator",
+    "implicit",
 )
 SOURCES = ("person", "predicted", "dictionary")
 
@@ -112,6 +115,7 @@ def complete_mentions(mentions: pd.DataFrame) -> pd.DataFrame:
             f"got {', '.join(map(str, bad))}."
         )
     out["respondent"] = out["respondent"].astype(str)
+    out["implicit"] = out["implicit"].map(lambda v: bool(v) if pd.notna(v) else False)
     return out.reset_index(drop=True)
 
 

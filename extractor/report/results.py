@@ -2,15 +2,17 @@
 
 Mentions come from the stored predictions of a model version; wherever a person
 labeled a sentence, that label replaces the predictions for the sentence (gold
-labels always win). A person's spans are attributed to varieties the way tagging
-attributes predicted mentions (:func:`extractor.models.variety.attribute_corpus`).
+labels always win). Implicit traits (stated without a phrase naming them), labeled or
+predicted, are rows too: ``implicit`` is true, the span is the whole sentence. A
+person's spans are attributed to varieties the way tagging attributes predicted mentions
+(:func:`extractor.models.variety.attribute_corpus`).
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
 from datetime import UTC, datetime
-from typing import Any
+from typing import Any, NamedTuple
 
 import pandas as pd
 
@@ -51,10 +53,30 @@ def variety_names(ws: Workspace) -> dict[str, str]:
     }
 
 
+class _LabeledTrait(NamedTuple):
+    """A labeled mention or implicit trait, as the mentions frame places it."""
+
+    start: int
+    end: int
+    concept: str | None
+    stance: str | None
+    implicit: bool = False
+
+
+def label_traits(sentence: Sentence, label: StoredLabel) -> list[_LabeledTrait]:
+    """Return a label's mentions, then its implicit traits spanning the whole sentence."""
+    return [_LabeledTrait(*sp) for sp in label.spans] + [
+        _LabeledTrait(0, len(sentence.text), t.concept, t.stance, True) for t in label.implicit
+    ]
+
+
 def _person_mentions(
-    spans: Sequence[Span], annotator: str, varieties: Sequence[Attribution]
+    spans: Sequence[_LabeledTrait], annotator: str, varieties: Sequence[Attribution]
 ) -> list[dict[str, Any]]:
-    """Return a person's spans as mentions: no model, no probabilities, their varieties."""
+    """Return a person's spans as mentions: no model, no probabilities, their varieties.
+
+    Spans past the ``spans`` of the label proper are its implicit traits (whole sentence).
+    """
     return [
         {
             "start": sp.start,
@@ -69,6 +91,7 @@ def _person_mentions(
             "source": "person",
             "annotator": annotator,
             "model_version": None,
+            "implicit": bool(sp.implicit),
         }
         for sp, (variety, ref_variety) in zip(spans, varieties, strict=True)
     ]
@@ -77,11 +100,16 @@ def _person_mentions(
 def labeled_varieties(
     ws: Workspace, labels: Mapping[int, StoredLabel]
 ) -> dict[int, list[Attribution]]:
-    """Return sentence ID -> ``(variety, ref_variety)`` of each span of its label."""
-    spans = {sid: label.spans for sid, label in labels.items() if label.spans}
-    if not spans:
+    """Return sentence ID -> ``(variety, ref_variety)`` of each trait of its label.
+
+    Traits as :func:`label_traits` lists them: mentions, then implicit traits.
+    """
+    labeled = {sid for sid, label in labels.items() if not label.empty}
+    if not labeled:
         return {}
-    answers = {s.answer_id for s in store.sentences(ws.conn, spans)}
+    found = store.sentences(ws.conn, labeled)
+    spans = {s.id: [Span(t.start, t.end) for t in label_traits(s, labels[s.id])] for s in found}
+    answers = {s.answer_id for s in found}
     return attribute_corpus(
         [s for s in store.sentences(ws.conn) if s.answer_id in answers],
         spans,
@@ -110,6 +138,7 @@ def _mention_row(
         "answer_start": sentence.offset + m["start"],
         "answer_end": sentence.offset + m["end"],
         "span_text": sentence.text[m["start"] : m["end"]],
+        "implicit": bool(m.get("implicit", False)),
         "concept_id": concept,
         "concept_label": None if concept is None else concept_names.get(concept),
         "link_prob": m.get("link_prob"),
@@ -149,7 +178,7 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
             continue
         if sid in labels:
             found = _person_mentions(
-                labels[sid].spans, labels[sid].annotator, attributed.get(sid, [])
+                label_traits(sentence, labels[sid]), labels[sid].annotator, attributed.get(sid, [])
             )
         else:
             found = [

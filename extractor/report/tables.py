@@ -18,6 +18,8 @@ OUTCOMES = {"mention": None, "like": "liked", "dislike": "disliked", "want": "wa
 """Outcome name on the summary sheet -> stance it counts (None = any mention)."""
 
 MIXED = "mixed"
+NO_QUOTE_SPAN = "no quote span"
+"""What the evidence sheet shows as span text of an implicit trait (its evidence: the sentence)."""
 SAID = ("liked", "disliked", "wanted")
 """The stances a respondent can state about a trait (neutral is mentioning without one)."""
 
@@ -190,6 +192,10 @@ def mention_evidence(
     out = mentions.assign(
         trait=mentions["concept_id"].map(lambda c: labels.get(str(c)) if pd.notna(c) else None)
     )
+    # An implicit trait has no quote span: its evidence is the whole sentence.
+    implicit = mentions["implicit"].fillna(False).astype(bool) if "implicit" in mentions else None
+    if implicit is not None and implicit.any():
+        out = out.assign(span_text=out["span_text"].where(~implicit, NO_QUOTE_SPAN))
     out = out[list(EVIDENCE_COLUMNS)].rename(columns=EVIDENCE_COLUMNS)
     meta = metadata_columns(respondents)
     if meta:

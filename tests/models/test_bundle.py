@@ -9,7 +9,7 @@ from sklearn.base import clone
 
 from extractor.errors import ModelError, NotFittedError
 from extractor.models.bundle import Mention, SentencePrediction, TraitModels
-from extractor.types import STANCES, Sentence, Span
+from extractor.types import STANCES, Implicit, Sentence, Span
 
 # Invented trait IDs and answers about an invented variety (Velora).
 ALIASES = [("TX:01", "cooking time", "en"), ("TX:02", "seed size", "en")]
@@ -128,3 +128,51 @@ def test_load_never_relays_advice_to_unpickle(
     message = str(caught.value)
     assert "model version v8" in message and "`traits train`" in message
     assert "pickle" not in message
+
+
+# Invented: "finish the plate" states taste (TX:03) with no phrase naming it.
+PLATES = [
+    Sentence(20 + i, text, "en")
+    for i, text in enumerate(
+        [
+            "My children finish the plate of Velora .",
+            "The children always finish the plate .",
+            "Everybody finishes the plate at home .",
+            "We planted Velora after the rains .",
+            "My neighbour sells Velora in town .",
+            "The children finish the plate quickly .",
+        ]
+    )
+]
+PLATE_GOLD: list[tuple[Sentence, list[Span]]] = [(s, []) for s in PLATES[:5]]
+PLATE_IMPLICIT = {s.id: [Implicit("TX:03", "liked")] for s in PLATES[:3]}
+
+
+@pytest.fixture(scope="module")
+def with_implicit() -> TraitModels:
+    return TraitModels.train(
+        PLATE_GOLD,
+        CORPUS + PLATES,
+        [*ALIASES, ("TX:03", "taste", "en")],
+        tagger_params={"max_iterations": 20},
+        implicit=PLATE_IMPLICIT,
+    )
+
+
+def test_implicit_labels_give_implicit_predictions(with_implicit: TraitModels) -> None:
+    unseen, unrelated = PLATES[5], CORPUS[5]
+    found, none = with_implicit.predict([unseen, unrelated])
+    assert [(m.concept, m.implicit, m.start, m.end) for m in found.implicit] == [
+        ("TX:03", True, 0, len(unseen.text))
+    ]
+    assert found.implicit[0].stance in STANCES and 0 < found.implicit[0].confidence <= 1
+    assert none.implicit == [] and all(not m.implicit for m in found.mentions)
+    assert with_implicit.counts_.implicit_traits == 3
+
+
+def test_implicit_model_survives_save_and_load(with_implicit: TraitModels, tmp_path: Path) -> None:
+    with_implicit.save(tmp_path / "v")
+    again = TraitModels.load(tmp_path / "v")
+    (before,) = with_implicit.predict([PLATES[5]])
+    (after,) = again.predict([PLATES[5]])
+    assert after.implicit == before.implicit

@@ -218,6 +218,19 @@ def test_web_annotations_selectors_point_at_the_span(collection: dict) -> None:
     assert ANSWER[position["start"] : position["end"]] == "cooks fast"
 
 
+def test_web_annotations_select_the_whole_sentence_of_an_implicit_trait(tmp_path: Path) -> None:
+    row = _mentions().iloc[0].to_dict() | {"implicit": True, "start": 0, "end": len(SENTENCE)}
+    row |= {"answer_start": OFFSET, "answer_end": OFFSET + len(SENTENCE)}
+    out = tmp_path / "anno.jsonld"
+    assert write_web_annotations(out, pd.DataFrame([row])) == 1
+    (anno,) = json.loads(out.read_text(encoding="utf-8"))["first"]["items"]
+    quote, position = anno["target"]["selector"]
+    # Section 4.2.4: a TextQuoteSelector needs only "exact"; here it is the sentence.
+    assert quote == {"type": "TextQuoteSelector", "exact": SENTENCE}
+    assert ANSWER[position["start"] : position["end"]] == SENTENCE
+    assert anno["body"][0]["value"] == "BTX:0001"
+
+
 def test_web_annotations_source_uri_is_configurable(tmp_path: Path) -> None:
     out = tmp_path / "anno.jsonld"
     write_web_annotations(out, _mentions(), lambda row: f"urn:study:x:{row['sentence_id']}")

@@ -68,7 +68,9 @@ def test_prepare_adds_missing_optional_columns_as_empty() -> None:
     required = {k: v for k, v in row.items() if k not in OPTIONAL_MENTION_COLUMNS}
     m, _ = prepare(pd.DataFrame([required]), pd.DataFrame({"respondent": ["W1"]}))
     assert set(OPTIONAL_MENTION_COLUMNS) <= set(m.columns)
-    assert m[list(OPTIONAL_MENTION_COLUMNS)].isna().all(axis=None)
+    empty = [c for c in OPTIONAL_MENTION_COLUMNS if c != "implicit"]
+    assert m[empty].isna().all(axis=None)
+    assert m["implicit"].tolist() == [False]  # a mention with a quote span unless it says
 
 
 def test_prepare_rejects_unknown_source() -> None:

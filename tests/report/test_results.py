@@ -18,8 +18,10 @@ import pytest
 
 from extractor.report.about import RunFacts
 from extractor.report.results import concept_frame, mention_frame, respondent_frame, run_facts
+from extractor.types import Implicit
+from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
-from tests.report.study import STORE_ANSWERS, VERSION, build_workspace
+from tests.report.study import STORE_ANSWERS, VERSION, build_workspace, predicted
 
 
 @pytest.fixture
@@ -116,3 +118,20 @@ def test_run_facts_read_the_model_and_lists(ws: Workspace) -> None:
 def test_run_facts_without_a_model(ws: Workspace) -> None:
     facts = run_facts(ws, None)
     assert (facts.model_version, facts.model_trained) == ("none (labels only)", None)
+
+
+def test_mention_frame_shows_labeled_and_predicted_implicit_traits(ws: Workspace) -> None:
+    # Sentence 4 "Nobody said much." gets a labeled implicit trait; sentence 1 a predicted one.
+    store.add_label(ws.conn, 4, [], "coder-a", implicit=[Implicit("BTX:0001", "disliked")])
+    rows = [{"sentence_id": 1, "mentions": [predicted(0, 17, "BTX:0003", "liked", implicit=True)]}]
+    store.add_model(ws.conn, "v-implicit", "models/v002", {})
+    store.store_predictions(ws.conn, "v-implicit", rows)
+    frame = mention_frame(ws, "v-implicit")
+    implicit = frame.loc[frame["implicit"]]
+    assert implicit[["sentence_id", "concept_id", "stance", "source"]].values.tolist() == [
+        [1, "BTX:0003", "liked", "predicted"],
+        [4, "BTX:0001", "disliked", "person"],
+    ]
+    # The span of an implicit trait is its whole sentence: the sentence is the evidence.
+    assert (implicit["span_text"] == implicit["sentence"]).all()
+    assert not frame.loc[~frame["implicit"], "span_text"].eq(frame["sentence"]).any()

@@ -11,6 +11,7 @@ import pandas as pd
 from extractor.report.inputs import prepare
 from extractor.report.tables import (
     EVIDENCE_COLUMNS,
+    NO_QUOTE_SPAN,
     mention_evidence,
     preferred_traits,
     trait_matrix,
@@ -70,6 +71,16 @@ def test_trait_matrix_mixed_when_stances_disagree() -> None:
     )
     m, r = prepare(rows, pd.DataFrame({"respondent": ["W1"]}))
     assert trait_matrix(m, r, CONCEPTS)["fast cooking (BTX:0001)"].item() == "mixed"
+
+
+def test_mention_evidence_marks_implicit_rows_as_without_quote_span(study: Study) -> None:
+    mentions, respondents = study
+    first = mentions.iloc[[0]].assign(implicit=True)
+    m, r = prepare(pd.concat([first, mentions.iloc[1:]], ignore_index=True), respondents)
+    evidence = mention_evidence(m, r, CONCEPTS)
+    marked = evidence["Span text"] == NO_QUOTE_SPAN
+    assert marked.sum() == 1
+    assert evidence.loc[marked, "Sentence"].iloc[0] == mentions["sentence"].iloc[0]
 
 
 def test_mention_evidence_columns_and_metadata(study: Study) -> None:
