@@ -42,6 +42,8 @@ HELP_TEXT = """\
 [bold]c N[/]          choose another concept for span N ([bold]c 2 yield[/] searches at once)
 [bold]t N[/]          choose another stance for span N ([bold]t 1 d[/] sets it at once)
 [bold]a N[/]          add the words of span N as a new alias of its concept
+[bold]+ letters k[/]  add a trait stated without words to mark ([bold]+ tast l[/]: taste, liked)
+[bold]- N[/]          drop trait N of those without quote span
 [bold]n[/]            no trait here        [bold]s[/]  skip (not asked again)
 [bold]u[/]            undo your last answer and see it again
 [bold]q[/]            save and quit (everything you confirmed is already saved)

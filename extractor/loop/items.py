@@ -6,7 +6,7 @@ from dataclasses import dataclass
 from typing import NamedTuple
 
 from extractor.models.bundle import SentencePrediction
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 from extractor.workspace import store
 
 
@@ -20,6 +20,8 @@ class Item(NamedTuple):
         prediction: the model's prediction, if there is a model.
         origin: ``"model"``, ``"previous"`` (the annotator's undone label) or ``"none"``.
         in_evaluation: the sentence belongs to the evaluation sample.
+        implicit_suggestion: the proposed traits without a quote span (the model's
+            sentence-level detections, or the annotator's undone ones).
     """
 
     sentence: Sentence
@@ -28,6 +30,7 @@ class Item(NamedTuple):
     prediction: SentencePrediction | None
     origin: str
     in_evaluation: bool
+    implicit_suggestion: tuple[Implicit, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -18,7 +18,7 @@ from extractor.models.cues import packaged_cues, rule_stance
 from extractor.models.stance_features import stance_features
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
-from extractor.types import STANCES, Sentence, Span
+from extractor.types import STANCES, Implicit, Sentence, Span
 from extractor.workspace import store
 
 
@@ -87,6 +87,24 @@ def checked_spans(sentence: Sentence, spans: Sequence[Span]) -> tuple[Span, ...]
             )
         out.append(Span(span.start, span.end, span.concept, span.stance))
     return tuple(sorted(out))
+
+
+def checked_implicit(traits: Sequence[Implicit]) -> tuple[Implicit, ...]:
+    """Return implicit traits as plain :class:`Implicit` values once each has a concept.
+
+    Raises:
+        InputError: a trait has no concept, or its stance is not a known one.
+    """
+    out = []
+    for trait in traits:
+        if not trait.concept:
+            raise InputError("A trait without a quote span needs a concept; choose one.")
+        if trait.stance is not None and trait.stance not in STANCES:
+            raise InputError(
+                f"The stance must be one of {', '.join(STANCES)}; got {trait.stance!r}."
+            )
+        out.append(Implicit(trait.concept, trait.stance))
+    return tuple(out)
 
 
 class ConceptEntry(NamedTuple):

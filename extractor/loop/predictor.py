@@ -19,7 +19,7 @@ from extractor.errors import TraitsError
 from extractor.loop.stopping import stabilizing_predictions
 from extractor.loop.strategies import PoolItem, Strategy
 from extractor.models.bundle import SentencePrediction
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 
 Predictor = Callable[[Sequence[Sentence]], Sequence[SentencePrediction]]
 """Tags sentences with the current model: one prediction per sentence, in order."""
@@ -42,7 +42,9 @@ def pool_item(prediction: SentencePrediction) -> PoolItem:
     The strategies read a span's linking and stance uncertainty as ``1 - max prob``, so
     each span contributes its most probable concept (or :data:`UNLINKED`) and stance
     with their probabilities; spans without a concept or link probability, or without
-    a stance (the tagger alone gives neither), contribute nothing.
+    a stance (the tagger alone gives neither), contribute nothing. The sentence-level
+    model's probability of every concept (none without one) gives the sentence-level
+    uncertainty.
     """
     tagged = prediction.tagged
     return PoolItem(
@@ -55,7 +57,13 @@ def pool_item(prediction: SentencePrediction) -> PoolItem:
             if m.concept is not None or m.link_prob
         ],
         stance_dists=[{m.stance: float(m.stance_prob)} for m in prediction.mentions if m.stance],
+        concept_probs=tuple(prediction.concept_probs.values()),
     )
+
+
+def suggested_implicit(prediction: SentencePrediction) -> tuple[Implicit, ...]:
+    """Return the prediction's implicit traits (no quote span) as proposed to the annotator."""
+    return tuple(Implicit(m.concept, m.stance) for m in prediction.implicit if m.concept)
 
 
 def suggested_spans(prediction: SentencePrediction) -> tuple[Span, ...]:

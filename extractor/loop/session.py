@@ -26,12 +26,13 @@ import numpy as np
 
 from extractor.errors import InputError
 from extractor.loop.items import Item, SessionSummary
-from extractor.loop.marking import checked_spans
+from extractor.loop.marking import checked_implicit, checked_spans
 from extractor.loop.predictor import (
     ModelUpdate,
     Predictor,
     Retrain,
     Retraining,
+    suggested_implicit,
     suggested_spans,
     tag_pool,
 )
@@ -44,7 +45,7 @@ from extractor.loop.strategies import (
     weigh_by_density,
 )
 from extractor.models.bundle import SentencePrediction
-from extractor.types import Sentence, Span
+from extractor.types import Implicit, Sentence, Span
 from extractor.workspace import store
 
 LEASE_S = 900.0
@@ -103,6 +104,7 @@ class Session:
         self._front: deque[int] = deque()
         self._batch: deque[int] = deque()
         self._previous: dict[int, tuple[Span, ...]] = {}
+        self._previous_implicit: dict[int, tuple[Implicit, ...]] = {}
         self._session_label_ids: set[int] = set()
         self.labeled_this_session = 0
         self.skipped_this_session = 0
@@ -310,10 +312,13 @@ class Session:
         prediction = self._predictions.get(sentence_id)
         if prediction is None and self._predictor is not None:
             prediction = list(self._predictor([sentence]))[0]
+        implicit: tuple[Implicit, ...] = ()
         if previous is not None:
             suggestion, origin = previous, "previous"
+            implicit = self._previous_implicit.pop(sentence_id, ())
         elif prediction is not None:
             suggestion, origin = suggested_spans(prediction), "model"
+            implicit = suggested_implicit(prediction)
         else:
             suggestion, origin = (), "none"
         return Item(
@@ -323,6 +328,7 @@ class Session:
             prediction=prediction,
             origin=origin,
             in_evaluation=sentence_id in self.pool.evaluation_ids,
+            implicit_suggestion=implicit,
         )
 
     def _claim(self, sentence_id: int) -> bool:
@@ -361,17 +367,22 @@ class Session:
             raise InputError(f"Sentence {sentence_id} is not in this workspace.")
         return checked_spans(self.pool.sentences[sentence_id], spans)
 
-    def submit(self, sentence_id: int, spans: Sequence[Span]) -> int:
+    def submit(
+        self, sentence_id: int, spans: Sequence[Span], implicit: Sequence[Implicit] = ()
+    ) -> int:
         """Store the annotator's answer for a sentence at once; return the label ID.
 
-        An empty ``spans`` means "no trait here". The label is committed before this
-        returns; a retrain starts in the background when enough labels have arrived.
+        ``implicit`` are the traits the sentence states without a quote span; empty
+        ``spans`` and ``implicit`` mean "no trait here". The label is committed before
+        this returns; a retrain starts in the background when enough labels have arrived.
 
         Raises:
-            InputError: the sentence is unknown or a span does not fit it.
+            InputError: the sentence is unknown, a span does not fit it, or an implicit
+                trait has no concept or an unknown stance.
         """
         checked = self._check_spans(sentence_id, spans)
-        label_id = store.add_label(self.conn, sentence_id, checked, self.annotator)
+        traits = tuple(dict.fromkeys(checked_implicit(implicit)))
+        label_id = store.add_label(self.conn, sentence_id, checked, self.annotator, implicit=traits)
         store.release_sentences(self.conn, self.holder, sentence_id)
         self._session_label_ids.add(label_id)
         self._done.add(sentence_id)
@@ -398,13 +409,13 @@ class Session:
             The sentence ID, or None when this annotator has no label to undo.
         """
         mine = [
-            (label.label_id, sid, label.spans)
+            (label.label_id, sid, label.spans, label.implicit)
             for sid, label in store.current_labels(self.conn).items()
             if label.annotator == self.annotator
         ]
         if not mine:
             return None
-        label_id, sentence_id, spans = max(mine)
+        label_id, sentence_id, spans, implicit = max(mine)
         store.retract_label(self.conn, label_id, self.annotator)
         if label_id in self._session_label_ids:
             self.labeled_this_session -= 1
@@ -413,6 +424,7 @@ class Session:
         self._done.discard(sentence_id)
         self._front.appendleft(sentence_id)
         self._previous[sentence_id] = tuple(spans)
+        self._previous_implicit[sentence_id] = tuple(implicit)
         return sentence_id
 
     def defer(self, sentence_id: int) -> None:

@@ -39,6 +39,8 @@ class PoolItem(NamedTuple):
         n_tokens: number of tokens.
         link_dists: per predicted span, the linker's probability of each concept.
         stance_dists: per predicted span, the probability of each stance.
+        concept_probs: the sentence-level model's probability of each concept being
+            stated in the sentence, with or without a span (empty without that model).
     """
 
     marginals: Sequence[Mapping[str, float]] = ()
@@ -46,6 +48,7 @@ class PoolItem(NamedTuple):
     n_tokens: int = 0
     link_dists: Sequence[Mapping[str, float]] = ()
     stance_dists: Sequence[Mapping[str, float]] = ()
+    concept_probs: Sequence[float] = ()
 
 
 ScoreFn = Callable[[Sequence[PoolItem]], np.ndarray]
@@ -127,6 +130,29 @@ def combined(items: Sequence[PoolItem], *, weight: float = 0.5) -> np.ndarray:
     return (1.0 - weight) * scaled + weight * link_stance(items)
 
 
+def sentence_uncertainty(items: Sequence[PoolItem]) -> np.ndarray:
+    """Sentence-level uncertainty: the largest binary entropy of a concept, in bits.
+
+    ``max_c H(p_c)`` over the sentence-level model's concept probabilities, 1 where some
+    concept is a coin flip, 0 where the model is sure of every one (or has none).
+    """
+    out = np.zeros(len(items))
+    for k, item in enumerate(items):
+        if item.concept_probs:
+            p = np.clip(np.asarray(item.concept_probs, dtype=float), _EPS, 1.0 - _EPS)
+            out[k] = float((-(p * np.log2(p)) - (1.0 - p) * np.log2(1.0 - p)).max())
+    return out
+
+
+def norm_logprob_and_sentence(items: Sequence[PoolItem]) -> np.ndarray:
+    """The tagger's :func:`norm_logprob` plus the :func:`sentence_uncertainty`.
+
+    With no sentence-level model the sum is :func:`norm_logprob` alone; with no spans to
+    tag (every path certain), the sentence-level part decides.
+    """
+    return norm_logprob(items) + sentence_uncertainty(items)
+
+
 def random_score(items: Sequence[PoolItem]) -> np.ndarray:
     """Score every sentence the same; :func:`select` then breaks the tie at random."""
     return np.zeros(len(items))
@@ -153,6 +179,7 @@ STRATEGIES: dict[str, Strategy] = {
     "total_entropy": Strategy(total_entropy),
     "mean_entropy": Strategy(mean_entropy),
     "link_stance": Strategy(link_stance),
+    "sentence": Strategy(sentence_uncertainty, density_beta=1.0, diversity=True),
     "combined": Strategy(combined, density_beta=1.0, diversity=True),
     "random": Strategy(random_score),
     # Chosen with `traits simulate` (tagger alone, batch 5, seed 0; MAMS train as pool with
@@ -162,8 +189,10 @@ STRATEGIES: dict[str, Strategy] = {
     # scorings and settings (entropy, least confidence, lowest token probability, committees,
     # word-frequency weighting, other vectors, windows and retraining intervals) did no
     # better at 100 labels on MAMS and most did worse. DEVELOPERS.md has the commands.
-    # Change this one line when a new simulation says otherwise.
-    "default": Strategy(norm_logprob, density_beta=1.0, diversity=True),
+    # Change this one line when a new simulation says otherwise. The sentence-level part
+    # adds nothing when no sentence-level model is trained (the tagger-alone simulations
+    # above); with one, it is what ranks sentences that state traits without spans.
+    "default": Strategy(norm_logprob_and_sentence, density_beta=1.0, diversity=True),
 }
 """The strategies an annotator can choose with ``--strategy``."""
 

@@ -91,6 +91,7 @@ class SentencePrediction(NamedTuple):
     mentions: list[Mention]
     tagged: TagResult
     implicit: list[Mention] = []  # noqa: RUF012 -- NamedTuple default; never mutated
+    concept_probs: dict[str, float] = {}  # noqa: RUF012 -- the sentence model's, every concept
 
 
 def library_versions() -> dict[str, str]:
@@ -327,6 +328,11 @@ class TraitModels(BaseEstimator):
         ):
             linked = {m.concept for m in prediction.mentions if m.concept}
             found += [(sentence, c, p) for c, p in detected if c not in linked]
+        classes = self.sentence_.classes_
+        predictions = [
+            p._replace(concept_probs={c: float(x) for c, x in zip(classes, row, strict=True)})
+            for p, row in zip(predictions, proba, strict=True)
+        ]
         if not found:
             return predictions
         self._weights = getattr(self, "_weights", {})

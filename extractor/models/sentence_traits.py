@@ -230,7 +230,9 @@ class SentenceTraits(BaseEstimator):
             if y.min() == y.max():  # every sentence (or none) states it: a constant
                 self.models_[concept] = float(y[0])
                 continue
-            model = LogisticRegression(C=self.C, class_weight="balanced", max_iter=2000)
+            model = LogisticRegression(
+                C=self.C, class_weight="balanced", max_iter=2000, solver="liblinear"
+            )
             self.models_[concept] = model.fit(X, y)
         return self
 

@@ -22,13 +22,14 @@ import argparse
 import json
 import sys
 from pathlib import Path
+from typing import Any
 
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
 from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.ingest.labels import read_labels, to_gold  # noqa: E402
-from extractor.models.bundle import TraitModels  # noqa: E402
+from extractor.models.bundle import SentencePrediction, TraitModels  # noqa: E402
 from extractor.models.metrics import respondent_scores  # noqa: E402
 from extractor.models.sentence_metrics import sentence_scores, stated  # noqa: E402
 from extractor.models.validation import group_folds  # noqa: E402
@@ -50,7 +51,7 @@ def main() -> None:
     corpus = [s for s, _ in gold]
     clusters = learn_clusters([(s.text, s.lang) for s in corpus], seed=args.seed)
     groups = [s.respondent or str(s.id) for s in corpus]
-    predicted = {}
+    predicted: dict[int, SentencePrediction] = {}
     for fold in group_folds(groups, args.folds, args.seed):
         held = set(fold)
         train = [g for i, g in enumerate(gold) if i not in held]
@@ -71,7 +72,7 @@ def main() -> None:
         [stated(spans[i], implicit.get(gold[i][0].id, ())) for i in order],
         [stated(added[i]) for i in order],
     )
-    figures = {
+    figures: dict[str, Any] = {
         "triple_f1_gold_both": {
             "spans_only": respondent_scores(sentences, both, only),
             "with_implicit_detection": respondent_scores(sentences, both, added),

@@ -1,0 +1,95 @@
+"""Traits without a quote span on the labeling screen: the ``+`` and ``-`` commands, their line.
+
+``+ letters [key]`` adds a trait the sentence states without words to mark (an implicit
+trait): the concept by a few letters of any of its names, the stance by one key;
+``- N`` drops implicit trait N. The screen lists them under the sentence, the model's
+suggestions among them, beside the span suggestions.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Protocol
+
+from rich.text import Text
+
+from extractor.cli.screen_draw import concept_label
+from extractor.loop.marking import ConceptEntry, rank_concepts
+from extractor.nlp.fold import fold
+from extractor.types import Implicit
+
+STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
+"""One key per stance (the same keys as for spans)."""
+
+
+class _Screen(Protocol):
+    implicit: list[Implicit]
+    entries: list[ConceptEntry]
+
+    def say(self, message: str) -> None: ...
+    def choose_stance(self, current: str | None) -> str: ...
+    def choose_concept(
+        self, words: str, current: str | None, lang: str, query: str | None = None
+    ) -> str | None: ...
+
+
+def command(screen: _Screen, lang: str, line: str) -> bool:
+    """Apply a ``+`` or ``- N`` line to the screen's implicit traits; False for other lines."""
+    rest = line[1:].strip()
+    if line.startswith("-") and (rest.isdigit() or not rest):
+        screen.say(drop(screen.implicit, rest) or "")
+        return True
+    if not line.startswith("+"):
+        return False
+    query, stance = split_command(rest)
+    concept = clear_concept(query, screen.entries, lang) or screen.choose_concept(
+        "", None, lang, query=query
+    )
+    if concept is None:
+        screen.say("A trait without a quote span needs a concept; nothing was added.")
+        return True
+    stance = stance or screen.choose_stance(None)
+    screen.implicit[:] = [t for t in screen.implicit if t.concept != concept]
+    screen.implicit.append(Implicit(concept, stance))
+    return True
+
+
+def split_command(rest: str) -> tuple[str, str | None]:
+    """Return the letters and the stance of ``+ letters [key]`` (None: not given)."""
+    words = rest.split()
+    if len(words) > 1 and words[-1].lower() in STANCE_KEYS:
+        return " ".join(words[:-1]), STANCE_KEYS[words[-1].lower()]
+    return " ".join(words), None
+
+
+def clear_concept(query: str, entries: Sequence[ConceptEntry], lang: str) -> str | None:
+    """Return the one concept the letters name (one match, or one exact name), else None."""
+    if not query:
+        return None
+    matches = rank_concepts(query, entries, lang=lang)
+    exact = [m for m in matches if fold(query) in (fold(m.matched), fold(m.concept))]
+    if len(matches) == 1 or len({m.concept for m in exact}) == 1:
+        return (exact or matches)[0].concept
+    return None
+
+
+def drop(traits: list[Implicit], arg: str) -> str | None:
+    """Drop trait number ``arg`` (or the only one); return what to tell the annotator if not."""
+    if arg == "" and len(traits) == 1:
+        arg = "1"
+    if not arg.isdigit() or not 1 <= int(arg) <= len(traits):
+        return f"Give the number of a trait without quote span: 1 to {len(traits)}."
+    del traits[int(arg) - 1]
+    return None
+
+
+def implicit_text(entries: Sequence[ConceptEntry], traits: Sequence[Implicit], lang: str) -> Text:
+    """Return the line listing the traits without quote span, numbered for ``- N``."""
+    line = Text("Without quote span: ", style="bold")
+    line.append(
+        " · ".join(
+            f"[{n}] {concept_label(entries, t.concept, lang)} {t.stance or 'no stance'}"
+            for n, t in enumerate(traits, 1)
+        )
+    )
+    return line
