@@ -13,14 +13,14 @@ tests (an injectable input stream and rich ``Console``). What the annotator can 
   there is one span). Arguments may follow on the same line (``x 1 3``, ``t 1 d``,
   ``c 2 yield``); without them the screen asks step by step. Span numbers stay the
   same while a sentence is shown: dropping span 1 leaves span 2 as 2.
-- Words that overlap a span replace it (the screen says so).
+- Words that overlap a span replace it (the screen says so). ``+ letters key`` adds, ``- N``
+  drops a trait without quote span (:mod:`extractor.cli.screen_implicit`).
 - ``n`` no trait here, ``s`` skip, ``u`` undo the last answer, ``q`` save and quit,
   ``?`` help and the model's figures behind the plain words. End of input behaves
   like ``q``; Ctrl-C at any prompt also quits, and nothing is lost because every
   answer is committed the moment it is given.
 
-The screen holds no scores and writes no SQL: it draws what :class:`Session` returns
-(the drawing is in :mod:`extractor.cli.screen_draw`).
+The screen holds no scores and writes no SQL: it draws what :class:`Session` returns.
 """
 
 from __future__ import annotations
@@ -34,6 +34,7 @@ from rich.console import Console
 from rich.markup import escape
 from rich.text import Text
 
+from extractor.cli import screen_implicit
 from extractor.cli.screen_draw import (
     HELP_TEXT,
     MAX_LINE,
@@ -62,7 +63,7 @@ from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
 from extractor.nlp.fold import fold
-from extractor.types import STANCES, Span
+from extractor.types import STANCES, Implicit, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
 """One key per stance."""
@@ -108,6 +109,7 @@ class LabelScreen:
         self._quality = quality
         self._quality_cache: tuple[int, Figures | None] | None = None
         self._message = ""
+        self.implicit: list[Implicit] = []  # the draft's traits without a quote span
 
     # ----------------------------------------------------------------- prompts
 
@@ -146,6 +148,7 @@ class LabelScreen:
             figures=self._quality_figures(),
             message=self._message,
         )
+        screen_implicit.show(self.console, self.entries, self.implicit, item.sentence.lang)
         self._message = ""
 
     # ----------------------------------------------------------------- choosing
@@ -342,10 +345,12 @@ class LabelScreen:
         command, _, arg = line.partition(" ")
         arg = arg.strip()
         if line == "":
-            self.session.submit(sid, kept(draft))
+            self.session.submit(sid, kept(draft), self.implicit)
             return True
         if line == "q":
             raise _Quit
+        if screen_implicit.command(self, item.sentence.lang, line):
+            return False
         if line == "n":
             self.session.submit(sid, [])
             return True
@@ -388,7 +393,7 @@ class LabelScreen:
             if item is None:
                 self.console.print("Nothing left to ask: every sentence is labeled or skipped.")
                 return
-            draft: Draft = list(item.suggestion)
+            draft: Draft = screen_implicit.start(self, item)
             done = False
             while not done:
                 self.draw(item, draft)

@@ -11,12 +11,14 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Protocol
 
+from rich.console import Console
 from rich.text import Text
 
 from extractor.cli.screen_draw import concept_label
+from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry, rank_concepts
 from extractor.nlp.fold import fold
-from extractor.types import Implicit
+from extractor.types import Implicit, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
 """One key per stance (the same keys as for spans)."""
@@ -31,6 +33,20 @@ class _Screen(Protocol):
     def choose_concept(
         self, words: str, current: str | None, lang: str, query: str | None = None
     ) -> str | None: ...
+
+
+def start(screen: _Screen, item: Item) -> list[Span | None]:
+    """Begin a sentence: the implicit suggestions become the screen's; return the span draft."""
+    screen.implicit = list(item.implicit_suggestion)
+    return list(item.suggestion)
+
+
+def show(
+    console: Console, entries: Sequence[ConceptEntry], traits: Sequence[Implicit], lang: str
+) -> None:
+    """Print the line of traits without quote span, if there are any."""
+    if traits:
+        console.print(implicit_text(entries, traits, lang))
 
 
 def command(screen: _Screen, lang: str, line: str) -> bool:

@@ -42,6 +42,14 @@ META_FILE = "meta.json"
 ALIASES_FILE = "aliases.json"
 STANCE_PRIOR = 50
 """Labeled stances at which the learned stance model and the cue rules weigh the same."""
+IMPLICIT_THRESHOLD = 0.9
+"""Probability at which the sentence-level model adds a trait no mention is linked to.
+
+Measured on the demo (tests/bench/implicit_demo.py, 5 folds by respondent): respondent-
+triple F1 0.661 from mentions alone; adding implicit detections at 0.4 / 0.6 / 0.8 / 0.9
+gave 0.611 / 0.641 / 0.657 / 0.659 (more triples found, more wrong ones). Only the most
+certain are added; the labeling screen shows them as suggestions to confirm.
+"""
 LIBRARIES = ("trait-extractor", "python-crfsuite", "scikit-learn", "spacy", "skops", "numpy")
 
 
@@ -327,7 +335,9 @@ class TraitModels(BaseEstimator):
             sentences, predictions, self.sentence_.detected(proba), strict=True
         ):
             linked = {m.concept for m in prediction.mentions if m.concept}
-            found += [(sentence, c, p) for c, p in detected if c not in linked]
+            found += [
+                (sentence, c, p) for c, p in detected if c not in linked and p >= IMPLICIT_THRESHOLD
+            ]
         classes = self.sentence_.classes_
         predictions = [
             p._replace(concept_probs={c: float(x) for c, x in zip(classes, row, strict=True)})

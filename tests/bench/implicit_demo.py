@@ -85,6 +85,22 @@ def main() -> None:
         "sentence_stance_accuracy": whole.stance_accuracy,
         "implicit_predicted": sum(len(predicted[i].implicit) for i in order),
         "implicit_gold": sum(len(v) for v in implicit.values()),
+        # The same predictions, keeping only implicit traits at or above each probability:
+        # how the threshold of adding a trait without a span trades precision for recall.
+        "triple_f1_gold_both_by_threshold": {
+            str(t): respondent_scores(
+                sentences,
+                both,
+                [
+                    [
+                        *predicted[i].mentions,
+                        *(m for m in predicted[i].implicit if m.confidence >= t),
+                    ]
+                    for i in order
+                ],
+            )
+            for t in (0.4, 0.5, 0.6, 0.7, 0.8, 0.9)
+        },
     }
     print(json.dumps(figures, default=lambda o: getattr(o, "__dict__", str(o)), indent=1))
 

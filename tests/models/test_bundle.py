@@ -8,6 +8,7 @@ import pytest
 from sklearn.base import clone
 
 from extractor.errors import ModelError, NotFittedError
+from extractor.models import bundle
 from extractor.models.bundle import Mention, SentencePrediction, TraitModels
 from extractor.types import STANCES, Implicit, Sentence, Span
 
@@ -159,8 +160,13 @@ def with_implicit() -> TraitModels:
     )
 
 
-def test_implicit_labels_give_implicit_predictions(with_implicit: TraitModels) -> None:
+def test_implicit_labels_give_implicit_predictions(
+    with_implicit: TraitModels, monkeypatch: pytest.MonkeyPatch
+) -> None:
     unseen, unrelated = PLATES[5], CORPUS[5]
+    monkeypatch.setattr(bundle, "IMPLICIT_THRESHOLD", 1.01)
+    assert with_implicit.predict([unseen])[0].implicit == []  # below the bar: none added
+    monkeypatch.setattr(bundle, "IMPLICIT_THRESHOLD", 0.4)
     found, none = with_implicit.predict([unseen, unrelated])
     assert [(m.concept, m.implicit, m.start, m.end) for m in found.implicit] == [
         ("TX:03", True, 0, len(unseen.text))
@@ -170,7 +176,10 @@ def test_implicit_labels_give_implicit_predictions(with_implicit: TraitModels) -
     assert with_implicit.counts_.implicit_traits == 3
 
 
-def test_implicit_model_survives_save_and_load(with_implicit: TraitModels, tmp_path: Path) -> None:
+def test_implicit_model_survives_save_and_load(
+    with_implicit: TraitModels, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setattr(bundle, "IMPLICIT_THRESHOLD", 0.4)
     with_implicit.save(tmp_path / "v")
     again = TraitModels.load(tmp_path / "v")
     (before,) = with_implicit.predict([PLATES[5]])
