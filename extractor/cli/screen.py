@@ -13,8 +13,7 @@ tests (an injectable input stream and rich ``Console``). What the annotator can 
   there is one span). Arguments may follow on the same line (``x 1 3``, ``t 1 d``,
   ``c 2 yield``); without them the screen asks step by step. Span numbers stay the
   same while a sentence is shown: dropping span 1 leaves span 2 as 2.
-- Words that overlap a span replace it (the screen says so). ``+ letters key`` adds, ``- N``
-  drops a trait without quote span (:mod:`extractor.cli.screen_implicit`).
+- Words that overlap a span replace it (the screen says so). ``+``/``-``: screen_implicit.
 - ``n`` no trait here, ``s`` skip, ``u`` undo the last answer, ``q`` save and quit,
   ``?`` help and the model's figures behind the plain words. End of input behaves
   like ``q``; Ctrl-C at any prompt also quits, and nothing is lost because every
@@ -127,8 +126,6 @@ class LabelScreen:
         """Show a one-line message under the sentence on the next redraw."""
         self._message = message
 
-    # ----------------------------------------------------------------- drawing
-
     def _quality_figures(self) -> Figures | None:
         if self._quality is None:
             return None
@@ -150,8 +147,6 @@ class LabelScreen:
         )
         screen_implicit.show(self.console, self.entries, self.implicit, item.sentence.lang)
         self._message = ""
-
-    # ----------------------------------------------------------------- choosing
 
     def choose_occurrence(self, text: str, found: Sequence[tuple[int, int]]) -> tuple[int, int]:
         """Ask which occurrence of the typed words is meant (when there are several)."""
