@@ -24,6 +24,7 @@ from extractor.ingest.intake import import_concepts
 from extractor.jobs.curate import (
     MIN_COUNT_PERCENT,
     ConceptListing,
+    TermSuggestions,
     accept_alias,
     export_concepts,
     list_concepts,
@@ -167,7 +168,7 @@ def _concept_line(listing: ConceptListing, concept: store.StoredConcept) -> str:
 
 
 def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
-    """List frequent unlinked terms with examples and their nearest concepts."""
+    """List frequent unlinked terms, and candidate synonyms in the workspace's languages."""
     with open_workspace(args) as ws:
         found = suggest_terms(ws, min_count=args.min_count)
     if not found.terms:
@@ -175,15 +176,38 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
             f"No unlinked term occurs often enough (at least {found.min_count} times); "
             "nothing to suggest."
         )
-        return 0
-    table = Table(title="Unlinked terms (accept one with `traits concepts accept TERM ID`)")
-    for column in ("term", "count", "nearest concepts (linker probability)", "example"):
-        table.add_column(column, overflow="fold")
-    for item in found.terms[: args.limit]:
-        examples = item.examples or ("",)
-        table.add_row(item.term, str(item.count), _nearest(item, found.names), str(examples[0]))
-    console.print(table)
+    else:
+        table = Table(title="Unlinked terms (accept one with `traits concepts accept TERM ID`)")
+        for column in ("term", "count", "nearest concepts (linker probability)", "example"):
+            table.add_column(column, overflow="fold")
+        for item in found.terms[: args.limit]:
+            examples = item.examples or ("",)
+            table.add_row(item.term, str(item.count), _nearest(item, found.names), str(examples[0]))
+        console.print(table)
+    if found.synonyms:
+        console.print(_synonym_table(found, args.limit))
     return 0
+
+
+def _synonym_table(found: TermSuggestions, limit: int) -> Table:
+    """Candidate synonyms: words of the answers near a concept in the pretrained space."""
+    table = Table(
+        title="Candidate synonyms from the pretrained multilingual space, not in the list "
+        "(accept one with `traits concepts accept WORD ID --lang LANG`)"
+    )
+    for column in ("word", "lang", "concept", "nearest alias", "cosine", "count"):
+        table.add_column(column, overflow="fold")
+    for cand in found.synonyms[:limit]:
+        name = found.names.get(cand.concept_id, "")
+        table.add_row(
+            cand.text,
+            cand.lang,
+            f"{name} ({cand.concept_id})",
+            cand.nearest_alias,
+            f"{cand.similarity:.2f}",
+            str(cand.occurrences),
+        )
+    return table
 
 
 def _nearest(item: TermSuggestion, names: Mapping[str, str]) -> str:

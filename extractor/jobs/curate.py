@@ -10,6 +10,8 @@ from pathlib import Path
 from extractor.jobs.train import load_version
 from extractor.models.terms import TermSuggestion
 from extractor.models.terms import suggest_terms as rank_terms
+from extractor.nlp.pretrained import load_space
+from extractor.nlp.synonyms import Candidate, propose
 from extractor.report.formats import spreadsheet_text
 from extractor.report.results import mention_frame
 from extractor.types import Span
@@ -51,6 +53,7 @@ class TermSuggestions:
     terms: Sequence[TermSuggestion]
     names: Mapping[str, str]
     min_count: int = 1
+    synonyms: Sequence[Candidate] = ()
 
 
 def default_min_count(respondents: int) -> int:
@@ -117,7 +120,20 @@ def suggest_terms(ws: Workspace, *, min_count: int | None = None) -> TermSuggest
         c.id: c.labels.get(default) or next(iter(c.labels.values()), "")
         for c in store.concepts(ws.conn)
     }
-    return TermSuggestions(terms, names, min_count)
+    return TermSuggestions(terms, names, min_count, candidate_synonyms(ws))
+
+
+def candidate_synonyms(ws: Workspace) -> list[Candidate]:
+    """Return words of the answers close to a concept in the pretrained space.
+
+    Empty without the pretrained space's package or without a concept list.
+    """
+    space = load_space()
+    aliases = [(a.concept_id, a.text, a.lang) for a in store.aliases(ws.conn, "trait")]
+    if space is None or not aliases:
+        return []
+    corpus = [(s.text, s.lang) for s in store.sentences(ws.conn)]
+    return propose(space, aliases, corpus)
 
 
 def accept_alias(

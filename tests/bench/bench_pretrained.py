@@ -118,7 +118,7 @@ def retrieval(space: pretrained.Space) -> dict[str, float]:
 def mams_pairs(split: str) -> list[tuple[Sentence, list[Span]]]:
     data = load_mams(split) or []
     return [
-        (Sentence(i, d["text"], d["lang"]), [Span(s["start"], s["end"]) for s in d["spans"]])
+        (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
         for i, d in enumerate(data)
     ]
 
@@ -158,8 +158,8 @@ def demo(name: str) -> dict[str, float]:
     pool_people = set(people[: int(len(people) * 0.8)])
     pairs = [
         (
-            Sentence(i, r["text"], r["lang"]),
-            [Span(s["start"], s["end"], concept=s.get("concept")) for s in r["spans"]],
+            Sentence(i, r["sentence"], r["lang"]),
+            [Span(s["start"], s["end"], concept=s.get("concept")) for s in r["mentions"]],
         )
         for i, r in enumerate(records)
     ]

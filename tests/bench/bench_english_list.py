@@ -1,0 +1,68 @@
+"""How far an English-only concept list reaches into French and Spanish answers, 0 labels.
+
+Not part of the test suite. Run from the repository root:
+
+    .venv/bin/python tests/bench/bench_english_list.py [--spaces none,use-m3]
+
+The demo's models are trained without a single label (dictionary silver only), once with
+the full concept list and once with its English rows only, with and without the
+pretrained space; span+concept F1 is scored on the demo's French and Spanish gold
+sentences. The figure of interest is the English-only score as a share of the full one.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+sys.path.insert(0, str(ROOT))
+
+from extractor.ingest.concepts import load_concept_list  # noqa: E402
+from extractor.models.bundle import TraitModels  # noqa: E402
+from extractor.models.metrics import score  # noqa: E402
+from extractor.nlp.clusters import learn_clusters  # noqa: E402
+from extractor.types import Sentence, Span  # noqa: E402
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--spaces", default="none,use-m3")
+    args = parser.parse_args()
+    records = [
+        json.loads(line)
+        for line in (ROOT / "sample_interviews" / "gold.jsonl").read_text("utf-8").splitlines()
+    ]
+    gold = []
+    for i, r in enumerate(records):
+        spans = [Span(s["start"], s["end"], concept=s.get("concept")) for s in r["mentions"]]
+        gold.append((Sentence(i, r["sentence"], r["lang"], respondent=r["respondent"]), spans))
+    corpus = [s for s, _ in gold]
+    target = [(s, spans) for s, spans in gold if s.lang.split("-")[0] in ("fr", "es")]
+    concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
+    full = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
+    english = [a for a in full if a[2].split("-")[0] == "en"]
+    for space in args.spaces.split(","):
+        clusters = learn_clusters([(s.text, s.lang) for s in corpus], space=space)
+        figures = {}
+        for name, aliases in (("full", full), ("english", english)):
+            models = TraitModels().fit([], corpus, aliases, clusters=clusters)
+            pred = models.predict([s for s, _ in target])
+            report = score(target, [p.mentions for p in pred])
+            sc = report.span_concept
+            figures[name] = {
+                "span_f1": round(report.span.f1, 4),
+                "concept_f1": sc and round(sc.f1, 4),
+            }
+        share = None
+        if figures["full"]["concept_f1"]:
+            share = round(
+                (figures["english"]["concept_f1"] or 0) / figures["full"]["concept_f1"], 3
+            )
+        print(json.dumps({"space": space, "sentences": len(target), **figures, "share": share}))
+
+
+if __name__ == "__main__":
+    main()
