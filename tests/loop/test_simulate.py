@@ -22,6 +22,9 @@ KEYS = {
     "span_f1",
     "span_concept_f1",
     "stance_accuracy",
+    "sentence_concept_f1",
+    "sentence_stance_accuracy",
+    "respondent_f1_with_implicit",
     "respondent_f1",
     "seconds",
 }

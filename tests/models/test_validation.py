@@ -97,8 +97,10 @@ def test_evaluation_record_keeps_the_stored_json_shape() -> None:
     assert list(record) == [
         "n_sentences", "n_gold_spans", "span", "span_concept", "stance", "respondent",
         "by_concept", "by_language", "summary",
-        "span_f1", "span_concept_f1", "stance_accuracy", "respondent_f1",
+        "span_f1", "span_concept_f1", "stance_accuracy", "respondent_f1", "sentence",
     ]  # fmt: skip
+    # Sentence level (mentions and implicit traits): the one gold (sentence, concept) is found.
+    assert record["sentence"]["concept"]["tp"] == 1 and record["sentence"]["n_sentences"] == 2
     # Hand count: 2 predicted spans, 1 right, 1 gold.
     assert record["span"] == pytest.approx(
         {"precision": 0.5, "recall": 1.0, "f1": 2 / 3, "tp": 1, "fp": 1, "fn": 0}
