@@ -29,6 +29,7 @@ sys.path.insert(0, str(ROOT))
 
 from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.ingest.labels import read_labels, to_gold  # noqa: E402
+from extractor.models import bundle  # noqa: E402
 from extractor.models.bundle import SentencePrediction, TraitModels  # noqa: E402
 from extractor.models.metrics import respondent_scores  # noqa: E402
 from extractor.models.sentence_metrics import sentence_scores, stated  # noqa: E402
@@ -43,6 +44,9 @@ def main() -> None:
     parser.add_argument("--folds", type=int, default=5)
     parser.add_argument("--seed", type=int, default=0)
     args = parser.parse_args()
+    # Predict implicit traits down to 0.4 (the sentence model's own threshold), so that the
+    # sweep below can show every bar; the bundle itself adds them only at IMPLICIT_THRESHOLD.
+    bundle.IMPLICIT_THRESHOLD = 0.4
     records = read_labels(ROOT / "sample_interviews" / "gold.jsonl", default_lang="en")
     gold = to_gold(records)
     implicit = {s.id: r.implicit for (s, _), r in zip(gold, records, strict=True) if r.implicit}
