@@ -40,7 +40,7 @@ SILVER_FILTERS = ("all", "matched", "gold-check", "self-train")
 
 STRATEGIES = (
     "combined", "default", "least_confidence", "link_stance", "mean_entropy", "norm_logprob",
-    "random", "total_entropy",
+    "norm_logprob_sentence", "random", "sentence", "total_entropy",
 )  # fmt: skip
 """The ``[active] strategy`` choices (the query strategies' names, checked equal)."""
 

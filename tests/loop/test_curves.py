@@ -55,7 +55,7 @@ def test_paired_gain_pairs_repeats() -> None:
 
 
 def test_results_to_dict_is_json_with_the_record_fields() -> None:
-    record = RunRecord("default", 10, 0, 10, 120, 0.5, None, None, None, 1.25)
+    record = RunRecord("default", 10, 0, 10, 120, 0.5, seconds=1.25)
     data = json.loads(json.dumps(_results([record]).to_dict()))
     assert data["settings"] is None
     assert data["runs"] == [
@@ -69,6 +69,9 @@ def test_results_to_dict_is_json_with_the_record_fields() -> None:
             "span_concept_f1": None,
             "stance_accuracy": None,
             "respondent_f1": None,
+            "sentence_concept_f1": None,
+            "sentence_stance_accuracy": None,
+            "respondent_f1_with_implicit": None,
             "seconds": 1.25,
         }
     ]
