@@ -7,7 +7,7 @@ checks one object, :func:`record_to_dict` makes one.
 from __future__ import annotations
 
 import json
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Iterator, Mapping
 from typing import Any
 
 from extractor.ingest.labels._record import LabelRecord, align_spans, checked_lang, fail
@@ -157,6 +157,22 @@ def record_to_dict(record: LabelRecord) -> dict[str, Any]:
     return out
 
 
+def json_lines(lines: Iterable[str], source: str) -> Iterator[tuple[int, Any]]:
+    """Yield ``(line number, parsed object)`` for each non-blank line.
+
+    Raises:
+        InputError: A line is not JSON (naming the file, line and column).
+    """
+    for number, raw in enumerate(lines, start=1):
+        if not raw.strip():
+            continue
+        try:
+            yield number, json.loads(raw)
+        except json.JSONDecodeError as exc:
+            message = f"not valid JSON ({exc.msg} at column {exc.colno})"
+            raise fail(source, number, message) from exc
+
+
 def parse_jsonl(lines: Iterable[str], *, source: str, default_lang: str) -> list[LabelRecord]:
     """Return the records of label-format lines; blank lines are skipped.
 
@@ -164,14 +180,7 @@ def parse_jsonl(lines: Iterable[str], *, source: str, default_lang: str) -> list
         InputError: A line is not JSON or breaks the format (first such line).
     """
     out = []
-    for number, raw in enumerate(lines, start=1):
-        if not raw.strip():
-            continue
-        try:
-            obj = json.loads(raw)
-        except json.JSONDecodeError as exc:
-            message = f"not valid JSON ({exc.msg} at column {exc.colno})"
-            raise fail(source, number, message) from exc
+    for number, obj in json_lines(lines, source):
         out.append(record_from_dict(obj, source=source, line=number, default_lang=default_lang))
     return out
 

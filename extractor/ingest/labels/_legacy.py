@@ -6,7 +6,7 @@ import json
 from collections.abc import Iterable, Mapping
 from typing import Any
 
-from extractor.ingest.labels._jsonl import KEYS, record_from_dict
+from extractor.ingest.labels._jsonl import KEYS, json_lines, record_from_dict
 from extractor.ingest.labels._record import fail
 
 RENAMED = {"text": "sentence", "spans": "mentions"}
@@ -37,13 +37,7 @@ def convert_legacy_lines(
         InputError: A line is not JSON, or breaks the format once converted (first such line).
     """
     out = []
-    for number, raw in enumerate(lines, start=1):
-        if not raw.strip():
-            continue
-        try:
-            obj = json.loads(raw)
-        except json.JSONDecodeError as exc:
-            raise fail(source, number, f"not valid JSON ({exc.msg} at column {exc.colno})") from exc
+    for number, obj in json_lines(lines, source):
         new = _converted(obj, source, number)
         record_from_dict(new, source=source, line=number, default_lang=default_lang)
         out.append(json.dumps(new, ensure_ascii=False))

@@ -44,22 +44,22 @@ from extractor.workspace.store._concepts import (
     replace_concept_list,
 )
 from extractor.workspace.store._labels import (
+    Disagreement,
     StoredLabel,
     add_label,
     add_skip,
     add_to_sample,
     current_labels,
+    disagreements,
     label_history,
+    labels_by_annotator,
     retract_label,
     sample_ids,
     skipped,
 )
 from extractor.workspace.store._leases import (
-    Disagreement,
     claim_sentence,
-    disagreements,
     held_elsewhere,
-    labels_by_annotator,
     release_sentences,
 )
 from extractor.workspace.store._models import (

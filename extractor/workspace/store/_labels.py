@@ -99,25 +99,58 @@ class StoredLabel(NamedTuple):
         return not self.spans and not self.implicit
 
 
+_LABELS_IN_FORCE = (
+    "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin, l.implicit "
+    "FROM labels l "
+    "WHERE l.action = 'label' AND l.id NOT IN "
+    "(SELECT retracts FROM labels WHERE action = 'retract' AND retracts IS NOT NULL) "
+    "ORDER BY l.id"
+)
+"""Every label not retracted, oldest first (so a later one overrides an earlier in a dict)."""
+
+
+def _stored_label(row: sqlite3.Row) -> StoredLabel:
+    return StoredLabel(
+        label_id=row["id"],
+        spans=_spans_from_json(row["spans"]),
+        annotator=row["annotator"],
+        created_at=row["created_at"],
+        origin=row["origin"],
+        implicit=_implicit_from_json(row["implicit"]),
+    )
+
+
 def current_labels(conn: sqlite3.Connection) -> dict[int, StoredLabel]:
     """Return the label in force per sentence ID: the newest one not retracted."""
-    rows = conn.execute(
-        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin, l.implicit "
-        "FROM labels l "
-        "WHERE l.action = 'label' AND l.id NOT IN "
-        "(SELECT retracts FROM labels WHERE action = 'retract') ORDER BY l.id"
-    ).fetchall()
+    return {row["sentence_id"]: _stored_label(row) for row in conn.execute(_LABELS_IN_FORCE)}
+
+
+def labels_by_annotator(conn: sqlite3.Connection) -> dict[tuple[int, str], StoredLabel]:
+    """Return the label in force per ``(sentence ID, annotator)``: each one's newest."""
     return {
-        row["sentence_id"]: StoredLabel(
-            label_id=row["id"],
-            spans=_spans_from_json(row["spans"]),
-            annotator=row["annotator"],
-            created_at=row["created_at"],
-            origin=row["origin"],
-            implicit=_implicit_from_json(row["implicit"]),
-        )
-        for row in rows
+        (row["sentence_id"], row["annotator"]): _stored_label(row)
+        for row in conn.execute(_LABELS_IN_FORCE)
     }
+
+
+class Disagreement(NamedTuple):
+    """A sentence two or more annotators labeled differently, with each one's label."""
+
+    sentence_id: int
+    labels: tuple[StoredLabel, ...]
+
+
+def disagreements(conn: sqlite3.Connection) -> list[Disagreement]:
+    """Return the sentences whose annotators' labels in force differ, for adjudication."""
+    per_sentence: dict[int, list[StoredLabel]] = {}
+    for (sentence_id, _), label in labels_by_annotator(conn).items():
+        per_sentence.setdefault(sentence_id, []).append(label)
+    found = []
+    for sentence_id, labels in sorted(per_sentence.items()):
+        answers = {(frozenset(label.spans), frozenset(label.implicit)) for label in labels}
+        if len(labels) > 1 and len(answers) > 1:
+            found.append(Disagreement(sentence_id, tuple(labels)))
+    return found
 
 
 def label_history(conn: sqlite3.Connection, annotator: str | None = None) -> list[dict[str, Any]]:

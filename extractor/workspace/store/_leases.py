@@ -1,19 +1,18 @@
-"""Leases of sentences to live labeling sessions, and labels per annotator.
+"""Leases of sentences to live labeling sessions.
 
 Two annotators may label one workspace at the same time. Each session holds the
 sentence it shows with a lease that runs out (so a killed session frees its sentences),
 and no other session is handed a held or already labeled sentence. When two people do
 label one sentence (a lease ran out, or labels were imported), both labels are kept
-(labels are append-only) and :func:`disagreements` lists the sentence for adjudication.
+(labels are append-only) and ``disagreements`` in the labels module lists the sentence
+for adjudication.
 """
 
 from __future__ import annotations
 
 import sqlite3
 import time
-from typing import NamedTuple
 
-from extractor.workspace.store._labels import StoredLabel, _implicit_from_json, _spans_from_json
 from extractor.workspace.store._schema import transaction
 
 _IN_FORCE = (
@@ -66,45 +65,3 @@ def held_elsewhere(conn: sqlite3.Connection, holder: str) -> set[int]:
         (holder, time.time()),
     )
     return {int(r[0]) for r in rows}
-
-
-def labels_by_annotator(conn: sqlite3.Connection) -> dict[tuple[int, str], StoredLabel]:
-    """Return the label in force per ``(sentence ID, annotator)``: each one's newest."""
-    rows = conn.execute(
-        "SELECT l.id, l.sentence_id, l.annotator, l.created_at, l.spans, l.origin, l.implicit "
-        "FROM labels l "
-        "WHERE l.action = 'label' AND l.id NOT IN "
-        "(SELECT retracts FROM labels WHERE action = 'retract' AND retracts IS NOT NULL) "
-        "ORDER BY l.id"
-    ).fetchall()
-    return {
-        (row["sentence_id"], row["annotator"]): StoredLabel(
-            label_id=row["id"],
-            spans=_spans_from_json(row["spans"]),
-            annotator=row["annotator"],
-            created_at=row["created_at"],
-            origin=row["origin"],
-            implicit=_implicit_from_json(row["implicit"]),
-        )
-        for row in rows
-    }
-
-
-class Disagreement(NamedTuple):
-    """A sentence two or more annotators labeled differently, with each one's label."""
-
-    sentence_id: int
-    labels: tuple[StoredLabel, ...]
-
-
-def disagreements(conn: sqlite3.Connection) -> list[Disagreement]:
-    """Return the sentences whose annotators' labels in force differ, for adjudication."""
-    per_sentence: dict[int, list[StoredLabel]] = {}
-    for (sentence_id, _), label in labels_by_annotator(conn).items():
-        per_sentence.setdefault(sentence_id, []).append(label)
-    found = []
-    for sentence_id, labels in sorted(per_sentence.items()):
-        answers = {(frozenset(label.spans), frozenset(label.implicit)) for label in labels}
-        if len(labels) > 1 and len(answers) > 1:
-            found.append(Disagreement(sentence_id, tuple(labels)))
-    return found
