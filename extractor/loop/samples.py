@@ -17,7 +17,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from extractor.loop.strategies import Strategy, density, sentence_vectors
+from extractor.loop.space_vectors import pool_vectors
+from extractor.loop.strategies import Strategy, strategy_density
 from extractor.types import Sentence
 from extractor.workspace import store
 
@@ -154,10 +155,15 @@ class SessionPool:
         else:
             pool = [i for i in sentences if i not in evaluation_ids]
         vectors, rows_of = None, None
-        if strategy.diversity or strategy.density_beta:
+        if strategy.diversity or strategy.density_beta or strategy.cold_start != "density":
             ids = list(sentences)
             rows_of = {sid: k for k, sid in enumerate(ids)}
-            vectors = sentence_vectors([sentences[i].text for i in ids], seed=settings.seed)
+            vectors = pool_vectors(
+                [sentences[i].text for i in ids],
+                [sentences[i].lang for i in ids],
+                kind=strategy.vectors,
+                seed=settings.seed,
+            )
         found = cls(
             sentences=sentences,
             evaluation_ids=evaluation_ids,
@@ -168,7 +174,8 @@ class SessionPool:
             vector_rows_of=rows_of,
         )
         if strategy.density_beta and len(pool):
-            found = dataclasses.replace(found, density=density(found.vector_rows(pool)))
+            dens = strategy_density(found.vector_rows(pool), strategy)
+            found = dataclasses.replace(found, density=dens)
         return found
 
     @functools.cached_property

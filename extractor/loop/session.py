@@ -37,6 +37,7 @@ from extractor.loop.predictor import (
     tag_pool,
 )
 from extractor.loop.samples import SessionPool, SessionSettings
+from extractor.loop.space_vectors import centroid_picks
 from extractor.loop.stopping import should_stop
 from extractor.loop.strategies import (
     Strategy,
@@ -290,6 +291,12 @@ class Session:
     def _refill(self) -> None:
         exclude = {self.pool.positions[sid] for sid in self._done if sid in self.pool.positions}
         exclude |= self._outside_subpool(exclude)
+        if not self._labeled and self.strategy.cold_start == "centroids":
+            free = [k for k in range(len(self.pool.ids)) if k not in exclude]
+            vectors = self.pool.pool_vectors[free]
+            picks = centroid_picks(vectors, self.batch_size, seed=self.settings.seed)
+            self._batch.extend(int(self.pool.ids[free[k]]) for k in picks)
+            return
         labeled_vectors = None
         if self.strategy.diversity and self._labeled:
             rows_of = self.pool.vector_rows_of or {}

@@ -43,6 +43,7 @@ from extractor.ingest.labels import LabelRecord, record_from_dict, to_gold
 from extractor.loop import strategies as active
 from extractor.loop.curves import RunRecord, SimulationResults, SimulationSettings
 from extractor.loop.predictor import pool_item
+from extractor.loop.space_vectors import centroid_picks, pool_vectors
 from extractor.loop.tagger_only import MODELS, Alias, TaggerOnly, make_models
 from extractor.models.metrics import SUMMARY_KEYS, predicted_mentions, score, summary
 from extractor.models.sentence_metrics import sentence_scores, stated
@@ -71,8 +72,8 @@ class _Shared(NamedTuple):
     clusters: dict[str, Any] | None
     model: str
     model_params: dict[str, Any]
-    vectors: np.ndarray | None
-    density: np.ndarray | None
+    vectors: dict[str, np.ndarray]
+    density: dict[tuple[str, int], np.ndarray]
     tokens: list[int]
     implicit: dict[int, tuple[Implicit, ...]]
 
@@ -176,7 +177,11 @@ def _run(task: _Task) -> list[RunRecord]:
     rng.shuffle(order)
     budgets = sorted(task.budgets)
     top = budgets[-1]
-    labeled = order[: min(task.seed_size, top)]
+    vectors = shared.vectors.get(strategy.vectors)
+    if strategy.cold_start == "centroids" and vectors is not None:
+        labeled = centroid_picks(vectors, min(task.seed_size, top), seed=rng.randrange(1 << 30))
+    else:
+        labeled = order[: min(task.seed_size, top)]
     cache: dict[int, Any] = {}
     records = _seed_records(task, shared, labeled, cache, started)
     if not labeled:
@@ -193,11 +198,11 @@ def _run(task: _Task) -> list[RunRecord]:
         taken = set(labeled)
         picked = active.select(
             scores,
-            shared.vectors[scored] if shared.vectors is not None else None,
+            vectors[scored] if vectors is not None else None,
             min(task.batch_size, next_budget - len(labeled)),
             diversity=strategy.diversity,
             exclude={k for k, i in enumerate(scored) if i in taken},
-            labeled_vectors=shared.vectors[labeled] if shared.vectors is not None else None,
+            labeled_vectors=vectors[labeled] if vectors is not None else None,
             seed=task.seed * 1000 + task.repeat * 100 + round_no,
         )
         round_no += 1
@@ -231,7 +236,8 @@ def _score_pool(
         return unlabeled, np.zeros(len(unlabeled))  # nothing to predict
     preds = model.predict([shared.pool[i][0] for i in unlabeled])
     scores = strategy.score([pool_item(p) for p in preds])
-    dens = shared.density[unlabeled] if shared.density is not None else None
+    whole = shared.density.get((strategy.vectors, strategy.density_k))
+    dens = whole[unlabeled] if whole is not None else None
     return unlabeled, active.weigh_by_density(scores, dens, strategy.density_beta)
 
 
@@ -378,12 +384,18 @@ def _share(
     """Return what every run reads: the data, clusters, vectors, density and token counts."""
     if clusters is None:
         clusters = learn_clusters([(s.text, s.lang) for s, _ in pool_gold + test_gold], seed=seed)
-    vectors = None
-    if any(s.diversity or s.density_beta for s in chosen):
-        vectors = active.sentence_vectors([s.text for s, _ in pool_gold], seed=seed)
-    dens = None
-    if vectors is not None and any(s.density_beta for s in chosen):
-        dens = active.density(vectors)
+    texts, langs = [s.text for s, _ in pool_gold], [s.lang for s, _ in pool_gold]
+    vectors = {
+        kind: pool_vectors(texts, langs, kind=kind, seed=seed)
+        for kind in sorted(
+            {s.vectors for s in chosen if s.diversity or s.density_beta or s.cold_start != "density"}
+        )
+    }
+    dens = {
+        (s.vectors, s.density_k): active.strategy_density(vectors[s.vectors], s)
+        for s in chosen
+        if s.density_beta
+    }
     return _Shared(
         pool_gold,
         test_gold,
@@ -425,4 +437,7 @@ def _describe(strategy: active.Strategy) -> dict[str, Any]:
         "score": getattr(strategy.score, "__name__", repr(strategy.score)),
         "density_beta": strategy.density_beta,
         "diversity": strategy.diversity,
+        "vectors": strategy.vectors,
+        "density_k": strategy.density_k,
+        "cold_start": strategy.cold_start,
     }
