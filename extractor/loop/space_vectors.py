@@ -41,6 +41,9 @@ KINDS = ("pretrained", "ngrams", "both")
 SIF_A = 1e-3
 """The smooth-inverse-frequency constant ``a`` (Arora et al. 2017 use 1e-3 to 1e-4)."""
 
+MIN_CENTRED = 20
+"""The fewest sentences of one language whose own mean vector is removed from them."""
+
 
 def words_of(text: str, lang: str) -> list[str]:
     """Return the lower-cased tokens of ``text`` that hold a letter (no numbers, no punctuation)."""
@@ -71,9 +74,29 @@ def space_sentence_vectors(
         if ids:
             out[row] = (weight[ids, None] * matrix[ids]).sum(axis=0) / weight[ids].sum()
     empty = ~out.any(axis=1)
-    out = pretrained.centred(out, list(langs))
+    out = _centred(out, [lang.split("-")[0] for lang in langs])
     out[empty] = 0.0
     return out
+
+
+def _centred(vectors: np.ndarray, langs: Sequence[str]) -> np.ndarray:
+    """Remove each language's mean vector, then make the rows unit length.
+
+    A language needs :data:`MIN_CENTRED` sentences for its own mean (two sentences less
+    their mean are exact opposites); the rest lose the mean of the whole pool, and a pool
+    smaller than that is left as it is.
+    """
+    vectors = np.asarray(vectors, dtype=np.float32)
+    out = vectors.copy()
+    if len(out) >= MIN_CENTRED:
+        tags = np.asarray(langs)
+        out -= vectors.mean(axis=0)
+        for lang in set(langs):
+            rows = tags == lang
+            if rows.sum() >= MIN_CENTRED:
+                out[rows] = vectors[rows] - vectors[rows].mean(axis=0)
+    norms = np.linalg.norm(out, axis=1, keepdims=True)
+    return out / np.maximum(norms, 1e-12)
 
 
 def pool_vectors(

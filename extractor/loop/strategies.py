@@ -209,6 +209,14 @@ STRATEGIES: dict[str, Strategy] = {
         vectors="pretrained",
         cold_start="centroids",
     ),
+    "norm_logprob_space_knn_centroids": Strategy(
+        norm_logprob,
+        density_beta=1.0,
+        diversity=True,
+        vectors="pretrained",
+        density_k=20,
+        cold_start="centroids",
+    ),
     # Chosen with `traits simulate` (tagger alone, batch 5, seed 0; MAMS train as pool with
     # 500 candidates a round and MAMS test as test; the demo gold split by respondent). Over
     # 10 repeats, span F1 gain over random, paired by repeat: MAMS +0.0 / +0.8 / +2.4 points
