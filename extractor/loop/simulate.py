@@ -385,12 +385,9 @@ def _share(
     if clusters is None:
         clusters = learn_clusters([(s.text, s.lang) for s, _ in pool_gold + test_gold], seed=seed)
     texts, langs = [s.text for s, _ in pool_gold], [s.lang for s, _ in pool_gold]
-    vectors = {
-        kind: pool_vectors(texts, langs, kind=kind, seed=seed)
-        for kind in sorted(
-            {s.vectors for s in chosen if s.diversity or s.density_beta or s.cold_start != "density"}
-        )
-    }
+    needed = {s.vectors for s in chosen if s.diversity or s.density_beta}
+    needed |= {s.vectors for s in chosen if s.cold_start != "density"}
+    vectors = {kind: pool_vectors(texts, langs, kind=kind, seed=seed) for kind in sorted(needed)}
     dens = {
         (s.vectors, s.density_k): active.strategy_density(vectors[s.vectors], s)
         for s in chosen

@@ -88,8 +88,13 @@ def test_ensure_samples_is_seeded(tmp_path: Path) -> None:
 
 @pytest.mark.parametrize(
     ("strategy", "has_vectors", "has_density"),
-    [("least_confidence", False, False), ("default", True, True)],
-    ids=["plain", "diverse-and-dense"],
+    [
+        ("least_confidence", False, False),
+        ("default", True, True),
+        ("norm_logprob_space_knn", True, True),
+        ("norm_logprob_ngrams", True, True),
+    ],
+    ids=["plain", "diverse-and-dense", "pretrained-knn", "ngrams"],
 )
 def test_session_pool_holds_what_its_strategy_needs(
     conn: sqlite3.Connection, strategy: str, has_vectors: bool, has_density: bool

@@ -7,7 +7,9 @@ import time
 from pathlib import Path
 from typing import Any
 
+import numpy as np
 import pytest
+from sklearn.cluster import KMeans
 
 from extractor.errors import InputError
 from extractor.loop.items import Item
@@ -122,6 +124,27 @@ def test_next_at_cold_start_shows_every_sentence_without_suggestion(
         seen.add(item.sentence.id)
         session.submit(item.sentence.id, [])
     assert seen == set(range(1, 21))
+
+
+def test_centroid_cold_start_asks_one_sentence_nearest_each_kmeans_centroid_first(
+    conn: sqlite3.Connection,
+) -> None:
+    session = _session(conn, predictor=None, strategy="norm_logprob_space_centroids")
+    asked = []
+    for _ in range(4):
+        item = _ask(session)
+        asked.append(item.sentence.id)
+        session.submit(item.sentence.id, [])
+    vectors = session.pool.pool_vectors
+    # scikit-learn's KMeans with the session's seed; each asked sentence is the member
+    # nearest its cluster's centroid, one per cluster.
+    km = KMeans(n_clusters=4, random_state=NO_EVAL.seed, n_init=1).fit(vectors)
+    rows = [session.pool.positions[sid] for sid in asked]
+    assert sorted(km.labels_[rows].tolist()) == [0, 1, 2, 3]
+    for row in rows:
+        members = np.flatnonzero(km.labels_ == km.labels_[row])
+        distance = np.linalg.norm(vectors[members] - km.cluster_centers_[km.labels_[row]], axis=1)
+        assert row == members[np.argmin(distance)]
 
 
 def test_submit_stores_spans_concepts_stances_and_annotator(conn: sqlite3.Connection) -> None:
