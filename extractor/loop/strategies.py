@@ -299,7 +299,12 @@ def density(vectors: np.ndarray, *, metric: str = "euclidean", seed: int = 0) ->
     return np.concatenate(parts)
 
 
-def knn_density(vectors: np.ndarray, k: int, *, chunk: int = 512) -> np.ndarray:
+_KNN_LIMIT = 5000
+
+
+def knn_density(
+    vectors: np.ndarray, k: int, *, chunk: int = 512, limit: int = _KNN_LIMIT, seed: int = 0
+) -> np.ndarray:
     """Return each row's mean cosine similarity to its ``k`` nearest other rows, at least 0.
 
     The K-nearest-neighbour density of Zhu, Wang, Yao & Tsou (2008), "Active Learning with
@@ -308,18 +313,30 @@ def knn_density(vectors: np.ndarray, k: int, *, chunk: int = 512) -> np.ndarray:
     even when the pool as a whole is spread out. Rows are compared in chunks, so memory
     grows with ``chunk * len(vectors)``. A negative mean (no near sentence) counts as 0, so
     that it can weigh a score.
+
+    Above ``limit`` rows, the neighbours are looked for among a seeded random sample of
+    ``limit`` rows, and ``k`` shrinks in proportion (at least 1), so that the cost stays
+    linear in the pool's size; at or below it the figure is exact.
     """
     n = len(vectors)
     if n < 2:
         return np.ones(n)
-    k = max(1, min(k, n - 1))
     unit = normalize(np.asarray(vectors, dtype=float))
+    reference = np.arange(n)
+    if n > limit:
+        reference = np.sort(np.random.default_rng(seed).choice(n, size=limit, replace=False))
+        k = round(k * limit / n)
+    m = len(reference)
+    k = max(1, min(k, m - 1))
+    slot = np.full(n, -1)
+    slot[reference] = np.arange(m)
     out = np.zeros(n)
     for start in range(0, n, chunk):
-        sims = unit[start : start + chunk] @ unit.T
+        sims = unit[start : start + chunk] @ unit[reference].T
         rows = np.arange(len(sims))
-        sims[rows, rows + start] = -np.inf  # never one's own neighbour
-        top = np.partition(sims, n - k, axis=1)[:, n - k :]
+        own = slot[start : start + len(sims)]
+        sims[rows[own >= 0], own[own >= 0]] = -np.inf  # never one's own neighbour
+        top = np.partition(sims, m - k, axis=1)[:, m - k :]
         out[start : start + len(sims)] = top.mean(axis=1)
     return np.maximum(out, 0.0)
 

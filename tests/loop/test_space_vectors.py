@@ -18,6 +18,7 @@ from sklearn.metrics.pairwise import cosine_similarity
 from extractor.errors import InputError
 from extractor.loop import strategies as active
 from extractor.loop.space_vectors import (
+    KINDS,
     MIN_CENTRED,
     centroid_picks,
     pool_vectors,
@@ -53,6 +54,20 @@ def test_knn_density_is_mean_cosine_to_the_k_nearest_by_scikit_learn(k: int) -> 
     np.fill_diagonal(sims, -np.inf)
     expected = np.sort(sims, axis=1)[:, -k:].mean(axis=1)
     assert np.allclose(knn_density(x, k, chunk=7), expected)
+
+
+def test_knn_density_of_a_large_pool_looks_among_a_sample() -> None:
+    rng = np.random.default_rng(5)
+    x = rng.normal(size=(300, 6)) + 1.0
+    sampled = knn_density(x, 10, limit=100, seed=2)
+    reference = np.sort(np.random.default_rng(2).choice(300, size=100, replace=False))
+    sims = cosine_similarity(x, x[reference])  # scikit-learn, as above
+    for j, row in enumerate(reference):
+        sims[row, j] = -np.inf
+    k = round(10 * 100 / 300)
+    assert np.allclose(sampled, np.sort(sims, axis=1)[:, -k:].mean(axis=1))
+    # an estimate of the exact figure: same order of sentences, by and large
+    assert np.corrcoef(sampled, knn_density(x, 10))[0, 1] > 0.8
 
 
 def test_knn_density_is_highest_in_the_tight_group() -> None:
@@ -200,3 +215,10 @@ def test_pretrained_vectors_put_a_translation_nearer_than_another_topic() -> Non
     assert np.allclose(np.linalg.norm(both, axis=1), 1.0, atol=1e-5)
     # side by side, each half unit length: the cosine is the mean of the two cosines
     assert np.allclose(both @ both.T, (sims + grams @ grams.T) / 2.0, atol=1e-5)
+
+
+def test_every_strategy_names_known_vectors_and_cold_start() -> None:
+    for name, spec in STRATEGIES.items():
+        assert spec.vectors in KINDS, name
+        assert spec.cold_start in ("density", "centroids"), name
+        assert spec.density_k >= 0, name
