@@ -5,9 +5,10 @@ with plain functions of one signature, ``score(items) -> np.ndarray``; :func:`se
 then picks a batch, optionally spread out over sentence vectors so that five copies of
 the same complaint are not asked five times. The formulas follow Settles & Craven (2008),
 "An Analysis of Active Learning Strategies for Sequence Labeling Tasks" (EMNLP).
-Density uses modAL's information density; batch diversity follows modAL's ranked batch
-selection (tests check both against modAL). The stopping rule is in
-:mod:`extractor.loop.stopping`.
+Density uses modAL's information density or the k-nearest-neighbour density; batch
+diversity follows modAL's ranked batch selection (tests check both against modAL). Each
+strategy names its sentence vectors: character n-grams, or the pretrained space's
+(:mod:`extractor.loop.space_vectors`). The stopping rule is in :mod:`extractor.loop.stopping`.
 
 Cold start: a sentence without a model prediction (``path_prob is None``) scores 0, so
 with no fitted model every sentence scores the same and :func:`select` falls back to
