@@ -40,7 +40,9 @@ SILVER_FILTERS = ("all", "matched", "gold-check", "self-train")
 
 STRATEGIES = (
     "combined", "default", "least_confidence", "link_stance", "mean_entropy", "norm_logprob",
-    "norm_logprob_sentence", "random", "sentence", "total_entropy",
+    "norm_logprob_both", "norm_logprob_ngrams", "norm_logprob_sentence", "norm_logprob_space",
+    "norm_logprob_space_centroids", "norm_logprob_space_knn", "norm_logprob_space_knn_centroids",
+    "random", "sentence", "total_entropy",
 )  # fmt: skip
 """The ``[active] strategy`` choices (the query strategies' names, checked equal)."""
 
