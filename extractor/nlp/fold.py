@@ -8,13 +8,17 @@ that "Résiste", "RESISTE" and "résiste" meet in one form everywhere.
 from __future__ import annotations
 
 import unicodedata
+from functools import lru_cache
 
 
+@lru_cache(maxsize=1 << 17)
 def fold(text: str) -> str:
     """Return ``text`` case-folded and without accents (NFKD, combining marks removed).
 
     ``str.casefold`` rather than ``str.lower`` so that German "ß" meets "ss" and Greek
     final sigma meets sigma (Unicode's default case folding, section 3.13 of the standard).
+    Results are cached: the tagger folds every token several times, and a corpus repeats
+    its words.
     """
     decomposed = unicodedata.normalize("NFKD", text.casefold())
     return "".join(c for c in decomposed if not unicodedata.combining(c))

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from extractor.report.group_charts import PNG_OPTIONS
 from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
 from extractor.workspace.files import atomic_path
 
@@ -54,7 +55,7 @@ def chart_title(grouping: str | None) -> str:
 def _save_png(fig: Any, path: Path) -> None:
     """Save atomically: a kill or a full disk leaves the previous PNG in place."""
     with atomic_path(path) as temp:
-        fig.savefig(temp, dpi=150, format="png")
+        fig.savefig(temp, dpi=150, format="png", **PNG_OPTIONS)
 
 
 def write_chart_png(data: pd.DataFrame, path: Path, title: str) -> None:

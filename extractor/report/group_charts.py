@@ -17,7 +17,7 @@ import re
 import textwrap
 from dataclasses import dataclass
 from pathlib import Path
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 from openpyxl.chart import BarChart, Reference
@@ -40,6 +40,11 @@ TOP = 10
 """Traits per chart: the most frequent for the outcome among all individuals."""
 WRAP = 32
 """Trait names longer than this wrap onto further lines of the axis label."""
+DPI = 150
+"""Resolution of the PNG charts (dots per inch)."""
+PNG_OPTIONS: dict[str, Any] = {"pil_kwargs": {"compress_level": 1}}
+"""PNG compression: level 1 (of 9) encodes the same pixels in about two thirds of the
+time of Pillow's default 6, for files about an eighth larger (measured on the demo's charts)."""
 
 
 @dataclass(frozen=True)
@@ -202,11 +207,17 @@ def draw_chart(chart: GroupChart, png: Path, svg: Path | None = None) -> None:
     import matplotlib.pyplot as plt
 
     fig = chart_figure(chart)
+    # Lay the figure out once, at the PNG's resolution, then freeze it: savefig would
+    # otherwise run the constrained layout again (a whole extra draw) for each format.
+    fig.set_dpi(DPI)
+    fig.draw_without_rendering()
+    fig.set_layout_engine("none")
     for target in (png, svg):
         if target is None:
             continue
+        fmt = target.suffix.lstrip(".")
         with atomic_path(target) as temp:
-            fig.savefig(temp, dpi=150, format=target.suffix.lstrip("."))
+            fig.savefig(temp, dpi=DPI, format=fmt, **(PNG_OPTIONS if fmt == "png" else {}))
     plt.close(fig)
 
 

@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from functools import lru_cache
 from typing import NamedTuple
 
 import numpy as np
@@ -178,6 +179,15 @@ def group_difference(
     arr = _clean_table(table)
     if arr.shape[0] < 2 or arr.shape[1] < 2:
         return GroupTest(NO_TEST, math.nan, math.nan)
+    # A summary repeats many tables (the same counts for several traits, every leaf trait
+    # again in the parent roll-up); the test of a table is fixed by its counts and seed.
+    return _test_table(arr.shape, arr.tobytes(), n_resamples, seed)
+
+
+@lru_cache(maxsize=4096)
+def _test_table(shape: tuple[int, ...], counts: bytes, n_resamples: int, seed: int) -> GroupTest:
+    """Return :func:`group_difference` of a cleaned table given by its shape and bytes."""
+    arr = np.frombuffer(counts, dtype=np.int64).reshape(shape)
     if chi_square_allowed(arr):
         res = sps.chi2_contingency(arr, correction=False)
         return GroupTest(CHI_SQUARE, float(res.statistic), float(res.pvalue))
