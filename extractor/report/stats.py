@@ -77,7 +77,17 @@ def wilson_interval(k: int, n: int, alpha: float = 0.05) -> tuple[float, float]:
         )
     if int(k) != k or not (0 <= k <= n):
         raise InputError(f"The count k must be a whole number between 0 and n={n}; got {k!r}.")
-    low, high = proportion_confint(int(k), int(n), alpha=alpha, method="wilson")
+    return _wilson(int(k), int(n), float(alpha))
+
+
+@lru_cache(maxsize=65536)
+def _wilson(k: int, n: int, alpha: float) -> tuple[float, float]:
+    """Return :func:`wilson_interval` of checked counts.
+
+    Cached: a workbook asks for the same few hundred intervals thousands of times, and
+    statsmodels takes a while per call.
+    """
+    low, high = proportion_confint(k, n, alpha=alpha, method="wilson")
     # At k = 0 and k = n the Wilson bound is exactly 0 or 1; floating point gives
     # 1e-17 or 1 - 1e-16, which would print as a strange non-zero bound.
     low = 0.0 if k == 0 else max(0.0, float(low))
