@@ -9,7 +9,14 @@ sentences joined), so that vocabulary and lengths look like real answers. Goals:
 >= 3,000 sentences/s tagging on one core (features + CRF), <= 5 s to train on 2,000
 sentences, <= 1 GB peak memory at 100k sentences; dictionary matching alone well above
 1,700 sentences/s (100k sentences in under a minute). Times are CPU seconds of this
-process (one core), so other load on the machine does not distort them much.
+process (one core); on a machine shared with other work they still rise with the load
+(shared caches and cores), so compare with a baseline in the same run: this script of
+another revision (``git archive REV``) run in turn with this one.
+
+The clusters are learned as `traits train` learns them, with the pretrained multilingual
+space by default (``--space``; ``none`` for the workspace clusters alone), so the
+tagger's features include the pretrained clusters users get; the script stops if the
+space asked for did not load.
 """
 
 from __future__ import annotations
@@ -29,8 +36,11 @@ sys.path.insert(0, str(ROOT))
 from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.models.tagger import tag_sentences  # noqa: E402
 from extractor.models.tagger_training import fit_tagger  # noqa: E402
+from extractor.nlp import pretrained  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.dictionary import Dictionary, build_dictionary  # noqa: E402
+from extractor.nlp.fold import fold  # noqa: E402
+from extractor.nlp.text import tokenize  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 
 
@@ -71,13 +81,26 @@ def one_size(
     gold: list[tuple[Sentence, list[Span]]],
     dictionary: Dictionary,
     train: int,
+    space: str,
 ) -> dict[str, float]:
     """Learn clusters on ``size`` sentences, train, then match and tag them all; return figures."""
     figures: dict[str, float] = {}
     corpus = synthetic(records, size)
     t0 = time.process_time()
-    clusters = learn_clusters([(s.text, s.lang) for s in corpus])
+    clusters = learn_clusters([(s.text, s.lang) for s in corpus], space=space)
     figures[f"clusters_s_{size}"] = time.process_time() - t0
+    used = clusters["pretrained"]
+    if used["space"] != space:
+        raise SystemExit(f"The pretrained space {space!r} did not load (got {used['space']!r}).")
+    words = [
+        fold(s.text[a:b])
+        for s in corpus[:1000]
+        for a, b in tokenize(s.text, s.lang)
+        if any(c.isalpha() for c in s.text[a:b])
+    ]
+    figures[f"pretrained_word_share_{size}"] = sum(w in used["clusters"] for w in words) / max(
+        1, len(words)
+    )
     silver = synthetic(records, max(0, train - len(gold)), seed=1)
     t0 = time.process_time()
     tagger = fit_tagger(gold, silver, dictionary, clusters)
@@ -113,6 +136,7 @@ def main() -> None:
         help="labeled sentences among the training sentences (the rest are silver); the "
         "tool is meant for a few dozen to a hundred labels",
     )
+    parser.add_argument("--space", default=pretrained.DEFAULT, choices=sorted(pretrained.SPACES))
     args = parser.parse_args()
 
     records = demo_gold()
@@ -126,10 +150,11 @@ def main() -> None:
     ]
     figures: dict[str, float] = {}
     for size in (int(s) for s in args.sizes.split(",")):
-        found = one_size(size, records, gold, dictionary, args.train)
+        found = one_size(size, records, gold, dictionary, args.train, args.space)
         figures |= found
         print(
-            f"{size:>7} sentences: clusters {found[f'clusters_s_{size}']:.1f} s, "
+            f"{size:>7} sentences: clusters {found[f'clusters_s_{size}']:.1f} s "
+            f"({args.space}: {found[f'pretrained_word_share_{size}']:.0%} of words known), "
             f"train on {args.train} ({len(gold)} labeled) "
             f"{found[f'train_s_{args.train}']:.1f} s, "
             f"dictionary {found[f'dictionary_sentences_per_s_{size}']:,.0f} sentences/s, "
