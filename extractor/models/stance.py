@@ -2,8 +2,10 @@
 
 :class:`StanceModel` is a logistic regression over the span-relative features of
 :mod:`extractor.models.stance_features` plus the cue rules' own answer
-(:func:`extractor.models.cues.rule_stance`), so it learns how far to trust the rules.
-Until it is fitted it answers with the rules alone.
+(:func:`extractor.models.cues.rule_stance`), so it learns how far to trust the rules,
+and the pretrained encoder's vector of the mention's clause
+(:mod:`extractor.models.stance_context`), so what it learns from labels in one language
+carries to languages without cue words. Until it is fitted it answers with the rules alone.
 """
 
 from __future__ import annotations
@@ -12,6 +14,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
 
 import numpy as np
+import scipy.sparse as sp_sparse
 import skops.io
 from sklearn.base import BaseEstimator
 from sklearn.feature_extraction import DictVectorizer
@@ -21,7 +24,9 @@ from sklearn.pipeline import Pipeline
 from extractor.errors import InputError
 from extractor.models.cues import Cues, load_cues, packaged_cues, rule_proba, rule_stance
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
+from extractor.models.stance_context import context_vectors
 from extractor.models.stance_features import Codebook, stance_features
+from extractor.nlp import pretrained
 from extractor.types import STANCES, QuestionCode, Sentence, Span
 
 _FORMAT = "trait-extractor/stance/1"
@@ -55,6 +60,11 @@ class StanceModel(BaseEstimator):
         questions: The question codebook as plain data, question key ->
             ``{"text": ..., "direction": ...}`` (either may be missing); saved with
             the model (see :func:`codebook_params`).
+        space: The pretrained space whose clause vectors join the features
+            (:data:`extractor.nlp.pretrained.SPACES`); ``"none"``, or a space whose
+            package is missing, leaves the sparse features alone.
+        dense_weight: The factor on the clause vectors (unit length) beside the sparse
+            features (counts): it sets how strongly the regularisation holds them back.
     """
 
     def __init__(
@@ -65,12 +75,16 @@ class StanceModel(BaseEstimator):
         class_weight: str | None = None,
         cues_path: str | None = None,
         questions: Mapping[str, Mapping[str, str]] | None = None,
+        space: str = pretrained.DEFAULT,
+        dense_weight: float = 1.0,
     ) -> None:
         self.C = C
         self.max_iter = max_iter
         self.class_weight = class_weight
         self.cues_path = cues_path
         self.questions = questions
+        self.space = space
+        self.dense_weight = dense_weight
 
     @property
     def codebook(self) -> dict[str, QuestionCode]:
@@ -123,6 +137,9 @@ class StanceModel(BaseEstimator):
         cues = load_cues(self.cues_path)
         codebook = self.codebook
         X = [_model_features(s, sp, cues, codebook) for s, sp, _ in examples]
+        space = pretrained.load_space(self.space)
+        self.space_ = space.name if space is not None else pretrained.NONE
+        self.dense_dim_ = space.dim if space is not None else 0
         pipe = Pipeline(
             [
                 ("vectorizer", DictVectorizer()),
@@ -139,7 +156,9 @@ class StanceModel(BaseEstimator):
                 ),
             ]
         )
-        pipe.fit(X, labels)
+        sparse = pipe["vectorizer"].fit_transform(X)
+        dense = self._dense([(s, sp) for s, sp, _ in examples], cues)
+        pipe["classifier"].fit(self._join(sparse, dense), labels)
         self.cues_ = cues
         self.pipeline_ = pipe
         self.classes_ = [str(c) for c in pipe.classes_]
@@ -171,7 +190,9 @@ class StanceModel(BaseEstimator):
             return np.zeros((0, len(STANCES)))
         if not self.is_fitted or weight <= 0.0:
             return np.vstack([rule_proba(f) for f in feats])
-        proba = self.pipeline_.predict_proba(feats)
+        sparse = self.pipeline_["vectorizer"].transform(feats)
+        dense = self._dense(items, cues)
+        proba = self.pipeline_["classifier"].predict_proba(self._join(sparse, dense))
         out = np.zeros((len(feats), len(STANCES)))
         for col, cls in enumerate(self.classes_):
             out[:, STANCES.index(cls)] = proba[:, col]
@@ -180,6 +201,28 @@ class StanceModel(BaseEstimator):
         rules = np.vstack([rule_proba(f) for f in feats])
         blended: np.ndarray = weight * out + (1.0 - weight) * rules
         return blended
+
+    def _dense(self, items: Sequence[tuple[Sentence, Span]], cues: Cues) -> np.ndarray | None:
+        """Return the weighted clause vectors of the fitted space; ``None`` when it has none.
+
+        A model fitted with a space whose package has since gone gets zero rows: it
+        still predicts, from the sparse features alone.
+        """
+        name = getattr(self, "space_", pretrained.NONE)
+        if name == pretrained.NONE:
+            return None
+        space = pretrained.load_space(name)
+        if space is None:
+            return np.zeros((len(items), self.dense_dim_), dtype=np.float32)
+        vectors: np.ndarray = context_vectors(space, items, cues) * self.dense_weight
+        return vectors
+
+    @staticmethod
+    def _join(sparse: sp_sparse.spmatrix, dense: np.ndarray | None) -> sp_sparse.spmatrix:
+        """Return the sparse features with the dense columns after them."""
+        if dense is None:
+            return sparse
+        return sp_sparse.hstack([sparse, sp_sparse.csr_matrix(dense)], format="csr")
 
     def predict_many(self, items: Sequence[tuple[Sentence, Span]]) -> list[tuple[str, float]]:
         """Return ``(stance, probability)`` for each ``(sentence, span)``."""
@@ -209,6 +252,8 @@ class StanceModel(BaseEstimator):
             "params": self.get_params(),
             "classes": getattr(self, "classes_", None),
             "cues": self.cues,
+            "space": getattr(self, "space_", pretrained.NONE),
+            "dense_dim": getattr(self, "dense_dim_", 0),
         }
         write_meta(folder / _JSON_FILE, meta)
 
@@ -228,6 +273,9 @@ class StanceModel(BaseEstimator):
         model.pipeline_ = load_trusted_skops(folder / _SKOPS_FILE, Pipeline)
         model.classes_ = list(meta["classes"])
         model.cues_ = meta["cues"]
+        # Versions saved before clause vectors were features have neither key.
+        model.space_ = str(meta.get("space", pretrained.NONE))
+        model.dense_dim_ = int(meta.get("dense_dim", 0))
         return model
 
 

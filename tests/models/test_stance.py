@@ -169,6 +169,8 @@ def test_stance_model_clone_gives_an_unfitted_copy_with_the_same_params() -> Non
         "cues_path": None,
         "max_iter": 2000,
         "questions": None,
+        "space": "use-m3",
+        "dense_weight": 1.0,
     }
     assert model.is_fitted and not copy.is_fitted
 
