@@ -414,7 +414,8 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     is liked and a negated good word disliked; then the net polarity of cues in the
     clause, then of cue words inside the span ("then they spoil", "cozinha
     rápido"), then in the contrast segment, then the opposite of the other side of a
-    contrast; a negated span with no cue is disliked (the trait is missing); the
+    contrast; a negated span with no cue is disliked (the trait is missing), unless the
+    question asked only for what is liked (then the trait is a fault it lacks); the
     praised side of a comparison is liked (the lowered side disliked); then the
     question's lean (a codebook direction, or the question's cue words); else neutral.
 
@@ -452,6 +453,10 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
         if g("other_side_disliked", 0):
             return "liked", 0.55
     if g("span_negated", 0):
+        if g("q_liked", 0) and not g("q_disliked", 0) and not g("q_wanted", 0):
+            # Asked what is good about it, a trait said to be absent is a fault it lacks:
+            # "why do you buy it? - it does not give gas".
+            return "liked", 0.55
         return "disliked", 0.55
     if g("comparison", 0) and g("span_before_marker", 0):
         return ("disliked" if g("comparison_less", 0) else "liked"), 0.55

@@ -42,9 +42,7 @@ def context_text(sentence: Sentence, span: Span, cues: Cues) -> str:
     return sentence.text[p.offsets[lo][0] : p.offsets[hi - 1][1]]
 
 
-def context_vectors(
-    space: Space, items: Sequence[tuple[Sentence, Span]], cues: Cues
-) -> np.ndarray:
+def context_vectors(space: Space, items: Sequence[tuple[Sentence, Span]], cues: Cues) -> np.ndarray:
     """Return one unit-length row per mention: the encoder's vector of its clause.
 
     Args:

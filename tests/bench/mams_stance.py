@@ -55,7 +55,7 @@ def main() -> None:
     train, test = triples("train"), triples(args.test)
     gold = [y for *_, y in test]
     majority = Counter(gold).most_common(1)[0][1] / len(gold)
-    print(f"MAMS train {len(train)} spans -> {args.test} {len(test)} spans; majority {majority:.3f}")
+    print(f"MAMS train {len(train)} spans, {args.test} {len(test)} spans, majority {majority:.3f}")
     for space in args.space:
         for C in args.C:
             for weight in args.weight if space != "none" else [1.0]:
