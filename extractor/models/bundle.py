@@ -7,8 +7,10 @@ and saves and loads a model version folder without pickle:
 
 ``tagger.crfsuite`` + ``tagger.json`` (CRFsuite's own format), ``clusters.json`` +
 ``vectors.npy``, ``linker/``, ``stance/`` and ``sentence/`` (skops + JSON),
-``aliases.json`` and ``meta.json``. A version saved before the sentence-level model
-existed loads with it unfitted (no implicit traits).
+``aliases.json``, ``silver_aliases.json`` and ``meta.json`` (a version older than the
+sentence model or silver aliases loads without them). Silver aliases (:func:`extractor.nlp.synonyms.confident_synonyms`)
+join the dictionary that labels silver sentences, so an English-only list finds French
+mentions at 0 labels; they stay in the version, never in the imported list.
 """
 
 from __future__ import annotations
@@ -33,6 +35,8 @@ from extractor.models.tagger import TagResult, TraitTagger, tag_sentences
 from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.clusters import learn_clusters, load_clusters, save_clusters
 from extractor.nlp.dictionary import Dictionary, build_dictionary
+from extractor.nlp.pretrained import NONE
+from extractor.nlp.synonyms import confident_synonyms
 from extractor.types import STANCES, Implicit, Sentence, Span
 
 Alias = tuple[str, str, str]
@@ -40,6 +44,7 @@ Alias = tuple[str, str, str]
 
 META_FILE = "meta.json"
 ALIASES_FILE = "aliases.json"
+SILVER_FILE = "silver_aliases.json"
 STANCE_PRIOR = 25
 """Labeled stances at which the learned stance model and the cue rules weigh the same.
 
@@ -83,6 +88,7 @@ class TrainingCounts:
     link_examples: int = 0
     stance_examples: int = 0
     aliases: int = 0
+    silver_aliases: int = 0
     implicit_traits: int = 0
     sentence_examples: int = 0
 
@@ -142,6 +148,7 @@ class TraitModels(BaseEstimator):
         seed: Random seed of the word clusters.
         stance_params: Keyword arguments of :class:`~extractor.models.stance.StanceModel`
             (a user cue file, the question codebook).
+        silver_synonyms: Whether confident candidate synonyms join the silver dictionary.
     """
 
     def __init__(
@@ -151,11 +158,13 @@ class TraitModels(BaseEstimator):
         link_threshold: float = 0.25,
         seed: int = 0,
         stance_params: dict[str, Any] | None = None,
+        silver_synonyms: bool = True,
     ) -> None:
         self.tagger_params = tagger_params
         self.link_threshold = link_threshold
         self.seed = seed
         self.stance_params = stance_params
+        self.silver_synonyms = silver_synonyms
 
     @classmethod
     def train(
@@ -207,10 +216,17 @@ class TraitModels(BaseEstimator):
                 "`traits concepts import FILE` or label sentences with `traits label`."
             )
         self.aliases_ = list(aliases)
-        self.dictionary_: Dictionary | None = build_dictionary(aliases) if aliases else None
         self.clusters_ = clusters or learn_clusters(
             [(s.text, s.lang) for s in corpus], seed=self.seed
         )
+        space = self.clusters_.get("pretrained", {}).get("space", NONE)
+        self.silver_aliases_ = (
+            confident_synonyms(space, self.aliases_, [(s.text, s.lang) for s in corpus])
+            if self.silver_synonyms
+            else []
+        )
+        listed = self.aliases_ + self.silver_aliases_
+        self.dictionary_: Dictionary | None = build_dictionary(listed) if listed else None
         labeled = {s.id for s, _ in gold} | held_out
         silver = [s for s in corpus if s.id not in labeled]
         self.tagger_ = fit_tagger(
@@ -220,7 +236,9 @@ class TraitModels(BaseEstimator):
         if self.dictionary_ is not None:
             for sentence, matches in zip(silver, self.dictionary_.match_many(silver), strict=True):
                 link_examples += [(sentence, m, m.concept) for m in matches if m.concept]
-        self.linker_ = ConceptLinker(threshold=self.link_threshold).fit(link_examples, aliases)
+        self.linker_ = ConceptLinker(threshold=self.link_threshold, space=space).fit(
+            link_examples, aliases
+        )
         implicit = implicit or {}
         self.sentence_ = self._fit_sentence_traits(gold, implicit)
         stance_examples = [(s, sp, sp.stance) for s, spans in gold for sp in spans if sp.stance]
@@ -240,6 +258,7 @@ class TraitModels(BaseEstimator):
             link_examples=len(link_examples),
             stance_examples=len(stance_examples),
             aliases=len(aliases),
+            silver_aliases=len(self.silver_aliases_),
             implicit_traits=sum(len(implicit.get(s.id, ())) for s, _ in gold),
             sentence_examples=len(gold) if self.sentence_.is_fitted else 0,
         )
@@ -417,9 +436,10 @@ class TraitModels(BaseEstimator):
         self.linker_.save(folder / "linker")
         self.stance_.save(folder / "stance")
         self.sentence_.save(folder / "sentence")
-        (folder / ALIASES_FILE).write_text(
-            json.dumps([list(a) for a in self.aliases_], ensure_ascii=False), encoding="utf-8"
-        )
+        for name, rows in ((ALIASES_FILE, self.aliases_), (SILVER_FILE, self.silver_aliases_)):
+            (folder / name).write_text(
+                json.dumps([list(a) for a in rows], ensure_ascii=False), encoding="utf-8"
+            )
         meta = self.meta() | (extra_meta or {})
         (folder / META_FILE).write_text(
             json.dumps(meta, indent=2, ensure_ascii=False), encoding="utf-8"
@@ -435,18 +455,22 @@ class TraitModels(BaseEstimator):
         """
         meta = _read_json(folder, META_FILE)
         aliases = _aliases(_read_json(folder, ALIASES_FILE))
+        silver = (
+            _aliases(_read_json(folder, SILVER_FILE)) if (folder / SILVER_FILE).is_file() else []
+        )
         params = meta.get("parameters", {}) if isinstance(meta, dict) else None
         counts = meta.get("counts", {}) if isinstance(meta, dict) else None
         counts_ok = isinstance(counts, dict) and all(isinstance(v, int) for v in counts.values())
-        if aliases is None or not isinstance(params, dict) or not counts_ok:
+        if aliases is None or silver is None or not isinstance(params, dict) or not counts_ok:
             raise ModelError(
-                f"Model version {folder.name} ({folder}) has a damaged {META_FILE} or "
-                f"{ALIASES_FILE} (not the shape this tool writes); train a new version with "
-                "`traits train`."
+                f"Model version {folder.name} ({folder}) has a damaged {META_FILE}, "
+                f"{ALIASES_FILE} or {SILVER_FILE} (not the shape this tool writes); train a new "
+                "version with `traits train`."
             )
         models = cls(link_threshold=params.get("link_threshold", 0.25), seed=params.get("seed", 0))
-        models.aliases_ = aliases
-        models.dictionary_ = build_dictionary(aliases) if aliases else None
+        models.aliases_, models.silver_aliases_ = aliases, silver
+        listed = aliases + silver
+        models.dictionary_ = build_dictionary(listed) if listed else None
         models.clusters_ = load_clusters(folder)
         models.tagger_ = TraitTagger.load(folder)
         models.tagger_.clusters_fingerprint_ = models.clusters_.get("fingerprint")

@@ -1,4 +1,4 @@
-"""The three scores a candidate concept gets for a trait mention, and their combination.
+"""The four scores a candidate concept gets for a trait mention, and their combination.
 
 * **exact**: the span equals an alias after normalisation (case-folded, Snowball
   stem per word, accents removed; :func:`extractor.nlp.dictionary.stem_word`), keyed with
@@ -7,9 +7,16 @@
   space over character 2-4-grams inside word boundaries (any language, tolerant of
   spelling, inflection and missing accents);
 * **context**: a logistic regression over the span's character n-grams, stems, and
-  the words within :data:`WINDOW` tokens, trained on the linked examples.
+  the words within :data:`WINDOW` tokens, trained on the linked examples;
+* **semantic**: the best cosine between the span and the concept's forms in the
+  pretrained multilingual space (:mod:`extractor.nlp.pretrained`), each encoded whole,
+  so "cuit vite" meets "cooks fast" and an English-only list links French answers.
+  Rescaled so that :data:`SEMANTIC_FLOOR` (about what unrelated words share) is 0 and
+  1 is 1. A span made of function words and verbs of liking only
+  (:func:`extractor.nlp.nontrait.only_function_words`) scores 0; without the space
+  (``"none"``, or its package missing) every semantic score is 0.
 
-:func:`combine` turns the three into one probability with a logistic combiner's
+:func:`combine` turns the four into one probability with a logistic combiner's
 weights (:class:`extractor.models.linking.ConceptLinker` chooses them).
 """
 
@@ -26,9 +33,10 @@ from sklearn.feature_extraction.text import TfidfVectorizer
 from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
+from extractor.nlp import pretrained
 from extractor.nlp.dictionary import stem_word
 from extractor.nlp.fold import fold, fold_words
-from extractor.nlp.nontrait import never_alone
+from extractor.nlp.nontrait import never_alone, only_function_words
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -38,8 +46,13 @@ Alias = tuple[str, str, str]
 Example = tuple[Sentence, Span, "str | None"]
 """A linked mention: sentence, span and its concept (``None``: known to fit no concept)."""
 
-Scores = tuple[float, float, float]
-"""The exact, fuzzy and context scores of one candidate concept."""
+Scores = tuple[float, float, float, float]
+"""The exact, fuzzy, context and semantic scores of one candidate concept."""
+
+SEMANTIC_FLOOR = 0.5
+"""Cosine that maps to a semantic score of 0: in the multilingual encoder's space a
+stop word and a trait word share about 0.5 ("taste" and "le": 0.55, "taste" and "the":
+0.50), translations 0.8-0.9 ("taste"/"goût" 0.89; measured, see tests/models)."""
 
 WINDOW = 5
 """Tokens either side of a span whose words feed the context classifier."""
@@ -137,6 +150,7 @@ class Scorer:
         vectorizer: TfidfVectorizer,
         matrix: spmatrix | None,
         starts: np.ndarray,
+        space: str = pretrained.NONE,
     ) -> None:
         self.forms = forms
         self.concepts = concepts
@@ -146,11 +160,19 @@ class Scorer:
         self.vectorizer = vectorizer
         self.matrix = matrix
         self.starts = starts
+        self.space = space
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
+        self._form_vectors: np.ndarray | None = None
 
     @classmethod
-    def build(cls, forms: Sequence[Alias], context: Pipeline | None) -> Scorer:
-        """Index the alias forms for exact and fuzzy matching, beside a context classifier."""
+    def build(
+        cls, forms: Sequence[Alias], context: Pipeline | None, space: str = pretrained.NONE
+    ) -> Scorer:
+        """Index the alias forms for exact, fuzzy and semantic scores, beside a context classifier.
+
+        ``space`` names the pretrained space of the semantic score; its form vectors are
+        computed on first use.
+        """
         # Forms sorted by concept so per-concept maxima are one reduceat.
         ordered = sorted(set(forms), key=lambda a: (a[0], a[1], a[2]))
         exact_own: dict[str, set[str]] = defaultdict(set)
@@ -173,6 +195,7 @@ class Scorer:
             vectorizer=vectorizer,
             matrix=matrix,
             starts=np.array(starts, dtype=np.int64),
+            space=space,
         )
 
     def _exact_index(self, lang: str) -> dict[str, set[str]]:
@@ -208,6 +231,29 @@ class Scorer:
         result: np.ndarray = np.maximum.reduceat(sims, self.starts, axis=1)
         return result
 
+    def semantic(self, items: Sequence[tuple[Sentence, Span]]) -> np.ndarray:
+        """Return an ``(n, concepts)`` array of the best rescaled cosine per concept (see above)."""
+        out = np.zeros((len(items), len(self.concepts)))
+        loaded = pretrained.load_space(self.space) if self.forms else None
+        if loaded is None or not items:
+            return out
+        if self._form_vectors is None:
+            self._form_vectors = loaded.words([t for _, t, _ in self.forms])
+        keep = [
+            i
+            for i, (s, sp) in enumerate(items)
+            if not only_function_words(
+                [s.text[a:b] for a, b in tokenize(s.text[sp.start : sp.end], s.lang or "xx")],
+                s.lang,
+            )
+        ]
+        if not keep:
+            return out
+        spans = loaded.words([items[i][0].text[items[i][1].start : items[i][1].end] for i in keep])
+        best = np.maximum.reduceat(spans @ self._form_vectors.T, self.starts, axis=1)
+        out[keep] = np.clip((best - SEMANTIC_FLOOR) / (1.0 - SEMANTIC_FLOOR), 0.0, 1.0)
+        return out
+
     def context_proba(self, features: Sequence[dict[str, float]]) -> np.ndarray | None:
         """Return the context classifier's probabilities, or ``None`` without one."""
         if self.context is None or not features:
@@ -219,11 +265,12 @@ class Scorer:
         items: Sequence[tuple[Sentence, Span]],
         features: Sequence[dict[str, float]] | None = None,
     ) -> list[dict[str, Scores]]:
-        """Return, per mention, candidate concept -> (exact, fuzzy, context) scores.
+        """Return, per mention, candidate concept -> (exact, fuzzy, context, semantic) scores.
 
         ``features`` are the mentions' :func:`context_features` when already computed.
         """
         fuzzy = self.fuzzy([s.text[sp.start : sp.end] for s, sp in items])
+        semantic = self.semantic(items)
         ctx = None
         if self.context is not None:
             if features is None:
@@ -236,6 +283,9 @@ class Scorer:
             pool = set(exact)
             if len(self.concepts):
                 pool.update(self.concepts[j] for j in np.argsort(-fuzzy[i])[:TOP_K])
+                pool.update(
+                    self.concepts[j] for j in np.argsort(-semantic[i])[:TOP_K] if semantic[i, j] > 0
+                )
             ctx_row: dict[str, float] = {}
             if ctx is not None:
                 ctx_row = {self.context_classes[j]: float(ctx[i, j]) for j in range(ctx.shape[1])}
@@ -246,6 +296,7 @@ class Scorer:
                         1.0 if c in exact else 0.0,
                         float(fuzzy[i, col[c]]) if c in col else 0.0,
                         ctx_row.get(c, 0.0),
+                        float(semantic[i, col[c]]) if c in col else 0.0,
                     )
                     for c in sorted(pool)  # sets iterate by hash: sort, so every run fits alike
                 }

@@ -1,9 +1,9 @@
 """Linking a trait mention to a concept ID of the validated trait list, or to none.
 
-Three scorers (:mod:`extractor.models.link_scoring`: exact, fuzzy and context) give
+Four scorers (:mod:`extractor.models.link_scoring`: exact, fuzzy, context and semantic) give
 each candidate concept a number in ``[0, 1]``. Surface forms of linked examples join
 the aliases, so a phrasing seen once links exactly the next time. A small logistic
-*combiner* turns the three scores into the probability that a candidate is right.
+*combiner* turns the four scores into the probability that a candidate is right.
 With at least :data:`MIN_COMBINER_EXAMPLES` linked examples it is fitted on
 out-of-fold scores (each fold's scorers never saw the example), so its output is
 calibrated on the project's own data; below that a fixed, documented rule is used
@@ -36,20 +36,27 @@ from extractor.models.link_scoring import (
     fit_context,
 )
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
+from extractor.nlp import pretrained
 from extractor.types import Sentence, Span
 
 MIN_COMBINER_EXAMPLES = 30
 """Linked examples needed before the combiner is fitted rather than the default rule."""
 
-DEFAULT_WEIGHTS = (-4.0, 5.0, 5.5, 4.0)
-"""Intercept and weights of exact, fuzzy and context in the cold-start combiner.
+DEFAULT_WEIGHTS = (-4.0, 5.0, 5.5, 4.0, 5.0)
+"""Intercept and weights of exact, fuzzy, context and semantic in the cold-start combiner.
 
 Set by hand (common practice for a cold start) so that an exact alias gives about
 0.99, a fuzzy cosine of 0.5 alone about 0.22 (just below the default threshold),
 0.6 about 0.33, and a confident context classifier lifts a weak fuzzy match over it.
+The semantic weight: a translation of an alias (cosine about 0.9, score 0.8) alone
+gives about 0.5; a cosine of 0.75 (score 0.5) alone about 0.18, below the threshold,
+so a loose neighbour needs a second score's support. Checked on the demo with its
+English rows only (tests/bench/bench_english_list.py).
 """
 
 _FORMAT = "trait-extractor/linker/1"
+"""Files written before the semantic score hold three weights; they load with a semantic
+weight of 0 (the old behaviour) and no pretrained space."""
 _SKOPS_FILE = "context.skops"
 _JSON_FILE = "linker.json"
 
@@ -79,15 +86,24 @@ class ConceptLinker(BaseEstimator):
         C: Inverse regularisation of the context classifier.
         folds: Folds used to fit the combiner on out-of-fold scores.
         seed: Random seed of the fold split.
+        space: The pretrained space of the semantic score (a name of
+            :data:`extractor.nlp.pretrained.SPACES`; ``"none"``: no semantic score).
     """
 
     def __init__(
-        self, *, threshold: float = 0.25, C: float = 1.0, folds: int = 5, seed: int = 0
+        self,
+        *,
+        threshold: float = 0.25,
+        C: float = 1.0,
+        folds: int = 5,
+        seed: int = 0,
+        space: str = pretrained.NONE,
     ) -> None:
         self.threshold = threshold
         self.C = C
         self.folds = folds
         self.seed = seed
+        self.space = space
 
     def fit(self, examples: Iterable[Example], aliases: Iterable[Alias]) -> ConceptLinker:
         """Learn from aliases and linked examples (gold links and dictionary links).
@@ -125,7 +141,7 @@ class ConceptLinker(BaseEstimator):
         # Computed once: the combiner's folds reuse them.
         features = [context_features(s, sp) for s, sp, _ in examples]
         concepts = [c for _, _, c in examples]
-        self.scorer_ = Scorer.build(forms, fit_context(features, concepts, self.C))
+        self.scorer_ = Scorer.build(forms, fit_context(features, concepts, self.C), self.space)
         self.weights_ = self._fit_combiner(examples, features, alias_list)
         return self
 
@@ -144,7 +160,7 @@ class ConceptLinker(BaseEstimator):
             context = fit_context(
                 [features[i] for i in train_idx], [c for _, _, c in train], self.C
             )
-            scorer = Scorer.build(aliases + example_forms(train), context)
+            scorer = Scorer.build(aliases + example_forms(train), context, self.space)
             cands_per_item = scorer.candidates(
                 [(s, sp) for s, sp, _ in held], [features[i] for i in test_idx]
             )
@@ -260,8 +276,11 @@ class ConceptLinker(BaseEstimator):
         linker = cls(**meta["params"])
         linker.aliases_ = [tuple(a) for a in meta["aliases"]]
         linker.example_forms_ = [tuple(a) for a in meta["example_forms"]]
-        linker.scorer_ = Scorer.build(linker.aliases_ + linker.example_forms_, context)
-        linker.weights_ = [float(w) for w in meta["weights"]]
+        linker.scorer_ = Scorer.build(
+            linker.aliases_ + linker.example_forms_, context, linker.space
+        )
+        weights = [float(w) for w in meta["weights"]]
+        linker.weights_ = weights + [0.0] * (len(DEFAULT_WEIGHTS) - len(weights))
         return linker
 
 

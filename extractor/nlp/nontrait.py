@@ -11,11 +11,18 @@ A dictionary match made of such a word alone is dropped:
 The word lists are short, typed from memory (common words of each language), and
 cover the languages of the stance cues; other languages get the infinitive rule only
 where their endings are listed.
+
+:func:`only_function_words` says when a whole phrase is made of stop words (spaCy's
+lists) and verbs of liking: such a phrase ("gosto da", "c'est") names no trait, so
+neither the pretrained space's similarity nor a candidate synonym may link it.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
+from functools import cache
+
+import spacy.util
 
 from extractor.nlp.fold import fold
 
@@ -84,3 +91,27 @@ def is_stem_only_infinitive(word: str, alias_forms: Sequence[str], lang: str) ->
 def never_alone(words: Sequence[str], i: int, lang: str, alias_forms: Sequence[str]) -> bool:
     """Whether a one-word match of ``words[i]`` must be dropped (see the module docstring)."""
     return is_liking_verb(words, i, lang) or is_stem_only_infinitive(words[i], alias_forms, lang)
+
+
+@cache
+def stop_words(code: str) -> frozenset[str]:
+    """SpaCy's stop words of a language (primary subtag), folded; empty where spaCy has none."""
+    try:
+        words = spacy.util.get_lang_class(code).Defaults.stop_words
+    except (ImportError, KeyError):
+        return frozenset()
+    return frozenset(fold(w) for w in words)
+
+
+def is_function_word(word: str, lang: str) -> bool:
+    """Whether ``word`` is a stop word or a verb form of liking of ``lang`` (or no word)."""
+    code = _code(lang)
+    key = fold(word)
+    if not any(c.isalnum() for c in key):
+        return True
+    return key in stop_words(code) or key in LIKING_VERBS.get(code, frozenset())
+
+
+def only_function_words(words: Sequence[str], lang: str) -> bool:
+    """Whether every word is a function word or a verb of liking (see the module docstring)."""
+    return all(is_function_word(w, lang) for w in words)

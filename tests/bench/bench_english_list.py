@@ -15,7 +15,9 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import time
 from pathlib import Path
+from typing import Any
 
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
@@ -30,6 +32,11 @@ from extractor.types import Sentence, Span  # noqa: E402
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--spaces", default="none,use-m3")
+    parser.add_argument(
+        "--silver",
+        default="on",
+        help="on, off or on,off: whether candidate synonyms join the silver dictionary",
+    )
     args = parser.parse_args()
     records = [
         json.loads(line)
@@ -44,24 +51,41 @@ def main() -> None:
     concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
     full = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
     english = [a for a in full if a[2].split("-")[0] == "en"]
-    for space in args.spaces.split(","):
+    for space, silver in [
+        (sp, si) for sp in args.spaces.split(",") for si in args.silver.split(",")
+    ]:
         clusters = learn_clusters([(s.text, s.lang) for s in corpus], space=space)
-        figures = {}
+        figures: dict[str, Any] = {}
         for name, aliases in (("full", full), ("english", english)):
-            models = TraitModels().fit([], corpus, aliases, clusters=clusters)
+            started = time.perf_counter()
+            models = TraitModels(silver_synonyms=silver == "on")
+            models.fit([], corpus, aliases, clusters=clusters)
+            fit_seconds = time.perf_counter() - started
             pred = models.predict([s for s, _ in target])
             report = score(target, [p.mentions for p in pred])
             sc = report.span_concept
             figures[name] = {
                 "span_f1": round(report.span.f1, 4),
                 "concept_f1": sc and round(sc.f1, 4),
+                "silver_aliases": len(models.silver_aliases_),
+                "fit_s": round(fit_seconds, 1),
             }
         share = None
         if figures["full"]["concept_f1"]:
             share = round(
                 (figures["english"]["concept_f1"] or 0) / figures["full"]["concept_f1"], 3
             )
-        print(json.dumps({"space": space, "sentences": len(target), **figures, "share": share}))
+        print(
+            json.dumps(
+                {
+                    "space": space,
+                    "silver": silver,
+                    "sentences": len(target),
+                    **figures,
+                    "share": share,
+                }
+            )
+        )
 
 
 if __name__ == "__main__":

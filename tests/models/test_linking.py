@@ -203,7 +203,13 @@ def test_clone_gives_an_unfitted_linker_with_the_same_params(cold: ConceptLinker
     # scikit-learn's clone is the outside reference for the estimator contract: it
     # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
     linker = ConceptLinker(threshold=0.4, C=2.0, folds=3, seed=7)
-    assert clone(linker).get_params() == {"C": 2.0, "folds": 3, "seed": 7, "threshold": 0.4}
+    assert clone(linker).get_params() == {
+        "C": 2.0,
+        "folds": 3,
+        "seed": 7,
+        "threshold": 0.4,
+        "space": "none",
+    }
     assert cold.is_fitted and not clone(cold).is_fitted
 
 
