@@ -7,8 +7,8 @@ and saves and loads a model version folder without pickle:
 
 ``tagger.crfsuite`` + ``tagger.json`` (CRFsuite's own format), ``clusters.json`` +
 ``vectors.npy``, ``linker/``, ``stance/`` and ``sentence/`` (skops + JSON),
-``aliases.json``, ``silver_aliases.json`` and ``meta.json`` (a version older than the
-sentence model or silver aliases loads without them). Silver aliases (:func:`extractor.nlp.synonyms.confident_synonyms`)
+``aliases.json``, ``silver_aliases.json`` and ``meta.json`` (older versions load without
+the sentence model or silver aliases). Silver aliases (``nlp.synonyms.confident_synonyms``)
 join the dictionary that labels silver sentences, so an English-only list finds French
 mentions at 0 labels; they stay in the version, never in the imported list.
 """

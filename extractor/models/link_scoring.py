@@ -239,17 +239,17 @@ class Scorer:
             return out
         if self._form_vectors is None:
             self._form_vectors = loaded.words([t for _, t, _ in self.forms])
+        texts = [s.text[sp.start : sp.end] for s, sp in items]
         keep = [
             i
-            for i, (s, sp) in enumerate(items)
+            for i, ((s, _), text) in enumerate(zip(items, texts, strict=True))
             if not only_function_words(
-                [s.text[a:b] for a, b in tokenize(s.text[sp.start : sp.end], s.lang or "xx")],
-                s.lang,
+                [text[a:b] for a, b in tokenize(text, s.lang or "xx")], s.lang
             )
         ]
         if not keep:
             return out
-        spans = loaded.words([items[i][0].text[items[i][1].start : items[i][1].end] for i in keep])
+        spans = loaded.words([texts[i] for i in keep])
         best = np.maximum.reduceat(spans @ self._form_vectors.T, self.starts, axis=1)
         out[keep] = np.clip((best - SEMANTIC_FLOOR) / (1.0 - SEMANTIC_FLOOR), 0.0, 1.0)
         return out

@@ -10,6 +10,8 @@ from sklearn.base import clone
 from extractor.errors import ModelError, NotFittedError
 from extractor.models import bundle
 from extractor.models.bundle import Mention, SentencePrediction, TraitModels
+from extractor.nlp import pretrained
+from extractor.nlp.clusters import learn_clusters
 from extractor.types import STANCES, Implicit, Sentence, Span
 
 # Invented trait IDs and answers about an invented variety (Velora).
@@ -38,6 +40,7 @@ def test_clone_gives_unfitted_models_with_the_same_params() -> None:
     assert copy.get_params() == {
         "link_threshold": 0.4,
         "seed": 2,
+        "silver_synonyms": True,
         "stance_params": None,
         "tagger_params": {"gold_weight": 3},
     }
@@ -185,3 +188,45 @@ def test_implicit_model_survives_save_and_load(
     (before,) = with_implicit.predict([PLATES[5]])
     (after,) = again.predict([PLATES[5]])
     assert after.implicit == before.implicit
+
+
+# French answers for an English-only list; "temps de cuisson" is "cooking time"
+# (translation from memory).
+FRENCH = [
+    Sentence(100 + i, text, "fr")
+    for i, text in enumerate(
+        [
+            "Le temps de cuisson de Velora est court .",
+            "La taille des grains est bonne .",
+            "La taille des grains est trop petite pour le marché .",
+            "Nous avons semé après les pluies .",
+        ]
+    )
+]
+
+
+@pytest.mark.skipif(
+    not pretrained.installed(pretrained.DEFAULT), reason="the pretrained space is not installed"
+)
+def test_english_only_list_finds_french_mentions_and_keeps_its_silver_aliases(
+    tmp_path: Path,
+) -> None:
+    clusters = learn_clusters([(s.text, s.lang) for s in CORPUS + FRENCH], space=pretrained.DEFAULT)
+    models = TraitModels(tagger_params={"max_iterations": 20})
+    models.fit([], CORPUS + FRENCH, ALIASES, clusters=clusters)
+    assert ("TX:01", "temps de cuisson", "fr") in models.silver_aliases_
+    assert all(lang == "fr" for _, _, lang in models.silver_aliases_)
+    models.save(tmp_path)
+    loaded = TraitModels.load(tmp_path)
+    assert loaded.silver_aliases_ == models.silver_aliases_
+    assert loaded.aliases_ == ALIASES  # the list itself is unchanged
+    (prediction,) = loaded.predict([Sentence(200, "Le temps de cuisson est long .", "fr")])
+    assert [(m.start, m.end, m.concept) for m in prediction.mentions] == [(3, 19, "TX:01")]
+
+
+def test_version_saved_without_silver_aliases_loads_with_none(
+    trained: TraitModels, tmp_path: Path
+) -> None:
+    trained.save(tmp_path)
+    (tmp_path / bundle.SILVER_FILE).unlink()
+    assert TraitModels.load(tmp_path).silver_aliases_ == []

@@ -3,7 +3,14 @@ from __future__ import annotations
 import pytest
 
 from extractor.nlp import pretrained
-from extractor.nlp.synonyms import by_language, propose
+from extractor.nlp.synonyms import (
+    Candidate,
+    by_language,
+    confident_synonyms,
+    phrases,
+    propose,
+    silver_aliases,
+)
 
 pytestmark = pytest.mark.skipif(
     not pretrained.installed(pretrained.DEFAULT),
@@ -45,3 +52,50 @@ def test_listed_words_are_not_proposed_and_groups_are_by_language() -> None:
     assert set(groups) <= {"fr", "pt"}
     sims = [c.similarity for c in groups["pt"]]
     assert sims == sorted(sims, reverse=True)
+
+
+def test_phrases_never_start_or_end_with_a_function_word() -> None:
+    counts = phrases([("Le prix du marché est bon.", "fr")])
+    assert ("prix du marché", "fr") in counts
+    assert ("prix", "fr") in counts
+    assert not any(p.split()[0] in ("le", "du", "est") for p, _ in counts)
+    assert not any(p.split()[-1] in ("le", "du", "est") for p, _ in counts)
+
+
+def test_english_list_proposes_multiword_phrases() -> None:
+    # "prix du marché" is "market price" (translation from memory); the single words
+    # "prix" and "marché" are each only half of it.
+    space = pretrained.load_space()
+    assert space is not None
+    found = propose(space, [("C:price", "market price", "en"), *ALIASES[:1]], CORPUS_PHRASES)
+    best = max((c for c in found if c.concept_id == "C:price"), key=lambda c: c.similarity)
+    assert best.text == "prix du marché"
+    assert best.margin > 0
+
+
+CORPUS_PHRASES = [
+    ("Le prix du marché est bas cette année.", "fr"),
+    ("Le goût est bon.", "fr"),
+]
+
+
+def test_silver_aliases_keep_only_confident_candidates() -> None:
+    cands = [
+        Candidate("C:a", "cuit vite", "fr", 0.72, "cooks fast", 3, 0.2),
+        Candidate("C:a", "vite", "fr", 0.72, "cooks fast", 3, 0.2),  # one word: needs 0.8
+        Candidate("C:b", "gros grains", "fr", 0.9, "big grains", 1, 0.01),  # no lead
+        Candidate("C:c", "peau", "fr", 0.94, "skin", 2, 0.3),
+    ]
+    assert silver_aliases(cands) == [("C:a", "cuit vite", "fr"), ("C:c", "peau", "fr")]
+
+
+def test_confident_synonyms_only_where_the_list_is_silent() -> None:
+    aliases = [*ALIASES, ("C:price", "prix", "fr")]
+    silver = confident_synonyms(pretrained.DEFAULT, aliases, CORPUS)
+    assert ("C:taste", "goût", "fr") in silver
+    assert all(not (c == "C:price" and lang == "fr") for c, _, lang in silver)
+    assert all(lang != "en" for _, _, lang in silver)
+
+
+def test_confident_synonyms_are_empty_without_a_space() -> None:
+    assert confident_synonyms(pretrained.NONE, ALIASES, CORPUS) == []
