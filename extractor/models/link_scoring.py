@@ -11,7 +11,7 @@
 * **semantic**: the best cosine between the span and the concept's forms in the
   pretrained multilingual space (:mod:`extractor.nlp.pretrained`), each encoded whole,
   so "cuit vite" meets "cooks fast" and an English-only list links French answers.
-  Rescaled so that :data:`SEMANTIC_FLOOR` (about what unrelated words share) is 0 and
+  Rescaled so that :data:`SEMANTIC_FLOOR` (above what unrelated words share) is 0 and
   1 is 1. A span made of function words and verbs of liking only
   (:func:`extractor.nlp.nontrait.only_function_words`) scores 0; without the space
   (``"none"``, or its package missing) every semantic score is 0.
@@ -49,10 +49,12 @@ Example = tuple[Sentence, Span, "str | None"]
 Scores = tuple[float, float, float, float]
 """The exact, fuzzy, context and semantic scores of one candidate concept."""
 
-SEMANTIC_FLOOR = 0.5
+SEMANTIC_FLOOR = 0.6
 """Cosine that maps to a semantic score of 0: in the multilingual encoder's space a
 stop word and a trait word share about 0.5 ("taste" and "le": 0.55, "taste" and "the":
-0.50), translations 0.8-0.9 ("taste"/"goût" 0.89; measured, see tests/models)."""
+0.50), unrelated trait words up to about 0.55 ("colour"/"flavour" 0.54), translations
+0.8-0.95 ("taste"/"goût" 0.89, "price"/"preço" 0.95; measured, tests/models). A floor
+of 0.5 let "colour" add to a fuzzy near-miss with "flavour" and link to taste."""
 
 WINDOW = 5
 """Tokens either side of a span whose words feed the context classifier."""

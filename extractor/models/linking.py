@@ -48,11 +48,10 @@ DEFAULT_WEIGHTS = (-4.0, 5.0, 5.5, 4.0, 7.0)
 Set by hand (common practice for a cold start) so that an exact alias gives about
 0.99, a fuzzy cosine of 0.5 alone about 0.22 (just below the default threshold),
 0.6 about 0.33, and a confident context classifier lifts a weak fuzzy match over it.
-The semantic weight, also by hand: a translation of an alias (cosine about 0.9, score
-0.8) alone gives about 0.83, a cosine of 0.75 (score 0.5) about 0.38, 0.7 (0.4) about
-0.23, just below the threshold ("sequía"/"drought" is 0.73 and links, 0.7 is the silver
-phrase threshold of :mod:`extractor.nlp.synonyms`). A weight of 5 left "sequía"
-unlinked (tests/models/test_link_scoring.py). It applies only below
+The semantic weight, also by hand: alone, a translation of an alias (cosine 0.9,
+score 0.75) gives about 0.78, a cosine of 0.8 (score 0.5) about 0.38, 0.75 (0.375)
+about 0.2, below the threshold: a near neighbour that is no translation
+("sequía"/"drought" is 0.73) needs a second score's support. It applies only below
 :data:`MIN_COMBINER_EXAMPLES` linked examples; a list with a few dozen dictionary
 matches in the answers fits the combiner instead.
 """
