@@ -7,10 +7,8 @@ and saves and loads a model version folder without pickle:
 
 ``tagger.crfsuite`` + ``tagger.json`` (CRFsuite's own format), ``clusters.json`` +
 ``vectors.npy``, ``linker/``, ``stance/`` and ``sentence/`` (skops + JSON),
-``aliases.json``, ``silver_aliases.json`` and ``meta.json`` (older versions load without
-the sentence model or silver aliases). Silver aliases (``nlp.synonyms.confident_synonyms``)
-join the dictionary that labels silver sentences, so an English-only list finds French
-mentions at 0 labels; they stay in the version, never in the imported list.
+``aliases.json``, ``silver_aliases.json`` (answer phrases near an alias, silver only) and
+``meta.json``; an older version loads without silver aliases or a sentence-level model.
 """
 
 from __future__ import annotations
@@ -220,11 +218,8 @@ class TraitModels(BaseEstimator):
             [(s.text, s.lang) for s in corpus], seed=self.seed
         )
         space = self.clusters_.get("pretrained", {}).get("space", NONE)
-        self.silver_aliases_ = (
-            confident_synonyms(space, self.aliases_, [(s.text, s.lang) for s in corpus])
-            if self.silver_synonyms
-            else []
-        )
+        texts = [(s.text, s.lang) for s in corpus] if self.silver_synonyms else []
+        self.silver_aliases_ = confident_synonyms(space, self.aliases_, texts)
         listed = self.aliases_ + self.silver_aliases_
         self.dictionary_: Dictionary | None = build_dictionary(listed) if listed else None
         labeled = {s.id for s, _ in gold} | held_out
