@@ -12,6 +12,9 @@ Conventions
 * A budget counts all labeled sentences, seed included. Repeat ``r`` draws its seed
   sentences (``seed_size``, default 10) at random with seed ``seed * 1000 + r``; every
   strategy of that repeat starts from them, so strategies differ only in what they ask.
+  A strategy with a centroid cold start (``cold_start="centroids"``, as the labeling
+  session's first batch) starts instead from the pool sentences nearest the k-means
+  centroids of its vectors, the k-means seeded from the same generator.
   Budgets below ``seed_size`` use the first sentences of the seed.
 * Budget 0 is the dictionary bootstrap alone (models trained on the concept list's
   aliases and no label). Without aliases there is nothing to train at budget 0: its

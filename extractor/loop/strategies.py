@@ -217,17 +217,27 @@ STRATEGIES: dict[str, Strategy] = {
         density_k=20,
         cold_start="centroids",
     ),
-    # Chosen with `traits simulate` (tagger alone, batch 5, seed 0; MAMS train as pool with
-    # 500 candidates a round and MAMS test as test; the demo gold split by respondent). Over
-    # 10 repeats, span F1 gain over random, paired by repeat: MAMS +0.0 / +0.8 / +2.4 points
-    # at 50 / 100 / 200 labels (0.679 at 200), demo +2.6 / +3.5 / +1.6. About 20 other
-    # scorings and settings (entropy, least confidence, lowest token probability, committees,
-    # word-frequency weighting, other vectors, windows and retraining intervals) did no
-    # better at 100 labels on MAMS and most did worse. DEVELOPERS.md has the commands.
-    # Change this one line when a new simulation says otherwise. Adding the sentence-level
-    # uncertainty ("norm_logprob_sentence") lost to random on MAMS-ACSA category F1 at 100
-    # labels (tests/bench/acsa_strategy.py), so it is not the default.
-    "default": Strategy(norm_logprob, density_beta=1.0, diversity=True),
+    # Chosen with `traits simulate` (tagger alone, batch 5, seed 0, MAMS train as pool with
+    # 500 candidates a round, MAMS test as test; DEVELOPERS.md has the commands and table).
+    # MNLP weighted by the k-nearest-neighbour density and spread by ranked batch, both in
+    # the pretrained space, first batch nearest the k-means centroids: over 10 repeats, span
+    # F1 gain over random, paired by repeat, +5.4 / +4.7 / +2.3 / +1.4 / +0.9 points at
+    # 25 / 50 / 100 / 150 / 200 labels (0.665 at 100, 0.680 at 200). The same MNLP with
+    # modAL's density and diversity over character n-grams (the default before,
+    # "norm_logprob_ngrams"): see DEVELOPERS.md. Earlier, about 20 other scorings and
+    # settings (entropy, least confidence, lowest token probability, committees,
+    # word-frequency weighting, windows and retraining intervals) did no better at 100
+    # labels on MAMS. Adding the sentence-level uncertainty ("norm_logprob_sentence") lost
+    # to random on MAMS-ACSA category F1 at 100 labels (tests/bench/acsa_strategy.py).
+    # Change this one line when a new simulation says otherwise.
+    "default": Strategy(
+        norm_logprob,
+        density_beta=1.0,
+        diversity=True,
+        vectors="pretrained",
+        density_k=20,
+        cold_start="centroids",
+    ),
 }
 """The strategies an annotator can choose with ``--strategy``."""
 

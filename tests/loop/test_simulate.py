@@ -8,10 +8,13 @@ import random
 from typing import Any
 
 import pytest
+from sklearn.cluster import KMeans
 
 from extractor.errors import InputError
 from extractor.loop.curves import SimulationResults
 from extractor.loop.simulate import simulate
+from extractor.loop.space_vectors import centroid_picks, pool_vectors
+from extractor.nlp.text import tokenize
 
 KEYS = {
     "strategy",
@@ -112,10 +115,30 @@ def test_budget_zero_is_the_dictionary_with_aliases() -> None:
     assert record.stance_accuracy is None
 
 
-def test_seed_sentences_are_shared_by_strategies() -> None:
-    runs = run(budgets=[5]).runs
+def test_seed_sentences_are_shared_by_strategies_with_a_random_start() -> None:
+    runs = run(budgets=[5], strategies=["random", "least_confidence", "norm_logprob_ngrams"]).runs
     assert len({r.labeled_tokens for r in runs}) == 1
     assert len({r.span_f1 for r in runs}) == 1
+
+
+def test_centroid_cold_start_seeds_with_the_sentences_nearest_the_centroids() -> None:
+    pool, test = toy_records(40, 1), toy_records(12, 2)
+    runs = simulate(
+        pool, test, [], strategies=["norm_logprob_space_centroids"], budgets=[5], repeats=2,
+        seed=0, seed_size=5, model="tagger", clusters={},
+    ).runs  # fmt: skip
+    texts = [r["sentence"] for r in pool]
+    vectors = pool_vectors(texts, ["en"] * len(texts), kind="pretrained")
+    tokens = [len(tokenize(t, "en")) for t in texts]
+    # Each repeat draws its own k-means seed, and the seed sentences are one per cluster.
+    for record in runs:
+        rng = random.Random(record.repeat)  # seed 0: the repeat's generator, as in a run
+        rng.shuffle(list(range(len(pool))))  # the random start's order, drawn first
+        seed = rng.randrange(1 << 30)
+        picks = centroid_picks(vectors, 5, seed=seed)
+        assert record.labeled_tokens == sum(tokens[i] for i in picks)
+        labels = KMeans(n_clusters=5, random_state=seed, n_init=1).fit(vectors).labels_
+        assert sorted(labels[picks].tolist()) == [0, 1, 2, 3, 4]
 
 
 def test_parallel_runs_equal_serial_runs() -> None:
