@@ -86,7 +86,7 @@ def test_strategy_density_follows_density_k() -> None:
     x, _ = _blobs()
     knn = STRATEGIES["norm_logprob_space_knn"]
     assert np.allclose(strategy_density(x, knn), knn_density(x, knn.density_k))
-    assert np.allclose(strategy_density(x, STRATEGIES["default"]), active.density(x))
+    assert np.allclose(strategy_density(x, STRATEGIES["norm_logprob_ngrams"]), active.density(x))
 
 
 def test_centroid_picks_take_one_sentence_from_each_group() -> None:
