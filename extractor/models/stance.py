@@ -3,7 +3,7 @@
 :class:`StanceModel` is a logistic regression over the span-relative features of
 :mod:`extractor.models.stance_features` plus the cue rules' own answer
 (:func:`extractor.models.cues.rule_stance`), so it learns how far to trust the rules,
-and the pretrained encoder's vector of the mention's clause
+and the pretrained encoder's vectors of the mention's clause and sentence
 (:mod:`extractor.models.stance_context`), so what it learns from labels in one language
 carries to languages without cue words. Until it is fitted it answers with the rules alone.
 """
@@ -139,7 +139,7 @@ class StanceModel(BaseEstimator):
         X = [_model_features(s, sp, cues, codebook) for s, sp, _ in examples]
         space = pretrained.load_space(self.space)
         self.space_ = space.name if space is not None else pretrained.NONE
-        self.dense_dim_ = space.dim if space is not None else 0
+        self.dense_dim_ = 2 * space.dim if space is not None else 0
         pipe = Pipeline(
             [
                 ("vectorizer", DictVectorizer()),

@@ -1,4 +1,4 @@
-"""Dense stance features: the pretrained encoder's vector of a mention's clause.
+"""Dense stance features: the pretrained encoder's vectors of a mention's clause and sentence.
 
 The cue lexicon reads stance only in languages it has words for. The multilingual
 encoder of :mod:`extractor.nlp.pretrained` places "the taste is very good", "le goût est
@@ -6,11 +6,12 @@ très bon" and "el sabor es muy bueno" near each other, so a stance model that a
 the encoder's vector of the clause around a mention learns from labels in one language
 and applies what it learned in another, cue words or not.
 
-The text encoded is the mention's clause (the tokens between the clause boundaries of
-:func:`extractor.models.cues.clause`, span included): on the MAMS validation split it
-beat the whole sentence, a window of five tokens either side and the contrast segment
-(the figures are in DEVELOPERS.md, "Stance figures"). Vectors are cached per text, so
-mentions sharing a clause, and a sentence predicted again, cost one encoder call.
+The texts encoded are the mention's clause (the tokens between the clause boundaries of
+:func:`extractor.models.cues.clause`, span included) and its whole sentence, side by
+side: on MAMS the pair beat the clause alone, the sentence alone, a window of five
+tokens either side and the contrast segment (the figures are in DEVELOPERS.md, "Stance
+figures"). Vectors are cached per text, so mentions sharing a clause or a sentence, and
+a sentence predicted again, cost one encoder call.
 """
 
 from __future__ import annotations
@@ -43,7 +44,7 @@ def context_text(sentence: Sentence, span: Span, cues: Cues) -> str:
 
 
 def context_vectors(space: Space, items: Sequence[tuple[Sentence, Span]], cues: Cues) -> np.ndarray:
-    """Return one unit-length row per mention: the encoder's vector of its clause.
+    """Return one row per mention: the encoder's vectors of its clause and its sentence.
 
     Args:
         space: The loaded pretrained space.
@@ -51,11 +52,17 @@ def context_vectors(space: Space, items: Sequence[tuple[Sentence, Span]], cues: 
         cues: The lexicon whose clause boundaries delimit the context.
 
     Returns:
-        An ``(n, space dimension)`` array.
+        An ``(n, 2 * space dimension)`` array, both halves of unit length.
     """
-    texts = [context_text(s, sp, cues) for s, sp in items]
-    if not texts:
+    if not items:
         return np.zeros((0, 0), dtype=np.float32)
+    clauses = _encoded(space, [context_text(s, sp, cues) for s, sp in items])
+    sentences = _encoded(space, [s.text for s, _ in items])
+    return np.hstack([clauses, sentences])
+
+
+def _encoded(space: Space, texts: list[str]) -> np.ndarray:
+    """Return the encoder's rows of the texts, through the cache."""
     with _LOCK:
         missing = sorted({t for t in texts if (space.name, t) not in _CACHE})
     fresh = dict(zip(missing, space.texts(missing), strict=True)) if missing else {}

@@ -56,8 +56,9 @@ def test_context_vectors_are_unit_rows_shared_by_a_clause() -> None:
     b = mention("The taste of the pods is good.", "pods")
     assert context_text(*a, CUES) == context_text(*b, CUES)
     rows = context_vectors(space, [a, b], CUES)
-    assert rows.shape == (2, space.dim)
-    np.testing.assert_allclose(np.linalg.norm(rows, axis=1), 1.0, rtol=1e-5)
+    assert rows.shape == (2, 2 * space.dim)
+    for half in (rows[:, : space.dim], rows[:, space.dim :]):
+        np.testing.assert_allclose(np.linalg.norm(half, axis=1), 1.0, rtol=1e-5)
     np.testing.assert_allclose(rows[0], rows[1])
 
 
@@ -132,14 +133,14 @@ def test_a_trait_said_absent_in_reply_to_a_likes_question_is_liked(
 def test_clause_vectors_lift_mams_stance_accuracy() -> None:
     # MAMS aspect-term sentiment (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0): the first
     # 1,000 train sentences fit, the validation split scores (majority class 0.453).
-    # Measured: 0.656 sparse alone, 0.683 with clause vectors; with the full train split
-    # 0.752 (tests/bench/mams_stance.py). From memory, published models without
-    # pretraining reach about 0.70-0.77 on MAMS test with the full train split.
+    # Measured: 0.656 sparse alone, 0.697 with clause and sentence vectors; with the full
+    # train split 0.702 and 0.737 on the test split (tests/bench/mams_stance.py). From
+    # memory, published models without pretraining reach about 0.70-0.77 there.
     train, test = _mams("train", 1000), _mams("val", 500)
     sparse = _accuracy(StanceModel(space="none").fit(train), test)
     dense = _accuracy(StanceModel().fit(train), test)
-    assert dense >= sparse + 0.015
-    assert dense >= 0.67
+    assert dense >= sparse + 0.025
+    assert dense >= 0.68
 
 
 # Our own translations of stance-bearing sentences (typed from memory), in two languages
