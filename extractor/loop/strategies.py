@@ -183,6 +183,16 @@ class Strategy(NamedTuple):
     cold_start: str = "density"
 
 
+_SPACE_KNN_CENTROIDS = Strategy(
+    norm_logprob,
+    density_beta=1.0,
+    diversity=True,
+    vectors="pretrained",
+    density_k=20,
+    cold_start="centroids",
+)
+"""The default: MNLP, kNN density and diversity in the pretrained space, centroid start."""
+
 STRATEGIES: dict[str, Strategy] = {
     "least_confidence": Strategy(least_confidence),
     "norm_logprob": Strategy(norm_logprob),
@@ -209,14 +219,7 @@ STRATEGIES: dict[str, Strategy] = {
         vectors="pretrained",
         cold_start="centroids",
     ),
-    "norm_logprob_space_knn_centroids": Strategy(
-        norm_logprob,
-        density_beta=1.0,
-        diversity=True,
-        vectors="pretrained",
-        density_k=20,
-        cold_start="centroids",
-    ),
+    "norm_logprob_space_knn_centroids": _SPACE_KNN_CENTROIDS,
     # Chosen with `traits simulate` (tagger alone, batch 5, seed 0, MAMS train as pool with
     # 500 candidates a round, MAMS test as test; DEVELOPERS.md has the commands and table).
     # MNLP weighted by the k-nearest-neighbour density and spread by ranked batch, both in
@@ -230,14 +233,7 @@ STRATEGIES: dict[str, Strategy] = {
     # labels on MAMS. Adding the sentence-level uncertainty ("norm_logprob_sentence") lost
     # to random on MAMS-ACSA category F1 at 100 labels (tests/bench/acsa_strategy.py).
     # Change this one line when a new simulation says otherwise.
-    "default": Strategy(
-        norm_logprob,
-        density_beta=1.0,
-        diversity=True,
-        vectors="pretrained",
-        density_k=20,
-        cold_start="centroids",
-    ),
+    "default": _SPACE_KNN_CENTROIDS,
 }
 """The strategies an annotator can choose with ``--strategy``."""
 
