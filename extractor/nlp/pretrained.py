@@ -13,7 +13,7 @@ inside a package from PyPI and loads from disk (no download at run time):
 * ``"none"``: no pretrained space; every function degrades to "nothing known".
 
 Choose by measurement (``tests/bench/bench_pretrained.py``); the figures are in the
-module table of DEVELOPERS.md.
+section "The pretrained space: how it was chosen" of DEVELOPERS.md.
 
 A word's vector is the encoder's vector of the word alone, lower-cased, computed once
 per process and cached. Words of one language share a direction that has nothing to do
