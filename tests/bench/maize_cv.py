@@ -48,6 +48,7 @@ def scores(
 ) -> dict[str, Any]:
     """Return span, span+concept, span+concept+stance and respondent-triple P/R/F1."""
     out: dict[str, Any] = {}
+
     def with_stance(spans: list[list[Span]]) -> list[list[Span]]:
         return [[Span(s.start, s.end, f"{s.concept}|{s.stance}") for s in ss] for ss in spans]
 
