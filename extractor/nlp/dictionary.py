@@ -1,10 +1,14 @@
 """Dictionary matching of concept aliases in sentences, giving silver trait spans.
 
-Matching runs spaCy's :class:`~spacy.matcher.PhraseMatcher` over a *key* form of each
-token rather than its text: lower-cased (``casefold``), stemmed with the Snowball
-stemmer of a language, then stripped of accents (NFKD, combining marks removed). So
-"Cooking", "cooked" and "cooks" all match the alias "cook", and "épaisseur" matches
-"epaisseur". Languages without a Snowball stemmer match on the unstemmed key.
+Matching compares a *key* form of each token rather than its text: lower-cased
+(``casefold``), stemmed with the Snowball stemmer of a language, then stripped of
+accents (NFKD, combining marks removed). So "Cooking", "cooked" and "cooks" all match
+the alias "cook", and "épaisseur" matches "epaisseur". Languages without a Snowball
+stemmer match on the unstemmed key. Every run of tokens whose keys equal an alias's keys
+is a match (what spaCy's ``PhraseMatcher`` finds over the same keys, which the tests
+check); the keys are looked up in a table of alias key sequences rather than through
+spaCy documents, which cost most of the matching time (the tagger matches every
+sentence it tags, with the matcher of up to three stemmers).
 
 Code-switching (a Spanish trait word inside an English answer) is common in
 interviews, so every alias is matched in every sentence, whatever its language:
@@ -23,14 +27,11 @@ then the smallest concept ID, so results never depend on input order.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from functools import cache, lru_cache
 from typing import NamedTuple
 
 import snowballstemmer
-from spacy.matcher import PhraseMatcher
-from spacy.tokens import Doc
-from spacy.vocab import Vocab
 
 from extractor.errors import InputError
 from extractor.nlp.fold import fold
@@ -91,12 +92,9 @@ class _Entry(NamedTuple):
 
 
 class _Matcher(NamedTuple):
-    matcher: PhraseMatcher
-    entries: dict[str, list[_Entry]]  # label -> the aliases behind it
+    entries: dict[tuple[str, ...], list[_Entry]]  # alias keys -> the aliases behind them
+    lengths: dict[str, tuple[int, ...]]  # first key -> lengths (in tokens) of aliases starting so
     known: frozenset[str]  # every key used by some alias
-
-
-_UNKNOWN = "\x00"
 
 
 class Dictionary:
@@ -115,7 +113,6 @@ class Dictionary:
         self.aliases = aliases
         self._tokens = tokens
         self._alias_langs = alias_langs
-        self._vocab = Vocab()
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
 
     @classmethod
@@ -139,21 +136,20 @@ class Dictionary:
         """
         cache_key = (stem_lang, only_own)
         if cache_key not in self._matchers:
-            matcher = PhraseMatcher(self._vocab)
-            entries: dict[str, list[_Entry]] = {}
-            known: set[str] = set()
+            entries: dict[tuple[str, ...], list[_Entry]] = {}
+            lengths: dict[str, set[int]] = {}
             for concept, form, alias, lang in self._tokens:
                 alias_lang = stemmer_language(lang)
                 if only_own and alias_lang != stem_lang:
                     continue
-                keys = [stem_word(w, stem_lang) for w in _words(alias, lang)]
-                label = "\x1f".join(keys)
-                known.update(keys)
-                if label not in entries:
-                    entries[label] = []
-                    matcher.add(label, [Doc(self._vocab, words=keys)])
-                entries[label].append(_Entry(concept, _code(lang), form))
-            self._matchers[cache_key] = _Matcher(matcher, entries, frozenset(known))
+                keys = tuple(stem_word(w, stem_lang) for w in _words(alias, lang))
+                if not keys:
+                    continue
+                entries.setdefault(keys, []).append(_Entry(concept, _code(lang), form))
+                lengths.setdefault(keys[0], set()).add(len(keys))
+            known = frozenset(k for keys in entries for k in keys)
+            by_first = {first: tuple(sorted(found)) for first, found in lengths.items()}
+            self._matchers[cache_key] = _Matcher(entries, by_first, known)
         return self._matchers[cache_key]
 
     def match(self, text: str, lang: str) -> list[Span]:
@@ -193,17 +189,12 @@ class Dictionary:
     def _candidates(
         self, words: list[str], forms: list[str], stem_lang: str, sent_code: str, *, only_own: bool
     ) -> list[_Candidate]:
-        matcher, entries, known = self._matcher(stem_lang, only_own)
+        entries, lengths, known = self._matcher(stem_lang, only_own)
         keys = [stem_word(w, stem_lang) for w in words]
         if known.isdisjoint(keys):
             return []
-        # Keys of no alias cannot match: one placeholder for them all keeps the
-        # vocabulary from growing with every new word of the corpus.
-        keys = [k if k in known else _UNKNOWN for k in keys]
         out = []
-        strings = self._vocab.strings
-        for match_id, first, stop in matcher(Doc(self._vocab, words=keys)):
-            options = entries[strings[match_id]]
+        for first, stop, options in _matches(keys, entries, lengths):
             if stop - first == 1 and never_alone(
                 words, first, sent_code, [" ".join(e.form) for e in options]
             ):
@@ -215,6 +206,27 @@ class Dictionary:
             )
             out.append(_Candidate(first, stop, best.concept, best.lang == sent_code))
         return out
+
+
+def _matches(
+    keys: list[str],
+    entries: dict[tuple[str, ...], list[_Entry]],
+    lengths: dict[str, tuple[int, ...]],
+) -> Iterator[tuple[int, int, list[_Entry]]]:
+    """Yield ``(first, stop, aliases)`` for every run of ``keys`` that is an alias's keys.
+
+    Runs may overlap and nest, as with spaCy's ``PhraseMatcher``: choosing among them
+    is :func:`_longest_first`'s job.
+    """
+    n = len(keys)
+    for first, key in enumerate(keys):
+        for length in lengths.get(key, ()):
+            stop = first + length
+            if stop > n:
+                break
+            found = entries.get(tuple(keys[first:stop]))
+            if found is not None:
+                yield first, stop, found
 
 
 def _code(lang: str) -> str:

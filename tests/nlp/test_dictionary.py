@@ -2,11 +2,20 @@
 
 from __future__ import annotations
 
+import json
+from collections.abc import Iterable
+from pathlib import Path
+
 import pytest
+from spacy.matcher import PhraseMatcher
+from spacy.tokens import Doc
+from spacy.vocab import Vocab
 
 from extractor.errors import InputError
-from extractor.nlp.dictionary import Dictionary, build_dictionary, stem_word
+from extractor.nlp.dictionary import Dictionary, _matches, build_dictionary, stem_word
+from extractor.nlp.text import tokenize
 from extractor.types import Sentence
+from tests.mams import SKIP_REASON, load_mams
 
 # Invented trait IDs and aliases.
 ALIASES = [
@@ -128,3 +137,55 @@ SNOWBALL_EXAMPLES = [
 )
 def test_stem_word_agrees_with_snowball_vocabulary(word: str, lang: str, stem: str) -> None:
     assert stem_word(word, lang) == stem
+
+
+class _SpacyRuns:
+    """spaCy's PhraseMatcher over the alias keys of one of our matchers (the reference)."""
+
+    def __init__(self, entries: Iterable[tuple[str, ...]]) -> None:
+        self.vocab = Vocab()
+        self.matcher = PhraseMatcher(self.vocab)
+        self.labels: dict[str, tuple[str, ...]] = {}
+        for n, alias_keys in enumerate(entries):
+            self.labels[f"A{n}"] = alias_keys
+            self.matcher.add(f"A{n}", [self._doc(list(alias_keys))])
+
+    def _doc(self, words: list[str]) -> Doc:
+        return Doc(self.vocab, words=words)
+
+    def __call__(self, keys: list[str]) -> set[tuple[int, int, tuple[str, ...]]]:
+        found = self.matcher(self._doc(keys)) if keys else []
+        return {(a, b, self.labels[self.vocab.strings[m]]) for m, a, b in found}
+
+
+def test_matching_finds_the_runs_spacy_phrase_matcher_finds() -> None:
+    # Outside check: spaCy's PhraseMatcher (general-purpose reference library) over the
+    # same token keys finds the same alias runs, overlapping and nested ones included,
+    # on open data (MAMS test sentences, aliases = their aspect terms) and the demo.
+    mams = load_mams("test")
+    if mams is None:
+        pytest.skip(SKIP_REASON)
+    root = Path(__file__).resolve().parents[2] / "sample_interviews"
+    demo = [json.loads(line) for line in (root / "gold.jsonl").read_text("utf-8").splitlines()]
+    records = mams[:400] + demo
+    aliases = [
+        (f"T{n}", r["sentence"][m["start"] : m["end"]], r["lang"])
+        for n, r in enumerate(records)
+        for m in r["mentions"]
+    ] + ALIASES
+    d = build_dictionary(aliases)
+    combos = [(lang, own) for lang in ("en", "fr", "es", "") for own in (False, True)]
+    matchers = [d._matcher(lang, own) for lang, own in combos]
+    references = [_SpacyRuns(m.entries) for m in matchers]
+    runs: list[tuple[int, int]] = []
+    for r in records:
+        words = [r["sentence"][a:b] for a, b in tokenize(r["sentence"], r["lang"])]
+        for (lang, _), (entries, lengths, _), spacy_runs in zip(
+            combos, matchers, references, strict=True
+        ):
+            keys = [stem_word(w, lang) for w in words]
+            ours = {(a, b, tuple(keys[a:b])) for a, b, _ in _matches(keys, entries, lengths)}
+            assert ours == spacy_runs(keys), r["sentence"]
+            runs += [(a, b) for a, b, _ in ours]
+    # The check saw many matches, multi-word and overlapping ones among them.
+    assert len(runs) > 1000 and sum(b - a > 1 for a, b in runs) > 100
