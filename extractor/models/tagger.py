@@ -1,7 +1,8 @@
 """The BIO trait tagger: a linear-chain CRF (python-crfsuite) with token marginals.
 
 :class:`TraitTagger` follows the scikit-learn estimator contract over feature
-sequences (from :func:`extractor.nlp.features.sentence_features`) and IOB2 tags.
+sequences (from :func:`extractor.nlp.features.sentence_attributes`, or the same features
+as dicts from :func:`~extractor.nlp.features.sentence_features`) and IOB2 tags.
 :func:`tag_sentences` does the plumbing from sentences, a dictionary and word clusters
 (:func:`sentence_items`), so callers never build features themselves; training from
 gold and silver sentences is :func:`extractor.models.tagger_training.fit_tagger`.
@@ -15,7 +16,7 @@ import gc
 import hashlib
 import json
 import tempfile
-from collections.abc import Iterator, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -25,7 +26,7 @@ from sklearn.base import BaseEstimator
 
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.nlp.dictionary import Dictionary
-from extractor.nlp.features import Clusters, sentence_features
+from extractor.nlp.features import Attributes, Clusters, sentence_attributes
 from extractor.nlp.spans import iob_to_spans, repair_iob, spans_to_concepts, spans_to_iob
 from extractor.nlp.text import tokenize
 from extractor.types import TAGS, Sentence, Span
@@ -37,7 +38,8 @@ PARAMS_FILE = "tagger.json"
 ALGORITHMS = ("lbfgs", "l2sgd", "ap", "pa", "arow")
 """CRFsuite's training algorithms."""
 
-Features = list[dict[str, str | float]]
+Features = Sequence[Attributes | Mapping[str, str | float]]
+"""One sentence's features: per token, attributes or a ``{name: value}`` dict."""
 
 
 class TagPath(NamedTuple):
@@ -319,7 +321,7 @@ def sentence_items(
     clusters: Clusters | None,
     *,
     dictionary_features: bool = True,
-) -> tuple[list[tuple[int, int]], Features, list[Span]]:
+) -> tuple[list[tuple[int, int]], list[Attributes], list[Span]]:
     """Return the tokens, CRF features and dictionary matches of one sentence.
 
     Args:
@@ -332,7 +334,7 @@ def sentence_items(
     words = [sentence.text[s:e] for s, e in offsets]
     matches = dictionary.match_tokens(sentence.text, sentence.lang, offsets) if dictionary else []
     use_dict = dictionary is not None and dictionary_features
-    feats = sentence_features(
+    feats = sentence_attributes(
         words,
         dict_tags=spans_to_iob(offsets, matches) if use_dict else None,
         dict_concepts=spans_to_concepts(offsets, matches) if use_dict else None,
@@ -344,9 +346,9 @@ def sentence_items(
 
 @contextmanager
 def _collector_paused() -> Iterator[None]:
-    """Pause Python's cyclic garbage collector while a batch builds its feature dicts.
+    """Pause Python's cyclic garbage collector while a batch builds its features.
 
-    Features are tens of thousands of small dicts per thousand sentences; each allocation
+    Features are tens of thousands of small containers per thousand sentences; each allocation
     burst triggers collections that rescan the whole heap (clusters, corpus, models), which
     cost a fifth to a third of the tagging time, and varied from run to run. The dicts hold
     no reference cycles, so reference counting frees them; the collector resumes after.

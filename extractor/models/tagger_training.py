@@ -39,7 +39,7 @@ from typing import Any
 from extractor.errors import InputError
 from extractor.models.tagger import Features, TraitTagger, sentence_items
 from extractor.nlp.dictionary import Dictionary
-from extractor.nlp.features import Clusters
+from extractor.nlp.features import Attributes, Clusters
 from extractor.nlp.spans import OUTSIDE, iob_to_spans, spans_to_iob
 from extractor.types import Sentence, Span
 
@@ -87,18 +87,29 @@ def fit_tagger(
         )
     if gold_weight < 1:
         raise InputError(f"gold_weight must be a whole number of at least 1; got {gold_weight!r}.")
-    X: list[Features] = []
+    X: list[list[Attributes]] = []
     y: list[list[str]] = []
     for sentence, spans in gold:
         offsets, feats, _ = sentence_items(sentence, dictionary, clusters)
         tags = spans_to_iob(offsets, spans)
         X += [feats] * gold_weight
         y += [tags] * gold_weight
-    sx: list[Features] = []
+    sx: list[list[Attributes]] = []
     sy: list[list[str]] = []
     if dictionary is not None and silver_sentences:
+        # The gold model that judges silver sentences must see them as they will be
+        # trained on, without dictionary features, so it is trained without them too.
+        gold_plain = [sentence_items(s, None, clusters)[1] for s, _ in gold]
+        judge_X = [feats for feats in gold_plain for _ in range(gold_weight)]
         sx, sy = _silver(
-            silver_sentences, dictionary, clusters, X, y, silver_filter, silver_threshold, params
+            silver_sentences,
+            dictionary,
+            clusters,
+            judge_X,
+            y,
+            silver_filter,
+            silver_threshold,
+            params,
         )
     if not sx:
         # The weight is relative to silver sentences; without any, repeating the gold
@@ -113,13 +124,17 @@ def _silver(
     sentences: Sequence[Sentence],
     dictionary: Dictionary,
     clusters: Clusters | None,
-    gold_X: list[Features],
+    judge_X: Sequence[Features],
     gold_y: list[list[str]],
     silver_filter: str,
     threshold: float,
     params: Mapping[str, Any],
-) -> tuple[list[Features], list[list[str]]]:
-    """Return features and dictionary labels of the silver sentences kept by the filter."""
+) -> tuple[list[list[Attributes]], list[list[str]]]:
+    """Return features and dictionary labels of the silver sentences kept by the filter.
+
+    ``judge_X`` are the gold sentences' features without dictionary features, with
+    their tags ``gold_y``.
+    """
     items = [sentence_items(s, dictionary, clusters, dictionary_features=False) for s in sentences]
     if silver_filter == "all":
         return [f for _, f, _ in items], [spans_to_iob(o, m) for o, _, m in items]
@@ -127,12 +142,7 @@ def _silver(
     has_gold_traits = any(t != OUTSIDE for tags in gold_y for t in tags)
     if silver_filter == "matched" or not has_gold_traits or not items:
         return [f for _, f, _ in items], [spans_to_iob(o, m) for o, _, m in items]
-    # The gold model must judge silver sentences from the same features they will be
-    # trained on (without dictionary features), so it is trained without them too.
-    gold_only = [
-        [{k: v for k, v in tok.items() if not _is_dict_feature(k)} for tok in seq] for seq in gold_X
-    ]
-    judge = TraitTagger(**params).fit(gold_only, gold_y)
+    judge = TraitTagger(**params).fit(judge_X, gold_y)
     X, y = [], []
     for (offsets, feats, matches), path in zip(
         items, judge.predict([f for _, f, _ in items]), strict=True
@@ -148,10 +158,6 @@ def _silver(
         X.append(feats)
         y.append(spans_to_iob(offsets, list(matches) + confident))
     return X, y
-
-
-def _is_dict_feature(name: str) -> bool:
-    return name in ("d", "dc") or (name.endswith("d") and name[:-1].lstrip("+-").isdigit())
 
 
 def _span_trait_prob(

@@ -1,26 +1,32 @@
-"""Token features for the CRF tagger, as python-crfsuite item dicts.
+"""Token features for the CRF tagger, as python-crfsuite attributes.
 
-Each token becomes a ``{name: value}`` dict: string values are indicator features
-(CRFsuite reads ``{"lw": "cook"}`` as the feature ``lw:cook`` with weight 1) and float
-values are weighted features. Features that depend only on the word are computed once
-per distinct word and cached, so tagging stays fast on long pools of sentences.
+Each token becomes a tuple of attribute names, each a feature of weight 1: ``b"lw:cook"``
+(the indicator feature ``lw`` with value ``cook``, what CRFsuite also makes of the dict
+``{"lw": "cook"}``) or a flag such as ``b"BOS"``. :func:`sentence_features` gives the
+same features as readable dicts. Attributes that depend only on a word (its forms,
+affixes, clusters, and what it shows as a neighbour) are built once per distinct word and
+cached as bytes, which CRFsuite takes without conversion: building and converting
+per-token dicts was most of the tagging time.
 """
 
 from __future__ import annotations
 
 import unicodedata
 from collections.abc import Mapping, Sequence
-from functools import lru_cache
-from typing import Any
+from typing import Any, NamedTuple
 
 from extractor.nlp.dictionary import stem_word
 from extractor.nlp.fold import fold
+from extractor.types import TAGS
 
 WINDOW = 2
 """Neighbouring tokens seen on each side of a token."""
 
 Clusters = Mapping[str, Any]
 """A word-cluster model from :func:`extractor.nlp.clusters.learn_clusters`."""
+
+Attributes = tuple[bytes, ...]
+"""One token's features as python-crfsuite attribute names (UTF-8), each of weight 1."""
 
 
 def word_shape(word: str) -> str:
@@ -49,12 +55,14 @@ def _is_punct(word: str) -> bool:
     return all(unicodedata.category(c).startswith("P") for c in word)
 
 
-@lru_cache(maxsize=1 << 18)
-def _word_features(word: str, lang: str) -> tuple[tuple[str, str | float], ...]:
-    """Return the features of a word that depend on nothing else (cached)."""
+def _word_features(word: str, lang: str) -> list[tuple[str, str | None]]:
+    """Return the features of a word that depend on nothing else, ``(name, value)``.
+
+    A value of ``None`` marks a feature of weight 1 without a value (a flag).
+    """
     lower = word.lower()
-    feats: list[tuple[str, str | float]] = [
-        ("bias", 1.0),
+    feats: list[tuple[str, str | None]] = [
+        ("bias", None),
         ("w", word),
         ("lw", lower),
         ("n", fold(word)),
@@ -67,14 +75,14 @@ def _word_features(word: str, lang: str) -> tuple[tuple[str, str | float], ...]:
             feats.append((f"p{k}", lower[:k]))
             feats.append((f"s{k}", lower[-k:]))
     if word.isdigit():
-        feats.append(("digit", 1.0))
+        feats.append(("digit", None))
     elif any(c.isdigit() for c in word):
-        feats.append(("hasdigit", 1.0))
+        feats.append(("hasdigit", None))
     if _is_punct(word):
-        feats.append(("punct", 1.0))
+        feats.append(("punct", None))
     if word[:1].isupper():
-        feats.append(("title", 1.0))
-    return tuple(feats)
+        feats.append(("title", None))
+    return feats
 
 
 def cluster_ids(word: str, clusters: Clusters | None) -> tuple[str, ...]:
@@ -107,41 +115,210 @@ def _ids(found: Sequence[int] | None) -> tuple[str, ...]:
     return tuple(str(i) for i in found) if found else ()
 
 
-def _lookups(
-    tokens: Sequence[str], clusters: Clusters | None
-) -> tuple[list[tuple[str, ...]], list[Sequence[str]], list[tuple[str, ...]]]:
-    """Return :func:`cluster_ids`, :func:`neighbour_words` and :func:`space_ids` per token.
-
-    The same lookups, with each token folded once and the model's tables read once.
-    """
-    if not clusters:
-        return [()] * len(tokens), [()] * len(tokens), [()] * len(tokens)
-    words = clusters["clusters"]
-    near = clusters.get("neighbours", {})
-    pretrained = clusters.get("pretrained", {}).get("clusters", {})
-    keys = [fold(t) for t in tokens]
-    return (
-        [_ids(words.get(k)) for k in keys],
-        [near.get(k, ()) for k in keys],
-        [_ids(pretrained.get(k)) for k in keys],
-    )
-
-
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 _SPACE_KEYS = tuple(f"x{level}" for level in range(8))
-# Feature names of the window, built once: (offset, word key, cluster key, dictionary key,
-# finer-cluster keys used only right next to the token).
-_WINDOW = tuple(
-    (
-        off,
-        f"{off}lw",
-        f"{off}c",
-        f"{off}d",
-        tuple(f"{off}c{level}" for level in range(1, 8)) if abs(off) == 1 else (),
-    )
-    for off in range(-WINDOW, WINDOW + 1)
-    if off != 0
-)
+_OFFSETS = tuple(off for off in range(-WINDOW, WINDOW + 1) if off != 0)
+# Finer clusters are used only right next to the token: at a distance they are too sparse.
+_FINE_KEYS = {off: tuple(f"{off}c{level}" for level in range(1, 8)) for off in (-1, 1)}
+_PADS = tuple(f"{off}lw:<pad>".encode() for off in _OFFSETS)
+_DICT_TAGS = tuple({tag: f"{off}d:{tag}".encode() for tag in TAGS} for off in _OFFSETS)
+_OWN_TAG = {tag: f"d:{tag}".encode() for tag in TAGS}
+_BOS, _EOS = b"BOS", b"EOS"
+_CACHE_LIMIT = 1 << 15
+"""Distinct words whose features are kept before the cache starts afresh (memory bound)."""
+
+
+class _Word(NamedTuple):
+    """The attributes one word brings to its own token and to its neighbours', encoded."""
+
+    own: Attributes  # word forms, affixes, shapes, flags, clusters, neighbours, space
+    as_prev_x: Attributes  # "-1x" of the next token: this word's coarsest space cluster
+    as_next_x: Attributes  # "+1x" of the previous token
+    window: tuple[Attributes, ...]  # seen from a token at each of _OFFSETS away
+    lower: bytes  # lower-cased form and coarsest cluster, for word pairs
+    coarse: bytes
+    pair_prev: tuple[bytes, bytes, bytes]  # prefixes "-1lw|lw:<lw>|", "-1c|c:<c>|", "-1c|lw:<c>|"
+    s3_prev: bytes  # "-1s3:<last 3 letters>" of the next token
+    pair_next: tuple[bytes, bytes]  # prefixes "lw|+1lw:<lw>|", "lw|+1c:<lw>|"
+    s3_next: bytes  # "+1s3:<last 3 letters>" of the previous token
+
+
+class _Featurizer:
+    """Builds tokens' attributes for one cluster model, caching what depends on the word alone.
+
+    Attributes are bytes, as CRFsuite takes them without conversion, and every distinct
+    attribute is stored once (``_atoms``), so the cache stays small.
+    """
+
+    def __init__(self, clusters: Clusters | None) -> None:
+        self.clusters = clusters
+        self._words_ids: Mapping[str, Sequence[int]] = clusters["clusters"] if clusters else {}
+        self._near: Mapping[str, Sequence[str]] = clusters.get("neighbours", {}) if clusters else {}
+        self._space: Mapping[str, Sequence[int]] = (
+            clusters.get("pretrained", {}).get("clusters", {}) if clusters else {}
+        )
+        self._cache: dict[tuple[str, str], _Word] = {}
+        self._atoms: dict[bytes, bytes] = {}
+
+    def _atom(self, name: str, value: str | None = None) -> bytes:
+        raw = (name if value is None else f"{name}:{value}").encode()
+        return self._atoms.setdefault(raw, raw)
+
+    def word(self, token: str, lang: str) -> _Word:
+        """Return the cached attributes of a word in a language."""
+        found = self._cache.get((token, lang))
+        if found is None:
+            if len(self._cache) >= _CACHE_LIMIT:
+                self._cache.clear()
+                self._atoms.clear()
+            found = self._cache[token, lang] = self._make(token, lang)
+        return found
+
+    def _make(self, token: str, lang: str) -> _Word:
+        atom = self._atom
+        key = fold(token)
+        clus = _ids(self._words_ids.get(key))
+        space = _ids(self._space.get(key))
+        own = [atom(name, value) for name, value in _word_features(token, lang)]
+        own += [atom(k, cid) for k, cid in zip(_CLUSTER_KEYS, clus, strict=False)]
+        own += [atom("nn=" + proto) for proto in self._near.get(key, ())]
+        own += [atom(k, cid) for k, cid in zip(_SPACE_KEYS, space, strict=False)]
+        lower = token.lower()
+        coarse = clus[0] if clus else "-"
+        window = []
+        for off in _OFFSETS:
+            near = [atom(f"{off}lw", lower), atom(f"{off}c", coarse)]
+            near += [
+                atom(k, cid) for k, cid in zip(_FINE_KEYS.get(off, ()), clus[1:], strict=False)
+            ]
+            window.append(tuple(near))
+        return _Word(
+            own=tuple(own),
+            as_prev_x=(atom("-1x", space[0]),) if space else (),
+            as_next_x=(atom("+1x", space[0]),) if space else (),
+            window=tuple(window),
+            lower=lower.encode(),
+            coarse=coarse.encode(),
+            pair_prev=(
+                f"-1lw|lw:{lower}|".encode(),
+                f"-1c|c:{coarse}|".encode(),
+                f"-1c|lw:{coarse}|".encode(),
+            ),
+            s3_prev=atom("-1s3", lower[-3:]),
+            pair_next=(f"lw|+1lw:{lower}|".encode(), f"lw|+1c:{lower}|".encode()),
+            s3_next=atom("+1s3", lower[-3:]),
+        )
+
+    def sentence(
+        self,
+        tokens: Sequence[str],
+        dict_tags: Sequence[str] | None,
+        dict_concepts: Sequence[str | None] | None,
+        lang: str,
+    ) -> list[Attributes]:
+        """Return the attributes of every token of a sentence (see :func:`sentence_attributes`)."""
+        words = [self.word(t, lang) for t in tokens]
+        n = len(words)
+        out: list[Attributes] = []
+        for i, w in enumerate(words):
+            attrs = list(w.own)
+            if i > 0:
+                attrs += words[i - 1].as_prev_x
+            if i < n - 1:
+                attrs += words[i + 1].as_next_x
+            if dict_tags is not None:
+                attrs.append(_OWN_TAG.get(dict_tags[i]) or self._atom("d", dict_tags[i]))
+                concept = dict_concepts[i] if dict_concepts is not None else None
+                if concept:
+                    attrs.append(self._atom("dc", concept))
+            if i == 0:
+                attrs.append(_BOS)
+            if i == n - 1:
+                attrs.append(_EOS)
+            for k, off in enumerate(_OFFSETS):
+                j = i + off
+                if 0 <= j < n:
+                    attrs += words[j].window[k]
+                    if dict_tags is not None:
+                        tag = dict_tags[j]
+                        attrs.append(_DICT_TAGS[k].get(tag) or self._atom(f"{off}d", tag))
+                else:
+                    attrs.append(_PADS[k])
+            # Word pairs with the neighbours catch two-word traits ("cooking time")
+            # that unigrams miss.
+            if i > 0:
+                prev = words[i - 1]
+                lw_lw, c_c, c_lw = prev.pair_prev
+                attrs += (lw_lw + w.lower, c_c + w.coarse, c_lw + w.lower, prev.s3_prev)
+            if i < n - 1:
+                after = words[i + 1]
+                lw_lw, lw_c = w.pair_next
+                attrs += (lw_lw + after.lower, lw_c + after.coarse, after.s3_next)
+            out.append(tuple(attrs))
+        return out
+
+
+_featurizer_in_use = _Featurizer(None)
+
+
+def _featurizer(clusters: Clusters | None) -> _Featurizer:
+    """Return the featurizer of a cluster model, kept while the same model object is used.
+
+    The model is held by identity (a cluster model is never changed once learned), so
+    a long run over one model computes each word's features once.
+    """
+    global _featurizer_in_use
+    if not clusters:
+        clusters = None
+    if _featurizer_in_use.clusters is not clusters:
+        _featurizer_in_use = _Featurizer(clusters)
+    return _featurizer_in_use
+
+
+def sentence_attributes(
+    tokens: Sequence[str],
+    *,
+    dict_tags: Sequence[str] | None = None,
+    dict_concepts: Sequence[str | None] | None = None,
+    clusters: Clusters | None = None,
+    lang: str = "",
+) -> list[Attributes]:
+    """Return each token's features as python-crfsuite attributes, what the tagger reads.
+
+    Args:
+        tokens: The token texts, in order.
+        dict_tags: The dictionary's IOB2 tag per token (``None``: no dictionary).
+        dict_concepts: The concept of the dictionary match covering each token.
+        clusters: A word-cluster model, or ``None`` to go without cluster features.
+        lang: The sentence's language tag, choosing the stemmer.
+
+    Returns:
+        One tuple of attributes per token (see :data:`Attributes`): word identity,
+        lower-cased, normalised and stemmed forms, prefixes and suffixes of 1-4
+        characters, shapes, digit/punctuation/title flags, cluster IDs, nearest frequent
+        words, pretrained-space clusters (also those of the tokens either side),
+        dictionary tag and concept, sentence position, the lower-cased form, cluster
+        and dictionary tag of the two tokens on each side (finer clusters right next to
+        the token), and word pairs with the neighbours.
+    """
+    return _featurizer(clusters).sentence(tokens, dict_tags, dict_concepts, lang)
+
+
+def attribute_dict(attributes: Attributes) -> dict[str, str | float]:
+    """Return a token's attributes as a ``{name: value}`` dict, weight 1.0 for flags.
+
+    CRFsuite reads the dict the same way (``{"lw": "cook"}`` is ``lw:cook``); names
+    never hold a colon, except the nearest-word flags ``nn=<word>``.
+    """
+    out: dict[str, str | float] = {}
+    for raw in attributes:
+        text = raw.decode()
+        name, colon, value = text.partition(":")
+        if not colon or name.startswith("nn="):
+            out[text] = 1.0
+        else:
+            out[name] = value
+    return out
 
 
 def sentence_features(
@@ -152,91 +329,12 @@ def sentence_features(
     clusters: Clusters | None = None,
     lang: str = "",
 ) -> list[dict[str, str | float]]:
-    """Return one python-crfsuite feature dict per token of a sentence.
+    """Return :func:`sentence_attributes` as one readable ``{name: value}`` dict per token.
 
-    Args:
-        tokens: The token texts, in order.
-        dict_tags: The dictionary's IOB2 tag per token (``None``: no dictionary).
-        dict_concepts: The concept of the dictionary match covering each token.
-        clusters: A word-cluster model, or ``None`` to go without cluster features.
-        lang: The sentence's language tag, choosing the stemmer.
-
-    Returns:
-        One dict per token: word identity, lower-cased, normalised and stemmed forms,
-        prefixes and suffixes of 1-4 characters, shapes, digit/punctuation/title flags,
-        sentence position, cluster IDs, dictionary tag and concept, and the lower-cased
-        form, cluster and dictionary tag of the two tokens on each side.
+    String values are indicator features (``{"lw": "cook"}``), ``1.0`` marks a flag
+    (``{"BOS": 1.0}``); python-crfsuite reads these dicts as the same features.
     """
-    n = len(tokens)
-    lowers = [t.lower() for t in tokens]
-    clus, protos, space = _lookups(tokens, clusters)
-    # Window features use the coarsest cluster: finer ones are too sparse at a distance.
-    coarse = [c[0] if c else "-" for c in clus]
-    tags = list(dict_tags) if dict_tags is not None else ["O"] * n
-    out: list[dict[str, str | float]] = []
-    for i, token in enumerate(tokens):
-        f: dict[str, str | float] = dict(_word_features(token, lang))
-        for level, cid in enumerate(clus[i]):
-            f[_CLUSTER_KEYS[level]] = cid
-        for proto in protos[i]:
-            f["nn=" + proto] = 1.0
-        for level, cid in enumerate(space[i]):
-            f[_SPACE_KEYS[level]] = cid
-        if i > 0 and space[i - 1]:
-            f["-1x"] = space[i - 1][0]
-        if i < n - 1 and space[i + 1]:
-            f["+1x"] = space[i + 1][0]
-        if dict_tags is not None:
-            f["d"] = tags[i]
-            concept = dict_concepts[i] if dict_concepts is not None else None
-            if concept:
-                f["dc"] = concept
-        if i == 0:
-            f["BOS"] = 1.0
-        if i == n - 1:
-            f["EOS"] = 1.0
-        _add_window(f, i, lowers, coarse, clus, tags if dict_tags is not None else None)
-        _add_pairs(f, i, lowers, coarse)
-        out.append(f)
-    return out
-
-
-def _add_window(
-    f: dict[str, str | float],
-    i: int,
-    lowers: list[str],
-    coarse: list[str],
-    clus: list[tuple[str, ...]],
-    tags: list[str] | None,
-) -> None:
-    """Add the lower-cased form, cluster and dictionary tag of the tokens around token ``i``."""
-    n = len(lowers)
-    for off, lw_key, c_key, d_key, fine_keys in _WINDOW:
-        j = i + off
-        if 0 <= j < n:
-            f[lw_key] = lowers[j]
-            f[c_key] = coarse[j]
-            # Next to the token, finer clusters still generalise (e.g. "the" vs "a"
-            # before a trait noun) without being too sparse.
-            for key, cid in zip(fine_keys, clus[j][1:], strict=False):
-                f[key] = cid
-            if tags is not None:
-                f[d_key] = tags[j]
-        else:
-            f[lw_key] = "<pad>"
-
-
-def _add_pairs(f: dict[str, str | float], i: int, lowers: list[str], coarse: list[str]) -> None:
-    """Add word pairs with the neighbours of token ``i``.
-
-    They catch two-word traits ("cooking time") that unigrams miss.
-    """
-    if i > 0:
-        f["-1lw|lw"] = lowers[i - 1] + "|" + lowers[i]
-        f["-1c|c"] = coarse[i - 1] + "|" + coarse[i]
-        f["-1c|lw"] = coarse[i - 1] + "|" + lowers[i]
-        f["-1s3"] = lowers[i - 1][-3:]
-    if i < len(lowers) - 1:
-        f["lw|+1lw"] = lowers[i] + "|" + lowers[i + 1]
-        f["lw|+1c"] = lowers[i] + "|" + coarse[i + 1]
-        f["+1s3"] = lowers[i + 1][-3:]
+    attributes = sentence_attributes(
+        tokens, dict_tags=dict_tags, dict_concepts=dict_concepts, clusters=clusters, lang=lang
+    )
+    return [attribute_dict(a) for a in attributes]

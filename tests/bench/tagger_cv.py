@@ -28,12 +28,12 @@ sys.path.insert(0, str(ROOT))
 
 from extractor.models.tagger import TraitTagger, sentence_items  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
-from extractor.nlp.features import Clusters  # noqa: E402
+from extractor.nlp.features import Attributes, Clusters  # noqa: E402
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 from tests.mams import load_mams  # noqa: E402
 
-Item = tuple[list[tuple[int, int]], list[dict[str, str | float]], list[str], list[Span]]
+Item = tuple[list[tuple[int, int]], list[Attributes], list[str], list[Span]]
 
 
 def items(split: str, clusters: Clusters) -> list[Item]:

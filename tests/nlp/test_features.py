@@ -7,6 +7,7 @@ from pathlib import Path
 from typing import Any
 
 import numpy as np
+import pycrfsuite
 import pytest
 
 from extractor.errors import ModelError
@@ -18,7 +19,12 @@ from extractor.nlp.clusters import (
     ppmi,
     save_clusters,
 )
-from extractor.nlp.features import sentence_features, short_shape, word_shape
+from extractor.nlp.features import (
+    sentence_attributes,
+    sentence_features,
+    short_shape,
+    word_shape,
+)
 
 TOKENS = ["Velora", "cooks", "fast", "in", "2", "days", "."]
 
@@ -77,6 +83,52 @@ def test_sentence_features_cluster_ids() -> None:
     feats = sentence_features(["VELORA", "cooks"], clusters=clusters)
     assert (feats[0]["c0"], feats[0]["c1"], feats[0]["c2"]) == ("3", "17", "101")
     assert feats[1]["-1c"] == "3" and "c0" not in feats[1]
+
+
+# A hand-made cluster model: workspace clusters at 2 levels, nearest frequent words, and
+# pretrained-space clusters.
+SMALL_MODEL = {
+    "clusters": {"red": [1, 5], "pods": [2, 7]},
+    "neighbours": {"red": ["white"], "fast": ["10:30"]},
+    "pretrained": {"clusters": {"red": [3, 9], "pods": [4, 8]}},
+    "fingerprint": "hand-made",
+}
+
+
+def test_sentence_features_all_of_one_token() -> None:
+    feats = sentence_features(
+        ["Red", "pods"],
+        dict_tags=["O", "B-TRAIT"],
+        dict_concepts=[None, "TX:0009"],
+        clusters=SMALL_MODEL,
+        lang="en",
+    )
+    assert feats[1] == {
+        "bias": 1.0, "w": "pods", "lw": "pods", "n": "pods", "st": "pod",
+        "sh": "xxxx", "ssh": "x", "p1": "p", "s1": "s", "p2": "po", "s2": "ds",
+        "p3": "pod", "s3": "ods", "p4": "pods", "s4": "pods",
+        "c0": "2", "c1": "7", "x0": "4", "x1": "8", "-1x": "3",
+        "d": "B-TRAIT", "dc": "TX:0009", "EOS": 1.0,
+        "-2lw": "<pad>", "-1lw": "red", "-1c": "1", "-1c1": "5", "-1d": "O",
+        "1lw": "<pad>", "2lw": "<pad>",
+        "-1lw|lw": "red|pods", "-1c|c": "1|2", "-1c|lw": "1|pods", "-1s3": "red",
+    }  # fmt: skip
+    assert feats[0]["nn=white"] == 1.0 and feats[0]["+1x"] == "4" and feats[0]["1c1"] == "7"
+    assert (feats[0]["lw|+1lw"], feats[0]["lw|+1c"], feats[0]["+1s3"]) == (
+        "red|pods",
+        "red|2",
+        "ods",
+    )
+
+
+def test_sentence_attributes_are_the_features_crfsuite_reads_from_the_dicts() -> None:
+    # Outside check: python-crfsuite's own conversion (ItemSequence) turns the readable
+    # dicts and the attributes the tagger passes into the same weighted attributes.
+    words = ["Velora", "cooks", "fast", "10:30", "nn=x:y", "é", "."]
+    for clusters in (None, SMALL_MODEL):
+        attributes = sentence_attributes(words, dict_tags=["O"] * 7, clusters=clusters, lang="fr")
+        dicts = sentence_features(words, dict_tags=["O"] * 7, clusters=clusters, lang="fr")
+        assert pycrfsuite.ItemSequence(attributes).items() == pycrfsuite.ItemSequence(dicts).items()
 
 
 @pytest.mark.parametrize(
