@@ -22,8 +22,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from functools import cache
 
-import spacy.util
-
+from extractor.nlp.alternation import language_class
 from extractor.nlp.fold import fold
 
 LIKING_VERBS: dict[str, frozenset[str]] = {
@@ -97,7 +96,7 @@ def never_alone(words: Sequence[str], i: int, lang: str, alias_forms: Sequence[s
 def stop_words(code: str) -> frozenset[str]:
     """SpaCy's stop words of a language (primary subtag), folded; empty where spaCy has none."""
     try:
-        words = spacy.util.get_lang_class(code).Defaults.stop_words
+        words = language_class(code).Defaults.stop_words
     except (ImportError, KeyError):
         return frozenset()
     return frozenset(fold(w) for w in words)

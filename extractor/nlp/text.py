@@ -13,6 +13,8 @@ import spacy
 from spacy.attrs import IDX, IS_SPACE, LENGTH
 from spacy.language import Language
 
+from extractor.nlp.alternation import language_class
+
 OPENING_MARKS = "¿¡"
 """Punctuation that opens a sentence (Spanish)."""
 
@@ -32,7 +34,7 @@ def spacy_code(tag: str) -> str:
     """Return the spaCy language code used for a BCP 47 tag, ``xx`` where spaCy has none."""
     code = primary_subtag(tag)
     try:
-        spacy.util.get_lang_class(code)
+        language_class(code)
     except (ImportError, KeyError):
         return MULTI
     return code
