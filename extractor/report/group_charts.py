@@ -25,8 +25,8 @@ from openpyxl.chart.data_source import NumDataSource, NumRef
 from openpyxl.chart.error_bar import ErrorBars
 from openpyxl.worksheet.worksheet import Worksheet
 
-from extractor.progress import track
 from extractor.report.cells import HEADER_FONT, NOTE_FONT, append_row
+from extractor.report.drawing import Call, Drawing
 from extractor.report.pivot import wide_groupings
 from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
 from extractor.workspace.files import atomic_path
@@ -221,15 +221,24 @@ def draw_chart(chart: GroupChart, png: Path, svg: Path | None = None) -> None:
     plt.close(fig)
 
 
+def chart_file_calls(charts: list[GroupChart], folder: Path) -> list[Call]:
+    """Return the calls that draw each chart as ``NAME.png`` and ``NAME.svg`` into ``folder``.
+
+    The folder is made here; :class:`extractor.report.drawing.Drawing` runs the calls.
+    """
+    folder.mkdir(parents=True, exist_ok=True)
+    return [
+        (draw_chart, (chart, folder / f"{chart.name}.png", folder / f"{chart.name}.svg"))
+        for chart in charts
+    ]
+
+
 def write_chart_files(charts: list[GroupChart], folder: Path) -> list[Path]:
     """Write each chart as ``NAME.png`` and ``NAME.svg`` into ``folder``; return the PNGs."""
-    folder.mkdir(parents=True, exist_ok=True)
-    written = []
-    for chart in track(charts, "Drawing charts"):
-        png = folder / f"{chart.name}.png"
-        draw_chart(chart, png, folder / f"{chart.name}.svg")
-        written.append(png)
-    return written
+    calls = chart_file_calls(charts, folder)
+    with Drawing(calls) as drawing:
+        drawing.wait()
+    return [args[1] for _, args in calls]
 
 
 def _native_chart(

@@ -9,10 +9,11 @@ the expected-count rule (Cochran's rule, common practice):
 
 * Pearson's chi-square (no continuity correction) when no expected count is
   below 1 and no more than 20% of expected counts are below 5;
-* otherwise Fisher's exact test: scipy's exact 2x2 test, or for larger tables
-  scipy's ``fisher_exact`` with a Monte-Carlo p-value over random tables with the
-  observed margins (``scipy.stats.MonteCarloMethod``, fixed seed, so a workbook
-  written twice carries the same p-values).
+* otherwise Fisher's exact test: scipy's exact 2x2 test, or for larger tables a
+  Monte-Carlo p-value over random tables with the observed margins, the figures of
+  scipy's ``fisher_exact`` with ``scipy.stats.MonteCarloMethod`` computed without its
+  per-table checks (:func:`fisher_monte_carlo`; fixed seed, so a workbook written twice
+  carries the same p-values).
 
 p-values across traits are adjusted with the Benjamini-Hochberg procedure.
 """
@@ -26,6 +27,7 @@ from typing import NamedTuple
 
 import numpy as np
 from scipy import stats as sps
+from scipy.special import gammaln
 from scipy.stats.contingency import expected_freq
 from statsmodels.stats.multitest import multipletests
 from statsmodels.stats.proportion import proportion_confint
@@ -204,14 +206,40 @@ def _test_table(shape: tuple[int, ...], counts: bytes, n_resamples: int, seed: i
     if arr.shape == (2, 2):
         res = sps.fisher_exact(arr)
         return GroupTest(FISHER_2X2, float(res.statistic), float(res.pvalue))
-    method = sps.MonteCarloMethod(n_resamples=n_resamples, rng=np.random.default_rng(seed))
-    res = sps.fisher_exact(arr, method=method)
-    # scipy returns a one-element array instead of a scalar for some sparse tables.
-    return GroupTest(
-        fisher_monte_carlo_name(n_resamples, seed),
-        float(np.ravel(res.statistic)[0]),
-        float(np.ravel(res.pvalue)[0]),
+    statistic, p_value = fisher_monte_carlo(arr, n_resamples, seed)
+    return GroupTest(fisher_monte_carlo_name(n_resamples, seed), statistic, p_value)
+
+
+def fisher_monte_carlo(table: np.ndarray, n_resamples: int, seed: int) -> tuple[float, float]:
+    """Return the probability of ``table`` and the Monte-Carlo p-value of Fisher's test.
+
+    The same figures as ``scipy.stats.fisher_exact(table, method=MonteCarloMethod(
+    n_resamples=n_resamples, rng=numpy.random.default_rng(seed)))``: the same random tables
+    (``scipy.stats.random_table`` drawn from that generator), each table's probability by
+    the same formula with the same sums, and scipy's rule for a table as extreme as the one
+    observed (probability at most the observed one, give or take 100 machine epsilons)
+    and for the p-value ((count + 1) / (resamples + 1)). Only scipy's checks of each of
+    the thousands of random tables are left out: on the demo they took three quarters of
+    the time. A test compares both on many tables.
+
+    Args:
+        table: A cleaned table (no all-zero row or column) of at least 2 x 2 counts.
+        n_resamples: Random tables drawn.
+        seed: Seed of the random generator.
+    """
+    table = np.ascontiguousarray(table)  # scipy sums each table's cells in this order
+    rows, cols = table.sum(axis=1), table.sum(axis=0)
+    total = int(table.sum())
+    drawn = sps.random_table(rows, cols, seed=np.random.default_rng(seed)).rvs(size=n_resamples)
+    lnfac = gammaln(np.arange(total + 1) + 1)  # lnfac[x] is scipy's gammaln(x + 1)
+    const = np.sum(lnfac[rows], axis=-1) + np.sum(lnfac[cols], axis=-1) - lnfac[total]
+    observed = float(np.exp(const - np.sum(lnfac[table], axis=(-1, -2))))
+    null = np.exp(const - np.sum(lnfac[drawn.reshape((-1, *table.shape))], axis=(-1, -2)))
+    gamma = abs(np.finfo(np.float64).eps * 100 * observed)
+    p_value = (float(np.sum(null <= observed + gamma, dtype=np.float64)) + 1.0) / (
+        n_resamples + 1.0
     )
+    return min(observed, 1.0), min(max(p_value, 0.0), 1.0)
 
 
 def bh_adjust(pvalues: Sequence[float]) -> list[float]:

@@ -19,7 +19,13 @@ from extractor.errors import InputError
 from extractor.report.about import RunFacts, about_table, export_counts
 from extractor.report.cells import HEADER_FONT, write_table
 from extractor.report.chart import chart_data, chart_title, write_chart_png
-from extractor.report.group_charts import all_charts, write_chart_files, write_charts_sheet
+from extractor.report.drawing import Call, Drawing
+from extractor.report.group_charts import (
+    GroupChart,
+    all_charts,
+    chart_file_calls,
+    write_charts_sheet,
+)
 from extractor.report.inputs import prepare
 from extractor.report.pivot import write_pivot_sheet
 from extractor.report.privacy import (
@@ -116,6 +122,40 @@ def _parent_sheet(
     return [(SHEETS["parents"], parent_summary(m, r, concepts, group_by), notes, 2)]
 
 
+def _write_sheets(
+    path: Path,
+    m: pd.DataFrame,
+    r: pd.DataFrame,
+    concepts: pd.DataFrame,
+    summary: pd.DataFrame,
+    charts: list[GroupChart],
+    group_by: list[str],
+    about: RunFacts,
+    about_rows: list[tuple[str, Any]],
+) -> None:
+    """Write every sheet of the workbook from the prepared frames and save it at ``path``."""
+    grouping = group_by[0] if group_by else None
+    tables = [
+        (SHEETS["preferred"], preferred_traits(m, r, concepts), (), 1),
+        (SHEETS["matrix"], trait_matrix(m, r, concepts), (), 1),
+        (SHEETS["mentions"], mention_evidence(m, r, concepts), (), 1),
+        (SHEETS["summary"], summary, SUMMARY_NOTES, 2),
+        *_parent_sheet(m, r, concepts, group_by),
+        (SHEETS["varieties"], variety_table(m, r, concepts), VARIETY_NOTES, 1),
+        (SHEETS["head_to_head"], head_to_head(m, r, concepts), HEAD_TO_HEAD_NOTES, 1),
+        (SHEETS["quotes"], quotes_by_trait(m, r, concepts, grouping), QUOTE_NOTES, 2),
+        (SHEETS["unlinked"], unlinked_terms(m), (), 1),
+    ]
+    wb = Workbook()
+    wb.remove(wb.active)
+    for title, frame, notes, freeze in tables:
+        write_table(wb.create_sheet(title), frame, notes=notes, freeze_columns=freeze)
+    write_pivot_sheet(wb.create_sheet(SHEETS["pivot"], index=4), summary)
+    write_charts_sheet(wb.create_sheet(SHEETS["chart"]), charts)
+    _write_about_sheet(wb, about_table(about, export_counts(m, r), about_rows))
+    _save(wb, path)
+
+
 def write_workbook(
     path: Path | str,
     mentions: pd.DataFrame,
@@ -160,34 +200,20 @@ def write_workbook(
     summary = trait_summary(m, r, concepts, group_by)
     grouping = group_by[0] if group_by else None
     chart = chart_data(summary, grouping) if not summary.empty else pd.DataFrame()
-    written: list[tuple[str, Any]] = [
+    charts = all_charts(summary, group_by)
+    about_rows: list[tuple[str, Any]] = [
         ("Minimum tagger confidence", min_confidence if min_confidence is not None else "none"),
         ("Pseudonymised", "yes" if pseudonymise is not None else "no"),
         *_dropped_rows(respondents, pseudonymise),
         ("Written", datetime.now().isoformat(timespec="seconds")),
     ]
-    tables = [
-        (SHEETS["preferred"], preferred_traits(m, r, concepts), (), 1),
-        (SHEETS["matrix"], trait_matrix(m, r, concepts), (), 1),
-        (SHEETS["mentions"], mention_evidence(m, r, concepts), (), 1),
-        (SHEETS["summary"], summary, SUMMARY_NOTES, 2),
-        *_parent_sheet(m, r, concepts, group_by),
-        (SHEETS["varieties"], variety_table(m, r, concepts), VARIETY_NOTES, 1),
-        (SHEETS["head_to_head"], head_to_head(m, r, concepts), HEAD_TO_HEAD_NOTES, 1),
-        (SHEETS["quotes"], quotes_by_trait(m, r, concepts, grouping), QUOTE_NOTES, 2),
-        (SHEETS["unlinked"], unlinked_terms(m), (), 1),
-    ]
-    wb = Workbook()
-    wb.remove(wb.active)
-    for title, frame, notes, freeze in tables:
-        write_table(wb.create_sheet(title), frame, notes=notes, freeze_columns=freeze)
-    write_pivot_sheet(wb.create_sheet(SHEETS["pivot"], index=4), summary)
-    charts = all_charts(summary, group_by)
-    write_charts_sheet(wb.create_sheet(SHEETS["chart"]), charts)
-    _write_about_sheet(wb, about_table(about, export_counts(m, r), written))
-    _save(wb, path)
+    # The chart files are drawn by worker processes while the sheets are written.
+    calls: list[Call] = []
     if chart_png is not None:
-        write_chart_png(chart, Path(chart_png), chart_title(grouping))
+        calls.append((write_chart_png, (chart, Path(chart_png), chart_title(grouping))))
     if chart_dir is not None:
-        write_chart_files(charts, Path(chart_dir))
+        calls.extend(chart_file_calls(charts, Path(chart_dir)))
+    with Drawing(calls) as drawing:
+        _write_sheets(path, m, r, concepts, summary, charts, group_by, about, about_rows)
+        drawing.wait()
     return len(m)

@@ -19,6 +19,7 @@ from extractor.report.stats import (
     bh_adjust,
     chi_square_allowed,
     f1_interval,
+    fisher_monte_carlo,
     group_difference,
     too_few,
     wilson_interval,
@@ -158,6 +159,36 @@ def test_group_difference_large_sparse_table_uses_monte_carlo_fisher() -> None:
     )
     assert res.p_value == pytest.approx(ref.pvalue)
     assert res.p_value == group_difference(table).p_value  # fixed seed: reproducible
+
+
+def _random_tables(count: int, seed: int) -> list[np.ndarray]:
+    """Tables of 2-6 groups x 2-3 outcomes with 1-40 respondents per group, some sparse."""
+    rng = np.random.default_rng(seed)
+    tables = []
+    while len(tables) < count:
+        rows, cols = int(rng.integers(2, 7)), int(rng.integers(2, 4))
+        p = rng.uniform(0.02, 0.5)
+        shares = [p] + [(1 - p) / (cols - 1)] * (cols - 1)
+        table = np.stack([rng.multinomial(n, shares) for n in rng.integers(1, 40, size=rows)])
+        table = table[table.sum(axis=1) > 0][:, table.sum(axis=0) > 0]
+        if min(table.shape) >= 2:
+            tables.append(table)
+    return tables
+
+
+def test_fisher_monte_carlo_gives_scipys_figures_exactly() -> None:
+    # Outside reference: scipy's fisher_exact with the same seeded Monte-Carlo method. The
+    # same random tables and the same sums, so the same floats, not just close ones; the
+    # tables include transposed (non-contiguous) ones and many ties in probability.
+    for i, table in enumerate(_random_tables(60, seed=3)):
+        table = table if i % 2 else table.T.copy().T
+        n_resamples, seed = (999, 9999)[i % 3 == 0], 1000 + i
+        ref = sps.fisher_exact(
+            table,
+            method=sps.MonteCarloMethod(n_resamples=n_resamples, rng=np.random.default_rng(seed)),
+        )
+        got = fisher_monte_carlo(table, n_resamples, seed)
+        assert got == (float(np.ravel(ref.statistic)[0]), float(np.ravel(ref.pvalue)[0])), table
 
 
 def test_group_difference_monte_carlo_detects_clear_difference() -> None:
