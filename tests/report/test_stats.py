@@ -164,7 +164,7 @@ def test_group_difference_large_sparse_table_uses_monte_carlo_fisher() -> None:
 def _random_tables(count: int, seed: int) -> list[np.ndarray]:
     """Tables of 2-6 groups x 2-3 outcomes with 1-40 respondents per group, some sparse."""
     rng = np.random.default_rng(seed)
-    tables = []
+    tables: list[np.ndarray] = []
     while len(tables) < count:
         rows, cols = int(rng.integers(2, 7)), int(rng.integers(2, 4))
         p = rng.uniform(0.02, 0.5)
