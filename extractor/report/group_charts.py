@@ -26,7 +26,7 @@ from openpyxl.chart.error_bar import ErrorBars
 from openpyxl.worksheet.worksheet import Worksheet
 
 from extractor.report.cells import HEADER_FONT, NOTE_FONT, append_row
-from extractor.report.drawing import Call, Drawing
+from extractor.report.drawing import Call
 from extractor.report.pivot import wide_groupings
 from extractor.report.summary import ALL_INDIVIDUALS, NOT_RECORDED
 from extractor.workspace.files import atomic_path
@@ -231,14 +231,6 @@ def chart_file_calls(charts: list[GroupChart], folder: Path) -> list[Call]:
         (draw_chart, (chart, folder / f"{chart.name}.png", folder / f"{chart.name}.svg"))
         for chart in charts
     ]
-
-
-def write_chart_files(charts: list[GroupChart], folder: Path) -> list[Path]:
-    """Write each chart as ``NAME.png`` and ``NAME.svg`` into ``folder``; return the PNGs."""
-    calls = chart_file_calls(charts, folder)
-    with Drawing(calls) as drawing:
-        drawing.wait()
-    return [args[1] for _, args in calls]
 
 
 def _native_chart(
