@@ -9,10 +9,12 @@ letter of every copy, which took 4.6 s of a fresh `traits run` (about 13 ms per 
 :func:`language_class` loads a language class while :func:`factored` stands in for
 ``re.compile``: a pattern of that shape is rewritten so that the alternatives sharing
 everything from their first large class to the end are merged,
-``^(?:(?:HEAD1)|(?:HEAD2)|...)TAIL$``, which holds each class a few times instead of
-hundreds. Concatenation distributes over alternation, so the rewritten pattern matches
-exactly the strings the original matches (the tokenizer only asks whether a token
-matches); any pattern not of that exact shape is compiled as given.
+``^(?:(?:HEAD1)|(?:HEAD2)|...)TAIL$``, and those starting with a large class and
+differing only in the middle are merged as ``^BEGIN(?:(?:MID1)|(?:MID2)|...)END$``; the
+result holds each class a few times instead of hundreds. Concatenation distributes over
+alternation, so the rewritten pattern matches exactly the strings the original matches
+(the tokenizer only asks whether a token matches); any pattern not of that exact shape is
+compiled as given.
 """
 
 from __future__ import annotations
@@ -116,8 +118,47 @@ def factored(pattern: str) -> str | None:
     merged = [
         "(?:^(?:" + "|".join(f"(?:{h})" for h in heads) + ")" + tail + ")"
         for tail, heads in groups.items()
+        if heads != [""]
     ]
+    # Alternatives that start with a large class: merge those that differ only between a
+    # shared beginning and a shared end, ``^BEGIN(?:(?:MID1)|(?:MID2))END$``.
+    starting: dict[str, list[list[str]]] = {}
+    for tail, heads in groups.items():
+        if heads == [""]:
+            atoms = _atoms(tail) or []
+            starting.setdefault(atoms[0], []).append(atoms)
+    for members in starting.values():
+        merged.extend(_merge_middles(members))
     return flags.group(0) + "|".join([*merged, *kept])
+
+
+QUANTIFIERS = ("*", "+", "?", "{")
+
+
+def _merge_middles(members: list[list[str]]) -> list[str]:
+    """Return ``(?:^...$)`` alternatives for atom lists, merged on their shared ends if safe."""
+    whole = ["(?:^" + "".join(atoms) + ")" for atoms in members]
+    if len(members) < 2:
+        return whole
+    begin = 0
+    while all(len(a) > begin and a[begin] == members[0][begin] for a in members):
+        begin += 1
+    end = 0
+    while all(len(a) - end > begin and a[-1 - end] == members[0][-1 - end] for a in members):
+        end += 1
+    middles = [a[begin : len(a) - end] for a in members]
+    safe = (
+        begin > 0
+        and end > 0
+        and not members[0][len(members[0]) - end].startswith(QUANTIFIERS)
+        and all(m and not m[0].startswith(QUANTIFIERS) and _balanced(m) for m in middles)
+    )
+    if not safe:
+        return whole
+    head, tail = "".join(members[0][:begin]), "".join(members[0][len(members[0]) - end :])
+    return [
+        "(?:^" + head + "(?:" + "|".join(f"(?:{''.join(m)})" for m in middles) + ")" + tail + ")"
+    ]
 
 
 def _compile_factored(original: Any) -> Any:

@@ -121,6 +121,40 @@ def test_factored_merges_alternatives_with_a_shared_tail() -> None:
         assert (re.match(fast, word) is None) == (re.match(pattern, word) is None), word
 
 
+def test_factored_merges_alternatives_between_a_shared_beginning_and_end() -> None:
+    words = ["la", "l[èe]s?", "en", "d[eu]", "sur"]
+    alternatives = [f"^{LARGE}+[-]{w}[-]{LARGE}+$" for w in words] + [
+        f"^w{i}{LARGE}$" for i in range(20)
+    ]
+    pattern = "(?iu)" + "|".join(f"(?:{a})" for a in alternatives)
+    fast = factored(pattern)
+    assert fast is not None and fast.count(LARGE) == 3
+    for word in [
+        "a-la-b",
+        "Ab-lès-cd",
+        "a-le-b",
+        "a-lé-b",
+        "a-du-b",
+        "a-sur-",
+        "-en-b",
+        "aenb",
+        "w3a",
+    ]:
+        assert (re.match(fast, word) is None) == (re.match(pattern, word) is None), word
+
+
+def test_factored_does_not_split_a_quantifier_from_its_atom() -> None:
+    # The middles would start with a quantifier of the shared beginning's last atom.
+    alternatives = [f"^{LARGE}{q}[-]x$" for q in ("+", "*", "?", "{2}")] + [
+        f"^w{i}{LARGE}$" for i in range(20)
+    ]
+    pattern = "(?u)" + "|".join(f"(?:{a})" for a in alternatives)
+    fast = factored(pattern)
+    assert fast is not None and fast.count(LARGE) == 5
+    for word in ["-x", "a-x", "aa-x", "aaa-x", "w1a"]:
+        assert (re.match(fast, word) is None) == (re.match(pattern, word) is None), word
+
+
 @pytest.mark.parametrize(
     "pattern",
     [
