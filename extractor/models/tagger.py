@@ -131,9 +131,13 @@ class TraitTagger(BaseEstimator):
             params["c2"] = self.c2
         trainer.set_params(params)
         _seed_c_rand(self.random_state)
+        # A sentence weighted by repetition is converted for CRFsuite once.
+        converted: dict[int, pycrfsuite.ItemSequence] = {}
         for xseq, yseq in zip(X, y, strict=True):
             if len(xseq):
-                trainer.append(xseq, list(yseq))
+                if id(xseq) not in converted:
+                    converted[id(xseq)] = pycrfsuite.ItemSequence(xseq)
+                trainer.append(converted[id(xseq)], list(yseq))
         with tempfile.TemporaryDirectory() as tmp:
             path = Path(tmp) / MODEL_FILE
             trainer.train(str(path))

@@ -107,7 +107,7 @@ class Dictionary:
     def __init__(
         self,
         aliases: tuple[tuple[str, str, str], ...],
-        tokens: list[tuple[str, tuple[str, ...], str, str]],
+        tokens: list[tuple[str, tuple[str, ...], tuple[str, ...], str]],
         alias_langs: list[str],
     ) -> None:
         self.aliases = aliases
@@ -119,9 +119,10 @@ class Dictionary:
     def from_aliases(cls, aliases: Sequence[tuple[str, str, str]]) -> Dictionary:
         """Return the dictionary of ``(concept_id, alias_text, lang)`` triples, tokenized."""
         triples = tuple(aliases)
+        words = [tuple(_words(alias, lang)) for _, alias, lang in triples]
         tokens = [
-            (concept, tuple(fold(w) for w in _words(alias, lang)), alias, lang)
-            for concept, alias, lang in triples
+            (concept, tuple(fold(w) for w in alias_words), alias_words, lang)
+            for (concept, _, lang), alias_words in zip(triples, words, strict=True)
         ]
         alias_langs = sorted({stemmer_language(lang) for _, _, lang in triples})
         return cls(triples, tokens, alias_langs)
@@ -138,11 +139,11 @@ class Dictionary:
         if cache_key not in self._matchers:
             entries: dict[tuple[str, ...], list[_Entry]] = {}
             lengths: dict[str, set[int]] = {}
-            for concept, form, alias, lang in self._tokens:
+            for concept, form, words, lang in self._tokens:
                 alias_lang = stemmer_language(lang)
                 if only_own and alias_lang != stem_lang:
                     continue
-                keys = tuple(stem_word(w, stem_lang) for w in _words(alias, lang))
+                keys = tuple(stem_word(w, stem_lang) for w in words)
                 if not keys:
                     continue
                 entries.setdefault(keys, []).append(_Entry(concept, _code(lang), form))
