@@ -118,8 +118,6 @@ def _ids(found: Sequence[int] | None) -> tuple[str, ...]:
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 _SPACE_KEYS = tuple(f"x{level}" for level in range(8))
 _OFFSETS = tuple(off for off in range(-WINDOW, WINDOW + 1) if off != 0)
-# Finer clusters are used only right next to the token: at a distance they are too sparse.
-_FINE_KEYS = {off: tuple(f"{off}c{level}" for level in range(1, 8)) for off in (-1, 1)}
 _PADS = tuple(f"{off}lw:<pad>".encode() for off in _OFFSETS)
 _DICT_TAGS = tuple({tag: f"{off}d:{tag}".encode() for tag in TAGS} for off in _OFFSETS)
 _OWN_TAG = {tag: f"d:{tag}".encode() for tag in TAGS}
@@ -187,11 +185,10 @@ class _Featurizer:
         coarse = clus[0] if clus else "-"
         window = []
         for off in _OFFSETS:
-            near = [atom(f"{off}lw", lower), atom(f"{off}c", coarse)]
-            near += [
-                atom(k, cid) for k, cid in zip(_FINE_KEYS.get(off, ()), clus[1:], strict=False)
-            ]
-            window.append(tuple(near))
+            # Neighbours show their coarsest cluster only: their finer clusters (next to
+            # the token) were 9% of a token's attributes, and MAMS 3-fold CV span F1 was
+            # 0.7500 without them against 0.7506 with them (test 0.7596 against 0.7572).
+            window.append((atom(f"{off}lw", lower), atom(f"{off}c", coarse)))
         return _Word(
             own=tuple(own),
             as_prev_x=(atom("-1x", space[0]),) if space else (),
@@ -298,8 +295,8 @@ def sentence_attributes(
         characters, shapes, digit/punctuation/title flags, cluster IDs, nearest frequent
         words, pretrained-space clusters (also those of the tokens either side),
         dictionary tag and concept, sentence position, the lower-cased form, cluster
-        and dictionary tag of the two tokens on each side (finer clusters right next to
-        the token), and word pairs with the neighbours.
+        and dictionary tag of the two tokens on each side, and word pairs with the
+        neighbours.
     """
     return _featurizer(clusters).sentence(tokens, dict_tags, dict_concepts, lang)
 

@@ -109,11 +109,11 @@ def test_sentence_features_all_of_one_token() -> None:
         "p3": "pod", "s3": "ods", "p4": "pods", "s4": "pods",
         "c0": "2", "c1": "7", "x0": "4", "x1": "8", "-1x": "3",
         "d": "B-TRAIT", "dc": "TX:0009", "EOS": 1.0,
-        "-2lw": "<pad>", "-1lw": "red", "-1c": "1", "-1c1": "5", "-1d": "O",
+        "-2lw": "<pad>", "-1lw": "red", "-1c": "1", "-1d": "O",
         "1lw": "<pad>", "2lw": "<pad>",
         "-1lw|lw": "red|pods", "-1c|c": "1|2", "-1c|lw": "1|pods", "-1s3": "red",
     }  # fmt: skip
-    assert feats[0]["nn=white"] == 1.0 and feats[0]["+1x"] == "4" and feats[0]["1c1"] == "7"
+    assert feats[0]["nn=white"] == 1.0 and feats[0]["+1x"] == "4" and feats[0]["1c"] == "2"
     assert (feats[0]["lw|+1lw"], feats[0]["lw|+1c"], feats[0]["+1s3"]) == (
         "red|pods",
         "red|2",
