@@ -3,8 +3,9 @@
 :class:`StanceModel` is a logistic regression over the span-relative features of
 :mod:`extractor.models.stance_features` plus the cue rules' own answer
 (:func:`extractor.models.cues.rule_stance`), so it learns how far to trust the rules,
-and the pretrained encoder's vectors of the mention's clause and sentence
-(:mod:`extractor.models.stance_context`), so what it learns from labels in one language
+and the pretrained encoder's vectors of the mention's own context (its clause, its
+share of the sentence, its words, the words either side:
+:mod:`extractor.models.stance_context`), so what it learns from labels in one language
 carries to languages without cue words. Until it is fitted it answers with the rules alone.
 """
 
@@ -24,7 +25,7 @@ from sklearn.pipeline import Pipeline
 from extractor.errors import InputError
 from extractor.models.cues import Cues, load_cues, packaged_cues, rule_proba, rule_stance
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
-from extractor.models.stance_context import context_vectors
+from extractor.models.stance_context import BLOCKS, OLD_BLOCKS, context_vectors
 from extractor.models.stance_features import Codebook, stance_features
 from extractor.nlp import pretrained
 from extractor.types import STANCES, QuestionCode, Sentence, Span
@@ -60,10 +61,10 @@ class StanceModel(BaseEstimator):
         questions: The question codebook as plain data, question key ->
             ``{"text": ..., "direction": ...}`` (either may be missing); saved with
             the model (see :func:`codebook_params`).
-        space: The pretrained space whose clause vectors join the features
+        space: The pretrained space whose context vectors join the features
             (:data:`extractor.nlp.pretrained.SPACES`); ``"none"``, or a space whose
             package is missing, leaves the sparse features alone.
-        dense_weight: The factor on the clause vectors (unit length) beside the sparse
+        dense_weight: The factor on the context vectors (unit length) beside the sparse
             features (counts): it sets how strongly the regularisation holds them back.
     """
 
@@ -139,7 +140,8 @@ class StanceModel(BaseEstimator):
         X = [_model_features(s, sp, cues, codebook) for s, sp, _ in examples]
         space = pretrained.load_space(self.space)
         self.space_ = space.name if space is not None else pretrained.NONE
-        self.dense_dim_ = 2 * space.dim if space is not None else 0
+        self.context_ = BLOCKS
+        self.dense_dim_ = len(BLOCKS) * space.dim if space is not None else 0
         pipe = Pipeline(
             [
                 ("vectorizer", DictVectorizer()),
@@ -203,7 +205,7 @@ class StanceModel(BaseEstimator):
         return blended
 
     def _dense(self, items: Sequence[tuple[Sentence, Span]], cues: Cues) -> np.ndarray | None:
-        """Return the weighted clause vectors of the fitted space; ``None`` when it has none.
+        """Return the weighted context vectors of the fitted space; ``None`` when it has none.
 
         A model fitted with a space whose package has since gone gets zero rows: it
         still predicts, from the sparse features alone.
@@ -214,7 +216,8 @@ class StanceModel(BaseEstimator):
         space = pretrained.load_space(name)
         if space is None:
             return np.zeros((len(items), self.dense_dim_), dtype=np.float32)
-        vectors: np.ndarray = context_vectors(space, items, cues) * self.dense_weight
+        blocks = getattr(self, "context_", OLD_BLOCKS)
+        vectors: np.ndarray = context_vectors(space, items, cues, blocks) * self.dense_weight
         return vectors
 
     @staticmethod
@@ -254,6 +257,7 @@ class StanceModel(BaseEstimator):
             "cues": self.cues,
             "space": getattr(self, "space_", pretrained.NONE),
             "dense_dim": getattr(self, "dense_dim_", 0),
+            "context": list(getattr(self, "context_", OLD_BLOCKS)),
         }
         write_meta(folder / _JSON_FILE, meta)
 
@@ -276,6 +280,8 @@ class StanceModel(BaseEstimator):
         # Versions saved before clause vectors were features have neither key.
         model.space_ = str(meta.get("space", pretrained.NONE))
         model.dense_dim_ = int(meta.get("dense_dim", 0))
+        # Versions saved before the mention's own blocks read the clause and sentence.
+        model.context_ = tuple(meta.get("context", OLD_BLOCKS))
         return model
 
 
