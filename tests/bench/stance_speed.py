@@ -1,4 +1,4 @@
-"""What the clause vectors cost: stance fitting and prediction on the demo, with and without.
+"""What the context vectors cost: stance fitting and prediction on the demo, with and without.
 
 Not part of the test suite. Run from the repository root:
 
@@ -7,8 +7,9 @@ Not part of the test suite. Run from the repository root:
 Fits the stance model on the demo's gold stances (``sample_interviews/gold.jsonl``,
 invented data) and predicts every gold span, with the space ``none`` and with the
 default space, in the same run. The first prediction with the space encodes every
-clause (cold cache: what a new model version pays once per run); later ones hit the
-cache. Prints seconds per repeat (median and spread) and the ratio to ``none``.
+context text (cold cache: what a new model version pays once per run); later ones hit
+the cache (word vectors stay cached by the space). Prints seconds per repeat (median and
+spread) and the ratio to ``none``.
 """
 
 from __future__ import annotations
