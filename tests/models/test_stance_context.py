@@ -196,9 +196,9 @@ def test_a_trait_said_absent_in_reply_to_a_likes_question_is_liked(
 def test_context_vectors_lift_mams_stance_accuracy(monkeypatch: pytest.MonkeyPatch) -> None:
     # MAMS aspect-term sentiment (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0): every
     # sentence holds aspects of different polarities. The first 1,000 train sentences
-    # fit, the validation split scores (majority class 0.453). Measured: SPARSE sparse
-    # alone, OLD with clause and sentence vectors, NEW with the mention's own blocks too;
-    # with the full train split 0.702, 0.737 and MAMSTEST on the test split
+    # fit, the validation split scores (majority class 0.453). Measured: 0.656 sparse
+    # alone, 0.697 with clause and sentence vectors, 0.745 with the mention's own blocks
+    # too; with the full train split 0.702, 0.737 and 0.765 on the test split
     # (tests/bench/mams_stance.py). From memory, published models without pretraining
     # reach about 0.70-0.77 there.
     train, test = _mams("train", 1000), _mams("val", 500)
@@ -207,10 +207,9 @@ def test_context_vectors_lift_mams_stance_accuracy(monkeypatch: pytest.MonkeyPat
         m.setattr(stance_module, "BLOCKS", OLD_BLOCKS)
         old = _accuracy(StanceModel().fit(train), test)
     new = _accuracy(StanceModel().fit(train), test)
-    print(sparse, old, new)
     assert old >= sparse + 0.025
-    assert new >= old + 0.01
-    assert new >= 0.70
+    assert new >= old + 0.03
+    assert new >= 0.72
 
 
 # Our own translations of stance-bearing sentences (typed from memory), in two languages
