@@ -58,6 +58,15 @@ DETERMINERS: dict[str, frozenset[str]] = {
 }
 """Determiners before a noun, folded: after one, a liking-verb form is the noun."""
 
+REFLEXIVE_CLITICS: dict[str, frozenset[str]] = {
+    "fr": frozenset("se s me m te t nous vous".split()),
+    "es": frozenset("se me te nos os".split()),
+    "pt": frozenset("se me te nos vos".split()),
+    "it": frozenset("si mi ti ci vi".split()),
+}
+"""Reflexive pronouns written before a verb, folded: part of a pronominal verb ("se vend
+bien", "se cocina rápido"), so part of the trait phrase an analyst marks."""
+
 INFINITIVE_ENDINGS: dict[str, tuple[str, ...]] = {
     "pt": ("ar", "er", "ir"),
     "es": ("ar", "er", "ir"),
@@ -76,6 +85,11 @@ def is_liking_verb(words: Sequence[str], i: int, lang: str) -> bool:
     if fold(words[i]) not in LIKING_VERBS.get(code, frozenset()):
         return False
     return not (i > 0 and fold(words[i - 1]) in DETERMINERS.get(code, frozenset()))
+
+
+def is_reflexive_clitic(word: str, lang: str) -> bool:
+    """Whether ``word`` is a reflexive pronoun of ``lang`` (:data:`REFLEXIVE_CLITICS`)."""
+    return fold(word) in REFLEXIVE_CLITICS.get(_code(lang), frozenset())
 
 
 def is_stem_only_infinitive(word: str, alias_forms: Sequence[str], lang: str) -> bool:

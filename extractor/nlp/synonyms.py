@@ -14,6 +14,16 @@ A phrase that starts or ends with a function word or a verb of liking
 (:mod:`extractor.nlp.nontrait`) is not proposed, nor one already listed. The number of
 phrases encoded is bounded (:data:`MAX_PHRASES`, most frequent first) and the encoder
 caches each text per process, so a second call costs no encoding.
+
+Two rules shape the silver aliases (:func:`confident_synonyms`) so that the spans they
+teach the tagger are those an analyst marks:
+
+* *shortest phrase*: a phrase of several words is dropped when one of its own shorter
+  phrases is at least as close to the same concept, since the extra words add nothing
+  to the match ("precio depende", "femmes du marché" for "price", "market");
+* *pronominal verbs*: a reflexive pronoun standing before a phrase in at least half of
+  its occurrences joins it ("se vend bien", "se cocina rápido"), as it belongs to the
+  verb (:data:`extractor.nlp.nontrait.REFLEXIVE_CLITICS`).
 """
 
 from __future__ import annotations
@@ -25,7 +35,7 @@ from typing import NamedTuple
 import numpy as np
 
 from extractor.nlp.fold import fold
-from extractor.nlp.nontrait import is_function_word
+from extractor.nlp.nontrait import is_function_word, is_reflexive_clitic
 from extractor.nlp.pretrained import Space, load_space
 from extractor.nlp.text import tokenize
 
@@ -215,7 +225,87 @@ def confident_synonyms(
         for code in {lang.split("-")[0] for _, lang in texts}
         if any((c, code) not in covered for c in concepts)
     }
-    found = propose(
-        space, aliases, [t for t in texts if t[1].split("-")[0] in silent], per_concept=0
-    )
-    return [a for a in silver_aliases(found) if (a[0], a[2]) not in covered]
+    answers = [t for t in texts if t[1].split("-")[0] in silent]
+    found = propose(space, aliases, answers, per_concept=0)
+    silver = [a for a in silver_aliases(found) if (a[0], a[2]) not in covered]
+    return with_clitics(shortest(space, silver, aliases), answers)
+
+
+def _inner_phrases(text: str, code: str) -> list[str]:
+    """Return the shorter phrases of ``text`` with no function word at either end."""
+    tokens = tokenize(text, code)
+    edge = [not _excluded(fold(text[s:e]), code) for s, e in tokens]
+    n = len(tokens)
+    return [
+        text[tokens[i][0] : tokens[j][1]]
+        for i in range(n)
+        for j in range(i, n)
+        if (i, j) != (0, n - 1) and edge[i] and edge[j]
+    ]
+
+
+def shortest(
+    space: Space,
+    silver: Sequence[tuple[str, str, str]],
+    aliases: Sequence[tuple[str, str, str]],
+) -> list[tuple[str, str, str]]:
+    """Drop each silver alias one of whose shorter phrases is as close to its concept.
+
+    Closeness is the best cosine with the concept's aliases, as in :func:`propose`.
+
+    Args:
+        space: The loaded pretrained space.
+        silver: ``(concept_id, text, lang)`` silver aliases.
+        aliases: ``(concept_id, text, lang)`` of the concept list.
+    """
+    forms: dict[str, list[str]] = {}
+    for concept, text, _ in aliases:
+        if text.strip():
+            forms.setdefault(concept, []).append(text)
+    kept = []
+    for concept, text, code in silver:
+        inner = _inner_phrases(text, code)
+        if inner and concept in forms:
+            vectors = space.words(forms[concept])
+            whole = float((space.words([text]) @ vectors.T).max())
+            if float((space.words(inner) @ vectors.T).max()) >= whole:
+                continue
+        kept.append((concept, text, code))
+    return kept
+
+
+def with_clitics(
+    silver: Sequence[tuple[str, str, str]], corpus: Iterable[tuple[str, str]]
+) -> list[tuple[str, str, str]]:
+    """Prefix each silver alias with the reflexive pronoun that usually stands before it.
+
+    The pronoun joins when it is the word right before the phrase in at least half of
+    the phrase's occurrences in the answers of its language.
+
+    Args:
+        silver: ``(concept_id, text, lang)`` silver aliases.
+        corpus: ``(text, lang)`` of the answers.
+    """
+    by_code: dict[str, list[tuple[str, list[tuple[int, int]], list[str]]]] = {}
+    for text, lang in corpus:
+        tokens = tokenize(text, lang)
+        folded = [fold(text[s:e]) for s, e in tokens]
+        by_code.setdefault(lang.split("-")[0], []).append((text, tokens, folded))
+    out = []
+    for concept, alias, code in silver:
+        key = [fold(alias[s:e]) for s, e in tokenize(alias, code)]
+        before: Counter[str] = Counter()
+        seen = 0
+        for text, tokens, folded in by_code.get(code, []):
+            for i in range(len(folded) - len(key) + 1):
+                if folded[i : i + len(key)] == key:
+                    seen += 1
+                    if i > 0 and is_reflexive_clitic(folded[i - 1], code):
+                        s, e = tokens[i - 1]
+                        before[text[s:e].lower() + text[e : tokens[i][0]]] += 1
+        if before:
+            clitic, count = before.most_common(1)[0]
+            if 2 * count >= seen:
+                alias = clitic + alias
+        out.append((concept, alias, code))
+    return out
