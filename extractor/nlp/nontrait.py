@@ -88,8 +88,11 @@ def is_liking_verb(words: Sequence[str], i: int, lang: str) -> bool:
 
 
 def is_reflexive_clitic(word: str, lang: str) -> bool:
-    """Whether ``word`` is a reflexive pronoun of ``lang`` (:data:`REFLEXIVE_CLITICS`)."""
-    return fold(word) in REFLEXIVE_CLITICS.get(_code(lang), frozenset())
+    """Whether ``word`` is a reflexive pronoun of ``lang`` (:data:`REFLEXIVE_CLITICS`).
+
+    An elided form keeps its apostrophe as a token ("s'", "s’"), which is ignored.
+    """
+    return fold(word).rstrip("'’") in REFLEXIVE_CLITICS.get(_code(lang), frozenset())
 
 
 def is_stem_only_infinitive(word: str, alias_forms: Sequence[str], lang: str) -> bool:

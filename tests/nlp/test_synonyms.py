@@ -9,7 +9,9 @@ from extractor.nlp.synonyms import (
     confident_synonyms,
     phrases,
     propose,
+    shortest,
     silver_aliases,
+    with_clitics,
 )
 
 pytestmark = pytest.mark.skipif(
@@ -99,3 +101,57 @@ def test_confident_synonyms_only_where_the_list_is_silent() -> None:
 
 def test_confident_synonyms_are_empty_without_a_space() -> None:
     assert confident_synonyms(pretrained.NONE, ALIASES, CORPUS) == []
+
+
+def test_shortest_drops_phrases_whose_own_word_is_as_close() -> None:
+    # "precio depende" (the price depends) and "femmes du marché" (market women) name the
+    # price and the market by one word; "cocina rápido" needs both of its words.
+    space = pretrained.load_space()
+    assert space is not None
+    aliases = [("C:price", "price", "en"), ("C:price", "market", "en")]
+    aliases += [("C:cook", "cooks fast", "en")]
+    silver = [
+        ("C:price", "precio depende", "es"),
+        ("C:price", "femmes du marché", "fr"),
+        ("C:cook", "cocina rápido", "es"),
+        ("C:price", "precio", "es"),
+    ]
+    assert shortest(space, silver, aliases) == [
+        ("C:cook", "cocina rápido", "es"),
+        ("C:price", "precio", "es"),
+    ]
+
+
+def test_reflexive_pronoun_joins_a_pronominal_verb() -> None:
+    # French and Spanish pronominal verbs ("se vendre", "cocinarse") carry their
+    # reflexive pronoun (any grammar of either language; from memory). Invented answers.
+    corpus = [
+        ("Il se vend bien au marché.", "fr"),
+        ("Ici il se vend bien.", "fr"),
+        ("On le vend bien cher.", "fr"),
+        ("Elle s'abîme vite au grenier.", "fr"),
+        ("Se cocina rápido.", "es"),
+        ("El precio es bueno y el precio sube.", "es"),
+    ]
+    silver = [
+        ("C:price", "vend bien", "fr"),  # "se" before 2 of 3
+        ("C:store", "abîme vite", "fr"),  # elided "s'"
+        ("C:cook", "cocina rápido", "es"),
+        ("C:price", "precio", "es"),  # "el" is a determiner, not a reflexive pronoun
+        ("C:cook", "cuit vite", "fr"),  # not in the answers: unchanged
+    ]
+    assert with_clitics(silver, corpus) == [
+        ("C:price", "se vend bien", "fr"),
+        ("C:store", "s'abîme vite", "fr"),
+        ("C:cook", "se cocina rápido", "es"),
+        ("C:price", "precio", "es"),
+        ("C:cook", "cuit vite", "fr"),
+    ]
+
+
+def test_reflexive_pronoun_in_a_minority_of_occurrences_stays_out() -> None:
+    corpus = [("Il se vend bien.", "fr"), ("Je vends bien.", "fr"), ("Ça vend bien.", "fr")]
+    corpus += [("Il vend bien.", "fr")]
+    assert with_clitics([("C:price", "vend bien", "fr")], corpus) == [
+        ("C:price", "vend bien", "fr")
+    ]
