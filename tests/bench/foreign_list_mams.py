@@ -2,13 +2,13 @@
 
 Not part of the test suite. Run from the repository root:
 
-    .venv/bin/python tests/bench/foreign_list_mams.py [--train 1500] [--space use-m3]
+    .venv/bin/python tests/bench/foreign_list_mams.py [--train 1500] [--offset 0] [--space use-m3]
 
 The reverse of ``bench_english_list.py`` on real text: MAMS aspect terms (English
 restaurant reviews, open data, read from ``../shared/datasets/mams-atsa/``) and a small
 concept list of restaurant aspects written by us in French and Spanish only (below; the
 categories are MAMS-ACSA's). Models are trained without a label (dictionary silver from
-the list and its silver aliases) on the first ``--train`` train sentences plus the test
+the list and its silver aliases) on ``--train`` train sentences from ``--offset`` plus the test
 sentences, and strict span F1 is scored on the test split (MAMS has no concept per term).
 Also printed: the silver aliases, and the share of them that MAMS marks as an aspect
 term somewhere in its train split (their precision as aspect terms).
@@ -54,6 +54,7 @@ LIST = {
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--train", type=int, default=1500)
+    parser.add_argument("--offset", type=int, default=0, help="first train sentence used")
     parser.add_argument("--space", default="use-m3")
     args = parser.parse_args()
     train, test = load_mams("train"), load_mams("test")
@@ -65,7 +66,7 @@ def main() -> None:
         for lang, texts in by_lang.items()
         for text in texts.split("|")
     ]
-    rows = train[: args.train] + test
+    rows = train[args.offset : args.offset + args.train] + test
     corpus = [Sentence(i, r["sentence"], "en") for i, r in enumerate(rows)]
     target = [
         (s, [Span(m["start"], m["end"]) for m in r["mentions"]])
@@ -83,6 +84,7 @@ def main() -> None:
             {
                 "space": args.space,
                 "sentences": len(target),
+                "train": [args.offset, args.offset + args.train],
                 "span": [round(report.span.precision, 4), round(report.span.recall, 4)],
                 "span_f1": round(report.span.f1, 4),
                 "silver_aliases": len(silver),
