@@ -228,12 +228,12 @@ class TraitModels(BaseEstimator):
             gold, silver, self.dictionary_, self.clusters_, **(self.tagger_params or {})
         )
         link_examples = [(s, sp, sp.concept) for s, spans in gold for sp in spans if sp.concept]
+        gold_links = len(link_examples)  # the linker's combiner is fitted on these only
         if self.dictionary_ is not None:
             for sentence, matches in zip(silver, self.dictionary_.match_many(silver), strict=True):
                 link_examples += [(sentence, m, m.concept) for m in matches if m.concept]
-        self.linker_ = ConceptLinker(threshold=self.link_threshold, space=space).fit(
-            link_examples, aliases
-        )
+        linker = ConceptLinker(threshold=self.link_threshold, space=space)
+        self.linker_ = linker.fit(link_examples, aliases, gold_examples=gold_links)
         implicit = implicit or {}
         self.sentence_ = self._fit_sentence_traits(gold, implicit)
         stance_examples = [(s, sp, sp.stance) for s, spans in gold for sp in spans if sp.stance]

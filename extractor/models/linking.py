@@ -4,11 +4,15 @@ Four scorers (:mod:`extractor.models.link_scoring`: exact, fuzzy, context and se
 each candidate concept a number in ``[0, 1]``. Surface forms of linked examples join
 the aliases, so a phrasing seen once links exactly the next time. A small logistic
 *combiner* turns the four scores into the probability that a candidate is right.
-With at least :data:`MIN_COMBINER_EXAMPLES` linked examples it is fitted on
-out-of-fold scores (each fold's scorers never saw the example), so its output is
-calibrated on the project's own data; below that a fixed, documented rule is used
-(:data:`DEFAULT_WEIGHTS`). The best candidate below ``threshold`` leaves the mention
-unlinked; :func:`choose_threshold` measures a threshold on held-out gold links.
+With at least :data:`MIN_COMBINER_EXAMPLES` links given by the analyst it is fitted on
+out-of-fold scores of all linked examples (each fold's scorers never saw the example),
+so its output is calibrated on the project's own data; below that a fixed, documented
+rule is used (:data:`DEFAULT_WEIGHTS`). Dictionary links alone never fit it: they are
+exact alias matches by construction, so a combiner fitted on them learns that nothing
+but an exact match is right and leaves most new phrasings and other languages unlinked
+(DEVELOPERS.md, "Concept lists in one language"). The best candidate below
+``threshold`` leaves the mention unlinked; :func:`choose_threshold` measures a threshold
+on held-out gold links.
 """
 
 from __future__ import annotations
@@ -40,7 +44,7 @@ from extractor.nlp import pretrained
 from extractor.types import Sentence, Span
 
 MIN_COMBINER_EXAMPLES = 30
-"""Linked examples needed before the combiner is fitted rather than the default rule."""
+"""Analyst's links needed before the combiner is fitted rather than the default rule."""
 
 DEFAULT_WEIGHTS = (-4.0, 5.0, 5.5, 4.0, 7.0)
 """Intercept and weights of exact, fuzzy, context and semantic in the cold-start combiner.
@@ -52,8 +56,7 @@ The semantic weight, also by hand: alone, a translation of an alias (cosine 0.9,
 score 0.75) gives about 0.78, a cosine of 0.8 (score 0.5) about 0.38, 0.75 (0.375)
 about 0.2, below the threshold: a near neighbour that is no translation
 ("sequía"/"drought" is 0.73) needs a second score's support. It applies only below
-:data:`MIN_COMBINER_EXAMPLES` linked examples; a list with a few dozen dictionary
-matches in the answers fits the combiner instead.
+:data:`MIN_COMBINER_EXAMPLES` links by the analyst.
 """
 
 _FORMAT = "trait-extractor/linker/1"
@@ -107,7 +110,13 @@ class ConceptLinker(BaseEstimator):
         self.seed = seed
         self.space = space
 
-    def fit(self, examples: Iterable[Example], aliases: Iterable[Alias]) -> ConceptLinker:
+    def fit(
+        self,
+        examples: Iterable[Example],
+        aliases: Iterable[Alias],
+        *,
+        gold_examples: int | None = None,
+    ) -> ConceptLinker:
         """Learn from aliases and linked examples (gold links and dictionary links).
 
         Args:
@@ -115,6 +124,8 @@ class ConceptLinker(BaseEstimator):
                 aliases alone, exact and fuzzy). A concept of ``None`` marks a mention
                 known to fit no concept, a negative for the combiner.
             aliases: ``(concept_id, alias_text, lang)`` of the concept list.
+            gold_examples: How many of the first examples the analyst linked (the rest
+                are dictionary links); ``None``: all of them.
 
         Returns:
             The fitted linker.
@@ -144,7 +155,13 @@ class ConceptLinker(BaseEstimator):
         features = [context_features(s, sp) for s, sp, _ in examples]
         concepts = [c for _, _, c in examples]
         self.scorer_ = Scorer.build(forms, fit_context(features, concepts, self.C), self.space)
-        self.weights_ = self._fit_combiner(examples, features, alias_list)
+        gold = examples if gold_examples is None else examples[:gold_examples]
+        linked = sum(1 for *_, c in gold if c is not None)
+        self.weights_ = (
+            self._fit_combiner(examples, features, alias_list)
+            if linked >= MIN_COMBINER_EXAMPLES
+            else list(DEFAULT_WEIGHTS)
+        )
         return self
 
     def _fit_combiner(

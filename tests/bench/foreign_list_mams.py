@@ -66,11 +66,12 @@ def main() -> None:
         for lang, texts in by_lang.items()
         for text in texts.split("|")
     ]
-    rows = train[args.offset : args.offset + args.train] + test
+    used = train[args.offset : args.offset + args.train]
+    rows = used + test
     corpus = [Sentence(i, r["sentence"], "en") for i, r in enumerate(rows)]
     target = [
         (s, [Span(m["start"], m["end"]) for m in r["mentions"]])
-        for s, r in zip(corpus[args.train :], test, strict=True)
+        for s, r in zip(corpus[len(used) :], test, strict=True)
     ]
     terms = {fold(r["sentence"][m["start"] : m["end"]]) for r in train for m in r["mentions"]}
     clusters = learn_clusters([(s.text, s.lang) for s in corpus], space=args.space)
@@ -84,7 +85,7 @@ def main() -> None:
             {
                 "space": args.space,
                 "sentences": len(target),
-                "train": [args.offset, args.offset + args.train],
+                "train": [args.offset, args.offset + len(used)],
                 "span": [round(report.span.precision, 4), round(report.span.recall, 4)],
                 "span_f1": round(report.span.f1, 4),
                 "silver_aliases": len(silver),

@@ -156,6 +156,19 @@ def test_fit_returns_self_and_fits_combiner_with_enough_examples() -> None:
     assert exact > fuzzy
 
 
+def test_dictionary_links_alone_never_fit_the_combiner() -> None:
+    # Dictionary links are exact alias matches by construction; fitted on them alone
+    # the combiner would trust nothing but exact matches (DEVELOPERS.md, "Concept lists
+    # in one language": gold French/Spanish spans of the demo linked right 127 -> 175).
+    examples = _examples(4)
+    assert ConceptLinker().fit(examples, ALIASES, gold_examples=0).weights_ == list(DEFAULT_WEIGHTS)
+    assert ConceptLinker().fit(examples, ALIASES, gold_examples=29).weights_ == list(
+        DEFAULT_WEIGHTS
+    )
+    fitted = ConceptLinker().fit(examples, ALIASES, gold_examples=30).weights_
+    assert fitted == ConceptLinker().fit(examples, ALIASES).weights_ != list(DEFAULT_WEIGHTS)
+
+
 def test_choose_threshold_separates_right_links_from_non_concepts(cold: ConceptLinker) -> None:
     held_out = [
         (*_mention("The cooking time is short.", "cooking time"), "TX:01"),
