@@ -34,7 +34,8 @@ import json
 from pathlib import Path
 from typing import Any
 
-from extractor.types import QuestionCode
+from extractor.ingest.concepts import load_concept_list
+from extractor.types import QuestionCode, Sentence
 
 MAIZE_DIR = (
     Path(__file__).resolve().parents[1].parent / "shared" / "datasets" / "maize-concept-testing"
@@ -108,3 +109,25 @@ def load_maize_gold(folder: Path | None = None) -> list[dict[str, Any]] | None:
             }
         )
     return out
+
+
+def load_workspace(
+    folder: Path | None = None,
+) -> tuple[list[Sentence], list[dict[str, Any]], list[tuple[str, str, str]]] | None:
+    """Return what a study of these answers would hold, or None when the dataset is absent.
+
+    Returns:
+        Every answer as one sentence (ID = dataset row, question, respondent), our labelled
+        answers (:func:`load_maize_gold`) and our concept list's aliases
+        ``(concept_id, text, lang)``.
+    """
+    answers = load_answers(folder)
+    gold = load_maize_gold(folder)
+    if answers is None or gold is None:
+        return None
+    corpus = [
+        Sentence(n, row["answer"], "en", row["question"], row["respondent"])
+        for n, row in enumerate(answers)
+    ]
+    aliases = [(a.concept_id, a.text, a.lang) for a in load_concept_list(CONCEPTS).aliases]
+    return corpus, gold, aliases

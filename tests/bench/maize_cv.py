@@ -32,7 +32,6 @@ from typing import Any
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.models.bundle import TraitModels  # noqa: E402
 from extractor.models.metrics import respondent_scores  # noqa: E402
 from extractor.models.stance import codebook_params  # noqa: E402
@@ -70,16 +69,10 @@ def main() -> None:
     parser.add_argument("--folds", type=int, default=5)
     parser.add_argument("--seed", type=int, default=0)
     args = parser.parse_args()
-    answers = maize.load_answers()
-    labelled = maize.load_maize_gold()
-    if answers is None or labelled is None:
+    loaded = maize.load_workspace()
+    if loaded is None:
         sys.exit(maize.SKIP_REASON)
-    concept_list = load_concept_list(maize.CONCEPTS)
-    aliases = [(a.concept_id, a.text, a.lang) for a in concept_list.aliases]
-    corpus = [
-        Sentence(n, row["answer"], "en", row["question"], row["respondent"])
-        for n, row in enumerate(answers)
-    ]
+    corpus, labelled, aliases = loaded
     params = {"questions": codebook_params(maize.CODEBOOK)}
     clusters = learn_clusters([(s.text, s.lang) for s in corpus], seed=args.seed)
     gold = [(corpus[g["row"]], [Span(**sp) for sp in g["spans"]]) for g in labelled]

@@ -32,7 +32,6 @@ from sklearn.model_selection import GroupKFold
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.models.bundle import STANCE_PRIOR, TraitModels  # noqa: E402
 from extractor.models.stance import StanceModel, codebook_params  # noqa: E402
 from extractor.nlp.spans import span_prf  # noqa: E402
@@ -45,16 +44,10 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     parser.add_argument("--folds", type=int, default=5)
     args = parser.parse_args()
-    answers = maize.load_answers()
-    gold = maize.load_maize_gold()
-    if answers is None or gold is None:
+    loaded = maize.load_workspace()
+    if loaded is None:
         sys.exit(maize.SKIP_REASON)
-    concept_list = load_concept_list(maize.CONCEPTS)
-    aliases = [(a.concept_id, a.text, a.lang) for a in concept_list.aliases]
-    corpus = [
-        Sentence(n, row["answer"], "en", row["question"], row["respondent"])
-        for n, row in enumerate(answers)
-    ]
+    corpus, gold, aliases = loaded
     questions = codebook_params(maize.CODEBOOK)
     variants: list[tuple[str, dict[str, Any]]] = [("with codebook", {"questions": questions})]
     for label, params in [*variants, ("without", {})]:
