@@ -25,7 +25,7 @@ from sklearn.pipeline import Pipeline
 from extractor.errors import InputError
 from extractor.models.cues import Cues, load_cues, packaged_cues, rule_proba, rule_stance
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
-from extractor.models.stance_context import BLOCKS, OLD_BLOCKS, context_vectors
+from extractor.models.stance_context import DEFAULT_BLOCKS, OLD_BLOCKS, context_vectors
 from extractor.models.stance_features import Codebook, stance_features
 from extractor.nlp import pretrained
 from extractor.types import STANCES, QuestionCode, Sentence, Span
@@ -140,8 +140,8 @@ class StanceModel(BaseEstimator):
         X = [_model_features(s, sp, cues, codebook) for s, sp, _ in examples]
         space = pretrained.load_space(self.space)
         self.space_ = space.name if space is not None else pretrained.NONE
-        self.context_ = BLOCKS
-        self.dense_dim_ = len(BLOCKS) * space.dim if space is not None else 0
+        self.context_ = DEFAULT_BLOCKS
+        self.dense_dim_ = len(DEFAULT_BLOCKS) * space.dim if space is not None else 0
         pipe = Pipeline(
             [
                 ("vectorizer", DictVectorizer()),

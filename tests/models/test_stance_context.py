@@ -14,6 +14,7 @@ from extractor.models.cues import STANCE_CATEGORIES, lexicon, parse, rule_stance
 from extractor.models.stance import StanceModel
 from extractor.models.stance_context import (
     BLOCKS,
+    DEFAULT_BLOCKS,
     OLD_BLOCKS,
     TAU,
     context_text,
@@ -111,7 +112,7 @@ def test_a_model_saved_with_clause_and_sentence_vectors_loads_and_predicts_alike
     # Models saved before the mention's own blocks have no "context" key in stance.json.
     examples = [(*mention(t, w), y) for t, w, y in _TOY]
     items = [(s, sp) for s, sp, _ in examples]
-    monkeypatch.setattr(stance_module, "BLOCKS", OLD_BLOCKS)
+    monkeypatch.setattr(stance_module, "DEFAULT_BLOCKS", OLD_BLOCKS)
     model = StanceModel().fit(examples)
     model.save(tmp_path / "m")
     meta_path = tmp_path / "m" / "stance.json"
@@ -122,7 +123,7 @@ def test_a_model_saved_with_clause_and_sentence_vectors_loads_and_predicts_alike
     loaded = StanceModel.load(tmp_path / "m")
     assert loaded.context_ == OLD_BLOCKS
     np.testing.assert_allclose(loaded.predict_proba_many(items), model.predict_proba_many(items))
-    assert StanceModel().fit(examples).dense_dim_ == len(BLOCKS) * loaded.dense_dim_ // 2
+    assert StanceModel().fit(examples).dense_dim_ == len(DEFAULT_BLOCKS) * loaded.dense_dim_ // 2
 
 
 # ------------------------------------------------------------------ degrading
@@ -197,14 +198,14 @@ def test_context_vectors_lift_mams_stance_accuracy(monkeypatch: pytest.MonkeyPat
     # MAMS aspect-term sentiment (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0): every
     # sentence holds aspects of different polarities. The first 1,000 train sentences
     # fit, the validation split scores (majority class 0.453). Measured: 0.656 sparse
-    # alone, 0.697 with clause and sentence vectors, 0.745 with the mention's own blocks
-    # too; with the full train split 0.702, 0.737 and 0.765 on the test split
+    # alone, 0.697 with clause and sentence vectors, 0.735 with the mention's region and
+    # own words too; with the full train split 0.702, 0.737 and 0.759 on the test split
     # (tests/bench/mams_stance.py). From memory, published models without pretraining
     # reach about 0.70-0.77 there.
     train, test = _mams("train", 1000), _mams("val", 500)
     sparse = _accuracy(StanceModel(space="none").fit(train), test)
     with monkeypatch.context() as m:
-        m.setattr(stance_module, "BLOCKS", OLD_BLOCKS)
+        m.setattr(stance_module, "DEFAULT_BLOCKS", OLD_BLOCKS)
         old = _accuracy(StanceModel().fit(train), test)
     new = _accuracy(StanceModel().fit(train), test)
     assert old >= sparse + 0.025
