@@ -167,10 +167,10 @@ class ConceptLinker(BaseEstimator):
     def _fit_combiner(
         self, examples: list[Example], features: list[dict[str, float]], aliases: list[Alias]
     ) -> list[float]:
-        """Fit the combiner on out-of-fold scores, or return :data:`DEFAULT_WEIGHTS`."""
-        linked = sum(1 for *_, c in examples if c is not None)
-        if linked < MIN_COMBINER_EXAMPLES:
-            return list(DEFAULT_WEIGHTS)
+        """Fit the combiner on out-of-fold scores, or return :data:`DEFAULT_WEIGHTS`.
+
+        :meth:`fit` calls it only with enough links by the analyst.
+        """
         rows, labels = [], []
         folds = KFold(n_splits=min(self.folds, len(examples)), shuffle=True, random_state=self.seed)
         for train_idx, test_idx in folds.split(examples):
