@@ -17,13 +17,16 @@ the pods rot"), so most of these views belong to the mention alone. The blocks
   other mention of the same sentence (cut halfway between neighbouring mentions);
 * ``mention``: the span's own words (what is usually said of such a trait);
 * ``left`` and ``right``: the mean of the word vectors on each side, weighted by
-  ``exp(-(d - 1) / TAU)`` at distance ``d`` and stopping at the next other mention.
+  ``exp(-(d - 1) / TAU)`` at distance ``d`` and stopping at the next other mention;
+* ``before`` and ``after``: the :data:`SIDE_WORDS` words on each side of the mention,
+  stopping at the next other mention, encoded as one phrase each (zero when none);
+* ``others``: the mean of the other mentions' ``region`` rows (zero for a mention alone
+  in its sentence), so the model can read a mention against its neighbours.
 
 The other mentions of a sentence are those among the items passed in the same call
 (the bundle passes every span it tagged); a mention passed alone has the whole
-sentence as its region. On MAMS (3-fold cross-validation on the train split only) the
-six blocks beat the clause and sentence alone; the figures are in DEVELOPERS.md,
-"Stance figures". Text vectors are cached per text, word vectors by the space, so a
+sentence as its region. The blocks were chosen on MAMS by 3-fold cross-validation on the
+train split only; the figures are in DEVELOPERS.md, "Stance figures". Text vectors are cached per text, word vectors by the space, so a
 sentence predicted again costs no encoder call.
 """
 
@@ -31,7 +34,7 @@ from __future__ import annotations
 
 import threading
 from collections import OrderedDict, defaultdict
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 
 import numpy as np
 
@@ -39,19 +42,25 @@ from extractor.models.cues import Cues, Parsed, clause, lexicon, parse, span_tok
 from extractor.nlp.pretrained import Space
 from extractor.types import Sentence, Span
 
-BLOCKS = ("clause", "sentence", "region", "mention", "left", "right")
+BLOCKS = (
+    "clause", "sentence", "region", "mention", "left", "right", "before", "after", "others",
+)  # fmt: skip
 """The dense blocks of :func:`context_vectors`, in column order."""
 
-DEFAULT_BLOCKS = ("clause", "sentence", "region", "mention")
-"""The blocks a new stance model reads. The side averages (``left``, ``right``) lift MAMS
-CV on train (0.755 -> 0.767) but are single-word vectors, which the encoder aligns across
-languages less well than phrases: a model learned from English MAMS labels then read 9 of
-12 French and Spanish check sentences right instead of 10
-(``tests/models/test_stance_context.py``), and stance learned in one language must carry
-to the others."""
+DEFAULT_BLOCKS = ("clause", "sentence", "region", "mention", "before", "after", "others")
+"""The blocks a new stance model reads (MAMS CV on train 0.772; clause to mention alone
+0.755). The side word averages (``left``, ``right``) lift MAMS too (0.767) but are
+single-word vectors, which the encoder aligns across languages less well than phrases: a
+model learned from English MAMS labels then read 9 of 12 French and Spanish check
+sentences right instead of 10 (``tests/models/test_stance_context.py``), and stance
+learned in one language must carry to the others. The two-word phrases ``before`` and
+``after`` read the same neighbourhood as phrases and keep the 10."""
 
 OLD_BLOCKS = ("clause", "sentence")
 """The blocks of models saved before the region, mention and side blocks existed."""
+
+SIDE_WORDS = 2
+"""Words each side in the ``before`` and ``after`` phrases; chosen by CV on MAMS train (2, 3, 5)."""
 
 TAU = 1.0
 """Decay length (tokens) of the side word averages; chosen by CV on MAMS train (1, 2, 4)."""
@@ -100,8 +109,8 @@ def context_vectors(
         blocks: Which blocks, in order (names of :data:`BLOCKS`).
 
     Returns:
-        An ``(n, len(blocks) * space dimension)`` array; each block of unit length,
-        or zero when its text is empty.
+        An ``(n, len(blocks) * space dimension)`` array; each block of unit length
+        (``others``: a mean of unit rows), or zero when its text is empty.
     """
     if not items:
         return np.zeros((0, 0), dtype=np.float32)
@@ -120,15 +129,56 @@ def context_vectors(
         texts["sentence"].append(s.text)
         texts["region"].append(_slice(s.text, p, *region_bounds(p, a, b, others)))
         texts["mention"].append(s.text[sp.start : sp.end] or s.text)
+        before, after = side_bounds(p, a, b, others)
+        texts["before"].append(_slice(s.text, p, *before) if before[1] > before[0] else "")
+        texts["after"].append(_slice(s.text, p, *after) if after[1] > after[0] else "")
         if "left" in blocks or "right" in blocks:
             sides.append(_side_means(space, p, a, b, others))
+    encoded = {
+        name: _encoded(space, texts[name])
+        for name in {"region" if n == "others" else n for n in blocks} - {"left", "right"}
+    }
     columns = []
     for name in blocks:
         if name in ("left", "right"):
             columns.append(np.stack([row[0 if name == "left" else 1] for row in sides]))
+        elif name == "others":
+            columns.append(_others_mean(encoded["region"], groups.values()))
         else:
-            columns.append(_encoded(space, texts[name]))
+            columns.append(encoded[name])
     return np.hstack(columns).astype(np.float32)
+
+
+def side_bounds(
+    p: Parsed, a: int, b: int, others: Sequence[tuple[int, int]]
+) -> tuple[tuple[int, int], tuple[int, int]]:
+    """Return the token ranges of the :data:`SIDE_WORDS` words before and after ``[a, b)``.
+
+    Each stops short of the nearest other mention on its side; an empty range
+    (``lo == hi``) when the mention has no word on that side before one.
+    """
+    lo = max([e for s, e in others if e <= a], default=0)
+    hi = min([s for s, e in others if s >= b], default=len(p.words))
+    return (max(a - SIDE_WORDS, lo), a), (b, max(b, min(b + SIDE_WORDS, hi)))
+
+
+def _others_mean(rows: np.ndarray, groups: Iterable[list[int]]) -> np.ndarray:
+    """Return, per row, the mean of the other rows of its group (zero when alone)."""
+    out = np.zeros_like(rows)
+    for members in groups:
+        if len(members) > 1:
+            total = rows[members].sum(axis=0)
+            out[members] = (total - rows[members]) / (len(members) - 1)
+    return out
+
+
+def _encoded(space: Space, texts: list[str]) -> np.ndarray:
+    """Return the encoder's rows of the texts, through the cache; zero rows for empty texts."""
+    rows = np.zeros((len(texts), space.dim), dtype=np.float32)
+    full = [k for k, text in enumerate(texts) if text]
+    if full:
+        rows[full] = _cached_rows(space, [texts[k] for k in full])
+    return rows
 
 
 def _overlap(other: tuple[int, int], a: int, b: int) -> bool:
@@ -165,8 +215,8 @@ def _side_means(
     return means[0], means[1]
 
 
-def _encoded(space: Space, texts: list[str]) -> np.ndarray:
-    """Return the encoder's rows of the texts, through the cache."""
+def _cached_rows(space: Space, texts: list[str]) -> np.ndarray:
+    """Return the encoder's rows of (non-empty) texts, through the cache."""
     with _LOCK:
         missing = sorted({t for t in texts if (space.name, t) not in _CACHE})
     fresh = dict(zip(missing, space.texts(missing), strict=True)) if missing else {}

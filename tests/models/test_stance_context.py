@@ -86,6 +86,8 @@ def test_context_vectors_tell_apart_two_mentions_of_one_clause() -> None:
     rows = context_vectors(space, [a, b], CUES)
     assert rows.shape == (2, len(BLOCKS) * space.dim)
     for name in BLOCKS:
+        if name == "others":
+            continue
         norms = np.linalg.norm(_block(rows, name, space.dim), axis=1)
         # Unit length, or zero where a side has no word before the next mention.
         assert np.all((np.abs(norms - 1.0) < 1e-4) | (norms == 0.0)), name
@@ -93,16 +95,30 @@ def test_context_vectors_tell_apart_two_mentions_of_one_clause() -> None:
         np.testing.assert_allclose(
             _block(rows, name, space.dim)[0], _block(rows, name, space.dim)[1]
         )
-    for name in ("region", "mention", "left", "right"):
+    for name in ("region", "mention", "left", "right", "before", "after", "others"):
         assert not np.allclose(_block(rows, name, space.dim)[0], _block(rows, name, space.dim)[1])
+    # Each mention's "others" is the other's region; the two words between them are
+    # "taste"'s after and "pods"' before (tokens: The taste of the pods is good .).
+    region, others = _block(rows, "region", space.dim), _block(rows, "others", space.dim)
+    np.testing.assert_allclose(others, region[::-1], atol=1e-6)
+    between = space.texts(["of the"])[0]
+    np.testing.assert_allclose(_block(rows, "after", space.dim)[0], between, atol=1e-5)
+    np.testing.assert_allclose(_block(rows, "before", space.dim)[1], between, atol=1e-5)
+    np.testing.assert_allclose(
+        _block(rows, "before", space.dim)[0], space.texts(["The"])[0], atol=1e-5
+    )
     # "taste" sees "the" on its left; "pods" stops at "taste" and sees "of the" (nearest first).
     left = _block(rows, "left", space.dim)
     expected = space.words(["the", "of"]).T @ np.exp(-np.arange(2) / TAU)
     np.testing.assert_allclose(left[1], expected / np.linalg.norm(expected), atol=1e-5)
     np.testing.assert_allclose(left[0], space.words(["the"])[0], atol=1e-5)
     # Passed alone, a mention's region is its whole sentence.
-    alone = context_vectors(space, [a], CUES, ("region", "sentence"))
-    np.testing.assert_allclose(alone[0, : space.dim], alone[0, space.dim :], atol=1e-5)
+    alone = context_vectors(space, [a], CUES, ("region", "sentence", "others"))
+    np.testing.assert_allclose(
+        alone[0, : space.dim], alone[0, space.dim : 2 * space.dim], atol=1e-5
+    )
+    # ... and no other mention to read it against.
+    assert not alone[0, 2 * space.dim :].any()
 
 
 @needs_space
