@@ -4,7 +4,7 @@
 :mod:`extractor.models.stance_features` plus the cue rules' own answer
 (:func:`extractor.models.cues.rule_stance`), so it learns how far to trust the rules,
 and the pretrained encoder's vectors of the mention's own context (its clause, its
-share of the sentence, its words, the words either side:
+share of the sentence, its words, the two words either side, its neighbours' shares:
 :mod:`extractor.models.stance_context`), so what it learns from labels in one language
 carries to languages without cue words. Until it is fitted it answers with the rules alone.
 """

@@ -26,8 +26,9 @@ the pods rot"), so most of these views belong to the mention alone. The blocks
 The other mentions of a sentence are those among the items passed in the same call
 (the bundle passes every span it tagged); a mention passed alone has the whole
 sentence as its region. The blocks were chosen on MAMS by 3-fold cross-validation on the
-train split only; the figures are in DEVELOPERS.md, "Stance figures". Text vectors are cached per text, word vectors by the space, so a
-sentence predicted again costs no encoder call.
+train split only; the figures are in DEVELOPERS.md, "Stance figures". Text vectors are
+cached per text, word vectors by the space, so a sentence predicted again costs no
+encoder call.
 """
 
 from __future__ import annotations
@@ -65,8 +66,8 @@ SIDE_WORDS = 2
 TAU = 1.0
 """Decay length (tokens) of the side word averages; chosen by CV on MAMS train (1, 2, 4)."""
 
-CACHE_SIZE = 8192
-"""Text vectors kept per process (512 floats each: about 16 MB)."""
+CACHE_SIZE = 16384
+"""Text vectors kept per process (512 floats each: about 32 MB); up to six texts a mention."""
 
 _CACHE: OrderedDict[tuple[str, str], np.ndarray] = OrderedDict()
 _LOCK = threading.Lock()

@@ -2,8 +2,8 @@
 
 Not part of the test suite. Run from the repository root:
 
-    .venv/bin/python tests/bench/stance_cv.py [--blocks clause,sentence ALL] [--C 0.3] \
-        [--weight 1.0]
+    .venv/bin/python tests/bench/stance_cv.py [--blocks clause,sentence DEFAULT ALL] \
+        [--C 0.3] [--weight 1.0]
 
 MAMS (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0; read in place from
 ``../shared/datasets/mams-atsa/``). The train split's gold spans are cut into three
@@ -12,7 +12,8 @@ never on both sides; the test split is never read. Features are those of
 :class:`~extractor.models.stance.StanceModel` (its sparse features and the blocks of
 :func:`~extractor.models.stance_context.context_vectors`, computed once over every train
 sentence with all its mentions), fitted with the same logistic regression. ``ALL`` names
-every block of :data:`~extractor.models.stance_context.BLOCKS`. Prints mean accuracy
+every block of :data:`~extractor.models.stance_context.BLOCKS`, ``DEFAULT`` those of
+:data:`~extractor.models.stance_context.DEFAULT_BLOCKS`. Prints mean accuracy
 and the three folds per setting.
 """
 
@@ -34,7 +35,11 @@ sys.path.insert(0, str(ROOT))
 
 from extractor.models.cues import packaged_cues  # noqa: E402
 from extractor.models.stance import _model_features  # noqa: E402
-from extractor.models.stance_context import BLOCKS, context_vectors  # noqa: E402
+from extractor.models.stance_context import (  # noqa: E402
+    BLOCKS,
+    DEFAULT_BLOCKS,
+    context_vectors,
+)
 from extractor.nlp import pretrained  # noqa: E402
 from tests.bench.mams_stance import triples  # noqa: E402
 
@@ -42,7 +47,7 @@ from tests.bench.mams_stance import triples  # noqa: E402
 def main() -> None:
     """Print the figures."""
     parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    parser.add_argument("--blocks", nargs="+", default=["clause,sentence", "ALL"])
+    parser.add_argument("--blocks", nargs="+", default=["clause,sentence", "DEFAULT", "ALL"])
     parser.add_argument("--C", nargs="+", type=float, default=[0.3])
     parser.add_argument("--weight", nargs="+", type=float, default=[1.0])
     args = parser.parse_args()
@@ -59,7 +64,8 @@ def main() -> None:
     groups = np.array([s.id for s, _, _ in train])
     folds = list(GroupKFold(3).split(sparse, labels, groups))
     for spec in args.blocks:
-        names = BLOCKS if spec == "ALL" else tuple(spec.split(","))
+        named = {"ALL": BLOCKS, "DEFAULT": DEFAULT_BLOCKS}
+        names = named.get(spec, tuple(spec.split(",")))
         cols = np.hstack(
             [
                 np.arange(BLOCKS.index(n) * space.dim, (BLOCKS.index(n) + 1) * space.dim)
