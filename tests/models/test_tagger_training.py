@@ -7,12 +7,12 @@ import itertools
 import pytest
 
 from extractor.errors import InputError
-from extractor.models.tagger import tag_sentences
-from extractor.models.tagger_training import _silver, fit_tagger
+from extractor.models.tagger import TraitTagger, tag_sentences
+from extractor.models.tagger_training import _self_labelled, _silver, fit_tagger
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
-from tests.models.toy import TEMPLATES, toy_gold, toy_xy
+from tests.models.toy import TEMPLATES, labelled, toy_gold, toy_xy
 
 
 def test_fit_tagger_uses_dictionary_and_keeps_its_concept() -> None:
@@ -47,7 +47,7 @@ def test_silver_filter_handles_unlisted_trait(
         Sentence(3, "We walked to the market .", "en"),
     ]
     X, y = toy_xy(toy_gold())
-    sx, sy = _silver(silver, dictionary, None, X, y, silver_filter, 0.5, {"max_iterations": 50})
+    sx, sy, _ = _silver(silver, dictionary, None, X, y, silver_filter, 0.5, {"max_iterations": 50})
     assert len(sx) == kept
     firmness_tags = [
         tags[i]
@@ -61,3 +61,31 @@ def test_silver_filter_handles_unlisted_trait(
 def test_fit_tagger_rejects_unknown_silver_filter() -> None:
     with pytest.raises(InputError, match="silver_filter must be one of"):
         fit_tagger(toy_gold(), [], None, None, silver_filter="none")
+
+
+def test_self_labelled_keeps_sentences_whose_path_the_judge_is_sure_of() -> None:
+    X, y = toy_xy(toy_gold())
+    judge = TraitTagger(max_iterations=50).fit(X, y)
+    unlabelled, _ = toy_xy([labelled(tpl.format(t="aroma"), "aroma") for tpl in TEMPLATES])
+    paths = judge.predict(unlabelled)
+    threshold = sorted(p.probability for p in paths)[len(paths) // 2]
+    kept_X, kept_y = _self_labelled(judge, unlabelled, threshold)
+    sure = [
+        (x, p.tags) for x, p in zip(unlabelled, paths, strict=True) if p.probability >= threshold
+    ]
+    assert 0 < len(kept_X) < len(unlabelled)
+    assert kept_X == [x for x, _ in sure] and kept_y == [t for _, t in sure]
+
+
+def test_fit_tagger_self_trains_only_on_sentences_above_the_threshold() -> None:
+    gold = toy_gold()[:10]
+    silver = [Sentence(100 + i, tpl.format(t="aroma"), "en") for i, tpl in enumerate(TEMPLATES)]
+    plain = fit_tagger(gold, silver, None, None, max_iterations=20)
+    nobody_sure = fit_tagger(
+        gold, silver, None, None, max_iterations=20, self_sentences=10, self_threshold=1.01
+    )
+    everybody = fit_tagger(
+        gold, silver, None, None, max_iterations=20, self_sentences=10, self_threshold=0.0
+    )
+    assert nobody_sure.model_bytes_ == plain.model_bytes_
+    assert everybody.model_bytes_ != plain.model_bytes_
