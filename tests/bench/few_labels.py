@@ -13,7 +13,14 @@ span F1 is scored on the val split, so that the test split stays for the simulat
 confirms a choice. Every setting sees the same subsets, so gains are paired by draw.
 
 Each argument is a JSON dict: :class:`~extractor.models.tagger.TraitTagger` parameters,
-plus the self-training keys of :func:`extractor.models.tagger_training.fit_tagger`.
+plus the self-training keys of :func:`extractor.models.tagger_training.fit_tagger`, plus
+two keys of this screen alone (not in the tool):
+
+* ``"decode_threshold"``: spans read from the Viterbi path plus those of the tokens whose
+  TRAIT probability (1 - P(O)) is at least this, where they overlap no Viterbi span;
+* ``"dense_dims"``: that many principal axes of the pretrained space's word vectors
+  (centred, unit length, times ``"dense_scale"``, default 1) added to each token as
+  weighted features; the tagger is then trained on the labelled sentences alone.
 """
 
 from __future__ import annotations
@@ -30,10 +37,15 @@ from typing import Any
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.models.tagger import sentence_items  # noqa: E402
+import numpy as np  # noqa: E402
+
+from extractor.models.tagger import TagPath, TraitTagger, sentence_items  # noqa: E402
 from extractor.models.tagger_training import fit_tagger  # noqa: E402
+from extractor.nlp import pretrained  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
-from extractor.nlp.spans import iob_to_spans, span_prf  # noqa: E402
+from extractor.nlp.features import Attributes  # noqa: E402
+from extractor.nlp.spans import OUTSIDE, iob_to_spans, span_prf, spans_to_iob  # noqa: E402
+from extractor.nlp.text import tokenize  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 from tests.mams import load_mams  # noqa: E402
 
@@ -51,6 +63,54 @@ def gold(split: str, first_id: int) -> Gold:
     ]
 
 
+def recall_spans(offsets: list[tuple[int, int]], path: TagPath, threshold: float) -> list[Span]:
+    """Return the Viterbi spans plus the runs of tokens with TRAIT probability >= threshold."""
+    tags: list[str] = []
+    for m in path.marginals:
+        if 1.0 - m[OUTSIDE] >= threshold:
+            inside = tags and tags[-1] != OUTSIDE and m["I-TRAIT"] >= m["B-TRAIT"]
+            tags.append("I-TRAIT" if inside else "B-TRAIT")
+        else:
+            tags.append(OUTSIDE)
+    viterbi = iob_to_spans(offsets, path.tags)
+    extra = [
+        s
+        for s in iob_to_spans(offsets, tags)
+        if not any(s.start < v.end and v.start < s.end for v in viterbi)
+    ]
+    return sorted(viterbi + extra)
+
+
+class Dense:
+    """Principal axes of the pretrained word vectors of a vocabulary, as weighted features."""
+
+    def __init__(self, words: set[str], dims: int, scale: float) -> None:
+        space = pretrained.load_space()
+        if space is None:
+            sys.exit("dense_dims needs the pretrained space, which did not load.")
+        vocab = sorted(words)
+        vectors = space.words(vocab)
+        vectors = vectors - vectors.mean(axis=0)
+        _, _, axes = np.linalg.svd(vectors - vectors.mean(axis=0), full_matrices=False)
+        rows = vectors @ axes[:dims].T
+        rows = rows / np.linalg.norm(rows, axis=1, keepdims=True) * scale
+        self.rows = dict(zip(vocab, rows.tolist(), strict=True))
+
+    def features(self, words: list[str], attributes: list[Attributes]) -> list[dict[str, float]]:
+        """Return each token's attributes (weight 1) and its dense dimensions."""
+        out = []
+        for word, attrs in zip(words, attributes, strict=True):
+            row = {a.decode(): 1.0 for a in attrs}
+            row.update({f"v{k}": v for k, v in enumerate(self.rows[word.lower()])})
+            out.append(row)
+        return out
+
+
+def word_list(sentence: Sentence, offsets: list[tuple[int, int]]) -> list[str]:
+    """Return the sentence's tokens as text."""
+    return [sentence.text[a:b] for a, b in offsets]
+
+
 def main() -> None:
     """Print one JSON line per setting and size: F1 per draw and paired gain over the first."""
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
@@ -66,9 +126,19 @@ def main() -> None:
     test_text = [(d["sentence"], d["lang"]) for d in load_mams("test") or []]
     clusters = learn_clusters([(s.text, s.lang) for s, _ in train + val] + test_text)
     val_items = [sentence_items(s, None, clusters)[:2] for s, _ in val]
+    words = {s.text[a:b].lower() for s, _ in train + val for a, b in tokenize(s.text, s.lang)}
     base: dict[tuple[int, int], float] = {}
     for raw in args.settings:
         params: dict[str, Any] = json.loads(raw)
+        threshold = params.pop("decode_threshold", None)
+        dims, scale = params.pop("dense_dims", 0), params.pop("dense_scale", 1.0)
+        dense = Dense(words, dims, scale) if dims else None
+        val_X: list[Any] = [f for _, f in val_items]
+        if dense is not None:
+            val_X = [
+                dense.features(word_list(s, o), f)
+                for (s, _), (o, f) in zip(val, val_items, strict=True)
+            ]
         for size in (int(x) for x in args.sizes.split(",")):
             scores, seconds = [], []
             for draw in range(args.draws):
@@ -79,10 +149,21 @@ def main() -> None:
                 if args.pool:
                     rest = rest[: args.pool]
                 started = time.process_time()
-                tagger = fit_tagger(labeled, rest, None, clusters, **params)
+                if dense is None:
+                    tagger = fit_tagger(labeled, rest, None, clusters, **params)
+                else:
+                    X, y = [], []
+                    for s, spans in labeled:
+                        offsets, feats, _ = sentence_items(s, None, clusters)
+                        X.append(dense.features(word_list(s, offsets), feats))
+                        y.append(spans_to_iob(offsets, spans))
+                    tagger = TraitTagger(**params).fit(X, y)
                 seconds.append(time.process_time() - started)
-                paths = tagger.predict([f for _, f in val_items])
-                pred = [iob_to_spans(o, p.tags) for (o, _), p in zip(val_items, paths, strict=True)]
+                paths = tagger.predict(val_X)
+                pred = [
+                    iob_to_spans(o, p.tags) if threshold is None else recall_spans(o, p, threshold)
+                    for (o, _), p in zip(val_items, paths, strict=True)
+                ]
                 scores.append(span_prf([g for _, g in val], pred).f1)
                 if raw == args.settings[0]:
                     base[(size, draw)] = scores[-1]
