@@ -169,7 +169,7 @@ def main() -> None:
                     base[(size, draw)] = scores[-1]
             gains = [100 * (s - base[(size, d)]) for d, s in enumerate(scores)]
             row = {
-                "params": params,
+                "params": json.loads(raw),
                 "size": size,
                 "f1": round(statistics.fmean(scores), 4),
                 "sd": round(statistics.stdev(scores), 4) if len(scores) > 1 else 0.0,
