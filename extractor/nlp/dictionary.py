@@ -51,6 +51,11 @@ SNOWBALL_LANGUAGES: dict[str, str] = {
 }  # fmt: skip
 """ISO 639-1 code -> Snowball algorithm name, for the algorithms snowballstemmer ships."""
 
+_WORD_CACHE_LIMIT = 1 << 16
+"""Distinct words per sentence language whose keys are kept before the cache starts afresh."""
+_UNSEEN: tuple[str | None, ...] = ()
+"""Marks a word not yet in the key cache (a cached row is ``None`` or a non-empty tuple)."""
+
 
 @lru_cache(maxsize=1 << 20)
 @cache
@@ -114,6 +119,8 @@ class Dictionary:
         self._tokens = tokens
         self._alias_langs = alias_langs
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
+        self._plans: dict[str, list[tuple[str, bool]]] = {}
+        self._word_keys: dict[str, dict[str, tuple[str | None, ...] | None]] = {}
 
     @classmethod
     def from_aliases(cls, aliases: Sequence[tuple[str, str, str]]) -> Dictionary:
@@ -172,28 +179,71 @@ class Dictionary:
         if not token_offsets or not self.aliases:
             return []
         words = [text[s:e] for s, e in token_offsets]
+        sent_stem = stemmer_language(lang)
+        plan = self._plan(sent_stem)
+        table = self._word_keys.setdefault(sent_stem, {})
+        rows = []
+        for w in words:
+            row = table.get(w, _UNSEEN)
+            if row is _UNSEEN:
+                if len(table) >= _WORD_CACHE_LIMIT:
+                    table.clear()
+                row = table[w] = self._keys_of(w, plan)
+            rows.append(row)
+        if not any(rows):
+            return []  # no word of the sentence is part of any alias (most sentences)
         forms = [fold(w) for w in words]
-        sent_stem, sent_code = stemmer_language(lang), _code(lang)
-        candidates = self._candidates(words, forms, sent_stem, sent_code, only_own=False)
-        for other in self._alias_langs:
-            if other and other != sent_stem:
-                candidates += self._candidates(words, forms, other, sent_code, only_own=True)
+        sent_code = _code(lang)
+        candidates: list[_Candidate] = []
+        for m, (stem_lang, only_own) in enumerate(plan):
+            keys = [row[m] if row else None for row in rows]
+            if any(k is not None for k in keys):
+                candidates += self._candidates(
+                    words, forms, keys, stem_lang, sent_code, only_own=only_own
+                )
         chosen = _longest_first(candidates)
         return [
             Span(token_offsets[c.first][0], token_offsets[c.stop - 1][1], c.concept) for c in chosen
         ]
+
+    def _plan(self, sent_stem: str) -> list[tuple[str, bool]]:
+        """Return the matchers a sentence of this stemmer language goes through, in order.
+
+        All aliases keyed with the sentence's stemmer, then the aliases of each other
+        language keyed with their own.
+        """
+        if sent_stem not in self._plans:
+            others = [(o, True) for o in self._alias_langs if o and o != sent_stem]
+            self._plans[sent_stem] = [(sent_stem, False), *others]
+        return self._plans[sent_stem]
+
+    def _keys_of(self, word: str, plan: list[tuple[str, bool]]) -> tuple[str | None, ...] | None:
+        """Return a word's key under each matcher of ``plan``, ``None`` where no alias uses it.
+
+        ``None`` instead of the tuple when no matcher knows the word's key: a key that no
+        alias holds can be part of no match, so such words are skipped at once.
+        """
+        keys = []
+        for stem_lang, only_own in plan:
+            key = stem_word(word, stem_lang)
+            keys.append(key if key in self._matcher(stem_lang, only_own).known else None)
+        return tuple(keys) if any(k is not None for k in keys) else None
 
     def match_many(self, sentences: Iterable[Sentence]) -> list[list[Span]]:
         """Return :meth:`match` for each sentence (anything with ``text`` and ``lang``)."""
         return [self.match(s.text, s.lang) for s in sentences]
 
     def _candidates(
-        self, words: list[str], forms: list[str], stem_lang: str, sent_code: str, *, only_own: bool
+        self,
+        words: list[str],
+        forms: list[str],
+        keys: list[str | None],
+        stem_lang: str,
+        sent_code: str,
+        *,
+        only_own: bool,
     ) -> list[_Candidate]:
-        entries, lengths, known = self._matcher(stem_lang, only_own)
-        keys = [stem_word(w, stem_lang) for w in words]
-        if known.isdisjoint(keys):
-            return []
+        entries, lengths, _ = self._matcher(stem_lang, only_own)
         out = []
         for first, stop, options in _matches(keys, entries, lengths):
             if stop - first == 1 and never_alone(
@@ -210,17 +260,20 @@ class Dictionary:
 
 
 def _matches(
-    keys: list[str],
+    keys: Sequence[str | None],
     entries: dict[tuple[str, ...], list[_Entry]],
     lengths: dict[str, tuple[int, ...]],
 ) -> Iterator[tuple[int, int, list[_Entry]]]:
     """Yield ``(first, stop, aliases)`` for every run of ``keys`` that is an alias's keys.
 
     Runs may overlap and nest, as with spaCy's ``PhraseMatcher``: choosing among them
-    is :func:`_longest_first`'s job.
+    is :func:`_longest_first`'s job. A key of ``None`` (a word no alias holds) starts
+    and joins no run.
     """
     n = len(keys)
     for first, key in enumerate(keys):
+        if key is None:
+            continue
         for length in lengths.get(key, ()):
             stop = first + length
             if stop > n:
