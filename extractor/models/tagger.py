@@ -15,6 +15,7 @@ import ctypes.util
 import gc
 import hashlib
 import json
+import struct
 import tempfile
 from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
@@ -25,8 +26,14 @@ import pycrfsuite
 from sklearn.base import BaseEstimator
 
 from extractor.errors import InputError, ModelError, NotFittedError
+from extractor.models.crf_decoder import CrfDecoder, Decoded
 from extractor.nlp.dictionary import Dictionary
-from extractor.nlp.features import Attributes, Clusters, sentence_attributes
+from extractor.nlp.features import (
+    Attributes,
+    Clusters,
+    SplitAttributes,
+    sentence_attribute_parts,
+)
 from extractor.nlp.spans import iob_to_spans, repair_iob, spans_to_concepts, spans_to_iob
 from extractor.nlp.text import tokenize
 from extractor.types import TAGS, Sentence, Span
@@ -38,8 +45,9 @@ PARAMS_FILE = "tagger.json"
 ALGORITHMS = ("lbfgs", "l2sgd", "ap", "pa", "arow")
 """CRFsuite's training algorithms."""
 
-Features = Sequence[Attributes | Mapping[str, str | float]]
-"""One sentence's features: per token, attributes or a ``{name: value}`` dict."""
+Features = Sequence[Attributes | SplitAttributes | Mapping[str, str | float]]
+"""One sentence's features: per token, attributes (whole or split in two) or a
+``{name: value}`` dict."""
 
 
 class TagPath(NamedTuple):
@@ -180,8 +188,16 @@ class TraitTagger(BaseEstimator):
         """
         tagger = self._fitted()
         labels = [t for t in TAGS if t in self.labels_]
+        decoder = self._decoder()
+        if decoder is not None:
+            try:
+                decoded = decoder.decode(X)  # type: ignore[arg-type]
+            except TypeError:
+                pass  # {name: value} dicts: CRFsuite reads them
+            else:
+                return [_tag_path(d, decoder.labels) for d in decoded]
         out = []
-        for xseq in X:
+        for xseq in map(_whole, X):
             if not len(xseq):
                 out.append(TagPath([], [], 1.0))
                 continue
@@ -190,6 +206,17 @@ class TraitTagger(BaseEstimator):
             marginals = _marginals(tagger, labels, len(xseq))
             out.append(TagPath(repair_iob(viterbi), marginals, tagger.probability(viterbi)))
         return out
+
+    def _decoder(self) -> CrfDecoder | None:
+        """Return the numpy decoder of the fitted model, ``None`` where it cannot read it."""
+        cached = getattr(self, "_crf_decoder", None)
+        if cached is None or cached[0] is not self.model_bytes_:
+            try:
+                decoder: CrfDecoder | None = CrfDecoder.from_model(self.model_bytes_)
+            except (ValueError, struct.error, UnicodeDecodeError):
+                decoder = None  # a layout this reader does not know: CRFsuite decodes
+            cached = self._crf_decoder = (self.model_bytes_, decoder)
+        return cached[1]
 
     def save(self, folder: str | Path) -> None:
         """Write the CRFsuite model file and its JSON parameters into ``folder``."""
@@ -301,6 +328,29 @@ def _check_training_data(X: Sequence[Features], y: Sequence[Sequence[str]]) -> N
             )
 
 
+def _whole(xseq: Features) -> Features:
+    """Return a sentence's features with tokens split in two joined again, for CRFsuite."""
+    if any(a and isinstance(a, tuple) and isinstance(a[0], tuple) for a in xseq):
+        return [a[0] + a[1] if a and isinstance(a[0], tuple) else a for a in xseq]  # type: ignore[operator, index]
+    return xseq
+
+
+def _tag_path(decoded: Decoded, labels: Sequence[str]) -> TagPath:
+    """Return a :class:`TagPath` from the numpy decoder's result, as :meth:`predict` gives it."""
+    names = [labels[i] for i in decoded.path]
+    rows = decoded.marginals.tolist()
+    if len(labels) == len(TAGS):
+        outside, begin = labels.index(TAGS[0]), labels.index(TAGS[1])
+        marginals = [
+            {TAGS[0]: r[outside], TAGS[1]: r[begin], TAGS[2]: max(0.0, 1.0 - r[outside] - r[begin])}
+            for r in rows
+        ]
+    else:
+        where = {t: labels.index(t) for t in TAGS if t in labels}
+        marginals = [{t: (r[where[t]] if t in where else 0.0) for t in TAGS} for r in rows]
+    return TagPath(repair_iob(names), marginals, decoded.probability)
+
+
 def _marginals(tagger: pycrfsuite.Tagger, labels: Sequence[str], n: int) -> list[dict[str, float]]:
     """Return each token's tag marginals; with all three tags known, the last is derived.
 
@@ -334,18 +384,29 @@ def sentence_items(
         clusters: Word-cluster model, or ``None``.
         dictionary_features: Include the dictionary's tags and concepts as features.
     """
+    offsets, parts, matches = _sentence_parts(sentence, dictionary, clusters, dictionary_features)
+    return offsets, [own + rest for own, rest in parts], matches
+
+
+def _sentence_parts(
+    sentence: Sentence,
+    dictionary: Dictionary | None,
+    clusters: Clusters | None,
+    dictionary_features: bool = True,
+) -> tuple[list[tuple[int, int]], list[SplitAttributes], list[Span]]:
+    """Like :func:`sentence_items`, with each token's attributes split in two (for tagging)."""
     offsets = tokenize(sentence.text, sentence.lang)
     words = [sentence.text[s:e] for s, e in offsets]
     matches = dictionary.match_tokens(sentence.text, sentence.lang, offsets) if dictionary else []
     use_dict = dictionary is not None and dictionary_features
-    feats = sentence_attributes(
+    parts = sentence_attribute_parts(
         words,
         dict_tags=spans_to_iob(offsets, matches) if use_dict else None,
         dict_concepts=spans_to_concepts(offsets, matches) if use_dict else None,
         clusters=clusters,
         lang=sentence.lang,
     )
-    return offsets, feats, matches
+    return offsets, parts, matches
 
 
 @contextmanager
@@ -390,7 +451,7 @@ def tag_sentences(
             "pass the clusters saved with the tagger's model version."
         )
     with _collector_paused():
-        items = [sentence_items(s, dictionary, clusters) for s in sentences]
+        items = [_sentence_parts(s, dictionary, clusters) for s in sentences]
         paths = tagger.predict([feats for _, feats, _ in items])
     results = []
     for (offsets, _, matches), path in zip(items, paths, strict=True):

@@ -29,7 +29,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Iterator, Sequence
 from functools import cache, lru_cache
-from typing import NamedTuple
+from typing import NamedTuple, cast
 
 import snowballstemmer
 
@@ -278,7 +278,8 @@ def _matches(
             stop = first + length
             if stop > n:
                 break
-            found = entries.get(tuple(keys[first:stop]))
+            # A run holding None (a word no alias holds) is no alias's keys: the look-up misses.
+            found = entries.get(cast("tuple[str, ...]", tuple(keys[first:stop])))
             if found is not None:
                 yield first, stop, found
 

@@ -28,6 +28,11 @@ Clusters = Mapping[str, Any]
 Attributes = tuple[bytes, ...]
 """One token's features as python-crfsuite attribute names (UTF-8), each of weight 1."""
 
+SplitAttributes = tuple[Attributes, Attributes]
+"""One token's attributes in two parts whose concatenation is its :data:`Attributes`: those
+of the word alone (the same tuple object at every occurrence of the word while the cache
+holds it), then those of its place in the sentence."""
+
 
 def word_shape(word: str) -> str:
     """Return the shape of a word: ``X`` upper, ``x`` lower, ``d`` digit, other kept (``Xxxd``)."""
@@ -212,13 +217,13 @@ class _Featurizer:
         dict_tags: Sequence[str] | None,
         dict_concepts: Sequence[str | None] | None,
         lang: str,
-    ) -> list[Attributes]:
-        """Return the attributes of every token of a sentence (see :func:`sentence_attributes`)."""
+    ) -> list[SplitAttributes]:
+        """Return every token's attributes split in two (see :func:`sentence_attribute_parts`)."""
         words = [self.word(t, lang) for t in tokens]
         n = len(words)
-        out: list[Attributes] = []
+        out: list[SplitAttributes] = []
         for i, w in enumerate(words):
-            attrs = list(w.own)
+            attrs: list[bytes] = []
             if i > 0:
                 attrs += words[i - 1].as_prev_x
             if i < n - 1:
@@ -251,7 +256,7 @@ class _Featurizer:
                 after = words[i + 1]
                 lw_lw, lw_c = w.pair_next
                 attrs += (lw_lw + after.lower, lw_c + after.coarse, after.s3_next)
-            out.append(tuple(attrs))
+            out.append((w.own, tuple(attrs)))
         return out
 
 
@@ -297,6 +302,25 @@ def sentence_attributes(
         dictionary tag and concept, sentence position, the lower-cased form, cluster
         and dictionary tag of the two tokens on each side, and word pairs with the
         neighbours.
+    """
+    parts = _featurizer(clusters).sentence(tokens, dict_tags, dict_concepts, lang)
+    return [own + rest for own, rest in parts]
+
+
+def sentence_attribute_parts(
+    tokens: Sequence[str],
+    *,
+    dict_tags: Sequence[str] | None = None,
+    dict_concepts: Sequence[str | None] | None = None,
+    clusters: Clusters | None = None,
+    lang: str = "",
+) -> list[SplitAttributes]:
+    """Return :func:`sentence_attributes` with each token's attributes split in two.
+
+    The first part holds the attributes of the word alone and is the same tuple object
+    wherever the word occurs (while the word cache holds it), so a decoder can sum its
+    weights once per word (:class:`extractor.models.crf_decoder.CrfDecoder`); the second
+    holds the rest. Arguments are those of :func:`sentence_attributes`.
     """
     return _featurizer(clusters).sentence(tokens, dict_tags, dict_concepts, lang)
 

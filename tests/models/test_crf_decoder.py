@@ -1,0 +1,117 @@
+"""The numpy decoder against python-crfsuite's own tagger (the reference library).
+
+MAMS aspect terms (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0; read from
+``../shared/datasets/mams-atsa/``) and the demo's gold sentences: a tagger trained on some
+sentences decodes others; the best paths, every token marginal and the path probability
+must equal, bit for bit, what python-crfsuite's ``Tagger`` gives for the same model and
+attributes (``set``, ``tag``, ``marginal``, ``probability``).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pycrfsuite
+import pytest
+
+from extractor.models.crf_decoder import CrfDecoder
+from extractor.models.tagger import TraitTagger, _sentence_parts, sentence_items
+from extractor.nlp.clusters import learn_clusters
+from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.spans import spans_to_iob
+from extractor.types import TAGS, Sentence, Span
+from tests.mams import SKIP_REASON, load_mams
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def _reference(model: bytes, X: list[list[tuple[bytes, ...]]]) -> list[tuple]:
+    crf = pycrfsuite.Tagger()
+    crf.open_inmemory(model)
+    labels = crf.labels()
+    out: list[tuple] = []
+    for xseq in X:
+        if not xseq:
+            out.append(([], [], 1.0))
+            continue
+        crf.set(xseq)
+        path = crf.tag()
+        marginals = [[crf.marginal(y, t) for y in labels] for t in range(len(xseq))]
+        out.append((path, marginals, crf.probability(path)))
+    return out
+
+
+def _decoded(decoder: CrfDecoder, X: list) -> list[tuple]:
+    return [
+        ([decoder.labels[i] for i in d.path], d.marginals.tolist(), d.probability)
+        for d in decoder.decode(X)
+    ]
+
+
+@pytest.fixture(scope="module")
+def mams_case() -> tuple[TraitTagger, list[Sentence], object, object]:
+    train, test = load_mams("train"), load_mams("test")
+    if train is None or test is None:
+        pytest.skip(SKIP_REASON)
+    demo = [
+        json.loads(line)
+        for line in (ROOT / "sample_interviews" / "gold.jsonl").read_text("utf-8").splitlines()
+    ]
+    sentences = [Sentence(i, d["sentence"], d["lang"]) for i, d in enumerate(train[:300] + demo)]
+    clusters = learn_clusters([(s.text, s.lang) for s in sentences], space="none")
+    dictionary = build_dictionary(
+        [(f"T{n}", r["sentence"][m["start"] : m["end"]], r["lang"]) for n, r in enumerate(demo)
+         for m in r["mentions"]]
+    )  # fmt: skip
+    gold = [[Span(m["start"], m["end"]) for m in d["mentions"]] for d in train[:300] + demo]
+    items = [sentence_items(s, dictionary, clusters) for s in sentences]
+    tagger = TraitTagger().fit(
+        [f for _, f, _ in items],
+        [spans_to_iob(o, g) for (o, _, _), g in zip(items, gold, strict=True)],
+    )
+    unseen = [Sentence(10_000 + i, d["sentence"], d["lang"]) for i, d in enumerate(test[:400])]
+    return tagger, unseen, dictionary, clusters
+
+
+def test_decoder_equals_crfsuite_bit_for_bit_on_mams(mams_case: tuple) -> None:
+    tagger, unseen, dictionary, clusters = mams_case
+    flat = [sentence_items(s, dictionary, clusters)[1] for s in unseen]
+    split = [_sentence_parts(s, dictionary, clusters)[1] for s in unseen]
+    flat.insert(5, [])  # an empty sentence decodes to nothing, probability 1
+    split.insert(5, [])
+    decoder = CrfDecoder.from_model(tagger.model_bytes_)
+    expected = _reference(tagger.model_bytes_, flat)
+    assert _decoded(decoder, flat) == expected
+    assert _decoded(decoder, split) == expected
+    # Twice over, so that the cached sums of the words' own attributes are used as well.
+    assert _decoded(decoder, split) == expected
+    # The check saw traits: the reference tags some tokens B-TRAIT.
+    assert sum(path.count(TAGS[1]) for path, _, _ in expected) > 100
+
+
+def test_predict_gives_crfsuites_marginals_and_probability(mams_case: tuple) -> None:
+    tagger, unseen, dictionary, clusters = mams_case
+    flat = [sentence_items(s, dictionary, clusters)[1] for s in unseen[:50]]
+    expected = _reference(tagger.model_bytes_, flat)
+    labels = pycrfsuite.Tagger()
+    labels.open_inmemory(tagger.model_bytes_)
+    order = labels.labels()
+    for path, (tags, marginals, probability) in zip(tagger.predict(flat), expected, strict=True):
+        assert path.probability == probability
+        for got, want in zip(path.marginals, marginals, strict=True):
+            assert got[TAGS[0]] == want[order.index(TAGS[0])]
+            assert got[TAGS[1]] == want[order.index(TAGS[1])]
+        assert len(path.tags) == len(tags)
+
+
+def test_dict_features_are_decoded_by_crfsuite() -> None:
+    X = [[{"w": "sweet", "BOS": 1.0}, {"w": "taste"}]] * 4
+    tagger = TraitTagger().fit(X, [["B-TRAIT", "I-TRAIT"]] * 4)
+    (path,) = tagger.predict(X[:1])
+    assert path.tags == ["B-TRAIT", "I-TRAIT"]
+
+
+def test_decoder_refuses_bytes_that_are_no_crfsuite_model() -> None:
+    with pytest.raises(ValueError, match="CRFsuite"):
+        CrfDecoder.from_model(b"not a model at all, but long enough for a header....")
