@@ -106,7 +106,7 @@ def test_predict_gives_crfsuites_marginals_and_probability(mams_case: tuple) -> 
 
 
 def test_dict_features_are_decoded_by_crfsuite() -> None:
-    X = [[{"w": "sweet", "BOS": 1.0}, {"w": "taste"}]] * 4
+    X: list[list[dict[str, str | float]]] = [[{"w": "sweet", "BOS": 1.0}, {"w": "taste"}]] * 4
     tagger = TraitTagger().fit(X, [["B-TRAIT", "I-TRAIT"]] * 4)
     (path,) = tagger.predict(X[:1])
     assert path.tags == ["B-TRAIT", "I-TRAIT"]
