@@ -7,11 +7,14 @@ are recomputed from text and language and never stored as the truth.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from functools import cache
 
 import spacy
 from spacy.attrs import IDX, IS_SPACE, LENGTH
 from spacy.language import Language
+from spacy.tokenizer import Tokenizer
+from spacy.tokens import Doc
 
 from extractor.nlp.alternation import language_class
 
@@ -22,6 +25,8 @@ MULTI = "xx"
 """spaCy's multi-language code, used where spaCy has no pipeline for a language."""
 
 _TOKEN_ATTRS = [IDX, LENGTH, IS_SPACE]
+_STRETCH_LIMIT = 1 << 17
+"""Distinct white-space-free stretches whose tokens are kept per language before starting afresh."""
 
 
 def primary_subtag(tag: str) -> str:
@@ -57,12 +62,58 @@ def _pipeline(code: str) -> Language:
 
 
 def tokenize(text: str, lang: str) -> list[tuple[int, int]]:
-    """Return ``(start, end)`` character offsets of the non-space tokens of ``text``."""
-    doc = blank_pipeline(lang).tokenizer(text)
-    # One array read instead of a Python Token object per token: tokenizing is on the
-    # tagger's hot path.
-    rows = doc.to_array(_TOKEN_ATTRS).tolist()
+    """Return ``(start, end)`` character offsets of the non-space tokens of ``text``.
+
+    spaCy's tokenizer splits the text at white space and tokenizes each stretch between
+    on its own (prefixes, suffixes, infixes, exceptions); only an exception that itself
+    holds a space (Spanish "EE. UU.") joins stretches. So the tokens of each distinct
+    stretch are computed once by spaCy and kept, and a text that may hold such an
+    exception goes to spaCy whole: the tokens are spaCy's either way (the tests compare
+    them on open data), and tokenizing is on the tagger's hot path.
+    """
+    code = spacy_code(lang)
+    tokenizer = _pipeline(code).tokenizer
+    if not isinstance(tokenizer, Tokenizer) or any(
+        all(piece in text for piece in pieces) for pieces in _spaced_exceptions(code)
+    ):
+        return _spacy_tokens(tokenizer, text)  # a language's own tokenizer reads texts whole
+    known = _stretches(code)
+    out: list[tuple[int, int]] = []
+    at = 0
+    for stretch in text.split():
+        at = text.find(stretch, at)
+        found = known.get(stretch)
+        if found is None:
+            if len(known) >= _STRETCH_LIMIT:
+                known.clear()
+            found = known[stretch] = tuple(_spacy_tokens(tokenizer, stretch))
+        if len(found) == 1:
+            out.append((at, at + len(stretch)))
+        else:
+            out += [(at + a, at + b) for a, b in found]
+        at += len(stretch)
+    return out
+
+
+def _spacy_tokens(tokenizer: Callable[[str], Doc], text: str) -> list[tuple[int, int]]:
+    """Return the offsets of the non-space tokens spaCy's tokenizer gives for ``text``."""
+    # One array read instead of a Python Token object per token.
+    rows = tokenizer(text).to_array(_TOKEN_ATTRS).tolist()
     return [(idx, idx + length) for idx, length, space in rows if not space]
+
+
+@cache
+def _stretches(code: str) -> dict[str, tuple[tuple[int, int], ...]]:
+    """Return the kept tokens of white-space-free stretches, for one spaCy language code."""
+    return {}
+
+
+@cache
+def _spaced_exceptions(code: str) -> tuple[tuple[str, ...], ...]:
+    """Return the tokenizer exceptions of a language that hold white space, split at it."""
+    tokenizer = _pipeline(code).tokenizer
+    rules = (tokenizer.rules or {}) if isinstance(tokenizer, Tokenizer) else {}
+    return tuple(tuple(k.split()) for k in rules if not k.isspace() and any(c.isspace() for c in k))
 
 
 def split_sentences(text: str, lang: str) -> list[tuple[int, int]]:

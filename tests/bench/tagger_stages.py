@@ -5,9 +5,11 @@ Not part of the test suite. Run from the repository root:
     .venv/bin/python tests/bench/tagger_stages.py [--size 5000] [--repeats 3] [--space use-m3]
 
 Same synthetic corpus, dictionary, clusters and training as ``bench_tagger.py``. Per
-repeat it prints CPU seconds of tokenizing, dictionary matching, IOB tags, features, and
-CRFsuite (set, Viterbi, marginals, path probability) with the real attributes and with
-empty items (CRFsuite's per-token floor), then ``tag_sentences`` end to end.
+repeat it prints CPU seconds of tokenizing, dictionary matching, IOB tags, features (split
+in two as tagging builds them), the numpy decoder that tagging uses (``decoder``), and
+for comparison python-crfsuite's tagger (set, Viterbi, marginals, path probability) with
+the real attributes and with empty items (CRFsuite's per-token floor), then
+``tag_sentences`` end to end.
 """
 
 from __future__ import annotations
@@ -27,7 +29,11 @@ from extractor.models.tagger_training import fit_tagger  # noqa: E402
 from extractor.nlp import pretrained  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.dictionary import build_dictionary  # noqa: E402
-from extractor.nlp.features import Attributes, sentence_attributes  # noqa: E402
+from extractor.nlp.features import (  # noqa: E402
+    Attributes,
+    SplitAttributes,
+    sentence_attribute_parts,
+)
 from extractor.nlp.spans import spans_to_concepts, spans_to_iob  # noqa: E402
 from extractor.nlp.text import tokenize  # noqa: E402
 from extractor.types import TAGS, Sentence, Span  # noqa: E402
@@ -54,6 +60,9 @@ def main() -> None:
     clusters = learn_clusters([(s.text, s.lang) for s in corpus], space=args.space)
     tagger = fit_tagger(gold, bench.synthetic(records, 1900, seed=1), dictionary, clusters)
     crf = tagger._fitted()
+    decoder = tagger._decoder()
+    if decoder is None:
+        raise SystemExit("The numpy decoder could not read the model.")
     gc.disable()  # as tag_sentences does
     for _ in range(args.repeats):
         times: dict[str, float] = {}
@@ -61,7 +70,7 @@ def main() -> None:
         def tick(stage: str, start: float, times: dict[str, float] = times) -> None:
             times[stage] = times.get(stage, 0.0) + time.process_time() - start
 
-        X: list[list[Attributes]] = []
+        parts: list[list[SplitAttributes]] = []
         for s in corpus:
             t0 = time.process_time()
             offsets = tokenize(s.text, s.lang)
@@ -74,12 +83,16 @@ def main() -> None:
             tags, concepts = spans_to_iob(offsets, matches), spans_to_concepts(offsets, matches)
             tick("iob_tags", t0)
             t0 = time.process_time()
-            X.append(
-                sentence_attributes(
+            parts.append(
+                sentence_attribute_parts(
                     words, dict_tags=tags, dict_concepts=concepts, clusters=clusters, lang=s.lang
                 )
             )
             tick("features", t0)
+        t0 = time.process_time()
+        decoder.decode(parts)
+        tick("decoder", t0)
+        X: list[list[Attributes]] = [[own + rest for own, rest in x] for x in parts]
         empty: list[list[Attributes]] = [[()] * len(x) for x in X]
         for stage, data in (("crfsuite_empty_items", empty), ("crfsuite", X)):
             t0 = time.process_time()

@@ -9,6 +9,7 @@ import pytest
 import spacy
 
 from extractor.nlp.text import spacy_code, split_sentences, tokenize
+from tests.mams import SKIP_REASON, load_mams
 
 SAMPLE = Path(__file__).resolve().parents[2] / "sample_interviews"
 
@@ -62,3 +63,41 @@ def test_split_sentences_reads_an_answer_longer_than_spacys_limit() -> None:
     found = split_sentences(text, "en")
     assert len(found) == text.count(".")
     assert text[slice(*found[-1])] == sentence.strip()
+
+
+SPACING = [
+    ("es", "Los EE. UU. venden maíz; EE.  UU. y Ee. Uu. también."),
+    (
+        "en",
+        "  double  space\t\ttab\nnew line \xa0nbsp (e.g. this) don't 3.5kg http://x.org/a?b=1 :-)",
+    ),
+    ("fr", "«ça» l'épaisseur, c'est-à-dire   aujourd'hui..."),
+]
+
+
+@pytest.mark.parametrize(("lang", "text"), SPACING, ids=[e[0] for e in SPACING])
+def test_tokenize_agrees_with_spacy_across_spacing_and_exceptions(lang: str, text: str) -> None:
+    # Outside reference: spaCy's tokenizer on the whole text, including the Spanish
+    # exception that holds a space ("EE. UU."), which joins two white-space stretches.
+    reference = spacy.blank(spacy_code(lang)).tokenizer(text)
+    expected = [(t.idx, t.idx + len(t.text)) for t in reference if not t.is_space]
+    assert tokenize(text, lang) == expected
+    assert tokenize(text, lang) == expected  # again, from the kept stretches
+
+
+def test_tokenize_agrees_with_spacy_on_mams_and_the_demo() -> None:
+    # Outside reference on open data: MAMS sentences (Jiang et al. 2019, Apache-2.0) and
+    # the demo's answers, each read with spaCy's tokenizer of its language and of two others.
+    mams = load_mams("test")
+    if mams is None:
+        pytest.skip(SKIP_REASON)
+    demo = [json.loads(line) for line in (SAMPLE / "gold.jsonl").read_text("utf-8").splitlines()]
+    texts = [(r["sentence"], r["lang"]) for r in mams + demo]
+    tokenizers = {code: spacy.blank(code).tokenizer for code in ("en", "fr", "es")}
+    compared = 0
+    for text, _ in texts:
+        for code, tokenizer in tokenizers.items():
+            expected = [(t.idx, t.idx + len(t.text)) for t in tokenizer(text) if not t.is_space]
+            assert tokenize(text, code) == expected, (code, text)
+            compared += len(expected)
+    assert compared > 50_000
