@@ -23,9 +23,9 @@ from __future__ import annotations
 
 import math
 import struct
-from collections.abc import Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from itertools import chain
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 
@@ -37,8 +37,9 @@ _FEATURE = np.dtype([("type", "<u4"), ("src", "<u4"), ("dst", "<u4"), ("weight",
 _STATE, _TRANSITION = 0, 1
 
 
-Token = Sequence[bytes] | tuple[Sequence[bytes], Sequence[bytes]]
-"""One token's attribute names, whole or split in two (a word's own part, then the rest)."""
+Token = Sequence[bytes] | tuple[Sequence[bytes], Sequence[bytes] | list[int]]
+"""One token's attribute names, whole or split in two (a word's own part, then the rest,
+as names or as rows of the weight table)."""
 
 _HEAD_LIMIT = 1 << 16
 """First parts of split tokens whose weight sums are kept before the cache starts afresh."""
@@ -57,7 +58,7 @@ def _split(
         heads, rests = zip(*tokens, strict=True)
     except ValueError:
         return None
-    if set(map(type, heads)) != {tuple} or set(map(type, rests)) != {tuple}:
+    if set(map(type, heads)) != {tuple} or len(set(map(type, rests))) != 1:
         return None
     return heads, rests
 
@@ -111,6 +112,11 @@ class CrfDecoder:
         self._row_of: dict[int, int] = {}  # id of a first part -> its row in _head_sums
         self._head_parts: list[Sequence[bytes]] = []  # keeps those parts alive
         self._head_sums = np.zeros((0, len(labels)))
+
+    @property
+    def index(self) -> Mapping[bytes, int]:
+        """Attribute bytes -> row of the weight table; unknown attributes give a row of zeros."""
+        return self._index
 
     @classmethod
     def from_model(cls, model: bytes) -> CrfDecoder:
@@ -218,15 +224,27 @@ class CrfDecoder:
                     rows[k] = row
             sums = self._add_weights(np.zeros((len(fresh), len(self.labels))), fresh)
             self._head_sums = np.concatenate([self._head_sums, sums])
-        return self._add_weights(self._head_sums[np.array(rows, dtype=np.intp)], rests)
+        scores = self._head_sums[np.array(rows, dtype=np.intp)]
+        return self._add_weights(scores, rests, as_rows=bool(rests) and isinstance(rests[0], list))
 
-    def _add_weights(self, scores: np.ndarray, attributes: Sequence[Sequence[bytes]]) -> np.ndarray:
-        """Add to each row of ``scores`` the weights of its attributes, one after the other."""
+    def _add_weights(
+        self,
+        scores: np.ndarray,
+        attributes: Sequence[Sequence[bytes]] | Sequence[list[int]],
+        *,
+        as_rows: bool = False,
+    ) -> np.ndarray:
+        """Add to each row of ``scores`` the weights of its attributes, one after the other.
+
+        With ``as_rows`` the attributes are given as rows of the weight table already
+        (:func:`~extractor.nlp.feature_rows.sentence_rows` with :attr:`index`).
+        """
         counts = np.fromiter(map(len, attributes), dtype=np.intp, count=len(attributes))
         total = int(counts.sum())
         if not total:
             return scores
-        flat = np.array(list(map(self._index.__getitem__, chain.from_iterable(attributes))))
+        items: Iterable[Any] = chain.from_iterable(attributes)
+        flat = np.array(list(items if as_rows else map(self._index.__getitem__, items)))
         # One column per attribute place, the row of zeros after a token's last attribute:
         # adding the columns in turn adds each token's weights in CRFsuite's order.
         width = int(counts.max())

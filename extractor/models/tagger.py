@@ -28,11 +28,12 @@ from sklearn.base import BaseEstimator
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.models.crf_decoder import CrfDecoder, Decoded
 from extractor.nlp.dictionary import Dictionary
+from extractor.nlp.feature_rows import sentence_rows
 from extractor.nlp.features import (
     Attributes,
     Clusters,
     SplitAttributes,
-    sentence_attribute_parts,
+    sentence_attributes,
 )
 from extractor.nlp.spans import iob_to_spans, repair_iob, spans_to_concepts, spans_to_iob
 from extractor.nlp.text import tokenize
@@ -384,29 +385,47 @@ def sentence_items(
         clusters: Word-cluster model, or ``None``.
         dictionary_features: Include the dictionary's tags and concepts as features.
     """
-    offsets, parts, matches = _sentence_parts(sentence, dictionary, clusters, dictionary_features)
-    return offsets, [own + rest for own, rest in parts], matches
-
-
-def _sentence_parts(
-    sentence: Sentence,
-    dictionary: Dictionary | None,
-    clusters: Clusters | None,
-    dictionary_features: bool = True,
-) -> tuple[list[tuple[int, int]], list[SplitAttributes], list[Span]]:
-    """Like :func:`sentence_items`, with each token's attributes split in two (for tagging)."""
-    offsets = tokenize(sentence.text, sentence.lang)
-    words = [sentence.text[s:e] for s, e in offsets]
-    matches = dictionary.match_tokens(sentence.text, sentence.lang, offsets) if dictionary else []
+    offsets, words, matches = _tokens_and_matches(sentence, dictionary)
     use_dict = dictionary is not None and dictionary_features
-    parts = sentence_attribute_parts(
+    feats = sentence_attributes(
         words,
         dict_tags=spans_to_iob(offsets, matches) if use_dict else None,
         dict_concepts=spans_to_concepts(offsets, matches) if use_dict else None,
         clusters=clusters,
         lang=sentence.lang,
     )
-    return offsets, parts, matches
+    return offsets, feats, matches
+
+
+def _sentence_rows(
+    sentence: Sentence,
+    dictionary: Dictionary | None,
+    clusters: Clusters | None,
+    index: Mapping[bytes, int],
+) -> tuple[list[tuple[int, int]], list[tuple[Attributes, list[int]]], list[Span]]:
+    """Like :func:`sentence_items`, with the rows of the decoder's weights (see feature_rows).
+
+    Each token gives its word's own attributes (the cached tuple) and the rows of the rest.
+    """
+    offsets, words, matches = _tokens_and_matches(sentence, dictionary)
+    rows = sentence_rows(
+        words,
+        index=index,
+        dict_tags=spans_to_iob(offsets, matches) if dictionary is not None else None,
+        dict_concepts=spans_to_concepts(offsets, matches) if dictionary is not None else None,
+        clusters=clusters,
+        lang=sentence.lang,
+    )
+    return offsets, rows, matches
+
+
+def _tokens_and_matches(
+    sentence: Sentence, dictionary: Dictionary | None
+) -> tuple[list[tuple[int, int]], list[str], list[Span]]:
+    offsets = tokenize(sentence.text, sentence.lang)
+    words = [sentence.text[s:e] for s, e in offsets]
+    matches = dictionary.match_tokens(sentence.text, sentence.lang, offsets) if dictionary else []
+    return offsets, words, matches
 
 
 @contextmanager
@@ -450,11 +469,17 @@ def tag_sentences(
             f"The tagger was trained with word clusters {expected} but got {given}; "
             "pass the clusters saved with the tagger's model version."
         )
+    decoder = tagger._decoder()
     with _collector_paused():
-        items = [_sentence_parts(s, dictionary, clusters) for s in sentences]
-        paths = tagger.predict([feats for _, feats, _ in items])
+        if decoder is None:
+            items = [sentence_items(s, dictionary, clusters) for s in sentences]
+            paths = tagger.predict([feats for _, feats, _ in items])
+        else:
+            rows = [_sentence_rows(s, dictionary, clusters, decoder.index) for s in sentences]
+            decoded = decoder.decode([feats for _, feats, _ in rows])
+            paths = [_tag_path(d, decoder.labels) for d in decoded]
     results = []
-    for (offsets, _, matches), path in zip(items, paths, strict=True):
+    for (offsets, _, matches), path in zip(items if decoder is None else rows, paths, strict=True):
         concepts = {(m.start, m.end): m.concept for m in matches}
         spans = [
             s._replace(concept=concepts.get((s.start, s.end)))

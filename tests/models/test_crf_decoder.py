@@ -16,10 +16,12 @@ import pycrfsuite
 import pytest
 
 from extractor.models.crf_decoder import CrfDecoder
-from extractor.models.tagger import TraitTagger, _sentence_parts, sentence_items
+from extractor.models.tagger import TraitTagger, _sentence_rows, sentence_items
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.dictionary import build_dictionary
-from extractor.nlp.spans import spans_to_iob
+from extractor.nlp.features import SplitAttributes, sentence_attribute_parts
+from extractor.nlp.spans import spans_to_concepts, spans_to_iob
+from extractor.nlp.text import tokenize
 from extractor.types import TAGS, Sentence, Span
 from tests.mams import SKIP_REASON, load_mams
 
@@ -40,6 +42,18 @@ def _reference(model: bytes, X: list[list[tuple[bytes, ...]]]) -> list[tuple]:
         marginals = [[crf.marginal(y, t) for y in labels] for t in range(len(xseq))]
         out.append((path, marginals, crf.probability(path)))
     return out
+
+
+def _parts(sentence: Sentence, dictionary: object, clusters: object) -> list[SplitAttributes]:
+    offsets = tokenize(sentence.text, sentence.lang)
+    matches = dictionary.match_tokens(sentence.text, sentence.lang, offsets)  # type: ignore[attr-defined]
+    return sentence_attribute_parts(
+        [sentence.text[a:b] for a, b in offsets],
+        dict_tags=spans_to_iob(offsets, matches),
+        dict_concepts=spans_to_concepts(offsets, matches),
+        clusters=clusters,  # type: ignore[arg-type]
+        lang=sentence.lang,
+    )
 
 
 def _decoded(decoder: CrfDecoder, X: list) -> list[tuple]:
@@ -76,18 +90,34 @@ def mams_case() -> tuple[TraitTagger, list[Sentence], object, object]:
 
 def test_decoder_equals_crfsuite_bit_for_bit_on_mams(mams_case: tuple) -> None:
     tagger, unseen, dictionary, clusters = mams_case
-    flat = [sentence_items(s, dictionary, clusters)[1] for s in unseen]
-    split = [_sentence_parts(s, dictionary, clusters)[1] for s in unseen]
-    flat.insert(5, [])  # an empty sentence decodes to nothing, probability 1
-    split.insert(5, [])
     decoder = CrfDecoder.from_model(tagger.model_bytes_)
+    flat = [sentence_items(s, dictionary, clusters)[1] for s in unseen]
+    split = [_parts(s, dictionary, clusters) for s in unseen]
+    rows = [_sentence_rows(s, dictionary, clusters, decoder.index)[1] for s in unseen]
+    for x in (flat, split, rows):
+        x.insert(5, [])  # an empty sentence decodes to nothing, probability 1
     expected = _reference(tagger.model_bytes_, flat)
     assert _decoded(decoder, flat) == expected
     assert _decoded(decoder, split) == expected
+    assert _decoded(decoder, rows) == expected
     # Twice over, so that the cached sums of the words' own attributes are used as well.
-    assert _decoded(decoder, split) == expected
+    assert _decoded(decoder, rows) == expected
     # The check saw traits: the reference tags some tokens B-TRAIT.
     assert sum(path.count(TAGS[1]) for path, _, _ in expected) > 100
+
+
+def test_rows_are_the_rows_of_the_attributes(mams_case: tuple) -> None:
+    tagger, unseen, dictionary, clusters = mams_case
+    decoder = CrfDecoder.from_model(tagger.model_bytes_)
+    index = decoder.index
+    tokens = 0
+    for s in unseen:
+        parts = _parts(s, dictionary, clusters)
+        rows = _sentence_rows(s, dictionary, clusters, index)[1]
+        assert [own for own, _ in rows] == [own for own, _ in parts]
+        assert [r for _, r in rows] == [[index[a] for a in rest] for _, rest in parts]
+        tokens += len(parts)
+    assert tokens > 5000
 
 
 def test_predict_gives_crfsuites_marginals_and_probability(mams_case: tuple) -> None:
