@@ -71,6 +71,8 @@ def tokenize(text: str, lang: str) -> list[tuple[int, int]]:
     exception goes to spaCy whole: the tokens are spaCy's either way (the tests compare
     them on open data), and tokenizing is on the tagger's hot path.
     """
+    if not isinstance(text, str):
+        raise TypeError(f"tokenize reads a str, not {type(text).__name__}.")  # as spaCy does
     code = spacy_code(lang)
     tokenizer = _pipeline(code).tokenizer
     if not isinstance(tokenizer, Tokenizer) or any(
