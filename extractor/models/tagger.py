@@ -478,12 +478,16 @@ def tag_sentences(
             rows = [_sentence_rows(s, dictionary, clusters, decoder.index) for s in sentences]
             decoded = decoder.decode([feats for _, feats, _ in rows])
             paths = [_tag_path(d, decoder.labels) for d in decoded]
-    results = []
-    for (offsets, _, matches), path in zip(items if decoder is None else rows, paths, strict=True):
-        concepts = {(m.start, m.end): m.concept for m in matches}
-        spans = [
-            s._replace(concept=concepts.get((s.start, s.end)))
-            for s in iob_to_spans(offsets, path.tags)
-        ]
-        results.append(TagResult(spans, offsets, path.tags, path.marginals, path.probability))
+            items = [(offsets, [], matches) for offsets, _, matches in rows]
+            # Features gone before the collector resumes: it then scans the results alone.
+            del rows, decoded
+        results = []
+        for (offsets, _, matches), path in zip(items, paths, strict=True):
+            concepts = {(m.start, m.end): m.concept for m in matches}
+            spans = [
+                s._replace(concept=concepts.get((s.start, s.end)))
+                for s in iob_to_spans(offsets, path.tags)
+            ]
+            results.append(TagResult(spans, offsets, path.tags, path.marginals, path.probability))
+        del items
     return results

@@ -48,6 +48,19 @@ class _PairRows(NamedTuple):
     from_first: tuple[int, int]
 
 
+class _NamedRows(dict[str, int]):
+    """Value -> row of the attribute ``name:value`` (a dictionary tag or concept), kept."""
+
+    def __init__(self, name: str, index: Mapping[bytes, int]) -> None:
+        super().__init__()
+        self.name = name
+        self.index = index
+
+    def __missing__(self, value: str) -> int:
+        row = self[value] = self.index[f"{self.name}:{value}".encode()]
+        return row
+
+
 class _RowEncoder:
     """Keeps the rows of words and word pairs for one featurizer and one weight index.
 
@@ -60,7 +73,9 @@ class _RowEncoder:
         self.index = index
         self._words: dict[int, tuple[_Word, _WordRows]] = {}
         self._pairs: dict[tuple[int, int], tuple[_Word, _Word, _PairRows]] = {}
-        self._tags: dict[tuple[str, str], int] = {}
+        self.own_tag = _NamedRows("d", index)
+        self.concept = _NamedRows("dc", index)
+        self.window_tags = tuple(_NamedRows(f"{off}d", index) for off in _OFFSETS)
         self.bos, self.eos = index[_BOS], index[_EOS]
         self.pads = tuple(index[p] for p in _PADS)
 
@@ -97,13 +112,6 @@ class _RowEncoder:
             hit = self._pairs[id(a), id(b)] = (a, b, rows)
         return hit[2]
 
-    def tag(self, name: str, value: str) -> int:
-        """Return the row of a dictionary attribute ``name:value`` (``d``, ``-1d``, ``dc``...)."""
-        found = self._tags.get((name, value))
-        if found is None:
-            found = self._tags[name, value] = self.index[f"{name}:{value}".encode()]
-        return found
-
 
 _encoder_in_use: _RowEncoder | None = None
 
@@ -116,9 +124,6 @@ def _encoder(clusters: Clusters | None, index: Mapping[bytes, int]) -> _RowEncod
     if found is None or found.featurizer is not featurizer or found.index is not index:
         found = _encoder_in_use = _RowEncoder(featurizer, index)
     return found
-
-
-_WINDOW_TAGS = tuple(f"{off}d" for off in _OFFSETS)
 
 
 def sentence_rows(
@@ -150,6 +155,10 @@ def sentence_rows(
     rows = [enc.word(w) for w in words]
     pairs = [enc.pair(a, b) for a, b in zip(words, words[1:], strict=False)]
     n = len(words)
+    tag_rows = window_tag_rows = None
+    if dict_tags is not None:
+        tag_rows = [enc.own_tag[t] for t in dict_tags]
+        window_tag_rows = [[seen[t] for t in dict_tags] for seen in enc.window_tags]
     out: list[tuple[Attributes, list[int]]] = []
     for i, w in enumerate(words):
         r: list[int] = []
@@ -157,11 +166,11 @@ def sentence_rows(
             r += rows[i - 1].as_prev_x
         if i < n - 1:
             r += rows[i + 1].as_next_x
-        if dict_tags is not None:
-            r.append(enc.tag("d", dict_tags[i]))
+        if tag_rows is not None:
+            r.append(tag_rows[i])
             concept = dict_concepts[i] if dict_concepts is not None else None
             if concept:
-                r.append(enc.tag("dc", concept))
+                r.append(enc.concept[concept])
         if i == 0:
             r.append(enc.bos)
         if i == n - 1:
@@ -170,8 +179,8 @@ def sentence_rows(
             j = i + off
             if 0 <= j < n:
                 r += rows[j].window[k]
-                if dict_tags is not None:
-                    r.append(enc.tag(_WINDOW_TAGS[k], dict_tags[j]))
+                if window_tag_rows is not None:
+                    r.append(window_tag_rows[k][j])
             else:
                 r.append(enc.pads[k])
         if i > 0:

@@ -5,8 +5,9 @@ Not part of the test suite. Run from the repository root:
     .venv/bin/python tests/bench/tagger_stages.py [--size 5000] [--repeats 3] [--space use-m3]
 
 Same synthetic corpus, dictionary, clusters and training as ``bench_tagger.py``. Per
-repeat it prints CPU seconds of tokenizing, dictionary matching, IOB tags, features (split
-in two as tagging builds them), the numpy decoder that tagging uses (``decoder``), and
+repeat it prints CPU seconds of tokenizing, dictionary matching, IOB tags, features (as
+tagging builds them: a word's own attributes and the rows of the rest in the model's
+weights), the numpy decoder that tagging uses (``decoder``), and
 for comparison python-crfsuite's tagger (set, Viterbi, marginals, path probability) with
 the real attributes and with empty items (CRFsuite's per-token floor), then
 ``tag_sentences`` end to end.
@@ -29,11 +30,8 @@ from extractor.models.tagger_training import fit_tagger  # noqa: E402
 from extractor.nlp import pretrained  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.dictionary import build_dictionary  # noqa: E402
-from extractor.nlp.features import (  # noqa: E402
-    Attributes,
-    SplitAttributes,
-    sentence_attribute_parts,
-)
+from extractor.nlp.feature_rows import sentence_rows  # noqa: E402
+from extractor.nlp.features import Attributes, sentence_attributes  # noqa: E402
 from extractor.nlp.spans import spans_to_concepts, spans_to_iob  # noqa: E402
 from extractor.nlp.text import tokenize  # noqa: E402
 from extractor.types import TAGS, Sentence, Span  # noqa: E402
@@ -70,7 +68,8 @@ def main() -> None:
         def tick(stage: str, start: float, times: dict[str, float] = times) -> None:
             times[stage] = times.get(stage, 0.0) + time.process_time() - start
 
-        parts: list[list[SplitAttributes]] = []
+        rows: list[list[tuple[Attributes, list[int]]]] = []
+        X: list[list[Attributes]] = []
         for s in corpus:
             t0 = time.process_time()
             offsets = tokenize(s.text, s.lang)
@@ -83,16 +82,25 @@ def main() -> None:
             tags, concepts = spans_to_iob(offsets, matches), spans_to_concepts(offsets, matches)
             tick("iob_tags", t0)
             t0 = time.process_time()
-            parts.append(
-                sentence_attribute_parts(
-                    words, dict_tags=tags, dict_concepts=concepts, clusters=clusters, lang=s.lang
+            rows.append(
+                sentence_rows(
+                    words,
+                    index=decoder.index,
+                    dict_tags=tags,
+                    dict_concepts=concepts,
+                    clusters=clusters,
+                    lang=s.lang,
                 )
             )
             tick("features", t0)
+            X.append(  # what CRFsuite reads, for its stages below (not timed)
+                sentence_attributes(
+                    words, dict_tags=tags, dict_concepts=concepts, clusters=clusters, lang=s.lang
+                )
+            )
         t0 = time.process_time()
-        decoder.decode(parts)
+        decoder.decode(rows)
         tick("decoder", t0)
-        X: list[list[Attributes]] = [[own + rest for own, rest in x] for x in parts]
         empty: list[list[Attributes]] = [[()] * len(x) for x in X]
         for stage, data in (("crfsuite_empty_items", empty), ("crfsuite", X)):
             t0 = time.process_time()
