@@ -53,8 +53,6 @@ SNOWBALL_LANGUAGES: dict[str, str] = {
 
 _WORD_CACHE_LIMIT = 1 << 16
 """Distinct words per sentence language whose keys are kept before the cache starts afresh."""
-_UNSEEN: tuple[str | None, ...] = ()
-"""Marks a word not yet in the key cache (a cached row is ``None`` or a non-empty tuple)."""
 
 
 @lru_cache(maxsize=1 << 20)
@@ -102,6 +100,19 @@ class _Matcher(NamedTuple):
     known: frozenset[str]  # every key used by some alias
 
 
+class _WordKeys(dict[str, tuple[str | None, ...] | None]):
+    """Word -> its keys under the matchers of one sentence language (``Dictionary._keys_of``)."""
+
+    def __init__(self, dictionary: Dictionary, plan: list[tuple[str, bool]]) -> None:
+        super().__init__()
+        self.dictionary = dictionary
+        self.plan = plan
+
+    def __missing__(self, word: str) -> tuple[str | None, ...] | None:
+        keys = self[word] = self.dictionary._keys_of(word, self.plan)
+        return keys
+
+
 class Dictionary:
     """Aliases of concepts, matched in sentences to give silver spans.
 
@@ -120,7 +131,7 @@ class Dictionary:
         self._alias_langs = alias_langs
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
         self._plans: dict[str, list[tuple[str, bool]]] = {}
-        self._word_keys: dict[str, dict[str, tuple[str | None, ...] | None]] = {}
+        self._word_keys: dict[str, _WordKeys] = {}
 
     @classmethod
     def from_aliases(cls, aliases: Sequence[tuple[str, str, str]]) -> Dictionary:
@@ -181,15 +192,10 @@ class Dictionary:
         words = [text[s:e] for s, e in token_offsets]
         sent_stem = stemmer_language(lang)
         plan = self._plan(sent_stem)
-        table = self._word_keys.setdefault(sent_stem, {})
-        rows = []
-        for w in words:
-            row = table.get(w, _UNSEEN)
-            if row is _UNSEEN:
-                if len(table) >= _WORD_CACHE_LIMIT:
-                    table.clear()
-                row = table[w] = self._keys_of(w, plan)
-            rows.append(row)
+        table = self._word_keys.get(sent_stem)
+        if table is None or len(table) >= _WORD_CACHE_LIMIT:
+            table = self._word_keys[sent_stem] = _WordKeys(self, plan)
+        rows = [table[w] for w in words]
         if not any(rows):
             return []  # no word of the sentence is part of any alias (most sentences)
         forms = [fold(w) for w in words]
@@ -197,7 +203,7 @@ class Dictionary:
         candidates: list[_Candidate] = []
         for m, (stem_lang, only_own) in enumerate(plan):
             keys = [row[m] if row else None for row in rows]
-            if any(k is not None for k in keys):
+            if keys.count(None) < len(keys):
                 candidates += self._candidates(
                     words, forms, keys, stem_lang, sent_code, only_own=only_own
                 )
