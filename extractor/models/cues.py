@@ -173,6 +173,8 @@ class Lexicon:
         for cat, words in section.items():
             for cue in words:
                 toks = tuple(cue_form(cue[s:e]) for s, e in tokenize(cue, lang))
+                if len(toks) > 1 and toks[-1] == "*":
+                    toks = (*toks[:-2], toks[-2] + "*")  # tokenizers split the wildcard off
                 if not toks:
                     continue
                 if len(toks) == 1 and toks[0].endswith("*"):

@@ -56,6 +56,24 @@ def test_load_cues_missing_file_raises(tmp_path: Path) -> None:
         load_cues(tmp_path / "nope.json")
 
 
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "expected"),
+    [
+        ("The sacks were full of weevils.", "sacks", "en", "disliked"),
+        ("Asi no le entra el gorgojo.", "gorgojo", "es", "liked"),
+        ("Les charançons mangent tout.", "mangent", "fr", "disliked"),
+    ],
+    ids=["en-weevil*", "es-negated-gorgojo*", "fr-charancon*"],
+)
+def test_wildcard_cue_matches_words_starting_with_its_prefix(
+    text: str, term: str, lang: str, expected: str
+) -> None:
+    # The lexicon's "weevil*", "gorgojo*", "charançon*" end in a wildcard that the
+    # tokenizer splits off; they must still match "weevils", "gorgojo", "charançons".
+    features = stance_features(*_mention(text, term, lang), CUES)
+    assert rule_stance(features)[0] == expected
+
+
 # ------------------------------------------------------------------ cold-start rules
 
 
