@@ -65,7 +65,8 @@ def unknown_questions(ws: Workspace) -> tuple[store.StoredQuestion, ...]:
 
     A question is known when the codebook gives it a direction (``open`` counts), or
     when its wording (the codebook's, else the question as stored) holds a question cue
-    of its language. Survey field names (``q5_dislike``) are unknown until coded.
+    of its answers' language or, failing that, of another language of the lexicon.
+    Survey field names (``q5_dislike``) are unknown until coded.
     """
     codebook = question_codebook(ws)
     cues = load_cues(stance_params(ws)["cues_path"])
@@ -74,7 +75,7 @@ def unknown_questions(ws: Workspace) -> tuple[store.StoredQuestion, ...]:
         code = codebook.get(q.question)
         if code is not None and code.direction is not None:
             continue
-        if not question_features(q.question, lexicon(cues, q.lang), codebook):
+        if not question_features(q.question, lexicon(cues, q.lang), codebook, cues):
             unknown.append(q)
     return tuple(unknown)
 

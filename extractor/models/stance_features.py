@@ -28,6 +28,7 @@ from extractor.models.cues import (
     segment,
     span_tokens,
 )
+from extractor.nlp.text import primary_subtag
 from extractor.types import QuestionCode, Sentence, Span
 
 Codebook = Mapping[str, QuestionCode]
@@ -98,7 +99,7 @@ def stance_features(
     _excess_features(p, where, f)
     _contrast_features(p, where, f)
     _comparison(p, lex, where, f)
-    f.update(question_features(sentence.question, lex, codebook))
+    f.update(question_features(sentence.question, lex, codebook, cues))
     _window_features(p, where, f)
     return dict(f)
 
@@ -252,7 +253,10 @@ def _comparison(p: Parsed, lex: Lexicon, where: _Where, f: _Features) -> None:
 
 
 def question_features(
-    question: str | None, lex: Lexicon, codebook: Codebook | None = None
+    question: str | None,
+    lex: Lexicon,
+    codebook: Codebook | None = None,
+    cues: Cues | None = None,
 ) -> dict[str, float]:
     """Return the lean of the question an answer replied to, as ``q_*`` features.
 
@@ -260,6 +264,12 @@ def question_features(
     cue words of the question's text (the codebook's wording, else the question as
     stored) give it. A survey field name (``reason_lesspreferred``) reads as one word
     and gives none.
+
+    The question is read in the answer's language first. A survey often asks in one
+    language and is answered in another (English headers over French answers), so when
+    ``cues`` is given and the answer's language finds no question word, the other
+    languages of ``cues`` are tried in their order and the first that finds one gives
+    the lean.
     """
     if not question:
         return {}
@@ -267,7 +277,21 @@ def question_features(
     if code is not None and code.direction is not None:
         feature = DIRECTION_FEATURES.get(code.direction)
         return {feature: 1.0} if feature else {}
-    q = parse(code.text if code is not None and code.text else question, lex)
+    text = code.text if code is not None and code.text else question
+    found = _question_lean(parse(text, lex))
+    if found or cues is None:
+        return found
+    for lang in cues:
+        if lang.startswith("_") or lang == primary_subtag(lex.lang):
+            continue
+        found = _question_lean(parse(text, lexicon(cues, lang)))
+        if found:
+            return found
+    return {}
+
+
+def _question_lean(q: Parsed) -> dict[str, float]:
+    """Return the ``q_*`` features of a parsed question in one language."""
     f: _Features = defaultdict(float)
     taken = [False] * len(q.words)
     # "don't like" holds "like": disliked cues claim their words first, then wishes.
@@ -280,4 +304,8 @@ def question_features(
             else:
                 f["q_" + cat.split("_", 1)[1]] += 1.0
             taken[i:j] = [True] * (j - i)
+    # "Why?" asks for the reasons of a choice: liked, unless the question asks for
+    # something else and "why" only follows it up ("which would you try, and why?").
+    if not f and any(not any(taken[i:j]) for i, j in q.matches.get("question_reason", ())):
+        f["q_liked"] += 1.0
     return dict(f)

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from extractor.models.cues import rule_stance
-from extractor.models.stance_features import stance_features
+from extractor.models.cues import lexicon, rule_stance
+from extractor.models.stance_features import question_features, stance_features
 from extractor.types import QuestionCode
 from tests.models.toy import CUES, mention
 from tests.models.toy import features as _features
@@ -107,6 +107,38 @@ def test_codebook_direction_is_evidence_not_the_answer() -> None:
     codebook = {"reason_preferred": QuestionCode("reason_preferred", None, "likes")}
     sentence, span = mention("It is not drought resistant.", "drought", question="reason_preferred")
     assert rule_stance(stance_features(sentence, span, CUES, codebook))[0] == "disliked"
+
+
+def test_question_in_another_language_than_the_answer_gives_its_lean() -> None:
+    # A survey asked in English and answered in French: the question's words are English.
+    sentence, span = mention(
+        "Il pourrit vite.", "pourrit", lang="fr", question="What do you dislike about it?"
+    )
+    assert stance_features(sentence, span, CUES)["q_disliked"] == 1.0
+
+
+def test_question_is_read_in_the_answers_language_first() -> None:
+    # "bon" is a French question word; read as French the question leans to likes only.
+    lex = lexicon(CUES, "fr")
+    assert question_features("Qu'est-ce qui est bon ?", lex, None, CUES) == {"q_liked": 1.0}
+    assert question_features("q12", lex, None, CUES) == {}
+
+
+@pytest.mark.parametrize(
+    ("question", "lang", "expected"),
+    [
+        ("Why do you buy this bean?", "en", {"q_liked": 1.0}),
+        ("Which new variety would you try, and why?", "en", {"q_wanted": 1.0}),
+        ("Why do you not like it?", "en", {"q_disliked": 1.0}),
+        ("Quelle nouvelle variété aimeriez-vous essayer, et pourquoi ?", "fr", {"q_wanted": 2.0}),
+        ("¿Por qué la compra?", "es", {"q_liked": 1.0}),
+    ],
+    ids=["why-alone", "why-after-wish", "why-not-like", "pourquoi-after-wish", "por-que-alone"],
+)
+def test_why_leans_to_liked_only_when_the_question_asks_nothing_else(
+    question: str, lang: str, expected: dict[str, float]
+) -> None:
+    assert question_features(question, lexicon(CUES, lang)) == expected
 
 
 # ------------------------------------------------------------------ errors measured on a trial
