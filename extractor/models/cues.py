@@ -421,6 +421,9 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     question asked only for what is liked (then the trait is a fault it lacks); the
     praised side of a comparison is liked (the lowered side disliked); then the
     question's lean (a codebook direction, or the question's cue words); else neutral.
+    Last, a trait read as liked in reply to a question that asks only for wishes ("what
+    would you change?", "which variety would you try?") is wanted: the answer praises
+    what the respondent hopes for, not what the variety has.
 
     Args:
         features: Features from :func:`extractor.models.stance.stance_features`.
@@ -428,6 +431,17 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     Returns:
         ``(stance, confidence)`` with confidence in ``[0.4, 0.85]``.
     """
+    stance, conf = _cue_rule(features)
+    g = features.get
+    if stance == "liked" and g("q_wanted", 0) and not g("q_liked", 0) and not g("q_disliked", 0):
+        # Asked only what they wish for, a trait praised is one wanted: "which variety
+        # would you try? - whatever is cheap", "one that does not give gas".
+        return "wanted", 0.6
+    return stance, conf
+
+
+def _cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
+    """Return :func:`rule_stance`'s answer before the question's wish lean is applied."""
     g = features.get
     if g("wanted_neg", 0) and not g("wanted_before", 0) and not g("wanted_clause", 0):
         return "disliked", 0.6

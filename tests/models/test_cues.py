@@ -106,6 +106,10 @@ def test_wildcard_cue_matches_words_starting_with_its_prefix(
         ("Small seeds.", "seeds", "en", "Why do you grow Ruvaro?", "liked"),
         ("Small seeds.", "seeds", "en", None, "neutral"),
         ("Des grains rouges.", "grains", "fr", "Qu'est-ce que vous n'aimez pas ?", "disliked"),
+        ("Whatever is cheap.", "cheap", "en", "Which new variety would you try?", "wanted"),
+        ("Whatever is cheap.", "cheap", "en", "Why do you buy Ruvaro?", "liked"),
+        ("One that does not rot.", "rot", "en", "Which new variety would you try?", "wanted"),
+        ("The grains are too small.", "small", "en", "What would you change?", "disliked"),
     ],
     ids=[
         "negated-fault",
@@ -128,6 +132,10 @@ def test_wildcard_cue_matches_words_starting_with_its_prefix(
         "question-why-grow",
         "no-cue",
         "question-fr-negated-like",
+        "praise-in-reply-to-wish",
+        "praise-in-reply-to-why",
+        "negated-fault-in-reply-to-wish",
+        "excess-in-reply-to-wish",
     ],
 )
 def test_rule_stance_reads_cues(
