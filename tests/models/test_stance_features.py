@@ -128,7 +128,7 @@ def test_question_is_read_in_the_answers_language_first() -> None:
     ("question", "lang", "expected"),
     [
         ("Why do you buy this bean?", "en", {"q_liked": 1.0}),
-        ("Which new variety would you try, and why?", "en", {"q_wanted": 1.0}),
+        ("Which new variety would you try, and why?", "en", {"q_wanted": 2.0}),
         ("Why do you not like it?", "en", {"q_disliked": 1.0}),
         ("Quelle nouvelle variété aimeriez-vous essayer, et pourquoi ?", "fr", {"q_wanted": 2.0}),
         ("¿Por qué la compra?", "es", {"q_liked": 1.0}),
