@@ -6,6 +6,9 @@ as dicts from :func:`~extractor.nlp.features.sentence_features`) and IOB2 tags.
 :func:`tag_sentences` does the plumbing from sentences, a dictionary and word clusters
 (:func:`sentence_items`), so callers never build features themselves; training from
 gold and silver sentences is :func:`extractor.models.tagger_training.fit_tagger`.
+CRFsuite trains; tagging decodes with the trained weights in numpy
+(:class:`~extractor.models.crf_decoder.CrfDecoder`, the same paths, marginals and
+probabilities as CRFsuite's tagger), python-crfsuite where the decoder cannot read a model.
 """
 
 from __future__ import annotations
@@ -185,7 +188,8 @@ class TraitTagger(BaseEstimator):
         repaired to ``B-TRAIT``. The probability is that of the Viterbi path itself, the
         model's confidence in its decision: the repaired path reads as the same spans
         (the lenient, conlleval reading of a stray ``I-``), and may even use a tag the
-        model never learned.
+        model never learned. Attribute tuples are decoded by the numpy decoder (bit for
+        bit CRFsuite's figures); ``{name: value}`` dicts by CRFsuite.
         """
         tagger = self._fitted()
         labels = [t for t in TAGS if t in self.labels_]
