@@ -41,6 +41,7 @@ from extractor.models.bundle import TraitModels  # noqa: E402
 from extractor.models.metrics import score  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes  # noqa: E402
+from extractor.nlp.fold import fold  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 
 _FORMS: tuple[bytes, ...] = (b"w:", b"lw:", b"n:", b"st:", b"p1:", b"p2:", b"p3:", b"p4:")
@@ -88,6 +89,28 @@ def _patch(variant: str) -> Callable[[], None]:
     return undo
 
 
+def _exact_sources(
+    target: list[tuple[Sentence, list[Span]]],
+    predicted: list[list[Any]],
+    silver: list[tuple[str, str, str]],
+) -> dict[str, int]:
+    """Count predictions with a gold span's exact boundaries, with and without a silver word.
+
+    A prediction "with a silver word" holds a word (folded) of some silver alias: the
+    tagger may have learnt it from the silver sentences that alias labelled.
+    """
+    words = {fold(w) for _, text, _ in silver for w in text.split()}
+    counts = {"exact": 0, "exact_with_silver_word": 0}
+    for (sentence, spans), mentions in zip(target, predicted, strict=True):
+        bounds = {(g.start, g.end) for g in spans}
+        for m in mentions:
+            if (m.start, m.end) in bounds:
+                counts["exact"] += 1
+                found = {fold(w) for w in sentence.text[m.start : m.end].split()}
+                counts["exact_with_silver_word"] += bool(found & words)
+    return counts
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--variants", default="base,no-space,gran=16-64-256,drop=0.5,copies")
@@ -120,7 +143,8 @@ def main() -> None:
             for name in args.lists.split(","):
                 models = TraitModels(silver_synonyms=True)
                 models.fit([], corpus, lists[name], clusters=clusters)
-                report = score(target, [p.mentions for p in models.predict([s for s, _ in target])])
+                predicted = [p.mentions for p in models.predict([s for s, _ in target])]
+                report = score(target, predicted)
                 sc = report.span_concept
                 print(
                     json.dumps(
@@ -132,6 +156,7 @@ def main() -> None:
                             "span_precision": round(report.span.precision, 4),
                             "concept_f1": sc and round(sc.f1, 4),
                             "silver_aliases": len(models.silver_aliases_),
+                            **_exact_sources(target, predicted, models.silver_aliases_),
                         }
                     ),
                     flush=True,
