@@ -17,9 +17,11 @@ Each variant changes how much the tagger can lean on the pretrained space's clus
   (forms, stem, affixes, the words of its window and word pairs) with probability P
   (seeded), so the model must lean on shapes and clusters;
 * ``drop-all=P``: the same for the silver tokens of every language;
-* ``copies``: every silver sentence also once more without word-form attributes.
+* ``copies``: every silver sentence also once more without word-form attributes;
+* ``space-weight=K``: each pretrained-cluster attribute of a token's own word repeated K
+  times (a feature of value K, in training and tagging).
 
-The last three patch the training functions of this process only.
+The last four patch functions of this process only.
 """
 
 from __future__ import annotations
@@ -39,6 +41,7 @@ from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.models import tagger_training  # noqa: E402
 from extractor.models.bundle import TraitModels  # noqa: E402
 from extractor.models.metrics import score  # noqa: E402
+from extractor.nlp import features  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes  # noqa: E402
 from extractor.nlp.fold import fold  # noqa: E402
@@ -60,6 +63,7 @@ def _without_forms(token: Attributes) -> Attributes:
 def _patch(variant: str) -> Callable[[], None]:
     """Patch the silver training data for a variant; return what undoes the patch."""
     items, silver = tagger_training.sentence_items, tagger_training._silver
+    make = features._Featurizer._make
     if variant.startswith("drop"):
         share = float(variant.partition("=")[2])
         rng = random.Random(0)
@@ -82,7 +86,20 @@ def _patch(variant: str) -> Callable[[], None]:
 
         tagger_training._silver = doubled
 
+    elif variant.startswith("space-weight="):
+        repeats = int(variant.partition("=")[2])
+
+        def heavier(self: features._Featurizer, token: str, lang: str) -> Any:
+            word = make(self, token, lang)
+            space = tuple(a for a in word.own if a[:1] == b"x" and a[1:2].isdigit())
+            return word._replace(own=word.own + space * (repeats - 1))
+
+        features._Featurizer._make = heavier  # type: ignore[method-assign]
+        features._featurizer_in_use = features._Featurizer(None)  # drop cached words
+
     def undo() -> None:
+        features._Featurizer._make = make  # type: ignore[method-assign]
+        features._featurizer_in_use = features._Featurizer(None)
         tagger_training.sentence_items = items
         tagger_training._silver = silver
 
