@@ -28,6 +28,30 @@ from extractor.models.metrics import score  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 
+Alias = tuple[str, str, str]
+Gold = list[tuple[Sentence, list[Span]]]
+
+
+def demo_lists() -> tuple[list[Sentence], Gold, dict[str, list[Alias]]]:
+    """Return the demo's gold sentences, the French and Spanish ones with their spans, lists.
+
+    The lists are the concept list's aliases whole (``full``) and cut to its English rows
+    (``english``), as ``(concept_id, text, lang)``.
+    """
+    records = [
+        json.loads(line)
+        for line in (ROOT / "sample_interviews" / "gold.jsonl").read_text("utf-8").splitlines()
+    ]
+    gold = []
+    for i, r in enumerate(records):
+        spans = [Span(s["start"], s["end"], concept=s.get("concept")) for s in r["mentions"]]
+        gold.append((Sentence(i, r["sentence"], r["lang"], respondent=r["respondent"]), spans))
+    target = [(s, spans) for s, spans in gold if s.lang.split("-")[0] in ("fr", "es")]
+    concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
+    full = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
+    english = [a for a in full if a[2].split("-")[0] == "en"]
+    return [s for s, _ in gold], target, {"full": full, "english": english}
+
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
@@ -38,19 +62,8 @@ def main() -> None:
         help="on, off or on,off: whether candidate synonyms join the silver dictionary",
     )
     args = parser.parse_args()
-    records = [
-        json.loads(line)
-        for line in (ROOT / "sample_interviews" / "gold.jsonl").read_text("utf-8").splitlines()
-    ]
-    gold = []
-    for i, r in enumerate(records):
-        spans = [Span(s["start"], s["end"], concept=s.get("concept")) for s in r["mentions"]]
-        gold.append((Sentence(i, r["sentence"], r["lang"], respondent=r["respondent"]), spans))
-    corpus = [s for s, _ in gold]
-    target = [(s, spans) for s, spans in gold if s.lang.split("-")[0] in ("fr", "es")]
-    concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
-    full = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
-    english = [a for a in full if a[2].split("-")[0] == "en"]
+    corpus, target, lists = demo_lists()
+    full, english = lists["full"], lists["english"]
     for space, silver in [
         (sp, si) for sp in args.spaces.split(",") for si in args.silver.split(",")
     ]:

@@ -37,7 +37,6 @@ from typing import Any
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.ingest.concepts import load_concept_list  # noqa: E402
 from extractor.models import tagger_training  # noqa: E402
 from extractor.models.bundle import TraitModels  # noqa: E402
 from extractor.models.metrics import score  # noqa: E402
@@ -46,6 +45,7 @@ from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes  # noqa: E402
 from extractor.nlp.fold import fold  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
+from tests.bench.bench_english_list import demo_lists  # noqa: E402
 
 _FORMS: tuple[bytes, ...] = (b"w:", b"lw:", b"n:", b"st:", b"p1:", b"p2:", b"p3:", b"p4:")
 _FORMS += (b"s1:", b"s2:", b"s3:", b"s4:")
@@ -133,20 +133,8 @@ def main() -> None:
     parser.add_argument("--variants", default="base,no-space,gran=16-64-256,drop=0.5,copies")
     parser.add_argument("--lists", default="english", help="english, full or english,full")
     args = parser.parse_args()
-    records = [
-        json.loads(line)
-        for line in (ROOT / "sample_interviews" / "gold.jsonl").read_text("utf-8").splitlines()
-    ]
-    gold = []
-    for i, r in enumerate(records):
-        spans = [Span(s["start"], s["end"], concept=s.get("concept")) for s in r["mentions"]]
-        gold.append((Sentence(i, r["sentence"], r["lang"], respondent=r["respondent"]), spans))
-    corpus = [s for s, _ in gold]
+    corpus, target, lists = demo_lists()
     texts = [(s.text, s.lang) for s in corpus]
-    target = [(s, spans) for s, spans in gold if s.lang.split("-")[0] in ("fr", "es")]
-    concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
-    full = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
-    lists = {"full": full, "english": [a for a in full if a[2].split("-")[0] == "en"]}
     default_clusters = learn_clusters(texts, space="use-m3")
     for variant in args.variants.split(","):
         clusters = default_clusters
