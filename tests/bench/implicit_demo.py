@@ -35,7 +35,36 @@ from extractor.models.metrics import respondent_scores  # noqa: E402
 from extractor.models.sentence_metrics import sentence_scores, stated  # noqa: E402
 from extractor.models.validation import group_folds  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
-from extractor.types import Span  # noqa: E402
+from extractor.types import Implicit, Sentence, Span  # noqa: E402
+
+Gold = list[tuple[Sentence, list[Span]]]
+
+
+def predict_folds(
+    folds: int, seed: int
+) -> tuple[Gold, dict[int, tuple[Implicit, ...]], list[SentencePrediction]]:
+    """Return the demo gold, its implicit traits by sentence ID, and the pooled predictions.
+
+    Models of each fold are trained on the other folds' labels (grouped by respondent)
+    and the concept list, with every gold sentence as the workspace's text; the i-th
+    prediction is that of the i-th gold sentence.
+    """
+    records = read_labels(ROOT / "sample_interviews" / "gold.jsonl", default_lang="en")
+    gold = to_gold(records)
+    implicit = {s.id: r.implicit for (s, _), r in zip(gold, records, strict=True) if r.implicit}
+    concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
+    aliases = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
+    corpus = [s for s, _ in gold]
+    clusters = learn_clusters([(s.text, s.lang) for s in corpus], seed=seed)
+    groups = [s.respondent or str(s.id) for s in corpus]
+    predicted: dict[int, SentencePrediction] = {}
+    for fold in group_folds(groups, folds, seed):
+        held = set(fold)
+        train = [g for i, g in enumerate(gold) if i not in held]
+        models = TraitModels().fit(train, corpus, aliases, clusters=clusters, implicit=implicit)
+        test = [gold[i][0] for i in fold]
+        predicted.update(zip(fold, models.predict(test), strict=True))
+    return gold, implicit, [predicted[i] for i in range(len(gold))]
 
 
 def main() -> None:
@@ -47,21 +76,7 @@ def main() -> None:
     # Predict implicit traits down to 0.4 (the sentence model's own threshold), so that the
     # sweep below can show every bar; the bundle itself adds them only at IMPLICIT_THRESHOLD.
     bundle.IMPLICIT_THRESHOLD = 0.4
-    records = read_labels(ROOT / "sample_interviews" / "gold.jsonl", default_lang="en")
-    gold = to_gold(records)
-    implicit = {s.id: r.implicit for (s, _), r in zip(gold, records, strict=True) if r.implicit}
-    concepts = load_concept_list(ROOT / "sample_interviews" / "concepts.csv")
-    aliases = [(a.concept_id, a.text, a.lang) for a in concepts.aliases]
-    corpus = [s for s, _ in gold]
-    clusters = learn_clusters([(s.text, s.lang) for s in corpus], seed=args.seed)
-    groups = [s.respondent or str(s.id) for s in corpus]
-    predicted: dict[int, SentencePrediction] = {}
-    for fold in group_folds(groups, args.folds, args.seed):
-        held = set(fold)
-        train = [g for i, g in enumerate(gold) if i not in held]
-        models = TraitModels().fit(train, corpus, aliases, clusters=clusters, implicit=implicit)
-        test = [gold[i][0] for i in fold]
-        predicted.update(zip(fold, models.predict(test), strict=True))
+    gold, implicit, predicted = predict_folds(args.folds, args.seed)
     order = range(len(gold))
     sentences = [gold[i][0] for i in order]
     spans = [list(gold[i][1]) for i in order]
