@@ -35,6 +35,9 @@ class RunRecord:
         sentence_stance_accuracy: stance accuracy on the sentence concepts found.
         respondent_f1_with_implicit: respondent-triple F1 counting mentions and implicit
             traits (None when the test gold has no concepts).
+        span_f1_best_path: strict span F1 of the tagger's best path alone, where the
+            model decodes for recall on few labels (:mod:`extractor.models.recall_decoding`;
+            None where it does not).
         seconds: the run's time up to this budget.
     """
 
@@ -50,6 +53,7 @@ class RunRecord:
     sentence_concept_f1: float | None = None
     sentence_stance_accuracy: float | None = None
     respondent_f1_with_implicit: float | None = None
+    span_f1_best_path: float | None = None
     seconds: float = 0.0
 
     def figure(self, name: str) -> float | None:

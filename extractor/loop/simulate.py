@@ -61,7 +61,7 @@ SENTENCE_FIGURES = (
     "respondent_f1_with_implicit",
 )
 """Figures over whole sentences, counting mentions and implicit traits."""
-FIGURES = SUMMARY_KEYS + SENTENCE_FIGURES
+FIGURES = (*SUMMARY_KEYS, *SENTENCE_FIGURES, "span_f1_best_path")
 Gold = list[tuple[Sentence, list[Span]]]
 
 
@@ -147,7 +147,22 @@ def _figures(model: Any, shared: _Shared) -> dict[str, Any]:
         "sentence_concept_f1": whole.concept.f1 if states_concepts else None,
         "sentence_stance_accuracy": whole.stance_accuracy,
         "respondent_f1_with_implicit": None if whole.respondent is None else whole.respondent.f1,
+        "span_f1_best_path": _best_path_f1(model, shared),
     }
+
+
+def _best_path_f1(model: Any, shared: _Shared) -> float | None:
+    """Return the span F1 of the tagger's best path alone, if the model decodes for recall."""
+    tagger = getattr(model, "tagger_", None)
+    threshold = getattr(tagger, "recall_threshold", None)
+    if tagger is None or threshold is None:
+        return None
+    tagger.recall_threshold = None
+    try:
+        preds = model.predict([s for s, _ in shared.test])
+    finally:
+        tagger.recall_threshold = threshold
+    return summary(score(shared.test, predicted_mentions(preds))).span_f1
 
 
 def _seed_records(

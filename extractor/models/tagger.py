@@ -30,6 +30,7 @@ from sklearn.base import BaseEstimator
 
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.models.crf_decoder import CrfDecoder, Decoded
+from extractor.models.recall_decoding import recall_tags
 from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.feature_rows import sentence_rows
 from extractor.nlp.features import (
@@ -78,12 +79,10 @@ class TraitTagger(BaseEstimator):
     Args:
         c1: L1 regularisation (sparse weights).
         c2: L2 regularisation.
-        max_iterations: Epochs of SGD, or L-BFGS iterations. 30 epochs scored 0.755 on MAMS
-            test (100: 0.758, in 40% less time) and the same 0.560 span F1 in 5-fold
-            cross-validation on the demo gold. 50 epochs won 3-fold cross-validation on
-            the MAMS train split (0.7582 against 0.7506) but scored 0.7416 on its test
-            split against 0.7572, and trains two thirds longer, so 30 stays
-            (``tests/bench/tagger_cv.py``).
+        max_iterations: Epochs of SGD, or L-BFGS iterations. 30 epochs: 0.755 on MAMS test
+            (100: 0.758, 40% slower), 0.560 in 5-fold CV on the demo gold. 50 won 3-fold
+            CV on MAMS train (0.7582 against 0.7506) but scored 0.7416 on test against
+            0.7572 and trains 2/3 longer (``tests/bench/tagger_cv.py``).
         min_freq: Ignore features seen fewer times in training.
         all_possible_transitions: Learn weights for unseen transitions too, so that
             ``O`` -> ``I-TRAIT`` gets a negative weight.
@@ -96,6 +95,8 @@ class TraitTagger(BaseEstimator):
             tool's regime of few labels; 1 lost 0.6 points.
         random_state: Seed of the C library's ``rand``, which CRFsuite's SGD uses to
             shuffle, so that the same data gives the same model.
+        recall_threshold: Add to the best path the tokens of TRAIT probability at least
+            this (:mod:`~extractor.models.recall_decoding`; ``fit_tagger`` sets it).
     """
 
     def __init__(
@@ -108,6 +109,7 @@ class TraitTagger(BaseEstimator):
         all_possible_transitions: bool = True,
         algorithm: str = "l2sgd",
         random_state: int = 0,
+        recall_threshold: float | None = None,
     ) -> None:
         self.c1 = c1
         self.c2 = c2
@@ -116,6 +118,7 @@ class TraitTagger(BaseEstimator):
         self.all_possible_transitions = all_possible_transitions
         self.algorithm = algorithm
         self.random_state = random_state
+        self.recall_threshold = recall_threshold
 
     def fit(self, X: Sequence[Features], y: Sequence[Sequence[str]]) -> TraitTagger:
         """Train on feature sequences ``X`` and their IOB2 tag sequences ``y``.
@@ -200,7 +203,7 @@ class TraitTagger(BaseEstimator):
             except TypeError:
                 pass  # {name: value} dicts: CRFsuite reads them
             else:
-                return [_tag_path(d, decoder.labels) for d in decoded]
+                return [_tag_path(d, decoder.labels, self.recall_threshold) for d in decoded]
         out = []
         for xseq in map(_whole, X):
             if not len(xseq):
@@ -209,7 +212,8 @@ class TraitTagger(BaseEstimator):
             tagger.set(xseq)
             viterbi = tagger.tag()
             marginals = _marginals(tagger, labels, len(xseq))
-            out.append(TagPath(repair_iob(viterbi), marginals, tagger.probability(viterbi)))
+            tags = recall_tags(repair_iob(viterbi), marginals, self.recall_threshold)
+            out.append(TagPath(tags, marginals, tagger.probability(viterbi)))
         return out
 
     def _decoder(self) -> CrfDecoder | None:
@@ -340,7 +344,7 @@ def _whole(xseq: Features) -> Features:
     return xseq
 
 
-def _tag_path(decoded: Decoded, labels: Sequence[str]) -> TagPath:
+def _tag_path(decoded: Decoded, labels: Sequence[str], recall: float | None) -> TagPath:
     """Return a :class:`TagPath` from the numpy decoder's result, as :meth:`predict` gives it."""
     names = [labels[i] for i in decoded.path]
     rows = decoded.marginals.tolist()
@@ -353,15 +357,12 @@ def _tag_path(decoded: Decoded, labels: Sequence[str]) -> TagPath:
     else:
         where = {t: labels.index(t) for t in TAGS if t in labels}
         marginals = [{t: (r[where[t]] if t in where else 0.0) for t in TAGS} for r in rows]
-    return TagPath(repair_iob(names), marginals, decoded.probability)
+    tags = recall_tags(repair_iob(names), marginals, recall)
+    return TagPath(tags, marginals, decoded.probability)
 
 
 def _marginals(tagger: pycrfsuite.Tagger, labels: Sequence[str], n: int) -> list[dict[str, float]]:
-    """Return each token's tag marginals; with all three tags known, the last is derived.
-
-    Marginals of one token sum to one, so two calls into CRFsuite per token suffice
-    (they are a large share of tagging time).
-    """
+    """Return each token's tag marginals; the last derived when all three tags are known."""
     if len(labels) == len(TAGS):
         out = []
         for i in range(n):
@@ -481,7 +482,7 @@ def tag_sentences(
         else:
             rows = [_sentence_rows(s, dictionary, clusters, decoder.index) for s in sentences]
             decoded = decoder.decode([feats for _, feats, _ in rows])
-            paths = [_tag_path(d, decoder.labels) for d in decoded]
+            paths = [_tag_path(d, decoder.labels, tagger.recall_threshold) for d in decoded]
             items = [(offsets, [], matches) for offsets, _, matches in rows]
             # Features gone before the collector resumes: it then scans the results alone.
             del rows, decoded

@@ -50,6 +50,7 @@ from collections.abc import Mapping, Sequence
 from typing import Any, TypeVar
 
 from extractor.errors import InputError
+from extractor.models.recall_decoding import RECALL_BELOW, RECALL_THRESHOLD
 from extractor.models.tagger import Features, TraitTagger, sentence_items
 from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.features import Attributes, Clusters
@@ -72,6 +73,8 @@ def fit_tagger(
     self_sentences: int = 0,
     self_threshold: float = 0.9,
     self_rounds: int = 1,
+    recall_threshold: float | None = RECALL_THRESHOLD,
+    recall_below: int = RECALL_BELOW,
     **params: Any,
 ) -> TraitTagger:
     """Train a tagger from gold-labelled sentences and dictionary-labelled silver sentences.
@@ -96,6 +99,11 @@ def fit_tagger(
             tags of such a sentence are trained on.
         self_rounds: Rounds of self-training: after the first, the model trained on gold,
             silver and the self-labelled sentences labels them again.
+        recall_threshold: While there are fewer than ``recall_below`` gold sentences, the
+            tagger decodes for recall with this threshold
+            (:mod:`extractor.models.recall_decoding`); ``None`` never.
+        recall_below: The number of gold sentences from which the tagger's best path alone
+            is read.
         **params: Arguments of :class:`TraitTagger`.
 
     Returns:
@@ -153,6 +161,8 @@ def fit_tagger(
         # ones would only change the SGD schedule, which max_iterations controls.
         X, y = X[::gold_weight], y[::gold_weight]
     tagger = TraitTagger(**params).fit(X + sx, y + sy)
+    if len(gold) < recall_below:
+        tagger.recall_threshold = recall_threshold
     tagger.clusters_fingerprint_ = clusters.get("fingerprint") if clusters else None
     return tagger
 

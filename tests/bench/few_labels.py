@@ -17,7 +17,10 @@ plus the self-training keys of :func:`extractor.models.tagger_training.fit_tagge
 two keys of this screen alone (not in the tool):
 
 * ``"decode_threshold"``: spans read from the Viterbi path plus those of the tokens whose
-  TRAIT probability (1 - P(O)) is at least this, where they overlap no Viterbi span;
+  TRAIT probability (1 - P(O)) is at least this, where they overlap no Viterbi span
+  (:func:`extractor.models.recall_decoding.recall_tags`). Without it the best path alone
+  is read: the screen passes ``recall_threshold=None`` to ``fit_tagger`` unless the
+  setting gives it, so the tool's decoding on few labels is this key's 0.3;
 * ``"dense_dims"``: that many principal axes of the pretrained space's word vectors
   (centred, unit length, times ``"dense_scale"``, default 1) added to each token as
   weighted features; the tagger is then trained on the labelled sentences alone.
@@ -39,12 +42,13 @@ sys.path.insert(0, str(ROOT))
 
 import numpy as np  # noqa: E402
 
+from extractor.models.recall_decoding import recall_tags  # noqa: E402
 from extractor.models.tagger import TagPath, TraitTagger, sentence_items  # noqa: E402
 from extractor.models.tagger_training import fit_tagger  # noqa: E402
 from extractor.nlp import pretrained  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes  # noqa: E402
-from extractor.nlp.spans import OUTSIDE, iob_to_spans, span_prf, spans_to_iob  # noqa: E402
+from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.nlp.text import tokenize  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
 from tests.mams import load_mams  # noqa: E402
@@ -65,20 +69,7 @@ def gold(split: str, first_id: int) -> Gold:
 
 def recall_spans(offsets: list[tuple[int, int]], path: TagPath, threshold: float) -> list[Span]:
     """Return the Viterbi spans plus the runs of tokens with TRAIT probability >= threshold."""
-    tags: list[str] = []
-    for m in path.marginals:
-        if 1.0 - m[OUTSIDE] >= threshold:
-            inside = tags and tags[-1] != OUTSIDE and m["I-TRAIT"] >= m["B-TRAIT"]
-            tags.append("I-TRAIT" if inside else "B-TRAIT")
-        else:
-            tags.append(OUTSIDE)
-    viterbi = iob_to_spans(offsets, path.tags)
-    extra = [
-        s
-        for s in iob_to_spans(offsets, tags)
-        if not any(s.start < v.end and v.start < s.end for v in viterbi)
-    ]
-    return sorted(viterbi + extra)
+    return iob_to_spans(offsets, recall_tags(path.tags, path.marginals, threshold))
 
 
 class Dense:
@@ -131,6 +122,7 @@ def main() -> None:
     for raw in args.settings:
         params: dict[str, Any] = json.loads(raw)
         threshold = params.pop("decode_threshold", None)
+        params.setdefault("recall_threshold", None)
         dims, scale = params.pop("dense_dims", 0), params.pop("dense_scale", 1.0)
         dense = Dense(words, dims, scale) if dims else None
         val_X: list[Any] = [f for _, f in val_items]

@@ -72,6 +72,7 @@ def test_results_to_dict_is_json_with_the_record_fields() -> None:
             "sentence_concept_f1": None,
             "sentence_stance_accuracy": None,
             "respondent_f1_with_implicit": None,
+            "span_f1_best_path": None,
             "seconds": 1.25,
         }
     ]

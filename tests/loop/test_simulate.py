@@ -28,6 +28,7 @@ KEYS = {
     "sentence_concept_f1",
     "sentence_stance_accuracy",
     "respondent_f1_with_implicit",
+    "span_f1_best_path",
     "respondent_f1",
     "seconds",
 }
