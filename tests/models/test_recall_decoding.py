@@ -12,6 +12,7 @@ from seqeval.scheme import IOB2
 from extractor.models.recall_decoding import RECALL_BELOW, RECALL_THRESHOLD, recall_tags
 from extractor.models.tagger import TraitTagger, sentence_items
 from extractor.models.tagger_training import fit_tagger
+from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.spans import spans_to_iob
 from extractor.types import Sentence, Span
 from tests.mams import SKIP_REASON, load_mams
@@ -64,6 +65,12 @@ def test_fit_tagger_decodes_for_recall_only_on_few_gold_sentences(tmp_path: Path
     few.save(tmp_path)
     assert TraitTagger.load(tmp_path).recall_threshold == RECALL_THRESHOLD
     assert RECALL_BELOW > len(gold)
+
+
+def test_the_dictionary_alone_reads_the_best_path() -> None:
+    dictionary = build_dictionary([("TX:0001", "taste", "en")])
+    silver = [Sentence(i, f"We like the taste of Velora {i} .", "en") for i in range(5)]
+    assert fit_tagger([], silver, dictionary, None, max_iterations=5).recall_threshold is None
 
 
 def mams(split: str, n: int) -> list[tuple[Sentence, list[Span]]]:
