@@ -32,7 +32,7 @@ CUE_CATEGORIES = (
     "resistance_pre", "resistance_post",
     "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
     "comparison_marker", "question_liked", "question_disliked", "question_wanted",
-    "question_reason",
+    "question_reason", "indifference",
 )  # fmt: skip
 """The categories a language section of the cue lexicon may hold."""
 
@@ -218,8 +218,9 @@ def _match_cue(words: Sequence[str], i: int, toks: tuple[str, ...]) -> bool:
     return True
 
 
-_CLAIMING = ("liked", "disliked", "wanted", "excess")
-"""Categories whose longer matches claim their words from shorter ones ("only good for")."""
+_CLAIMING = ("liked", "disliked", "wanted", "excess", "indifference")
+"""Categories whose longer matches claim their words from shorter ones ("only good for";
+"want to know" is no wish)."""
 
 
 def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
@@ -334,7 +335,7 @@ def _negation(
     # Pseudo-triggers (and excess phrases such as "not enough") contain a trigger
     # word but negate nothing; NegEx matches them first and skips their tokens.
     masked = [False] * n
-    for cat in ("pseudo_negation", "excess"):
+    for cat in ("pseudo_negation", "excess", "indifference"):
         for i, j in found.get(cat, ()):
             masked[i:j] = [True] * (j - i)
     kinds = (
@@ -440,6 +441,17 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     return stance, conf
 
 
+def question_only(features: Mapping[str, float]) -> bool:
+    """Return whether :func:`rule_stance` takes its stance from the question's lean alone.
+
+    True when the rules give a stance but would give none with the question unknown:
+    no cue, negation, contrast or comparison around the mention decided it.
+    """
+    if rule_stance(features)[0] == "neutral":
+        return False
+    return _cue_rule({k: v for k, v in features.items() if not k.startswith("q_")})[0] == "neutral"
+
+
 def _cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
     """Return :func:`rule_stance`'s answer before the question's wish lean is applied."""
     g = features.get
@@ -458,6 +470,10 @@ def _cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
     score = g("clause_liked", 0) - g("clause_disliked", 0)
     if score:
         return ("liked" if score > 0 else "disliked"), min(0.6 + 0.1 * abs(score), 0.85)
+    if g("indifferent", 0):
+        # "no importa el color", "rouge ou tacheté, peu importe", "it depends on the price":
+        # the trait is named as not deciding anything, neither welcome nor a fault.
+        return "neutral", 0.6
     own = g("span_good", 0) - g("span_fault", 0)
     if own:
         return ("liked" if own > 0 else "disliked"), 0.6

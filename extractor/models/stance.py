@@ -23,7 +23,14 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
 from extractor.errors import InputError
-from extractor.models.cues import Cues, load_cues, packaged_cues, rule_proba, rule_stance
+from extractor.models.cues import (
+    Cues,
+    load_cues,
+    packaged_cues,
+    question_only,
+    rule_proba,
+    rule_stance,
+)
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
 from extractor.models.stance_context import DEFAULT_BLOCKS, OLD_BLOCKS, context_vectors
 from extractor.models.stance_features import Codebook, stance_features
@@ -38,9 +45,16 @@ _JSON_FILE = "stance.json"
 def _model_features(
     sentence: Sentence, span: Span, cues: Cues, codebook: Codebook | None
 ) -> dict[str, float]:
-    """Return :func:`stance_features` plus the rule's answer, so the model can learn to trust it."""
+    """Return :func:`stance_features` plus the rule's answer, so the model can learn to trust it.
+
+    The answer is named by where it came from: ``rule=liked`` when words around the
+    mention decided it, ``rule_q=liked`` when only the question's lean did. A lean
+    alone is wrong more often (a statement of fact in reply to "what do you dislike?"
+    is neutral), and the model can trust the two apart only when they are apart.
+    """
     f = stance_features(sentence, span, cues, codebook)
-    f[f"rule={rule_stance(f)[0]}"] = 1.0
+    stance = rule_stance(f)[0]
+    f[f"rule_q={stance}" if question_only(f) else f"rule={stance}"] = 1.0
     return f
 
 

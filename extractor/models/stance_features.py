@@ -18,6 +18,7 @@ from collections.abc import Mapping
 from typing import NamedTuple
 
 from extractor.models.cues import (
+    PUNCT_BOUNDARY,
     SENTENCE_END,
     Cues,
     Lexicon,
@@ -95,6 +96,7 @@ def stance_features(
     where = _Where(a, b, *clause(p, a, b), *segment(p, a, b))
     f: _Features = defaultdict(float)
     in_span = _cue_features(p, where, f)
+    _indifference_features(p, where, f)
     _negation_features(p, where, in_span, f)
     _excess_features(p, where, f)
     _contrast_features(p, where, f)
@@ -138,6 +140,22 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
                 # A wish reaches over a contrast ("I wish it were sweet, but also big").
                 f["wanted_neg" if neg else "wanted_before"] += 1.0
     return in_span
+
+
+def _indifference_features(p: Parsed, where: _Where, f: _Features) -> None:
+    """Mark a span said not to matter ("no importa el color", "rouge ou tacheté, peu importe").
+
+    The phrase counts inside the span's clause, or right beside the span with only
+    punctuation between ("X, peu importe"; "peu importe: X").
+    """
+    a, b, lo, hi = where.a, where.b, where.lo, where.hi
+    for i, j in p.matches.get("indifference", ()):
+        if i < b and j > a:
+            continue
+        between = range(j, a) if j <= a else range(b, i)
+        beside = len(between) <= 2 and all(p.words[k] in PUNCT_BOUNDARY for k in between)
+        if lo <= i and j <= hi or beside:
+            f["indifferent"] += 1.0
 
 
 def _negation_features(p: Parsed, where: _Where, in_span: set[str], f: _Features) -> None:
