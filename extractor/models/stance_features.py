@@ -145,16 +145,19 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
 def _indifference_features(p: Parsed, where: _Where, f: _Features) -> None:
     """Mark a span said not to matter ("no importa el color", "rouge ou tacheté, peu importe").
 
-    The phrase counts inside the span's clause, or right beside the span with only
-    punctuation between ("X, peu importe"; "peu importe: X").
+    The phrase counts inside the span's clause, or after the span with only punctuation
+    between when it closes its own clause ("X, peu importe."). A phrase that goes on
+    governs something else: in "barely enough room (no matter what the size of your
+    party)" the room is still a fault (MAMS gold).
     """
     a, b, lo, hi = where.a, where.b, where.lo, where.hi
+    n = len(p.words)
     for i, j in p.matches.get("indifference", ()):
         if i < b and j > a:
             continue
-        between = range(j, a) if j <= a else range(b, i)
-        beside = len(between) <= 2 and all(p.words[k] in PUNCT_BOUNDARY for k in between)
-        if lo <= i and j <= hi or beside:
+        closes = j == n or p.words[j] in PUNCT_BOUNDARY
+        after = b <= i <= b + 2 and all(p.words[k] in PUNCT_BOUNDARY for k in range(b, i))
+        if lo <= i and j <= hi or (after and closes):
             f["indifferent"] += 1.0
 
 
