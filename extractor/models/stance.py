@@ -48,9 +48,11 @@ def _model_features(
     """Return :func:`stance_features` plus the rule's answer, so the model can learn to trust it.
 
     The answer is named by where it came from: ``rule=liked`` when words around the
-    mention decided it, ``rule_q=liked`` when only the question's lean did. A lean
-    alone is wrong more often (a statement of fact in reply to "what do you dislike?"
-    is neutral), and the model can trust the two apart only when they are apart.
+    mention decided it, ``rule_q=liked`` when only the question's lean did. The two go
+    wrong in different ways: a lean alone misses statements of fact ("Charcoal is now
+    1500 a bag" in reply to "what do you dislike?" is neutral), cue words confuse
+    liked and disliked. On our maize labels (real answers, codebook) gold neutral is
+    11 of 153 mentions the lean alone decides and 3 of 253 the words decide.
     """
     f = stance_features(sentence, span, cues, codebook)
     stance = rule_stance(f)[0]

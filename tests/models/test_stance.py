@@ -11,8 +11,8 @@ import pytest
 from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError
-from extractor.models.cues import rule_stance
-from extractor.models.stance import StanceModel, codebook_params
+from extractor.models.cues import question_only, rule_stance
+from extractor.models.stance import StanceModel, _model_features, codebook_params
 from extractor.models.stance_features import stance_features
 from extractor.types import STANCES, Sentence, Span
 from tests import maize
@@ -200,3 +200,35 @@ def test_stance_with_a_question_codebook_agrees_with_our_labels_on_real_maize_an
     without = accuracy(StanceModel())
     assert with_codebook >= 0.75
     assert with_codebook >= without + 0.2
+
+
+def test_the_question_alone_decides_where_neutral_mentions_hide_in_real_maize_answers() -> None:
+    # Real farmer answers (maize concept testing, CC BY 4.0; our labels, tests/maize.py).
+    # The model reads the rule's answer as rule_q=... when the question's lean alone gave
+    # it (cues.question_only): that is where statements of fact, neutral in gold, are
+    # (measured: 11 of 153 against 3 of 253 decided by words around the mention).
+    gold = maize.load_maize_gold()
+    if gold is None:
+        pytest.skip(maize.SKIP_REASON)
+    by_source: dict[bool, Counter[str]] = {True: Counter(), False: Counter()}
+    for n, g in enumerate(gold):
+        sentence = Sentence(n, g["text"], "en", g["question"])
+        for s in g["spans"]:
+            f = stance_features(sentence, Span(s["start"], s["end"]), CUES, maize.CODEBOOK)
+            by_source[question_only(f)][s["stance"]] += 1
+
+    def neutral_share(counts: Counter[str]) -> float:
+        return counts["neutral"] / sum(counts.values())
+
+    assert sum(by_source[True].values()) >= 100 and sum(by_source[False].values()) >= 100
+    assert neutral_share(by_source[True]) >= 3 * neutral_share(by_source[False])
+
+
+def test_model_features_name_the_rule_by_its_source() -> None:
+    asked = "What do you dislike about it?"
+    fact = _model_features(
+        *_mention("Charcoal is now 1500 a bag.", "Charcoal", "en", asked), CUES, {}
+    )
+    judged = _model_features(*_mention("The taste is poor.", "taste", "en", asked), CUES, {})
+    assert fact.get("rule_q=disliked") == 1.0 and "rule=disliked" not in fact
+    assert judged.get("rule=disliked") == 1.0 and not any(k.startswith("rule_q=") for k in judged)

@@ -6,7 +6,8 @@ import pytest
 
 from extractor.models.cues import lexicon, rule_stance
 from extractor.models.stance_features import question_features, stance_features
-from extractor.types import QuestionCode
+from extractor.types import QuestionCode, Sentence, Span
+from tests.mams import SKIP_REASON, load_mams
 from tests.models.toy import CUES, mention
 from tests.models.toy import features as _features
 
@@ -181,3 +182,47 @@ def test_rules_read_faults_goods_and_resistance(
 
 def test_takes_months_to_mature_is_not_liked() -> None:
     assert rule_stance(_features("It takes 18 months to mature.", "mature"))[0] != "liked"
+
+
+# ------------------------------------------------------------------ indifference
+# A trait said not to matter is named without a judgement: neutral in the label
+# guidelines of sample_interviews/README.md and in MAMS (an aspect "mentioned without
+# an opinion"). The phrase claims its words as NegEx pseudo-triggers do (Chapman et
+# al., 2001, from memory): "want to know" is no wish, "doesn't matter" negates nothing.
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang"),
+    [
+        ("The colour does not matter to us.", "colour", "en"),
+        ("But first I want to know the cooking time.", "cooking time", "en"),
+        ("Rouge ou tacheté, peu importe.", "tacheté", "fr"),
+        ("Que resista las enfermedades, no importa el color.", "color", "es"),
+        ("Tanto faz a cor.", "cor", "pt"),
+    ],
+    ids=["en-does-not-matter", "en-want-to-know", "fr-peu-importe-after", "es-no-importa", "pt"],
+)
+def test_indifference_reads_the_trait_as_neutral(text: str, term: str, lang: str) -> None:
+    features = _features(text, term, lang)
+    assert features.get("indifferent")
+    assert not features.get("span_negated") and not features.get("wanted_before")
+    assert rule_stance(features)[0] == "neutral"
+
+
+def test_indifference_that_governs_something_else_leaves_the_trait_alone() -> None:
+    # MAMS train (Jiang et al., 2019, read in place): "room" is negative in its gold;
+    # "no matter" governs the size of the party, not the room.
+    rows = load_mams("train")
+    if rows is None:
+        pytest.skip(SKIP_REASON)
+    row = next(r for r in rows if "no matter what the size of your party" in r["sentence"])
+    (room,) = [m for m in row["mentions"] if row["sentence"][m["start"] : m["end"]] == "room"]
+    assert room["stance"] == "disliked"
+    sentence = Sentence(0, row["sentence"], "en")
+    features = stance_features(sentence, Span(room["start"], room["end"]), CUES)
+    assert not features.get("indifferent")
+
+
+def test_indifference_gives_way_to_a_judgement_in_the_clause() -> None:
+    # "good" judges the taste; the indifference is about something else of the clause.
+    assert rule_stance(_features("No matter the price, the taste is good.", "taste"))[0] == "liked"
