@@ -432,7 +432,7 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     Returns:
         ``(stance, confidence)`` with confidence in ``[0.4, 0.85]``.
     """
-    stance, conf = _cue_rule(features)
+    stance, conf = cue_rule(features)
     g = features.get
     if stance == "liked" and g("q_wanted", 0) and not g("q_liked", 0) and not g("q_disliked", 0):
         # Asked only what they wish for, a trait praised is one wanted: "which variety
@@ -441,19 +441,11 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     return stance, conf
 
 
-def question_only(features: Mapping[str, float]) -> bool:
-    """Return whether :func:`rule_stance` takes its stance from the question's lean alone.
+def cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
+    """Return :func:`rule_stance`'s answer before the question's wish lean is applied.
 
-    True when the rules give a stance but would give none with the question unknown:
-    no cue, negation, contrast or comparison around the mention decided it.
+    Without the ``q_*`` features: what the words around the mention alone decide.
     """
-    if rule_stance(features)[0] == "neutral":
-        return False
-    return _cue_rule({k: v for k, v in features.items() if not k.startswith("q_")})[0] == "neutral"
-
-
-def _cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
-    """Return :func:`rule_stance`'s answer before the question's wish lean is applied."""
     g = features.get
     if g("wanted_neg", 0) and not g("wanted_before", 0) and not g("wanted_clause", 0):
         return "disliked", 0.6

@@ -25,9 +25,9 @@ from sklearn.pipeline import Pipeline
 from extractor.errors import InputError
 from extractor.models.cues import (
     Cues,
+    cue_rule,
     load_cues,
     packaged_cues,
-    question_only,
     rule_proba,
     rule_stance,
 )
@@ -58,6 +58,17 @@ def _model_features(
     stance = rule_stance(f)[0]
     f[f"rule_q={stance}" if question_only(f) else f"rule={stance}"] = 1.0
     return f
+
+
+def question_only(features: Mapping[str, float]) -> bool:
+    """Return whether :func:`rule_stance` takes its stance from the question's lean alone.
+
+    True when the rules give a stance but would give none with the question unknown:
+    no cue, negation, contrast or comparison around the mention decided it.
+    """
+    if rule_stance(features)[0] == "neutral":
+        return False
+    return cue_rule({k: v for k, v in features.items() if not k.startswith("q_")})[0] == "neutral"
 
 
 class StanceModel(BaseEstimator):

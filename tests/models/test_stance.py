@@ -11,8 +11,8 @@ import pytest
 from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError
-from extractor.models.cues import question_only, rule_stance
-from extractor.models.stance import StanceModel, _model_features, codebook_params
+from extractor.models.cues import rule_stance
+from extractor.models.stance import StanceModel, _model_features, codebook_params, question_only
 from extractor.models.stance_features import stance_features
 from extractor.types import STANCES, Sentence, Span
 from tests import maize
@@ -205,7 +205,7 @@ def test_stance_with_a_question_codebook_agrees_with_our_labels_on_real_maize_an
 def test_the_question_alone_decides_where_neutral_mentions_hide_in_real_maize_answers() -> None:
     # Real farmer answers (maize concept testing, CC BY 4.0; our labels, tests/maize.py).
     # The model reads the rule's answer as rule_q=... when the question's lean alone gave
-    # it (cues.question_only): that is where statements of fact, neutral in gold, are
+    # it (stance.question_only): that is where statements of fact, neutral in gold, are
     # (measured: 11 of 153 against 3 of 253 decided by words around the mention).
     gold = maize.load_maize_gold()
     if gold is None:
