@@ -233,7 +233,7 @@ class TraitModels(BaseEstimator):
             for sentence, matches in zip(silver, self.dictionary_.match_many(silver), strict=True):
                 link_examples += [(sentence, m, m.concept) for m in matches if m.concept]
         linker = ConceptLinker(threshold=self.link_threshold, space=space)
-        self.linker_ = linker.fit(link_examples, aliases, gold_examples=gold_links)
+        self.linker_ = linker.fit(link_examples, listed, gold_examples=gold_links)
         implicit = implicit or {}
         self.sentence_ = self._fit_sentence_traits(gold, implicit)
         stance_examples = [(s, sp, sp.stance) for s, spans in gold for sp in spans if sp.stance]

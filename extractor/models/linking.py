@@ -1,18 +1,18 @@
 """Linking a trait mention to a concept ID of the validated trait list, or to none.
 
 Four scorers (:mod:`extractor.models.link_scoring`: exact, fuzzy, context and semantic) give
-each candidate concept a number in ``[0, 1]``. Surface forms of linked examples join
-the aliases, so a phrasing seen once links exactly the next time. A small logistic
-*combiner* turns the four scores into the probability that a candidate is right.
-With at least :data:`MIN_COMBINER_EXAMPLES` links given by the analyst it is fitted on
-out-of-fold scores of all linked examples (each fold's scorers never saw the example),
-so its output is calibrated on the project's own data; below that a fixed, documented
-rule is used (:data:`DEFAULT_WEIGHTS`). Dictionary links alone never fit it: they are
-exact alias matches by construction, so a combiner fitted on them learns that nothing
-but an exact match is right and leaves most new phrasings and other languages unlinked
-(DEVELOPERS.md, "Concept lists in one language"). The best candidate below
-``threshold`` leaves the mention unlinked; :func:`choose_threshold` measures a threshold
-on held-out gold links.
+each candidate concept a number in ``[0, 1]``. Surface forms of the analyst's links join
+the aliases, so a phrasing seen once links exactly the next time (the words of dictionary
+links do not: :data:`DICTIONARY_FORMS`). A small logistic *combiner* turns the four
+scores into the probability that a candidate is right. With at least
+:data:`MIN_COMBINER_EXAMPLES` links given by the analyst it is fitted on out-of-fold
+scores of all linked examples (each fold's scorers never saw the example), so its output
+is calibrated on the project's own data; below that a fixed, documented rule is used
+(:data:`DEFAULT_WEIGHTS`). Dictionary links alone never fit it: they are exact alias
+matches by construction, so a combiner fitted on them learns that nothing but an exact
+match is right and leaves most new phrasings and other languages unlinked (DEVELOPERS.md,
+"Concept lists in one language"). The best candidate below ``threshold`` leaves the
+mention unlinked; :func:`choose_threshold` measures a threshold on held-out gold links.
 """
 
 from __future__ import annotations
@@ -57,6 +57,16 @@ score 0.75) gives about 0.78, a cosine of 0.8 (score 0.5) about 0.38, 0.75 (0.37
 about 0.2, below the threshold: a near neighbour that is no translation
 ("sequía"/"drought" is 0.73) needs a second score's support. It applies only below
 :data:`MIN_COMBINER_EXAMPLES` links by the analyst.
+"""
+
+DICTIONARY_FORMS = False
+"""Whether the words of dictionary links join the forms of their concepts (as the analyst's do).
+
+They do not: a dictionary link's words are an alias's by construction, except where the
+stemmer joins different words ("amarillo" and the alias "amarillamiento", "limpio" and
+"limpia", "yellow" and "yellowing"), and there, with the sentence being linked among the
+unlabelled ones, its own words became a form of the wrong concept: exact, fuzzy and
+semantic scores of 1 (DEVELOPERS.md, "Spans and links of the demo triples").
 """
 
 _FORMAT = "trait-extractor/linker/1"
@@ -123,7 +133,8 @@ class ConceptLinker(BaseEstimator):
             examples: ``(sentence, span, concept_id)``; may be empty (cold start:
                 aliases alone, exact and fuzzy). A concept of ``None`` marks a mention
                 known to fit no concept, a negative for the combiner.
-            aliases: ``(concept_id, alias_text, lang)`` of the concept list.
+            aliases: ``(concept_id, alias_text, lang)`` of the concept list (and the
+                silver aliases, which the bundle adds).
             gold_examples: How many of the first examples the analyst linked (the rest
                 are dictionary links); ``None``: all of them.
 
@@ -143,29 +154,35 @@ class ConceptLinker(BaseEstimator):
                 )
             alias_list.append((str(concept), str(text).strip(), str(lang or "")))
         examples = list(examples)
-        forms = alias_list + example_forms(examples)
+        n_gold = len(examples) if gold_examples is None else gold_examples
+        # Only the analyst's links lend their words as forms (see DICTIONARY_FORMS).
+        own = examples if DICTIONARY_FORMS else examples[:n_gold]
+        forms = alias_list + example_forms(own)
         if not forms:
             raise InputError(
                 "Linking needs at least one alias or linked example; got none."
                 " Import a concept list first."
             )
         self.aliases_ = alias_list
-        self.example_forms_ = example_forms(examples)
+        self.example_forms_ = example_forms(own)
         # Computed once: the combiner's folds reuse them.
         features = [context_features(s, sp) for s, sp, _ in examples]
         concepts = [c for _, _, c in examples]
         self.scorer_ = Scorer.build(forms, fit_context(features, concepts, self.C), self.space)
-        gold = examples if gold_examples is None else examples[:gold_examples]
-        linked = sum(1 for *_, c in gold if c is not None)
+        linked = sum(1 for *_, c in examples[:n_gold] if c is not None)
         self.weights_ = (
-            self._fit_combiner(examples, features, alias_list)
+            self._fit_combiner(examples, features, alias_list, n_gold)
             if linked >= MIN_COMBINER_EXAMPLES
             else list(DEFAULT_WEIGHTS)
         )
         return self
 
     def _fit_combiner(
-        self, examples: list[Example], features: list[dict[str, float]], aliases: list[Alias]
+        self,
+        examples: list[Example],
+        features: list[dict[str, float]],
+        aliases: list[Alias],
+        n_gold: int,
     ) -> list[float]:
         """Fit the combiner on out-of-fold scores, or return :data:`DEFAULT_WEIGHTS`.
 
@@ -179,7 +196,8 @@ class ConceptLinker(BaseEstimator):
             context = fit_context(
                 [features[i] for i in train_idx], [c for _, _, c in train], self.C
             )
-            scorer = Scorer.build(aliases + example_forms(train), context, self.space)
+            own = train if DICTIONARY_FORMS else [examples[i] for i in train_idx if i < n_gold]
+            scorer = Scorer.build(aliases + example_forms(own), context, self.space)
             cands_per_item = scorer.candidates(
                 [(s, sp) for s, sp, _ in held], [features[i] for i in test_idx]
             )

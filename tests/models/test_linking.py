@@ -8,6 +8,7 @@ import sys
 from pathlib import Path
 
 import pytest
+import snowballstemmer
 from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError, NotFittedError
@@ -165,8 +166,11 @@ def test_dictionary_links_alone_never_fit_the_combiner() -> None:
     assert ConceptLinker().fit(examples, ALIASES, gold_examples=29).weights_ == list(
         DEFAULT_WEIGHTS
     )
-    fitted = ConceptLinker().fit(examples, ALIASES, gold_examples=30).weights_
-    assert fitted == ConceptLinker().fit(examples, ALIASES).weights_ != list(DEFAULT_WEIGHTS)
+    assert ConceptLinker().fit(examples, ALIASES, gold_examples=30).weights_ != list(
+        DEFAULT_WEIGHTS
+    )
+    every = ConceptLinker().fit(examples, ALIASES, gold_examples=len(examples)).weights_
+    assert every == ConceptLinker().fit(examples, ALIASES).weights_
 
 
 def test_choose_threshold_separates_right_links_from_non_concepts(cold: ConceptLinker) -> None:
@@ -258,3 +262,21 @@ def test_verb_of_liking_gets_no_exact_link_but_the_noun_does() -> None:
     scorer = Scorer.build([("C:taste", "gosto", "pt"), ("C:taste", "taste", "en")], None)
     assert scorer.exact(Sentence(1, "Gosto da cor.", "pt"), Span(0, 5)) == set()
     assert scorer.exact(Sentence(2, "O gosto é bom.", "pt"), Span(2, 7)) == {"C:taste"}
+
+
+def test_dictionary_links_lend_no_words_as_forms_but_the_analysts_do() -> None:
+    # Snowball's Spanish stemmer (the snowballstemmer package, a port of the reference
+    # algorithms) gives "amarillo" (yellow) and "amarillamiento" (yellowing, a disease
+    # sign) one stem, so the dictionary links the colour word to the disease. Were its
+    # words a form of the disease, the sentence would meet itself: fuzzy score 1.
+    stem = snowballstemmer.stemmer("spanish").stemWord
+    assert stem("amarillo") == stem("amarillamiento")
+    aliases = [("TX:10", "amarillamiento", "es"), ("TX:11", "color", "es")]
+    sentence = Sentence(1, "El grano es amarillo.", "es")
+    link = [(sentence, Span(12, 20), "TX:10")]
+    from_dictionary = ConceptLinker().fit(link, aliases, gold_examples=0)
+    assert from_dictionary.example_forms_ == []
+    assert from_dictionary.scorer_.fuzzy(["amarillo"])[0][0] < 1.0
+    from_analyst = ConceptLinker().fit(link, aliases, gold_examples=1)
+    assert from_analyst.example_forms_ == [("TX:10", "amarillo", "es")]
+    assert from_analyst.scorer_.fuzzy(["amarillo"])[0][0] == pytest.approx(1.0)
