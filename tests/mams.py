@@ -12,6 +12,10 @@ import xml.etree.ElementTree as ET
 from pathlib import Path
 from typing import Any
 
+import pytest
+
+from extractor.types import Sentence, Span
+
 MAMS_DIR = Path(__file__).resolve().parents[1].parent / "shared" / "datasets" / "mams-atsa"
 """Where the MAMS XML files are expected."""
 
@@ -59,3 +63,17 @@ def load_mams(split: str, folder: Path | None = None) -> list[dict[str, Any]] | 
             }
         )
     return out
+
+
+def mams_pairs(split: str, n: int | None = None) -> list[tuple[Sentence, list[Span]]]:
+    """Return the first ``n`` sentences of a split (all by default) with their gold spans.
+
+    Skips the calling test when the MAMS files are absent.
+    """
+    data = load_mams(split)
+    if data is None:
+        pytest.skip(SKIP_REASON)
+    return [
+        (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
+        for i, d in enumerate(data[:n])
+    ]

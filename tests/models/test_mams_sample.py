@@ -15,24 +15,13 @@ from seqeval.scheme import IOB2
 
 from extractor.models.tagger import TraitTagger, sentence_items
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob
-from extractor.types import Sentence, Span
-from tests.mams import SKIP_REASON, load_mams
+from tests.mams import mams_pairs
 
 TRAIN, TEST = 800, 400
 
 
-def sample(split: str, n: int) -> list[tuple[Sentence, list[Span]]]:
-    data = load_mams(split)
-    if data is None:
-        pytest.skip(SKIP_REASON)
-    return [
-        (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
-        for i, d in enumerate(data[:n])
-    ]
-
-
 def test_mams_sample_span_f1_by_seqeval() -> None:
-    train, test = sample("train", TRAIN), sample("test", TEST)
+    train, test = mams_pairs("train", TRAIN), mams_pairs("test", TEST)
     items = [sentence_items(s, None, None) for s, _ in train]
     tagger = TraitTagger().fit(
         [f for _, f, _ in items],

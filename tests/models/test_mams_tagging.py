@@ -15,24 +15,13 @@ from extractor.models.tagger import tag_sentences
 from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.spans import span_prf
-from extractor.types import Sentence, Span
-from tests.mams import SKIP_REASON, load_mams
+from tests.mams import mams_pairs
 
 pytestmark = pytest.mark.slow
 
 
-def gold_pairs(split: str) -> list[tuple[Sentence, list[Span]]]:
-    data = load_mams(split)
-    if data is None:
-        pytest.skip(SKIP_REASON)
-    return [
-        (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
-        for i, d in enumerate(data)
-    ]
-
-
 def test_mams_span_f1_with_clusters_reaches_target() -> None:
-    train, val, test = gold_pairs("train"), gold_pairs("val"), gold_pairs("test")
+    train, val, test = mams_pairs("train"), mams_pairs("val"), mams_pairs("test")
     texts = [(s.text, s.lang) for s, _ in train + val + test]
     start = time.perf_counter()
     clusters = learn_clusters(texts)

@@ -14,8 +14,8 @@ from extractor.models.tagger import TraitTagger, sentence_items
 from extractor.models.tagger_training import fit_tagger
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.spans import spans_to_iob
-from extractor.types import Sentence, Span
-from tests.mams import SKIP_REASON, load_mams
+from extractor.types import Sentence
+from tests.mams import mams_pairs
 from tests.models.toy import toy_gold
 
 O, B, I = "O", "B-TRAIT", "I-TRAIT"  # noqa: E741 (the IOB2 tags)
@@ -73,23 +73,13 @@ def test_the_dictionary_alone_reads_the_best_path() -> None:
     assert fit_tagger([], silver, dictionary, None, max_iterations=5).recall_threshold is None
 
 
-def mams(split: str, n: int) -> list[tuple[Sentence, list[Span]]]:
-    data = load_mams(split)
-    if data is None:
-        pytest.skip(SKIP_REASON)
-    return [
-        (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
-        for i, d in enumerate(data[:n])
-    ]
-
-
 @pytest.mark.parametrize("size", [100, 200])
 def test_recall_decoding_lifts_span_f1_on_few_mams_labels(size: int) -> None:
     # MAMS aspect terms (Jiang et al., EMNLP-IJCNLP 2019, Apache-2.0): the first `size`
     # train sentences, no dictionary or clusters, scored on the first 400 test sentences
     # by seqeval (strict IOB2). Project measurement: F1 0.601 -> 0.610 at 100 sentences
     # (recall 0.541 -> 0.694), 0.624 -> 0.646 at 200 (recall 0.543 -> 0.671).
-    train, test = mams("train", size), mams("test", 400)
+    train, test = mams_pairs("train", size), mams_pairs("test", 400)
     items = [sentence_items(s, None, None) for s, _ in train]
     y = [spans_to_iob(o, spans) for (o, _, _), (_, spans) in zip(items, train, strict=True)]
     tagger = TraitTagger().fit([f for _, f, _ in items], y)
