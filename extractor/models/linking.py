@@ -2,8 +2,12 @@
 
 Four scorers (:mod:`extractor.models.link_scoring`: exact, fuzzy, context and semantic) give
 each candidate concept a number in ``[0, 1]``. Surface forms of the analyst's links join
-the aliases, so a phrasing seen once links exactly the next time (the words of dictionary
-links do not: :data:`DICTIONARY_FORMS`). A small logistic *combiner* turns the four
+the aliases, so a phrasing seen once links exactly the next time. The words of dictionary
+links do not: they are an alias's by construction, except where the stemmer joins
+different words ("amarillo" and the alias "amarillamiento", "yellow" and "yellowing"), and
+there, with the sentence being linked among the unlabelled ones, its own words became a
+form of the wrong concept, with exact, fuzzy and semantic scores of 1 (DEVELOPERS.md,
+"Spans and links of the demo triples"). A small logistic *combiner* turns the four
 scores into the probability that a candidate is right. With at least
 :data:`MIN_COMBINER_EXAMPLES` links given by the analyst it is fitted on out-of-fold
 scores of all linked examples (each fold's scorers never saw the example), so its output
@@ -57,16 +61,6 @@ score 0.75) gives about 0.78, a cosine of 0.8 (score 0.5) about 0.38, 0.75 (0.37
 about 0.2, below the threshold: a near neighbour that is no translation
 ("sequía"/"drought" is 0.73) needs a second score's support. It applies only below
 :data:`MIN_COMBINER_EXAMPLES` links by the analyst.
-"""
-
-DICTIONARY_FORMS = False
-"""Whether the words of dictionary links join the forms of their concepts (as the analyst's do).
-
-They do not: a dictionary link's words are an alias's by construction, except where the
-stemmer joins different words ("amarillo" and the alias "amarillamiento", "limpio" and
-"limpia", "yellow" and "yellowing"), and there, with the sentence being linked among the
-unlabelled ones, its own words became a form of the wrong concept: exact, fuzzy and
-semantic scores of 1 (DEVELOPERS.md, "Spans and links of the demo triples").
 """
 
 _FORMAT = "trait-extractor/linker/1"
@@ -155,8 +149,7 @@ class ConceptLinker(BaseEstimator):
             alias_list.append((str(concept), str(text).strip(), str(lang or "")))
         examples = list(examples)
         n_gold = len(examples) if gold_examples is None else gold_examples
-        # Only the analyst's links lend their words as forms (see DICTIONARY_FORMS).
-        own = examples if DICTIONARY_FORMS else examples[:n_gold]
+        own = examples[:n_gold]  # only the analyst's links lend their words as forms
         forms = alias_list + example_forms(own)
         if not forms:
             raise InputError(
@@ -196,7 +189,7 @@ class ConceptLinker(BaseEstimator):
             context = fit_context(
                 [features[i] for i in train_idx], [c for _, _, c in train], self.C
             )
-            own = train if DICTIONARY_FORMS else [examples[i] for i in train_idx if i < n_gold]
+            own = [examples[i] for i in train_idx if i < n_gold]
             scorer = Scorer.build(aliases + example_forms(own), context, self.space)
             cands_per_item = scorer.candidates(
                 [(s, sp) for s, sp, _ in held], [features[i] for i in test_idx]

@@ -56,17 +56,21 @@ def _model_features(
     """
     f = stance_features(sentence, span, cues, codebook)
     stance = rule_stance(f)[0]
-    f[f"rule_q={stance}" if question_only(f) else f"rule={stance}"] = 1.0
+    f[f"rule_q={stance}" if question_only(f, stance) else f"rule={stance}"] = 1.0
     return f
 
 
-def question_only(features: Mapping[str, float]) -> bool:
-    """Return whether :func:`rule_stance` takes its stance from the question's lean alone.
+def question_only(features: Mapping[str, float], stance: str) -> bool:
+    """Return whether :func:`rule_stance` took ``stance`` from the question's lean alone.
 
     True when the rules give a stance but would give none with the question unknown:
     no cue, negation, contrast or comparison around the mention decided it.
+
+    Args:
+        features: The mention's :func:`stance_features`.
+        stance: What :func:`rule_stance` answers for them (the caller has it already).
     """
-    if rule_stance(features)[0] == "neutral":
+    if stance == "neutral":
         return False
     return cue_rule({k: v for k, v in features.items() if not k.startswith("q_")})[0] == "neutral"
 

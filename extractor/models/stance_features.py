@@ -157,7 +157,7 @@ def _indifference_features(p: Parsed, where: _Where, f: _Features) -> None:
             continue
         closes = j == n or p.words[j] in PUNCT_BOUNDARY
         after = b <= i <= b + 2 and all(p.words[k] in PUNCT_BOUNDARY for k in range(b, i))
-        if lo <= i and j <= hi or (after and closes):
+        if (lo <= i and j <= hi) or (after and closes):
             f["indifferent"] += 1.0
 
 

@@ -215,7 +215,7 @@ def test_the_question_alone_decides_where_neutral_mentions_hide_in_real_maize_an
         sentence = Sentence(n, g["text"], "en", g["question"])
         for s in g["spans"]:
             f = stance_features(sentence, Span(s["start"], s["end"]), CUES, maize.CODEBOOK)
-            by_source[question_only(f)][s["stance"]] += 1
+            by_source[question_only(f, rule_stance(f)[0])][s["stance"]] += 1
 
     def neutral_share(counts: Counter[str]) -> float:
         return counts["neutral"] / sum(counts.values())
