@@ -13,10 +13,15 @@ batch together:
   function from the scale factors, in CRFsuite's order of floating-point operations.
 
 So paths, marginals and probabilities equal python-crfsuite's (tests compare them on open
-data). The model file layout read here is that of CRFsuite's ``crf1d`` model writer (a
-48-byte header, the label and attribute string tables, and a feature array of
-``type, source, destination, weight``); a file of another layout raises ``ValueError``
-and the caller decodes with python-crfsuite instead.
+data). A ``temperature`` T other than 1 divides every state and transition score by T
+before marginals and probabilities are computed (calibration, see
+:mod:`~extractor.models.tagger_calibration`); the best path is found on the scores as
+trained, so it never changes.
+
+The model file layout read here is that of CRFsuite's ``crf1d`` model writer (a 48-byte
+header, the label and attribute string tables, and a feature array of ``type, source,
+destination, weight``); a file of another layout raises ``ValueError`` and the caller
+decodes with python-crfsuite instead.
 """
 
 from __future__ import annotations
@@ -151,13 +156,16 @@ class CrfDecoder:
         index.zero = n_attrs
         return cls([names[i] for i in range(n_labels)], index, state, trans)
 
-    def decode(self, X: Sequence[Sequence[Token]]) -> list[Decoded]:
+    def decode(self, X: Sequence[Sequence[Token]], *, temperature: float = 1.0) -> list[Decoded]:
         """Decode sentences given as attribute names per token (python-crfsuite's weight-1 form).
 
         A token is a tuple of attribute names, or such a tuple split in two
         (:data:`~extractor.nlp.features.SplitAttributes`). An empty sentence gives an
-        empty path and probability 1.
+        empty path and probability 1. ``temperature`` divides all scores for the marginals
+        and the path probability (1: CRFsuite's figures, bit for bit).
         """
+        if not temperature > 0.0 or math.isinf(temperature):
+            raise ValueError(f"the temperature must be a positive number; got {temperature!r}")
         lengths = np.array([len(x) for x in X], dtype=np.intp)
         out = [Decoded([], np.zeros((0, len(self.labels))), 1.0)] * len(X)
         if not lengths.sum():
@@ -170,9 +178,14 @@ class CrfDecoder:
         live = [int(np.count_nonzero(ends > t)) for t in range(int(ends[0]))]
         rows = [starts[:n] + t for t, n in enumerate(live)]
         paths = self._viterbi(state, rows, live, len(X))
-        alpha, beta, scale = self._forward_backward(np.exp(state), rows, live)
-        marginals = alpha * beta / scale[:, None]
         score = self._path_scores(state, paths, rows, live)
+        exp_trans = self._exp_trans
+        if temperature != 1.0:
+            state = state / temperature
+            exp_trans = np.exp(self._trans / temperature)
+            score = score / temperature
+        alpha, beta, scale = self._forward_backward(np.exp(state), exp_trans, rows, live)
+        marginals = alpha * beta / scale[:, None]
         log_scale = [math.log(v) for v in scale.tolist()]
         for k, s in enumerate(order.tolist()):
             first, n = int(starts[k]), int(ends[k])
@@ -283,10 +296,9 @@ class CrfDecoder:
         return paths
 
     def _forward_backward(
-        self, exp_state: np.ndarray, rows: list[np.ndarray], live: list[int]
+        self, exp_state: np.ndarray, exp_trans: np.ndarray, rows: list[np.ndarray], live: list[int]
     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Return scaled forward and backward scores and the scale factors (token order)."""
-        exp_trans = self._exp_trans
         n_labels = len(self.labels)
         alpha = np.empty_like(exp_state)
         beta = np.empty_like(exp_state)

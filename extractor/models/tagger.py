@@ -97,6 +97,9 @@ class TraitTagger(BaseEstimator):
             shuffle, so that the same data gives the same model.
         recall_threshold: Add to the best path the tokens of TRAIT probability at least
             this (:mod:`~extractor.models.recall_decoding`; ``fit_tagger`` sets it).
+        temperature: Divides every weight before marginals and path probabilities are
+            computed (:mod:`~extractor.models.tagger_calibration`; ``fit_tagger`` fits it);
+            best paths do not depend on it. CRFsuite's own tagger (dict features) ignores it.
     """
 
     def __init__(
@@ -110,6 +113,7 @@ class TraitTagger(BaseEstimator):
         algorithm: str = "l2sgd",
         random_state: int = 0,
         recall_threshold: float | None = None,
+        temperature: float = 1.0,
     ) -> None:
         self.c1 = c1
         self.c2 = c2
@@ -119,6 +123,7 @@ class TraitTagger(BaseEstimator):
         self.algorithm = algorithm
         self.random_state = random_state
         self.recall_threshold = recall_threshold
+        self.temperature = temperature
 
     def fit(self, X: Sequence[Features], y: Sequence[Sequence[str]]) -> TraitTagger:
         """Train on feature sequences ``X`` and their IOB2 tag sequences ``y``.
@@ -199,7 +204,7 @@ class TraitTagger(BaseEstimator):
         decoder = self._decoder()
         if decoder is not None:
             try:
-                decoded = decoder.decode(X)  # type: ignore[arg-type]
+                decoded = decoder.decode(X, temperature=self.temperature)  # type: ignore[arg-type]
             except TypeError:
                 pass  # {name: value} dicts: CRFsuite reads them
             else:
@@ -481,7 +486,9 @@ def tag_sentences(
             paths = tagger.predict([feats for _, feats, _ in items])
         else:
             rows = [_sentence_rows(s, dictionary, clusters, decoder.index) for s in sentences]
-            decoded = decoder.decode([feats for _, feats, _ in rows])
+            decoded = decoder.decode(
+                [feats for _, feats, _ in rows], temperature=tagger.temperature
+            )
             paths = [_tag_path(d, decoder.labels, tagger.recall_threshold) for d in decoded]
             items = [(offsets, [], matches) for offsets, _, matches in rows]
             # Features gone before the collector resumes: it then scans the results alone.

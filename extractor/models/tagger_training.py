@@ -62,6 +62,7 @@ from typing import Any, TypeVar
 from extractor.errors import InputError
 from extractor.models.recall_decoding import RECALL_BELOW, RECALL_THRESHOLD
 from extractor.models.tagger import Features, TraitTagger, sentence_items
+from extractor.models.tagger_calibration import NEEDS_CALIBRATION, cross_fitted_temperature
 from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.features import Attributes, Clusters
 from extractor.nlp.spans import OUTSIDE, iob_to_spans, spans_to_iob
@@ -85,6 +86,7 @@ def fit_tagger(
     self_rounds: int = 1,
     recall_threshold: float | None = RECALL_THRESHOLD,
     recall_below: int = RECALL_BELOW,
+    calibrate: bool | None = None,
     **params: Any,
 ) -> TraitTagger:
     """Train a tagger from gold-labelled sentences and dictionary-labelled silver sentences.
@@ -114,6 +116,11 @@ def fit_tagger(
             (:mod:`extractor.models.recall_decoding`); ``None`` never.
         recall_below: The number of gold sentences from which the tagger's best path alone
             is read.
+        calibrate: Fit the temperature of the tagger's probabilities (and of the gold
+            model that judges silver sentences) by cross-fitting on the gold sentences
+            (:mod:`~extractor.models.tagger_calibration`); ``None``: when the trainer is
+            not trained for likelihood (``tagger_calibration.NEEDS_CALIBRATION``) and
+            ``params`` set no temperature.
         **params: Arguments of :class:`TraitTagger`.
 
     Returns:
@@ -129,6 +136,9 @@ def fit_tagger(
         )
     if gold_weight < 1:
         raise InputError(f"gold_weight must be a whole number of at least 1; got {gold_weight!r}.")
+    if calibrate is None:
+        algorithm = TraitTagger(**params).get_params()["algorithm"]
+        calibrate = algorithm in NEEDS_CALIBRATION and "temperature" not in params
     X: list[list[Attributes]] = []
     y: list[list[str]] = []
     for sentence, spans in gold:
@@ -153,24 +163,32 @@ def fit_tagger(
             silver_filter,
             silver_threshold,
             _judge_params(params, gold_weight),
+            calibrate,
         )
     elif self_sentences:
         sample = _sample(silver_sentences, self_sentences)
         unmatched = [sentence_items(s, None, clusters)[1] for s in sample]
     has_gold_traits = any(t != OUTSIDE for tags in y for t in tags)
     if self_sentences and self_rounds and unmatched and has_gold_traits:
-        judge = TraitTagger(**_judge_params(params, gold_weight)).fit(gold_plain, y[::gold_weight])
+        judge = _fit_judge(
+            _judge_params(params, gold_weight), gold_plain, y[::gold_weight], calibrate
+        )
         pool = _sample(unmatched, self_sentences)
         for round_no in range(self_rounds):
             ex, ey = _self_labelled(judge, pool, self_threshold)
             if round_no + 1 < self_rounds:
                 judge = TraitTagger(**params).fit(X + sx + ex, y + sy + ey)
         sx, sy = sx + ex, sy + ey
+    gold_X, gold_y = X[::gold_weight], y[::gold_weight]
     if not sx:
         # The weight is relative to silver sentences; without any, repeating the gold
         # ones would only change the SGD schedule, which max_iterations controls.
-        X, y = X[::gold_weight], y[::gold_weight]
+        X, y = gold_X, gold_y
     tagger = TraitTagger(**params).fit(X + sx, y + sy)
+    if calibrate:
+        tagger.temperature = cross_fitted_temperature(
+            params, gold_X, gold_y, weight=gold_weight if sx else 1, extra_X=sx, extra_y=sy
+        )
     if 0 < len(gold) < recall_below:
         tagger.recall_threshold = recall_threshold
     tagger.clusters_fingerprint_ = clusters.get("fingerprint") if clusters else None
@@ -200,6 +218,16 @@ def _judge_params(params: Mapping[str, Any], gold_weight: int) -> dict[str, Any]
     }
 
 
+def _fit_judge(
+    params: Mapping[str, Any], X: Sequence[Features], y: Sequence[Sequence[str]], calibrate: bool
+) -> TraitTagger:
+    """Return the gold model that judges silver sentences, calibrated when asked."""
+    judge = TraitTagger(**params).fit(X, y)
+    if calibrate:
+        judge.temperature = cross_fitted_temperature(params, X, y)
+    return judge
+
+
 def _silver(
     sentences: Sequence[Sentence],
     dictionary: Dictionary,
@@ -209,6 +237,7 @@ def _silver(
     silver_filter: str,
     threshold: float,
     params: Mapping[str, Any],
+    calibrate: bool = False,
 ) -> tuple[list[list[Attributes]], list[list[str]], list[list[Attributes]]]:
     """Return features and dictionary labels of the silver sentences kept by the filter.
 
@@ -225,7 +254,7 @@ def _silver(
     has_gold_traits = any(t != OUTSIDE for tags in gold_y for t in tags)
     if silver_filter == "matched" or not has_gold_traits or not items:
         return [f for _, f, _ in items], [spans_to_iob(o, m) for o, _, m in items], unmatched
-    judge = TraitTagger(**params).fit(judge_X, gold_y)
+    judge = _fit_judge(params, judge_X, gold_y, calibrate)
     X, y = [], []
     for (offsets, feats, matches), path in zip(
         items, judge.predict([f for _, f, _ in items]), strict=True
