@@ -11,6 +11,11 @@ gain in points of the tool's decoding over the tagger's best path alone
 the pairing is exact; absent where the model did not decode for recall); and the gain
 over the ``--against`` strategy's same repeat, with the tool's decoding and with the best
 path alone. A gain is its mean, sd, repeats won and worst repeat.
+
+``--baseline OTHER.json`` also pairs each strategy with the same strategy's same repeat in
+another results file (``vs_baseline``), e.g. a model change against the main branch's run
+of the same command: repeats draw their seed sentences from the same seeds, so the pairing
+holds by repeat (exactly for ``random``, whose picks do not depend on the model).
 """
 
 from __future__ import annotations
@@ -38,11 +43,10 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("results", help="JSON written by traits simulate --out")
     parser.add_argument("--against", default="random", help="strategy to pair with")
+    parser.add_argument("--baseline", help="another results file to pair with, by repeat")
     args = parser.parse_args()
-    runs = json.loads(Path(args.results).read_text(encoding="utf-8"))["runs"]
-    table: dict[tuple[str, int], dict[int, dict[str, Any]]] = {}
-    for run in runs:
-        table.setdefault((run["strategy"], run["budget"]), {})[run["repeat"]] = run
+    table = _table(args.results)
+    baseline = _table(args.baseline) if args.baseline else {}
     for (strategy, budget), by_repeat in sorted(table.items()):
         repeats = sorted(by_repeat)
         f1 = [by_repeat[r]["span_f1"] or 0.0 for r in repeats]
@@ -66,7 +70,25 @@ def main() -> None:
             ]
             line["vs_" + args.against] = paired(f1, base)
             line["vs_" + args.against + "_best_path"] = paired(best, base_path)
+        before = baseline.get((strategy, budget))
+        if before and sorted(before) == repeats:
+            line["baseline_f1"] = round(
+                statistics.fmean(before[r]["span_f1"] or 0.0 for r in repeats), 4
+            )
+            line["vs_baseline"] = paired(f1, [before[r]["span_f1"] or 0.0 for r in repeats])
+            before_path = [
+                before[r].get("span_f1_best_path") or before[r]["span_f1"] or 0.0 for r in repeats
+            ]
+            line["vs_baseline_best_path"] = paired(best, before_path)
         print(json.dumps(line))
+
+
+def _table(path: str) -> dict[tuple[str, int], dict[int, dict[str, Any]]]:
+    """Return a results file's runs by strategy and budget, then by repeat."""
+    table: dict[tuple[str, int], dict[int, dict[str, Any]]] = {}
+    for run in json.loads(Path(path).read_text(encoding="utf-8"))["runs"]:
+        table.setdefault((run["strategy"], run["budget"]), {})[run["repeat"]] = run
+    return table
 
 
 if __name__ == "__main__":
