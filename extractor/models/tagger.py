@@ -79,10 +79,8 @@ class TraitTagger(BaseEstimator):
     Args:
         c1: L1 regularisation (sparse weights).
         c2: L2 regularisation.
-        max_iterations: Epochs of SGD, or L-BFGS iterations. 30 epochs: 0.755 on MAMS test
-            (100: 0.758, 40% slower), 0.560 in 5-fold CV on the demo gold. 50 won 3-fold
-            CV on MAMS train (0.7582 against 0.7506) but scored 0.7416 on test against
-            0.7572 and trains 2/3 longer (``tests/bench/tagger_cv.py``).
+        max_iterations: Epochs of SGD or the perceptron, or L-BFGS iterations. 50 SGD epochs
+            won CV on MAMS train but lost on test (DEVELOPERS.md, "Tagger figures").
         min_freq: Ignore features seen fewer times in training.
         all_possible_transitions: Learn weights for unseen transitions too, so that
             ``O`` -> ``I-TRAIT`` gets a negative weight.
@@ -90,16 +88,14 @@ class TraitTagger(BaseEstimator):
             used by ``lbfgs`` only and ``c2`` by ``lbfgs`` and ``l2sgd``. The default,
             SGD with L2 (``c2=2.0``, 30 epochs), scored about 0.755 strict span F1 on
             MAMS against 0.728-0.733 for L-BFGS at the settings tried, and trains faster.
-            ``c2`` 4 and 8 gained 0.4 and 0.6 points in cross-validation on the full
-            MAMS train split but lost 1 and 2 points trained on 800 sentences, the
-            tool's regime of few labels; 1 lost 0.6 points.
+            ``c2`` 4 and 8 gained in CV on MAMS train but lost trained on 800 sentences.
+            The averaged perceptron (``ap``) needs calibrating (``temperature``).
         random_state: Seed of the C library's ``rand``, which CRFsuite's SGD uses to
             shuffle, so that the same data gives the same model.
         recall_threshold: Add to the best path the tokens of TRAIT probability at least
             this (:mod:`~extractor.models.recall_decoding`; ``fit_tagger`` sets it).
-        temperature: Divides every weight before marginals and path probabilities are
-            computed (:mod:`~extractor.models.tagger_calibration`; ``fit_tagger`` fits it);
-            best paths do not depend on it. CRFsuite's own tagger (dict features) ignores it.
+        temperature: Divides every weight for marginals and path probabilities, not paths
+            (:mod:`~extractor.models.tagger_calibration`); CRFsuite's tagger ignores it.
     """
 
     def __init__(
@@ -486,9 +482,8 @@ def tag_sentences(
             paths = tagger.predict([feats for _, feats, _ in items])
         else:
             rows = [_sentence_rows(s, dictionary, clusters, decoder.index) for s in sentences]
-            decoded = decoder.decode(
-                [feats for _, feats, _ in rows], temperature=tagger.temperature
-            )
+            X = [feats for _, feats, _ in rows]
+            decoded = decoder.decode(X, temperature=tagger.temperature)
             paths = [_tag_path(d, decoder.labels, tagger.recall_threshold) for d in decoded]
             items = [(offsets, [], matches) for offsets, _, matches in rows]
             # Features gone before the collector resumes: it then scans the results alone.

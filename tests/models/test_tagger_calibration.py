@@ -13,6 +13,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 import pycrfsuite
 import pytest
@@ -100,7 +102,7 @@ def _val_figures(tagger: TraitTagger, X: list, y: list) -> tuple[float, float]:
 
 def test_fitted_temperature_lowers_held_out_log_loss_and_calibration_error(mams: tuple) -> None:
     X, y, held_X, held_y = mams
-    params = {"algorithm": "ap", "max_iterations": 5}
+    params: dict[str, Any] = {"algorithm": "ap", "max_iterations": 5}
     tagger = TraitTagger(**params).fit(X, y)
     tagger.temperature = cross_fitted_temperature(params, X, y)
     assert tagger.temperature > 2.0  # the perceptron's weights are far too sure of themselves
