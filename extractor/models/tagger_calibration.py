@@ -2,7 +2,7 @@
 
 CRFsuite's averaged perceptron (``ap``) finds good paths but is not trained for
 likelihood: its weights are large, so its token marginals and path probabilities sit at 0
-and 1 (median path probability 1.000 on MAMS test against 0.257 with SGD). Uncertainty
+and 1 (median path probability on MAMS test 0.999-1.000 against 0.24-0.35 with SGD). Uncertainty
 sampling then sees ties, and thresholds on probabilities (the silver judge's, recall
 decoding's) mean nothing. Temperature scaling divides every weight by one number T before
 marginals are computed (Guo et al. 2017, "On calibration of modern neural networks", for
@@ -44,7 +44,8 @@ BOUNDS = (0.05, 500.0)
 
 FALLBACK = {"ap": 18.0}
 """The temperature of a trainer when there are too few gold sentences to fit one; 1 for
-trainers not named (SGD and L-BFGS are trained for likelihood)."""
+trainers not named (SGD and L-BFGS are trained for likelihood). For ``ap`` (5 epochs), the
+fitted temperatures on MAMS were 16.0-18.8 at 100 and 200 sentences (27 on all 4,297)."""
 
 NEEDS_CALIBRATION = frozenset({"ap", "pa", "arow"})
 """Trainers not trained for likelihood, whose probabilities ``fit_tagger`` calibrates."""
