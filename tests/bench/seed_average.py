@@ -90,7 +90,7 @@ def main() -> None:
     train = items("train")
     test = [(o, f, g) for o, f, g, _ in items("test")]
     for size in (int(x) for x in args.sizes.split(",")):
-        rows = []
+        rows: list[dict[str, Any]] = []
         for draw in range(args.draws if size else 1):
             order = list(range(len(train)))
             if size:
@@ -106,7 +106,7 @@ def main() -> None:
                 for seed in range(args.seeds)
             ]
             singles = [f1(d, test, recall) for d in decoders]
-            row = {
+            row: dict[str, Any] = {
                 "size": size,
                 "draw": draw,
                 "seeds": [round(s, 4) for s in singles],
