@@ -14,8 +14,9 @@ from typing import NamedTuple
 
 from extractor.errors import InputError
 from extractor.models.bundle import SentencePrediction
-from extractor.models.cues import packaged_cues, rule_stance
+from extractor.models.cues import packaged_cues
 from extractor.models.stance_features import stance_features
+from extractor.models.stance_rules import rule_stance
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
 from extractor.types import STANCES, Implicit, Sentence, Span
@@ -51,7 +52,7 @@ def default_stance(
     """Return the stance to offer for newly marked words ``sentence.text[start:end]``.
 
     The model's stance of the predicted mention that overlaps the words most, when there
-    is one; otherwise the cue rules' answer (:func:`~extractor.models.cues.rule_stance`),
+    is one; otherwise the cue rules' answer (:func:`~extractor.models.stance_rules.rule_stance`),
     whose last resort is the lean of the question the answer replied to ("What do you
     dislike about it?" leans disliked).
     """

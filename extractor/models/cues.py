@@ -1,11 +1,11 @@
-"""The stance cue lexicon: loading it, matching it in a sentence, and the rules over it.
+"""The stance cue lexicon: loading it and matching it in a sentence.
 
 The cue lexicon is data (``extractor/models/data/stance_cues.json``) that users extend
 with their own file through :func:`load_cues`. A sentence is read once per lexicon
 (:func:`parse`): its tokens, the cue matches of every category, clause boundaries and a
 NegEx-style negation scope (pre- and post-triggers, pseudo-triggers excluded, scope
-ending at a clause boundary; Chapman et al., 2001). Before any labels exist,
-:func:`rule_stance` gives a sensible answer from the cue features alone.
+ending at a clause boundary; Chapman et al., 2001). The rules that read stance from
+the cue features before any labels exist are in :mod:`extractor.models.stance_rules`.
 """
 
 from __future__ import annotations
@@ -17,12 +17,10 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
 from extractor.errors import InputError
 from extractor.nlp.fold import fold
 from extractor.nlp.text import primary_subtag, tokenize
-from extractor.types import STANCES, Span
+from extractor.types import Span
 
 CUES_PATH = Path(__file__).parent / "data" / "stance_cues.json"
 """The packaged cue lexicon."""
@@ -404,96 +402,3 @@ def segment(parsed: Parsed, a: int, b: int) -> tuple[int, int]:
     while hi < len(parsed.words) and not (parsed.contrast[hi] or parsed.words[hi] in SENTENCE_END):
         hi += 1
     return lo, hi
-
-
-# --------------------------------------------------------------------------- rules
-
-
-def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
-    """Return a stance and a confidence from cue features alone (the cold-start answer).
-
-    The rules, first match wins: a negated wish is disliked; a wish before the span
-    or in its clause is wanted; excess is disliked; a span held off by a resistance
-    word ("drought tolerant") is liked; a negated fault word in the span
-    is liked and a negated good word disliked; then the net polarity of cues in the
-    clause, then of cue words inside the span ("then they spoil", "cozinha
-    rápido"), then in the contrast segment, then the opposite of the other side of a
-    contrast; a negated span with no cue is disliked (the trait is missing), unless the
-    question asked only for what is liked (then the trait is a fault it lacks); the
-    praised side of a comparison is liked (the lowered side disliked); then the
-    question's lean (a codebook direction, or the question's cue words); else neutral.
-    Last, a trait read as liked in reply to a question that asks only for wishes ("what
-    would you change?", "which variety would you try?") is wanted: the answer praises
-    what the respondent hopes for, not what the variety has.
-
-    Args:
-        features: Features from :func:`extractor.models.stance.stance_features`.
-
-    Returns:
-        ``(stance, confidence)`` with confidence in ``[0.4, 0.85]``.
-    """
-    stance, conf = cue_rule(features)
-    g = features.get
-    if stance == "liked" and g("q_wanted", 0) and not g("q_liked", 0) and not g("q_disliked", 0):
-        # Asked only what they wish for, a trait praised is one wanted: "which variety
-        # would you try? - whatever is cheap", "one that does not give gas".
-        return "wanted", 0.6
-    return stance, conf
-
-
-def cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
-    """Return :func:`rule_stance`'s answer before the question's wish lean is applied.
-
-    Without the ``q_*`` features: what the words around the mention alone decide.
-    """
-    g = features.get
-    if g("wanted_neg", 0) and not g("wanted_before", 0) and not g("wanted_clause", 0):
-        return "disliked", 0.6
-    if g("wanted_before", 0) or g("wanted_clause", 0):
-        return "wanted", 0.75
-    if g("excess_near", 0) or g("excess", 0):
-        return "disliked", 0.75 if g("excess_near", 0) else 0.65
-    if g("span_resisted", 0):
-        return "liked", 0.7
-    if g("span_negated_fault", 0):
-        return "liked", 0.7
-    if g("span_negated_good", 0):
-        return "disliked", 0.7
-    score = g("clause_liked", 0) - g("clause_disliked", 0)
-    if score:
-        return ("liked" if score > 0 else "disliked"), min(0.6 + 0.1 * abs(score), 0.85)
-    if g("indifferent", 0):
-        # "no importa el color", "rouge ou tacheté, peu importe", "it depends on the price":
-        # the trait is named as not deciding anything, neither welcome nor a fault.
-        return "neutral", 0.6
-    own = g("span_good", 0) - g("span_fault", 0)
-    if own:
-        return ("liked" if own > 0 else "disliked"), 0.6
-    seg = g("seg_liked", 0) - g("seg_disliked", 0)
-    if seg:
-        return ("liked" if seg > 0 else "disliked"), 0.55
-    if g("after_contrast", 0) or g("before_contrast", 0):
-        if g("other_side_liked", 0):
-            return "disliked", 0.55
-        if g("other_side_disliked", 0):
-            return "liked", 0.55
-    if g("span_negated", 0):
-        if g("q_liked", 0) and not g("q_disliked", 0) and not g("q_wanted", 0):
-            # Asked what is good about it, a trait said to be absent is a fault it lacks:
-            # "why do you buy it? - it does not give gas".
-            return "liked", 0.55
-        return "disliked", 0.55
-    if g("comparison", 0) and g("span_before_marker", 0):
-        return ("disliked" if g("comparison_less", 0) else "liked"), 0.55
-    for q, stance in (("q_wanted", "wanted"), ("q_disliked", "disliked"), ("q_liked", "liked")):
-        if g(q, 0):
-            return stance, 0.5
-    return "neutral", 0.4
-
-
-def rule_proba(features: Mapping[str, float]) -> np.ndarray:
-    """Return :func:`rule_stance` as a distribution over :data:`~extractor.types.STANCES`."""
-    stance, conf = rule_stance(features)
-    out = np.full(len(STANCES), (1.0 - conf) / (len(STANCES) - 1))
-    out[STANCES.index(stance)] = conf
-    return out

@@ -2,7 +2,7 @@
 
 :class:`StanceModel` is a logistic regression over the span-relative features of
 :mod:`extractor.models.stance_features` plus the cue rules' own answer
-(:func:`extractor.models.cues.rule_stance`), so it learns how far to trust the rules,
+(:func:`extractor.models.stance_rules.rule_stance`), so it learns how far to trust the rules,
 and the pretrained encoder's vectors of the mention's own context (its clause, its
 share of the sentence, its words, the two words either side, its neighbours' shares:
 :mod:`extractor.models.stance_context`), so what it learns from labels in one language
@@ -23,17 +23,11 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
 from extractor.errors import InputError
-from extractor.models.cues import (
-    Cues,
-    cue_rule,
-    load_cues,
-    packaged_cues,
-    rule_proba,
-    rule_stance,
-)
+from extractor.models.cues import Cues, load_cues, packaged_cues
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
 from extractor.models.stance_context import DEFAULT_BLOCKS, OLD_BLOCKS, context_vectors
 from extractor.models.stance_features import Codebook, stance_features
+from extractor.models.stance_rules import cue_rule, rule_proba, rule_stance
 from extractor.nlp import pretrained
 from extractor.types import STANCES, QuestionCode, Sentence, Span
 
@@ -79,7 +73,7 @@ class StanceModel(BaseEstimator):
     """A logistic regression over span-relative stance features.
 
     Until :meth:`fit` is called, :meth:`predict` and :meth:`predict_proba_many`
-    answer with :func:`~extractor.models.cues.rule_stance` (cold start); an unfitted
+    answer with :func:`~extractor.models.stance_rules.rule_stance` (cold start); an unfitted
     model saves and loads too, and keeps answering with the rules.
 
     Args:

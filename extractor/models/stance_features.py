@@ -7,7 +7,7 @@ does not rot": a fault under negation reads as liked) or qualified by excess ("t
 small"). Everything else is relative to the span: cue words before and after it
 inside its clause, the negation scope (:mod:`extractor.models.cues`), the side of a
 contrast ("but") the span sits on, comparisons, wishes, and the question the answer
-replied to. The cue rules (:func:`extractor.models.cues.rule_stance`) and the learned
+replied to. The cue rules (:func:`extractor.models.stance_rules.rule_stance`) and the learned
 :class:`extractor.models.stance.StanceModel` both read these features.
 """
 
@@ -63,7 +63,7 @@ def stance_features(
 ) -> dict[str, float]:
     """Return the stance features of a mention, all relative to the span.
 
-    Named features (used by :func:`~extractor.models.cues.rule_stance` and the model)
+    Named features (used by :func:`~extractor.models.stance_rules.rule_stance` and the model)
     count cue words before and after the span inside its clause (``cue_liked_before``,
     ``cue_disliked_after_neg`` when negated...), their net polarity (``clause_liked``,
     ``clause_disliked``), cues elsewhere in the same contrast segment (``seg_liked``...),

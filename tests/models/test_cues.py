@@ -8,8 +8,9 @@ from pathlib import Path
 import pytest
 
 from extractor.errors import InputError
-from extractor.models.cues import has_stance_cues, load_cues, rule_stance
+from extractor.models.cues import has_stance_cues, load_cues
 from extractor.models.stance_features import stance_features
+from extractor.models.stance_rules import rule_stance
 from tests.models.toy import CUES
 from tests.models.toy import features as _features
 from tests.models.toy import mention as _mention

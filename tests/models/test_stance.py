@@ -11,9 +11,9 @@ import pytest
 from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError
-from extractor.models.cues import rule_stance
 from extractor.models.stance import StanceModel, _model_features, codebook_params, question_only
 from extractor.models.stance_features import stance_features
+from extractor.models.stance_rules import rule_stance
 from extractor.types import STANCES, Sentence, Span
 from tests import maize
 from tests.mams import SKIP_REASON, load_mams

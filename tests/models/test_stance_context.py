@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 import extractor.models.stance as stance_module
-from extractor.models.cues import STANCE_CATEGORIES, lexicon, parse, rule_stance, span_tokens
+from extractor.models.cues import STANCE_CATEGORIES, lexicon, parse, span_tokens
 from extractor.models.stance import StanceModel
 from extractor.models.stance_context import (
     BLOCKS,
@@ -21,6 +21,7 @@ from extractor.models.stance_context import (
     context_vectors,
     region_bounds,
 )
+from extractor.models.stance_rules import rule_stance
 from extractor.nlp import pretrained
 from extractor.types import Sentence, Span
 from tests.mams import SKIP_REASON, load_mams

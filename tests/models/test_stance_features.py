@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import pytest
 
-from extractor.models.cues import lexicon, rule_stance
+from extractor.models.cues import lexicon
 from extractor.models.stance_features import question_features, stance_features
+from extractor.models.stance_rules import rule_stance
 from extractor.types import QuestionCode, Sentence, Span
 from tests.mams import SKIP_REASON, load_mams
 from tests.models.toy import CUES, mention
