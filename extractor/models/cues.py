@@ -30,7 +30,7 @@ CUE_CATEGORIES = (
     "resistance_pre", "resistance_post",
     "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
     "comparison_marker", "question_liked", "question_disliked", "question_wanted",
-    "question_reason", "indifference",
+    "question_reason", "indifference", "preference", "relative",
 )  # fmt: skip
 """The categories a language section of the cue lexicon may hold."""
 

@@ -47,11 +47,22 @@ def _model_features(
     1500 a bag" in reply to "what do you dislike?" is neutral), cue words confuse
     liked and disliked. On our maize labels (real answers, codebook) gold neutral is
     11 of 153 mentions the lean alone decides and 3 of 253 the words decide.
+    ``rule_against_q`` marks words that decide against the question's one lean, so
+    the model can learn how far such answers depart from the lean.
     """
     f = stance_features(sentence, span, cues, codebook)
     stance = rule_stance(f)[0]
-    f[f"rule_q={stance}" if question_only(f, stance) else f"rule={stance}"] = 1.0
+    by_lean = question_only(f, stance)
+    f[f"rule_q={stance}" if by_lean else f"rule={stance}"] = 1.0
+    leans = {lean for key, lean in _LEANS.items() if f.get(key)}
+    if not by_lean and stance != "neutral" and len(leans) == 1 and stance not in leans:
+        # The words say otherwise than the question: "which variety would you try? - the
+        # taste is not like Kagoma" is a fault, though most answers to it are wishes.
+        f["rule_against_q"] = 1.0
     return f
+
+
+_LEANS = {"q_liked": "liked", "q_disliked": "disliked", "q_wanted": "wanted"}
 
 
 def question_only(features: Mapping[str, float], stance: str) -> bool:

@@ -101,7 +101,9 @@ def stance_features(
     _excess_features(p, where, f)
     _contrast_features(p, where, f)
     _comparison(p, lex, where, f)
-    f.update(question_features(sentence.question, lex, codebook, cues))
+    asked = question_features(sentence.question, lex, codebook, cues)
+    f.update(asked)
+    _answer_features(p, where, asked, f)
     _window_features(p, where, f)
     return dict(f)
 
@@ -145,8 +147,9 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
 def _indifference_features(p: Parsed, where: _Where, f: _Features) -> None:
     """Mark a span said not to matter ("no importa el color", "rouge ou tacheté, peu importe").
 
-    The phrase counts inside the span's clause, or after the span with only punctuation
-    between when it closes its own clause ("X, peu importe."). A phrase that goes on
+    The phrase counts inside the span's clause, or after the span or the rest of its
+    clause with only punctuation between when it closes its own clause ("X, peu
+    importe.", "rouge ou tacheté, peu importe."). A phrase that goes on
     governs something else: in "barely enough room (no matter what the size of your
     party)" the room is still a fault (MAMS gold).
     """
@@ -156,9 +159,46 @@ def _indifference_features(p: Parsed, where: _Where, f: _Features) -> None:
         if i < b and j > a:
             continue
         closes = j == n or p.words[j] in PUNCT_BOUNDARY
-        after = b <= i <= b + 2 and all(p.words[k] in PUNCT_BOUNDARY for k in range(b, i))
+        # Right after the span, or after the rest of its clause: "rouge ou tacheté, peu importe".
+        start = b if b <= i <= b + 2 else hi
+        after = start <= i <= start + 2 and all(
+            p.words[k] in PUNCT_BOUNDARY for k in range(start, i)
+        )
         if (lo <= i and j <= hi) or (after and closes):
             f["indifferent"] += 1.0
+
+
+def _answer_features(p: Parsed, where: _Where, asked: Mapping[str, float], f: _Features) -> None:
+    """Mark what the answer's words mean against the question's lean.
+
+    ``prefer_other``: asked only for faults, the answer states a preference before the
+    span ("why did you prefer it least? - she prefers dry maize"): a wish for something
+    else, not a praise of the variety (our maize labels, real answers: 12 such mentions,
+    all wanted). ``wish_relative``: asked only for wishes, the span sits in a relative or
+    complement clause ("one that does not rot", "que no pierda el color"): the clause
+    describes the variety hoped for, so a fault in it is one to be rid of.
+    """
+    a, lo, seg_lo = where.a, where.lo, where.seg_lo
+    if set(asked) == {"q_disliked"} and not f.get("span_after_marker"):
+        # "prefers food than animal feeds": the reference of the preference is no wish.
+        if any(
+            seg_lo <= i and j <= a and not p.negated[i] for i, j in p.matches.get("preference", ())
+        ):
+            f["prefer_other"] += 1.0
+    if set(asked) == {"q_wanted"}:
+        # "que" of "parce que", "ya que" belongs to a longer connective, not to a clause.
+        joined = [
+            (i, j)
+            for cat in ("termination", "clause_break", "contrast")
+            for i, j in p.matches.get(cat, ())
+            if j - i > 1
+        ]
+        for i, j in p.matches.get("relative", ()):
+            if any(x <= i and j <= y for x, y in joined):
+                continue
+            if lo <= i < a or j == lo:
+                f["wish_relative"] += 1.0
+                break
 
 
 def _negation_features(p: Parsed, where: _Where, in_span: set[str], f: _Features) -> None:

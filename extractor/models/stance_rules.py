@@ -40,10 +40,16 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     """
     stance, conf = cue_rule(features)
     g = features.get
-    if stance == "liked" and g("q_wanted", 0) and not g("q_liked", 0) and not g("q_disliked", 0):
-        # Asked only what they wish for, a trait praised is one wanted: "which variety
-        # would you try? - whatever is cheap", "one that does not give gas".
+    if g("prefer_other", 0) and stance != "wanted":
+        # Asked for faults, a preference is a wish for something else: "why did you
+        # prefer it least? - she prefers dry maize" (our maize labels: wanted).
         return "wanted", 0.6
+    if g("q_wanted", 0) and not g("q_liked", 0) and not g("q_disliked", 0):
+        # Asked only what they wish for, a trait praised is one wanted: "which variety
+        # would you try? - whatever is cheap"; so is a fault in a clause that describes
+        # the variety hoped for: "one that does not give gas", "que no pierda el color".
+        if stance == "liked" or (stance == "disliked" and g("wish_relative", 0)):
+            return "wanted", 0.6
     return stance, conf
 
 
