@@ -2,12 +2,15 @@
 
 from __future__ import annotations
 
+from collections import Counter
+
 import pytest
 
 from extractor.models.cues import lexicon
 from extractor.models.stance_features import question_features, stance_features
 from extractor.models.stance_rules import rule_stance
 from extractor.types import QuestionCode, Sentence, Span
+from tests import maize
 from tests.mams import SKIP_REASON, load_mams
 from tests.models.toy import CUES, mention
 from tests.models.toy import features as _features
@@ -227,3 +230,105 @@ def test_indifference_that_governs_something_else_leaves_the_trait_alone() -> No
 def test_indifference_gives_way_to_a_judgement_in_the_clause() -> None:
     # "good" judges the taste; the indifference is about something else of the clause.
     assert rule_stance(_features("No matter the price, the taste is good.", "taste"))[0] == "liked"
+
+
+def test_indifference_after_the_rest_of_the_clause_reads_the_trait_as_neutral() -> None:
+    # The first of two alternatives left open: "rouge ou tacheté, peu importe".
+    features = _features(
+        "Un haricot qui rapporte plus, rouge ou tacheté, peu importe.", "rouge", "fr"
+    )
+    assert features.get("indifferent") and rule_stance(features)[0] == "neutral"
+
+
+# ------------------------------------------------------------------ answers against the question
+
+WISH = "Which new variety would you try, and why?"
+FAULTS = "What do you dislike about it?"
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang"),
+    [
+        ("I would try the one that does not rot in the store.", "rot", "en"),
+        ("Una que no pierda el color en la bodega.", "pierda el color", "es"),
+        ("Une Selamine qui ne donne pas de gaz.", "gaz", "fr"),
+    ],
+    ids=["en-one-that", "es-que", "fr-qui"],
+)
+def test_a_fault_in_a_clause_describing_the_variety_hoped_for_is_wanted(
+    text: str, term: str, lang: str
+) -> None:
+    features = _features(text, term, lang, WISH)
+    assert features.get("wish_relative")
+    assert rule_stance(features)[0] == "wanted"
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang"),
+    [
+        ("I heard about it but the taste is not like the old one.", "taste", "en"),
+        ("Luz Trepadora pero no tengo varas.", "varas", "es"),
+        ("Une variété qui rend plus, le rendement de Selamine est moyen.", "rendement", "fr"),
+        ("Mais il faut des tuteurs et on n'a plus d'arbres.", "tuteurs", "fr"),
+    ],
+    ids=["en-not-like", "es-no-tengo", "fr-moyen", "fr-il-faut"],
+)
+def test_a_present_fault_in_reply_to_a_wish_question_stays_disliked(
+    text: str, term: str, lang: str
+) -> None:
+    features = _features(text, term, lang, WISH)
+    assert not features.get("wish_relative")
+    assert rule_stance(features)[0] == "disliked"
+
+
+def test_a_relative_word_of_a_longer_connective_opens_no_described_clause() -> None:
+    # "que" of "parce que" joins a reason, not a description.
+    features = _features(
+        "Zéfira, parce que le rendement de Selamine est moyen.", "rendement", "fr", WISH
+    )
+    assert not features.get("wish_relative")
+
+
+def test_il_faut_is_a_burden_and_il_faudrait_a_wish() -> None:
+    # French grammar (from memory): "il faut" states a present necessity, "il faudrait"
+    # (conditional) what would be needed.
+    now = _features("Il faut beaucoup de bois pour le cuire.", "bois", "fr")
+    hoped = _features("Il faudrait une variété précoce.", "précoce", "fr")
+    assert rule_stance(now)[0] == "disliked"
+    assert rule_stance(hoped)[0] == "wanted"
+
+
+def test_a_preference_in_reply_to_a_question_on_faults_is_a_wish() -> None:
+    # The question on faults makes a stated preference a wish for something else; under a
+    # question on merits the same words praise. The reference of a comparison is no wish.
+    other = _features("She prefers dry maize.", "dry maize", "en", FAULTS)
+    praise = _features(
+        "She prefers it for the dry maize.", "dry maize", "en", "Why did you prefer it?"
+    )
+    reference = _features(
+        "Prefers a variety for food than animal feeds.", "animal feeds", "en", FAULTS
+    )
+    assert other.get("prefer_other") and rule_stance(other)[0] == "wanted"
+    assert not praise.get("prefer_other") and rule_stance(praise)[0] != "wanted"
+    assert not reference.get("prefer_other")
+
+
+def test_preferences_in_reply_to_the_question_on_faults_are_wishes_in_real_maize_answers() -> None:
+    # Real farmer answers (maize concept testing, Kenya and Uganda, CC BY 4.0; read in place
+    # by tests/maize.py, which says how we labelled 300 of them): to "why did you prefer it
+    # least?", "the farmer prefers dry maize that can be stored" states a wish. Measured:
+    # 14 labelled mentions with a preference before them, 13 gold wanted; the rules read all
+    # 14 as wanted (before: 0 of the 13; gold-span stance at 0 labels 0.845 -> 0.874).
+    gold = maize.load_maize_gold()
+    if gold is None:
+        pytest.skip(maize.SKIP_REASON)
+    found: Counter[tuple[str, str]] = Counter()
+    for n, g in enumerate(gold):
+        sentence = Sentence(n, g["text"], "en", g["question"])
+        for s in g["spans"]:
+            f = stance_features(sentence, Span(s["start"], s["end"]), CUES, maize.CODEBOOK)
+            assert not f.get("wish_relative")  # the survey asks no question on wishes
+            if f.get("prefer_other"):
+                found[(s["stance"], rule_stance(f)[0])] += 1
+    assert sum(found.values()) >= 10
+    assert found[("wanted", "wanted")] >= 0.85 * sum(found.values())
