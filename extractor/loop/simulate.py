@@ -101,7 +101,11 @@ class _Task(NamedTuple):
     subpool: int | None
 
 
-def _fit(shared: _Shared, labeled: Sequence[int], cache: dict[int, Any]) -> Any:
+_Cache = dict[tuple[int, bool], Any]
+"""Tagger features per sentence ID and ``space_axes``, shared by the fits of one run."""
+
+
+def _fit(shared: _Shared, labeled: Sequence[int], cache: _Cache) -> Any:
     gold = [shared.pool[i] for i in labeled]
     corpus = [s for s, _ in shared.pool] + [s for s, _ in shared.test]
     model = make_models(shared.model, shared.model_params)
@@ -166,7 +170,7 @@ def _best_path_f1(model: Any, shared: _Shared) -> float | None:
 
 
 def _seed_records(
-    task: _Task, shared: _Shared, seed_set: list[int], cache: dict[int, Any], started: float
+    task: _Task, shared: _Shared, seed_set: list[int], cache: _Cache, started: float
 ) -> list[RunRecord]:
     """Score budget 0 (dictionary alone) and the budgets the seed sentences reach."""
     records = []
@@ -200,7 +204,7 @@ def _run(task: _Task) -> list[RunRecord]:
         labeled = centroid_picks(vectors, min(task.seed_size, top), seed=rng.randrange(1 << 30))
     else:
         labeled = order[: min(task.seed_size, top)]
-    cache: dict[int, Any] = {}
+    cache: _Cache = {}
     records = _seed_records(task, shared, labeled, cache, started)
     if not labeled:
         return records

@@ -49,7 +49,7 @@ class TaggerOnly(BaseEstimator):
         aliases: Sequence[Alias],
         *,
         clusters: dict[str, Any] | None = None,
-        feature_cache: dict[int, Any] | None = None,
+        feature_cache: dict[tuple[int, bool], Any] | None = None,
     ) -> TaggerOnly:
         """Train the tagger on the gold sentences (and dictionary-labeled silver ones).
 
@@ -58,8 +58,9 @@ class TaggerOnly(BaseEstimator):
             corpus: Sentences that dictionary matches may label as silver training data.
             aliases: The concept list's aliases; may be empty.
             clusters: Word clusters of the features.
-            feature_cache: Features per sentence ID, shared with other models that use
-                the same aliases and clusters; a fresh one when None.
+            feature_cache: Features per sentence ID and ``space_axes`` of the tagger,
+                shared with other models that use the same aliases and clusters; a fresh
+                one when None.
 
         Raises:
             InputError: there are neither labeled sentences nor aliases.
@@ -78,13 +79,14 @@ class TaggerOnly(BaseEstimator):
     def predict(self, sentences: Sequence[Sentence]) -> list[SentencePrediction]:
         """Tag sentences; mentions carry the tagger's confidence only (no link, no stance)."""
         cache = self.feature_cache_
+        axes = self.tagger_.space_axes
         for s in sentences:
-            if s.id not in cache:
-                cache[s.id] = sentence_items(s, self.dictionary_, self.clusters_)
-        paths = self.tagger_.predict([cache[s.id][1] for s in sentences])
+            if (s.id, axes) not in cache:
+                cache[s.id, axes] = sentence_items(s, self.dictionary_, self.clusters_, axes=axes)
+        paths = self.tagger_.predict([cache[s.id, axes][1] for s in sentences])
         out = []
         for s, path in zip(sentences, paths, strict=True):
-            offsets, _, matches = cache[s.id]
+            offsets, _, matches = cache[s.id, axes]
             # As in tag_sentences: a span that is exactly a dictionary match takes its concept.
             concepts = {(m.start, m.end): m.concept for m in matches}
             spans = [

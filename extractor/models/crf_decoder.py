@@ -34,6 +34,8 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
+from extractor.nlp.features import AxisBlock
+
 _HEADER = struct.Struct("<4sI4sI8I")
 _CQDB_HEADER = struct.Struct("<4s5I")
 _CQDB_DATA = 24 + 256 * 8  # records follow the chunk header and 256 hash-table references
@@ -77,13 +79,21 @@ class Decoded(NamedTuple):
 
 
 class _Index(dict[bytes, int]):
-    """Attribute name -> row of the weight matrix; unknown names give the row of zeros."""
+    """Attribute name -> row of the weight matrix; unknown names give the row of zeros.
+
+    A word's block of main-axis coordinates (:class:`~extractor.nlp.features.AxisBlock`)
+    is no name: it is weighed where it ends a token's first part (see
+    :meth:`CrfDecoder._state_scores`), anywhere else it raises ``TypeError``, so that the
+    caller decodes with CRFsuite.
+    """
 
     zero: int
 
     def __missing__(self, key: bytes | str) -> int:
         if isinstance(key, str):
             return self.get(key.encode(), self.zero)
+        if isinstance(key, AxisBlock):
+            raise TypeError("a block of main-axis coordinates must end a token's first part")
         return self.zero
 
 
@@ -235,10 +245,38 @@ class CrfDecoder:
                         self._head_parts.append(head)
                         fresh.append(head)
                     rows[k] = row
-            sums = self._add_weights(np.zeros((len(fresh), len(self.labels))), fresh)
+            sums = self._head_weights(fresh)
             self._head_sums = np.concatenate([self._head_sums, sums])
         scores = self._head_sums[np.array(rows, dtype=np.intp)]
         return self._add_weights(scores, rests, as_rows=bool(rests) and isinstance(rests[0], list))
+
+    def _head_weights(self, heads: list[Sequence[bytes]]) -> np.ndarray:
+        """Return the weight sums of tokens' first parts, a final axis block weighed too.
+
+        The block's coordinates come after the part's other attributes, each weight times
+        its value, in the block's order: where CRFsuite reads them in the same order from
+        the token's ``{name: value}`` dict, it adds ``weight * value`` in turn.
+        """
+        blocks = [k for k, head in enumerate(heads) if head and type(head[-1]) is AxisBlock]
+        if not blocks:
+            return self._add_weights(np.zeros((len(heads), len(self.labels))), heads)
+        plain = list(heads)
+        for k in blocks:
+            plain[k] = heads[k][:-1]
+        sums = self._add_weights(np.zeros((len(heads), len(self.labels))), plain)
+        width = max(len(heads[k][-1].names) for k in blocks)  # type: ignore[attr-defined]
+        values = np.zeros((len(blocks), width))
+        rows = np.full((len(blocks), width), self._index.zero, dtype=np.intp)
+        for j, k in enumerate(blocks):
+            block: AxisBlock = heads[k][-1]  # type: ignore[assignment]
+            values[j, : len(block.values)] = block.values
+            rows[j, : len(block.names)] = [self._index[n] for n in block.names]
+        picked = np.array(blocks, dtype=np.intp)
+        part = sums[picked]
+        for a in range(width):
+            part += self._state[rows[:, a]] * values[:, a, None]
+        sums[picked] = part
+        return sums
 
     def _add_weights(
         self,

@@ -35,8 +35,10 @@ from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.feature_rows import sentence_rows
 from extractor.nlp.features import (
     Attributes,
+    AxisBlock,
     Clusters,
     SplitAttributes,
+    sentence_attribute_parts,
     sentence_attributes,
 )
 from extractor.nlp.spans import iob_to_spans, repair_iob, spans_to_concepts, spans_to_iob
@@ -96,6 +98,10 @@ class TraitTagger(BaseEstimator):
             this (:mod:`~extractor.models.recall_decoding`; ``fit_tagger`` sets it).
         temperature: Divides every weight for marginals and path probabilities, not paths
             (:mod:`~extractor.models.tagger_calibration`); CRFsuite's tagger ignores it.
+        space_axes: The model reads each word's coordinates on the pretrained space's main
+            axes (``axes`` of :func:`~extractor.nlp.features.sentence_attribute_parts`);
+            ``fit_tagger`` sets it while labels are few, and :func:`tag_sentences`
+            builds the features to match.
     """
 
     def __init__(
@@ -110,6 +116,7 @@ class TraitTagger(BaseEstimator):
         random_state: int = 0,
         recall_threshold: float | None = None,
         temperature: float = 1.0,
+        space_axes: bool = False,
     ) -> None:
         self.c1 = c1
         self.c2 = c2
@@ -120,6 +127,7 @@ class TraitTagger(BaseEstimator):
         self.random_state = random_state
         self.recall_threshold = recall_threshold
         self.temperature = temperature
+        self.space_axes = space_axes
 
     def fit(self, X: Sequence[Features], y: Sequence[Sequence[str]]) -> TraitTagger:
         """Train on feature sequences ``X`` and their IOB2 tag sequences ``y``.
@@ -149,10 +157,11 @@ class TraitTagger(BaseEstimator):
         _seed_c_rand(self.random_state)
         # A sentence weighted by repetition is converted for CRFsuite once.
         converted: dict[int, pycrfsuite.ItemSequence] = {}
+        weighted: dict[int, tuple[Attributes, dict[bytes, float]]] = {}
         for xseq, yseq in zip(X, y, strict=True):
             if len(xseq):
                 if id(xseq) not in converted:
-                    converted[id(xseq)] = pycrfsuite.ItemSequence(xseq)
+                    converted[id(xseq)] = pycrfsuite.ItemSequence(_crf_tokens(xseq, weighted))
                 trainer.append(converted[id(xseq)], list(yseq))
         with tempfile.TemporaryDirectory() as tmp:
             path = Path(tmp) / MODEL_FILE
@@ -206,7 +215,7 @@ class TraitTagger(BaseEstimator):
             else:
                 return [_tag_path(d, decoder.labels, self.recall_threshold) for d in decoded]
         out = []
-        for xseq in map(_whole, X):
+        for xseq in (_crf_tokens(x, {}) for x in X):
             if not len(xseq):
                 out.append(TagPath([], [], 1.0))
                 continue
@@ -338,11 +347,36 @@ def _check_training_data(X: Sequence[Features], y: Sequence[Sequence[str]]) -> N
             )
 
 
-def _whole(xseq: Features) -> Features:
-    """Return a sentence's features with tokens split in two joined again, for CRFsuite."""
-    if any(a and isinstance(a, tuple) and isinstance(a[0], tuple) for a in xseq):
-        return [a[0] + a[1] if a and isinstance(a[0], tuple) else a for a in xseq]  # type: ignore[operator, index]
-    return xseq
+def _crf_tokens(
+    xseq: Features, weighted: dict[int, tuple[Attributes, dict[bytes, float]]]
+) -> Features:
+    """Return a sentence's features as CRFsuite takes them.
+
+    Tokens split in two are joined again; a token whose own part ends in an
+    :class:`~extractor.nlp.features.AxisBlock` becomes a ``{name: value}`` dict in the
+    same order (weight 1 for the other attributes), so CRFsuite weighs the block's
+    coordinates as the numpy decoder does. ``weighted`` keeps the dict of each own part
+    (by identity, holding the part) across sentences.
+    """
+    if not any(a and isinstance(a, tuple) and isinstance(a[0], tuple) for a in xseq):
+        return xseq
+    out: list[Any] = []
+    for token in xseq:
+        if not (token and isinstance(token, tuple) and isinstance(token[0], tuple)):
+            out.append(token)
+            continue
+        own, rest = token
+        if not own or type(own[-1]) is not AxisBlock:
+            out.append(own + rest)
+            continue
+        found = weighted.get(id(own))
+        if found is None:
+            block: AxisBlock = own[-1]
+            head = dict.fromkeys(own[:-1], 1.0)
+            head.update(zip(block.names, block.values, strict=True))
+            found = weighted[id(own)] = (own, head)
+        out.append({**found[1], **dict.fromkeys(rest, 1.0)})
+    return out
 
 
 def _tag_path(decoded: Decoded, labels: Sequence[str], recall: float | None) -> TagPath:
@@ -382,7 +416,8 @@ def sentence_items(
     clusters: Clusters | None,
     *,
     dictionary_features: bool = True,
-) -> tuple[list[tuple[int, int]], list[Attributes], list[Span]]:
+    axes: bool = False,
+) -> tuple[list[tuple[int, int]], list[Any], list[Span]]:
     """Return the tokens, CRF features and dictionary matches of one sentence.
 
     Args:
@@ -390,16 +425,24 @@ def sentence_items(
         dictionary: Dictionary to match, or ``None``.
         clusters: Word-cluster model, or ``None``.
         dictionary_features: Include the dictionary's tags and concepts as features.
+        axes: Include the words' coordinates on the pretrained space's main axes (a
+            tagger's ``space_axes``); the features are then split in two per token
+            (:func:`~extractor.nlp.features.sentence_attribute_parts`).
     """
     offsets, words, matches = _tokens_and_matches(sentence, dictionary)
     use_dict = dictionary is not None and dictionary_features
-    feats = sentence_attributes(
-        words,
-        dict_tags=spans_to_iob(offsets, matches) if use_dict else None,
-        dict_concepts=spans_to_concepts(offsets, matches) if use_dict else None,
-        clusters=clusters,
-        lang=sentence.lang,
-    )
+    tags = spans_to_iob(offsets, matches) if use_dict else None
+    concepts = spans_to_concepts(offsets, matches) if use_dict else None
+    feats: list[Any]
+    if axes:
+        feats = sentence_attribute_parts(
+            words, dict_tags=tags, dict_concepts=concepts, clusters=clusters,
+            lang=sentence.lang, axes=True,
+        )  # fmt: skip
+    else:
+        feats = sentence_attributes(
+            words, dict_tags=tags, dict_concepts=concepts, clusters=clusters, lang=sentence.lang
+        )
     return offsets, feats, matches
 
 
@@ -408,6 +451,7 @@ def _sentence_rows(
     dictionary: Dictionary | None,
     clusters: Clusters | None,
     index: Mapping[bytes, int],
+    axes: bool = False,
 ) -> tuple[list[tuple[int, int]], list[tuple[Attributes, list[int]]], list[Span]]:
     """Like :func:`sentence_items`, with the rows of the decoder's weights (see feature_rows).
 
@@ -421,6 +465,7 @@ def _sentence_rows(
         dict_concepts=spans_to_concepts(offsets, matches) if dictionary is not None else None,
         clusters=clusters,
         lang=sentence.lang,
+        axes=axes,
     )
     return offsets, rows, matches
 
@@ -476,12 +521,13 @@ def tag_sentences(
             "pass the clusters saved with the tagger's model version."
         )
     decoder = tagger._decoder()
+    axes = tagger.space_axes
     with _collector_paused():
         if decoder is None:
-            items = [sentence_items(s, dictionary, clusters) for s in sentences]
+            items = [sentence_items(s, dictionary, clusters, axes=axes) for s in sentences]
             paths = tagger.predict([feats for _, feats, _ in items])
         else:
-            rows = [_sentence_rows(s, dictionary, clusters, decoder.index) for s in sentences]
+            rows = [_sentence_rows(s, dictionary, clusters, decoder.index, axes) for s in sentences]
             X = [feats for _, feats, _ in rows]
             decoded = decoder.decode(X, temperature=tagger.temperature)
             paths = [_tag_path(d, decoder.labels, tagger.recall_threshold) for d in decoded]

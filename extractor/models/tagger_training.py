@@ -69,6 +69,9 @@ from extractor.nlp.spans import OUTSIDE, iob_to_spans, spans_to_iob
 from extractor.types import Sentence, Span
 
 SILVER_FILTERS = ("all", "matched", "gold-check", "self-train")
+AXES_BELOW = 250
+"""Gold sentences below which :func:`fit_tagger` trains on the words' bins on the
+pretrained space's main axes too (see the module docstring)."""
 T = TypeVar("T")
 
 
@@ -87,6 +90,7 @@ def fit_tagger(
     recall_threshold: float | None = RECALL_THRESHOLD,
     recall_below: int = RECALL_BELOW,
     calibrate: bool | None = None,
+    axes_below: int = AXES_BELOW,
     **params: Any,
 ) -> TraitTagger:
     """Train a tagger from gold-labelled sentences and dictionary-labelled silver sentences.
@@ -121,6 +125,9 @@ def fit_tagger(
             (:mod:`~extractor.models.tagger_calibration`); ``None``: when the trainer is
             not trained for likelihood (``tagger_calibration.NEEDS_CALIBRATION``) and
             ``params`` set no temperature.
+        axes_below: While there are gold sentences but fewer than this, every sentence's
+            features include its words' coordinates on the pretrained space's main axes
+            (``TraitTagger.space_axes``); 0 never.
         **params: Arguments of :class:`TraitTagger`.
 
     Returns:
@@ -141,8 +148,9 @@ def fit_tagger(
         calibrate = algorithm in NEEDS_CALIBRATION and "temperature" not in params
     X: list[list[Attributes]] = []
     y: list[list[str]] = []
+    axes = 0 < len(gold) < axes_below
     for sentence, spans in gold:
-        offsets, feats, _ = sentence_items(sentence, dictionary, clusters)
+        offsets, feats, _ = sentence_items(sentence, dictionary, clusters, axes=axes)
         tags = spans_to_iob(offsets, spans)
         X += [feats] * gold_weight
         y += [tags] * gold_weight
@@ -151,7 +159,9 @@ def fit_tagger(
     # The gold model that judges silver sentences must see them as they will be
     # trained on, without dictionary features, so it is trained without them too.
     judged = silver_sentences and (dictionary is not None or self_sentences)
-    gold_plain = [sentence_items(s, None, clusters)[1] for s, _ in gold] if judged else []
+    gold_plain = (
+        [sentence_items(s, None, clusters, axes=axes)[1] for s, _ in gold] if judged else []
+    )
     unmatched: list[list[Attributes]] = []
     if dictionary is not None and silver_sentences:
         sx, sy, unmatched = _silver(
@@ -164,10 +174,11 @@ def fit_tagger(
             silver_threshold,
             _judge_params(params, gold_weight),
             calibrate,
+            axes,
         )
     elif self_sentences:
         sample = _sample(silver_sentences, self_sentences)
-        unmatched = [sentence_items(s, None, clusters)[1] for s in sample]
+        unmatched = [sentence_items(s, None, clusters, axes=axes)[1] for s in sample]
     has_gold_traits = any(t != OUTSIDE for tags in y for t in tags)
     if self_sentences and self_rounds and unmatched and has_gold_traits:
         judge = _fit_judge(
@@ -191,6 +202,7 @@ def fit_tagger(
         )
     if 0 < len(gold) < recall_below:
         tagger.recall_threshold = recall_threshold
+    tagger.space_axes = axes
     tagger.clusters_fingerprint_ = clusters.get("fingerprint") if clusters else None
     return tagger
 
@@ -238,6 +250,7 @@ def _silver(
     threshold: float,
     params: Mapping[str, Any],
     calibrate: bool = False,
+    axes: bool = False,
 ) -> tuple[list[list[Attributes]], list[list[str]], list[list[Attributes]]]:
     """Return features and dictionary labels of the silver sentences kept by the filter.
 
@@ -246,7 +259,10 @@ def _silver(
     list holds the features of the sentences the dictionary matches nothing in (empty
     with ``"all"``, which trains on them as they are).
     """
-    items = [sentence_items(s, dictionary, clusters, dictionary_features=False) for s in sentences]
+    items = [
+        sentence_items(s, dictionary, clusters, dictionary_features=False, axes=axes)
+        for s in sentences
+    ]
     if silver_filter == "all":
         return [f for _, f, _ in items], [spans_to_iob(o, m) for o, _, m in items], []
     unmatched = [f for _, f, m in items if not m]

@@ -109,6 +109,7 @@ def learn_clusters(
     neighbours: int = 3,
     space: str | None = pretrained.DEFAULT,
     space_granularities: tuple[int, ...] = (32, 128, 512),
+    space_axes: int = 16,
 ) -> dict[str, Any]:
     """Learn word vectors and clusters from unlabeled ``(text, lang)`` pairs.
 
@@ -127,6 +128,9 @@ def learn_clusters(
             languages; ``None`` or ``"none"``, or a space whose package is missing, for
             none.
         space_granularities: Numbers of clusters in the pretrained space, coarse to fine.
+        space_axes: How many main axes of the pretrained space place each word
+            (:func:`~extractor.nlp.pretrained.word_axes`); the tagger reads them while
+            labels are few.
 
     Returns:
         A JSON-serialisable dict: ``format``, ``version``, ``params``, ``fingerprint``,
@@ -134,7 +138,8 @@ def learn_clusters(
         granularity), ``neighbours`` (word -> its nearest prototype words) and
         ``vectors`` (one list of floats per word, rounded) and ``pretrained`` (``space``:
         the space's name or ``"none"``; ``clusters``: word -> one cluster ID per
-        granularity of ``space_granularities``).
+        granularity of ``space_granularities``; ``axes``: word -> its coordinates on the
+        ``space_axes`` main axes).
         With fewer than :data:`MIN_WORDS` frequent words, ``clusters`` and ``vectors``
         are empty.
     """
@@ -143,7 +148,7 @@ def learn_clusters(
         "seed": seed, "window": window, "min_count": min_count, "max_words": max_words,
         "dims": dims, "granularities": list(granularities), "alpha": 0.75,
         "prototypes": prototypes, "neighbours": neighbours,
-        "space_granularities": list(space_granularities),
+        "space_granularities": list(space_granularities), "space_axes": space_axes,
     }  # fmt: skip
     model: dict[str, Any] = {
         "format": FORMAT, "version": VERSION, "params": params,
@@ -151,7 +156,7 @@ def learn_clusters(
         "vectors": [], "pretrained": {"space": pretrained.NONE, "clusters": {}},
     }  # fmt: skip
     sentences = _sentences(corpus)
-    model["pretrained"] = _pretrained_clusters(corpus, space, space_granularities, seed)
+    model["pretrained"] = _pretrained_clusters(corpus, space, space_granularities, seed, space_axes)
     counts = Counter(w for sent in sentences for w in sent)
     vocab = [w for w, c in counts.most_common(max_words) if c >= min_count]
     if len(vocab) < MIN_WORDS:
@@ -168,9 +173,13 @@ def learn_clusters(
 
 
 def _pretrained_clusters(
-    corpus: list[tuple[str, str]], name: str | None, granularities: tuple[int, ...], seed: int
+    corpus: list[tuple[str, str]],
+    name: str | None,
+    granularities: tuple[int, ...],
+    seed: int,
+    axes: int = 16,
 ) -> dict[str, Any]:
-    """Return the pretrained space's clusters of every word of the corpus (keyed folded).
+    """Return the pretrained space's clusters and main-axis places of every word (folded keys).
 
     Each folded form is embedded in its most frequent lower-cased spelling (accents
     kept: the encoder knows "preço", not "preco") and carries its most frequent language.
@@ -192,7 +201,9 @@ def _pretrained_clusters(
     by_surface = {surface[key]: langs[key].most_common(1)[0][0] for key in surface}
     ids = pretrained.word_clusters(space, by_surface, granularities=granularities, seed=seed)
     found = {key: ids[surface[key]] for key in surface if surface[key] in ids}
-    return {"space": space.name, "clusters": found}
+    places = pretrained.word_axes(space, by_surface, dims=axes)
+    placed = {key: places[surface[key]] for key in surface if surface[key] in places}
+    return {"space": space.name, "clusters": found, "axes": placed}
 
 
 def _word_vectors(weights: sparse.csr_matrix, dims: int, seed: int) -> np.ndarray:

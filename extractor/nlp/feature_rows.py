@@ -134,6 +134,7 @@ def sentence_rows(
     dict_concepts: Sequence[str | None] | None = None,
     clusters: Clusters | None = None,
     lang: str = "",
+    axes: bool = False,
 ) -> list[tuple[Attributes, list[int]]]:
     """Return each token's own attributes and the rows of the rest of its attributes.
 
@@ -145,6 +146,7 @@ def sentence_rows(
         dict_concepts: As for :func:`~extractor.nlp.features.sentence_attributes`.
         clusters: As for :func:`~extractor.nlp.features.sentence_attributes`.
         lang: As for :func:`~extractor.nlp.features.sentence_attributes`.
+        axes: As for :func:`~extractor.nlp.features.sentence_attributes`.
 
     Returns:
         Per token, the first part of :func:`~extractor.nlp.features.sentence_attribute_parts`
@@ -189,5 +191,5 @@ def sentence_rows(
         if i < n - 1:
             r += pairs[i].from_first
             r.append(rows[i + 1].s3_next)
-        out.append((w.own, r))
+        out.append((w.own_axes if axes else w.own, r))
     return out

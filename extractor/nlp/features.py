@@ -122,6 +122,33 @@ def _ids(found: Sequence[int] | None) -> tuple[str, ...]:
 
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 _SPACE_KEYS = tuple(f"x{level}" for level in range(8))
+AXES_SCALE = 1.0
+"""Length of a word's vector of main-axis coordinates, as the tagger weighs it (the val
+screen of DEVELOPERS.md, "Dense dimensions on few labels", chose it)."""
+
+
+class AxisBlock(bytes):
+    """A word's coordinates on the pretrained space's main axes, as the last of its attributes.
+
+    The element itself is no attribute (its bytes name none: it adds no weight); it stands
+    for the attributes ``names`` (``v0``, ``v1``, ...) with the float ``values``, in that
+    order. The tagger gives them to CRFsuite as weighted attributes
+    (:func:`extractor.models.tagger.crf_items`), the numpy decoder adds weight x value.
+    """
+
+    names: tuple[bytes, ...]
+    values: tuple[float, ...]
+
+    @classmethod
+    def of(cls, values: Sequence[float]) -> AxisBlock:
+        """Return the block of these coordinates (scaled by :data:`AXES_SCALE`)."""
+        block = cls(b"\x00axes")
+        block.names = _AXIS_NAMES[: len(values)]
+        block.values = tuple(AXES_SCALE * v for v in values)
+        return block
+
+
+_AXIS_NAMES = tuple(f"v{axis}".encode() for axis in range(256))
 _OFFSETS = tuple(off for off in range(-WINDOW, WINDOW + 1) if off != 0)
 _PADS = tuple(f"{off}lw:<pad>".encode() for off in _OFFSETS)
 _DICT_TAGS = tuple({tag: f"{off}d:{tag}".encode() for tag in TAGS} for off in _OFFSETS)
@@ -135,6 +162,7 @@ class _Word(NamedTuple):
     """The attributes one word brings to its own token and to its neighbours', encoded."""
 
     own: Attributes  # word forms, affixes, shapes, flags, clusters, neighbours, space
+    own_axes: Attributes  # own, then an AxisBlock of the word's main-axis coordinates
     as_prev_x: Attributes  # "-1x" of the next token: this word's coarsest space cluster
     as_next_x: Attributes  # "+1x" of the previous token
     window: tuple[Attributes, ...]  # seen from a token at each of _OFFSETS away
@@ -159,6 +187,9 @@ class _Featurizer:
         self._near: Mapping[str, Sequence[str]] = clusters.get("neighbours", {}) if clusters else {}
         self._space: Mapping[str, Sequence[int]] = (
             clusters.get("pretrained", {}).get("clusters", {}) if clusters else {}
+        )
+        self._axes: Mapping[str, Sequence[float]] = (
+            clusters.get("pretrained", {}).get("axes", {}) if clusters else {}
         )
         self._cache: dict[tuple[str, str], _Word] = {}
         self._atoms: dict[bytes, bytes] = {}
@@ -186,6 +217,9 @@ class _Featurizer:
         own += [atom(k, cid) for k, cid in zip(_CLUSTER_KEYS, clus, strict=False)]
         own += [atom("nn=" + proto) for proto in self._near.get(key, ())]
         own += [atom(k, cid) for k, cid in zip(_SPACE_KEYS, space, strict=False)]
+        place = self._axes.get(key)
+        axes = (AxisBlock.of(place),) if place else ()
+        own_t = tuple(own)
         lower = token.lower()
         coarse = clus[0] if clus else "-"
         window = []
@@ -195,7 +229,8 @@ class _Featurizer:
             # 0.7500 without them against 0.7506 with them (test 0.7596 against 0.7572).
             window.append((atom(f"{off}lw", lower), atom(f"{off}c", coarse)))
         return _Word(
-            own=tuple(own),
+            own=own_t,
+            own_axes=own_t + axes if axes else own_t,
             as_prev_x=(atom("-1x", space[0]),) if space else (),
             as_next_x=(atom("+1x", space[0]),) if space else (),
             window=tuple(window),
@@ -217,6 +252,7 @@ class _Featurizer:
         dict_tags: Sequence[str] | None,
         dict_concepts: Sequence[str | None] | None,
         lang: str,
+        axes: bool = False,
     ) -> list[SplitAttributes]:
         """Return every token's attributes split in two (see :func:`sentence_attribute_parts`)."""
         words = [self.word(t, lang) for t in tokens]
@@ -256,7 +292,7 @@ class _Featurizer:
                 after = words[i + 1]
                 lw_lw, lw_c = w.pair_next
                 attrs += (lw_lw + after.lower, lw_c + after.coarse, after.s3_next)
-            out.append((w.own, tuple(attrs)))
+            out.append((w.own_axes if axes else w.own, tuple(attrs)))
         return out
 
 
@@ -314,15 +350,19 @@ def sentence_attribute_parts(
     dict_concepts: Sequence[str | None] | None = None,
     clusters: Clusters | None = None,
     lang: str = "",
+    axes: bool = False,
 ) -> list[SplitAttributes]:
     """Return :func:`sentence_attributes` with each token's attributes split in two.
 
     The first part holds the attributes of the word alone and is the same tuple object
     wherever the word occurs (while the word cache holds it), so a decoder can sum its
     weights once per word (:class:`extractor.models.crf_decoder.CrfDecoder`); the second
-    holds the rest. Arguments are those of :func:`sentence_attributes`.
+    holds the rest. Arguments are those of :func:`sentence_attributes`, and ``axes``:
+    end each word's own part with its coordinates on the pretrained space's main axes (an
+    :class:`AxisBlock`, from the cluster model's ``pretrained["axes"]``; nothing for words
+    it lacks), which the tagger reads while labels are few.
     """
-    return _featurizer(clusters).sentence(tokens, dict_tags, dict_concepts, lang)
+    return _featurizer(clusters).sentence(tokens, dict_tags, dict_concepts, lang, axes)
 
 
 def attribute_dict(attributes: Attributes) -> dict[str, str | float]:
@@ -333,6 +373,9 @@ def attribute_dict(attributes: Attributes) -> dict[str, str | float]:
     """
     out: dict[str, str | float] = {}
     for raw in attributes:
+        if isinstance(raw, AxisBlock):
+            out.update({n.decode(): v for n, v in zip(raw.names, raw.values, strict=True)})
+            continue
         text = raw.decode()
         name, colon, value = text.partition(":")
         if not colon or name.startswith("nn="):

@@ -236,6 +236,30 @@ def word_clusters(
     return {w: [int(lab[i]) for lab in labels] for i, w in enumerate(vocab)}
 
 
+def word_axes(space: Space, words: Mapping[str, str], *, dims: int = 16) -> dict[str, list[float]]:
+    """Return each word's place on the main axes of the pretrained space, unit length.
+
+    The words' vectors, less their language's mean (as for :func:`word_clusters`), are
+    projected on their ``dims`` main axes (PCA by SVD) and made unit length again, so a
+    word carries a few dense coordinates of its meaning; the tagger weighs them while
+    labels are few (``TraitTagger.space_axes``).
+
+    Args:
+        space: The loaded space.
+        words: Each word (as it is looked up) -> its language.
+        dims: How many main axes.
+
+    Returns:
+        word -> ``dims`` floats (rounded to 4 places); empty with no more words than axes.
+    """
+    vocab = sorted(words)
+    if len(vocab) <= max(8, dims) or dims < 1:
+        return {}
+    vectors = reduced(centred(space.words(vocab), [words[w] for w in vocab]), dims)
+    rounded = np.round(vectors.astype(np.float64), 4).tolist()
+    return dict(zip(vocab, rounded, strict=True))
+
+
 def nearest(
     space: Space,
     queries: Sequence[str],

@@ -20,10 +20,15 @@ two keys of this screen alone (not in the tool):
   TRAIT probability (1 - P(O)) is at least this, where they overlap no Viterbi span
   (:func:`extractor.models.recall_decoding.recall_tags`). Without it the best path alone
   is read: the screen passes ``recall_threshold=None`` to ``fit_tagger`` unless the
-  setting gives it, so the tool's decoding on few labels is this key's 0.3;
+  setting gives it, so the tool's decoding on few labels is this key's 0.3 (likewise
+  ``axes_below=0`` unless given: ``{"axes_below": 1000}`` is the tool's few-label
+  features, the words' bins on the pretrained axes that ``--axes`` sets);
 * ``"dense_dims"``: that many principal axes of the pretrained space's word vectors
   (centred, unit length, times ``"dense_scale"``, default 1) added to each token as
-  weighted features; the tagger is then trained on the labelled sentences alone.
+  weighted features; the tagger is then trained on the labelled sentences alone;
+* ``"dense_bins"``: with ``"dense_dims"``, each dimension cut at its quantiles over the
+  vocabulary into that many bins, given as ordinary attributes (``q3:1``) instead of
+  the weighted features (``"dense_float"``: true keeps the weighted features too).
 """
 
 from __future__ import annotations
@@ -75,7 +80,9 @@ def recall_spans(offsets: list[tuple[int, int]], path: TagPath, threshold: float
 class Dense:
     """Principal axes of the pretrained word vectors of a vocabulary, as weighted features."""
 
-    def __init__(self, words: set[str], dims: int, scale: float) -> None:
+    def __init__(
+        self, words: set[str], dims: int, scale: float, bins: int = 0, keep_float: bool = False
+    ) -> None:
         space = pretrained.load_space()
         if space is None:
             sys.exit("dense_dims needs the pretrained space, which did not load.")
@@ -86,13 +93,24 @@ class Dense:
         rows = vectors @ axes[:dims].T
         rows = rows / np.linalg.norm(rows, axis=1, keepdims=True) * scale
         self.rows = dict(zip(vocab, rows.tolist(), strict=True))
+        self.bins: dict[str, list[str]] = {}
+        self.keep_float = keep_float or not bins
+        if bins:
+            cuts = np.quantile(rows, np.arange(1, bins) / bins, axis=0)  # (bins-1) x dims
+            codes = (rows[:, None, :] > cuts[None, :, :]).sum(axis=1)
+            self.bins = {
+                w: [f"q{k}:{c}" for k, c in enumerate(row)]
+                for w, row in zip(vocab, codes.tolist(), strict=True)
+            }
 
     def features(self, words: list[str], attributes: list[Attributes]) -> list[dict[str, float]]:
         """Return each token's attributes (weight 1) and its dense dimensions."""
         out = []
         for word, attrs in zip(words, attributes, strict=True):
             row = {a.decode(): 1.0 for a in attrs}
-            row.update({f"v{k}": v for k, v in enumerate(self.rows[word.lower()])})
+            if self.keep_float:
+                row.update({f"v{k}": v for k, v in enumerate(self.rows[word.lower()])})
+            row.update({a: 1.0 for a in self.bins.get(word.lower(), ())})
             out.append(row)
         return out
 
@@ -109,22 +127,28 @@ def main() -> None:
     parser.add_argument("--sizes", default="100,200")
     parser.add_argument("--draws", type=int, default=4)
     parser.add_argument("--pool", type=int, default=0, help="unlabeled pool size (0: all)")
+    parser.add_argument("--axes", type=int, default=16, help="main axes of the clusters")
     args = parser.parse_args()
     if load_mams("train") is None:
         sys.exit("MAMS is not in ../shared/datasets/mams-atsa/; see tests/mams.py.")
     train = gold("train", 0)
     val = gold("val", len(train))
     test_text = [(d["sentence"], d["lang"]) for d in load_mams("test") or []]
-    clusters = learn_clusters([(s.text, s.lang) for s, _ in train + val] + test_text)
+    clusters = learn_clusters(
+        [(s.text, s.lang) for s, _ in train + val] + test_text, space_axes=args.axes
+    )
     val_items = [sentence_items(s, None, clusters)[:2] for s, _ in val]
+    val_axes = [sentence_items(s, None, clusters, axes=True)[1] for s, _ in val]
     words = {s.text[a:b].lower() for s, _ in train + val for a, b in tokenize(s.text, s.lang)}
     base: dict[tuple[int, int], float] = {}
     for raw in args.settings:
         params: dict[str, Any] = json.loads(raw)
         threshold = params.pop("decode_threshold", None)
         params.setdefault("recall_threshold", None)
+        params.setdefault("axes_below", 0)
         dims, scale = params.pop("dense_dims", 0), params.pop("dense_scale", 1.0)
-        dense = Dense(words, dims, scale) if dims else None
+        bins, keep = params.pop("dense_bins", 0), params.pop("dense_float", False)
+        dense = Dense(words, dims, scale, bins, keep) if dims else None
         val_X: list[Any] = [f for _, f in val_items]
         if dense is not None:
             val_X = [
@@ -151,7 +175,7 @@ def main() -> None:
                         y.append(spans_to_iob(offsets, spans))
                     tagger = TraitTagger(**params).fit(X, y)
                 seconds.append(time.process_time() - started)
-                paths = tagger.predict(val_X)
+                paths = tagger.predict(val_axes if tagger.space_axes else val_X)
                 pred = [
                     iob_to_spans(o, p.tags) if threshold is None else recall_spans(o, p, threshold)
                     for (o, _), p in zip(val_items, paths, strict=True)

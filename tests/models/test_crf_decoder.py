@@ -11,15 +11,16 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
+from typing import Any
 
 import pycrfsuite
 import pytest
 
 from extractor.models.crf_decoder import CrfDecoder
-from extractor.models.tagger import TraitTagger, _sentence_rows, sentence_items
+from extractor.models.tagger import TraitTagger, _crf_tokens, _sentence_rows, sentence_items
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.dictionary import build_dictionary
-from extractor.nlp.features import SplitAttributes, sentence_attribute_parts
+from extractor.nlp.features import AxisBlock, SplitAttributes, sentence_attribute_parts
 from extractor.nlp.spans import spans_to_concepts, spans_to_iob
 from extractor.nlp.text import tokenize
 from extractor.types import TAGS, Sentence, Span
@@ -28,7 +29,7 @@ from tests.mams import SKIP_REASON, load_mams
 ROOT = Path(__file__).resolve().parents[2]
 
 
-def _reference(model: bytes, X: list[list[tuple[bytes, ...]]]) -> list[tuple]:
+def _reference(model: bytes, X: list[Any]) -> list[tuple]:
     crf = pycrfsuite.Tagger()
     crf.open_inmemory(model)
     labels = crf.labels()
@@ -145,3 +146,64 @@ def test_dict_features_are_decoded_by_crfsuite() -> None:
 def test_decoder_refuses_bytes_that_are_no_crfsuite_model() -> None:
     with pytest.raises(ValueError, match="CRFsuite"):
         CrfDecoder.from_model(b"not a model at all, but long enough for a header....")
+
+
+@pytest.fixture(scope="module")
+def axes_case() -> tuple[TraitTagger, list[Sentence], object, object]:
+    """A tagger trained with each word's main-axis coordinates (a block of weighted attributes).
+
+    The coordinates are the first 16 of the workspace vectors learned from the text, so
+    the check needs no pretrained space; what is checked is how weights times values are
+    summed, against CRFsuite's own tagger given the same ``{name: value}`` dicts.
+    """
+    train, test = load_mams("train"), load_mams("test")
+    if train is None or test is None:
+        pytest.skip(SKIP_REASON)
+    sentences = [Sentence(i, d["sentence"], d["lang"]) for i, d in enumerate(train[:300])]
+    unseen = [Sentence(10_000 + i, d["sentence"], d["lang"]) for i, d in enumerate(test[:300])]
+    clusters = learn_clusters([(s.text, s.lang) for s in sentences + unseen], space="none")
+    places = {
+        w: [round(float(v), 4) for v in vector[:16]]
+        for w, vector in zip(clusters["words"], clusters["vectors"], strict=True)
+    }
+    clusters["pretrained"] = {**clusters["pretrained"], "axes": places}
+    dictionary = build_dictionary([("T1", "food", "en"), ("T2", "service", "en")])
+    gold = [[Span(m["start"], m["end"]) for m in d["mentions"]] for d in train[:300]]
+    items = [sentence_items(s, dictionary, clusters, axes=True) for s in sentences]
+    tagger = TraitTagger(space_axes=True).fit(
+        [f for _, f, _ in items],
+        [spans_to_iob(o, g) for (o, _, _), g in zip(items, gold, strict=True)],
+    )
+    return tagger, unseen, dictionary, clusters
+
+
+def test_axis_blocks_are_weighed_as_crfsuite_weighs_them(axes_case: tuple) -> None:
+    tagger, unseen, dictionary, clusters = axes_case
+    split = [sentence_items(s, dictionary, clusters, axes=True)[1] for s in unseen]
+    blocks = [own[-1] for x in split for own, _ in x if own and isinstance(own[-1], AxisBlock)]
+    assert len(blocks) > 2000  # most tokens carry a block
+    weights = pycrfsuite.Tagger()
+    weights.open_inmemory(tagger.model_bytes_)
+    learned = weights.info().state_features
+    assert sum(1 for (name, _), w in learned.items() if name.startswith("v") and w) >= 16
+    decoder = CrfDecoder.from_model(tagger.model_bytes_)
+    rows = [_sentence_rows(s, dictionary, clusters, decoder.index, True)[1] for s in unseen]
+    assert [[own for own, _ in x] for x in rows] == [[own for own, _ in x] for x in split]
+    # CRFsuite's tagger reads the same tokens as {name: value} dicts, block last in the own part.
+    expected = _reference(tagger.model_bytes_, [_crf_tokens(x, {}) for x in split])
+    assert _decoded(decoder, split) == expected
+    assert _decoded(decoder, rows) == expected
+    assert _decoded(decoder, rows) == expected  # the cached sums of the own parts
+    paths = tagger.predict(split)
+    assert [p.probability for p in paths] == [p for _, _, p in expected]
+    # The block does weigh: without it the same model decodes other probabilities.
+    plain = [sentence_items(s, dictionary, clusters)[1] for s in unseen]
+    assert _decoded(decoder, plain) != expected
+
+
+def test_axis_block_elsewhere_is_left_to_crfsuite(axes_case: tuple) -> None:
+    tagger, unseen, dictionary, clusters = axes_case
+    own, rest = sentence_items(unseen[0], dictionary, clusters, axes=True)[1][0]
+    decoder = CrfDecoder.from_model(tagger.model_bytes_)
+    with pytest.raises(TypeError):
+        decoder.decode([[own + rest]])  # a whole token: the block is not where it is weighed

@@ -3,13 +3,18 @@
 from __future__ import annotations
 
 import itertools
+from pathlib import Path
 
+import numpy as np
+import pycrfsuite
 import pytest
 
 from extractor.errors import InputError
-from extractor.models.tagger import TraitTagger, tag_sentences
-from extractor.models.tagger_training import _self_labelled, _silver, fit_tagger
+from extractor.models.tagger import TraitTagger, sentence_items, tag_sentences
+from extractor.models.tagger_training import AXES_BELOW, _self_labelled, _silver, fit_tagger
+from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
 from tests.models.toy import TEMPLATES, labelled, toy_gold, toy_xy
@@ -89,3 +94,43 @@ def test_fit_tagger_self_trains_only_on_sentences_above_the_threshold() -> None:
     )
     assert nobody_sure.model_bytes_ == plain.model_bytes_
     assert everybody.model_bytes_ != plain.model_bytes_
+
+
+def _with_axes(sentences: list[Sentence]) -> dict:
+    """A cluster model of the sentences, every word given 8 seeded main-axis coordinates."""
+    clusters = learn_clusters([(s.text, s.lang) for s in sentences], space="none")
+    rng = np.random.default_rng(0)
+    words = {fold(s.text[a:b]) for s in sentences for a, b in tokenize(s.text, s.lang)}
+    places = {w: np.round(rng.normal(size=8) / 3, 4).tolist() for w in sorted(words)}
+    clusters["pretrained"] = {**clusters["pretrained"], "axes": places}
+    return clusters
+
+
+def test_fit_tagger_reads_the_main_axes_only_on_few_gold_sentences(tmp_path: Path) -> None:
+    gold = toy_gold()
+    sentences = [s._replace(id=i) for i, (s, _) in enumerate(gold)]
+    clusters = _with_axes(sentences)
+    few = fit_tagger(gold, [], None, clusters, max_iterations=20)
+    many = fit_tagger(gold, [], None, clusters, axes_below=len(gold), max_iterations=20)
+    assert few.space_axes and not many.space_axes
+    assert AXES_BELOW > len(gold)
+
+    def axis_weights(tagger: TraitTagger) -> int:
+        crf = pycrfsuite.Tagger()
+        crf.open_inmemory(tagger.model_bytes_)
+        return sum(1 for (a, _), w in crf.info().state_features.items() if a[:1] == "v" and w)
+
+    assert axis_weights(few) >= 8
+    assert axis_weights(many) == 0
+    # Tagging builds the features the model was trained on: its probabilities are those
+    # of the features with the axes (CRFsuite decodes these {name: value} dicts).
+    results = tag_sentences(few, sentences, None, clusters)
+    with_axes = few.predict([sentence_items(s, None, clusters, axes=True)[1] for s in sentences])
+    without = few.predict([sentence_items(s, None, clusters)[1] for s in sentences])
+    assert [r.probability for r in results] == [p.probability for p in with_axes]
+    assert [r.probability for r in results] != [p.probability for p in without]
+    few.save(tmp_path)
+    assert TraitTagger.load(tmp_path).space_axes
+    # Without gold (the dictionary alone) the axes wait, like the recall decoding.
+    dictionary = build_dictionary([("TX:0001", "taste", "en")])
+    assert not fit_tagger([], sentences, dictionary, clusters, max_iterations=5).space_axes

@@ -2,6 +2,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from sklearn.decomposition import PCA
 
 from extractor.nlp import pretrained
 from extractor.nlp.clusters import learn_clusters
@@ -94,3 +95,23 @@ def test_clusters_join_translations_and_feed_the_tagger() -> None:
     assert space_ids("Goût", model) == tuple(str(i) for i in ids["gout"])
     feats = sentence_features(["o", "sabor"], clusters=model, lang="pt")
     assert feats[1]["x0"] == str(ids["sabor"][0]) and feats[1]["-1x"] == str(ids["o"][0])
+
+
+def test_word_axes_are_the_main_axes_of_scikit_learns_pca() -> None:
+    # Reference: scikit-learn's PCA of the same language-centred vectors; each word's
+    # coordinates on the first 4 components, made unit length, equal word_axes up to
+    # the sign of each axis (a PCA axis has no preferred sign) and the 4-place rounding.
+    rng = np.random.default_rng(0)
+    table = {f"w{i}": rng.normal(size=24) for i in range(60)}
+    space = pretrained.Space("seeded", lambda texts: np.stack([table[t] for t in texts]))
+    words = {w: ("en" if i % 2 else "fr") for i, w in enumerate(sorted(table))}
+    axes = pretrained.word_axes(space, words, dims=4)
+    vocab = sorted(words)
+    centred = pretrained.centred(space.words(vocab), [words[w] for w in vocab])
+    reference = PCA(n_components=4).fit_transform(centred)
+    reference /= np.linalg.norm(reference, axis=1, keepdims=True)
+    got = np.array([axes[w] for w in vocab])
+    signs = np.sign((got * reference).sum(axis=0))
+    assert np.allclose(got, reference * signs, atol=1e-4)
+    assert np.allclose(np.linalg.norm(got, axis=1), 1.0, atol=1e-3)
+    assert pretrained.word_axes(space, dict(list(words.items())[:4]), dims=4) == {}
