@@ -122,7 +122,7 @@ def _ids(found: Sequence[int] | None) -> tuple[str, ...]:
 
 _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 _SPACE_KEYS = tuple(f"x{level}" for level in range(8))
-AXES_SCALE = 1.0
+AXES_SCALE = 2.0
 """Length of a word's vector of main-axis coordinates, as the tagger weighs it (the val
 screen of DEVELOPERS.md, "Dense dimensions on few labels", chose it)."""
 

@@ -22,7 +22,8 @@ two keys of this screen alone (not in the tool):
   is read: the screen passes ``recall_threshold=None`` to ``fit_tagger`` unless the
   setting gives it, so the tool's decoding on few labels is this key's 0.3 (likewise
   ``axes_below=0`` unless given: ``{"axes_below": 1000}`` is the tool's few-label
-  features, the words' bins on the pretrained axes that ``--axes`` sets);
+  features, the words' coordinates on the pretrained axes that ``--axes`` sets, of
+  length ``"axes_scale"``, default 1);
 * ``"dense_dims"``: that many principal axes of the pretrained space's word vectors
   (centred, unit length, times ``"dense_scale"``, default 1) added to each token as
   weighted features; the tagger is then trained on the labelled sentences alone;
@@ -50,7 +51,7 @@ import numpy as np  # noqa: E402
 from extractor.models.recall_decoding import recall_tags  # noqa: E402
 from extractor.models.tagger import TagPath, TraitTagger, sentence_items  # noqa: E402
 from extractor.models.tagger_training import fit_tagger  # noqa: E402
-from extractor.nlp import pretrained  # noqa: E402
+from extractor.nlp import features, pretrained  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes  # noqa: E402
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
@@ -138,7 +139,6 @@ def main() -> None:
         [(s.text, s.lang) for s, _ in train + val] + test_text, space_axes=args.axes
     )
     val_items = [sentence_items(s, None, clusters)[:2] for s, _ in val]
-    val_axes = [sentence_items(s, None, clusters, axes=True)[1] for s, _ in val]
     words = {s.text[a:b].lower() for s, _ in train + val for a, b in tokenize(s.text, s.lang)}
     base: dict[tuple[int, int], float] = {}
     for raw in args.settings:
@@ -148,6 +148,9 @@ def main() -> None:
         params.setdefault("axes_below", 0)
         dims, scale = params.pop("dense_dims", 0), params.pop("dense_scale", 1.0)
         bins, keep = params.pop("dense_bins", 0), params.pop("dense_float", False)
+        features.AXES_SCALE = params.pop("axes_scale", 1.0)
+        features._featurizer_in_use = features._Featurizer(None)  # words made afresh
+        val_axes = [sentence_items(s, None, clusters, axes=True)[1] for s, _ in val]
         dense = Dense(words, dims, scale, bins, keep) if dims else None
         val_X: list[Any] = [f for _, f in val_items]
         if dense is not None:
