@@ -176,7 +176,8 @@ def main() -> None:
                         offsets, feats, _ = sentence_items(s, None, clusters)
                         X.append(dense.features(word_list(s, offsets), feats))
                         y.append(spans_to_iob(offsets, spans))
-                    tagger = TraitTagger(**params).fit(X, y)
+                    own = {k: v for k, v in params.items() if k != "axes_below"}
+                    tagger = TraitTagger(**own).fit(X, y)
                 seconds.append(time.process_time() - started)
                 paths = tagger.predict(val_axes if tagger.space_axes else val_X)
                 pred = [
