@@ -13,8 +13,6 @@ probabilities as CRFsuite's tagger), python-crfsuite where the decoder cannot re
 
 from __future__ import annotations
 
-import ctypes
-import ctypes.util
 import gc
 import hashlib
 import json
@@ -30,14 +28,13 @@ from sklearn.base import BaseEstimator
 
 from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.models.crf_decoder import CrfDecoder, Decoded
+from extractor.models.crf_items import Features, check_training_data, crf_tokens, seed_c_rand
 from extractor.models.recall_decoding import recall_tags
 from extractor.nlp.dictionary import Dictionary
 from extractor.nlp.feature_rows import sentence_rows
 from extractor.nlp.features import (
     Attributes,
-    AxisBlock,
     Clusters,
-    SplitAttributes,
     sentence_attribute_parts,
     sentence_attributes,
 )
@@ -51,10 +48,6 @@ MODEL_FILE = "tagger.crfsuite"
 PARAMS_FILE = "tagger.json"
 ALGORITHMS = ("lbfgs", "l2sgd", "ap", "pa", "arow")
 """CRFsuite's training algorithms."""
-
-Features = Sequence[Attributes | SplitAttributes | Mapping[str, str | float]]
-"""One sentence's features: per token, attributes (whole or split in two) or a
-``{name: value}`` dict."""
 
 
 class TagPath(NamedTuple):
@@ -137,7 +130,7 @@ class TraitTagger(BaseEstimator):
         Raises:
             InputError: When there is nothing to train on, lengths differ or a tag is unknown.
         """
-        _check_training_data(X, y)
+        check_training_data(X, y)
         if self.algorithm not in ALGORITHMS:
             raise InputError(
                 f"The tagger's algorithm must be one of {', '.join(ALGORITHMS)}; "
@@ -154,14 +147,14 @@ class TraitTagger(BaseEstimator):
         if self.algorithm in ("lbfgs", "l2sgd"):
             params["c2"] = self.c2
         trainer.set_params(params)
-        _seed_c_rand(self.random_state)
+        seed_c_rand(self.random_state)
         # A sentence weighted by repetition is converted for CRFsuite once.
         converted: dict[int, pycrfsuite.ItemSequence] = {}
         weighted: dict[int, tuple[Attributes, dict[bytes, float]]] = {}
         for xseq, yseq in zip(X, y, strict=True):
             if len(xseq):
                 if id(xseq) not in converted:
-                    converted[id(xseq)] = pycrfsuite.ItemSequence(_crf_tokens(xseq, weighted))
+                    converted[id(xseq)] = pycrfsuite.ItemSequence(crf_tokens(xseq, weighted))
                 trainer.append(converted[id(xseq)], list(yseq))
         with tempfile.TemporaryDirectory() as tmp:
             path = Path(tmp) / MODEL_FILE
@@ -215,7 +208,7 @@ class TraitTagger(BaseEstimator):
             else:
                 return [_tag_path(d, decoder.labels, self.recall_threshold) for d in decoded]
         out = []
-        for xseq in (_crf_tokens(x, {}) for x in X):
+        for xseq in (crf_tokens(x, {}) for x in X):
             if not len(xseq):
                 out.append(TagPath([], [], 1.0))
                 continue
@@ -311,72 +304,6 @@ def _read_saved(folder: Path) -> tuple[dict[str, Any], bytes]:
             "it is corrupt or foreign, so retrain the tagger."
         )
     return meta, model
-
-
-def _seed_c_rand(seed: int) -> None:
-    """Seed the C library's ``rand``; where no C library can be loaded, do nothing."""
-    name = ctypes.util.find_library("c") or ctypes.util.find_library("msvcrt")
-    try:
-        libc = ctypes.CDLL(name)
-        libc.srand(ctypes.c_uint(seed & 0xFFFFFFFF))
-    except (OSError, AttributeError, TypeError):
-        # Training still works, only without bit-for-bit reproducibility.
-        return
-
-
-def _check_training_data(X: Sequence[Features], y: Sequence[Sequence[str]]) -> None:
-    if len(X) != len(y):
-        raise InputError(
-            f"Training needs one tag sequence per sentence; "
-            f"got {len(X)} sentences and {len(y)} tag sequences."
-        )
-    if not any(len(x) for x in X):
-        raise InputError(
-            "There are no tokens to train the tagger on; label or import some sentences first."
-        )
-    for n, (xseq, yseq) in enumerate(zip(X, y, strict=True)):
-        if len(xseq) != len(yseq):
-            raise InputError(
-                f"Training sentence {n} has {len(xseq)} tokens but {len(yseq)} tags; "
-                "give one tag per token."
-            )
-        unknown = set(yseq) - set(TAGS)
-        if unknown:
-            raise InputError(
-                f"Training sentence {n} has tags {sorted(unknown)}; allowed are {', '.join(TAGS)}."
-            )
-
-
-def _crf_tokens(
-    xseq: Features, weighted: dict[int, tuple[Attributes, dict[bytes, float]]]
-) -> Features:
-    """Return a sentence's features as CRFsuite takes them.
-
-    Tokens split in two are joined again; a token whose own part ends in an
-    :class:`~extractor.nlp.features.AxisBlock` becomes a ``{name: value}`` dict in the
-    same order (weight 1 for the other attributes), so CRFsuite weighs the block's
-    coordinates as the numpy decoder does. ``weighted`` keeps the dict of each own part
-    (by identity, holding the part) across sentences.
-    """
-    if not any(a and isinstance(a, tuple) and isinstance(a[0], tuple) for a in xseq):
-        return xseq
-    out: list[Any] = []
-    for token in xseq:
-        if not (token and isinstance(token, tuple) and isinstance(token[0], tuple)):
-            out.append(token)
-            continue
-        own, rest = token
-        if not own or type(own[-1]) is not AxisBlock:
-            out.append(own + rest)
-            continue
-        found = weighted.get(id(own))
-        if found is None:
-            block: AxisBlock = own[-1]
-            head = dict.fromkeys(own[:-1], 1.0)
-            head.update(zip(block.names, block.values, strict=True))
-            found = weighted[id(own)] = (own, head)
-        out.append({**found[1], **dict.fromkeys(rest, 1.0)})
-    return out
 
 
 def _tag_path(decoded: Decoded, labels: Sequence[str], recall: float | None) -> TagPath:

@@ -133,7 +133,7 @@ class AxisBlock(bytes):
     The element itself is no attribute (its bytes name none: it adds no weight); it stands
     for the attributes ``names`` (``v0``, ``v1``, ...) with the float ``values``, in that
     order. The tagger gives them to CRFsuite as weighted attributes
-    (:func:`extractor.models.tagger.crf_items`), the numpy decoder adds weight x value.
+    (:func:`extractor.models.crf_items.crf_tokens`), the numpy decoder adds weight x value.
     """
 
     names: tuple[bytes, ...]

@@ -17,7 +17,8 @@ import pycrfsuite
 import pytest
 
 from extractor.models.crf_decoder import CrfDecoder
-from extractor.models.tagger import TraitTagger, _crf_tokens, _sentence_rows, sentence_items
+from extractor.models.crf_items import crf_tokens
+from extractor.models.tagger import TraitTagger, _sentence_rows, sentence_items
 from extractor.nlp.clusters import learn_clusters
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.features import AxisBlock, SplitAttributes, sentence_attribute_parts
@@ -190,7 +191,7 @@ def test_axis_blocks_are_weighed_as_crfsuite_weighs_them(axes_case: tuple) -> No
     rows = [_sentence_rows(s, dictionary, clusters, decoder.index, True)[1] for s in unseen]
     assert [[own for own, _ in x] for x in rows] == [[own for own, _ in x] for x in split]
     # CRFsuite's tagger reads the same tokens as {name: value} dicts, block last in the own part.
-    expected = _reference(tagger.model_bytes_, [_crf_tokens(x, {}) for x in split])
+    expected = _reference(tagger.model_bytes_, [crf_tokens(x, {}) for x in split])
     assert _decoded(decoder, split) == expected
     assert _decoded(decoder, rows) == expected
     assert _decoded(decoder, rows) == expected  # the cached sums of the own parts
