@@ -72,7 +72,11 @@ def new_version_name(ws: Workspace) -> str:
 
 
 def reusable_clusters(ws: Workspace, corpus: Sequence[Sentence]) -> dict[str, Any] | None:
-    """Return the latest version's word clusters when the corpus has not changed since."""
+    """Return the latest version's word clusters when the corpus has not changed since.
+
+    Clusters learned before the pretrained space's main axes were (no ``space_axes``
+    parameter) are learned again, so the tagger can read the axes on few labels.
+    """
     latest = store.latest_model(ws.conn)
     if latest is None:
         return None
@@ -81,9 +85,10 @@ def reusable_clusters(ws: Workspace, corpus: Sequence[Sentence]) -> dict[str, An
     ):
         return None
     try:
-        return load_clusters(Path(ws.root / latest.path))
+        clusters = load_clusters(Path(ws.root / latest.path))
     except TraitsError:
         return None
+    return clusters if "space_axes" in clusters.get("params", {}) else None
 
 
 _NOTHING_TO_TRAIN_ON = (

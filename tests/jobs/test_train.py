@@ -8,12 +8,14 @@ import sqlite3
 import time
 from datetime import datetime
 from pathlib import Path
+from types import SimpleNamespace
 
 import pytest
 
 from extractor.jobs.run import train_and_tag
-from extractor.jobs.train import new_version_name, stance_gaps
+from extractor.jobs.train import new_version_name, reusable_clusters, stance_gaps
 from extractor.models.cues import load_cues
+from extractor.nlp.clusters import learn_clusters, save_clusters
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -208,3 +210,18 @@ def test_stance_gaps_are_the_languages_with_neither_cues_nor_stance_labels() -> 
     gold = [(corpus[1], [Span(0, 3, None, "liked")])]
     # en and sw have packaged cue words; yo has a stance label; ha has neither.
     assert stance_gaps(corpus, gold, load_cues()) == ["ha"]
+
+
+def test_clusters_learned_before_the_main_axes_are_learned_again(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    corpus = [Sentence(i, f"The taste of Velora is good {i} .", "en") for i in range(6)]
+    clusters = learn_clusters([(s.text, s.lang) for s in corpus], space="none")
+    latest = SimpleNamespace(meta={"clusters_fingerprint": clusters["fingerprint"]}, path="v1")
+    monkeypatch.setattr(store, "latest_model", lambda conn: latest)
+    ws = SimpleNamespace(conn=None, root=tmp_path)
+    save_clusters(clusters, tmp_path / "v1")
+    assert reusable_clusters(ws, corpus) is not None  # type: ignore[arg-type]
+    del clusters["params"]["space_axes"]  # as a version of an earlier release wrote them
+    save_clusters(clusters, tmp_path / "v1")
+    assert reusable_clusters(ws, corpus) is None  # type: ignore[arg-type]
