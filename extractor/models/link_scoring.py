@@ -34,7 +34,8 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
 from extractor.nlp import pretrained
-from extractor.nlp.dictionary import stem_word
+from extractor.nlp.derivation import derivation_clash
+from extractor.nlp.dictionary import stem_word, stemmer_language
 from extractor.nlp.fold import fold, fold_words
 from extractor.nlp.nontrait import never_alone, only_function_words
 from extractor.nlp.text import primary_subtag, tokenize
@@ -73,6 +74,12 @@ def alias_key(text: str, lang: str) -> str:
     """Return the exact-match key of a text: each word stemmed and folded, space-joined."""
     words = [text[s:e] for s, e in tokenize(text, lang or "xx")]
     return " ".join(stem_word(w, lang or "xx") for w in words if any(c.isalnum() for c in w))
+
+
+def key_words(text: str, lang: str) -> list[str]:
+    """Return the words :func:`alias_key` stems, case-folded and without accents."""
+    words = [text[s:e] for s, e in tokenize(text, lang or "xx")]
+    return [fold(w) for w in words if any(c.isalnum() for c in w)]
 
 
 def _char_ngrams(text: str, low: int = 2, high: int = 4) -> list[str]:
@@ -164,6 +171,7 @@ class Scorer:
         self.starts = starts
         self.space = space
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
+        self._forms_of: dict[str, list[tuple[str, str]]] | None = None
         self._form_vectors: np.ndarray | None = None
 
     @classmethod
@@ -211,11 +219,18 @@ class Scorer:
         return self._exact_by_lang[code]
 
     def exact(self, sentence: Sentence, span: Span) -> set[str]:
-        """Return the concepts one of whose forms equals the span after normalisation."""
+        """Return the concepts one of whose forms equals the span after normalisation.
+
+        A form that meets the span by a stem only, where one word carries a derivational
+        suffix the other lacks ("amarillo", "amarillamiento"), is no exact match
+        (:func:`extractor.nlp.derivation.derivation_clash`).
+        """
         text = sentence.text[span.start : span.end]
         key = alias_key(text, sentence.lang)
         hits = set(self._exact_index(sentence.lang).get(key, set()))
         hits |= self.exact_own.get(key, set())
+        if hits:
+            hits = {c for c in hits if self._same_words(text, key, c, sentence.lang)}
         tokens = tokenize(sentence.text, sentence.lang or "xx")
         inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
         if len(inside) == 1:
@@ -224,6 +239,27 @@ class Scorer:
             if never_alone(words, inside[0], sentence.lang, forms):
                 return set()  # a verb of liking, or an infinitive meeting a noun by its stem
         return hits
+
+    def _same_words(self, text: str, key: str, concept: str, lang: str) -> bool:
+        """Return whether a form of ``concept`` keyed ``key`` is no derivation of ``text``."""
+        if self._forms_of is None:
+            self._forms_of = defaultdict(list)
+            for c, form, form_lang in self.forms:
+                self._forms_of[c].append((form, form_lang))
+        code = stemmer_language(lang)
+        words = key_words(text, lang)
+        for form, form_lang in self._forms_of[concept]:
+            own = stemmer_language(form_lang)
+            if own != code and alias_key(form, form_lang) == key:
+                return True  # met by its own stemmer: a code-switched word, as before
+            if alias_key(form, lang) != key:
+                continue
+            theirs = key_words(form, lang)
+            if len(theirs) != len(words) or not derivation_clash(
+                words, theirs, key.split(), lang, alias_native=own == code
+            ):
+                return True
+        return False
 
     def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
         """Return an ``(n, concepts)`` array of the best alias cosine per concept."""

@@ -23,6 +23,10 @@ the sentence's language wins, then the earlier one. Matches never overlap. When 
 alias form belongs to several concepts, the concept with an alias in the sentence's
 language wins, then the one whose alias has exactly the written (unstemmed) form,
 then the smallest concept ID, so results never depend on input order.
+
+A word that meets an alias word by its stem alone while one of the two carries a
+derivational suffix the other lacks ("amarillo" and "amarillamiento", "yellow" and
+"yellowing") is no match: :func:`extractor.nlp.derivation.derivation_clash`.
 """
 
 from __future__ import annotations
@@ -34,6 +38,7 @@ from typing import NamedTuple, cast
 import snowballstemmer
 
 from extractor.errors import InputError
+from extractor.nlp.derivation import derivation_clash
 from extractor.nlp.fold import fold
 from extractor.nlp.nontrait import never_alone
 from extractor.nlp.text import primary_subtag, tokenize
@@ -250,6 +255,7 @@ class Dictionary:
         only_own: bool,
     ) -> list[_Candidate]:
         entries, lengths, _ = self._matcher(stem_lang, only_own)
+        native = stemmer_language(sent_code) == stem_lang  # the sentence's words are of it
         out = []
         for first, stop, options in _matches(keys, entries, lengths):
             if stop - first == 1 and never_alone(
@@ -257,6 +263,22 @@ class Dictionary:
             ):
                 continue  # a verb of liking, or an infinitive meeting a noun by its stem
             written = tuple(forms[first:stop])
+            shared = cast("list[str]", keys[first:stop])
+            options = [
+                e
+                for e in options
+                if e.form == written
+                or not derivation_clash(
+                    written,
+                    e.form,
+                    shared,
+                    stem_lang,
+                    words_native=native,
+                    alias_native=stemmer_language(e.lang) == stem_lang,
+                )
+            ]
+            if not options:
+                continue  # the stem joins words of different meaning ("amarillo"/"amarillamiento")
             best = min(
                 options,
                 key=lambda e: (e.lang != sent_code, e.form != written, e.concept),

@@ -1,0 +1,157 @@
+"""Whether two words that share a Snowball stem differ by a derivational suffix.
+
+The dictionary and the linker's exact score compare words by their Snowball stem, so
+that inflections meet ("colores" and "color", "matured" and "mature"). The stemmer also
+removes *derivational* suffixes, which make a word of another meaning from the same root:
+"amarillamiento" (yellowing, a disease sign) and "amarillo" (yellow) both stem to
+"amarill", "jaunissement" and "jaune" to "jaun". A word that differs from an alias word
+only by its stem then stood for the alias's concept: the colour of a bean was read as
+disease resistance (DEVELOPERS.md, "Spans and links of the demo triples").
+
+:func:`derivation_clash` tells such pairs apart with the Snowball algorithms' own
+division of labour: each algorithm removes derivational suffixes in a step of its own
+(step 1, "standard suffix removal", for the Romance languages; steps 2 to 4 for English)
+before or instead of the verb and noun endings. :data:`DERIVATIONAL` lists those
+suffixes, as written in the algorithm descriptions (snowballstem.org, "The English
+(Porter2) stemming algorithm", "French stemming algorithm", "Spanish stemming algorithm",
+"Portuguese stemming algorithm"), in their surface spelling (accents removed, as keys
+are). A suffix counts only where the stemmer did remove it (the shared stem is no longer
+than the word without it), so "petite" is no derivation in "-ite".
+
+English adds one case the algorithm treats as an ending: a gerund against the bare word
+("yellowing" and "yellow", "milling" and "mill"). The bare English word is the noun and
+adjective as well as the verb, so the "-ing" form of an alias names a process where the
+bare word names a thing or a quality; against another verb ending ("climbs",
+"climbing") it stays an inflection.
+
+Languages without a table here compare by stem alone, as before.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from functools import lru_cache
+
+from extractor.nlp.text import primary_subtag
+
+_GROUPS: dict[str, tuple[tuple[str, ...], ...]] = {
+    # Porter2 steps 2-4, in surface spelling ("-iti" is "-ity", "-li" after "-ous" is "-ly").
+    # "-ly" alone (step 2's "li") is left out: an adverb keeps its adjective's sense.
+    "en": (
+        ("ational",), ("tional",), ("ization",), ("ation", "ations"), ("ator", "ators"),
+        ("alism",), ("ality",), ("fulness",), ("ousness",), ("iveness",), ("ivity",),
+        ("bility",), ("ness",), ("ful",), ("icate",), ("ative",), ("alize",), ("ical",),
+        ("ance", "ances"), ("ence", "ences"), ("ement", "ements"), ("ment", "ments"),
+        ("able",), ("ible",), ("ant", "ants"), ("ent", "ents"), ("ism", "isms"),
+        ("ity", "ities"), ("ous",), ("ive", "ives"), ("ize", "izes"), ("ion", "ions"),
+    ),
+    # French step 1 ("-aux" and "-eaux" are plurals there, left out).
+    "fr": (
+        ("ance", "ances"), ("ique", "iques"), ("isme", "ismes"), ("able", "ables"),
+        ("iste", "istes"), ("eux",), ("euse", "euses"),
+        ("atrice", "atrices", "ateur", "ateurs", "ation", "ations"), ("logie", "logies"),
+        ("usion", "usions", "ution", "utions"), ("ence", "ences"), ("ement", "ements"),
+        ("ite", "ites"), ("if", "ifs", "ive", "ives"), ("issement", "issements"),
+        ("amment",), ("emment",), ("ment", "ments"),
+    ),
+    # Spanish step 1.
+    "es": (
+        ("anza", "anzas"), ("ico", "ica", "icos", "icas"), ("ismo", "ismos"),
+        ("able", "ables"), ("ible", "ibles"), ("ista", "istas"), ("oso", "osa", "osos", "osas"),
+        ("amiento", "amientos"), ("imiento", "imientos"),
+        ("ador", "adora", "adores", "adoras"), ("acion", "aciones"), ("ante", "antes"),
+        ("ancia", "ancias"), ("logia", "logias"), ("ucion", "uciones"),
+        ("encia", "encias"), ("amente",), ("mente",), ("idad", "idades"),
+        ("ivo", "iva", "ivos", "ivas"),
+    ),
+    # Portuguese step 1.
+    "pt": (
+        ("eza", "ezas"), ("ico", "ica", "icos", "icas"), ("ismo", "ismos"), ("avel",),
+        ("ivel",), ("ista", "istas"), ("oso", "osa", "osos", "osas"),
+        ("amento", "amentos"), ("imento", "imentos"), ("ador", "adora", "adores", "adoras"),
+        ("acao", "acoes"), ("ante", "antes"), ("ancia", "ancias"), ("logia", "logias"),
+        ("ucao", "ucoes"), ("encia", "encias"), ("amente",), ("mente",),
+        ("idade", "idades"), ("ivo", "iva", "ivos", "ivas"),
+    ),
+}  # fmt: skip
+
+DERIVATIONAL: dict[str, dict[str, str]] = {
+    code: {suffix: group[0] for group in groups for suffix in group}
+    for code, groups in _GROUPS.items()
+}
+"""Language code -> derivational suffix (accents removed) -> its class (the group's first
+spelling: "amientos" is "amiento"), from the Snowball algorithm descriptions."""
+
+_GERUND = "ing"
+
+
+@lru_cache(maxsize=1 << 16)
+def derivation(form: str, key: str, code: str) -> str | None:
+    """Return the class of the derivational suffix the stemmer removed from a word, or ``None``.
+
+    Args:
+        form: The word, case-folded and without accents.
+        key: Its stem key (:func:`extractor.nlp.dictionary.stem_word`).
+        code: The primary language subtag of the stemmer that made the key.
+
+    Returns:
+        The longest listed suffix that ``form`` ends with and that lies wholly outside
+        the stem, as its class; for English also ``"ing"`` in the same way; ``None``.
+    """
+    table = DERIVATIONAL.get(code)
+    if table is None:
+        return None
+    room = len(form) - len(key)  # letters the stemmer took off (or changed)
+    for n in range(min(room, max(map(len, table))), 0, -1):
+        suffix = form[-n:]
+        if suffix in table:
+            return table[suffix]
+    if code == "en" and room >= len(_GERUND) and form.endswith(_GERUND):
+        return _GERUND
+    return None
+
+
+def derivation_clash(
+    words: Sequence[str],
+    alias_words: Sequence[str],
+    keys: Sequence[str],
+    lang: str,
+    *,
+    words_native: bool = True,
+    alias_native: bool = True,
+) -> bool:
+    """Return whether a stem match joins words that differ by a derivational suffix.
+
+    Args:
+        words: The matched words, case-folded and without accents.
+        alias_words: The alias's words, the same way, one per matched word.
+        keys: The stem key each pair shares.
+        lang: The language tag of the stemmer that made the keys.
+        words_native: Whether the matched words are in that language. A word of another
+            language (code-switching: a French "demandent" keyed with the English
+            stemmer of the alias "demand") has no suffix class in it: only the other
+            word's counts.
+        alias_native: The same for the alias's words.
+
+    Returns:
+        ``True`` when some pair is written differently and one word carries a
+        derivational suffix the other lacks (another suffix, or none), or is an English
+        gerund against the bare word; ``False`` otherwise, and for a language without a
+        table.
+    """
+    code = primary_subtag(lang) if lang else ""
+    if code not in DERIVATIONAL:
+        return False
+    for word, alias, key in zip(words, alias_words, keys, strict=True):
+        if word == alias:
+            continue
+        ours = derivation(word, key, code) if words_native else None
+        theirs = derivation(alias, key, code) if alias_native else None
+        if ours == theirs:
+            continue  # the same class (or no suffix), or a foreign word against an underived one
+        if _GERUND in (ours, theirs) and None in (ours, theirs):
+            other = alias if ours == _GERUND else word
+            if other not in (key, key + "e"):
+                continue  # a gerund against another verb ending ("climbs"): an inflection
+        return True
+    return False
