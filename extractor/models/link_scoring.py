@@ -76,10 +76,15 @@ def alias_key(text: str, lang: str) -> str:
     return " ".join(stem_word(w, lang or "xx") for w in words if any(c.isalnum() for c in w))
 
 
+@lru_cache(maxsize=1 << 16)
+def _key_words(text: str, lang: str) -> tuple[str, ...]:
+    words = [text[s:e] for s, e in tokenize(text, lang or "xx")]
+    return tuple(fold(w) for w in words if any(c.isalnum() for c in w))
+
+
 def key_words(text: str, lang: str) -> list[str]:
     """Return the words :func:`alias_key` stems, case-folded and without accents."""
-    words = [text[s:e] for s, e in tokenize(text, lang or "xx")]
-    return [fold(w) for w in words if any(c.isalnum() for c in w)]
+    return list(_key_words(text, lang))
 
 
 def _char_ngrams(text: str, low: int = 2, high: int = 4) -> list[str]:
@@ -172,6 +177,7 @@ class Scorer:
         self.space = space
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
         self._forms_of: dict[str, list[tuple[str, str]]] | None = None
+        self._claims: dict[str, set[str]] = {}
         self._form_vectors: np.ndarray | None = None
 
     @classmethod
@@ -230,7 +236,8 @@ class Scorer:
         hits = set(self._exact_index(sentence.lang).get(key, set()))
         hits |= self.exact_own.get(key, set())
         if hits:
-            hits = {c for c in hits if self._same_words(text, key, c, sentence.lang)}
+            words = key_words(text, sentence.lang)
+            hits = {c for c in hits if self._same_words(words, key, c, sentence.lang)}
         tokens = tokenize(sentence.text, sentence.lang or "xx")
         inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
         if len(inside) == 1:
@@ -240,26 +247,36 @@ class Scorer:
                 return set()  # a verb of liking, or an infinitive meeting a noun by its stem
         return hits
 
-    def _same_words(self, text: str, key: str, concept: str, lang: str) -> bool:
-        """Return whether a form of ``concept`` keyed ``key`` is no derivation of ``text``."""
+    def _same_words(self, words: list[str], key: str, concept: str, lang: str) -> bool:
+        """Return whether a form of ``concept`` keyed ``key`` meets ``words`` as the same words.
+
+        As in dictionary matching (:mod:`extractor.nlp.dictionary`): a form written as the
+        words are always does; by the stem alone, not when the one word is written so in
+        another concept's form, nor when a derivational suffix differs.
+        """
         if self._forms_of is None:
             self._forms_of = defaultdict(list)
+            self._claims = defaultdict(set)
             for c, form, form_lang in self.forms:
                 self._forms_of[c].append((form, form_lang))
+                for word in key_words(form, form_lang):
+                    self._claims[word].add(c)
         code = stemmer_language(lang)
-        words = key_words(text, lang)
+        claimed = len(words) == 1 and bool(self._claims.get(words[0], set()) - {concept})
+        stem_only = False
         for form, form_lang in self._forms_of[concept]:
             own = stemmer_language(form_lang)
-            if own != code and alias_key(form, form_lang) == key:
-                return True  # met by its own stemmer: a code-switched word, as before
-            if alias_key(form, lang) != key:
-                continue
             theirs = key_words(form, lang)
-            if len(theirs) != len(words) or not derivation_clash(
-                words, theirs, key.split(), lang, alias_native=own == code
-            ):
+            if theirs == words:
                 return True
-        return False
+            if own != code and alias_key(form, form_lang) == key:
+                stem_only = True  # met by its own stemmer: a code-switched word, as before
+            elif alias_key(form, lang) == key and (
+                len(theirs) != len(words)
+                or not derivation_clash(words, theirs, key.split(), lang, alias_native=own == code)
+            ):
+                stem_only = True
+        return stem_only and not claimed
 
     def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
         """Return an ``(n, concepts)`` array of the best alias cosine per concept."""

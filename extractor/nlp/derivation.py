@@ -16,13 +16,16 @@ suffixes, as written in the algorithm descriptions (snowballstem.org, "The Engli
 (Porter2) stemming algorithm", "French stemming algorithm", "Spanish stemming algorithm",
 "Portuguese stemming algorithm"), in their surface spelling (accents removed, as keys
 are). A suffix counts only where the stemmer did remove it (the shared stem is no longer
-than the word without it), so "petite" is no derivation in "-ite".
+than the word without it), so "petite" is no derivation in "-ite". Suffixes the algorithms
+replace rather than remove ("-logie" by "-log", "-encia" by "-ente", "-tional" by
+"-tion") are left out: the stem keeps a trace of them, so they join no two words here.
 
-English adds one case the algorithm treats as an ending: a gerund against the bare word
-("yellowing" and "yellow", "milling" and "mill"). The bare English word is the noun and
-adjective as well as the verb, so the "-ing" form of an alias names a process where the
-bare word names a thing or a quality; against another verb ending ("climbs",
-"climbing") it stays an inflection.
+English adds one case the algorithm treats as an ending: an alias written as a gerund
+met by the bare word ("yellowing" and "yellow", "milling" and "mill"). The bare English
+word is the noun and adjective as well as the verb, so where the list writes the "-ing"
+form it names a process, and the bare word in an answer names a thing or a quality. The
+reverse ("cooking" in an answer, the alias "cook") and other verb endings ("climbs"
+against "climbing") stay inflections.
 
 Languages without a table here compare by stem alone, as before.
 """
@@ -38,9 +41,9 @@ _GROUPS: dict[str, tuple[tuple[str, ...], ...]] = {
     # Porter2 steps 2-4, in surface spelling ("-iti" is "-ity", "-li" after "-ous" is "-ly").
     # "-ly" alone (step 2's "li") is left out: an adverb keeps its adjective's sense.
     "en": (
-        ("ational",), ("tional",), ("ization",), ("ation", "ations"), ("ator", "ators"),
+        ("ational",), ("ization",), ("ation", "ations"), ("ator", "ators"),
         ("alism",), ("ality",), ("fulness",), ("ousness",), ("iveness",), ("ivity",),
-        ("bility",), ("ness",), ("ful",), ("icate",), ("ative",), ("alize",), ("ical",),
+        ("ness",), ("ful",), ("icate",), ("ative",), ("alize",), ("ical",),
         ("ance", "ances"), ("ence", "ences"), ("ement", "ements"), ("ment", "ments"),
         ("able",), ("ible",), ("ant", "ants"), ("ent", "ents"), ("ism", "isms"),
         ("ity", "ities"), ("ous",), ("ive", "ives"), ("ize", "izes"), ("ion", "ions"),
@@ -49,10 +52,9 @@ _GROUPS: dict[str, tuple[tuple[str, ...], ...]] = {
     "fr": (
         ("ance", "ances"), ("ique", "iques"), ("isme", "ismes"), ("able", "ables"),
         ("iste", "istes"), ("eux",), ("euse", "euses"),
-        ("atrice", "atrices", "ateur", "ateurs", "ation", "ations"), ("logie", "logies"),
-        ("usion", "usions", "ution", "utions"), ("ence", "ences"), ("ement", "ements"),
+        ("atrice", "atrices", "ateur", "ateurs", "ation", "ations"), ("ement", "ements"),
         ("ite", "ites"), ("if", "ifs", "ive", "ives"), ("issement", "issements"),
-        ("amment",), ("emment",), ("ment", "ments"),
+        ("amment",), ("ment", "ments"),
     ),
     # Spanish step 1.
     "es": (
@@ -60,8 +62,7 @@ _GROUPS: dict[str, tuple[tuple[str, ...], ...]] = {
         ("able", "ables"), ("ible", "ibles"), ("ista", "istas"), ("oso", "osa", "osos", "osas"),
         ("amiento", "amientos"), ("imiento", "imientos"),
         ("ador", "adora", "adores", "adoras"), ("acion", "aciones"), ("ante", "antes"),
-        ("ancia", "ancias"), ("logia", "logias"), ("ucion", "uciones"),
-        ("encia", "encias"), ("amente",), ("mente",), ("idad", "idades"),
+        ("ancia", "ancias"), ("amente",), ("mente",), ("idad", "idades"),
         ("ivo", "iva", "ivos", "ivas"),
     ),
     # Portuguese step 1.
@@ -69,8 +70,7 @@ _GROUPS: dict[str, tuple[tuple[str, ...], ...]] = {
         ("eza", "ezas"), ("ico", "ica", "icos", "icas"), ("ismo", "ismos"), ("avel",),
         ("ivel",), ("ista", "istas"), ("oso", "osa", "osos", "osas"),
         ("amento", "amentos"), ("imento", "imentos"), ("ador", "adora", "adores", "adoras"),
-        ("acao", "acoes"), ("ante", "antes"), ("ancia", "ancias"), ("logia", "logias"),
-        ("ucao", "ucoes"), ("encia", "encias"), ("amente",), ("mente",),
+        ("acao", "acoes"), ("ante", "antes"), ("ancia",), ("amente",), ("mente",),
         ("idade", "idades"), ("ivo", "iva", "ivos", "ivas"),
     ),
 }  # fmt: skip
@@ -135,9 +135,9 @@ def derivation_clash(
 
     Returns:
         ``True`` when some pair is written differently and one word carries a
-        derivational suffix the other lacks (another suffix, or none), or is an English
-        gerund against the bare word; ``False`` otherwise, and for a language without a
-        table.
+        derivational suffix the other lacks (another suffix, or none), or the alias's
+        word is an English gerund and the matched word the bare word; ``False``
+        otherwise, and for a language without a table.
     """
     code = primary_subtag(lang) if lang else ""
     if code not in DERIVATIONAL:
@@ -149,9 +149,9 @@ def derivation_clash(
         theirs = derivation(alias, key, code) if alias_native else None
         if ours == theirs:
             continue  # the same class (or no suffix), or a foreign word against an underived one
-        if _GERUND in (ours, theirs) and None in (ours, theirs):
-            other = alias if ours == _GERUND else word
-            if other not in (key, key + "e"):
-                continue  # a gerund against another verb ending ("climbs"): an inflection
+        if ours == _GERUND and theirs is None:
+            continue  # "cooking" against the alias "cook": the verb's own form
+        if theirs == _GERUND and ours is None and word not in (key, key + "e"):
+            continue  # a gerund against another verb ending ("climbs"): an inflection
         return True
     return False

@@ -1,0 +1,106 @@
+"""Stem matches that join a derived word to its root are refused; inflections still meet."""
+
+from __future__ import annotations
+
+import pytest
+import snowballstemmer
+
+from extractor.nlp.derivation import DERIVATIONAL, derivation_clash
+from extractor.nlp.dictionary import SNOWBALL_LANGUAGES, build_dictionary, stem_word
+from extractor.nlp.fold import fold
+from tests import maize
+
+# Roots a suffix is put on; the accented spelling of a suffix where the stemmer needs it.
+ROOTS = {
+    "en": ("contrast", "develop", "interest", "respons"),
+    "fr": ("transport", "contrast", "absolu"),
+    "es": ("contrast", "transport"),
+    "pt": ("contrast", "transport"),
+}
+ACCENTED = {
+    "fr": {"ite": "ité", "ites": "ités"},
+    "es": {"acion": "ación"},
+    "pt": {"avel": "ável", "ivel": "ível", "acao": "ação", "acoes": "ações", "ancia": "ância"},
+}
+
+
+@pytest.mark.parametrize("code", sorted(DERIVATIONAL))
+def test_every_listed_suffix_is_one_the_snowball_stemmer_removes(code: str) -> None:
+    # Source: the Snowball stemmers themselves (snowballstemmer, the reference
+    # implementation of the algorithms on snowballstem.org): each suffix of the table,
+    # put on a root, is taken off whole, so the table holds only what the stemmer strips.
+    stemmer = snowballstemmer.stemmer(SNOWBALL_LANGUAGES[code])
+    for suffix in DERIVATIONAL[code]:
+        written = ACCENTED.get(code, {}).get(suffix, suffix)
+        stems = [fold(stemmer.stemWord(root + written)) for root in ROOTS[code]]
+        assert any(
+            len(stem) <= len(root) for stem, root in zip(stems, ROOTS[code], strict=True)
+        ), (code, suffix, stems)
+
+
+@pytest.mark.parametrize(
+    ("word", "alias", "lang", "clash"),
+    [
+        ("amarillo", "amarillamiento", "es", True),  # yellow / yellowing (a disease sign)
+        ("jaune", "jaunissement", "fr", True),
+        ("jaunit", "jaunissement", "fr", True),
+        ("yellow", "yellowing", "en", True),
+        ("encharca", "encharcamiento", "es", True),
+        ("colores", "color", "es", False),  # inflections
+        ("sabrosa", "sabroso", "es", False),
+        ("noircissent", "noircit", "fr", False),
+        ("climbs", "climbing", "en", False),
+        ("cooking", "cook", "en", False),
+        ("matured", "mature", "en", False),
+    ],
+)
+def test_clash_only_where_a_derivational_suffix_differs(
+    word: str, alias: str, lang: str, clash: bool
+) -> None:
+    # Source: the Snowball stemmers' own output (snowballstemmer) joins every pair.
+    stemmer = snowballstemmer.stemmer(SNOWBALL_LANGUAGES[lang])
+    assert fold(stemmer.stemWord(word)) == fold(stemmer.stemWord(alias))
+    key = stem_word(word, lang)
+    assert derivation_clash([fold(word)], [fold(alias)], [key], lang) is clash
+
+
+def test_a_foreign_word_is_judged_by_the_alias_side_alone() -> None:
+    # French "demandent" keyed with the English stemmer of the alias "demand": its "-ent"
+    # is a French verb ending, no English suffix (snowballstemmer: both stem to "demand").
+    assert stem_word("demandent", "en") == stem_word("demand", "en")
+    assert derivation_clash(["demandent"], ["demand"], ["demand"], "en")
+    assert not derivation_clash(["demandent"], ["demand"], ["demand"], "en", words_native=False)
+
+
+def test_languages_without_a_table_compare_by_stem_alone() -> None:
+    assert not derivation_clash(["gelbe"], ["gelbfärbung"], ["gelb"], "de")
+
+
+def test_dictionary_keeps_inflections_and_drops_derivations() -> None:
+    aliases = [("BX:1", "amarillamiento", "es"), ("BX:2", "color", "es"), ("BX:1", "yellowing", "en")]
+    dictionary = build_dictionary(aliases)
+    assert dictionary.match("El grano es amarillo.", "es") == []
+    assert [s.concept for s in dictionary.match("Hay amarillamiento.", "es")] == ["BX:1"]
+    assert [s.concept for s in dictionary.match("Tiene colores.", "es")] == ["BX:2"]
+    assert dictionary.match("The yellow one.", "en") == []
+    assert [s.concept for s in dictionary.match("Leaves are yellowing.", "en")] == ["BX:1"]
+
+
+@pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
+def test_real_maize_answers_mill_is_no_milling_but_withstanding_is_withstands() -> None:
+    # Real farmer answers (maize concept-testing data, CC BY 4.0) with our labels: in
+    # "to mill flour" the labeller marked "flour" alone (flour quality), not the verb that
+    # the list's "milling" stems to; "Withstanding Drought" is an inflection of the
+    # alias "withstands drought" and stays a match.
+    loaded = maize.load_workspace()
+    assert loaded is not None
+    corpus, labelled, aliases = loaded
+    dictionary = build_dictionary(aliases)
+    gold = {g["row"]: g["spans"] for g in labelled}
+    mill = corpus[1835]
+    assert [mill.text[s["start"] : s["end"]] for s in gold[1835]] == ["flour"]
+    assert [mill.text[s.start : s.end] for s in dictionary.match(mill.text, "en")] == ["flour"]
+    drought = corpus[4734]
+    found = {(s.start, s.end, s.concept) for s in dictionary.match(drought.text, "en")}
+    assert (25, 45, "MZT:02") in found
+    assert (25, 45, "MZT:02") in {(s["start"], s["end"], s["concept"]) for s in gold[4734]}
