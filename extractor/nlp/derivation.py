@@ -11,14 +11,19 @@ disease resistance (DEVELOPERS.md, "Spans and links of the demo triples").
 :func:`derivation_clash` tells such pairs apart with the Snowball algorithms' own
 division of labour: each algorithm removes derivational suffixes in a step of its own
 (step 1, "standard suffix removal", for the Romance languages; steps 2 to 4 for English)
-before or instead of the verb and noun endings. :data:`DERIVATIONAL` lists those
-suffixes, as written in the algorithm descriptions (snowballstem.org, "The English
+before or instead of the verb and noun endings. :data:`DERIVATIONAL` keeps, of those
+suffixes as written in the algorithm descriptions (snowballstem.org, "The English
 (Porter2) stemming algorithm", "French stemming algorithm", "Spanish stemming algorithm",
-"Portuguese stemming algorithm"), in their surface spelling (accents removed, as keys
-are). A suffix counts only where the stemmer did remove it (the shared stem is no longer
-than the word without it), so "petite" is no derivation in "-ite". Suffixes the algorithms
-replace rather than remove ("-logie" by "-log", "-encia" by "-ente", "-tional" by
-"-tion") are left out: the stem keeps a trace of them, so they join no two words here.
+"Portuguese stemming algorithm"), the ones that make a noun of a *process* ("-amiento",
+"-issement", "-ation", "-ment"), in their surface spelling (accents removed, as keys
+are): a process (yellowing, flooding) is another trait than the quality or thing its root
+names (yellow). Suffixes of quality nouns and adjectives ("-ity", "-ness", "-idad",
+"-able", "-ant") are left out, as the quality is the same trait ("maturity" and
+"matured", "résistant" and "résiste": on the demo's and our maize labels every such
+stem match was right), and so are the French "-ement" and the Spanish and Portuguese
+"-mente", which also make adverbs ("rapidement"). A suffix counts only where the stemmer
+did remove it (the shared stem is no longer than the word without it), so "nation" is no
+process noun of "nat".
 
 English adds one case the algorithm treats as an ending: an alias written as a gerund
 met by the bare word ("yellowing" and "yellow", "milling" and "mill"). The bare English
@@ -38,41 +43,11 @@ from functools import lru_cache
 from extractor.nlp.text import primary_subtag
 
 _GROUPS: dict[str, tuple[tuple[str, ...], ...]] = {
-    # Porter2 steps 2-4, in surface spelling ("-iti" is "-ity", "-li" after "-ous" is "-ly").
-    # "-ly" alone (step 2's "li") is left out: an adverb keeps its adjective's sense.
-    "en": (
-        ("ational",), ("ization",), ("ation", "ations"), ("ator", "ators"),
-        ("alism",), ("ality",), ("fulness",), ("ousness",), ("iveness",), ("ivity",),
-        ("ness",), ("ful",), ("icate",), ("ative",), ("alize",), ("ical",),
-        ("ance", "ances"), ("ence", "ences"), ("ement", "ements"), ("ment", "ments"),
-        ("able",), ("ible",), ("ant", "ants"), ("ent", "ents"), ("ism", "isms"),
-        ("ity", "ities"), ("ous",), ("ive", "ives"), ("ize", "izes"), ("ion", "ions"),
-    ),
-    # French step 1 ("-aux" and "-eaux" are plurals there, left out).
-    "fr": (
-        ("ance", "ances"), ("ique", "iques"), ("isme", "ismes"), ("able", "ables"),
-        ("iste", "istes"), ("eux",), ("euse", "euses"),
-        ("atrice", "atrices", "ateur", "ateurs", "ation", "ations"), ("ement", "ements"),
-        ("ite", "ites"), ("if", "ifs", "ive", "ives"), ("issement", "issements"),
-        ("amment",), ("ment", "ments"),
-    ),
-    # Spanish step 1.
-    "es": (
-        ("anza", "anzas"), ("ico", "ica", "icos", "icas"), ("ismo", "ismos"),
-        ("able", "ables"), ("ible", "ibles"), ("ista", "istas"), ("oso", "osa", "osos", "osas"),
-        ("amiento", "amientos"), ("imiento", "imientos"),
-        ("ador", "adora", "adores", "adoras"), ("acion", "aciones"), ("ante", "antes"),
-        ("ancia", "ancias"), ("amente",), ("mente",), ("idad", "idades"),
-        ("ivo", "iva", "ivos", "ivas"),
-    ),
-    # Portuguese step 1.
-    "pt": (
-        ("eza", "ezas"), ("ico", "ica", "icos", "icas"), ("ismo", "ismos"), ("avel",),
-        ("ivel",), ("ista", "istas"), ("oso", "osa", "osos", "osas"),
-        ("amento", "amentos"), ("imento", "imentos"), ("ador", "adora", "adores", "adoras"),
-        ("acao", "acoes"), ("ante", "antes"), ("ancia",), ("amente",), ("mente",),
-        ("idade", "idades"), ("ivo", "iva", "ivos", "ivas"),
-    ),
+    "en": (("ation", "ations"), ("ization",), ("ement", "ements"), ("ment", "ments"),
+           ("ion", "ions")),  # Porter2 steps 2 and 4
+    "fr": (("ation", "ations"), ("issement", "issements")),  # step 1 ("-ement" also makes adverbs)
+    "es": (("amiento", "amientos"), ("imiento", "imientos"), ("acion", "aciones")),  # step 1
+    "pt": (("amento", "amentos"), ("imento", "imentos"), ("acao", "acoes")),  # step 1
 }  # fmt: skip
 
 DERIVATIONAL: dict[str, dict[str, str]] = {
@@ -80,7 +55,8 @@ DERIVATIONAL: dict[str, dict[str, str]] = {
     for code, groups in _GROUPS.items()
 }
 """Language code -> derivational suffix (accents removed) -> its class (the group's first
-spelling: "amientos" is "amiento"), from the Snowball algorithm descriptions."""
+spelling: "amientos" is "amiento"), from the Snowball algorithm descriptions (module
+docstring)."""
 
 _GERUND = "ing"
 

@@ -5,9 +5,11 @@ from __future__ import annotations
 import pytest
 import snowballstemmer
 
+from extractor.models.link_scoring import Scorer
 from extractor.nlp.derivation import DERIVATIONAL, derivation_clash
 from extractor.nlp.dictionary import SNOWBALL_LANGUAGES, build_dictionary, stem_word
 from extractor.nlp.fold import fold
+from extractor.types import Sentence, Span
 from tests import maize
 
 # Roots a suffix is put on; the accented spelling of a suffix where the stemmer needs it.
@@ -33,9 +35,11 @@ def test_every_listed_suffix_is_one_the_snowball_stemmer_removes(code: str) -> N
     for suffix in DERIVATIONAL[code]:
         written = ACCENTED.get(code, {}).get(suffix, suffix)
         stems = [fold(stemmer.stemWord(root + written)) for root in ROOTS[code]]
-        assert any(
-            len(stem) <= len(root) for stem, root in zip(stems, ROOTS[code], strict=True)
-        ), (code, suffix, stems)
+        assert any(len(stem) <= len(root) for stem, root in zip(stems, ROOTS[code], strict=True)), (
+            code,
+            suffix,
+            stems,
+        )
 
 
 @pytest.mark.parametrize(
@@ -52,6 +56,8 @@ def test_every_listed_suffix_is_one_the_snowball_stemmer_removes(code: str) -> N
         ("climbs", "climbing", "en", False),
         ("cooking", "cook", "en", False),
         ("matured", "mature", "en", False),
+        ("matured", "maturity", "en", False),  # a quality noun names the same trait
+        ("resiste", "resistant", "fr", False),
     ],
 )
 def test_clash_only_where_a_derivational_suffix_differs(
@@ -65,11 +71,12 @@ def test_clash_only_where_a_derivational_suffix_differs(
 
 
 def test_a_foreign_word_is_judged_by_the_alias_side_alone() -> None:
-    # French "demandent" keyed with the English stemmer of the alias "demand": its "-ent"
-    # is a French verb ending, no English suffix (snowballstemmer: both stem to "demand").
-    assert stem_word("demandent", "en") == stem_word("demand", "en")
-    assert derivation_clash(["demandent"], ["demand"], ["demand"], "en")
-    assert not derivation_clash(["demandent"], ["demand"], ["demand"], "en", words_native=False)
+    # A word of another language keyed with the alias's stemmer has no suffix class in
+    # it: only the alias's suffix counts (snowballstemmer: both stem to "jaun").
+    assert stem_word("jaunissement", "fr") == stem_word("jaune", "fr") == "jaun"
+    assert derivation_clash(["jaunissement"], ["jaune"], ["jaun"], "fr")
+    assert not derivation_clash(["jaunissement"], ["jaune"], ["jaun"], "fr", words_native=False)
+    assert derivation_clash(["jaune"], ["jaunissement"], ["jaun"], "fr", words_native=False)
 
 
 def test_languages_without_a_table_compare_by_stem_alone() -> None:
@@ -77,7 +84,11 @@ def test_languages_without_a_table_compare_by_stem_alone() -> None:
 
 
 def test_dictionary_keeps_inflections_and_drops_derivations() -> None:
-    aliases = [("BX:1", "amarillamiento", "es"), ("BX:2", "color", "es"), ("BX:1", "yellowing", "en")]
+    aliases = [
+        ("BX:1", "amarillamiento", "es"),
+        ("BX:2", "color", "es"),
+        ("BX:1", "yellowing", "en"),
+    ]
     dictionary = build_dictionary(aliases)
     assert dictionary.match("El grano es amarillo.", "es") == []
     assert [s.concept for s in dictionary.match("Hay amarillamiento.", "es")] == ["BX:1"]
@@ -104,3 +115,40 @@ def test_real_maize_answers_mill_is_no_milling_but_withstanding_is_withstands() 
     found = {(s.start, s.end, s.concept) for s in dictionary.match(drought.text, "en")}
     assert (25, 45, "MZT:02") in found
     assert (25, 45, "MZT:02") in {(s["start"], s["end"], s["concept"]) for s in gold[4734]}
+
+
+def test_a_word_written_in_another_concepts_alias_is_no_stem_match_of_this_one() -> None:
+    # Source: the Spanish Snowball stemmer (snowballstemmer) gives "tarda" (takes long)
+    # and "tardía" (late) one stem; the cooking-time alias writes "tarda" itself.
+    stemmer = snowballstemmer.stemmer("spanish")
+    assert stemmer.stemWord("tarda") == stemmer.stemWord("tardía")
+    aliases = [("BX:1", "tardía", "es"), ("BX:2", "tarda en cocinarse", "es")]
+    dictionary = build_dictionary(aliases)
+    assert dictionary.match("Se tarda en la olla.", "es") == []
+    assert [s.concept for s in dictionary.match("Es tardía.", "es")] == ["BX:1"]
+    assert [s.concept for s in dictionary.match("Tarda en cocinarse.", "es")] == ["BX:2"]
+    # Without the other alias the stem match stands, as before.
+    alone = build_dictionary(aliases[:1])
+    assert [s.concept for s in alone.match("Se tarda en la olla.", "es")] == ["BX:1"]
+
+
+def test_the_linkers_exact_score_refuses_the_same_stem_matches() -> None:
+    # The same pairs as the dictionary (snowballstemmer joins each, checked above).
+    aliases = [
+        ("BX:1", "amarillamiento", "es"),
+        ("BX:1", "yellowing", "en"),
+        ("BX:2", "color", "es"),
+        ("BX:3", "tardía", "es"),
+        ("BX:4", "tarda en cocinarse", "es"),
+    ]
+    scorer = Scorer.build(aliases, None)
+
+    def exact(text: str, lang: str) -> set[str]:
+        return scorer.exact(Sentence(0, text, lang), Span(0, len(text)))
+
+    assert exact("amarillo", "es") == set()
+    assert exact("amarillamiento", "es") == {"BX:1"}
+    assert exact("yellow", "en") == set()
+    assert exact("colores", "es") == {"BX:2"}
+    assert exact("tarda", "es") == set()
+    assert exact("tardía", "es") == {"BX:3"}
