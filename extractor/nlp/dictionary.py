@@ -25,8 +25,8 @@ language wins, then the one whose alias has exactly the written (unstemmed) form
 then the smallest concept ID, so results never depend on input order.
 
 A word that meets an alias word by its stem alone while one of the two carries a
-derivational suffix the other lacks ("amarillo" and "amarillamiento", "yellow" and
-"yellowing") is no match: :func:`extractor.nlp.derivation.derivation_clash`. Nor is a
+derivational suffix of a process noun the other lacks ("amarillo" and "amarillamiento",
+"jaune" and "jaunissement") is no match: :func:`extractor.nlp.derivation.derivation_clash`. Nor is a
 one-word match by the stem alone when the word, as written, is a word of another
 concept's alias: "tarda" (takes long) is written in the cooking-time alias "tarda en
 cocinarse" and meets the earliness alias "tardía" by its stem only.

@@ -48,13 +48,14 @@ def test_every_listed_suffix_is_one_the_snowball_stemmer_removes(code: str) -> N
         ("amarillo", "amarillamiento", "es", True),  # yellow / yellowing (a disease sign)
         ("jaune", "jaunissement", "fr", True),
         ("jaunit", "jaunissement", "fr", True),
-        ("yellow", "yellowing", "en", True),
+        ("yellow", "yellowing", "en", False),  # "-ing" is an ending to Porter2 (step 1b)
+        ("fertile", "fertilization", "en", True),
+        ("nutritional", "nutrition", "en", False),
         ("encharca", "encharcamiento", "es", True),
         ("colores", "color", "es", False),  # inflections
         ("sabrosa", "sabroso", "es", False),
         ("noircissent", "noircit", "fr", False),
         ("climbs", "climbing", "en", False),
-        ("cooking", "cook", "en", False),
         ("matured", "mature", "en", False),
         ("matured", "maturity", "en", False),  # a quality noun names the same trait
         ("resiste", "resistant", "fr", False),
@@ -87,34 +88,37 @@ def test_dictionary_keeps_inflections_and_drops_derivations() -> None:
     aliases = [
         ("BX:1", "amarillamiento", "es"),
         ("BX:2", "color", "es"),
-        ("BX:1", "yellowing", "en"),
+        ("BX:1", "jaunissement", "fr"),
     ]
     dictionary = build_dictionary(aliases)
     assert dictionary.match("El grano es amarillo.", "es") == []
     assert [s.concept for s in dictionary.match("Hay amarillamiento.", "es")] == ["BX:1"]
     assert [s.concept for s in dictionary.match("Tiene colores.", "es")] == ["BX:2"]
-    assert dictionary.match("The yellow one.", "en") == []
-    assert [s.concept for s in dictionary.match("Leaves are yellowing.", "en")] == ["BX:1"]
+    assert dictionary.match("La couleur devient jaune.", "fr") == []
+    assert [s.concept for s in dictionary.match("Un jaunissement des feuilles.", "fr")] == ["BX:1"]
 
 
 @pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
-def test_real_maize_answers_mill_is_no_milling_but_withstanding_is_withstands() -> None:
-    # Real farmer answers (maize concept-testing data, CC BY 4.0) with our labels: in
-    # "to mill flour" the labeller marked "flour" alone (flour quality), not the verb that
-    # the list's "milling" stems to; "Withstanding Drought" is an inflection of the
-    # alias "withstands drought" and stays a match.
+def test_real_maize_answers_soil_fertility_is_no_fertiliser() -> None:
+    # Real farmer answers (maize concept-testing data, CC BY 4.0) with our maize list:
+    # snowballstemmer stems "fertile", "fertility" and "fertilizer" alike, and "fertility"
+    # alone met the fertiliser-requirement alias "fertilizer" (MZT:05); the list writes
+    # "fertility" in the poor-soil alias "low soil fertility" (MZT:17), so it no longer does.
+    stemmer = snowballstemmer.stemmer("english")
+    assert stemmer.stemWord("fertility") == stemmer.stemWord("fertilizer")
     loaded = maize.load_workspace()
     assert loaded is not None
-    corpus, labelled, aliases = loaded
+    corpus, _, aliases = loaded
     dictionary = build_dictionary(aliases)
-    gold = {g["row"]: g["spans"] for g in labelled}
-    mill = corpus[1835]
-    assert [mill.text[s["start"] : s["end"]] for s in gold[1835]] == ["flour"]
-    assert [mill.text[s.start : s.end] for s in dictionary.match(mill.text, "en")] == ["flour"]
-    drought = corpus[4734]
-    found = {(s.start, s.end, s.concept) for s in dictionary.match(drought.text, "en")}
-    assert (25, 45, "MZT:02") in found
-    assert (25, 45, "MZT:02") in {(s["start"], s["end"], s["concept"]) for s in gold[4734]}
+
+    def found(row: int) -> list[tuple[str, str | None]]:
+        text = corpus[row].text
+        return [(text[s.start : s.end], s.concept) for s in dictionary.match(text, "en")]
+
+    assert "fertility" in corpus[748].text
+    assert found(748) == []
+    assert ("less fertilizer", "MZT:05") in found(344)
+    assert ("less fertile soils", "MZT:17") in found(344)
 
 
 def test_a_word_written_in_another_concepts_alias_is_no_stem_match_of_this_one() -> None:
@@ -136,7 +140,7 @@ def test_the_linkers_exact_score_refuses_the_same_stem_matches() -> None:
     # The same pairs as the dictionary (snowballstemmer joins each, checked above).
     aliases = [
         ("BX:1", "amarillamiento", "es"),
-        ("BX:1", "yellowing", "en"),
+        ("BX:1", "jaunissement", "fr"),
         ("BX:2", "color", "es"),
         ("BX:3", "tardía", "es"),
         ("BX:4", "tarda en cocinarse", "es"),
@@ -148,7 +152,7 @@ def test_the_linkers_exact_score_refuses_the_same_stem_matches() -> None:
 
     assert exact("amarillo", "es") == set()
     assert exact("amarillamiento", "es") == {"BX:1"}
-    assert exact("yellow", "en") == set()
+    assert exact("jaune", "fr") == set()
     assert exact("colores", "es") == {"BX:2"}
     assert exact("tarda", "es") == set()
     assert exact("tardía", "es") == {"BX:3"}
