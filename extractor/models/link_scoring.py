@@ -177,7 +177,6 @@ class Scorer:
         self.space = space
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
         self._forms_of: dict[str, list[tuple[str, str]]] | None = None
-        self._claims: dict[str, set[str]] = {}
         self._form_vectors: np.ndarray | None = None
 
     @classmethod
@@ -251,32 +250,26 @@ class Scorer:
         """Return whether a form of ``concept`` keyed ``key`` meets ``words`` as the same words.
 
         As in dictionary matching (:mod:`extractor.nlp.dictionary`): a form written as the
-        words are always does; by the stem alone, not when the one word is written so in
-        another concept's form, nor when a derivational suffix differs.
+        words are always does; by the stem alone, not when a process-noun suffix differs.
         """
         if self._forms_of is None:
             self._forms_of = defaultdict(list)
-            self._claims = defaultdict(set)
             for c, form, form_lang in self.forms:
                 self._forms_of[c].append((form, form_lang))
-                for word in key_words(form, form_lang):
-                    self._claims[word].add(c)
         code = stemmer_language(lang)
-        claimed = len(words) == 1 and bool(self._claims.get(words[0], set()) - {concept})
-        stem_only = False
         for form, form_lang in self._forms_of[concept]:
             own = stemmer_language(form_lang)
             theirs = key_words(form, lang)
             if theirs == words:
                 return True
             if own != code and alias_key(form, form_lang) == key:
-                stem_only = True  # met by its own stemmer: a code-switched word, as before
-            elif alias_key(form, lang) == key and (
+                return True  # met by its own stemmer: a code-switched word, as before
+            if alias_key(form, lang) == key and (
                 len(theirs) != len(words)
                 or not derivation_clash(words, theirs, key.split(), lang, alias_native=own == code)
             ):
-                stem_only = True
-        return stem_only and not claimed
+                return True
+        return False
 
     def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
         """Return an ``(n, concepts)`` array of the best alias cosine per concept."""

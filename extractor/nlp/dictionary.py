@@ -26,10 +26,7 @@ then the smallest concept ID, so results never depend on input order.
 
 A word that meets an alias word by its stem alone while one of the two carries a
 derivational suffix of a process noun the other lacks ("amarillo" and "amarillamiento",
-"jaune" and "jaunissement") is no match: :func:`extractor.nlp.derivation.derivation_clash`. Nor is a
-one-word match by the stem alone when the word, as written, is a word of another
-concept's alias: "tarda" (takes long) is written in the cooking-time alias "tarda en
-cocinarse" and meets the earliness alias "tardía" by its stem only.
+"jaune" and "jaunissement") is no match: :func:`extractor.nlp.derivation.derivation_clash`.
 """
 
 from __future__ import annotations
@@ -140,11 +137,6 @@ class Dictionary:
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
         self._plans: dict[str, list[tuple[str, bool]]] = {}
         self._word_keys: dict[str, _WordKeys] = {}
-        claims: dict[str, set[str]] = {}
-        for concept, form, _, _ in tokens:
-            for word in form:
-                claims.setdefault(word, set()).add(concept)
-        self._claims = {word: frozenset(found) for word, found in claims.items()}
 
     @classmethod
     def from_aliases(cls, aliases: Sequence[tuple[str, str, str]]) -> Dictionary:
@@ -272,13 +264,11 @@ class Dictionary:
                 continue  # a verb of liking, or an infinitive meeting a noun by its stem
             written = tuple(forms[first:stop])
             shared = cast("list[str]", keys[first:stop])
-            claims = self._claims.get(written[0], frozenset()) if stop - first == 1 else None
             options = [
                 e
                 for e in options
                 if e.form == written
-                or not (claims and claims - {e.concept})  # the word, as written, is another's
-                and not derivation_clash(
+                or not derivation_clash(
                     written,
                     e.form,
                     shared,

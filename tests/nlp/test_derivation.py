@@ -6,6 +6,7 @@ import pytest
 import snowballstemmer
 
 from extractor.models.link_scoring import Scorer
+from extractor.nlp import dictionary as dictionary_module
 from extractor.nlp.derivation import DERIVATIONAL, derivation_clash
 from extractor.nlp.dictionary import SNOWBALL_LANGUAGES, build_dictionary, stem_word
 from extractor.nlp.fold import fold
@@ -99,41 +100,21 @@ def test_dictionary_keeps_inflections_and_drops_derivations() -> None:
 
 
 @pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
-def test_real_maize_answers_soil_fertility_is_no_fertiliser() -> None:
-    # Real farmer answers (maize concept-testing data, CC BY 4.0) with our maize list:
-    # snowballstemmer stems "fertile", "fertility" and "fertilizer" alike, and "fertility"
-    # alone met the fertiliser-requirement alias "fertilizer" (MZT:05); the list writes
-    # "fertility" in the poor-soil alias "low soil fertility" (MZT:17), so it no longer does.
-    stemmer = snowballstemmer.stemmer("english")
-    assert stemmer.stemWord("fertility") == stemmer.stemWord("fertilizer")
+def test_real_maize_answers_lose_no_match() -> None:
+    # Real farmer answers (maize concept-testing data, CC BY 4.0; 4,800 English answers)
+    # with our maize list: no English process noun there stands against its root, so the
+    # guard must leave every dictionary match as stem matching alone gives it.
     loaded = maize.load_workspace()
     assert loaded is not None
     corpus, _, aliases = loaded
-    dictionary = build_dictionary(aliases)
-
-    def found(row: int) -> list[tuple[str, str | None]]:
-        text = corpus[row].text
-        return [(text[s.start : s.end], s.concept) for s in dictionary.match(text, "en")]
-
-    assert "fertility" in corpus[748].text
-    assert found(748) == []
-    assert ("less fertilizer", "MZT:05") in found(344)
-    assert ("less fertile soils", "MZT:17") in found(344)
-
-
-def test_a_word_written_in_another_concepts_alias_is_no_stem_match_of_this_one() -> None:
-    # Source: the Spanish Snowball stemmer (snowballstemmer) gives "tarda" (takes long)
-    # and "tardía" (late) one stem; the cooking-time alias writes "tarda" itself.
-    stemmer = snowballstemmer.stemmer("spanish")
-    assert stemmer.stemWord("tarda") == stemmer.stemWord("tardía")
-    aliases = [("BX:1", "tardía", "es"), ("BX:2", "tarda en cocinarse", "es")]
-    dictionary = build_dictionary(aliases)
-    assert dictionary.match("Se tarda en la olla.", "es") == []
-    assert [s.concept for s in dictionary.match("Es tardía.", "es")] == ["BX:1"]
-    assert [s.concept for s in dictionary.match("Tarda en cocinarse.", "es")] == ["BX:2"]
-    # Without the other alias the stem match stands, as before.
-    alone = build_dictionary(aliases[:1])
-    assert [s.concept for s in alone.match("Se tarda en la olla.", "es")] == ["BX:1"]
+    guarded = build_dictionary(aliases)
+    guarded_matches = [guarded.match(s.text, "en") for s in corpus]
+    with pytest.MonkeyPatch.context() as patch:
+        patch.setattr(dictionary_module, "derivation_clash", lambda *a, **k: False)
+        plain = build_dictionary(aliases)
+        plain_matches = [plain.match(s.text, "en") for s in corpus]
+    assert sum(map(len, plain_matches)) > 3000
+    assert guarded_matches == plain_matches
 
 
 def test_the_linkers_exact_score_refuses_the_same_stem_matches() -> None:
@@ -142,8 +123,6 @@ def test_the_linkers_exact_score_refuses_the_same_stem_matches() -> None:
         ("BX:1", "amarillamiento", "es"),
         ("BX:1", "jaunissement", "fr"),
         ("BX:2", "color", "es"),
-        ("BX:3", "tardía", "es"),
-        ("BX:4", "tarda en cocinarse", "es"),
     ]
     scorer = Scorer.build(aliases, None)
 
@@ -154,5 +133,3 @@ def test_the_linkers_exact_score_refuses_the_same_stem_matches() -> None:
     assert exact("amarillamiento", "es") == {"BX:1"}
     assert exact("jaune", "fr") == set()
     assert exact("colores", "es") == {"BX:2"}
-    assert exact("tarda", "es") == set()
-    assert exact("tardía", "es") == {"BX:3"}
