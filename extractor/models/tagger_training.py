@@ -82,8 +82,8 @@ from extractor.types import Sentence, Span
 
 SILVER_FILTERS = ("all", "matched", "gold-check", "self-train")
 AXES_BELOW = 250
-"""Gold sentences below which :func:`fit_tagger` trains on the words' bins on the
-pretrained space's main axes too (see the module docstring)."""
+"""Gold sentences below which :func:`fit_tagger` trains on the words' coordinates on
+the pretrained space's main axes too (see the module docstring)."""
 T = TypeVar("T")
 
 
