@@ -77,3 +77,12 @@ def mams_pairs(split: str, n: int | None = None) -> list[tuple[Sentence, list[Sp
         (Sentence(i, d["sentence"], d["lang"]), [Span(s["start"], s["end"]) for s in d["mentions"]])
         for i, d in enumerate(data[:n])
     ]
+
+
+def mams_texts() -> list[tuple[str, str]]:
+    """Return the text and language of every sentence of all splits, as clusters learn them.
+
+    The benches learn their word clusters from the text of all three splits, as a
+    workspace learns them from all its answers (labels are not read).
+    """
+    return [(d["sentence"], d["lang"]) for s in SPLITS for d in load_mams(s) or []]

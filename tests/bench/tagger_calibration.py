@@ -44,7 +44,7 @@ from extractor.models.tagger_training import fit_tagger  # noqa: E402
 from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.spans import OUTSIDE, iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.types import TAGS, Sentence, Span  # noqa: E402
-from tests.mams import load_mams  # noqa: E402
+from tests.mams import load_mams, mams_texts  # noqa: E402
 
 BINS = 10
 
@@ -112,9 +112,7 @@ def main() -> None:
         sys.exit("MAMS is not in ../shared/datasets/mams-atsa/; see tests/mams.py.")
     train = gold("train", 0)
     test = gold("test", len(train))
-    texts = [
-        (d["sentence"], d["lang"]) for s in ("train", "val", "test") for d in load_mams(s) or []
-    ]
+    texts = mams_texts()
     clusters = learn_clusters(texts)
     test_items = []
     for s, spans in test:

@@ -31,7 +31,7 @@ from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes, Clusters  # noqa: E402
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
-from tests.mams import load_mams  # noqa: E402
+from tests.mams import load_mams, mams_texts  # noqa: E402
 
 Item = tuple[list[tuple[int, int]], list[Attributes], list[str], list[Span]]
 
@@ -63,9 +63,7 @@ def main() -> None:
     args = parser.parse_args()
     if load_mams("train") is None:
         sys.exit("MAMS is not in ../shared/datasets/mams-atsa/; see tests/mams.py.")
-    texts = [
-        (d["sentence"], d["lang"]) for s in ("train", "val", "test") for d in load_mams(s) or []
-    ]
+    texts = mams_texts()
     clusters = learn_clusters(texts)
     train = items("train", clusters)
     test = items("test", clusters) if args.test else []

@@ -42,7 +42,7 @@ from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes, Clusters  # noqa: E402
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
-from tests.mams import load_mams  # noqa: E402
+from tests.mams import load_mams, mams_texts  # noqa: E402
 
 Item = tuple[list[tuple[int, int]], list[Attributes], list[str], list[Span], list[str]]
 Template = Callable[[list[str], list[Attributes], int], list[bytes]]
@@ -216,9 +216,7 @@ def main() -> None:
     kwargs: dict[str, Any] = {
         k: tuple(v) if isinstance(v, list) else v for k, v in json.loads(args.clusters).items()
     }
-    texts = [
-        (d["sentence"], d["lang"]) for s in ("train", "val", "test") for d in load_mams(s) or []
-    ]
+    texts = mams_texts()
     clusters = learn_clusters(texts, **kwargs)
     base = items("train", clusters)
     base_test = items("test", clusters) if args.test or args.no_cv else []
