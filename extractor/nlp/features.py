@@ -124,7 +124,7 @@ _CLUSTER_KEYS = tuple(f"c{level}" for level in range(8))
 _SPACE_KEYS = tuple(f"x{level}" for level in range(8))
 AXES_SCALE = 2.0
 """Length of a word's vector of main-axis coordinates, as the tagger weighs it (the val
-screen of DEVELOPERS.md, "Dense dimensions on few labels", chose it)."""
+screen of DEVELOPERS.md, "Main-axis coordinates on few labels", chose it)."""
 
 
 class AxisBlock(bytes):
