@@ -17,7 +17,13 @@ PACKAGE = Path(__file__).resolve().parents[1] / "extractor"
 
 # bottom to top; a module may import only from its own layer or lower ones
 LAYERS = ["base", "workspace", "nlp", "ingest", "models", "loop", "report", "jobs", "cli"]
-BASE = {"extractor", "extractor.errors", "extractor.types", "extractor.progress"}
+BASE = {
+    "extractor",
+    "extractor.child_processes",
+    "extractor.errors",
+    "extractor.types",
+    "extractor.progress",
+}
 MAX_LINES = 500
 # rich draws the terminal: only the command line and the progress bars it switches on
 RICH_ALLOWED = ("extractor.cli", "extractor.progress")

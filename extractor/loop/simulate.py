@@ -31,6 +31,7 @@ Conventions
 
 from __future__ import annotations
 
+import os
 import random
 import time
 from collections.abc import Mapping, Sequence
@@ -41,6 +42,7 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
+from extractor.child_processes import end_with_parent
 from extractor.errors import InputError
 from extractor.ingest.labels import LabelRecord, record_from_dict, to_gold
 from extractor.loop import strategies as active
@@ -84,9 +86,12 @@ class _Shared(NamedTuple):
 _SHARED: _Shared | None = None
 
 
-def _init_worker(shared: _Shared) -> None:
+def _init_worker(shared: _Shared, parent: int | None = None) -> None:
+    """Give this process the shared data; in a worker, end it with its ``parent``."""
     global _SHARED
     _SHARED = shared
+    if parent is not None:
+        end_with_parent(parent)
 
 
 class _Task(NamedTuple):
@@ -439,7 +444,7 @@ def _run_all(tasks: Sequence[_Task], shared: _Shared, jobs: int) -> list[RunReco
             max_workers=jobs,
             mp_context=get_context("spawn"),
             initializer=_init_worker,
-            initargs=(shared,),
+            initargs=(shared, os.getpid()),
         ) as executor:
             futures = {executor.submit(_run, t): k for k, t in enumerate(tasks)}
             for future in track(as_completed(futures), "Simulating runs", len(tasks)):

@@ -13,22 +13,20 @@ the package), or with one core, the calls run in turn in ``wait``.
 
 A worker ends when the process that started it ends, however it ends: killed with
 SIGKILL, the parent cannot stop its pool, and a worker waiting for its next call would
-sleep on as an orphan. Each worker asks the kernel for SIGKILL on its parent's death
-(``PR_SET_PDEATHSIG``, prctl(2)); a worker whose parent is already gone when it asks
-ends at once.
+sleep on as an orphan, so each worker ends with its parent
+(:func:`extractor.child_processes.end_with_parent`).
 """
 
 from __future__ import annotations
 
-import ctypes
 import multiprocessing
 import os
-import signal
 import sys
 from collections.abc import Callable, Sequence
 from concurrent.futures import Future, ProcessPoolExecutor, as_completed
 from typing import Any
 
+from extractor.child_processes import end_with_parent
 from extractor.progress import track
 
 WORKERS = 2
@@ -36,22 +34,6 @@ WORKERS = 2
 
 Call = tuple[Callable[..., Any], tuple[Any, ...]]
 """A module-level drawing function and its arguments (both picklable)."""
-
-PR_SET_PDEATHSIG = 1
-"""prctl(2) option: the signal the calling process gets when its parent ends (linux/prctl.h)."""
-
-
-def _end_with_parent(parent: int) -> None:
-    """Have this worker killed when ``parent`` ends; end now if it has ended already.
-
-    Runs first in every worker (the pool's initializer). The signal is tied to the thread
-    that forked the worker; the pool forks from the thread that submits, which waits for
-    the calls before it returns.
-    """
-    libc = ctypes.CDLL(None, use_errno=True)
-    libc.prctl(PR_SET_PDEATHSIG, signal.SIGKILL)
-    if os.getppid() != parent:
-        os._exit(1)
 
 
 def _workers(n_calls: int) -> int:
@@ -75,7 +57,7 @@ class Drawing:
         if workers:
             fork = multiprocessing.get_context("fork")
             self._pool = ProcessPoolExecutor(
-                workers, mp_context=fork, initializer=_end_with_parent, initargs=(os.getpid(),)
+                workers, mp_context=fork, initializer=end_with_parent, initargs=(os.getpid(),)
             )
             self._futures = [self._pool.submit(fn, *args) for fn, args in self._calls]
 

@@ -1,10 +1,5 @@
 from __future__ import annotations
 
-import os
-import signal
-import subprocess
-import sys
-import time
 from pathlib import Path
 
 import pytest
@@ -14,6 +9,7 @@ from extractor.report.drawing import Drawing
 from extractor.report.group_charts import all_charts, chart_file_calls, draw_chart
 from extractor.report.inputs import prepare
 from extractor.report.summary import trait_summary
+from tests.killed_parent import workers_left_after_kill
 from tests.report.study import CONCEPTS, Study
 
 
@@ -55,7 +51,7 @@ def test_without_fork_the_calls_run_in_turn(
     )
 
 
-_KILLED_PARENT = """
+_KILLED_EXPORT = """
 import os, sys, time
 from pathlib import Path
 from extractor.report.drawing import Drawing
@@ -70,41 +66,8 @@ if __name__ == "__main__":
 """
 
 
-def _alive(pid: int) -> bool:
-    """Whether ``pid`` runs (a zombie left for a reaper that never comes counts as ended)."""
-    try:
-        status = Path(f"/proc/{pid}/status").read_text()
-    except FileNotFoundError:
-        return False
-    return "\nState:\tZ" not in status
-
-
 def test_workers_end_when_the_export_is_killed(tmp_path: Path) -> None:
-    """SIGKILL of the drawing process leaves no worker behind (prctl(2), PR_SET_PDEATHSIG)."""
+    """SIGKILL of the drawing process leaves no worker behind (as `traits export` killed)."""
     if drawing._workers(2) < 2:
         pytest.skip("drawing in worker processes needs fork (Linux) and two cores")
-    script = tmp_path / "draw.py"
-    script.write_text(_KILLED_PARENT)
-    pids = tmp_path / "pids"
-    pids.mkdir()
-    root = Path(__file__).resolve().parents[2]
-    parent = subprocess.Popen(
-        [sys.executable, str(script), str(pids)], env={**os.environ, "PYTHONPATH": str(root)}
-    )
-    try:
-        deadline = time.monotonic() + 60
-        while len(list(pids.iterdir())) < 2 and time.monotonic() < deadline:
-            time.sleep(0.1)
-        workers = [int(p.name) for p in pids.iterdir()]
-        assert len(workers) == 2
-        assert all(_alive(pid) for pid in workers)
-    finally:
-        parent.kill()
-        parent.wait()
-    deadline = time.monotonic() + 10
-    while any(_alive(pid) for pid in workers) and time.monotonic() < deadline:
-        time.sleep(0.1)
-    left = [pid for pid in workers if _alive(pid)]
-    for pid in left:
-        os.kill(pid, signal.SIGKILL)
-    assert left == []
+    assert workers_left_after_kill(_KILLED_EXPORT, tmp_path) == []
