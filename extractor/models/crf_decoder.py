@@ -13,8 +13,12 @@ batch together:
   function from the scale factors, in CRFsuite's order of floating-point operations.
 
 So paths, marginals and probabilities equal python-crfsuite's (tests compare them on open
-data). A ``temperature`` T other than 1 divides every state and transition score by T
-before marginals and probabilities are computed (calibration, see
+data). Exponentials are the C library's (:func:`_exp`), as CRFsuite's are: numpy's own
+``exp`` is vectorised on CPUs with AVX-512 and differs from it in the last bit, which
+made marginals differ by about 1e-15 from one kind of machine to the next.
+
+A ``temperature`` T other than 1 divides every state and transition score by T before
+marginals and probabilities are computed (calibration, see
 :mod:`~extractor.models.tagger_calibration`); the best path is found on the scores as
 trained, so it never changes.
 
@@ -35,6 +39,13 @@ from typing import Any, NamedTuple
 import numpy as np
 
 from extractor.nlp.features import AxisBlock
+
+
+def _exp(values: np.ndarray) -> np.ndarray:
+    """``exp`` of every value by the C library's ``exp``, the one CRFsuite calls."""
+    flat = np.fromiter(map(math.exp, values.ravel().tolist()), float, count=values.size)
+    return flat.reshape(values.shape)
+
 
 _HEADER = struct.Struct("<4sI4sI8I")
 _CQDB_HEADER = struct.Struct("<4s5I")
@@ -123,7 +134,7 @@ class CrfDecoder:
         self._index = index
         self._state = state  # (attributes + 1) x labels; the last row is zeros
         self._trans = trans  # labels x labels, from -> to
-        self._exp_trans = np.exp(trans)
+        self._exp_trans = _exp(trans)
         self._row_of: dict[int, int] = {}  # id of a first part -> its row in _head_sums
         self._head_parts: list[Sequence[bytes]] = []  # keeps those parts alive
         self._head_sums = np.zeros((0, len(labels)))
@@ -192,9 +203,9 @@ class CrfDecoder:
         exp_trans = self._exp_trans
         if temperature != 1.0:
             state = state / temperature
-            exp_trans = np.exp(self._trans / temperature)
+            exp_trans = _exp(self._trans / temperature)
             score = score / temperature
-        alpha, beta, scale = self._forward_backward(np.exp(state), exp_trans, rows, live)
+        alpha, beta, scale = self._forward_backward(_exp(state), exp_trans, rows, live)
         marginals = alpha * beta / scale[:, None]
         log_scale = [math.log(v) for v in scale.tolist()]
         for k, s in enumerate(order.tolist()):
