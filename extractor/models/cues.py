@@ -30,7 +30,7 @@ CUE_CATEGORIES = (
     "resistance_pre", "resistance_post",
     "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
     "comparison_marker", "question_liked", "question_disliked", "question_wanted",
-    "question_reason", "indifference", "preference", "relative",
+    "question_reason", "indifference", "preference", "relative", "restrictive",
 )  # fmt: skip
 """The categories a language section of the cue lexicon may hold."""
 
@@ -105,6 +105,14 @@ def _read_cues(path: Path) -> Cues:
     for lang, section in data.items():
         if not lang.startswith("_"):
             _check_section(path, lang, section)
+    settings = data.get("_settings", {})
+    if not isinstance(settings, dict):
+        raise InputError(f"Cue file {path}: _settings must map setting names to values.")
+    concord = settings.get("negative_concord", [])
+    if not isinstance(concord, list) or not all(isinstance(c, str) for c in concord):
+        raise InputError(
+            f"Cue file {path}: _settings.negative_concord must be a list of language codes."
+        )
     return data
 
 
@@ -149,38 +157,82 @@ class Lexicon:
     per lexicon.
     """
 
-    __slots__ = ("by_first", "prefixes", "scope", "lang")
+    __slots__ = ("by_first", "prefixes", "gapped", "scope", "lang", "concord")
 
     def __init__(
         self,
         *,
         by_first: dict[str, list[tuple[str, tuple[str, ...]]]],
         prefixes: list[tuple[str, str]],
+        gapped: list[tuple[str, tuple[str, ...], tuple[str, ...]]],
         scope: int,
         lang: str,
+        concord: bool = False,
     ) -> None:
         self.by_first = by_first
         self.prefixes = prefixes  # single-word wildcard cues: (category, prefix)
+        self.gapped = gapped  # "ne ... que": (category, opening words, closing words)
         self.scope = scope
         self.lang = lang
+        self.concord = concord  # negative concord: "ne ... pas", "no ... nada" negate once
 
     @classmethod
-    def compile(cls, section: Mapping[str, Sequence[str]], lang: str, scope: int) -> Lexicon:
+    def compile(
+        cls, section: Mapping[str, Sequence[str]], lang: str, scope: int, concord: bool = False
+    ) -> Lexicon:
         """Tokenise a language section's cues with that language's tokenizer."""
         by_first: dict[str, list[tuple[str, tuple[str, ...]]]] = defaultdict(list)
         prefixes: list[tuple[str, str]] = []
+        gapped: list[tuple[str, tuple[str, ...], tuple[str, ...]]] = []
         for cat, words in section.items():
             for cue in words:
-                toks = tuple(cue_form(cue[s:e]) for s, e in tokenize(cue, lang))
-                if len(toks) > 1 and toks[-1] == "*":
-                    toks = (*toks[:-2], toks[-2] + "*")  # tokenizers split the wildcard off
+                if GAP in cue:
+                    head, _, tail = cue.partition(GAP)
+                    first, last = _cue_tokens(head, lang), _cue_tokens(tail, lang)
+                    if first and last:
+                        gapped.append((cat, first, last))
+                    continue
+                toks = _cue_tokens(cue, lang)
                 if not toks:
                     continue
                 if len(toks) == 1 and toks[0].endswith("*"):
                     prefixes.append((cat, toks[0][:-1]))
                 else:
                     by_first[toks[0]].append((cat, toks))
-        return cls(by_first=by_first, prefixes=prefixes, scope=scope, lang=lang)
+        return cls(
+            by_first=by_first,
+            prefixes=prefixes,
+            gapped=gapped,
+            scope=scope,
+            lang=lang,
+            concord=concord,
+        )
+
+
+GAP = " ... "
+"""Written between the two parts of a cue whose parts stand apart ("ne ... que")."""
+
+_APOSTROPHES = ("'", "\u2019")
+
+
+def _cue_tokens(cue: str, lang: str) -> tuple[str, ...]:
+    """Return the matching forms of a cue's tokens.
+
+    A word that ends in an apostrophe is an elision ("n'", "qu'"): in running text the
+    tokenizer keeps it whole ("n'" "est"), but standing alone its apostrophe is split
+    off, so it is joined back here. A trailing wildcard is joined back the same way.
+    """
+    toks: list[str] = []
+    end = -1
+    for s, e in tokenize(cue, lang):
+        word = cue[s:e]
+        ends_stretch = e == len(cue) or cue[e].isspace()
+        if toks and s == end and ends_stretch and (word in _APOSTROPHES or word == "*"):
+            toks[-1] += cue_form(word)
+        else:
+            toks.append(cue_form(word))
+        end = e
+    return tuple(toks)
 
 
 _LEXICONS: dict[tuple[int, str], tuple[Cues, Lexicon]] = {}
@@ -198,8 +250,10 @@ def lexicon(cues: Cues, lang: str) -> Lexicon:
     if hit is None or hit[0] is not cues:
         if len(_LEXICONS) > 64:
             _LEXICONS.clear()  # user cue files loaded again are new objects; stay bounded
-        scope = int(cues.get("_settings", {}).get("negation_scope", 5))
-        hit = (cues, Lexicon.compile(cues.get(code, {}), lang or "xx", scope))
+        settings = cues.get("_settings", {})
+        scope = int(settings.get("negation_scope", 5))
+        concord = code in settings.get("negative_concord", ())
+        hit = (cues, Lexicon.compile(cues.get(code, {}), lang or "xx", scope, concord))
         _LEXICONS[key] = hit
     return hit[1]
 
@@ -235,6 +289,7 @@ def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
         for cat, prefix in lex.prefixes:
             if w.startswith(prefix):
                 found[cat].append((i, i + 1))
+    _find_gapped(words, lex, found)
     claims = [m for cat in _CLAIMING for m in found.get(cat, ())]
     for cat in _CLAIMING:
         if cat in found:
@@ -244,6 +299,35 @@ def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
                 if not any(a <= i and j <= b and b - a > j - i for a, b in claims)
             ]
     return found
+
+
+def _find_gapped(words: Sequence[str], lex: Lexicon, found: Matches) -> None:
+    """Add the matches of cues whose two parts stand apart ("ne ... que", "only").
+
+    The closing part must follow within the negation scope, in the same clause, with no
+    negation trigger between: in "ne ... pas ... que" the "que" is another word's.
+    """
+    if not lex.gapped:
+        return
+    starts = {i for cat in ("negation_pre", "negation_post") for i, _ in found.get(cat, ())}
+    ends = {
+        k
+        for cat in ("termination", "contrast", "clause_break")
+        for i, j in found.get(cat, ())
+        for k in range(i, j)
+    }
+    for cat, first, last in lex.gapped:
+        for i in range(len(words)):
+            if not _match_cue(words, i, first):
+                continue
+            k = i + len(first)
+            while k < len(words) and k - i <= lex.scope and words[k] not in PUNCT_BOUNDARY:
+                if k in starts or k in ends:
+                    break
+                if _match_cue(words, k, last):
+                    found[cat].append((i, k + len(last)))
+                    break
+                k += 1
 
 
 # --------------------------------------------------------------------------- parsing
@@ -295,7 +379,7 @@ class Parsed:
             contrast[i] = True
         # A resistance word reaches over "and" ("resistant to drought and diseases").
         hard = _boundaries(words, {k: v for k, v in found.items() if k != "clause_break"})
-        trigger, negated, resisted = _negation(found, boundary, hard, lex.scope)
+        trigger, negated, resisted = _negation(found, boundary, hard, lex.scope, lex.concord)
         return cls(
             offsets=offsets,
             words=words,
@@ -318,7 +402,11 @@ def _boundaries(words: Sequence[str], found: Matches) -> list[bool]:
 
 
 def _negation(
-    found: Matches, boundary: Sequence[bool], hard: Sequence[bool], scope: int
+    found: Matches,
+    boundary: Sequence[bool],
+    hard: Sequence[bool],
+    scope: int,
+    concord: bool = False,
 ) -> tuple[list[bool], list[bool], list[bool]]:
     """Return the trigger tokens, the tokens negated, and the tokens held off by resistance.
 
@@ -328,12 +416,15 @@ def _negation(
     they reach over "and". A token counts as negated when an odd number of scopes
     reach it: in "not resistant to disease" the two cancel and disease stays a fault.
     It is *resisted* when a resistance scope reaches it and plain negations cancel out.
+    With ``concord`` (languages with negative concord: French "ne ... pas", Spanish "no
+    ... nada") a pre-trigger's scope stops at the next pre-trigger, which carries the
+    same negation on; a restrictive phrase ("ne ... que": only) negates nothing.
     """
     n = len(boundary)
     # Pseudo-triggers (and excess phrases such as "not enough") contain a trigger
     # word but negate nothing; NegEx matches them first and skips their tokens.
     masked = [False] * n
-    for cat in ("pseudo_negation", "excess", "indifference"):
+    for cat in ("pseudo_negation", "excess", "indifference", "restrictive"):
         for i, j in found.get(cat, ()):
             masked[i:j] = [True] * (j - i)
     kinds = (
@@ -344,7 +435,7 @@ def _negation(
     )
     # Overlapping triggers ("no" in "no longer", "resistant" in "resistant to") count
     # once: the longest (then the earliest, then the first kind) wins.
-    claimed: list[tuple[int, int]] = []
+    claimed: list[tuple[int, int, int, int, list[bool] | Sequence[bool]]] = []
     trigger = [False] * n
     plain, held = [0] * n, [0] * n
     ordered = sorted(
@@ -353,13 +444,23 @@ def _negation(
         key=lambda m: (-(m[1] - m[0]), m[0], m[2]),
     )  # fmt: skip
     for i, j, rank, step, ends in ordered:
-        if any(masked[i:j]) or any(a < j and i < b for a, b in claimed):
+        if any(masked[i:j]) or any(a < j and i < b for a, b, *_ in claimed):
             continue
-        claimed.append((i, j))
+        claimed.append((i, j, rank, step, ends))
         trigger[i:j] = [True] * (j - i)
+    # Negative concord: a plain negation that meets another plain negation word hands
+    # its scope over, so the two negate once ("ne cuit pas vite", "no tiene nada").
+    relay = [False] * n
+    if concord:
+        for i, _, rank, _, _ in claimed:
+            if rank == 0:
+                relay[i] = True
+    for i, j, rank, step, ends in claimed:
         counts = held if rank >= 2 else plain
         k = j if step > 0 else i - 1
         while 0 <= k < n and abs(k - (j - 1 if step > 0 else i)) <= scope and not ends[k]:
+            if rank == 0 and relay[k]:
+                break
             counts[k] += 1
             k += step
     negated = [(plain[k] + held[k]) % 2 == 1 for k in range(n)]

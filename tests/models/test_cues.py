@@ -42,8 +42,9 @@ def test_load_cues_merges_user_file_over_packaged(tmp_path: Path) -> None:
         ("{not json", "not readable JSON"),
         (json.dumps({"en": {"lovely_words": ["x"]}}), "category 'lovely_words'"),
         (json.dumps({"en": {"liked": "good"}}), "must be a list"),
+        (json.dumps({"_settings": {"negative_concord": "fr"}}), "list of language codes"),
     ],
-    ids=["broken-json", "unknown-category", "not-a-list"],
+    ids=["broken-json", "unknown-category", "not-a-list", "concord-not-a-list"],
 )
 def test_load_cues_rejects_bad_user_file(tmp_path: Path, content: str, message: str) -> None:
     user = tmp_path / "cues.json"

@@ -69,6 +69,44 @@ def test_stance_features_negation_in_french_and_spanish(text: str, term: str, la
     assert _features(text, term, lang).get("span_negated")
 
 
+# Negative concord, from memory of the French and Spanish reference grammars (Grevisse,
+# Le Bon Usage, on "ne ... pas / plus / jamais / rien"; the RAE's Nueva gramática on
+# "no ... nada / nunca"): the two words form one negation, so what follows the second
+# is negated once; "ne ... que" is restrictive ("only") and negates nothing. English
+# has no concord: "not without" cancels. Elided triggers ("n'") are matched whole.
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "negated"),
+    [
+        ("Il ne cuit pas vite.", "vite", "fr", True),
+        ("Il ne cuit pas vite.", "cuit", "fr", True),
+        ("Le grain n'est pas uniforme.", "uniforme", "fr", True),
+        ("Il ne pourrit jamais au grenier.", "pourrit", "fr", True),
+        ("Il n'a plus de goût.", "goût", "fr", True),
+        ("Après trois mois il ne reste que de la poudre.", "poudre", "fr", False),
+        ("Ce n'est qu'une question de goût.", "goût", "fr", False),
+        ("N'importe quelle couleur.", "couleur", "fr", False),
+        ("No tiene nada de gusto.", "gusto", "es", True),
+        ("No se pudre nunca en el granero.", "se pudre", "es", True),
+        ("It is not without faults.", "faults", "en", False),
+    ],
+    ids=[
+        "fr-ne-pas-after",
+        "fr-ne-pas-between",
+        "fr-elided-n",
+        "fr-ne-jamais",
+        "fr-ne-plus",
+        "fr-ne-que",
+        "fr-elided-ne-qu",
+        "fr-n-importe",
+        "es-no-nada",
+        "es-no-nunca",
+        "en-not-without-cancels",
+    ],
+)
+def test_stance_features_negative_concord(text: str, term: str, lang: str, negated: bool) -> None:
+    assert bool(_features(text, term, lang).get("span_negated")) is negated
+
+
 def test_stance_features_sin_embargo_is_not_negation() -> None:
     # "sin embargo" (however) holds the trigger "sin" but negates nothing.
     features = _features("Sin embargo el sabor es bueno.", "sabor", "es")
