@@ -29,7 +29,10 @@ two keys of this screen alone (not in the tool):
   weighted features; the tagger is then trained on the labelled sentences alone;
 * ``"dense_bins"``: with ``"dense_dims"``, each dimension cut at its quantiles over the
   vocabulary into that many bins, given as ordinary attributes (``q3:1``) instead of
-  the weighted features (``"dense_float"``: true keeps the weighted features too).
+  the weighted features (``"dense_float"``: true keeps the weighted features too);
+* ``"syntax"``: names or groups of ``tests/bench/syntax_attrs.py``, attributes from the
+  tags and dependency parse of a packaged spaCy pipeline appended to every sentence's
+  token attributes (training and val alike).
 """
 
 from __future__ import annotations
@@ -48,6 +51,7 @@ sys.path.insert(0, str(ROOT))
 
 import numpy as np  # noqa: E402
 
+from extractor.models import tagger_training  # noqa: E402
 from extractor.models.recall_decoding import recall_tags  # noqa: E402
 from extractor.models.tagger import TagPath, TraitTagger, sentence_items  # noqa: E402
 from extractor.models.tagger_training import fit_tagger  # noqa: E402
@@ -57,6 +61,7 @@ from extractor.nlp.features import Attributes  # noqa: E402
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.nlp.text import tokenize  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
+from tests.bench import syntax_attrs  # noqa: E402
 from tests.mams import load_mams  # noqa: E402
 
 Gold = list[tuple[Sentence, list[Span]]]
@@ -116,6 +121,21 @@ class Dense:
         return out
 
 
+def with_syntax(names: list[str], parses: dict[str, syntax_attrs.Parse]) -> Any:
+    """Return ``sentence_items`` with the syntax attributes of templates ``names`` appended."""
+
+    def items(sentence: Sentence, *args: Any, **kwargs: Any) -> Any:
+        offsets, feats, matches = sentence_items(sentence, *args, **kwargs)
+        extra = syntax_attrs.attributes(parses[sentence.text], names)
+        if kwargs.get("axes"):
+            feats = [(own, rest + e) for (own, rest), e in zip(feats, extra, strict=True)]
+        else:
+            feats = [f + e for f, e in zip(feats, extra, strict=True)]
+        return offsets, feats, matches
+
+    return items
+
+
 def word_list(sentence: Sentence, offsets: list[tuple[int, int]]) -> list[str]:
     """Return the sentence's tokens as text."""
     return [sentence.text[a:b] for a, b in offsets]
@@ -138,7 +158,10 @@ def main() -> None:
     clusters = learn_clusters(
         [(s.text, s.lang) for s, _ in train + val] + test_text, space_axes=args.axes
     )
-    val_items = [sentence_items(s, None, clusters)[:2] for s, _ in val]
+    settings = [json.loads(raw) for raw in args.settings]
+    parses: dict[str, syntax_attrs.Parse] = {}
+    if any(p.get("syntax") for p in settings):
+        parses = syntax_attrs.parse([(s.text, s.lang) for s, _ in train + val] + test_text)
     words = {s.text[a:b].lower() for s, _ in train + val for a, b in tokenize(s.text, s.lang)}
     base: dict[tuple[int, int], float] = {}
     for raw in args.settings:
@@ -150,7 +173,11 @@ def main() -> None:
         bins, keep = params.pop("dense_bins", 0), params.pop("dense_float", False)
         features.AXES_SCALE = params.pop("axes_scale", 1.0)
         features._featurizer_in_use = features._Featurizer(None)  # words made afresh
-        val_axes = [sentence_items(s, None, clusters, axes=True)[1] for s, _ in val]
+        names = syntax_attrs.expand(params.pop("syntax", []))
+        items = with_syntax(names, parses) if names else sentence_items
+        tagger_training.sentence_items = items  # fit_tagger's features
+        val_items = [items(s, None, clusters)[:2] for s, _ in val]
+        val_axes = [items(s, None, clusters, axes=True)[1] for s, _ in val]
         dense = Dense(words, dims, scale, bins, keep) if dims else None
         val_X: list[Any] = [f for _, f in val_items]
         if dense is not None:

@@ -5,7 +5,8 @@ Not part of the test suite. Run from the repository root:
     .venv/bin/python tests/bench/tagger_screen.py \
         '{"params": {"algorithm": "ap", "max_iterations": 10}}' \
         '{"trainer": {"feature.possible_states": true}}' \
-        '{"templates": ["length", "skip_pairs"]}' [--clusters JSON] [--test] [--no-cv]
+        '{"templates": ["length", "skip_pairs"]}' '{"syntax": ["upos", "dep"]}' \
+        [--clusters JSON] [--test] [--no-cv]
 
 A companion of ``tagger_cv.py`` (same data, folds and scoring: strict span F1, 3 folds
 of the MAMS train split shuffled with seed 0, the test split only with ``--test``) for
@@ -14,7 +15,9 @@ optional keys ``params`` (:class:`~extractor.models.tagger.TraitTagger` paramete
 ``trainer`` (further CRFsuite training options, e.g. ``{"type": 1, "c": 1.0}`` for
 ``pa``, or ``feature.possible_states``) and ``templates`` (names from
 :data:`TEMPLATES`, whose attributes are appended to those the tagger builds).
-``--clusters`` passes keyword arguments to
+``syntax`` (names or groups of ``tests/bench/syntax_attrs.py``, attributes from the
+tags and dependency parse of a packaged spaCy pipeline) likewise. ``--clusters`` passes
+keyword arguments to
 :func:`~extractor.nlp.clusters.learn_clusters` (e.g. ``{"space_granularities": [32,
 128, 512, 2048]}``). A template that wins here must be built into ``nlp/features.py`` and
 ``nlp/feature_rows.py`` and measured again with ``tagger_cv.py``.
@@ -27,6 +30,7 @@ import json
 import random
 import statistics
 import sys
+import time
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
@@ -42,6 +46,7 @@ from extractor.nlp.clusters import learn_clusters  # noqa: E402
 from extractor.nlp.features import Attributes, Clusters  # noqa: E402
 from extractor.nlp.spans import iob_to_spans, span_prf, spans_to_iob  # noqa: E402
 from extractor.types import Sentence, Span  # noqa: E402
+from tests.bench import syntax_attrs  # noqa: E402
 from tests.mams import load_mams, mams_texts  # noqa: E402
 
 Item = tuple[list[tuple[int, int]], list[Attributes], list[str], list[Span], list[str]]
@@ -175,6 +180,15 @@ def with_templates(item: Item, names: list[str]) -> Item:
     return offsets, new, tags, spans, words
 
 
+def with_syntax(item: Item, parse: syntax_attrs.Parse, names: list[str]) -> Item:
+    """Return ``item`` with the syntax attributes of templates ``names`` appended per token."""
+    if not names:
+        return item
+    offsets, feats, tags, spans, words = item
+    extra = syntax_attrs.attributes(parse, names)
+    return offsets, [f + e for f, e in zip(feats, extra, strict=True)], tags, spans, words
+
+
 @contextmanager
 def trainer_options(options: dict[str, Any]) -> Iterator[None]:
     """Add CRFsuite training ``options`` to every trainer set up inside the block."""
@@ -220,11 +234,23 @@ def main() -> None:
     clusters = learn_clusters(texts, **kwargs)
     base = items("train", clusters)
     base_test = items("test", clusters) if args.test or args.no_cv else []
+    syntax = {n: syntax_attrs.expand(s.get("syntax", [])) for n, s in enumerate(settings)}
+    parses: dict[str, list[syntax_attrs.Parse]] = {}
+    if any(syntax.values()):
+        parsed = syntax_attrs.parse(texts)
+        for split in ("train", "test"):
+            parses[split] = [parsed[d["sentence"]] for d in load_mams(split) or []]
     order = list(range(len(base)))
     random.Random(0).shuffle(order)
-    for setting in settings:
+    for n, setting in enumerate(settings):
         params, names = setting.get("params", {}), setting.get("templates", [])
         train = [with_templates(x, names) for x in base]
+        if syntax[n]:
+            train = [
+                with_syntax(x, p, syntax[n]) for x, p in zip(train, parses["train"], strict=True)
+            ]
+        row_attrs = len({a for x in train for f in x[1] for a in f})
+        started = time.perf_counter()
         row: dict[str, object] = {"setting": setting}
         with trainer_options(setting.get("trainer", {})):
             if not args.no_cv:
@@ -238,7 +264,14 @@ def main() -> None:
                 row["folds"] = [round(s, 4) for s in scores]
             if base_test:
                 test = [with_templates(x, names) for x in base_test]
+                if syntax[n]:
+                    test = [
+                        with_syntax(x, p, syntax[n])
+                        for x, p in zip(test, parses["test"], strict=True)
+                    ]
                 row["test_f1"] = round(f1(train, test, params), 4)
+        row["attributes"] = row_attrs
+        row["seconds"] = round(time.perf_counter() - started, 1)
         print(json.dumps(row), flush=True)
 
 
