@@ -10,7 +10,7 @@ import snowballstemmer
 import spacy
 from lingua import Language
 
-from extractor.models.cues import CUES_PATH
+from extractor.models.cue_file import CUES_PATH
 from extractor.models.languages import language_support
 from extractor.nlp.dictionary import SNOWBALL_LANGUAGES
 

@@ -9,7 +9,8 @@ from typing import Any
 
 from extractor.ingest.intake import FileReport, add_files
 from extractor.jobs.inputs import question_codebook, stance_params
-from extractor.models.cues import Cues, has_stance_cues, lexicon, load_cues
+from extractor.models.cue_file import Cues, has_stance_cues, load_cues
+from extractor.models.cues import lexicon
 from extractor.models.languages import LanguageSupport, language_support
 from extractor.models.stance_features import question_features
 from extractor.nlp.text import primary_subtag

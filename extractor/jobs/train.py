@@ -24,7 +24,7 @@ from extractor.jobs.inputs import (
 from extractor.loop.samples import ensure_samples
 from extractor.models import metrics
 from extractor.models.bundle import TrainingCounts, TraitModels
-from extractor.models.cues import Cues, has_stance_cues
+from extractor.models.cue_file import Cues, has_stance_cues
 from extractor.models.tagger import ALGORITHMS
 from extractor.models.tagger_training import SILVER_FILTERS
 from extractor.models.validation import CrossValidation, cross_validate

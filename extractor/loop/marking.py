@@ -14,7 +14,7 @@ from typing import NamedTuple
 
 from extractor.errors import InputError
 from extractor.models.bundle import SentencePrediction
-from extractor.models.cues import packaged_cues
+from extractor.models.cue_file import packaged_cues
 from extractor.models.stance_features import stance_features
 from extractor.models.stance_rules import rule_stance
 from extractor.nlp.fold import fold

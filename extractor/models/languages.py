@@ -3,7 +3,7 @@
 Every fact is read from the code and the libraries in use, never written down by
 hand: the spaCy pipeline :func:`~extractor.nlp.text.spacy_code` picks, the Snowball
 stemmer of :data:`~extractor.nlp.dictionary.SNOWBALL_LANGUAGES`, the sections of the
-packaged stance cue file (:data:`~extractor.models.cues.CUES_PATH`), and lingua's
+packaged stance cue file (:data:`~extractor.models.cue_file.CUES_PATH`), and lingua's
 bundled models. The README's language table is checked against these facts.
 """
 
@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from extractor.ingest.language import detectable
-from extractor.models.cues import has_stance_cues, packaged_cues
+from extractor.models.cue_file import has_stance_cues, packaged_cues
 from extractor.nlp.dictionary import stemmer_language
 from extractor.nlp.text import MULTI, primary_subtag, spacy_code
 

@@ -23,7 +23,7 @@ from sklearn.linear_model import LogisticRegression
 from sklearn.pipeline import Pipeline
 
 from extractor.errors import InputError
-from extractor.models.cues import Cues, load_cues, packaged_cues
+from extractor.models.cue_file import Cues, load_cues, packaged_cues
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
 from extractor.models.stance_context import DEFAULT_BLOCKS, OLD_BLOCKS, context_vectors
 from extractor.models.stance_features import Codebook, stance_features
@@ -93,7 +93,7 @@ class StanceModel(BaseEstimator):
         max_iter: Iteration limit of the solver.
         class_weight: ``None`` or ``"balanced"``, passed to the logistic regression.
         cues_path: A user cue file merged over the packaged lexicon
-            (see :func:`~extractor.models.cues.load_cues`).
+            (see :func:`~extractor.models.cue_file.load_cues`).
         questions: The question codebook as plain data, question key ->
             ``{"text": ..., "direction": ...}`` (either may be missing); saved with
             the model (see :func:`codebook_params`).

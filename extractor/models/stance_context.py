@@ -39,7 +39,8 @@ from collections.abc import Iterable, Sequence
 
 import numpy as np
 
-from extractor.models.cues import Cues, Parsed, clause, lexicon, parse, span_tokens
+from extractor.models.cue_file import Cues
+from extractor.models.cues import Parsed, clause, lexicon, parse, span_tokens
 from extractor.nlp.pretrained import Space
 from extractor.types import Sentence, Span
 

@@ -17,10 +17,10 @@ from collections import defaultdict
 from collections.abc import Mapping
 from typing import NamedTuple
 
+from extractor.models.cue_file import Cues
 from extractor.models.cues import (
     PUNCT_BOUNDARY,
     SENTENCE_END,
-    Cues,
     Lexicon,
     Parsed,
     clause,
@@ -84,7 +84,7 @@ def stance_features(
     Args:
         sentence: The sentence holding the mention.
         span: The mention, in character offsets of ``sentence.text``.
-        cues: A lexicon from :func:`~extractor.models.cues.load_cues`.
+        cues: A lexicon from :func:`~extractor.models.cue_file.load_cues`.
         codebook: The question codebook, if any (see :mod:`extractor.ingest.codebook`).
 
     Returns:

@@ -31,7 +31,8 @@ from collections import defaultdict
 from collections.abc import Collection, Iterable, Mapping, Sequence
 from typing import NamedTuple, Protocol, runtime_checkable
 
-from extractor.models.cues import Cues, lexicon, packaged_cues, parse
+from extractor.models.cue_file import Cues, packaged_cues
+from extractor.models.cues import lexicon, parse
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
@@ -153,7 +154,7 @@ def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tup
     Args:
         text: One sentence.
         lang: Its language tag.
-        cues: A lexicon from :func:`~extractor.models.cues.load_cues` (the packaged one
+        cues: A lexicon from :func:`~extractor.models.cue_file.load_cues` (the packaged one
             when ``None``).
 
     Returns:

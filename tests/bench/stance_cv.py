@@ -33,7 +33,7 @@ from sklearn.model_selection import GroupKFold
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 
-from extractor.models.cues import packaged_cues  # noqa: E402
+from extractor.models.cue_file import packaged_cues  # noqa: E402
 from extractor.models.stance import _model_features  # noqa: E402
 from extractor.models.stance_context import (  # noqa: E402
     BLOCKS,

@@ -35,7 +35,7 @@ sys.path.insert(0, str(ROOT))
 
 import extractor.models.stance as stance_module  # noqa: E402
 from extractor.models.bundle import STANCE_PRIOR  # noqa: E402
-from extractor.models.cues import STANCE_CATEGORIES, load_cues  # noqa: E402
+from extractor.models.cue_file import STANCE_CATEGORIES, load_cues  # noqa: E402
 from extractor.models.stance import StanceModel, codebook_params  # noqa: E402
 from extractor.types import STANCES, QuestionCode, Sentence, Span  # noqa: E402
 

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import spacy
 
-from extractor.models.cues import CUES_PATH
+from extractor.models.cue_file import CUES_PATH
 from tests.cli.trial import run, trial_lines
 
 

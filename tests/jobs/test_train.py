@@ -14,7 +14,7 @@ import pytest
 
 from extractor.jobs.run import train_and_tag
 from extractor.jobs.train import new_version_name, reusable_clusters, stance_gaps
-from extractor.models.cues import load_cues
+from extractor.models.cue_file import load_cues
 from extractor.nlp.clusters import learn_clusters, save_clusters
 from extractor.types import Sentence, Span
 from extractor.workspace import store

@@ -10,7 +10,8 @@ import numpy as np
 import pytest
 
 import extractor.models.stance as stance_module
-from extractor.models.cues import STANCE_CATEGORIES, lexicon, parse, span_tokens
+from extractor.models.cue_file import STANCE_CATEGORIES
+from extractor.models.cues import lexicon, parse, span_tokens
 from extractor.models.stance import StanceModel
 from extractor.models.stance_context import (
     BLOCKS,

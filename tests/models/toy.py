@@ -5,7 +5,7 @@ Invented answers about invented varieties (Velora, Tolvane, Mirasol-3) and inven
 
 from __future__ import annotations
 
-from extractor.models.cues import load_cues
+from extractor.models.cue_file import load_cues
 from extractor.models.stance_features import stance_features
 from extractor.models.tagger import sentence_items
 from extractor.nlp.spans import spans_to_iob
