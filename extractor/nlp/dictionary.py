@@ -56,6 +56,9 @@ SNOWBALL_LANGUAGES: dict[str, str] = {
 }  # fmt: skip
 """ISO 639-1 code -> Snowball algorithm name, for the algorithms snowballstemmer ships."""
 
+MAX_GAP = 2
+"""Words a multi-word alias may have inserted among its own words and still match."""
+
 _WORD_CACHE_LIMIT = 1 << 16
 """Distinct words per sentence language whose keys are kept before the cache starts afresh."""
 
@@ -137,6 +140,9 @@ class Dictionary:
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
         self._plans: dict[str, list[tuple[str, bool]]] = {}
         self._word_keys: dict[str, _WordKeys] = {}
+        self._gap_index: dict[
+            tuple[str, str], dict[str, list[tuple[tuple[str, ...], list[_Entry]]]]
+        ] = {}
 
     @classmethod
     def from_aliases(cls, aliases: Sequence[tuple[str, str, str]]) -> Dictionary:
@@ -213,9 +219,66 @@ class Dictionary:
                     words, forms, keys, stem_lang, sent_code, only_own=only_own
                 )
         chosen = _longest_first(candidates)
+        if MAX_GAP:
+            own = [row[0] if row else None for row in rows]
+            firsts = self._gap_firsts(sent_stem, sent_code)
+            if any(k in firsts for k in own):
+                taken = {k for c in chosen for k in range(c.first, c.stop)}
+                gapped = self._gapped(words, own, firsts, sent_code, taken)
+                if gapped:
+                    chosen = sorted([*chosen, *gapped], key=lambda c: c.first)
         return [
             Span(token_offsets[c.first][0], token_offsets[c.stop - 1][1], c.concept) for c in chosen
         ]
+
+    def _gap_firsts(
+        self, stem_lang: str, sent_code: str
+    ) -> dict[str, list[tuple[tuple[str, ...], list[_Entry]]]]:
+        """Return the multi-word aliases of the sentence's language by their first key."""
+        index = self._gap_index.get((stem_lang, sent_code))
+        if index is None:
+            index = self._gap_index[stem_lang, sent_code] = {}
+            for alias_keys, entries in self._matcher(stem_lang, False).entries.items():
+                own = [e for e in entries if e.lang == sent_code or not e.lang]
+                if len(alias_keys) > 1 and own:
+                    index.setdefault(alias_keys[0], []).append((alias_keys, own))
+        return index
+
+    def _gapped(
+        self,
+        words: list[str],
+        keys: list[str | None],
+        index: dict[str, list[tuple[tuple[str, ...], list[_Entry]]]],
+        sent_code: str,
+        taken: set[int],
+    ) -> list[_Candidate]:
+        """Return matches of multi-word aliases of the sentence's language with words inserted.
+
+        An answer often puts a copula, an intensifier or a qualifier inside a trait phrase
+        ("sauce est épaisse" for "sauce épaisse", "grano es grande", "resistant to crop
+        diseases"). The alias's words must come in order, with 1 to :data:`MAX_GAP`
+        other words between them in all, no punctuation among them, and on tokens no
+        contiguous match holds; the longest such match wins, then the earliest.
+        """
+        found: list[_Candidate] = []
+        n = len(keys)
+        for first, key in enumerate(keys):
+            if key is None or first in taken:
+                continue
+            for alias_keys, entries in index.get(key, ()):
+                at, gaps, j = 1, 0, first
+                while at < len(alias_keys) and gaps <= MAX_GAP:
+                    j += 1
+                    if j >= n or j in taken or not any(ch.isalnum() for ch in words[j]):
+                        break
+                    if keys[j] == alias_keys[at]:
+                        at += 1
+                    else:
+                        gaps += 1
+                if at == len(alias_keys) and 0 < gaps <= MAX_GAP:
+                    best = min(entries, key=lambda e: (e.lang != sent_code, e.concept))
+                    found.append(_Candidate(first, j + 1, best.concept, True))
+        return [c for c in _longest_first(found) if taken.isdisjoint(range(c.first, c.stop))]
 
     def _plan(self, sent_stem: str) -> list[tuple[str, bool]]:
         """Return the matchers a sentence of this stemmer language goes through, in order.

@@ -189,3 +189,78 @@ def test_matching_finds_the_runs_spacy_phrase_matcher_finds() -> None:
             runs += [(a, b) for a, b, _ in ours]
     # The check saw many matches, multi-word and overlapping ones among them.
     assert len(runs) > 1000 and sum(b - a > 1 for a, b in runs) > 100
+
+
+# ------------------------------------------------------------------ words inserted in an alias
+# Insertion is one of the term variants of the term-variation literature (Jacquemin's
+# FASTR: "insertion", "coordination", "permutation"; from memory): a copula, an
+# intensifier or a qualifier put inside a multi-word term leaves the term.
+
+
+@pytest.mark.parametrize(
+    ("alias", "lang", "text", "expected"),
+    [
+        ("sauce épaisse", "fr", "La sauce est épaisse.", "sauce est épaisse"),
+        ("grano grande", "es", "El grano es muy grande.", "grano es muy grande"),
+        ("resistant to diseases", "en", "It is resistant to crop diseases.",
+         "resistant to crop diseases"),
+    ],
+    ids=["copula-fr", "copula-intensifier-es", "qualifier-en"],
+)  # fmt: skip
+def test_match_multi_word_alias_with_words_inserted(
+    alias: str, lang: str, text: str, expected: str
+) -> None:
+    d = build_dictionary([("TX:0401", alias, lang)])
+    assert matched(d, text, lang) == [(expected, "TX:0401")]
+
+
+@pytest.mark.parametrize(
+    ("text", "why"),
+    [
+        ("La sauce, dit-elle, est vraiment très épaisse.", "more than MAX_GAP words between"),
+        ("La sauce est claire; épaisse, non.", "punctuation between"),
+        ("Épaisse est la sauce.", "the words out of order"),
+    ],
+    ids=["too-far", "punctuation", "order"],
+)
+def test_match_inserted_words_have_limits(text: str, why: str) -> None:
+    d = build_dictionary([("TX:0401", "sauce épaisse", "fr")])
+    assert d.match(text, "fr") == [], why
+
+
+def test_contiguous_match_claims_its_words_before_a_gapped_one() -> None:
+    # "resistant to diseases" with "drought and" inserted would swallow the drought trait.
+    d = build_dictionary(
+        [("TX:0501", "resistant to drought", "en"), ("TX:0502", "resistant to diseases", "en")]
+    )
+    assert matched(d, "Resistant to drought and diseases", "en") == [
+        ("Resistant to drought", "TX:0501")
+    ]
+
+
+def test_gapped_matches_agree_with_labels_of_real_answers(monkeypatch: pytest.MonkeyPatch) -> None:
+    # Open data: the maize verbatims (tests/maize.py; real answers, CC BY 4.0), our
+    # concept list and our labels of 300 of them. Insertions are rare in these short
+    # answers (about 30 in 4,800: "Produces Big Maize Cobs" for "big cobs", "Matures
+    # Quite Early"); those in the labelled answers are labelled mentions of that concept.
+    from extractor.nlp import dictionary as module
+    from tests import maize
+
+    loaded = maize.load_workspace()
+    if loaded is None:
+        pytest.skip(maize.SKIP_REASON)
+    corpus, labelled, aliases = loaded
+    with_gaps = build_dictionary(aliases).match_many(corpus)
+    monkeypatch.setattr(module, "MAX_GAP", 0)
+    without = build_dictionary(aliases).match_many(corpus)
+    added = [set(ours) - set(plain) for ours, plain in zip(with_gaps, without, strict=True)]
+    assert sum(len(a) for a in added) >= 20
+    checked = 0
+    for g in labelled:
+        for m in added[g["row"]]:
+            checked += 1
+            assert any(
+                s["start"] < m.end and m.start < s["end"] and s.get("concept") == m.concept
+                for s in g["spans"]
+            ), corpus[g["row"]].text
+    assert checked >= 2
