@@ -144,8 +144,8 @@ class LabelScreen:
             entries=self.entries,
             figures=self._quality_figures(),
             message=self._message,
+            implicit=self.implicit,
         )
-        screen_implicit.show(self.console, self.entries, self.implicit, item.sentence.lang)
         self._message = ""
 
     def choose_occurrence(self, text: str, found: Sequence[tuple[int, int]]) -> tuple[int, int]:

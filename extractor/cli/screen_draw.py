@@ -19,7 +19,7 @@ from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry, kept
 from extractor.loop.session import Session
 from extractor.models.bundle import Mention
-from extractor.types import Span
+from extractor.types import Implicit, Span
 
 STANCE_STYLE = {
     "liked": "green",
@@ -342,8 +342,13 @@ def draw_item(
     entries: Sequence[ConceptEntry],
     figures: Figures | None,
     message: str,
+    implicit: Sequence[Implicit] = (),
 ) -> None:
-    """Draw the sentence in its context, the draft answer, progress, a message and help."""
+    """Draw the sentence in its context, the draft answer, progress, a message and help.
+
+    The traits without a quote span (``implicit``) are listed under the spans; "no trait
+    here" shows only when there is neither.
+    """
     c = console
     if c.is_terminal:
         c.clear()
@@ -353,9 +358,14 @@ def draw_item(
     c.print(sentence_text(item, draft))
     if kept(draft):
         c.print(spans_grid(item, draft, entries))
-    else:
+    if implicit:
+        c.print(implicit_text(entries, implicit, item.sentence.lang))
+    if not kept(draft) and not implicit:
         c.print(Text("no trait here", style="dim italic"))
-    origin = "edited" if kept(draft) != tuple(sorted(item.suggestion)) else _ORIGIN[item.origin]
+    edited = kept(draft) != tuple(sorted(item.suggestion)) or set(implicit) != set(
+        item.implicit_suggestion
+    )
+    origin = "edited" if edited else _ORIGIN[item.origin]
     c.print(Text(f"({origin}; Enter saves what is shown)", style="dim"))
     progress = progress_text(session, figures)
     if progress is not None:
@@ -365,3 +375,15 @@ def draw_item(
     if kept(draft):
         c.print(Text(SPAN_HELP_LINE, style="dim"))
     c.print(Text(HELP_LINE, style="dim"))
+
+
+def implicit_text(entries: Sequence[ConceptEntry], traits: Sequence[Implicit], lang: str) -> Text:
+    """Return the line listing the traits without quote span, numbered for ``- N``."""
+    line = Text("Without quote span: ", style="bold")
+    line.append(
+        " · ".join(
+            f"[{n}] {concept_label(entries, t.concept, lang)} {t.stance or 'no stance'}"
+            for n, t in enumerate(traits, 1)
+        )
+    )
+    return line

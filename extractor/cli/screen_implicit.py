@@ -3,7 +3,7 @@
 ``+ letters [key]`` adds a trait the sentence states without words to mark (an implicit
 trait): the concept by a few letters of any of its names, the stance by one key;
 ``- N`` drops implicit trait N. The screen lists them under the sentence, the model's
-suggestions among them, beside the span suggestions.
+suggestions among them, beside the span suggestions (:func:`screen_draw.implicit_text`).
 """
 
 from __future__ import annotations
@@ -11,10 +11,6 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Protocol
 
-from rich.console import Console
-from rich.text import Text
-
-from extractor.cli.screen_draw import concept_label
 from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry, rank_concepts
 from extractor.nlp.fold import fold
@@ -39,14 +35,6 @@ def start(screen: _Screen, item: Item) -> list[Span | None]:
     """Begin a sentence: the implicit suggestions become the screen's; return the span draft."""
     screen.implicit = list(item.implicit_suggestion)
     return list(item.suggestion)
-
-
-def show(
-    console: Console, entries: Sequence[ConceptEntry], traits: Sequence[Implicit], lang: str
-) -> None:
-    """Print the line of traits without quote span, if there are any."""
-    if traits:
-        console.print(implicit_text(entries, traits, lang))
 
 
 def command(screen: _Screen, lang: str, line: str) -> bool:
@@ -97,15 +85,3 @@ def drop(traits: list[Implicit], arg: str) -> str | None:
         return f"Give the number of a trait without quote span: 1 to {len(traits)}."
     del traits[int(arg) - 1]
     return None
-
-
-def implicit_text(entries: Sequence[ConceptEntry], traits: Sequence[Implicit], lang: str) -> Text:
-    """Return the line listing the traits without quote span, numbered for ``- N``."""
-    line = Text("Without quote span: ", style="bold")
-    line.append(
-        " · ".join(
-            f"[{n}] {concept_label(entries, t.concept, lang)} {t.stance or 'no stance'}"
-            for n, t in enumerate(traits, 1)
-        )
-    )
-    return line

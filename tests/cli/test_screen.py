@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+import json
 import os
 import signal
 import sqlite3
@@ -570,3 +571,21 @@ def test_pipe_decoding_strictly_is_refused_not_a_traceback(conn: sqlite3.Connect
     with pytest.raises(InputError, match=r"The input \(at or after line 1\) is not UTF-8"):
         _run(conn, [], input_stream=stream)
     assert store.current_labels(conn) == {}
+
+
+def test_trait_without_quote_span_is_shown_under_the_sentence_and_stored(
+    conn: sqlite3.Connection,
+) -> None:
+    # Sentence 2 has no suggestion; "+ yield d" adds yield, disliked, without a span.
+    _, screen = _run(conn, ["", "+ yield d", "", "q"])
+    frame = screen.split("› + yield d\n")[1].split("› ")[0]
+    line = "Without quote span: [1] BTX:0015 yield disliked"
+    assert line in frame
+    assert frame.index(line) < frame.index("(edited; Enter saves what is shown)")
+    assert frame.index(line) < frame.index("Enter keep")
+    assert "no trait here" not in frame
+    assert "suggested by the model" not in frame
+    rows = conn.execute("SELECT spans, implicit FROM labels WHERE sentence_id = 2").fetchall()
+    assert [(json.loads(r[0]), json.loads(r[1])) for r in rows] == [
+        ([], [{"concept": "BTX:0015", "stance": "disliked"}])
+    ]
