@@ -538,3 +538,26 @@ def test_bad_input_is_one_sentence_and_changes_nothing(
     assert place in errors[0], out
     assert errors[0].rstrip().endswith("."), out
     assert snapshot(ws) == before
+
+
+@pytest.mark.parametrize(
+    ("data", "options", "how"),
+    [
+        ("sex,Why do you grow it?\nF,It cooks fast.\n", [], "--respondent-column"),
+        ("code,age\nR1,34\nR2,51\n", ["--respondent-column", "code"], "--answer-column"),
+        ("code,answer\nR1,It cooks fast.\n", ["--respondent-column", "Code ID"], "'code'"),
+    ],
+    ids=["no-respondent-column", "no-answer-column", "named-column-missing"],
+)
+def test_unrecognised_columns_say_how_to_name_them(
+    data: str, options: list[str], how: str, ws: Path, tmp_path: Path
+) -> None:
+    # The message names the option of `traits add` and the traits.toml setting a user
+    # can type, never a Python dictionary.
+    path = put(tmp_path, "survey.csv", data)
+    code, out = run(["add", "-w", str(ws), *options, str(path)])
+    message = " ".join(out.split())
+    assert code != 0 and "Traceback" not in out
+    assert how in message, message
+    assert "under [columns] in traits.toml" in message, message
+    assert "{'" not in message and "mapping" not in message, message

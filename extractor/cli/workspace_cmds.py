@@ -212,11 +212,18 @@ def register(sub: Subcommands) -> None:
         "(repeatable; e.g. sex=gender)",
     )
     p.add_argument("--sheet", help="read only this sheet of a workbook")
-    p.add_argument("--respondent-column")
-    p.add_argument("--question-column")
-    p.add_argument("--answer-column")
-    p.add_argument("--language-column")
-    p.add_argument("--variety-column")
+    for role, what in (
+        ("respondent", "the respondent IDs"),
+        ("question", "the question asked (long layout)"),
+        ("answer", "the answers (long layout)"),
+        ("language", "each answer's language tag"),
+        ("variety", "the variety spoken of"),
+    ):
+        p.add_argument(
+            f"--{role}-column",
+            metavar="HEADER",
+            help=f"the column holding {what}, when its header is not recognised",
+        )
     p.set_defaults(handler=cmd_add)
 
     p = sub.add_parser("status", help="counts of what the workspace holds")

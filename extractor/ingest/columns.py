@@ -131,9 +131,20 @@ def _find_column(headers: list[str], name: str, key: str, where: str) -> int:
     if fold_header(name) in folded:
         return folded.index(fold_header(name))
     raise LayoutError(
-        f"{where}: the mapping names column {name!r} for {key!r}, but the headers are "
-        f"{', '.join(repr(h) for h in headers)}; correct the mapping to one of these."
+        f"{where}: the {key} column was named {name!r}, but the headers are "
+        f"{', '.join(repr(h) for h in headers)}; name one of these with "
+        f"{_how_to_name(key, 'HEADER')}."
     )
+
+
+def _how_to_name(key: str, header: str) -> str:
+    """Return how a user names a column: the option of ``traits add``, the setting."""
+    setting = f'{key} = "{header}" under [columns] in traits.toml'
+    if key == "questions":
+        return f'questions = ["{header}", ...] under [columns] in traits.toml'
+    if key == "group":
+        return setting
+    return f'`traits add FILE --{key}-column "{header}"` or {setting}'
 
 
 def _is_free_text(values: list[str]) -> bool:
@@ -190,7 +201,7 @@ def _question_columns(
         raise LayoutError(
             f"{where}: no answer column was recognised and no column holds free text "
             f"(headers found: {', '.join(repr(h) for h in headers)}); name the answer "
-            "column with the mapping, e.g. {'answer': '<header>'}."
+            f"column with {_how_to_name('answer', 'HEADER')}."
         )
     return questions
 
@@ -212,8 +223,8 @@ def resolve_columns(
     if "respondent" not in roles:
         raise LayoutError(
             f"{where}: no respondent ID column was recognised (headers found: "
-            f"{', '.join(repr(h) for h in headers)}); name it with the mapping, "
-            "e.g. {'respondent': '<header>'}."
+            f"{', '.join(repr(h) for h in headers)}); add a column of respondent IDs, or "
+            f"name the column that holds them with {_how_to_name('respondent', 'HEADER')}."
         )
     taken = set(roles.values()) | set(questions)
     metadata = [i for i in range(len(headers)) if i not in taken]

@@ -5,8 +5,10 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import pytest
 import spacy
 
+from extractor.cli.main import main
 from extractor.models.cue_file import CUES_PATH
 from tests.cli.trial import run, trial_lines
 
@@ -142,3 +144,11 @@ def test_add_takes_a_users_cue_file_as_stance_cues_of_its_language(tmp_path: Pat
     (ws / "traits.toml").write_text(toml, encoding="utf-8")
     code, out = run("-w", str(ws), "add", str(answers))
     assert code == 0 and "no stance cues" not in " ".join(out.split())
+
+
+def test_add_help_explains_every_column_option(capsys: pytest.CaptureFixture[str]) -> None:
+    with pytest.raises(SystemExit):
+        main(["add", "--help"])
+    text = " ".join(capsys.readouterr().out.split())
+    for role in ("respondent", "question", "answer", "language", "variety"):
+        assert f"--{role}-column HEADER the column holding" in text, text

@@ -79,15 +79,17 @@ def test_read_mapping_questions_makes_wide_layout(tmp_path: Path) -> None:
 def test_read_csv_without_answer_or_free_text_lists_headers(tmp_path: Path) -> None:
     path = tmp_path / "codes.csv"
     path.write_text("Respondent,Gender,District\nR1,female,Lowa\nR2,male,Lowa\n", encoding="utf-8")
-    with pytest.raises(InputError, match=r"'codes\.csv'.*'Respondent', 'Gender', 'District'.*"
-                                         r"\{'answer': '<header>'\}"):  # fmt: skip
+    headers = r"'codes\.csv'.*'Respondent', 'Gender', 'District'.*"
+    how = r"--answer-column.*answer = \"HEADER\" under \[columns\] in traits\.toml"
+    with pytest.raises(InputError, match=headers + how):
         read(path)
 
 
 def test_read_mapping_naming_missing_column_lists_headers(tmp_path: Path) -> None:
     path = tmp_path / "survey.csv"
     path.write_text(f"Respondent,Answer\nR1,{EN_1}\n", encoding="utf-8")
-    with pytest.raises(InputError, match=r"'survey\.csv'.*'Verbatim' for 'answer'.*'Respondent'"):
+    named = r"'survey\.csv'.*answer column was named 'Verbatim'.*'Respondent'.*--answer-column"
+    with pytest.raises(InputError, match=named):
         read(path, mapping={"answer": "Verbatim"})
 
 
