@@ -7,7 +7,7 @@
   per-respondent tables and shares of respondents with their statistics
   (:mod:`~extractor.report.stats`);
 - :mod:`~extractor.report.workbook` writes the Excel workbook through
-  :mod:`~extractor.report.cells` (text stays text) and :mod:`~extractor.report.chart`,
+  :mod:`~extractor.report.cells` (text stays text) and :mod:`~extractor.report.group_charts`,
   with the About sheet of :mod:`~extractor.report.about`;
 - :mod:`~extractor.report.formats` writes CSV, JSON Lines, CoNLL IOB2 and W3C Web
   Annotations; :mod:`~extractor.report.privacy` pseudonymises before anything leaves;

@@ -135,6 +135,19 @@ def all_charts(summary: pd.DataFrame, groupings: list[str]) -> list[GroupChart]:
     ]
 
 
+def headline_chart(charts: list[GroupChart], groupings: list[str]) -> GroupChart:
+    """Return the chart kept beside the workbook: liked traits by the first charted grouping.
+
+    It is one of ``charts`` (the same bars, Wilson intervals and n per group); a grouping
+    left out for its many values is passed over, and with none left it is all individuals.
+    """
+    liked = {chart.grouping: chart for chart in charts if chart.outcome == "like"}
+    for grouping in (*groupings, None):
+        if grouping in liked:
+            return liked[grouping]
+    return GroupChart("like", None, _title("like", None), pd.DataFrame())
+
+
 def _wide(data: pd.DataFrame) -> tuple[list[str], list[str], pd.DataFrame, pd.DataFrame]:
     """Return traits, groups and trait x group tables of shares and of error half-widths."""
     traits = list(dict.fromkeys(data["Trait"]))

@@ -18,12 +18,13 @@ from openpyxl import Workbook
 from extractor.errors import InputError
 from extractor.report.about import RunFacts, about_table, export_counts
 from extractor.report.cells import HEADER_FONT, write_table
-from extractor.report.chart import chart_data, chart_title, write_chart_png
 from extractor.report.drawing import Call, Drawing
 from extractor.report.group_charts import (
     GroupChart,
     all_charts,
     chart_file_calls,
+    draw_chart,
+    headline_chart,
     write_charts_sheet,
 )
 from extractor.report.inputs import prepare
@@ -181,7 +182,8 @@ def write_workbook(
             the first one also splits the chart.
         min_confidence: Drop predicted mentions below this tagger confidence.
         pseudonymise: Pseudonyms, screened text and dropped identifying columns.
-        chart_png: Where to write the chart of liked traits by the first grouping as a PNG.
+        chart_png: Where to write the chart of liked traits by the first grouping as a PNG
+            (the first with at most 12 values; it is that chart of ``chart_dir``).
         chart_dir: A folder to write every chart of the Charts sheet into, as PNG and SVG
             (liked, disliked and wanted, by each grouping).
 
@@ -198,8 +200,6 @@ def write_workbook(
     _check_target(path, group_by, pseudonymise)
     m, r = prepare(mentions, respondents, min_confidence=min_confidence, pseudonymise=pseudonymise)
     summary = trait_summary(m, r, concepts, group_by)
-    grouping = group_by[0] if group_by else None
-    chart = chart_data(summary, grouping) if not summary.empty else pd.DataFrame()
     charts = all_charts(summary, group_by)
     about_rows: list[tuple[str, Any]] = [
         ("Minimum tagger confidence", min_confidence if min_confidence is not None else "none"),
@@ -210,7 +210,7 @@ def write_workbook(
     # The chart files are drawn by worker processes while the sheets are written.
     calls: list[Call] = []
     if chart_png is not None:
-        calls.append((write_chart_png, (chart, Path(chart_png), chart_title(grouping))))
+        calls.append((draw_chart, (headline_chart(charts, group_by), Path(chart_png))))
     if chart_dir is not None:
         calls.extend(chart_file_calls(charts, Path(chart_dir)))
     with Drawing(calls) as drawing:

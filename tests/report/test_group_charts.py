@@ -10,6 +10,7 @@ from extractor.report.group_charts import (
     chart_figure,
     chart_figures,
     draw_chart,
+    headline_chart,
     write_charts_sheet,
 )
 from extractor.report.inputs import prepare
@@ -95,3 +96,15 @@ def test_charts_sheet_holds_native_charts_with_error_bars(study: Study, tmp_path
     assert len(parts) == sum(1 for c in charts if len(c.data))
     assert "errBars" in xml and 'val="cust"' in xml  # ECMA-376 custom error bars
     assert load_workbook(tmp_path / "c.xlsx")["Charts"]["A3"].value == "Trait"
+
+
+def test_headline_chart_passes_over_a_grouping_left_out(study: Study) -> None:
+    m, r = prepare(*study)
+    charts = all_charts(trait_summary(m, r, CONCEPTS, ["gender"]), ["gender"])
+    # "role" stands for a grouping all_charts left out for its many values.
+    chosen = headline_chart(charts, ["role", "gender"])
+    assert (chosen.outcome, chosen.grouping) == ("like", "gender")
+    assert all(" (n=" in group for group in chosen.data["Group"])
+    assert headline_chart(charts, ["role"]).grouping is None
+    empty = headline_chart([], ["gender"])
+    assert empty.data.empty and empty.title.endswith("liking each trait")

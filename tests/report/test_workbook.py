@@ -188,3 +188,23 @@ def test_write_workbook_about_sheet_lists_the_columns_pseudonymising_dropped(
         assert column in dropped
     cells = [str(v) for v in _all_cells(out) if v is not None]
     assert not any("0712 345 678" in c or "someone@example.org" in c for c in cells)
+
+
+def test_chart_beside_the_workbook_is_the_liked_chart_of_the_first_grouping(
+    study: Study, tmp_path: Path
+) -> None:
+    # The PNG beside the workbook is drawn from the same figures as the Charts sheet:
+    # Wilson intervals and each group's n (checked against statsmodels in
+    # test_group_charts.py), so it is byte for byte the liked-by-gender chart file.
+    png, folder = tmp_path / "chart.png", tmp_path / "charts"
+    write_workbook(
+        tmp_path / "traits.xlsx",
+        *study,
+        CONCEPTS,
+        NO_FACTS,
+        group_by=["gender"],
+        chart_png=png,
+        chart_dir=folder,
+    )
+    assert png.read_bytes() == (folder / "liked_by_gender.png").read_bytes()
+    assert png.read_bytes() != (folder / "liked_all.png").read_bytes()
