@@ -47,10 +47,7 @@ def cmd_review_export(args: argparse.Namespace, console: Console) -> int:
 
 def quality_table(quality: ReviewQuality, version: str | None, by_concept: bool) -> Table:
     """Return the quality measured on a reviewed sample, overall (and by concept)."""
-    table = Table(
-        title=f"Model {version}: measured on {quality.respondents} reviewed respondents "
-        f"({quality.sentences} sentences)"
-    )
+    table = Table(title=f"Model {version}: measured on {quality.measured_on}")
     table.add_column("what")
     table.add_column("precision")
     table.add_column("recall")

@@ -81,10 +81,17 @@ class ReviewQuality:
     table_recall: Share
     by_concept: tuple[ConceptQuality, ...]
 
+    @property
+    def measured_on(self) -> str:
+        """Return what the figures rest on: ``3 reviewed respondents (41 sentences)``."""
+        people = "respondent" if self.respondents == 1 else "respondents"
+        sentences = "sentence" if self.sentences == 1 else "sentences"
+        return f"{self.respondents} reviewed {people} ({self.sentences} {sentences})"
+
     def as_metrics(self, version: str, reviewer: str) -> dict[str, Any]:
         """Return the figures as stored with the model version and shown on the About sheet."""
         return {
-            "measured on": f"{self.respondents} reviewed respondents ({self.sentences} sentences)",
+            "measured on": self.measured_on,
             "model version": version,
             "reviewer": reviewer,
             "precision (words)": self.mention_precision.text(),

@@ -41,3 +41,12 @@ def test_review_quality_counts_by_hand() -> None:
     by = {c.concept: c for c in q.by_concept}
     assert (by["C1"].precision.k, by["C1"].precision.n) == (1, 1)
     assert (by["C1"].recall.k, by["C1"].recall.n) == (1, 2)
+
+
+def test_measured_on_says_one_respondent_and_sentence_in_the_singular() -> None:
+    one = review_quality([ReviewedSentence("R1", [], [Span(0, 4, "C1", "liked")])])
+    assert one.measured_on == "1 reviewed respondent (1 sentence)"
+    two = ReviewedSentence("R2", [], [])
+    assert review_quality([two, two._replace(respondent="R3")]).measured_on == (
+        "2 reviewed respondents (2 sentences)"
+    )
