@@ -126,6 +126,14 @@ def _print_run(report: RunReport, console: Console) -> None:
         )
     else:
         console.print("No new interviews since the last run.")
+    previous = report.previous_version
+    if previous is not None:
+        learned = report.train.counts.gold_sentences
+        console.print(
+            f"Model version {report.train.version} learned from {learned} labeled "
+            f"{'sentence' if learned == 1 else 'sentences'} ({previous.labeled} for "
+            f"{previous.version})."
+        )
     for item in (report.concepts, report.varieties):
         if item is not None:
             print_warnings(console, item.warnings)

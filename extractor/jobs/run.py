@@ -38,10 +38,11 @@ class NewSince:
 
 @dataclass(frozen=True)
 class VersionQuality:
-    """A model version's name and its stored figures."""
+    """A model version's name, its stored figures and how many labeled sentences it learned."""
 
     version: str
     metrics: Mapping[str, Any]
+    labeled: int = 0
 
 
 @dataclass(frozen=True)
@@ -198,7 +199,11 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         tag=done.tag,
         previous_version=None
         if previous is None or unchanged is not None
-        else VersionQuality(previous.version, previous.metrics),
+        else VersionQuality(
+            previous.version,
+            previous.metrics,
+            TrainingCounts.from_meta(previous.meta.get("counts", {})).gold_sentences,
+        ),
         export=export_workbook(ws, done.train.version),
         counts=WorkspaceCounts(**after),
         retrained=unchanged is None,

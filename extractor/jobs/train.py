@@ -100,9 +100,11 @@ _NOTHING_TO_TRAIN_ON = (
 def _training_notes(held_out: frozenset[int], has_aliases: bool) -> list[str]:
     notes = []
     if held_out:
+        one = len(held_out) == 1
         notes.append(
-            f"{len(held_out)} labeled sentences of the evaluation sample are "
-            "kept out of training, so `traits evaluate` can score on them honestly."
+            f"{len(held_out)} labeled {'sentence' if one else 'sentences'} of the evaluation "
+            f"sample {'is' if one else 'are'} kept out of training, so `traits evaluate` can "
+            f"score on {'it' if one else 'them'} honestly."
         )
     if not has_aliases:
         notes.append("No concept list is imported, so the tagger learns from labels alone.")

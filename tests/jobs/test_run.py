@@ -58,7 +58,18 @@ def test_run_again_reports_nothing_new_and_keeps_labels(study: Path, tmp_path: P
     assert code == 0 and "No new interviews" in out
     with Workspace.open(study) as ws:
         assert len(store.current_labels(ws.conn)) == 1
-        assert len(store.models(ws.conn)) == 2
+        versions = store.models(ws.conn)
+        assert len(versions) == 2
+    # The run says what the new version learned from, beside what the previous had; the
+    # one label is either learned or kept out as part of the evaluation sample.
+    first, second = sorted(v.version for v in versions)
+    said = " ".join(out.split())
+    learned = f"Model version {second} learned from 1 labeled sentence (0 for {first})."
+    kept_out = (
+        f"Model version {second} learned from 0 labeled sentences (0 for {first})." in said
+        and "1 labeled sentence of the evaluation sample is kept out of training" in said
+    )
+    assert learned in said or kept_out, said
 
 
 def test_person_labels_override_predictions_in_the_workbook(study: Path, tmp_path: Path) -> None:
