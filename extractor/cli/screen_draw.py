@@ -183,7 +183,11 @@ def progress_text(session: Session, figures: Figures | None) -> Text | None:
     if figures:
         bits.append(_quality_words(figures))
     if s.kappas:
-        bits.append(f"the last two models agree {agreement_words(s.kappas[-1])}")
+        agree = f"the last two models agree {agreement_words(s.kappas[-1])}"
+        if s.kappas[-1] > AGREEMENT_WORDS[0][0] and not s.stop_signal:
+            # Landis & Koch's words start at 0.80; the stop sign waits for steadier models.
+            agree += ", but not yet steadily: keep labeling until the stop message"
+        bits.append(agree)
     if s.last_error:
         bits.append(f"retraining failed ({s.last_error}); the previous model stays")
     if not bits and not s.stop_signal:

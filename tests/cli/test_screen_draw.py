@@ -7,6 +7,7 @@ rich, which only renders them.
 from __future__ import annotations
 
 import io
+from types import SimpleNamespace
 
 import pytest
 from rich.console import Console
@@ -17,6 +18,7 @@ from extractor.cli.screen_draw import (
     concept_label,
     confidence_text,
     context_grid,
+    progress_text,
     sentence_text,
 )
 from extractor.loop.items import Item
@@ -111,6 +113,25 @@ def test_agreement_words_follow_landis_and_koch(kappa: float, words: str) -> Non
     # Landis & Koch (1977), Biometrics 33:159-174: 0.81-1 almost perfect, 0.61-0.80
     # substantial, 0.41-0.60 moderate, 0.21-0.40 fair, 0-0.20 slight, below 0 poor
     assert agreement_words(kappa) == words
+
+
+@pytest.mark.parametrize(
+    ("kappas", "stop", "steady_warning"),
+    [((0.86,), False, True), ((0.5,), False, False), ((0.995, 0.996, 0.999), True, False)],
+    ids=["high-not-steady", "moderate", "stop-sign"],
+)
+def test_high_agreement_does_not_read_as_a_stop_before_the_stop_sign(
+    kappas: tuple[float, ...], stop: bool, steady_warning: bool
+) -> None:
+    # After a few labels two models can agree "almost perfectly" in Landis & Koch's words
+    # (kappa above 0.80) long before the stop rule's 0.99 over three rounds (Bloodgood &
+    # Vijay-Shanker, 2009); the words must not read as "you can stop".
+    session = SimpleNamespace(
+        behind=0, version="v002", kappas=list(kappas), last_error=None, stop_signal=stop
+    )
+    text = progress_text(session, None).plain  # type: ignore[arg-type, union-attr]
+    assert ("not yet steadily" in text) is steady_warning
+    assert ("good moment to stop" in text) is stop
 
 
 def test_sentence_text_keeps_span_numbers_when_one_is_dropped() -> None:
