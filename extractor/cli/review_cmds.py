@@ -54,9 +54,11 @@ def quality_table(quality: ReviewQuality, version: str | None, by_concept: bool)
     for name, p, r in (
         ("mentions (words)", quality.mention_precision, quality.mention_recall),
         ("mentions (words and concept)", quality.concept_precision, quality.concept_recall),
+        ("mentions (words, concept and stance)", quality.full_precision, None),
         ("respondent table", quality.table_precision, quality.table_recall),
     ):
-        table.add_row(name, p.text(), r.text())
+        # A missed mention has no predicted stance to be right or wrong: no stance recall.
+        table.add_row(name, p.text(), r.text() if r is not None else "–")
     for c in quality.by_concept if by_concept else ():
         table.add_row(f"concept {c.concept}", c.precision.text(), c.recall.text())
     return table
@@ -72,8 +74,9 @@ def cmd_review_import(args: argparse.Namespace, console: Console) -> int:
     for line in result.skipped:
         console.print(f"[yellow]left out:[/] {line}", soft_wrap=True)
     console.print(
-        f"{result.reviewed} reviewed sentences in {result.path.name}: {result.stored} labels "
-        f"stored for {result.reviewer}, {result.unchanged} unchanged since an earlier import."
+        f"{_n(result.reviewed, 'reviewed sentence')} in {result.path.name}: "
+        f"{_n(result.stored, 'label')} stored for {result.reviewer}, "
+        f"{result.unchanged} unchanged since an earlier import."
     )
     if result.quality is not None:
         console.print(quality_table(result.quality, result.model_version, args.verbose))

@@ -41,3 +41,20 @@ def test_review_import_bad_rows_print_one_sentence_each(tmp_path: Path) -> None:
     lines = [line for line in out.splitlines() if line.startswith("review.xlsx, sheet Review")]
     assert len(lines) == 2
     assert "nothing was" in out
+
+
+def test_review_import_shows_precision_with_stance(tmp_path: Path) -> None:
+    # The same sample and edits as tests/jobs/test_review_import.py, whose counts were
+    # worked out by hand: stance kept for 2 of the 6 found mentions. The About sheet shows
+    # that figure; the import's table must too.
+    from tests.jobs.test_review_import import EDITS
+
+    root = review_study(tmp_path / "study")
+    code, out = run("review", "export", "--sample", "6", "--seed", "1", "-w", str(root))
+    assert code == 0, out
+    path = root / "exports" / "review.xlsx"
+    edit(path, EDITS)
+    code, out = run("review", "import", str(path), "--reviewer", "Amina", "-w", str(root))
+    assert code == 0, out
+    row = next(line for line in out.splitlines() if "words, concept and stance" in line)
+    assert "2 of 6" in row, row
