@@ -14,9 +14,14 @@ mention is attributed to, in order:
 A comparison ("bigger than the old Mbegu", "plus rapide que Kivuli", "más grande que
 el Mbegu", "compared to Mbegu, ...") also records the reference variety: the one
 right after the comparison marker (:func:`find_comparisons`). The reference gets the
-comparison only: a marker after a trait ("more yield than Mbegu, and it matures
-early") belongs to the trait before it, and only a marker that opens its clause
-("Compared to Mbegu, it cooks faster") reaches the traits after it.
+comparison only. A marker belongs to one trait mention (:func:`_owners`): the nearest
+one before it in its own clause ("the broth is thick and the taste is sweeter than
+Mbegu" compares the taste, not the broth; "sweeter than Mbegu" when the comparative
+is itself the trait word), else the nearest before it since the last contrast word or
+sentence end ("the taste is good, better than Mbegu"), else the first after its
+reference in its clause ("better than Mbegu in taste"). What follows the clause is
+not compared ("more yield than Mbegu, and it matures early"); only a marker that opens
+its clause ("Compared to Mbegu, it cooks faster") reaches the traits after it.
 
 A variety spelling counts only where it is written as a name (:func:`written_as_name`):
 capitalised ("Clara", "the old Kivuli"), or exactly as the variety list writes it (a
@@ -32,7 +37,7 @@ from collections.abc import Collection, Iterable, Mapping, Sequence
 from typing import NamedTuple, Protocol, runtime_checkable
 
 from extractor.models.cue_file import Cues, packaged_cues
-from extractor.models.cues import lexicon, parse
+from extractor.models.cues import lexicon, parse, segment
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
@@ -124,14 +129,26 @@ class Comparison(NamedTuple):
     reference: VarietyMention
     fronted: bool
     """Whether the marker opens its clause ("Compared to X, ..."), so it reaches forward."""
+    clause: tuple[int, int] = (0, 0)
+    """Character range of the marker's clause (clause boundaries excluded)."""
+    segment_start: int = 0
+    """Where the marker's stretch starts (after the last contrast word or sentence end)."""
 
 
-def _markers(text: str, lang: str, cues: Cues | None) -> list[tuple[int, int, bool]]:
-    """Return ``(start, end, fronted)`` of each comparison marker of ``text``."""
+class _Marker(NamedTuple):
+    start: int
+    end: int
+    fronted: bool
+    clause: tuple[int, int]
+    segment_start: int
+
+
+def _markers(text: str, lang: str, cues: Cues | None) -> list[_Marker]:
+    """Return each comparison marker of ``text`` with its clause and stretch."""
     lex = lexicon(cues if cues is not None else packaged_cues(), lang)
     p = parse(text, lex)
     comparatives = [i for i, _ in p.matches.get("comparative", ())]
-    out: list[tuple[int, int, bool]] = []
+    out: list[_Marker] = []
     for i, j in sorted(p.matches.get("comparison_marker", ())):
         # "que" compares only after a comparative word, also inside Portuguese "do que".
         if {"que", "qu'"} & set(p.words[i:j]) and not any(c < i for c in comparatives):
@@ -139,7 +156,23 @@ def _markers(text: str, lang: str, cues: Cues | None) -> list[tuple[int, int, bo
         if out and p.offsets[i][0] < out[-1][1]:
             continue  # "que" inside "que el": keep the first, longest-starting match
         fronted = i == 0 or p.boundary[i - 1]
-        out.append((p.offsets[i][0], p.offsets[j - 1][1], fronted))
+        # The clause runs back from the marker and on after it to a boundary; the marker
+        # itself may be one (Portuguese "que" also ends a clause).
+        lo, hi = i, j
+        while lo > 0 and not p.boundary[lo - 1]:
+            lo -= 1
+        while hi < len(p.words) and not p.boundary[hi]:
+            hi += 1
+        seg = segment(p, i, j)[0]
+        out.append(
+            _Marker(
+                p.offsets[i][0],
+                p.offsets[j - 1][1],
+                fronted,
+                (p.offsets[lo][0], p.offsets[hi - 1][1]),
+                p.offsets[seg][0] if seg < i else p.offsets[i][0],
+            )
+        )
     return out
 
 
@@ -160,7 +193,7 @@ def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tup
     Returns:
         ``(start, end)`` of each marker, in order.
     """
-    return [(start, end) for start, end, _ in _markers(text, lang, cues)]
+    return [(m.start, m.end) for m in _markers(text, lang, cues)]
 
 
 def comparison_references(
@@ -181,13 +214,13 @@ def comparison_references(
         return []  # nothing to compare with: skip tokenizing
     tokens = tokenize(sentence.text, sentence.lang or "xx")
     out = []
-    for m_start, m_end, fronted in _markers(sentence.text, sentence.lang or "xx", cues):
-        after = [v for v in varieties if v[0] >= m_end]
+    for m in _markers(sentence.text, sentence.lang or "xx", cues):
+        after = [v for v in varieties if v[0] >= m.end]
         if not after:
             continue
-        gap = sum(1 for s, _ in tokens if m_end <= s < after[0][0])
+        gap = sum(1 for s, _ in tokens if m.end <= s < after[0][0])
         if gap <= REFERENCE_REACH:
-            out.append(Comparison(m_start, m_end, after[0], fronted))
+            out.append(Comparison(m.start, m.end, after[0], m.fronted, m.clause, m.segment_start))
     return out
 
 
@@ -219,10 +252,11 @@ def attribute_variety(
         for s, v in zip(sentences_of_answer, variety_mentions_per_sentence, strict=True)
     ]
     ref_mentions = [{c.reference for c in sentence_refs} for sentence_refs in refs]
+    owned = _owners(sentences_of_answer, mentions, refs)
     out = []
-    for index, span in mentions:
+    for k, (index, span) in enumerate(mentions):
         sentence = sentences_of_answer[index]
-        reference = _reference(span, refs[index])
+        reference = owned.get(k) or _fronted_reference(span, refs[index])
         banned = {reference[2]} if reference else set()
         subject = (
             _owner(sentence, span, variety_mentions_per_sentence[index])
@@ -234,17 +268,60 @@ def attribute_variety(
     return out
 
 
-def _reference(span: Span, refs: Sequence[Comparison]) -> VarietyMention | None:
-    """Return the reference of the comparison the span belongs to, if any.
+def _owners(
+    sentences: Sequence[Sentence],
+    mentions: Sequence[tuple[int, Span]],
+    refs: Sequence[Sequence[Comparison]],
+) -> dict[int, VarietyMention]:
+    """Return mention index -> the reference of the comparison marker it owns.
 
-    The nearest marker after the span wins ("bigger than X"); else a marker before the
-    span that opens its clause and whose reference also lies before the span
-    ("compared to X, it cooks faster"). A marker that follows another word of its clause
-    ("more yield than X, and it matures early") belongs to what came before it.
+    A marker that does not open its clause, or that opens it with no trait after it
+    ("..., unlike other varieties"), belongs to one mention of its sentence: one that
+    holds it ("plus rapide que X" labeled whole), else the nearest ending before it
+    within its clause ("the taste is sweeter than X" after "the
+    broth is thick and"), else within its stretch up to the last contrast word or
+    sentence end ("the taste is good, better than X"), else the first starting after
+    its reference within its clause ("better than X in taste"). A mention owning two
+    markers keeps the first after it.
     """
-    after = [c.reference for c in refs if c.start >= span.end]
-    if after:
-        return after[0]
+    out: dict[int, VarietyMention] = {}
+    whole = [(0, len(s.text)) for s in sentences]  # an implicit trait's span: no owner
+    for index, comparisons in enumerate(refs):
+        here = [(k, sp) for k, (i, sp) in enumerate(mentions) if i == index]
+        for c in comparisons:
+            if c.fronted and any(sp.start >= c.reference[1] for _, sp in here):
+                continue  # it reaches the traits after it (:func:`_fronted_reference`)
+            holding = [
+                k
+                for k, sp in here
+                if c.clause[0] <= sp.start < c.start < sp.end and (sp.start, sp.end) != whole[index]
+            ]
+            before = [(k, sp) for k, sp in here if sp.end <= c.start]
+            pool = [(k, sp) for k, sp in before if sp.end > c.clause[0]] or [
+                (k, sp) for k, sp in before if sp.end > c.segment_start
+            ]
+            if holding:
+                owner = holding[0]
+            elif pool:
+                owner = max(pool, key=lambda m: (m[1].end, m[1].start))[0]
+            else:
+                later = [
+                    (sp.start, k)
+                    for k, sp in here
+                    if sp.start >= c.reference[1] and sp.end <= c.clause[1]
+                ]
+                if not later:
+                    continue
+                owner = min(later)[1]
+            out.setdefault(owner, c.reference)
+    return out
+
+
+def _fronted_reference(span: Span, refs: Sequence[Comparison]) -> VarietyMention | None:
+    """Return the reference of a clause-opening marker before the span, if any.
+
+    "Compared to X, it cooks faster": the marker and its reference lie before the span.
+    """
     before = [
         c.reference
         for c in refs

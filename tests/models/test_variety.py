@@ -282,3 +282,119 @@ def test_attribute_corpus_gives_the_compared_variety_the_comparison_only(
     # introduce the variety compared against (from memory); what follows "and" ("na",
     # "e") is a new clause about the answer's own variety.
     assert _attribute_corpus(texts, lang, where, written) == expected
+
+
+@pytest.mark.parametrize(
+    ("texts", "lang", "where", "written", "expected"),
+    [
+        (
+            ["The broth is thick and the taste is sweeter than Zimbo."],
+            "en",
+            [(0, "broth is thick"), (0, "taste")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            ["The broth is thick and sweeter than Zimbo."],
+            "en",
+            [(0, "broth is thick"), (0, "sweeter")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            ["It cooks fast, the grains are bigger than Zimbo."],
+            "en",
+            [(0, "cooks fast"), (0, "grains")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            ["The taste is good, better than Zimbo."],
+            "en",
+            [(0, "taste")],
+            "Alvorina",
+            [("VAR:A", "VAR:Z")],
+        ),
+        (
+            ["It is better than Zimbo in taste, and it cooks fast."],
+            "en",
+            [(0, "taste"), (0, "cooks fast")],
+            "Alvorina",
+            [("VAR:A", "VAR:Z"), ("VAR:A", None)],
+        ),
+        (
+            ["Le bouillon est épais et le goût est plus sucré que Zimbo."],
+            "fr",
+            [(0, "bouillon est épais"), (0, "goût")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            ["El caldo es espeso y el sabor es más dulce que el Zimbo."],
+            "es",
+            [(0, "caldo es espeso"), (0, "sabor")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            ["O caldo é grosso e o sabor é mais doce do que a Clara."],
+            "pt",
+            [(0, "caldo é grosso"), (0, "sabor")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:C")],
+        ),
+        (
+            ["Mchuzi ni mzito na ladha ni tamu zaidi kuliko Zimbo."],
+            "sw",
+            [(0, "Mchuzi ni mzito"), (0, "ladha")],
+            "Alvorina",
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+    ],
+    ids=[
+        "en-other-clause",
+        "en-comparative-is-trait",
+        "en-comma-clause",
+        "en-after-comma",
+        "en-trait-after-reference",
+        "fr-plus-que",
+        "es-mas-que",
+        "pt-do-que",
+        "sw-kuliko",
+    ],
+)
+def test_comparison_goes_to_the_mention_of_its_clause(
+    texts, lang, where, written, expected
+) -> None:
+    # The second term of a comparison ("than", "que", "do que", "kuliko") completes the
+    # comparative of its own clause (English, French, Spanish, Portuguese and Swahili
+    # grammar, from memory): in "the broth is thick and the taste is sweeter than X"
+    # only the taste is compared; a trait after the reference in the same clause
+    # ("better than X in taste") is what is compared.
+    assert _attribute_corpus(texts, lang, where, written) == expected
+
+
+def test_clause_opening_comparison_at_the_end_goes_to_the_trait_before_it() -> None:
+    # "unlike X" after a comma closes the sentence: it compares what came before it
+    # (English grammar, from memory); a real maize answer has this shape (tests/bench/
+    # comparison_attach.py): "Reduces crop population and hence yield is reduced Only
+    # does well when intercropped, unlike other varieties".
+    texts = ["Yield is low, it does well when intercropped, unlike Zimbo."]
+    where = [(0, "Yield is low"), (0, "intercropped")]
+    assert _attribute_corpus(texts, "en", where, "Alvorina") == [
+        ("VAR:A", None),
+        ("VAR:A", "VAR:Z"),
+    ]
+
+
+def test_a_mention_holding_the_comparison_owns_it_and_an_implicit_one_does_not() -> None:
+    # A labeled span may hold the whole comparison ("plus rapide que X", French grammar:
+    # "plus ... que" is one comparative, from memory); a span over the whole sentence is
+    # an implicit trait, which never took a comparison.
+    texts = ["Elle est précoce, c'est plus rapide que Zimbo."]
+    where = [(0, "précoce"), (0, "plus rapide que Zimbo")]
+    assert _attribute_corpus(texts, "fr", where, "Alvorina") == [
+        ("VAR:A", None),
+        ("VAR:A", "VAR:Z"),
+    ]
+    assert _attribute_corpus(texts, "fr", [(0, texts[0])], "Alvorina") == [("VAR:A", None)]
