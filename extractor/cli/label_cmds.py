@@ -50,6 +50,7 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
             version=setup.version,
             newer_labels=setup.newer_labels,
             notice=notice,
+            respondents=setup.respondents,
         )
     if summary.labeled:
         console.print("Run `traits train` (or `traits run`) to build a model version from them.")

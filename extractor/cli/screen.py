@@ -25,28 +25,23 @@ The screen holds no scores and writes no SQL: it draws what :class:`Session` ret
 from __future__ import annotations
 
 import sqlite3
-import sys
-from collections.abc import Callable, Sequence
-from typing import TextIO
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any, TextIO
 
 from rich.console import Console
-from rich.markup import escape
 from rich.text import Text
 
 from extractor.cli import screen_implicit
 from extractor.cli.screen_draw import (
     HELP_TEXT,
-    MAX_LINE,
     Figures,
     Quality,
-    clip,
     concept_label,
     draw_item,
     figures_text,
-    read_utf8,
-    too_long,
 )
-from extractor.errors import InputError, TraitsError
+from extractor.cli.screen_input import MAX_LINE, line_reader, too_long
+from extractor.errors import TraitsError
 from extractor.loop.items import Item, SessionSummary
 from extractor.loop.marking import (
     ConceptEntry,
@@ -100,8 +95,10 @@ class LabelScreen:
         read_line: Callable[[str], str | None],
         entries: Sequence[ConceptEntry],
         quality: Quality | None = None,
+        respondents: Mapping[str, Mapping[str, Any]] | None = None,
     ) -> None:
         self.session = session
+        self.respondents = respondents or {}  # ID -> metadata as the workbook reads it
         self.console = console
         self._read = read_line
         self.entries = list(entries)
@@ -145,6 +142,7 @@ class LabelScreen:
             figures=self._quality_figures(),
             message=self._message,
             implicit=self.implicit,
+            metadata=self.respondents.get(item.context.respondent),
         )
         self._message = ""
 
@@ -401,35 +399,6 @@ class LabelScreen:
                     self.say(str(exc))
 
 
-def _line_reader(console: Console, stream: TextIO | None) -> Callable[[str], str | None]:
-    """Return a function that shows a prompt and reads one line (None at end of input)."""
-    if stream is None and console.is_terminal and sys.stdin.isatty():
-
-        def read_terminal(prompt: str) -> str | None:
-            while True:
-                try:
-                    return read_utf8(lambda: console.input(Text(prompt)), 0)
-                except EOFError:
-                    return None
-                except InputError:
-                    console.print(Text("That line is not UTF-8 text; type it again."))
-
-        return read_terminal
-    source = stream if stream is not None else sys.stdin
-    count = iter(range(1, sys.maxsize))
-
-    def read_stream(prompt: str) -> str | None:
-        console.print(Text(prompt), end="")
-        line = read_utf8(source.readline, next(count), console)
-        if line == "":
-            return None
-        if not console.is_terminal:
-            console.print(escape(clip(line.rstrip("\n"))), highlight=False)
-        return line.rstrip("\r\n")
-
-    return read_stream
-
-
 def run_console(
     conn: sqlite3.Connection,
     *,
@@ -445,6 +414,7 @@ def run_console(
     version: str | None = None,
     newer_labels: int = 0,
     notice: str = "",
+    respondents: Mapping[str, Mapping[str, Any]] | None = None,
 ) -> SessionSummary:
     """Run a labeling session in the terminal (or over a pipe) and return its summary.
 
@@ -462,6 +432,9 @@ def run_console(
         version: the saved model version ``model_provider`` comes from, shown on screen.
         newer_labels: labels given after that version was trained (the screen says so).
         notice: a line shown under the first sentence.
+        respondents: respondent ID -> metadata as the workbook reads it
+            (:func:`extractor.report.results.respondent_metadata`); the stored
+            columns are shown for a respondent not in it.
 
     Returns:
         The session summary (also when input fails, the session quits: its leases end).
@@ -484,9 +457,10 @@ def run_console(
     screen = LabelScreen(
         session,
         console=console,
-        read_line=_line_reader(console, input_stream),
+        read_line=line_reader(console, input_stream),
         entries=concept_entries(conn),
         quality=quality,
+        respondents=respondents,
     )
     screen.say(notice)
     try:

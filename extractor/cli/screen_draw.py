@@ -7,6 +7,7 @@ renderables; :mod:`extractor.cli.screen` reads the annotator's lines and calls t
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
+from typing import Any
 
 from rich.console import Console
 from rich.markup import escape
@@ -14,7 +15,6 @@ from rich.rule import Rule
 from rich.table import Table
 from rich.text import Text
 
-from extractor.errors import InputError
 from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry, kept
 from extractor.loop.session import Session
@@ -63,55 +63,6 @@ _ORIGIN = {
     "previous": "your earlier answer",
     "none": "nothing suggested",
 }
-
-
-MAX_LINE = 500
-"""Longest line the screen takes; a longer one (a paste by mistake) is refused."""
-ECHO_CHARS = 120
-"""Characters of a piped line echoed back; rich's highlighter is quadratic in length."""
-
-
-def clip(text: str, limit: int = ECHO_CHARS) -> str:
-    """Return ``text`` cut to ``limit`` characters, with an ellipsis when cut."""
-    return text if len(text) <= limit else text[: limit - 1] + "…"
-
-
-def too_long(line: str) -> str:
-    """Return the message for a line over :data:`MAX_LINE` characters."""
-    return (
-        f"That line has {len(line):,} characters; a command or the words to mark take at "
-        f"most {MAX_LINE}. Nothing was changed."
-    )
-
-
-def not_utf8(where: str) -> InputError:
-    """Return the error for input that is not UTF-8 text, ``where`` naming the line."""
-    return InputError(
-        f"{where} is not UTF-8 text; nothing from it was stored (labels confirmed before it "
-        "are saved); send UTF-8 text and start again."
-    )
-
-
-def read_utf8(read: Callable[[], str], number: int, console: Console | None = None) -> str:
-    """Return the line ``read`` gives (line ``number`` of the input), refusing one not in UTF-8.
-
-    Under the C locale Python reads bytes that are not UTF-8 as lone surrogates
-    (``surrogateescape``), which can be neither stored nor shown; a stream decoding
-    strictly raises instead, at the read of the chunk that holds them. On refusal the
-    prompt's line on ``console`` is ended, so the error starts a line of its own.
-    """
-    try:
-        line = read()
-        line.encode("utf-8")
-        return line
-    except UnicodeError as exc:
-        if console is not None:
-            console.print()
-        decoding = isinstance(exc, UnicodeDecodeError)
-        where = (
-            f"The input (at or after line {number})" if decoding else f"Line {number} of the input"
-        )
-        raise not_utf8(where) from exc
 
 
 def model_name(session: Session) -> str:
@@ -225,8 +176,12 @@ def figures_text(
     return Text("\n".join(lines) or "No model figures for this sentence yet.", style="dim")
 
 
-def context_grid(item: Item) -> Table:
-    """Return the question, the sentence before, and who answered."""
+def context_grid(item: Item, metadata: Mapping[str, Any] | None = None) -> Table:
+    """Return the question, the sentence before, and who answered.
+
+    ``metadata`` is the respondent's as the workbook reads it (columns and spellings
+    harmonised); without it the stored columns are shown.
+    """
     ctx = item.context
     grid = Table.grid(padding=(0, 1))
     grid.add_column(style="dim", no_wrap=True)
@@ -235,7 +190,7 @@ def context_grid(item: Item) -> Table:
         grid.add_row("asked", Text(str(ctx.question), style="italic"))
     if ctx.previous:
         grid.add_row("before", Text(str(ctx.previous), style="dim"))
-    meta = dict(ctx.metadata)
+    meta = dict(ctx.metadata if metadata is None else metadata)
     ordered = [k for k in _METADATA_ORDER if k in meta] + sorted(
         k for k in meta if k not in _METADATA_ORDER
     )
@@ -347,17 +302,18 @@ def draw_item(
     figures: Figures | None,
     message: str,
     implicit: Sequence[Implicit] = (),
+    metadata: Mapping[str, Any] | None = None,
 ) -> None:
     """Draw the sentence in its context, the draft answer, progress, a message and help.
 
     The traits without a quote span (``implicit``) are listed under the spans; "no trait
-    here" shows only when there is neither.
+    here" shows only when there is neither. ``metadata``: see :func:`context_grid`.
     """
     c = console
     if c.is_terminal:
         c.clear()
     c.print(Rule(status_line(session), style="dim"))
-    c.print(context_grid(item))
+    c.print(context_grid(item, metadata))
     c.print()
     c.print(sentence_text(item, draft))
     if kept(draft):

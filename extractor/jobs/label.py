@@ -11,7 +11,7 @@ from __future__ import annotations
 import dataclasses
 import sqlite3
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -24,6 +24,7 @@ from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
 from extractor.models.bundle import TraitModels
 from extractor.progress import track
+from extractor.report.results import respondent_metadata
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -38,6 +39,8 @@ class LabelingSetup:
         newer_labels: labels given after that version was trained, which it lacks.
         trained_from: the previous newest version, when a new one was trained first
             because ``trained_labels`` labels were newer than it.
+        respondents: respondent ID -> metadata, read through ``[metadata]`` as the
+            workbook reads them, for the screen to show.
     """
 
     conn: sqlite3.Connection
@@ -52,6 +55,7 @@ class LabelingSetup:
     newer_labels: int = 0
     trained_from: str | None = None
     trained_labels: int = 0
+    respondents: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
 
 
 def labels_newer_than(ws: Workspace, version: store.ModelVersion) -> int:
@@ -132,6 +136,7 @@ def labeling_setup(
         newer_labels=newer,
         trained_from=trained_from,
         trained_labels=trained,
+        respondents=respondent_metadata(ws),
     )
 
 

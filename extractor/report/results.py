@@ -18,7 +18,7 @@ import pandas as pd
 
 from extractor.models.variety import Attribution, attribute_corpus
 from extractor.report.about import RunFacts
-from extractor.report.metadata import Harmonised, harmonise
+from extractor.report.metadata import FIXED_KEYS, Harmonised, harmonise
 from extractor.types import Sentence, Span
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
@@ -203,6 +203,18 @@ def harmonised_respondents(ws: Workspace) -> Harmonised:
         settings.values,
         merge_spellings=settings.merge_spellings,
     )
+
+
+def respondent_metadata(ws: Workspace) -> dict[str, dict[str, Any]]:
+    """Return respondent ID -> metadata column -> value, read as the workbook reads them.
+
+    The labeling screen describes respondents with this, so an annotator sees the
+    same words there as in the exports (``gender female`` for a stored ``sex F``).
+    """
+    return {
+        str(rec["respondent"]): {k: v for k, v in rec.items() if k not in FIXED_KEYS}
+        for rec in harmonised_respondents(ws).records
+    }
 
 
 def respondent_frame(ws: Workspace) -> pd.DataFrame:

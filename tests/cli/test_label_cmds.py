@@ -8,6 +8,8 @@ from pathlib import Path
 
 import pytest
 
+from extractor.report.results import respondent_frame
+from extractor.workspace.folder import Workspace
 from tests.jobs.study import label_line, run
 
 
@@ -80,3 +82,29 @@ def test_convert_labels_writes_a_file_that_imports(study: Path) -> None:
     assert code == 1 and "exists already" in out
     code, out = run("-w", str(study), "import-labels", str(new))
     assert code == 0 and "1 labels (1 spans, 0 implicit traits)" in out
+
+
+def test_label_screen_describes_a_respondent_as_the_workbook_does(
+    study: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # One invented respondent whose file names the columns sex/occupation, codes F.
+    market = study / "interviews" / "market.csv"
+    market.write_text(
+        "respondent,sex,occupation,language,question,answer\n"
+        'OMB-901,F,trader,en,Why do you buy it?,"I sell it because it cooks fast."\n',
+        encoding="utf-8",
+    )
+    assert run("-w", str(study), "add", str(market))[0] == 0
+    code, out = run(
+        "-w", str(study), "label", "--annotator", "Test", stdin="q\n", monkeypatch=monkeypatch
+    )
+    assert code == 0, out
+    who = next(line for line in out.splitlines() if line.startswith("who"))
+    # The demo's [metadata] settings read sex as gender and occupation as role, and F as
+    # female (F/M gender codes: common practice in survey codebooks).
+    assert "gender female" in who and "role trader" in who, who
+    assert "sex" not in who and "occupation" not in who, who
+    with Workspace.open(study) as ws:
+        row = respondent_frame(ws).set_index("respondent").loc["OMB-901"]
+    assert (row["gender"], row["role"]) == ("female", "trader")
+    assert f"gender {row['gender']}" in who and f"role {row['role']}" in who
