@@ -16,7 +16,12 @@ from rich.table import Table
 from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
 from extractor.errors import InputError
 from extractor.jobs.add import LanguageFound, add_interviews
-from extractor.jobs.status import metadata_merges, workspace_status
+from extractor.jobs.status import (
+    ValueSuggestions,
+    metadata_merges,
+    metadata_suggestions,
+    workspace_status,
+)
 from extractor.report.metadata import Harmonised
 from extractor.workspace.folder import create_workspace
 from extractor.workspace.store import StoredQuestion
@@ -175,12 +180,37 @@ def print_metadata(console: Console, merged: Harmonised) -> None:
     console.print(table)
 
 
+def print_suggestions(console: Console, suggested: ValueSuggestions) -> None:
+    """Print suggested value merges and the ``values`` line that would make them."""
+    if not suggested.merges:
+        return
+    console.print(
+        "\nSuggested merges of values the pretrained space finds close (a suggestion: "
+        "check each; they are read as one only after you add them):",
+        highlight=False,
+    )
+    for s in suggested.merges:
+        others = ", ".join(f"{escape(v)} ({n})" for v, n in s.others)
+        console.print(
+            f"  {escape(s.column)}: {escape(s.value)} ({s.count}) <- {others}",
+            highlight=False,
+            soft_wrap=True,
+        )
+    console.print(
+        "To accept them, edit what you disagree with and put this line under "
+        "\\[metadata] in traits.toml, in place of its values line:",
+        highlight=False,
+    )
+    console.print(escape(suggested.values_line), highlight=False, soft_wrap=True, markup=False)
+
+
 def cmd_status(args: argparse.Namespace, console: Console) -> int:
     """Print the workspace's counts, and the metadata merged for exports."""
     with open_workspace(args) as ws:
         counts = dataclasses.asdict(workspace_status(ws))
         merged = metadata_merges(ws)
-    if args.json:
+        suggested = None if args.json else metadata_suggestions(ws, merged)
+    if args.json or suggested is None:
         console.file.write(json.dumps(counts, sort_keys=True) + "\n")
         return 0
     table = Table(title=f"Workspace {Path(args.workspace).resolve()}")
@@ -193,6 +223,7 @@ def cmd_status(args: argparse.Namespace, console: Console) -> int:
         table.add_row(key, str(shown))
     console.print(table)
     print_metadata(console, merged)
+    print_suggestions(console, suggested)
     return 0
 
 
