@@ -201,7 +201,7 @@ def print_suggestions(console: Console, suggested: ValueSuggestions) -> None:
         "\\[metadata] in traits.toml, in place of its values line:",
         highlight=False,
     )
-    console.print(escape(suggested.values_line), highlight=False, soft_wrap=True, markup=False)
+    console.print(suggested.values_line, highlight=False, soft_wrap=True, markup=False)
 
 
 def cmd_status(args: argparse.Namespace, console: Console) -> int:

@@ -14,7 +14,13 @@ from extractor.ingest.intake import add_files, interview_files
 from extractor.jobs.status import metadata_merges, metadata_suggestions
 from extractor.nlp import pretrained
 from extractor.report.pivot import MAX_GROUPS
-from extractor.report.value_suggest import THRESHOLD, _groups, wide_columns
+from extractor.report.value_suggest import (
+    THRESHOLD,
+    MergeSuggestion,
+    _groups,
+    values_line,
+    wide_columns,
+)
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
 from tests.jobs.study import run
@@ -114,3 +120,12 @@ def test_pasted_line_parses_and_makes_status_read_them_as_one(demo: Path) -> Non
     code, out = run("-w", str(demo), "status")
     row = next(x for x in out.splitlines() if "│ role" in x and "│ farmer" in x)
     assert row.rstrip(" │").endswith("29")
+
+
+def test_values_line_quotes_any_spelling_and_keeps_existing_mappings() -> None:
+    odd = 'vendor "big" [market] \\ é'
+    merge = MergeSuggestion("role", "trader", ((odd, 2), ("agricultrice", 1)), 5, 2)
+    line = values_line([merge], {"role": {"agricultrice": "farmer"}, "gender": {"W": "female"}})
+    # tomllib (Python standard library) is the reference TOML 1.0 reader
+    parsed = tomllib.loads(line)["values"]
+    assert parsed == {"role": {"agricultrice": "farmer", odd: "trader"}, "gender": {"W": "female"}}
