@@ -24,6 +24,7 @@ import numpy as np
 from sklearn.cluster import AgglomerativeClustering
 
 from extractor.nlp import pretrained
+from extractor.progress import track
 from extractor.report.metadata import FIXED_KEYS
 from extractor.report.pivot import MAX_GROUPS
 
@@ -99,12 +100,14 @@ def suggest_merges(
     wide = wide_columns(records)
     if not wide:
         return ()
-    loaded = pretrained.load_space(space)
-    if loaded is None:
-        return ()
     first = first_language.split("-")[0]
     out = []
-    for column, counts in wide.items():
+    loaded = None
+    # Loading the space takes seconds: it happens under the first column's progress bar.
+    for column, counts in track(wide.items(), "Suggesting value merges", total=len(wide)):
+        loaded = loaded or pretrained.load_space(space)
+        if loaded is None:
+            return ()
         values = sorted(counts)
         langs = (value_langs or {}).get(column, {})
         for rows in _groups(loaded.words(values), threshold):
