@@ -7,9 +7,15 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 from extractor.nlp import pretrained
+from extractor.nlp.text import primary_subtag
 from extractor.report.metadata import Harmonised
 from extractor.report.results import harmonised_respondents
-from extractor.report.value_suggest import MergeSuggestion, suggest_merges, values_line
+from extractor.report.value_suggest import (
+    MergeSuggestion,
+    suggest_merges,
+    values_line,
+    wide_columns,
+)
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace
 
@@ -66,9 +72,11 @@ def metadata_suggestions(
     Nothing is applied: the analyst adds the line to ``[metadata]`` in ``traits.toml``.
     """
     merged = merged or harmonised_respondents(ws)
+    if not wide_columns(merged.records):
+        return ValueSuggestions((), "")  # nothing too wide: no need to read every answer
     answer_langs: dict[str, Counter[str]] = {}
     for answer in store.answers(ws.conn):
-        tag = (answer.lang or "").split("-")[0]
+        tag = primary_subtag(answer.lang or "")
         answer_langs.setdefault(str(answer.respondent), Counter())[tag] += 1
     by_value: dict[str, dict[str, Counter[str]]] = {}
     for rec in merged.records:

@@ -24,6 +24,7 @@ import numpy as np
 from sklearn.cluster import AgglomerativeClustering
 
 from extractor.nlp import pretrained
+from extractor.nlp.text import primary_subtag
 from extractor.progress import track
 from extractor.report.metadata import FIXED_KEYS
 from extractor.report.pivot import MAX_GROUPS
@@ -100,7 +101,7 @@ def suggest_merges(
     wide = wide_columns(records)
     if not wide:
         return ()
-    first = first_language.split("-")[0]
+    first = primary_subtag(first_language)
     out = []
     loaded = None
     # Loading the space takes seconds: it happens under the first column's progress bar.
