@@ -22,7 +22,7 @@ CUE_CATEGORIES = (
     "liked", "disliked", "wanted", "negation_pre", "negation_post", "pseudo_negation",
     "resistance_pre", "resistance_post",
     "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
-    "comparison_marker", "question_liked", "question_disliked", "question_wanted",
+    "comparison_marker", "coordinator", "question_liked", "question_disliked", "question_wanted",
     "question_reason", "indifference", "preference", "relative", "restrictive",
 )  # fmt: skip
 """The categories a language section of the cue lexicon may hold."""

@@ -37,7 +37,7 @@ from collections.abc import Collection, Iterable, Mapping, Sequence
 from typing import NamedTuple, Protocol, runtime_checkable
 
 from extractor.models.cue_file import Cues, packaged_cues
-from extractor.models.cues import lexicon, parse, segment
+from extractor.models.cues import Parsed, lexicon, parse, segment
 from extractor.nlp.dictionary import build_dictionary
 from extractor.nlp.fold import fold
 from extractor.nlp.text import tokenize
@@ -133,6 +133,10 @@ class Comparison(NamedTuple):
     """Character range of the marker's clause (clause boundaries excluded)."""
     segment_start: int = 0
     """Where the marker's stretch starts (after the last contrast word or sentence end)."""
+    joins: tuple[tuple[int, int], ...] = ()
+    """Character ranges of coordinating words and commas in the stretch before the marker."""
+    comparatives: tuple[tuple[int, int], ...] = ()
+    """Character ranges of comparative words in the stretch before the marker."""
 
 
 class _Marker(NamedTuple):
@@ -141,6 +145,8 @@ class _Marker(NamedTuple):
     fronted: bool
     clause: tuple[int, int]
     segment_start: int
+    joins: tuple[tuple[int, int], ...]
+    comparatives: tuple[tuple[int, int], ...]
 
 
 def _markers(text: str, lang: str, cues: Cues | None) -> list[_Marker]:
@@ -148,6 +154,10 @@ def _markers(text: str, lang: str, cues: Cues | None) -> list[_Marker]:
     lex = lexicon(cues if cues is not None else packaged_cues(), lang)
     p = parse(text, lex)
     comparatives = [i for i, _ in p.matches.get("comparative", ())]
+    joining = [
+        *p.matches.get("coordinator", ()),
+        *((i, i + 1) for i, w in enumerate(p.words) if w == ","),
+    ]
     out: list[_Marker] = []
     for i, j in sorted(p.matches.get("comparison_marker", ())):
         # "que" compares only after a comparative word, also inside Portuguese "do que".
@@ -171,9 +181,20 @@ def _markers(text: str, lang: str, cues: Cues | None) -> list[_Marker]:
                 fronted,
                 (p.offsets[lo][0], p.offsets[hi - 1][1]),
                 p.offsets[seg][0] if seg < i else p.offsets[i][0],
+                _ranges(p, joining, seg, i),
+                _ranges(p, p.matches.get("comparative", ()), seg, i),
             )
         )
     return out
+
+
+def _ranges(
+    p: Parsed, tokens: Iterable[tuple[int, int]], lo: int, hi: int
+) -> tuple[tuple[int, int], ...]:
+    """Return the character ranges of token matches ``[a, b)`` lying within ``[lo, hi)``."""
+    return tuple(
+        sorted((p.offsets[a][0], p.offsets[b - 1][1]) for a, b in tokens if lo <= a and b <= hi)
+    )
 
 
 def find_comparisons(text: str, lang: str, cues: Cues | None = None) -> list[tuple[int, int]]:
@@ -220,7 +241,18 @@ def comparison_references(
             continue
         gap = sum(1 for s, _ in tokens if m.end <= s < after[0][0])
         if gap <= REFERENCE_REACH:
-            out.append(Comparison(m.start, m.end, after[0], m.fronted, m.clause, m.segment_start))
+            out.append(
+                Comparison(
+                    m.start,
+                    m.end,
+                    after[0],
+                    m.fronted,
+                    m.clause,
+                    m.segment_start,
+                    m.joins,
+                    m.comparatives,
+                )
+            )
     return out
 
 
@@ -304,6 +336,8 @@ def _owners(
                 owner = holding[0]
             elif pool:
                 owner = max(pool, key=lambda m: (m[1].end, m[1].start))[0]
+                for k in _conjuncts(sentences[index].text, owner, here, c):
+                    out.setdefault(k, c.reference)
             else:
                 later = [
                     (sp.start, k)
@@ -315,6 +349,63 @@ def _owners(
                 owner = min(later)[1]
             out.setdefault(owner, c.reference)
     return out
+
+
+def _conjuncts(text: str, owner: int, here: Sequence[tuple[int, Span]], c: Comparison) -> list[int]:
+    """Return the mentions coordinated with a comparison's owner that share its comparative.
+
+    "better taste and flavour than X", "plus gros et plus rouge que X": mentions before
+    the owner joined to it by coordinating words or commas only (comparative words may
+    stand between them) are compared too, when a comparative word of the stretch stands
+    before them, outside every conjunct. "The broth is thick and sweeter than X"
+    compares only what is sweeter: the comparative is the owner. A comparative after the
+    coordination ("yield and taste are better than X") is left to the owner alone, since
+    without a parse it cannot be told from a clause of its own.
+    """
+    spans = dict(here)
+    chain = [owner]
+    while True:
+        cur = spans[chain[-1]]
+        earlier = [
+            (sp.end, k) for k, sp in here if c.segment_start <= sp.start and sp.end <= cur.start
+        ]
+        if not earlier:
+            break
+        k = max(earlier)[1]
+        if not _only(text, spans[k].end, cur.start, (*c.joins, *c.comparatives), c.joins):
+            break
+        chain.append(k)
+    if len(chain) == 1:
+        return []
+    # The comparative must stand before the last conjunct, outside every conjunct: after
+    # the owner it may be the owner's own predicate ("mchuzi ni mzito na ladha ni tamu
+    # zaidi kuliko X": only the taste is compared).
+    inside = [(spans[k].start, spans[k].end) for k in chain]
+    free = [
+        r
+        for r in c.comparatives
+        if r[1] <= spans[owner].start and not any(a <= r[0] and r[1] <= b for a, b in inside)
+    ]
+    # Each shares only with a comparative before it: "good yield, better taste and
+    # flavour than X" compares the taste and the flavour, "épais et plus sucré" the sugar.
+    return [k for k in chain[1:] if any(r[1] <= spans[k].start for r in free)]
+
+
+def _only(
+    text: str,
+    a: int,
+    b: int,
+    allowed: Sequence[tuple[int, int]],
+    needed: Sequence[tuple[int, int]],
+) -> bool:
+    """Return whether ``text[a:b]`` holds only whitespace and the allowed ranges, one needed."""
+    if not any(a <= s and e <= b for s, e in needed):
+        return False
+    rest = list(text[a:b])
+    for s, e in allowed:
+        if a <= s and e <= b:
+            rest[s - a : e - a] = " " * (e - s)
+    return not "".join(rest).strip()
 
 
 def _fronted_reference(span: Span, refs: Sequence[Comparison]) -> VarietyMention | None:

@@ -398,3 +398,92 @@ def test_a_mention_holding_the_comparison_owns_it_and_an_implicit_one_does_not()
         ("VAR:A", "VAR:Z"),
     ]
     assert _attribute_corpus(texts, "fr", [(0, texts[0])], "Alvorina") == [("VAR:A", None)]
+
+
+@pytest.mark.parametrize(
+    ("text", "lang", "where", "expected"),
+    [
+        (
+            "It has better taste and flavour than Zimbo.",
+            "en",
+            ["taste", "flavour"],
+            [("VAR:A", "VAR:Z"), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "Better yield, colour and taste than Zimbo.",
+            "en",
+            ["yield", "colour", "taste"],
+            [("VAR:A", "VAR:Z")] * 3,
+        ),
+        (
+            "Des grains plus gros et plus rouges que Zimbo.",
+            "fr",
+            ["gros", "rouges"],
+            [("VAR:A", "VAR:Z"), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "Tiene mejor sabor y color que el Zimbo.",
+            "es",
+            ["sabor", "color"],
+            [("VAR:A", "VAR:Z"), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "Tem mais raiz e mais folha do que a Clara.",
+            "pt",
+            ["raiz", "folha"],
+            [("VAR:A", "VAR:C"), ("VAR:A", "VAR:C")],
+        ),
+        (
+            "Ladha na harufu ni bora kuliko Zimbo.",
+            "sw",
+            ["Ladha", "harufu"],
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "The broth is thick and sweeter than Zimbo.",
+            "en",
+            ["broth is thick", "sweeter"],
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "The broth is thick and the taste is better than Zimbo.",
+            "en",
+            ["broth", "taste"],
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "Good yield, better taste and flavour than Zimbo.",
+            "en",
+            ["yield", "taste", "flavour"],
+            [("VAR:A", None), ("VAR:A", "VAR:Z"), ("VAR:A", "VAR:Z")],
+        ),
+        (
+            "Le bouillon est épais et plus sucré que Zimbo.",
+            "fr",
+            ["bouillon est épais", "sucré"],
+            [("VAR:A", None), ("VAR:A", "VAR:Z")],
+        ),
+    ],
+    ids=[
+        "en-and",
+        "en-comma-list",
+        "fr-plus-et-plus",
+        "es-y",
+        "pt-e-mais",
+        "sw-comparative-after-left-to-the-owner",
+        "en-comparative-is-the-second-trait",
+        "en-clause-with-its-own-subject",
+        "en-list-before-the-comparative",
+        "fr-comparative-in-second-conjunct",
+    ],
+)
+def test_coordinated_traits_share_one_comparison(text, lang, where, expected) -> None:
+    # A comparative governs the whole coordination it stands before: "better [taste and
+    # flavour] than X", "plus gros et plus rouges que X" (English, French, Spanish and
+    # Portuguese grammar, from memory). When the comparative word is the last conjunct
+    # itself ("thick and sweeter than X"), the second conjunct is a clause with its own
+    # subject ("the taste is better than X"), or the comparative follows the coordination
+    # (Swahili "ladha na harufu ni bora kuliko X", which without a parse reads like
+    # "mchuzi ni mzito na ladha ni tamu zaidi kuliko X", two clauses), only the last
+    # trait is compared: the rule's known miss is the first of these Swahili sentences.
+    assert _attribute_corpus([text], lang, [(0, w) for w in where], "Alvorina") == expected
