@@ -7,7 +7,6 @@ import pytest
 from extractor.models.variety import (
     attribute_corpus,
     attribute_variety,
-    find_comparisons,
     find_varieties,
 )
 from extractor.nlp.dictionary import build_dictionary
@@ -175,24 +174,6 @@ def test_attribute_variety_records_comparison_reference(
 ) -> None:
     index = len(texts) - 1
     assert _attribute(texts, [(index, term)], lang, **kwargs) == [expected]
-
-
-@pytest.mark.parametrize(
-    ("text", "lang", "markers"),
-    [
-        ("It is bigger than Kivuli.", "en", ["than"]),
-        ("Orvane cuit plus vite que Kivuli.", "fr", ["que"]),
-        ("Il faut que Kivuli soit sucré.", "fr", []),
-        ("Orvane es más grande que el Kivuli.", "es", ["que"]),
-    ],
-    ids=["en-than", "fr-plus-que", "fr-que-conjunction", "es-mas-que"],
-)
-def test_find_comparisons_takes_que_only_after_a_comparative(
-    text: str, lang: str, markers: list[str]
-) -> None:
-    # French and Spanish grammar (from memory): "que" introduces the second term of a
-    # comparison only after "plus"/"más"; in "il faut que" it is a conjunction.
-    assert [text[s:e] for s, e in find_comparisons(text, lang)] == markers
 
 
 # Varieties whose names are also ordinary words, all invented: "Clara" (Portuguese
