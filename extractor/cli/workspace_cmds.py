@@ -13,7 +13,13 @@ from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
 
-from extractor.cli.common import Subcommands, open_workspace, print_warnings, print_written
+from extractor.cli.common import (
+    Subcommands,
+    open_workspace,
+    print_notes,
+    print_warnings,
+    print_written,
+)
 from extractor.errors import InputError
 from extractor.jobs.add import LanguageFound, add_interviews
 from extractor.jobs.status import (
@@ -128,14 +134,20 @@ def print_unknown_questions(console: Console, unknown: Sequence[StoredQuestion])
     """Print the stored questions whose direction is unknown, and how to give it."""
     if not unknown:
         return
-    shown = ", ".join(f"{q.question} ({q.answers} answers)" for q in unknown[:_SHOWN_QUESTIONS])
+    shown = ", ".join(
+        f"{q.question} ({q.answers} {'answer' if q.answers == 1 else 'answers'})"
+        for q in unknown[:_SHOWN_QUESTIONS]
+    )
     more = f" and {len(unknown) - _SHOWN_QUESTIONS} more" if len(unknown) > _SHOWN_QUESTIONS else ""
-    console.print(
-        f"note: {len(unknown)} questions tell stance nothing: {escape(shown)}{more}. "
-        "Give each its direction (likes, dislikes, wishes or open) in questions.csv "
-        "(columns question, text, direction) or under [codebook] in traits.toml; "
-        "it is evidence for stance, never the answer.",
-        highlight=False,
+    # A plain-text note: "[codebook]" read as rich markup would vanish from the sentence.
+    print_notes(
+        console,
+        [
+            f"{len(unknown)} {'question tells' if len(unknown) == 1 else 'questions tell'} "
+            f"stance nothing: {shown}{more}. Give each its direction (likes, dislikes, "
+            "wishes or open) in questions.csv (columns question, text, direction) or under "
+            "[codebook] in traits.toml; it is evidence for stance, never the answer."
+        ],
     )
 
 

@@ -121,14 +121,16 @@ def test_add_lists_the_questions_stance_cannot_read_until_a_codebook_names_them(
     code, out = run("-w", str(ws), "add", str(first))
     flat = " ".join(out.split())
     assert code == 0
-    assert "note: 1 questions tell stance nothing: q5_dislike (2 answers)" in flat
+    assert "note: 1 question tells stance nothing: q5_dislike (2 answers)" in flat
+    # The settings section is named as written, not swallowed as console markup.
+    assert "under [codebook] in traits.toml" in flat
     # A codebook row gives the field name its direction; a question still uncoded is listed.
     (ws / "questions.csv").write_text("question,text,direction\nq5_dislike,,dislikes\n", "utf-8")
     second = tmp_path / "round2.csv"
     second.write_text("respondent,question,answer\nR3,q7,Bigger cobs.\n", encoding="utf-8")
     code, out = run("-w", str(ws), "add", str(second))
     flat = " ".join(out.split())
-    assert code == 0 and "q7 (1 answers)" in flat and "q5_dislike" not in flat
+    assert code == 0 and "q7 (1 answer)" in flat and "q5_dislike" not in flat
 
 
 def test_add_takes_a_users_cue_file_as_stance_cues_of_its_language(tmp_path: Path) -> None:
