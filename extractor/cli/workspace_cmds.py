@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -21,6 +21,7 @@ from extractor.cli.common import (
     print_written,
 )
 from extractor.errors import InputError
+from extractor.ingest.language import language_name
 from extractor.jobs.add import LanguageFound, add_interviews
 from extractor.jobs.status import (
     ValueSuggestions,
@@ -119,6 +120,7 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
     for report in reports:
         print_warnings(console, report.warnings)
     print_languages(console, added.languages)
+    print_unlisted(console, added.unlisted)
     if added.languages and not added.concept_list:
         console.print(
             "note: no concept list is imported yet, so languages were told apart among the "
@@ -128,6 +130,28 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
         )
     print_unknown_questions(console, added.unknown_questions)
     return 0
+
+
+def print_unlisted(console: Console, unlisted: Mapping[str, int]) -> None:
+    """Say which languages outside the study's the new answers read as, and what to do."""
+    if not unlisted:
+        return
+    parts = [f"{n} as {language_name(tag)} ({tag})" for tag, n in unlisted.items()]
+    first = next(iter(unlisted.values()))
+    parts[0] = (
+        f"{first} {'answer reads' if first == 1 else 'answers read'}" + parts[0][len(str(first)) :]
+    )
+    said = parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
+    tags = ", ".join(f'"{tag}"' for tag in unlisted)
+    print_notes(
+        console,
+        [
+            f"{said}, languages this study does not list (the languages in traits.toml "
+            "and the concept list's), so detection stored each as one of the study's "
+            f"languages. If that is right, add {tags} to languages under [workspace] in "
+            "traits.toml, then run `traits language detect --all`."
+        ],
+    )
 
 
 def print_unknown_questions(console: Console, unknown: Sequence[StoredQuestion]) -> None:

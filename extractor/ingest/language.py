@@ -311,3 +311,33 @@ def detect_languages(
         if confidences and confidences[0].value >= MIN_CONFIDENCE:
             out[i] = (by_language[confidences[0].language], "detected")
     return out
+
+
+def languages_outside(texts: Sequence[str], candidates: Sequence[str]) -> dict[str, int]:
+    """Count the texts that read as a language other than the candidates, by its tag.
+
+    Detection (:func:`detect_languages`) stores each answer as one of the candidates,
+    so a Portuguese answer in a study set up for en, fr and es is stored as Spanish and
+    nothing says so. This detects the same texts among the candidates and the
+    :data:`DEFAULT_CANDIDATES` together and counts those whose confident winner (as
+    :func:`detect_languages` decides it) is not a candidate. Nothing stored changes.
+
+    Returns:
+        ISO 639-1 tag -> number of texts, most first; empty when the candidates already
+        hold every default candidate.
+    """
+    given = {primary_subtag(tag) for tag in candidates}
+    wider = list(candidates) + [tag for tag in DEFAULT_CANDIDATES if tag not in given]
+    if len(wider) == len(candidates):
+        return {}
+    counts: dict[str, int] = {}
+    for tag, origin in detect_languages(texts, wider, ""):
+        if origin == "detected" and primary_subtag(tag) not in given:
+            counts[tag] = counts.get(tag, 0) + 1
+    return dict(sorted(counts.items(), key=lambda kv: (-kv[1], kv[0])))
+
+
+def language_name(tag: str) -> str:
+    """Return the English name of a tag's language ("Portuguese" for ``pt-BR``), else the tag."""
+    lang = _lingua_by_code().get(primary_subtag(tag))
+    return tag if lang is None else lang.name.title()

@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-from extractor.ingest.intake import FileReport, add_files
+from extractor.ingest.intake import FileReport, add_files, detection_languages
+from extractor.ingest.language import languages_outside
 from extractor.jobs.inputs import question_codebook, stance_params
 from extractor.models.cue_file import Cues, has_stance_cues, load_cues
 from extractor.models.cues import lexicon
@@ -52,13 +53,15 @@ class AddReport:
     """What `traits add` did: the files, the languages and the questions now stored.
 
     ``unknown_questions`` are the stored questions whose direction is unknown (see
-    :func:`unknown_questions`).
+    :func:`unknown_questions`); ``unlisted`` the languages outside the study's that the
+    new answers read as (see :func:`unlisted_languages`).
     """
 
     files: Sequence[FileReport]
     languages: Sequence[LanguageFound]
     concept_list: bool
     unknown_questions: Sequence[store.StoredQuestion] = ()
+    unlisted: Mapping[str, int] = field(default_factory=dict)
 
 
 def unknown_questions(ws: Workspace) -> tuple[store.StoredQuestion, ...]:
@@ -79,6 +82,23 @@ def unknown_questions(ws: Workspace) -> tuple[store.StoredQuestion, ...]:
         if not question_features(q.question, lexicon(cues, q.lang), codebook, cues):
             unknown.append(q)
     return tuple(unknown)
+
+
+def unlisted_languages(ws: Workspace, files: Sequence[FileReport]) -> dict[str, int]:
+    """Return the languages outside the study's that the files' new answers read as.
+
+    Only answers whose language was detected (not given by a language column) count: each
+    was stored as one of :func:`~extractor.ingest.intake.detection_languages`, so an answer
+    in a language the settings do not list was stored under a wrong tag. Tag -> answers.
+    """
+    texts = [
+        answer.text
+        for report in files
+        if report.answers
+        for answer in store.select_answers(ws.conn, source_path=report.path)
+        if answer.origin != "column"
+    ]
+    return languages_outside(texts, detection_languages(ws)) if texts else {}
 
 
 def stored_languages(ws: Workspace) -> tuple[LanguageFound, ...]:
@@ -137,4 +157,5 @@ def add_interviews(
         languages=stored_languages(ws),
         concept_list=has_list,
         unknown_questions=unknown_questions(ws),
+        unlisted=unlisted_languages(ws, files),
     )

@@ -154,3 +154,33 @@ def test_add_help_explains_every_column_option(capsys: pytest.CaptureFixture[str
     text = " ".join(capsys.readouterr().out.split())
     for role in ("respondent", "question", "answer", "language", "variety"):
         assert f"--{role}-column HEADER the column holding" in text, text
+
+
+def test_add_says_when_answers_read_as_a_language_the_study_does_not_list(
+    tmp_path: Path,
+) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0  # the settings list en, fr and es
+    # Invented answers in Portuguese and Swahili (ISO 639-1 pt, sw), no language column.
+    answers = tmp_path / "survey.csv"
+    answers.write_text(
+        "respondent,question,answer\n"
+        "R1,Why?,Não gosto porque apodrece logo depois da colheita.\n"
+        "R2,Why?,A farinha sai branca e vende bem no mercado.\n"
+        "R3,Why?,Sipendi kwa sababu mizizi inaoza haraka baada ya kuvuna.\n",
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(ws), "add", str(answers))
+    flat = " ".join(out.split())
+    assert code == 0
+    assert "note: 2 answers read as Portuguese (pt) and 1 as Swahili (sw)" in flat
+    assert 'add "pt", "sw" to languages under [workspace] in traits.toml' in flat
+    # A language column is the user's word: nothing is said of answers it tags.
+    tagged = tmp_path / "tagged.csv"
+    tagged.write_text(
+        "respondent,question,answer,language\n"
+        "R4,Why?,Não gosto porque apodrece logo depois da colheita.,es\n",
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(ws), "add", str(tagged))
+    assert code == 0 and "read as" not in out

@@ -10,6 +10,8 @@ from extractor.ingest.language import (
     detect_languages,
     is_well_formed,
     known_languages,
+    language_name,
+    languages_outside,
     normalise_tag,
     tag_from_value,
 )
@@ -185,3 +187,26 @@ def test_normalise_tag_knows_languages_beyond_the_detector(tag: str, expected: s
     # ISO 639-3 code tables (SIL, the registration authority), as shipped by pycountry;
     # the pairs hau/ha are the standard's own ISO 639-1 equivalents.
     assert normalise_tag(tag) == expected
+
+
+def test_languages_outside_counts_answers_in_languages_the_study_does_not_list() -> None:
+    # Invented answers in Portuguese and Swahili (ISO 639-1 pt, sw); lingua's bundled
+    # models are the reference that tells them apart.
+    portuguese = [
+        "Não gosto porque apodrece logo depois da colheita.",
+        "A farinha sai branca e vende bem no mercado.",
+    ]
+    swahili = ["Sipendi kwa sababu mizizi inaoza haraka baada ya kuvuna."]
+    english = ["It cooks fast and the children like the taste."]
+    texts = portuguese + swahili + english + ["Ok."]
+    assert languages_outside(texts, ["en", "fr", "es"]) == {"pt": 2, "sw": 1}
+    # Listed languages are not outside, whatever their subtags; nothing else counts.
+    assert languages_outside(texts, ["en", "pt-MZ", "sw"]) == {}
+    assert languages_outside(english, ["en", "fr"]) == {}
+
+
+def test_language_name_is_the_english_name_of_the_primary_subtag() -> None:
+    # ISO 639-1: pt Portuguese, sw Swahili; a tag lingua does not know stays as given.
+    assert language_name("pt-BR") == "Portuguese"
+    assert language_name("sw") == "Swahili"
+    assert language_name("qaa") == "qaa"
