@@ -18,6 +18,7 @@ from extractor.cli.common import (
     print_written,
 )
 from extractor.cli.concept_cmds import print_changes
+from extractor.cli.workspace_cmds import print_languages, print_unknown_questions, print_unlisted
 from extractor.jobs.export import export
 from extractor.jobs.run import RunReport, run_in, train_and_tag
 from extractor.jobs.status import model_versions
@@ -134,6 +135,12 @@ def _print_run(report: RunReport, console: Console) -> None:
             f"{'sentence' if learned == 1 else 'sentences'} ({previous.labeled} for "
             f"{previous.version})."
         )
+    if report.intake is not None:  # what `traits add` says of new files
+        for file_report in report.intake.files:
+            print_warnings(console, file_report.warnings)
+        print_languages(console, report.intake.languages)
+        print_unlisted(console, report.intake.unlisted)
+        print_unknown_questions(console, report.intake.unknown_questions)
     for item in (report.concepts, report.varieties):
         if item is not None:
             print_warnings(console, item.warnings)

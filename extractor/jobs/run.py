@@ -17,6 +17,7 @@ from extractor.ingest.intake import (
     import_concepts,
     interview_files,
 )
+from extractor.jobs.add import AddReport, stored_languages, unknown_questions, unlisted_languages
 from extractor.jobs.export import ExportResult, export_workbook
 from extractor.jobs.inputs import stance_params
 from extractor.jobs.status import WorkspaceCounts
@@ -59,6 +60,8 @@ class RunReport:
 
     ``retrained`` is False when nothing a version learns from changed since the latest
     one, which was then reused (``train`` describes it, ``previous_version`` is None).
+    ``intake`` is what `traits add` would have said of the files read, when any brought
+    new answers (their languages, those outside the study's, uncoded questions).
     """
 
     files: Sequence[FileReport]
@@ -72,6 +75,7 @@ class RunReport:
     counts: WorkspaceCounts
     retrained: bool = True
     first_run: bool = False
+    intake: AddReport | None = None
 
 
 TRAINED_INPUTS_KEY = "trained_inputs"
@@ -182,6 +186,17 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
     )
     files = interview_files(ws.path("interviews"))
     added = add_files(ws, files) if files else []
+    intake = (
+        AddReport(
+            files=added,
+            languages=stored_languages(ws),
+            concept_list=concepts is not None,
+            unknown_questions=unknown_questions(ws),
+            unlisted=unlisted_languages(ws, added),
+        )
+        if any(report.answers for report in added)
+        else None
+    )
     after = store.counts(ws.conn)
     new = NewSince(
         respondents=after["respondents"] - before["respondents"],
@@ -208,6 +223,7 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         counts=WorkspaceCounts(**after),
         retrained=unchanged is None,
         first_run=previous is None,
+        intake=intake,
     )
 
 

@@ -95,3 +95,19 @@ def ws_without_model(study: Path) -> Path:
     assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
     assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
     return study
+
+
+def test_run_says_what_add_says_of_the_new_files_it_reads(study: Path) -> None:
+    # A survey export names its question by a field name: `traits run` reading it from
+    # interviews/ says so, as `traits add` does, once (not again when nothing is new).
+    (study / "interviews" / "round2.csv").write_text(
+        "respondent,question,answer\nKA-07,q5_dislike,The grains are too small.\n",
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(study), "run")
+    flat = " ".join(out.split())
+    assert code == 0, out
+    assert "note: 1 question tells stance nothing: q5_dislike (1 answer)" in flat
+    assert "Languages of the stored sentences: en 13" in flat
+    code, out = run("-w", str(study), "run")
+    assert code == 0 and "stance nothing" not in out
