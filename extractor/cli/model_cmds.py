@@ -135,6 +135,12 @@ def _print_run(report: RunReport, console: Console) -> None:
             f"{'sentence' if learned == 1 else 'sentences'} ({previous.labeled} for "
             f"{previous.version})."
         )
+    for path, kind in report.lists_in_interviews:
+        what = "concept list" if kind == "trait" else "variety list"
+        print_notes(
+            console,
+            [f"{path} is the workspace's {what}, so it is not read as interviews."],
+        )
     if report.intake is not None:  # what `traits add` says of new files
         for file_report in report.intake.files:
             print_warnings(console, file_report.warnings)

@@ -15,7 +15,9 @@ from extractor.ingest.intake import (
     FileReport,
     add_files,
     import_concepts,
+    imported_lists,
     interview_files,
+    stored_path,
 )
 from extractor.jobs.add import AddReport, stored_languages, unknown_questions, unlisted_languages
 from extractor.jobs.export import ExportResult, export_workbook
@@ -62,6 +64,8 @@ class RunReport:
     one, which was then reused (``train`` describes it, ``previous_version`` is None).
     ``intake`` is what `traits add` would have said of the files read, when any brought
     new answers (their languages, those outside the study's, uncoded questions).
+    ``lists_in_interviews`` are the concept or variety lists (path, kind) found in the
+    interviews folder and so not read as interviews.
     """
 
     files: Sequence[FileReport]
@@ -76,6 +80,7 @@ class RunReport:
     retrained: bool = True
     first_run: bool = False
     intake: AddReport | None = None
+    lists_in_interviews: tuple[tuple[str, str], ...] = ()
 
 
 TRAINED_INPUTS_KEY = "trained_inputs"
@@ -185,6 +190,8 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         import_concepts(ws, varieties_path, kind="variety") if varieties_path.exists() else None
     )
     files = interview_files(ws.path("interviews"))
+    lists = imported_lists(ws, files)
+    files = [path for path in files if path not in lists]
     added = add_files(ws, files) if files else []
     intake = (
         AddReport(
@@ -224,6 +231,7 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         retrained=unchanged is None,
         first_run=previous is None,
         intake=intake,
+        lists_in_interviews=tuple((stored_path(ws, p), kind) for p, kind in lists.items()),
     )
 
 

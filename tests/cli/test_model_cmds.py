@@ -111,3 +111,23 @@ def test_run_says_what_add_says_of_the_new_files_it_reads(study: Path) -> None:
     assert "Languages of the stored sentences: en 13" in flat
     code, out = run("-w", str(study), "run")
     assert code == 0 and "stance nothing" not in out
+
+
+def test_run_leaves_imported_lists_in_the_interviews_folder_out_of_the_interviews(
+    study: Path, tmp_path: Path
+) -> None:
+    # A new user keeps every file of the study together: the trait list imported from
+    # interviews/, and a copy of the variety list there too (same content, another path).
+    (study / "concepts.csv").rename(study / "interviews" / "trait_list.csv")
+    varieties = tmp_path / "varieties.csv"
+    varieties.write_text("id,label,lang,synonyms\nVAR:01,Kibanda,en,\n", encoding="utf-8")
+    (study / "interviews" / "my_varieties.csv").write_bytes(varieties.read_bytes())
+    listed = str(study / "interviews" / "trait_list.csv")
+    assert run("-w", str(study), "concepts", "import", listed)[0] == 0
+    assert run("-w", str(study), "concepts", "import", str(varieties), "--varieties")[0] == 0
+    code, out = run("-w", str(study), "run")
+    flat = " ".join(out.split())
+    assert code == 0, out
+    assert "First run: 6 respondents" in flat
+    assert "interviews/trait_list.csv is the workspace's concept list" in flat
+    assert "interviews/my_varieties.csv is the workspace's variety list" in flat
