@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+from collections.abc import Sequence
 from pathlib import Path
 
 from rich.console import Console
@@ -162,7 +163,27 @@ def _print_run(report: RunReport, console: Console) -> None:
             "[bold]traits run --retrain[/] to train a new version anyway."
         )
     console.print(_run_table(report))
+    print_ungrouped(console, report.export.ungrouped)
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
+
+
+def print_ungrouped(console: Console, ungrouped: Sequence[tuple[str, int]]) -> None:
+    """Name the respondent columns the workbook does not compare groups by, and how to."""
+    if not ungrouped:
+        return
+    parts = [f"{column} ({n} values)" for column, n in ungrouped]
+    said = parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
+    one = len(parts) == 1
+    names = ", ".join(f'"{column}"' for column, _ in ungrouped)
+    print_notes(
+        console,
+        [
+            f"{said} {'is' if one else 'are'} not compared between groups (the sheets show "
+            f"{'its' if one else 'their'} values per respondent); to compare, add {names} "
+            "to group_by under [export] in traits.toml, or name the columns to compare "
+            "with `traits export --group-by`."
+        ],
+    )
 
 
 def _run_table(report: RunReport) -> Table:
@@ -212,6 +233,7 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
         console.print(f"Chart: {report.chart}")
     if report.charts:
         console.print(f"Charts (PNG and SVG): {report.charts}", markup=False)
+    print_ungrouped(console, report.ungrouped)
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
     return 0
 

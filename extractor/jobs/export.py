@@ -27,7 +27,13 @@ from extractor.jobs.tag import ensure_tagged
 from extractor.report import formats
 from extractor.report.indicators import indicator_table, write_indicators
 from extractor.report.inputs import prepare
-from extractor.report.privacy import PrivacyOptions, new_secret
+from extractor.report.pivot import MAX_GROUPS
+from extractor.report.privacy import (
+    DEFAULT_IDENTIFYING,
+    PrivacyOptions,
+    identifying_columns,
+    new_secret,
+)
 from extractor.report.results import concept_frame, mention_frame, respondent_frame, run_facts
 from extractor.report.rollup import roll_up
 from extractor.report.workbook import write_workbook
@@ -53,13 +59,16 @@ LABEL_FORMATS = ("conll", "labels")
 class ExportResult:
     """A file an export wrote, how many mentions (or labeled sentences) it holds, its charts.
 
-    ``charts`` is the folder of the workbook's charts as PNG and SVG, when written.
+    ``charts`` is the folder of the workbook's charts as PNG and SVG, when written;
+    ``ungrouped`` the respondent columns the workbook could compare groups by but does
+    not (see :func:`ungrouped_columns`).
     """
 
     path: Path
     mentions: int
     chart: Path | None = None
     charts: Path | None = None
+    ungrouped: tuple[tuple[str, int], ...] = ()
 
 
 def workspace_secret(ws: Workspace) -> bytes:
@@ -98,6 +107,34 @@ def group_columns(
     return [c for c in wanted if c in respondents.columns]
 
 
+def ungrouped_columns(
+    ws: Workspace, respondents: pd.DataFrame, grouped: Sequence[str]
+) -> tuple[tuple[str, int], ...]:
+    """Return the respondent columns left out of the comparisons, with their values.
+
+    A column counts when its individual respondents hold 2 to
+    :data:`~extractor.report.pivot.MAX_GROUPS` distinct values and it is neither compared
+    already nor identifying (by its name, as pseudonymised exports drop it): a ``region``
+    column in a workspace whose ``group_by`` names ``district`` is one.
+    """
+    known = DEFAULT_IDENTIFYING + tuple(ws.settings.export.identifying_columns)
+    columns = [c for c in respondents.columns if c not in ("respondent", "is_group", *grouped)]
+    identifying = set(identifying_columns(columns, known))
+    people = (
+        respondents[~respondents["is_group"].astype(bool)]
+        if "is_group" in respondents
+        else respondents
+    )
+    found = []
+    for column in columns:
+        if column in identifying:
+            continue
+        values = {str(v).strip() for v in people[column].dropna() if str(v).strip()}
+        if 2 <= len(values) <= MAX_GROUPS:
+            found.append((column, len(values)))
+    return tuple(found)
+
+
 def min_confidence_floor(ws: Workspace, given: float | None) -> float | None:
     """Return the confidence floor: the one given, else traits.toml's (0 means none)."""
     if given is not None:
@@ -134,20 +171,25 @@ def export_workbook(
     respondents = respondent_frame(ws)
     png = out.with_name(out.stem + "_chart.png")
     charts = out.with_name(out.stem + "_charts")
+    grouped = group_columns(ws, respondents, group_by)
     written = write_workbook(
         out,
         mentions,
         respondents,
         concepts,
         run_facts(ws, version),
-        group_by=group_columns(ws, respondents, group_by),
+        group_by=grouped,
         min_confidence=min_confidence_floor(ws, min_confidence),
         pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
         chart_png=png,
         chart_dir=charts,
     )
     return ExportResult(
-        out, written, png if png.exists() else None, charts if charts.is_dir() else None
+        out,
+        written,
+        png if png.exists() else None,
+        charts if charts.is_dir() else None,
+        ungrouped_columns(ws, respondents, grouped),
     )
 
 

@@ -131,3 +131,26 @@ def test_run_leaves_imported_lists_in_the_interviews_folder_out_of_the_interview
     assert "First run: 6 respondents" in flat
     assert "interviews/trait_list.csv is the workspace's concept list" in flat
     assert "interviews/my_varieties.csv is the workspace's variety list" in flat
+
+
+def test_export_names_the_respondent_columns_it_does_not_compare(study: Path) -> None:
+    # A survey export with a region column (not among the default group_by) and a name
+    # column (identifying, so never offered for comparison). Places and names invented.
+    survey = study / "interviews" / "survey.csv"
+    lines = survey.read_text(encoding="utf-8").splitlines()
+    rows = [lines[0] + ",region,respondent_name"]
+    rows += [
+        f"{line},{'Lokindo' if i % 2 else 'Mbelo'},Person {i}" for i, line in enumerate(lines[1:])
+    ]
+    survey.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    code, out = run("-w", str(study), "run")
+    flat = " ".join(out.split())
+    assert code == 0, out
+    assert "note: region (2 values) is not compared between groups" in flat
+    assert 'add "region" to group_by under [export]' in flat
+    assert "respondent_name" not in flat
+    code, out = run("-w", str(study), "export", "--group-by", "gender,region")
+    flat = " ".join(out.split())
+    assert code == 0 and "region (2 values)" not in flat
+    # role is left out of this export's comparisons, so it is named now
+    assert "role (4 values) is not compared" in flat
