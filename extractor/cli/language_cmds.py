@@ -15,6 +15,9 @@ from extractor.jobs.language import (
     set_language,
 )
 
+_SHOWN = 10
+"""Undecided answers listed, at most."""
+
 
 def _selection(args: argparse.Namespace) -> Selection:
     """Return the answers the options select (all of them for ``--all``)."""
@@ -36,9 +39,13 @@ def _print(console: Console, change: LanguageChange) -> None:
     if change.undecided:
         console.print(
             f"{change.undecided} could not be told (too short or unclear) and kept their "
-            "language; set it with `traits language set`.",
+            "language; set it with `traits language set TAG --answer NUMBER`:",
             highlight=False,
         )
+        for number, lang, text in change.undecided_answers[:_SHOWN]:
+            console.print(f"  answer {number} ({lang}): {text}", markup=False, highlight=False)
+        if change.undecided > _SHOWN:
+            console.print(f"  and {change.undecided - _SHOWN} more.", highlight=False)
     if change.stale:
         console.print(
             f"Labels are kept; the model's suggestions for {change.stale} sentences are out of "

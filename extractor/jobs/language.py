@@ -44,6 +44,8 @@ class LanguageChange:
         languages: The languages of the stored sentences afterwards.
         given: Selected answers whose language a person gave (a language column or
             `traits language set`); detection leaves them alone.
+        undecided_answers: The undecided answers themselves (number, language kept,
+            text), for the user to set.
     """
 
     selected: int
@@ -52,6 +54,7 @@ class LanguageChange:
     stale: int
     languages: Sequence[LanguageFound]
     given: int = 0
+    undecided_answers: tuple[tuple[int, str, str], ...] = ()
 
 
 def _select(ws: Workspace, selection: Selection) -> list[store.AnswerLanguage]:
@@ -97,6 +100,11 @@ def _apply(
         selected=len(chosen) + given,
         changed=len(changes),
         undecided=sum(pick is None for pick in new),
+        undecided_answers=tuple(
+            (answer.id, answer.lang, answer.text)
+            for answer, pick in zip(chosen, new, strict=True)
+            if pick is None
+        ),
         stale=stale,
         languages=stored_languages(ws),
         given=given,

@@ -114,3 +114,23 @@ def test_language_detect_leaves_a_language_a_person_set(trial: Path) -> None:
     assert code == 0
     assert languages(trial).get("sw", 0) >= 1
     assert "1 kept the language a person gave" in out
+
+
+def test_language_detect_lists_the_answers_it_cannot_tell(trial: Path, tmp_path: Path) -> None:
+    # Invented answers of two words: under the three words detection needs, so undecided.
+    short = tmp_path / "short.csv"
+    short.write_text(
+        "respondent,question,answer\nsh-1,Wish?,Raízes maiores.\nsh-2,Wish?,Wanga zaidi.\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(trial), "add", str(short))[0] == 0
+    code, out = run("-w", str(trial), "language", "detect", "--all")
+    assert code == 0, out
+    assert "could not be told" in out and "traits language set TAG --answer NUMBER" in out
+    listed = [line.strip() for line in out.splitlines() if line.startswith("  answer ")]
+    assert any(line.endswith("): Raízes maiores.") for line in listed)
+    assert any(line.endswith("): Wanga zaidi.") for line in listed)
+    # the number shown is the one `traits language set --answer` takes
+    number = next(line for line in listed if "Wanga" in line).split()[1]
+    code, out = run("-w", str(trial), "language", "set", "sw", "--answer", number)
+    assert code == 0 and "the language of 1 changed" in out
