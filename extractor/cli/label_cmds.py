@@ -51,6 +51,7 @@ def cmd_label(args: argparse.Namespace, console: Console) -> int:
             newer_labels=setup.newer_labels,
             notice=notice,
             respondents=setup.respondents,
+            questions=setup.questions,
         )
     if summary.labeled:
         console.print("Run `traits train` (or `traits run`) to build a model version from them.")

@@ -96,9 +96,11 @@ class LabelScreen:
         entries: Sequence[ConceptEntry],
         quality: Quality | None = None,
         respondents: Mapping[str, Mapping[str, Any]] | None = None,
+        questions: Mapping[str, str] | None = None,
     ) -> None:
         self.session = session
         self.respondents = respondents or {}  # ID -> metadata as the workbook reads it
+        self.questions = questions or {}  # field name -> the codebook's wording
         self.console = console
         self._read = read_line
         self.entries = list(entries)
@@ -143,6 +145,7 @@ class LabelScreen:
             message=self._message,
             implicit=self.implicit,
             metadata=self.respondents.get(item.context.respondent),
+            wording=self.questions.get(item.context.question or ""),
         )
         self._message = ""
 
@@ -415,6 +418,7 @@ def run_console(
     newer_labels: int = 0,
     notice: str = "",
     respondents: Mapping[str, Mapping[str, Any]] | None = None,
+    questions: Mapping[str, str] | None = None,
 ) -> SessionSummary:
     """Run a labeling session in the terminal (or over a pipe) and return its summary.
 
@@ -435,6 +439,7 @@ def run_console(
         respondents: respondent ID -> metadata as the workbook reads it
             (:func:`extractor.report.results.respondent_metadata`); the stored
             columns are shown for a respondent not in it.
+        questions: question as stored -> its codebook wording, shown beside it.
 
     Returns:
         The session summary (also when input fails, the session quits: its leases end).
@@ -461,6 +466,7 @@ def run_console(
         entries=concept_entries(conn),
         quality=quality,
         respondents=respondents,
+        questions=questions,
     )
     screen.say(notice)
     try:

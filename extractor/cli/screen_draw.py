@@ -176,18 +176,22 @@ def figures_text(
     return Text("\n".join(lines) or "No model figures for this sentence yet.", style="dim")
 
 
-def context_grid(item: Item, metadata: Mapping[str, Any] | None = None) -> Table:
+def context_grid(
+    item: Item, metadata: Mapping[str, Any] | None = None, wording: str | None = None
+) -> Table:
     """Return the question, the sentence before, and who answered.
 
     ``metadata`` is the respondent's as the workbook reads it (columns and spellings
-    harmonised); without it the stored columns are shown.
+    harmonised); without it the stored columns are shown. ``wording`` is the question's
+    in the question codebook, shown before the question as stored (a field name).
     """
     ctx = item.context
     grid = Table.grid(padding=(0, 1))
     grid.add_column(style="dim", no_wrap=True)
     grid.add_column()
     if ctx.question:
-        grid.add_row("asked", Text(str(ctx.question), style="italic"))
+        asked = f"{wording} ({ctx.question})" if wording else str(ctx.question)
+        grid.add_row("asked", Text(asked, style="italic"))
     if ctx.previous:
         grid.add_row("before", Text(str(ctx.previous), style="dim"))
     meta = dict(ctx.metadata if metadata is None else metadata)
@@ -303,6 +307,7 @@ def draw_item(
     message: str,
     implicit: Sequence[Implicit] = (),
     metadata: Mapping[str, Any] | None = None,
+    wording: str | None = None,
 ) -> None:
     """Draw the sentence in its context, the draft answer, progress, a message and help.
 
@@ -313,7 +318,7 @@ def draw_item(
     if c.is_terminal:
         c.clear()
     c.print(Rule(status_line(session), style="dim"))
-    c.print(context_grid(item, metadata))
+    c.print(context_grid(item, metadata, wording))
     c.print()
     c.print(sentence_text(item, draft))
     if kept(draft):

@@ -18,7 +18,12 @@ from typing import Any
 from extractor.errors import InputError
 from extractor.ingest.labels import LabelImport, convert_legacy_lines, import_labels, read_labels
 from extractor.jobs.evaluate import stored_quality
-from extractor.jobs.inputs import alias_tuples, model_params, session_settings
+from extractor.jobs.inputs import (
+    alias_tuples,
+    model_params,
+    question_codebook,
+    session_settings,
+)
 from extractor.jobs.train import load_version, train
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
@@ -41,6 +46,8 @@ class LabelingSetup:
             because ``trained_labels`` labels were newer than it.
         respondents: respondent ID -> metadata, read through ``[metadata]`` as the
             workbook reads them, for the screen to show.
+        questions: question as stored (a survey field name) -> its wording in the
+            question codebook, for the screen to show.
     """
 
     conn: sqlite3.Connection
@@ -56,6 +63,7 @@ class LabelingSetup:
     trained_from: str | None = None
     trained_labels: int = 0
     respondents: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
+    questions: Mapping[str, str] = field(default_factory=dict)
 
 
 def labels_newer_than(ws: Workspace, version: store.ModelVersion) -> int:
@@ -137,6 +145,7 @@ def labeling_setup(
         trained_from=trained_from,
         trained_labels=trained,
         respondents=respondent_metadata(ws),
+        questions={key: code.text for key, code in question_codebook(ws).items() if code.text},
     )
 
 

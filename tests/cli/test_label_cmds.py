@@ -108,3 +108,23 @@ def test_label_screen_describes_a_respondent_as_the_workbook_does(
         row = respondent_frame(ws).set_index("respondent").loc["OMB-901"]
     assert (row["gender"], row["role"]) == ("female", "trader")
     assert f"gender {row['gender']}" in who and f"role {row['role']}" in who
+
+
+def test_label_screen_shows_the_codebook_wording_of_a_field_name(
+    study: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # A survey export names its question by a field name; the codebook gives its wording.
+    survey = study / "interviews" / "survey.csv"
+    survey.write_text(
+        survey.read_text(encoding="utf-8").replace("Why do you grow it?", "why_grow"), "utf-8"
+    )
+    (study / "questions.csv").write_text(
+        "question,text,direction\nwhy_grow,Why do you grow this variety?,likes\n", "utf-8"
+    )
+    assert run("-w", str(study), "add", str(survey))[0] == 0
+    code, out = run(
+        "-w", str(study), "label", "--annotator", "Test", stdin="q\n", monkeypatch=monkeypatch
+    )
+    assert code == 0, out
+    asked = next(line for line in out.splitlines() if line.startswith("asked"))
+    assert "Why do you grow this variety? (why_grow)" in asked, asked

@@ -137,3 +137,12 @@ def test_high_agreement_does_not_read_as_a_stop_before_the_stop_sign(
 def test_sentence_text_keeps_span_numbers_when_one_is_dropped() -> None:
     draft = [None, Span(22, 27, None, "disliked")]
     assert sentence_text(_item(), draft).plain == TEXT[:27] + "[2]" + TEXT[27:]
+
+
+def test_context_shows_a_questions_wording_before_its_field_name() -> None:
+    ctx = SentenceContext("q5_dislike", None, "KA-01", {}, False, None)
+    console = Console(file=io.StringIO(), width=120)
+    console.print(context_grid(_item(ctx), wording="What do you dislike about it?"))
+    out = console.file
+    assert isinstance(out, io.StringIO)
+    assert "What do you dislike about it? (q5_dislike)" in out.getvalue()
