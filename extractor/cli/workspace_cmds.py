@@ -253,10 +253,12 @@ def cmd_status(args: argparse.Namespace, console: Console) -> int:
     table.add_column("what")
     table.add_column("count", justify="right")
     for key, value in counts.items():
+        if key == "language_tags" and value == counts["languages"]:
+            continue  # the same row twice when no answer has a region or script subtag
         shown: Any = value
         if key in ("languages", "language_tags"):
             shown = ", ".join(f"{lang} {n}" for lang, n in value.items()) or "-"
-        table.add_row(key, str(shown))
+        table.add_row(key.replace("_", " "), str(shown))
     console.print(table)
     print_metadata(console, merged)
     print_suggestions(console, suggested)

@@ -184,3 +184,26 @@ def test_add_says_when_answers_read_as_a_language_the_study_does_not_list(
     )
     code, out = run("-w", str(ws), "add", str(tagged))
     assert code == 0 and "read as" not in out
+
+
+def test_status_shows_the_language_tags_row_only_when_it_says_more(tmp_path: Path) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    plain = tmp_path / "plain.csv"
+    plain.write_text(
+        "respondent,question,answer,language\nR1,Why?,It cooks fast.,en\n", encoding="utf-8"
+    )
+    assert run("-w", str(ws), "add", str(plain))[0] == 0
+    code, out = run("-w", str(ws), "status")
+    assert code == 0 and "language tags" not in out and "language_tags" not in out
+    # A region subtag (BCP 47: es-419, Latin American Spanish) is a tag the languages
+    # row folds into its primary subtag, so the tags get their own row.
+    regional = tmp_path / "regional.csv"
+    regional.write_text(
+        "respondent,question,answer,language\nR2,Why?,Se cocina rápido.,es-419\n",
+        encoding="utf-8",
+    )
+    assert run("-w", str(ws), "add", str(regional))[0] == 0
+    code, out = run("-w", str(ws), "status")
+    row = next(line for line in out.splitlines() if "language tags" in line)
+    assert code == 0 and "es-419 1" in row
