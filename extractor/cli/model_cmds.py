@@ -163,6 +163,16 @@ def _print_run(report: RunReport, console: Console) -> None:
             "[bold]traits run --retrain[/] to train a new version anyway."
         )
     console.print(_run_table(report))
+    for tag, n in report.silent:
+        print_notes(
+            console,
+            [
+                f"No trait was found in any of the {n} {tag} sentences: nothing in the "
+                f"concept list matches them and no label has taught the model {tag} yet. "
+                f"Label some of them (`traits label`), or add {tag} synonyms to the "
+                "concept list."
+            ],
+        )
     print_ungrouped(console, report.export.ungrouped)
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
 

@@ -26,6 +26,7 @@ from extractor.jobs.status import WorkspaceCounts
 from extractor.jobs.tag import TagReport, ensure_tagged, tag
 from extractor.jobs.train import TrainReport, train
 from extractor.models.bundle import TrainingCounts
+from extractor.nlp.text import primary_subtag
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace, is_workspace
 
@@ -65,7 +66,8 @@ class RunReport:
     ``intake`` is what `traits add` would have said of the files read, when any brought
     new answers (their languages, those outside the study's, uncoded questions).
     ``lists_in_interviews`` are the concept or variety lists (path, kind) found in the
-    interviews folder and so not read as interviews.
+    interviews folder and so not read as interviews. ``silent`` are the languages in
+    whose sentences no trait was found (see :func:`silent_languages`).
     """
 
     files: Sequence[FileReport]
@@ -80,7 +82,36 @@ class RunReport:
     retrained: bool = True
     first_run: bool = False
     intake: AddReport | None = None
+    silent: tuple[tuple[str, int], ...] = ()
     lists_in_interviews: tuple[tuple[str, str], ...] = ()
+
+
+MIN_SILENT = 10
+"""Sentences a language needs before finding no trait in any of them is worth saying."""
+
+
+def silent_languages(ws: Workspace, version: str) -> tuple[tuple[str, int], ...]:
+    """Return the languages (tag, sentences) in whose sentences no trait was found.
+
+    A language counts when it has :data:`MIN_SILENT` sentences or more and neither the
+    model version nor a person's label has a trait in any of them: a language the concept
+    list has no synonyms in, and no label has taught, is read as holding no trait at all.
+    """
+    predicted = store.predictions(ws.conn, version)
+    labels = store.current_labels(ws.conn)
+    total: dict[str, int] = {}
+    found: set[str] = set()
+    for sentence in store.sentences(ws.conn):
+        tag = primary_subtag(sentence.lang)
+        total[tag] = total.get(tag, 0) + 1
+        prediction, label = predicted.get(sentence.id), labels.get(sentence.id)
+        if (prediction is not None and prediction.mentions) or (
+            label is not None and (label.spans or label.implicit)
+        ):
+            found.add(tag)
+    return tuple(
+        (tag, n) for tag, n in sorted(total.items()) if n >= MIN_SILENT and tag not in found
+    )
 
 
 TRAINED_INPUTS_KEY = "trained_inputs"
@@ -231,6 +262,7 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         retrained=unchanged is None,
         first_run=previous is None,
         intake=intake,
+        silent=silent_languages(ws, done.train.version),
         lists_in_interviews=tuple((stored_path(ws, p), kind) for p, kind in lists.items()),
     )
 

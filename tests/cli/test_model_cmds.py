@@ -7,6 +7,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
+from extractor.jobs import run as run_job
 from extractor.workspace import store
 from tests.jobs.study import run
 from tests.report.study import VERSION, build_workspace
@@ -154,3 +155,14 @@ def test_export_names_the_respondent_columns_it_does_not_compare(study: Path) ->
     assert code == 0 and "region (2 values)" not in flat
     # role is left out of this export's comparisons, so it is named now
     assert "role (4 values) is not compared" in flat
+
+
+def test_run_names_a_language_where_no_trait_was_found(
+    study: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setattr(run_job, "silent_languages", lambda ws, version: (("sw", 30),))
+    code, out = run("-w", str(study), "run")
+    flat = " ".join(out.split())
+    assert code == 0, out
+    assert "note: No trait was found in any of the 30 sw sentences" in flat
+    assert "Label some of them (`traits label`), or add sw synonyms" in flat

@@ -10,8 +10,11 @@ import openpyxl
 import pandas as pd
 import pytest
 
+from extractor.jobs import run as run_job
+from extractor.jobs.add import add_interviews
+from extractor.types import Span
 from extractor.workspace import store
-from extractor.workspace.folder import Workspace
+from extractor.workspace.folder import Workspace, init_workspace
 from tests.jobs.study import make_study, run
 from tests.skos_demo import write_demo_skos
 
@@ -228,3 +231,34 @@ def test_run_with_a_skos_list_finds_the_mentions_the_csv_list_finds(tmp_path: Pa
             )
     assert found[0] == found[1]
     assert sum(len(m) for m in found[0].values()) > 0
+
+
+def test_silent_languages_are_those_where_neither_model_nor_person_found_a_trait(
+    tmp_path: Path,
+) -> None:
+    root = tmp_path / "ws"
+    init_workspace(root)
+    # Invented answers: 12 Swahili, 10 English and 5 Portuguese (ISO 639-1 sw, en, pt).
+    rows = ["respondent,question,answer,language"]
+    rows += [f"S{i},Why?,Inaoza haraka baada ya kuvuna {i}.,sw" for i in range(12)]
+    rows += [f"E{i},Why?,It cooks fast {i}.,en" for i in range(10)]
+    rows += [f"P{i},Why?,Apodrece logo {i}.,pt" for i in range(5)]
+    (tmp_path / "answers.csv").write_text("\n".join(rows) + "\n", encoding="utf-8")
+    with Workspace.open(root) as ws:
+        add_interviews(ws, [tmp_path / "answers.csv"])
+        sentences = store.sentences(ws.conn)
+        store.add_model(ws.conn, "v1", "models/v1", {})
+        mention = {"start": 3, "end": 13, "concept": None, "stance": "liked"}
+        store.store_predictions(
+            ws.conn,
+            "v1",
+            [
+                {"sentence_id": s.id, "mentions": [mention] if s.lang == "en" else []}
+                for s in sentences
+            ],
+        )
+        # pt has too few sentences to say anything of; en has the model's mentions
+        assert run_job.silent_languages(ws, "v1") == (("sw", 12),)
+        first_sw = next(s for s in sentences if s.lang == "sw")
+        store.add_label(ws.conn, first_sw.id, [Span(0, 6, "CSV:01", "disliked")], "ana")
+        assert run_job.silent_languages(ws, "v1") == ()
