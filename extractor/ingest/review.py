@@ -100,9 +100,12 @@ KEY_COLUMNS = (
 META_ITEMS = ("Format", "Workspace", "Workspace ID", "Model version", "Selection", "Exported")
 IMPLIED = "implied"
 """The origin of a row showing a trait a person's label states without words."""
-ORIGINS = ("model", "person", "none", IMPLIED)
+MODEL_IMPLIED = "model implied"
+"""The origin of a row showing a trait the model finds stated without words."""
+ORIGINS = ("model", "person", "none", IMPLIED, MODEL_IMPLIED)
 """What a row shows: a model's mention, a person's labeled mention, no mention, or a
-trait a person's label states without words (start and end are then blank)."""
+trait a person's label (or the model) finds stated without words (start and end are
+then blank)."""
 
 
 def sentence_digest(text: str) -> str:

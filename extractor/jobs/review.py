@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from extractor.errors import InputError
-from extractor.ingest.review import IMPLIED, RowKey, sentence_digest
+from extractor.ingest.review import IMPLIED, MODEL_IMPLIED, RowKey, sentence_digest
 from extractor.jobs.tag import ensure_tagged
 from extractor.report.results import concept_frame
 from extractor.report.review import ReviewLine, write_review_workbook
@@ -118,15 +118,28 @@ class _Found:
         self.predicted = store.predictions(ws.conn, version) if version else {}
 
     def implicit(self, sid: int) -> tuple[Implicit, ...]:
-        """Return the traits a person's label states without words (none for predictions)."""
-        return self.labels[sid].implicit if sid in self.labels else ()
+        """Return the traits a person's label, else the model, finds stated without words."""
+        if sid in self.labels:
+            return self.labels[sid].implicit
+        found = self.predicted.get(sid)
+        ms = found.mentions if found is not None else []
+        return tuple(
+            Implicit(str(m["concept"]), m.get("stance"))
+            for m in ms
+            if m.get("implicit") and m.get("concept")
+        )
 
     def mentions(self, sid: int) -> tuple[str, list[Span], list[float | None]]:
+        """Return who found the sentence's mentions with a quote span, them, and confidences.
+
+        A model's trait without a quote span (stored over the whole sentence) is not
+        one: :meth:`implicit` returns it, so that it is reviewed and imported as such.
+        """
         if sid in self.labels:
             spans = list(self.labels[sid].spans)
             return "person", spans, [None] * len(spans)
         found = self.predicted.get(sid)
-        ms = found.mentions if found is not None else []
+        ms = [m for m in (found.mentions if found is not None else []) if not m.get("implicit")]
         spans = [Span(m["start"], m["end"], m.get("concept"), m.get("stance")) for m in ms]
         return "model", spans, [m.get("confidence") for m in ms]
 
@@ -151,6 +164,7 @@ def sentence_lines(
     found_by: Sequence[str] = (),
     implicit: Sequence[Implicit] = (),
     implicit_by: Sequence[str] = (),
+    implicit_origin: str = IMPLIED,
 ) -> list[ReviewLine]:
     """Return a sentence's review rows: one per mention, or one saying it has none.
 
@@ -163,6 +177,8 @@ def sentence_lines(
         found_by: Who found each mention, when several people did (else the origin).
         implicit: Traits a person's label states without words: one row each.
         implicit_by: Who stated each of those, when several people did.
+        implicit_origin: :data:`IMPLIED` when they are a person's, ``MODEL_IMPLIED``
+            when the model's.
     """
     digest = sentence_digest(sentence.text)
 
@@ -185,13 +201,17 @@ def sentence_lines(
                 None,
                 None,
                 digest,
-                IMPLIED,
+                implicit_origin,
                 t.concept,
                 t.stance,
             ),
             "",
             None,
-        )._replace(found_by=implicit_by[k - 1] if implicit_by else "person")
+        )._replace(
+            found_by=implicit_by[k - 1]
+            if implicit_by
+            else ("model" if implicit_origin == MODEL_IMPLIED else "person")
+        )
         for k, t in enumerate(implicit, start=1)
     ]
     if not spans and implied:
@@ -244,7 +264,18 @@ def review_lines(
         origin, spans, conf = found.mentions(sentence.id)
         if _keeps(origin, spans, conf, selection):
             implicit = found.implicit(sentence.id)
-            lines.extend(sentence_lines(sentence, origin, spans, conf, labels, implicit=implicit))
+            implied = MODEL_IMPLIED if origin == "model" else IMPLIED
+            lines.extend(
+                sentence_lines(
+                    sentence,
+                    origin,
+                    spans,
+                    conf,
+                    labels,
+                    implicit=implicit,
+                    implicit_origin=implied,
+                )
+            )
     return lines
 
 

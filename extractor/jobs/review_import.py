@@ -25,6 +25,7 @@ from typing import NamedTuple
 from extractor.errors import InputError
 from extractor.ingest.review import (
     IMPLIED,
+    MODEL_IMPLIED,
     REVIEW_SHEET,
     Col,
     Problem,
@@ -180,7 +181,7 @@ class _Sentence:
         implicit: list[Implicit] = []
         for key in keys:
             got = by_key.get(key.key, [])
-            if key.origin == IMPLIED:
+            if key.origin in (IMPLIED, MODEL_IMPLIED):
                 kept = self._mention(key, got, entries[0].row)
                 if kept is not None and kept.concept:
                     implicit.append(Implicit(kept.concept, kept.stance))
@@ -284,12 +285,21 @@ def _quality(
     measured = []
     for sid, final in labels.items():
         keys = [k for k in file.keys.values() if k.sentence_id == sid]
-        if all(k.origin in ("model", "none") for k in keys):
+        if all(k.origin in ("model", "none", MODEL_IMPLIED) for k in keys):
             found = [
-                Span(k.start, k.end or 0, k.concept, k.stance) for k in keys if k.start is not None
+                Span(k.start, k.end or 0, k.concept, k.stance)
+                for k in keys
+                if k.start is not None and k.origin == "model"
+            ]
+            implied = [
+                Implicit(k.concept, k.stance)
+                for k in keys
+                if k.origin == MODEL_IMPLIED and k.concept is not None
             ]
             measured.append(
-                ReviewedSentence(respondents[sid], sorted(found), final.spans, final.implicit)
+                ReviewedSentence(
+                    respondents[sid], sorted(found), final.spans, final.implicit, implied
+                )
             )
     return review_quality(measured) if measured else None
 

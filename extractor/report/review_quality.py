@@ -22,14 +22,16 @@ from extractor.types import Implicit, Span
 class ReviewedSentence(NamedTuple):
     """A reviewed sentence: who said it, what the model found, the reviewer's answer.
 
-    ``implied`` are traits the reviewer says the sentence states without words; they
-    count in the respondent table only (no words to compare).
+    ``implied`` are traits the reviewer says the sentence states without words, and
+    ``found_implied`` those the model found so; they count in the respondent table only
+    (no words to compare).
     """
 
     respondent: str
     found: Sequence[Span]
     reviewed: Sequence[Span]
     implied: Sequence[Implicit] = ()
+    found_implied: Sequence[Implicit] = ()
 
 
 @dataclass(frozen=True)
@@ -122,7 +124,7 @@ def _table(sentences: Sequence[ReviewedSentence], reviewed: bool) -> set[tuple[s
 def _traits(sentence: ReviewedSentence, reviewed: bool) -> list[Span | Implicit]:
     """Return the traits of the reviewer's answer (with implied ones) or of the model's."""
     if not reviewed:
-        return list(sentence.found)
+        return [*sentence.found, *sentence.found_implied]
     return [*sentence.reviewed, *sentence.implied]
 
 

@@ -239,3 +239,33 @@ def test_review_deleted_row_of_a_reviewed_sentence_is_bad(reviewed: tuple[Path, 
     wb.save(path)
     with Workspace.open(root) as ws, pytest.raises(ReviewRowsError, match="'S1-2' of this"):
         import_review(ws, path, reviewer="Amina")
+
+
+def test_review_model_trait_without_words_stays_implicit(tmp_path: Path) -> None:
+    # The sentence-level model finds earliness, wanted, in "We planted after the rains."
+    # (sentence 10) without words: stored, as the tagger stores it, over the whole sentence.
+    root = review_study(tmp_path / "study")
+    with Workspace.open(root) as ws:
+        text = next(s.text for s in store.sentences(ws.conn) if s.id == 10)
+        whole = {"start": 0, "end": len(text), "concept": "BTX:0006", "stance": "wanted"}
+        implied = whole | {"confidence": 0.7, "implicit": True}
+        rows = [
+            {
+                "sentence_id": sid,
+                "path_prob": 0.5,
+                "mentions": [implied] if sid == 10 else p.mentions,
+            }
+            for sid, p in store.predictions(ws.conn, VERSION).items()
+        ]
+        store.store_predictions(ws.conn, VERSION, rows)
+        path = export_review(ws, ReviewSelection()).path
+        sheet = openpyxl.load_workbook(path)["Review"]
+        cells = {c.value: c.column - 1 for c in sheet[row_of(path, "S10-i1")]}
+        # Its row shows no words (not the whole sentence as the trait's words), found by
+        # the model, and the reviewer's "correct" keeps it as a trait without words.
+        row = [c.value for c in sheet[row_of(path, "S10-i1")]]
+        assert text not in row[3:4] and "model" in cells and "earliness" in cells
+        edit(path, {("S10-i1", Col.VERDICT): "correct"})
+        import_review(ws, path, reviewer="Amina")
+        label = store.labels_by_annotator(ws.conn)[(10, "Amina")]
+        assert (label.spans, label.implicit) == ([], (Implicit("BTX:0006", "wanted"),))

@@ -2,7 +2,7 @@ import pytest
 from statsmodels.stats.proportion import proportion_confint
 
 from extractor.report.review_quality import ReviewedSentence, Share, review_quality
-from extractor.types import Span
+from extractor.types import Implicit, Span
 
 
 def test_share_interval_is_statsmodels_wilson() -> None:
@@ -50,3 +50,22 @@ def test_measured_on_says_one_respondent_and_sentence_in_the_singular() -> None:
     assert review_quality([two, two._replace(respondent="R3")]).measured_on == (
         "2 reviewed respondents (2 sentences)"
     )
+
+
+def test_model_traits_without_words_count_in_the_respondent_table_only() -> None:
+    # R1: the model found C1 liked with words and C3 wanted without; the reviewer kept
+    # both (C3 as a trait without words). No words to compare for C3, so the mention
+    # figures rest on C1 alone; the respondent table holds both, on either side.
+    sentences = [
+        ReviewedSentence(
+            "R1",
+            [Span(0, 4, "C1", "liked")],
+            [Span(0, 4, "C1", "liked")],
+            [Implicit("C3", "wanted")],
+            [Implicit("C3", "wanted")],
+        )
+    ]
+    q = review_quality(sentences)
+    assert (q.mention_precision.k, q.mention_precision.n) == (1, 1)
+    assert (q.table_precision.k, q.table_precision.n) == (2, 2)
+    assert (q.table_recall.k, q.table_recall.n) == (2, 2)
