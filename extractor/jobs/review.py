@@ -20,6 +20,7 @@ import numpy as np
 
 from extractor.errors import InputError
 from extractor.ingest.review import IMPLIED, MODEL_IMPLIED, RowKey, sentence_digest
+from extractor.jobs.inputs import question_codebook
 from extractor.jobs.tag import ensure_tagged
 from extractor.report.results import concept_frame
 from extractor.report.review import ReviewLine, write_review_workbook
@@ -257,6 +258,7 @@ def review_lines(
         )
     people = set(_respondents(ws, selection))
     found = _Found(ws, version)
+    wording = {key: code.text for key, code in question_codebook(ws).items() if code.text}
     kept = [s for s in store.sentences(ws.conn) if s.respondent in people]
     kept.sort(key=lambda s: (s.respondent or "", s.answer_id or 0, s.offset))
     lines: list[ReviewLine] = []
@@ -265,6 +267,9 @@ def review_lines(
         if _keeps(origin, spans, conf, selection):
             implicit = found.implicit(sentence.id)
             implied = MODEL_IMPLIED if origin == "model" else IMPLIED
+            asked = sentence.question or ""
+            if asked in wording:  # a survey field name: the codebook's wording, then the name
+                sentence = sentence._replace(question=f"{wording[asked]} ({asked})")
             lines.extend(
                 sentence_lines(
                     sentence,

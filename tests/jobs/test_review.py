@@ -1,9 +1,10 @@
 from pathlib import Path
 
+import openpyxl
 import pytest
 
 from extractor.errors import InputError
-from extractor.jobs.review import ReviewSelection, parse_where, review_lines
+from extractor.jobs.review import ReviewSelection, export_review, parse_where, review_lines
 from extractor.workspace.folder import Workspace
 from tests.review_study import VERSION, review_study
 
@@ -69,3 +70,17 @@ def test_parse_where_needs_an_equals_sign() -> None:
     assert parse_where("district = Ombala") == ("district", "Ombala")
     with pytest.raises(InputError, match="column=value"):
         parse_where("Ombala")
+
+
+def test_review_question_column_shows_the_codebook_wording(tmp_path: Path) -> None:
+    root = review_study(tmp_path / "study")
+    # The codebook names the stored question's wording (as for a survey field name).
+    (root / "questions.csv").write_text(
+        "question,text,direction\nWhy do you grow it?,Why do you grow this variety?,likes\n",
+        encoding="utf-8",
+    )
+    with Workspace.open(root) as ws:
+        path = export_review(ws, ReviewSelection()).path
+    sheet = openpyxl.load_workbook(path)["Review"]
+    asked = {row[1] for row in sheet.iter_rows(min_row=7, values_only=True) if row[0]}
+    assert asked == {"Why do you grow this variety? (Why do you grow it?)"}
