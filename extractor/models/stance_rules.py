@@ -30,7 +30,9 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     question's lean (a codebook direction, or the question's cue words); else neutral.
     Last, a trait read as liked in reply to a question that asks only for wishes ("what
     would you change?", "which variety would you try?") is wanted: the answer praises
-    what the respondent hopes for, not what the variety has.
+    what the respondent hopes for, not what the variety has. And weak words (see
+    :func:`cue_evidence`) that go against a question leaning to liked or disliked alone
+    give way to it.
 
     Args:
         features: Features from :func:`extractor.models.stance.stance_features`.
@@ -38,7 +40,7 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     Returns:
         ``(stance, confidence)`` with confidence in ``[0.4, 0.85]``.
     """
-    stance, conf = cue_rule(features)
+    stance, conf, weak = cue_evidence(features)
     g = features.get
     if g("prefer_other", 0) and stance != "wanted":
         # Asked for faults, a preference is a wish for something else: "why did you
@@ -50,57 +52,86 @@ def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
         # the variety hoped for: "one that does not give gas", "que no pierda el color".
         if stance == "liked" or (stance == "disliked" and g("wish_relative", 0)):
             return "wanted", 0.6
+    lean = _one_lean(features)
+    if weak and lean is not None and stance != lean and stance in ("liked", "disliked"):
+        # Weak words do not overrule the question: "what do you not like? - at the market
+        # they say it is cheap" is a fault (cheap for a seller), "why do you grow it? - the
+        # insects hardly touch it" a good. See :func:`cue_evidence` for what is weak.
+        return lean, 0.55
     return stance, conf
 
 
+def _one_lean(features: Mapping[str, float]) -> str | None:
+    """Return ``liked`` or ``disliked`` when the question leans that way alone, else None."""
+    g = features.get
+    if g("q_wanted", 0) or bool(g("q_liked", 0)) == bool(g("q_disliked", 0)):
+        return None
+    return "liked" if g("q_liked", 0) else "disliked"
+
+
 def cue_rule(features: Mapping[str, float]) -> tuple[str, float]:
-    """Return :func:`rule_stance`'s answer before the question's wish lean is applied.
+    """Return :func:`rule_stance`'s answer before the question's lean is applied.
 
     Without the ``q_*`` features: what the words around the mention alone decide.
     """
+    stance, conf, _ = cue_evidence(features)
+    return stance, conf
+
+
+def cue_evidence(features: Mapping[str, float]) -> tuple[str, float, bool]:
+    """Return :func:`cue_rule`'s answer and whether the words behind it are weak evidence.
+
+    Weak: a cue word inside the span itself (the trait's own value, "cheap", says
+    little of whether it is welcome: cheap is good to a buyer and bad to a seller), cue
+    words outside the span's clause (its contrast segment), and a comparison with no
+    evaluative word in the span's clause ("the harvest is small compared to Ruvaro").
+    Where such words went against a question that leans to liked or disliked alone, the
+    lean was right for 12 of 12 gold mentions of the demo and 7 of 8 of our maize labels
+    (real answers; DEVELOPERS.md, "Stance evidence").
+    """
     g = features.get
     if g("wanted_neg", 0) and not g("wanted_before", 0) and not g("wanted_clause", 0):
-        return "disliked", 0.6
+        return "disliked", 0.6, False
     if g("wanted_before", 0) or g("wanted_clause", 0):
-        return "wanted", 0.75
+        return "wanted", 0.75, False
     if g("excess_near", 0) or g("excess", 0):
-        return "disliked", 0.75 if g("excess_near", 0) else 0.65
+        return "disliked", (0.75 if g("excess_near", 0) else 0.65), False
     if g("span_resisted", 0):
-        return "liked", 0.7
+        return "liked", 0.7, False
     if g("span_negated_fault", 0):
-        return "liked", 0.7
+        return "liked", 0.7, False
     if g("span_negated_good", 0):
-        return "disliked", 0.7
+        return "disliked", 0.7, False
     score = g("clause_liked", 0) - g("clause_disliked", 0)
     if score:
-        return ("liked" if score > 0 else "disliked"), min(0.6 + 0.1 * abs(score), 0.85)
+        return ("liked" if score > 0 else "disliked"), min(0.6 + 0.1 * abs(score), 0.85), False
     if g("indifferent", 0):
         # "no importa el color", "rouge ou tacheté, peu importe", "it depends on the price":
         # the trait is named as not deciding anything, neither welcome nor a fault.
-        return "neutral", 0.6
+        return "neutral", 0.6, False
     own = g("span_good", 0) - g("span_fault", 0)
     if own:
-        return ("liked" if own > 0 else "disliked"), 0.6
+        return ("liked" if own > 0 else "disliked"), 0.6, True
     seg = g("seg_liked", 0) - g("seg_disliked", 0)
     if seg:
-        return ("liked" if seg > 0 else "disliked"), 0.55
+        return ("liked" if seg > 0 else "disliked"), 0.55, True
     if g("after_contrast", 0) or g("before_contrast", 0):
         if g("other_side_liked", 0):
-            return "disliked", 0.55
+            return "disliked", 0.55, False
         if g("other_side_disliked", 0):
-            return "liked", 0.55
+            return "liked", 0.55, False
     if g("span_negated", 0):
         if g("q_liked", 0) and not g("q_disliked", 0) and not g("q_wanted", 0):
             # Asked what is good about it, a trait said to be absent is a fault it lacks:
             # "why do you buy it? - it does not give gas".
-            return "liked", 0.55
-        return "disliked", 0.55
+            return "liked", 0.55, False
+        return "disliked", 0.55, False
     if g("comparison", 0) and g("span_before_marker", 0):
-        return ("disliked" if g("comparison_less", 0) else "liked"), 0.55
+        return ("disliked" if g("comparison_less", 0) else "liked"), 0.55, True
     for q, stance in (("q_wanted", "wanted"), ("q_disliked", "disliked"), ("q_liked", "liked")):
         if g(q, 0):
-            return stance, 0.5
-    return "neutral", 0.4
+            return stance, 0.5, False
+    return "neutral", 0.4, False
 
 
 def rule_proba(features: Mapping[str, float]) -> np.ndarray:
