@@ -23,7 +23,8 @@ CUE_CATEGORIES = (
     "resistance_pre", "resistance_post",
     "termination", "contrast", "clause_break", "excess", "comparative", "comparative_less",
     "comparison_marker", "coordinator", "question_liked", "question_disliked", "question_wanted",
-    "question_reason", "indifference", "preference", "relative", "restrictive",
+    "question_reason", "indifference", "preference", "relative", "restrictive", "conditional",
+    "condition",
 )  # fmt: skip
 """The categories a language section of the cue lexicon may hold."""
 

@@ -183,7 +183,29 @@ def _find_all(words: Sequence[str], lex: Lexicon) -> Matches:
                 for i, j in found[cat]
                 if not any(a <= i and j <= b and b - a > j - i for a, b in claims)
             ]
+    _conditional_praise(words, found)
     return found
+
+
+def _conditional_praise(words: Sequence[str], found: Matches) -> None:
+    """Turn a good word after a conditional copula into a wish, in place.
+
+    "It would be perfect", "ce serait parfait", "sería perfecto", "seria perfeito": the
+    conditional mood praises what is hoped for, not what is there (cue category
+    ``conditional``; the copula, then the good word at most two words on, in the same
+    clause). "I would recommend it" holds no copula and stays liked.
+    """
+    ends = [j for _, j in found.get("conditional", ())]
+    if not ends or not found.get("liked"):
+        return
+    kept: list[tuple[int, int]] = []
+    moved: list[tuple[int, int]] = []
+    for i, j in found["liked"]:
+        after = any(e <= i <= e + 2 and not PUNCT_BOUNDARY.intersection(words[e:i]) for e in ends)
+        (moved if after else kept).append((i, j))
+    if moved:
+        found["liked"] = kept
+        found["wanted"] = sorted([*found.get("wanted", ()), *moved])
 
 
 def _find_gapped(words: Sequence[str], lex: Lexicon, found: Matches) -> None:

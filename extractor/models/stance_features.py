@@ -72,7 +72,8 @@ def stance_features(
     excess (``excess``, ``excess_near``), contrast (``after_contrast``, ``before_contrast``,
     ``other_side_liked``, ``other_side_disliked``), comparison (``comparison``,
     ``comparison_less``, ``span_before_marker``, ``span_after_marker``), wishes
-    (``wanted_before``, ``wanted_clause``, ``wanted_neg``) and the question
+    (``wanted_before``, ``wanted_clause``, ``wanted_neg``; ``wanted_if`` for a wish after
+    a condition that holds the span) and the question
     (``q_liked``, ``q_disliked``, ``q_wanted``: from the codebook's direction when it
     has one, else from the cue words of the question's text). A cue word inside the span
     that is not negated marks it (``span_good``, ``span_fault``: "then they spoil",
@@ -132,6 +133,10 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
             elif seg_lo <= i and j <= seg_hi:
                 if cat == "wanted" and side == "before":
                     f["wanted_neg" if neg else "wanted_before"] += 1.0
+                elif cat == "wanted" and _in_condition(p, where):
+                    # The condition names what is wished for: "si elle restait tendre, ce
+                    # serait parfait", "if it kept longer, I would like it more".
+                    f["wanted_neg" if neg else "wanted_if"] += 1.0
                 elif cat != "wanted":
                     f["seg_" + (_other(cat) if neg else cat)] += 1.0
             elif (
@@ -142,6 +147,11 @@ def _cue_features(p: Parsed, where: _Where, f: _Features) -> set[str]:
                 # A wish reaches over a contrast ("I wish it were sweet, but also big").
                 f["wanted_neg" if neg else "wanted_before"] += 1.0
     return in_span
+
+
+def _in_condition(p: Parsed, where: _Where) -> bool:
+    """Return whether a condition word ("if", "si", "kama") opens the span's clause before it."""
+    return any(where.lo <= i < where.a for i, _ in p.matches.get("condition", ()))
 
 
 def _indifference_features(p: Parsed, where: _Where, f: _Features) -> None:

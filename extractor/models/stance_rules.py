@@ -18,8 +18,9 @@ from extractor.types import STANCES
 def rule_stance(features: Mapping[str, float]) -> tuple[str, float]:
     """Return a stance and a confidence from cue features alone (the cold-start answer).
 
-    The rules, first match wins: a negated wish is disliked; a wish before the span
-    or in its clause is wanted; excess is disliked; a span held off by a resistance
+    The rules, first match wins: a negated wish is disliked; a wish before the span,
+    in its clause, or after a condition that holds it ("si elle restait tendre, ce serait
+    parfait") is wanted; excess is disliked; a span held off by a resistance
     word ("drought tolerant") is liked; a negated fault word in the span
     is liked and a negated good word disliked; then the net polarity of cues in the
     clause, then of cue words inside the span ("then they spoil", "cozinha
@@ -90,9 +91,10 @@ def cue_evidence(features: Mapping[str, float]) -> tuple[str, float, bool]:
     (real answers; DEVELOPERS.md, "Stance evidence").
     """
     g = features.get
-    if g("wanted_neg", 0) and not g("wanted_before", 0) and not g("wanted_clause", 0):
+    wish = g("wanted_before", 0) or g("wanted_clause", 0) or g("wanted_if", 0)
+    if g("wanted_neg", 0) and not wish:
         return "disliked", 0.6, False
-    if g("wanted_before", 0) or g("wanted_clause", 0):
+    if wish:
         return "wanted", 0.75, False
     if g("excess_near", 0) or g("excess", 0):
         return "disliked", (0.75 if g("excess_near", 0) else 0.65), False

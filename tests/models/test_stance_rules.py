@@ -1,4 +1,4 @@
-"""Tests of extractor.models.stance_rules: weak evidence against the question's lean."""
+"""Tests of extractor.models.stance_rules: wishes in the conditional mood, weak evidence."""
 
 from __future__ import annotations
 
@@ -12,6 +12,80 @@ from extractor.types import Sentence, Span
 from tests import maize
 from tests.models.toy import CUES
 from tests.models.toy import features as _features
+
+# ------------------------------------------------------------------ conditional mood
+# A good word after a conditional copula praises what is hoped for, not what is there.
+# Grammar from memory: the English "would" conditional (Quirk et al., A Comprehensive
+# Grammar of the English Language, hypothetical conditions), the French conditionnel
+# ("ce serait parfait", Grevisse, Le Bon Usage), the Spanish condicional ("sería perfecto",
+# RAE, Nueva gramática), the Portuguese futuro do pretérito ("seria perfeito"), Swahili
+# -nge- ("ingekuwa nzuri"). Invented sentences about invented varieties.
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang"),
+    [
+        ("If they can make it stand the dry months it would be perfect.", "dry months", "en"),
+        ("It would be perfect if it cooked faster.", "cooked faster", "en"),
+        ("Ce serait parfait si elle cuisait plus vite.", "cuisait plus vite", "fr"),
+        ("Sería perfecto si se cocinara rápido.", "cocinara rápido", "es"),
+        ("Seria perfeito se cozinhasse rápido.", "cozinhasse rápido", "pt"),
+        ("Ingekuwa nzuri kama ingepika haraka.", "ingepika haraka", "sw"),
+    ],
+    ids=["en-would-be", "en-would-be-before", "fr-serait", "es-seria", "pt-seria", "sw-nge"],
+)
+def test_a_good_word_in_the_conditional_is_a_wish(text: str, term: str, lang: str) -> None:
+    assert rule_stance(_features(text, term, lang))[0] == "wanted"
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang"),
+    [
+        ("Si elle restait tendre, ce serait parfait.", "restait tendre", "fr"),
+        ("Si fuera más grande, sería perfecto.", "grande", "es"),
+        ("If it kept longer in the store, it would be great.", "kept longer", "en"),
+    ],
+    ids=["fr-si", "es-si", "en-if"],
+)
+def test_a_wish_after_a_condition_is_a_wish_for_what_the_condition_holds(
+    text: str, term: str, lang: str
+) -> None:
+    features = _features(text, term, lang)
+    assert features.get("wanted_if")
+    assert rule_stance(features)[0] == "wanted"
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang", "expected"),
+    [
+        ("I would recommend it, it cooks fast.", "cooks fast", "en", "liked"),
+        ("The yield is also good if rain comes on time.", "yield", "en", "liked"),
+        ("It cooks fast, that is perfect.", "cooks fast", "en", "liked"),
+    ],
+    ids=["en-would-without-copula", "en-if-after-the-span", "en-indicative"],
+)
+def test_the_indicative_and_a_condition_after_the_span_stay_as_they_were(
+    text: str, term: str, lang: str, expected: str
+) -> None:
+    features = _features(text, term, lang)
+    assert not features.get("wanted_if")
+    assert rule_stance(features)[0] == expected
+
+
+@pytest.mark.parametrize(
+    ("text", "term", "lang"),
+    [
+        ("Pourvu qu'elle résiste à la sécheresse.", "sécheresse", "fr"),
+        ("Quem me dera um grão maior.", "grão maior", "pt"),
+        ("Laiti ingepika haraka.", "ingepika haraka", "sw"),
+    ],
+    ids=["fr-pourvu-que", "pt-quem-me-dera", "sw-laiti"],
+)
+def test_optative_words_are_wishes(text: str, term: str, lang: str) -> None:
+    # Optative openers, from memory: French "pourvu que" + subjunctive, Portuguese "quem me
+    # dera", Swahili "laiti" ("if only").
+    assert rule_stance(_features(text, term, lang))[0] == "wanted"
+
 
 # ------------------------------------------------------------------ weak words, the question's lean
 
