@@ -10,7 +10,8 @@ Each missed gold triple and each false predicted triple is put in one class, jud
 its first mention in sentence order:
 
 * ``miss_wrong_stance`` / ``fp_wrong_stance``: the respondent has the concept in both sets,
-  with another stance;
+  with another stance (anywhere: a missed one lists what was predicted on its own mention,
+  ``predicted`` of words, concept and stance, empty when nothing overlaps it);
 * ``miss_no_span``: no predicted mention overlaps the gold mention;
 * ``miss_unlinked``: predicted mentions overlap it, none linked to a concept;
 * ``miss_linked_other``: an overlapping prediction is linked to another concept;
@@ -90,7 +91,17 @@ def classify(
         if triple in pred_seen:
             continue
         if triple[:2] in pred_pairs:
-            note("miss_wrong_stance", triple, i, span)
+            # What was predicted on this very mention: empty when the other stance comes
+            # from another of the respondent's mentions (a span or link loss here).
+            on = (
+                [
+                    (_words(sentences[i], [m]), m.concept, m.stance)
+                    for m in _overlapping(span, pred[i])
+                ]
+                if span is not None
+                else []
+            )
+            note("miss_wrong_stance", triple, i, span, predicted=on)
         elif span is None:
             note("miss_implicit_only", triple, i, span)
         else:
