@@ -167,10 +167,10 @@ def _print_run(report: RunReport, console: Console) -> None:
         print_notes(
             console,
             [
-                f"No trait was found in any of the {n} {tag} sentences: nothing in the "
-                f"concept list matches them and no label has taught the model {tag} yet. "
-                f"Label some of them (`traits label`), or add {tag} synonyms to the "
-                "concept list."
+                f"No trait was linked to a concept in any of the {n} {tag} sentences: "
+                f"nothing in the concept list matches them and no label has taught the "
+                f"model {tag} yet. Label some of them (`traits label`), or add {tag} "
+                "synonyms to the concept list."
             ],
         )
     print_ungrouped(console, report.export.ungrouped)

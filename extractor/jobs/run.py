@@ -94,8 +94,9 @@ def silent_languages(ws: Workspace, version: str) -> tuple[tuple[str, int], ...]
     """Return the languages (tag, sentences) in whose sentences no trait was found.
 
     A language counts when it has :data:`MIN_SILENT` sentences or more and neither the
-    model version nor a person's label has a trait in any of them: a language the concept
-    list has no synonyms in, and no label has taught, is read as holding no trait at all.
+    model version nor a person's label links a trait to a concept in any of them (an
+    unlinked mention fills no cell of the workbook): a language the concept list has no
+    synonyms in, and no label has taught, is read as holding no trait at all.
     """
     predicted = store.predictions(ws.conn, version)
     labels = store.current_labels(ws.conn)
@@ -105,8 +106,8 @@ def silent_languages(ws: Workspace, version: str) -> tuple[tuple[str, int], ...]
         tag = primary_subtag(sentence.lang)
         total[tag] = total.get(tag, 0) + 1
         prediction, label = predicted.get(sentence.id), labels.get(sentence.id)
-        if (prediction is not None and prediction.mentions) or (
-            label is not None and (label.spans or label.implicit)
+        if (prediction is not None and any(m.get("concept") for m in prediction.mentions)) or (
+            label is not None and (any(s.concept for s in label.spans) or label.implicit)
         ):
             found.add(tag)
     return tuple(

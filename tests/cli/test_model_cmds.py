@@ -164,5 +164,5 @@ def test_run_names_a_language_where_no_trait_was_found(
     code, out = run("-w", str(study), "run")
     flat = " ".join(out.split())
     assert code == 0, out
-    assert "note: No trait was found in any of the 30 sw sentences" in flat
+    assert "note: No trait was linked to a concept in any of the 30 sw sentences" in flat
     assert "Label some of them (`traits label`), or add sw synonyms" in flat

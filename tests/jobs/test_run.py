@@ -248,16 +248,18 @@ def test_silent_languages_are_those_where_neither_model_nor_person_found_a_trait
         add_interviews(ws, [tmp_path / "answers.csv"])
         sentences = store.sentences(ws.conn)
         store.add_model(ws.conn, "v1", "models/v1", {})
-        mention = {"start": 3, "end": 13, "concept": None, "stance": "liked"}
+        mention = {"start": 3, "end": 13, "concept": "CSV:01", "stance": "liked"}
+        unlinked = mention | {"concept": None}
         store.store_predictions(
             ws.conn,
             "v1",
             [
-                {"sentence_id": s.id, "mentions": [mention] if s.lang == "en" else []}
+                {"sentence_id": s.id, "mentions": [mention if s.lang == "en" else unlinked]}
                 for s in sentences
             ],
         )
-        # pt has too few sentences to say anything of; en has the model's mentions
+        # pt has too few sentences to say anything of; en has the model's linked mentions,
+        # sw unlinked ones only, which fill no cell of the workbook
         assert run_job.silent_languages(ws, "v1") == (("sw", 12),)
         first_sw = next(s for s in sentences if s.lang == "sw")
         store.add_label(ws.conn, first_sw.id, [Span(0, 6, "CSV:01", "disliked")], "ana")
