@@ -69,9 +69,13 @@ class GroupChart:
         return f"{stance}_by_{re.sub(r'[^A-Za-z0-9]+', '_', self.grouping).strip('_').lower()}"
 
 
-def _title(outcome: str, grouping: str | None) -> str:
+def _title(outcome: str, grouping: str | None, shown: int = 0, named: int = 0) -> str:
+    """Return a chart's title; one that shows ``shown`` of ``named`` traits says so."""
     verb = CHART_OUTCOMES[outcome]
     base = f"Share of individual respondents {verb} each trait"
+    if named > shown:
+        done = {"like": "liked", "dislike": "disliked", "want": "wanted"}[outcome]
+        base += f" (the {shown} most often {done}, of {named})"
     return f"{base}, by {grouping}" if grouping else base
 
 
@@ -85,6 +89,7 @@ def chart_figures(
     """
     part = summary.loc[summary["Outcome"] == outcome]
     overall = part.loc[(part["Grouping"] == ALL_INDIVIDUALS) & (part["Respondents"] > 0)]
+    named = len(overall)
     overall = overall.sort_values(["Share", "Concept ID"], ascending=[False, True]).head(top)
     if grouping is None:
         rows = overall.assign(
@@ -119,7 +124,7 @@ def chart_figures(
         f"{t} ({c})" if isinstance(t, str) else c
         for t, c in zip(data["Trait"], data["Concept ID"], strict=True)
     ]
-    return GroupChart(outcome, grouping, _title(outcome, grouping), data)
+    return GroupChart(outcome, grouping, _title(outcome, grouping, len(overall), named), data)
 
 
 def all_charts(summary: pd.DataFrame, groupings: list[str]) -> list[GroupChart]:
