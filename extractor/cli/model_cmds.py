@@ -136,12 +136,18 @@ def _print_run(report: RunReport, console: Console) -> None:
             f"{'sentence' if learned == 1 else 'sentences'} ({previous.labeled} for "
             f"{previous.version})."
         )
-    for path, kind in report.lists_in_interviews:
+    for path, kind, named in report.lists_in_interviews:
         what = "concept list" if kind == "trait" else "variety list"
-        print_notes(
-            console,
-            [f"{path} is the workspace's {what}, so it is not read as interviews."],
-        )
+        said = f"{path} is the workspace's {what}, so it is not read as interviews."
+        if not named:  # imported by hand: a run reads changes only of the list traits.toml names
+            key = "concepts" if kind == "trait" else "varieties"
+            option = "" if kind == "trait" else " --varieties"
+            said += (
+                f" `traits run` imports changes only of the list traits.toml names ({key} "
+                f"under [workspace]): import changes to this one with `traits concepts "
+                f"import {path}{option}`, or name it there."
+            )
+        print_notes(console, [said])
     if report.intake is not None:  # what `traits add` says of new files
         for file_report in report.intake.files:
             print_warnings(console, file_report.warnings)

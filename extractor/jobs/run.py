@@ -65,9 +65,10 @@ class RunReport:
     one, which was then reused (``train`` describes it, ``previous_version`` is None).
     ``intake`` is what `traits add` would have said of the files read, when any brought
     new answers (their languages, those outside the study's, uncoded questions).
-    ``lists_in_interviews`` are the concept or variety lists (path, kind) found in the
-    interviews folder and so not read as interviews. ``silent`` are the languages in
-    whose sentences no trait was found (see :func:`silent_languages`).
+    ``lists_in_interviews`` are the concept or variety lists (path, kind, whether
+    traits.toml names it) found in the interviews folder and so not read as interviews.
+    ``silent`` are the languages in whose sentences no trait was found (see
+    :func:`silent_languages`).
     """
 
     files: Sequence[FileReport]
@@ -83,7 +84,7 @@ class RunReport:
     first_run: bool = False
     intake: AddReport | None = None
     silent: tuple[tuple[str, int], ...] = ()
-    lists_in_interviews: tuple[tuple[str, str], ...] = ()
+    lists_in_interviews: tuple[tuple[str, str, bool], ...] = ()
 
 
 MIN_SILENT = 10
@@ -264,7 +265,14 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         first_run=previous is None,
         intake=intake,
         silent=silent_languages(ws, done.train.version),
-        lists_in_interviews=tuple((stored_path(ws, p), kind) for p, kind in lists.items()),
+        lists_in_interviews=tuple(
+            (
+                stored_path(ws, p),
+                kind,
+                p.resolve() == ws.path("concepts" if kind == "trait" else "varieties").resolve(),
+            )
+            for p, kind in lists.items()
+        ),
     )
 
 

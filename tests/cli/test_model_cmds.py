@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import pandas as pd
@@ -132,6 +133,11 @@ def test_run_leaves_imported_lists_in_the_interviews_folder_out_of_the_interview
     assert "First run: 6 respondents" in flat
     assert "interviews/trait_list.csv is the workspace's concept list" in flat
     assert "interviews/my_varieties.csv is the workspace's variety list" in flat
+    # Neither is the list traits.toml names, so a run would not import an edit of them.
+    assert (
+        "import changes to this one with `traits concepts import interviews/trait_list.csv`" in flat
+    )
+    assert "`traits concepts import interviews/my_varieties.csv --varieties`" in flat
 
 
 def test_export_names_the_respondent_columns_it_does_not_compare(study: Path) -> None:
@@ -166,3 +172,24 @@ def test_run_names_a_language_where_no_trait_was_found(
     assert code == 0, out
     assert "note: No trait was linked to a concept in any of the 30 sw sentences" in flat
     assert "Label some of them (`traits label`), or add sw synonyms" in flat
+
+
+def test_run_imports_a_list_traits_toml_names_in_interviews_and_reads_no_answers_from_it(
+    study: Path,
+) -> None:
+    (study / "concepts.csv").rename(study / "interviews" / "trait_list.csv")
+    settings = study / "traits.toml"
+    settings.write_text(
+        settings.read_text(encoding="utf-8").replace(
+            'concepts = "concepts.csv"', 'concepts = "interviews/trait_list.csv"'
+        ),
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(study), "run")
+    flat = " ".join(out.split())
+    assert code == 0, out
+    assert "First run: 6 respondents" in flat
+    code, status = run("-w", str(study), "status", "--json")
+    assert json.loads(status)["concepts"] == 8  # the list was imported by the run
+    assert "interviews/trait_list.csv is the workspace's concept list" in flat
+    assert "imports changes only" not in flat  # the run imports this one itself
