@@ -17,6 +17,14 @@ matches by construction, so a combiner fitted on them learns that nothing but an
 match is right and leaves most new phrasings and other languages unlinked (DEVELOPERS.md,
 "Concept lists in one language"). The best candidate below ``threshold`` leaves the
 mention unlinked; :func:`choose_threshold` measures a threshold on held-out gold links.
+
+A link of a one-word mention must also hold for the phrase the word makes with each
+adjacent content word (:func:`neighbour_phrases`): where the linker gives that phrase
+the same concept with a probability below ``phrase_threshold``, the mention stays
+unlinked. A list alias used in another sense, or met by a surface accident, loses its
+link once its neighbour is read with it ("le meto sal", "perder plata", "palo cuesta",
+"red climber"), while a trait word keeps it ("haricot grimpant", "stakes cost"); see
+DEVELOPERS.md, "Alias words in another sense".
 """
 
 from __future__ import annotations
@@ -45,6 +53,8 @@ from extractor.models.link_scoring import (
 )
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
 from extractor.nlp import pretrained
+from extractor.nlp.nontrait import is_function_word
+from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
 
 MIN_COMBINER_EXAMPLES = 30
@@ -62,6 +72,12 @@ about 0.2, below the threshold: a near neighbour that is no translation
 ("sequía"/"drought" is 0.73) needs a second score's support. It applies only below
 :data:`MIN_COMBINER_EXAMPLES` links by the analyst.
 """
+
+PHRASE_THRESHOLD = 0.5
+"""Probability below which a one-word link does not hold for the word with its neighbour.
+
+One half: a calibrated probability below it says the phrase is more likely not the
+concept (chosen by measurement; DEVELOPERS.md, "Alias words in another sense")."""
 
 _FORMAT = "trait-extractor/linker/1"
 """Files written before the semantic score hold three weights; they load with a semantic
@@ -97,6 +113,9 @@ class ConceptLinker(BaseEstimator):
         seed: Random seed of the fold split.
         space: The pretrained space of the semantic score (a name of
             :data:`extractor.nlp.pretrained.SPACES`; ``"none"``: no semantic score).
+        phrase_threshold: Probability the phrase of a one-word mention and an adjacent
+            content word must keep for the mention's concept (module docstring); 0
+            turns the check off.
     """
 
     def __init__(
@@ -107,12 +126,14 @@ class ConceptLinker(BaseEstimator):
         folds: int = 5,
         seed: int = 0,
         space: str = pretrained.NONE,
+        phrase_threshold: float = PHRASE_THRESHOLD,
     ) -> None:
         self.threshold = threshold
         self.C = C
         self.folds = folds
         self.seed = seed
         self.space = space
+        self.phrase_threshold = phrase_threshold
 
     def fit(
         self,
@@ -254,7 +275,40 @@ class ConceptLinker(BaseEstimator):
             best = scored[0] if scored else (None, 0.0)
             concept = best[0] if best[1] >= self.threshold else None
             results.append(LinkResult(concept, best[1], scored))
+        if self.phrase_threshold > 0:
+            results = self._hold_in_phrases(items, results, gold)
         return results
+
+    def _hold_in_phrases(
+        self,
+        items: Sequence[tuple[Sentence, Span]],
+        results: list[LinkResult],
+        gold: Sequence[str | None] | None,
+    ) -> list[LinkResult]:
+        """Unlink one-word mentions whose concept the phrase with a neighbour does not keep.
+
+        The probability of the unlinked mention becomes the lowest the phrases give its
+        concept; its candidates stay as they were.
+        """
+        checks: list[tuple[int, Sentence, Span]] = []
+        for i, ((sentence, span), result) in enumerate(zip(items, results, strict=True)):
+            if result.concept is None or (gold is not None and gold[i] is not None):
+                continue
+            checks += [(i, sentence, wide) for wide in neighbour_phrases(sentence, span)]
+        if not checks:
+            return results
+        lowest: dict[int, float] = {}
+        cands = self.scorer_.candidates([(sentence, wide) for _, sentence, wide in checks])
+        for (i, _, _), scores in zip(checks, cands, strict=True):
+            concept = results[i].concept
+            held = combine(self.weights_, scores[concept]) if concept in scores else 0.0
+            lowest[i] = min(lowest.get(i, 1.0), held)
+        return [
+            LinkResult(None, lowest[i], r.candidates)
+            if lowest.get(i, 1.0) < self.phrase_threshold
+            else r
+            for i, r in enumerate(results)
+        ]
 
     def link(self, sentence: Sentence, span: Span, gold: str | None = None) -> LinkResult:
         """Link one mention; a ``gold`` concept from the analyst always wins.
@@ -312,6 +366,30 @@ class ConceptLinker(BaseEstimator):
         weights = [float(w) for w in meta["weights"]]
         linker.weights_ = weights + [0.0] * (len(DEFAULT_WEIGHTS) - len(weights))
         return linker
+
+
+def neighbour_phrases(sentence: Sentence, span: Span) -> list[Span]:
+    """Return the span widened by each adjacent content word, when the span is one word.
+
+    A content word is a token with a letter that is no stop word or verb of liking
+    (:func:`extractor.nlp.nontrait.is_function_word`); punctuation between stops the
+    widening, since punctuation is a token of its own. Both sides are read, whatever
+    the language's word order: a modifier comes before its noun in English ("sweet
+    potatoes") and after it in French, Spanish, Portuguese and Swahili ("patate douce").
+    """
+    tokens = tokenize(sentence.text, sentence.lang or "xx")
+    inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
+    if len(inside) != 1:
+        return []
+    k = inside[0]
+    out = []
+    for j in (k - 1, k + 1):
+        if 0 <= j < len(tokens):
+            start, end = tokens[j]
+            word = sentence.text[start:end]
+            if any(c.isalpha() for c in word) and not is_function_word(word, sentence.lang):
+                out.append(Span(min(span.start, start), max(span.end, end)))
+    return out
 
 
 # ------------------------------------------------------------------ threshold

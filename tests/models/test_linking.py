@@ -219,13 +219,14 @@ def test_load_missing_raises(tmp_path: Path) -> None:
 def test_clone_gives_an_unfitted_linker_with_the_same_params(cold: ConceptLinker) -> None:
     # scikit-learn's clone is the outside reference for the estimator contract: it
     # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
-    linker = ConceptLinker(threshold=0.4, C=2.0, folds=3, seed=7)
+    linker = ConceptLinker(threshold=0.4, C=2.0, folds=3, seed=7, phrase_threshold=0.3)
     assert clone(linker).get_params() == {
         "C": 2.0,
         "folds": 3,
         "seed": 7,
         "threshold": 0.4,
         "space": "none",
+        "phrase_threshold": 0.3,
     }
     assert cold.is_fitted and not clone(cold).is_fitted
 
