@@ -24,7 +24,9 @@ the same concept with a probability below ``phrase_threshold``, the mention stay
 unlinked. A list alias used in another sense, or met by a surface accident, loses its
 link once its neighbour is read with it ("le meto sal", "perder plata", "palo cuesta",
 "red climber"), while a trait word keeps it ("haricot grimpant", "stakes cost"); see
-DEVELOPERS.md, "Alias words in another sense".
+DEVELOPERS.md, "Alias words in another sense". The phrase is never an alias, so what
+keeps its link is the context classifier (and the pretrained space): a concept the
+classifier has no linked example of (the analyst's or the dictionary's) is not checked.
 """
 
 from __future__ import annotations
@@ -275,7 +277,7 @@ class ConceptLinker(BaseEstimator):
             best = scored[0] if scored else (None, 0.0)
             concept = best[0] if best[1] >= self.threshold else None
             results.append(LinkResult(concept, best[1], scored))
-        if self.phrase_threshold > 0:
+        if self.phrase_threshold > 0 and self.scorer_.context is not None:
             results = self._hold_in_phrases(items, results, gold)
         return results
 
@@ -287,12 +289,16 @@ class ConceptLinker(BaseEstimator):
     ) -> list[LinkResult]:
         """Unlink one-word mentions whose concept the phrase with a neighbour does not keep.
 
+        Only concepts the context classifier has seen linked are checked: for another,
+        nothing but the alias's spelling speaks for it, and no phrase has that spelling.
+
         The probability of the unlinked mention becomes the lowest the phrases give its
         concept; its candidates stay as they were.
         """
+        known = set(self.scorer_.context_classes)
         checks: list[tuple[int, Sentence, Span]] = []
         for i, ((sentence, span), result) in enumerate(zip(items, results, strict=True)):
-            if result.concept is None or (gold is not None and gold[i] is not None):
+            if result.concept not in known or (gold is not None and gold[i] is not None):
                 continue
             checks += [(i, sentence, wide) for wide in neighbour_phrases(sentence, span)]
         if not checks:

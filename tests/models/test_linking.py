@@ -15,12 +15,17 @@ from extractor.errors import InputError, ModelError, NotFittedError
 from extractor.models.link_scoring import Scorer
 from extractor.models.linking import (
     DEFAULT_WEIGHTS,
+    PHRASE_THRESHOLD,
     ConceptLinker,
     choose_threshold,
     link_scores,
     linking_quality,
+    neighbour_phrases,
 )
+from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
+from tests import maize
 from tests.models.toy import ALIASES
 from tests.models.toy import mention as _mention
 
@@ -281,3 +286,93 @@ def test_dictionary_links_lend_no_words_as_forms_but_the_analysts_do() -> None:
     from_analyst = ConceptLinker().fit(link, aliases, gold_examples=1)
     assert from_analyst.example_forms_ == [("TX:10", "amarillo", "es")]
     assert from_analyst.scorer_.fuzzy(["amarillo"])[0][0] == pytest.approx(1.0)
+
+
+@pytest.mark.parametrize(
+    ("text", "word", "lang", "phrases"),
+    [
+        ("We eat with sweet potatoes.", "sweet", "en", ["sweet potatoes"]),
+        ("Je la cuis avec les feuilles de patate douce.", "douce", "fr", ["patate douce"]),
+        ("Lo hago en la olla, le meto sal y ya.", "sal", "es", ["meto sal"]),
+        ("Comemos com batata doce.", "doce", "pt", ["batata doce"]),
+        ("Tunakula na viazi vitamu.", "vitamu", "sw", ["viazi vitamu"]),
+        ("I only sell seed, fertiliser and sprays.", "seed", "en", ["sell seed"]),
+        ("The taste is good.", "taste", "en", []),
+        ("The cooking time is short.", "cooking time", "en", []),
+    ],
+    ids=["en-after", "fr-before", "es-verb", "pt-before", "sw-before", "comma", "stop", "two"],
+)
+def test_neighbour_phrases_take_each_adjacent_content_word(
+    text: str, word: str, lang: str, phrases: list[str]
+) -> None:
+    sentence, span = _mention(text, word, lang)
+    assert [text[w.start : w.end] for w in neighbour_phrases(sentence, span)] == phrases
+
+
+_PLATE = [
+    ("TX:05", "plato", "El grano se ve lindo en el plato.", "es"),
+    ("TX:05", "plate", "It looks nice on the plate with rice.", "en"),
+    ("TX:04", "taste", "The taste is good when it is fresh.", "en"),
+]
+
+
+def _plate_linker(phrase_threshold: float = PHRASE_THRESHOLD) -> ConceptLinker:
+    examples = list(_examples(4))
+    for n in range(4):
+        for concept, term, text, lang in _PLATE:
+            sentence, span = _mention(f"{'Yes. ' * n}{text}", term, lang)
+            examples.append((sentence, span, concept))
+    aliases = [*ALIASES, ("TX:05", "plato", "es"), ("TX:05", "plate", "en")]
+    aliases.append(("TX:04", "taste", "en"))
+    return ConceptLinker(phrase_threshold=phrase_threshold).fit(examples, aliases)
+
+
+def test_one_word_link_that_the_phrase_does_not_keep_is_unlinked() -> None:
+    # "plata" (money) meets the alias "plato" (plate) by its spelling alone; read with
+    # its neighbour ("perder plata") the phrase is no longer the plate's.
+    mention = _mention("El gorgojo me hace perder plata.", "plata", "es")
+    unchecked = _plate_linker(phrase_threshold=0.0).link(*mention)
+    assert unchecked.concept == "TX:05"
+    checked = _plate_linker().link(*mention)
+    assert checked.concept is None
+    assert checked.probability < 0.5
+    assert checked.candidates == unchecked.candidates
+
+
+def test_phrase_check_leaves_lone_words_gold_and_unseen_concepts() -> None:
+    linker = _plate_linker()
+    lone = linker.link(*_mention("Se ve lindo en el plato.", "plato", "es"))
+    assert lone.concept == "TX:05"  # no content word beside it: nothing to check
+    gold = linker.link(*_mention("El gorgojo me hace perder plata.", "plata", "es"), gold="TX:05")
+    assert gold.concept == "TX:05"
+    # TX:06 has an alias but no linked example: the context classifier cannot read it.
+    aliases = [*ALIASES, ("TX:06", "sweet", "en")]
+    unseen = ConceptLinker().fit(_examples(4), aliases)
+    assert "TX:06" not in unseen.scorer_.context_classes
+    assert unseen.link(*_mention("We eat with sweet potatoes.", "sweet")).concept == "TX:06"
+
+
+@pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
+def test_phrase_check_keeps_every_labelled_maize_link() -> None:
+    # Real farmer answers (maize concept-testing data, CC BY 4.0; 4,800 English answers)
+    # and our labels on 300 of them (tests/maize.py): a linker fitted on the dictionary's
+    # links in all answers, as at 0 labels, links the labelled mentions; the phrase
+    # check must not take away a right link (111 of the 406 mentions are one word).
+    loaded = maize.load_workspace()
+    assert loaded is not None
+    corpus, labelled, aliases = loaded
+    dictionary = build_dictionary(aliases)
+    links = [(s, m, m.concept) for s in corpus for m in dictionary.match(s.text, s.lang)]
+    items = [(corpus[g["row"]], Span(**sp)) for g in labelled for sp in g["spans"]]
+    gold = [span.concept for _, span in items]
+    one_word = [
+        sum(1 for a, b in tokenize(s.text, s.lang) if a < sp.end and b > sp.start) == 1
+        for s, sp in items
+    ]
+    assert sum(one_word) > 100
+    plain = ConceptLinker(phrase_threshold=0.0).fit(links, aliases, gold_examples=0)
+    checked = ConceptLinker().fit(links, aliases, gold_examples=0)
+    right_plain = [r.concept == g for r, g in zip(plain.link_many(items), gold, strict=True)]
+    right_checked = [r.concept == g for r, g in zip(checked.link_many(items), gold, strict=True)]
+    assert sum(right_plain) > 300
+    assert right_checked == right_plain
