@@ -22,8 +22,9 @@ A link of a one-word mention must also hold for the phrase the word makes with e
 adjacent content word (:func:`neighbour_phrases`): where the linker gives that phrase
 the same concept with a probability below ``phrase_threshold``, the mention stays
 unlinked. A list alias used in another sense, or met by a surface accident, loses its
-link once its neighbour is read with it ("le meto sal", "perder plata", "palo cuesta",
-"red climber"), while a trait word keeps it ("haricot grimpant", "stakes cost"); see
+link once its neighbour is read with it ("perder plata", "palo cuesta", "variété
+rapide" taken for a market term), while a trait word keeps it ("haricot grimpant",
+"stakes cost"); a neighbour that is itself a word of the concept list is not read. See
 DEVELOPERS.md, "Alias words in another sense". The phrase is never an alias, so what
 keeps its link is the context classifier (and the pretrained space): a concept the
 classifier has no linked example of (the analyst's or the dictionary's) is not checked.
@@ -55,6 +56,7 @@ from extractor.models.link_scoring import (
 )
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
 from extractor.nlp import pretrained
+from extractor.nlp.dictionary import stem_word
 from extractor.nlp.nontrait import is_function_word
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
@@ -181,6 +183,7 @@ class ConceptLinker(BaseEstimator):
             )
         self.aliases_ = alias_list
         self.example_forms_ = example_forms(own)
+        self._list_words_by_lang: dict[str, frozenset[str]] = {}
         # Computed once: the combiner's folds reuse them.
         features = [context_features(s, sp) for s, sp, _ in examples]
         concepts = [c for _, _, c in examples]
@@ -291,6 +294,8 @@ class ConceptLinker(BaseEstimator):
 
         Only concepts the context classifier has seen linked are checked: for another,
         nothing but the alias's spelling speaks for it, and no phrase has that spelling.
+        A neighbour that is itself a word of the concept list is not read: it brings a
+        trait of its own ("Store Food"), not another sense of the mention's word.
 
         The probability of the unlinked mention becomes the lowest the phrases give its
         concept; its candidates stay as they were.
@@ -300,7 +305,13 @@ class ConceptLinker(BaseEstimator):
         for i, ((sentence, span), result) in enumerate(zip(items, results, strict=True)):
             if result.concept not in known or (gold is not None and gold[i] is not None):
                 continue
-            checks += [(i, sentence, wide) for wide in neighbour_phrases(sentence, span)]
+            listed = self._list_words(sentence.lang)
+            for wide in neighbour_phrases(sentence, span):
+                start, end = (
+                    (wide.start, span.start) if wide.start < span.start else (span.end, wide.end)
+                )
+                if stem_word(sentence.text[start:end].strip(), sentence.lang) not in listed:
+                    checks.append((i, sentence, wide))
         if not checks:
             return results
         lowest: dict[int, float] = {}
@@ -315,6 +326,17 @@ class ConceptLinker(BaseEstimator):
             else r
             for i, r in enumerate(results)
         ]
+
+    def _list_words(self, lang: str) -> frozenset[str]:
+        """Return the keys of every word of the aliases, keyed with ``lang``'s stemmer."""
+        cache = self._list_words_by_lang
+        if lang not in cache:
+            cache[lang] = frozenset(
+                stem_word(text[a:b], lang)
+                for _, text, alias_lang in self.aliases_
+                for a, b in tokenize(text, alias_lang or "xx")
+            )
+        return cache[lang]
 
     def link(self, sentence: Sentence, span: Span, gold: str | None = None) -> LinkResult:
         """Link one mention; a ``gold`` concept from the analyst always wins.
@@ -366,6 +388,7 @@ class ConceptLinker(BaseEstimator):
         linker = cls(**meta["params"])
         linker.aliases_ = [tuple(a) for a in meta["aliases"]]
         linker.example_forms_ = [tuple(a) for a in meta["example_forms"]]
+        linker._list_words_by_lang = {}
         linker.scorer_ = Scorer.build(
             linker.aliases_ + linker.example_forms_, context, linker.space
         )

@@ -352,6 +352,16 @@ def test_phrase_check_leaves_lone_words_gold_and_unseen_concepts() -> None:
     assert unseen.link(*_mention("We eat with sweet potatoes.", "sweet")).concept == "TX:06"
 
 
+def test_phrase_check_does_not_read_a_neighbour_of_the_concept_list() -> None:
+    # "taste" is an alias of another concept: beside it, "plata" is not read in a phrase.
+    mention = _mention("Es la plata taste.", "plata", "es")
+    unchecked = _plate_linker(phrase_threshold=0.0).link(*mention)
+    assert unchecked.concept == "TX:05"
+    assert _plate_linker().link(*mention) == unchecked
+    alone = _mention("El gorgojo me hace perder plata.", "plata", "es")
+    assert _plate_linker().link(*alone).concept is None
+
+
 @pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
 def test_phrase_check_keeps_every_labelled_maize_link() -> None:
     # Real farmer answers (maize concept-testing data, CC BY 4.0; 4,800 English answers)
