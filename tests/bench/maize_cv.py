@@ -63,31 +63,32 @@ def scores(
     return out
 
 
-def main() -> None:
-    """Cross-validate on our maize labels and print the figures as JSON."""
-    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    parser.add_argument("--folds", type=int, default=5)
-    parser.add_argument("--seed", type=int, default=0)
-    args = parser.parse_args()
+Predicted = list[list[Span]]
+
+
+def predict(folds: int, seed: int) -> tuple[list[Sentence], Predicted, Predicted, Predicted]:
+    """Return the labelled answers, their gold spans, and the predictions at 0 labels and by fold.
+
+    The ``i``-th entry of each list is that of the ``i``-th labelled answer; the fold
+    predictions are pooled over ``folds`` folds by respondent (none when ``folds`` is 0).
+    """
     loaded = maize.load_workspace()
     if loaded is None:
         sys.exit(maize.SKIP_REASON)
     corpus, labelled, aliases = loaded
     params = {"questions": codebook_params(maize.CODEBOOK)}
-    clusters = learn_clusters([(s.text, s.lang) for s in corpus], seed=args.seed)
+    clusters = learn_clusters([(s.text, s.lang) for s in corpus], seed=seed)
     gold = [(corpus[g["row"]], [Span(**sp) for sp in g["spans"]]) for g in labelled]
     sentences = [s for s, _ in gold]
-    gold_spans = [list(spans) for _, spans in gold]
 
     def as_spans(mentions: Any) -> list[Span]:
         return [Span(m.start, m.end, m.concept, m.stance) for m in mentions]
 
-    started = time.perf_counter()
     cold = TraitModels(stance_params=params).fit([], corpus, aliases, clusters=clusters)
     zero = [as_spans(p.mentions) for p in cold.predict(sentences)]
     pooled: dict[int, list[Span]] = {}
-    folds = group_folds([s.respondent or "" for s in sentences], args.folds, args.seed)
-    for fold in folds:
+    groups = [s.respondent or "" for s in sentences]
+    for fold in group_folds(groups, folds, seed) if folds else []:
         held = set(fold)
         train = [g for i, g in enumerate(gold) if i not in held]
         # The held-out answers stay in the corpus, as unlabelled sentences do in a
@@ -95,16 +96,24 @@ def main() -> None:
         models = TraitModels(stance_params=params).fit(train, corpus, aliases, clusters=clusters)
         predicted = models.predict([sentences[i] for i in fold])
         pooled.update((i, as_spans(p.mentions)) for i, p in zip(fold, predicted, strict=True))
-    labels = [len(gold) - len(f) for f in folds]
+    gold_spans = [list(spans) for _, spans in gold]
+    return sentences, gold_spans, zero, [pooled[i] for i in sorted(pooled)]
+
+
+def main() -> None:
+    """Cross-validate on our maize labels and print the figures as JSON."""
+    parser = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    parser.add_argument("--folds", type=int, default=5)
+    parser.add_argument("--seed", type=int, default=0)
+    args = parser.parse_args()
+    started = time.perf_counter()
+    sentences, gold_spans, zero, pooled = predict(args.folds, args.seed)
     figures = {
-        "answers": len(corpus),
-        "labelled_answers": len(gold),
+        "answers": len(maize.load_answers() or ()),
+        "labelled_answers": len(sentences),
         "gold_spans": sum(len(s) for s in gold_spans),
         "zero_labels": scores(sentences, gold_spans, zero),
-        f"{args.folds}_fold_by_respondent": scores(
-            sentences, gold_spans, [pooled[i] for i in range(len(gold))]
-        ),
-        "labelled_answers_per_fold": labels,
+        f"{args.folds}_fold_by_respondent": scores(sentences, gold_spans, pooled),
         "seconds": round(time.perf_counter() - started, 1),
     }
     print(json.dumps(figures, indent=1))
