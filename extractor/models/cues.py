@@ -11,6 +11,7 @@ rules that read stance from the cue features before any labels exist are in
 
 from __future__ import annotations
 
+import itertools
 from collections import defaultdict
 from collections.abc import Mapping, Sequence
 from functools import lru_cache
@@ -362,17 +363,48 @@ def _negation(
         for i, _, rank, _, _ in claimed:
             if rank == 0:
                 relay[i] = True
-    for i, j, rank, step, ends in claimed:
+    reach = {i: _reach(i, j, step, ends, scope, relay if rank == 0 else None)
+             for i, j, rank, step, ends in claimed}  # fmt: skip
+    # A plain negation that meets a resistance word negates that word's predicate: it
+    # ends there and reaches as far as the resistance does ("not resistant to drought
+    # and diseases"; "not drought resistant, needs more fertiliser" leaves the second
+    # clause alone).
+    resisting = {k: (a, b) for a, b, rank, *_ in claimed if rank >= 2 for k in range(a, b)}
+    for i, _, rank, _, _ in claimed:
         counts = held if rank >= 2 else plain
-        k = j if step > 0 else i - 1
-        while 0 <= k < n and abs(k - (j - 1 if step > 0 else i)) <= scope and not ends[k]:
-            if rank == 0 and relay[k]:
-                break
+        tokens = reach[i]
+        if rank < 2:
+            met = next((t for t, k in enumerate(tokens) if k in resisting), None)
+            if met is not None:
+                a, b = resisting[tokens[met]]
+                tokens = [*tokens[:met], *range(a, b)]
+                # With negative concord the next plain negation word carries the
+                # negation on ("ne résiste pas à"): the resistance's reach stops there.
+                carried = itertools.takewhile(lambda k: not relay[k], reach[a])
+                tokens += [k for k in carried if k not in tokens]
+        for k in tokens:
             counts[k] += 1
-            k += step
     negated = [(plain[k] + held[k]) % 2 == 1 for k in range(n)]
     resisted = [held[k] > 0 and plain[k] % 2 == 0 for k in range(n)]
     return trigger, negated, resisted
+
+
+def _reach(
+    i: int, j: int, step: int, ends: Sequence[bool], scope: int, relay: Sequence[bool] | None
+) -> list[int]:
+    """Return the tokens a trigger at ``[i, j)`` reaches, nearest first.
+
+    At most ``scope`` tokens in the direction ``step``, up to a token that ``ends`` it;
+    with ``relay`` (negative concord) up to the next plain negation word.
+    """
+    out: list[int] = []
+    k = j if step > 0 else i - 1
+    while 0 <= k < len(ends) and abs(k - (j - 1 if step > 0 else i)) <= scope and not ends[k]:
+        if relay is not None and relay[k]:
+            break
+        out.append(k)
+        k += step
+    return out
 
 
 @lru_cache(maxsize=8192)

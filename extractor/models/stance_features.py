@@ -215,6 +215,14 @@ def _negation_features(p: Parsed, where: _Where, in_span: set[str], f: _Features
     """Mark a negated or resisted span, and whether its words are a fault or a good."""
     if any(p.resisted[k] and not p.trigger[k] for k in range(where.a, where.b)):
         f["span_resisted"] += 1.0  # "drought resistant", "withstands all weather"
+    resisting = {k for cat in ("resistance_pre", "resistance_post")
+                 for i, j in p.matches.get(cat, ()) for k in range(i, j)}  # fmt: skip
+    if any(p.negated[k] and k in resisting for k in range(where.a, where.b)):
+        # "not [drought resistant]": the span names a merit, and a negation reaches its
+        # resistance word.
+        f["span_negated"] += 1.0
+        f["span_negated_good"] += 1.0
+        return
     if any(p.negated[k] and not p.trigger[k] for k in range(where.a, where.b)):
         f["span_negated"] += 1.0
         if "disliked" in in_span:
