@@ -202,11 +202,34 @@ def test_stance_with_a_question_codebook_agrees_with_our_labels_on_real_maize_an
     assert with_codebook >= without + 0.2
 
 
+def test_the_cue_rules_read_our_labels_on_real_maize_answers() -> None:
+    # Real farmer answers (maize concept testing, Kenya and Uganda, CC BY 4.0; read in
+    # place by tests/maize.py, which says how we labelled 300 of them): the cold-start
+    # rules with the two-question codebook, on the 406 gold spans. Measured 0.906;
+    # 0.874 before a negation ended at a resistance word ("not resistant to drought and
+    # diseases"), a comparison needed a comparative word, and "not sure" / "similar"
+    # read as neutral (tests/bench/maize_errors.py lists what is still lost).
+    gold = maize.load_maize_gold()
+    if gold is None:
+        pytest.skip(maize.SKIP_REASON)
+    right = total = 0
+    for n, g in enumerate(gold):
+        sentence = Sentence(n, g["text"], "en", g["question"])
+        for s in g["spans"]:
+            f = stance_features(sentence, Span(s["start"], s["end"]), CUES, maize.CODEBOOK)
+            right += rule_stance(f)[0] == s["stance"]
+            total += 1
+    assert total == 406
+    assert right / total >= 0.90
+
+
 def test_the_question_alone_decides_where_neutral_mentions_hide_in_real_maize_answers() -> None:
     # Real farmer answers (maize concept testing, CC BY 4.0; our labels, tests/maize.py).
     # The model reads the rule's answer as rule_q=... when the question's lean alone gave
     # it (stance.question_only): that is where statements of fact, neutral in gold, are
-    # (measured: 11 of 153 against 3 of 253 decided by words around the mention).
+    # (measured: 11 of 153 against 3 of 253 decided by words around the mention; since
+    # "not sure" and "similar" read as neutral, 6 of 152 against 3 of 249, leaving out
+    # the mentions the words read as neutral).
     gold = maize.load_maize_gold()
     if gold is None:
         pytest.skip(maize.SKIP_REASON)
@@ -215,7 +238,9 @@ def test_the_question_alone_decides_where_neutral_mentions_hide_in_real_maize_an
         sentence = Sentence(n, g["text"], "en", g["question"])
         for s in g["spans"]:
             f = stance_features(sentence, Span(s["start"], s["end"]), CUES, maize.CODEBOOK)
-            by_source[question_only(f, rule_stance(f)[0])][s["stance"]] += 1
+            stance = rule_stance(f)[0]
+            if stance != "neutral":
+                by_source[question_only(f, stance)][s["stance"]] += 1
 
     def neutral_share(counts: Counter[str]) -> float:
         return counts["neutral"] / sum(counts.values())

@@ -202,6 +202,9 @@ def test_why_leans_to_liked_only_when_the_question_asks_nothing_else(
         ("It is not resistant to diseases.", "diseases", "en", "disliked"),
         ("Drought tolerant and early.", "Drought", "en", "liked"),
         ("It Doesn`t resist drought.", "drought", "en", "disliked"),
+        ("Not very resistant to pests and drought.", "drought", "en", "disliked"),
+        ("It is not drought tolerant requires more fertiliser than the old one.", "more fertiliser", "en", "disliked"),
+        ("It can easily be affected by pests.", "pests", "en", "disliked"),
     ],
     ids=[
         "en-negated-fault",
@@ -214,12 +217,43 @@ def test_why_leans_to_liked_only_when_the_question_asks_nothing_else(
         "en-negated-resistance",
         "en-resistance-after",
         "en-backtick-negation",
+        "en-negated-resistance-reaches-over-and",
+        "en-negation-ends-at-the-resistance-word",
+        "en-affected-by",
     ],
 )
 def test_rules_read_faults_goods_and_resistance(
     text: str, term: str, lang: str, expected: str
 ) -> None:
     assert rule_stance(_features(text, term, lang))[0] == expected
+
+
+def test_a_negated_resistance_word_in_the_span_makes_it_a_fault_even_asked_for_merits() -> None:
+    # "not [drought tolerant]": the merit is missing. Asked only for merits, a negated span
+    # with no cue of its own would read as a fault the variety lacks (liked).
+    codebook = {"reason_preferred": QuestionCode("reason_preferred", None, "likes")}
+    sentence, span = mention(
+        "Is not drought tolerant but the cobs are big.", "drought tolerant", question="reason_preferred"
+    )
+    features = stance_features(sentence, span, CUES, codebook)
+    assert features.get("span_negated_good")
+    assert rule_stance(features)[0] == "disliked"
+
+
+def test_negative_concord_carries_the_negation_past_a_resistance_word() -> None:
+    # French "n'est pas résistante à la sécheresse": "n'" and "pas" negate once, and the
+    # resistance word's scope is not negated a second time.
+    features = _features("Elle n'est pas résistante à la sécheresse.", "sécheresse", "fr")
+    assert not features.get("span_resisted") and not features.get("span_negated")
+
+
+def test_a_comparison_without_a_comparative_word_ranks_nothing() -> None:
+    # "compared to" names a reference; only a comparative word says which side is ahead.
+    plain = _features("The demand is low compared to the others.", "demand")
+    graded = _features("The demand is higher compared to the others.", "demand")
+    assert plain.get("comparison") and not plain.get("comparison_graded")
+    assert graded.get("comparison_graded") and rule_stance(graded)[0] == "liked"
+    assert rule_stance(plain)[0] == "neutral"
 
 
 def test_takes_months_to_mature_is_not_liked() -> None:
@@ -241,8 +275,24 @@ def test_takes_months_to_mature_is_not_liked() -> None:
         ("Rouge ou tacheté, peu importe.", "tacheté", "fr"),
         ("Que resista las enfermedades, no importa el color.", "color", "es"),
         ("Tanto faz a cor.", "cor", "pt"),
+        ("I am not sure about the taste of the flour.", "taste", "en"),
+        ("The yield is similar to what we plant.", "yield", "en"),
+        ("Its cooking time is the same as the old one.", "cooking time", "en"),
+        ("Le goût est pareil.", "goût", "fr"),
+        ("Ladha, sina uhakika.", "Ladha", "sw"),
     ],
-    ids=["en-does-not-matter", "en-want-to-know", "fr-peu-importe-after", "es-no-importa", "pt"],
+    ids=[
+        "en-does-not-matter",
+        "en-want-to-know",
+        "fr-peu-importe-after",
+        "es-no-importa",
+        "pt",
+        "en-not-sure",
+        "en-similar",
+        "en-the-same-as",
+        "fr-pareil",
+        "sw-sina-uhakika",
+    ],
 )
 def test_indifference_reads_the_trait_as_neutral(text: str, term: str, lang: str) -> None:
     features = _features(text, term, lang)
