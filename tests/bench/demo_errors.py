@@ -68,7 +68,7 @@ def classify(
     sentences: Sequence[Sentence],
     gold: Sequence[Sequence[Span]],
     implicit: Sequence[Sequence[Implicit]],
-    pred: Sequence[Sequence[Mention]],
+    pred: Sequence[Sequence[Span | Mention]],
 ) -> dict[str, list[dict[str, Any]]]:
     """Return the lost triples by cause (see the module docstring), each with its words."""
     gold_seen = first_seen(sentences, gold)
@@ -136,11 +136,11 @@ def bounds(
     sentences: Sequence[Sentence],
     both: Sequence[Sequence[Span]],
     gold: Sequence[Sequence[Span]],
-    pred: Sequence[Sequence[Mention]],
+    pred: Sequence[Sequence[Span | Mention]],
 ) -> dict[str, float]:
     """Return the triple F1 of the predictions and of the bounds (module docstring)."""
 
-    def f1(change: Callable[[Mention, list[Span]], Mention | None]) -> float:
+    def f1(change: Callable[[Span | Mention, list[Span]], Span | Mention | None]) -> float:
         changed = [
             [m2 for m in mentions if (m2 := change(m, _overlapping(m, spans))) is not None]
             for mentions, spans in zip(pred, gold, strict=True)
@@ -148,10 +148,10 @@ def bounds(
         scores = respondent_scores(sentences, both, changed)
         return round(scores.f1, 4) if scores is not None else 0.0
 
-    def concept(m: Mention, near: list[Span]) -> Mention:
+    def concept(m: Span | Mention, near: list[Span]) -> Span | Mention:
         return m._replace(concept=near[0].concept) if near else m
 
-    def stance(m: Mention, near: list[Span]) -> Mention:
+    def stance(m: Span | Mention, near: list[Span]) -> Span | Mention:
         return m._replace(stance=near[0].stance) if near else m
 
     return {

@@ -203,7 +203,12 @@ def test_why_leans_to_liked_only_when_the_question_asks_nothing_else(
         ("Drought tolerant and early.", "Drought", "en", "liked"),
         ("It Doesn`t resist drought.", "drought", "en", "disliked"),
         ("Not very resistant to pests and drought.", "drought", "en", "disliked"),
-        ("It is not drought tolerant requires more fertiliser than the old one.", "more fertiliser", "en", "disliked"),
+        (
+            "It is not drought tolerant requires more fertiliser than the old one.",
+            "more fertiliser",
+            "en",
+            "disliked",
+        ),
         ("It can easily be affected by pests.", "pests", "en", "disliked"),
     ],
     ids=[
@@ -233,7 +238,9 @@ def test_a_negated_resistance_word_in_the_span_makes_it_a_fault_even_asked_for_m
     # with no cue of its own would read as a fault the variety lacks (liked).
     codebook = {"reason_preferred": QuestionCode("reason_preferred", None, "likes")}
     sentence, span = mention(
-        "Is not drought tolerant but the cobs are big.", "drought tolerant", question="reason_preferred"
+        "Is not drought tolerant but the cobs are big.",
+        "drought tolerant",
+        question="reason_preferred",
     )
     features = stance_features(sentence, span, CUES, codebook)
     assert features.get("span_negated_good")
