@@ -182,13 +182,24 @@ def main() -> None:
         for i in range(len(sentences))
     ]
     lost = classify(sentences, spans, traits, mentions)
+    figures = summary(lost, bounds(sentences, both, spans, mentions), args.list)
+    print(json.dumps(figures, indent=1, ensure_ascii=False))
+
+
+def summary(
+    lost: dict[str, list[dict[str, Any]]], bounded: dict[str, float], listed: str
+) -> dict[str, Any]:
+    """Return the lost triples' counts by cause, the bounds, and the causes ``listed`` in full.
+
+    ``listed`` names causes comma-separated, as ``--list`` takes them.
+    """
     figures: dict[str, Any] = {
         "counts": dict(Counter({cause: len(items) for cause, items in lost.items()}).most_common()),
-        "bounds": bounds(sentences, both, spans, mentions),
+        "bounds": bounded,
     }
-    for cause in filter(None, args.list.split(",")):
+    for cause in filter(None, listed.split(",")):
         figures[cause] = lost.get(cause, [])
-    print(json.dumps(figures, indent=1, ensure_ascii=False))
+    return figures
 
 
 if __name__ == "__main__":

@@ -17,14 +17,12 @@ from __future__ import annotations
 import argparse
 import json
 import sys
-from collections import Counter
 from pathlib import Path
-from typing import Any
 
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT))
 from tests import maize  # noqa: E402
-from tests.bench.demo_errors import bounds, classify  # noqa: E402
+from tests.bench.demo_errors import bounds, classify, summary  # noqa: E402
 from tests.bench.maize_cv import predict  # noqa: E402
 
 
@@ -44,13 +42,8 @@ def main() -> None:
     aliases = {text.lower() for _, text, _ in loaded[2]} if loaded else set()
     for item in lost.get("fp_no_gold_span", []):
         item["alias"] = item["words"].lower() in aliases
-    figures: dict[str, Any] = {
-        "counts": dict(Counter({cause: len(items) for cause, items in lost.items()}).most_common()),
-        "fp_no_gold_span_alias": sum(i["alias"] for i in lost.get("fp_no_gold_span", [])),
-        "bounds": bounds(sentences, gold, gold, pred),
-    }
-    for cause in filter(None, args.list.split(",")):
-        figures[cause] = lost.get(cause, [])
+    figures = summary(lost, bounds(sentences, gold, gold, pred), args.list)
+    figures["fp_no_gold_span_alias"] = sum(i["alias"] for i in lost.get("fp_no_gold_span", []))
     print(json.dumps(figures, indent=1, ensure_ascii=False))
 
 
