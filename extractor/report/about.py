@@ -135,6 +135,14 @@ FACT_MEANINGS = {
 """About item -> its one-line meaning."""
 ABOUT_COLUMNS = ["Item", "Value", "Meaning"]
 
+STANCE_READING = (
+    "A stance judges a variety on the trait, whatever the trait's name: bitterness liked "
+    "means the variety was praised on bitterness (not bitter), bitterness disliked that it "
+    "is too bitter, bitterness wanted that a variety should do better on it. Neutral: "
+    "the trait was named without a judgement."
+)
+"""The About sheet's row on how to read the stances of traits named by a fault."""
+
 
 def _figure(value: Any) -> Any:
     """Return a figure rounded for reading: two decimals; whole numbers and text as they are."""
@@ -226,7 +234,10 @@ def about_table(
         counts: What the export holds.
         written: Further (item, value) rows about this export, such as its settings.
     """
-    rows: list[tuple[str, Any, str]] = [("Caution", REVIEW_CAUTION, "Read this first")]
+    rows: list[tuple[str, Any, str]] = [
+        ("Caution", REVIEW_CAUTION, "Read this first"),
+        ("Stances", STANCE_READING, "How to read liked, disliked and wanted"),
+    ]
     for item, value in facts.items():
         if item == "Quality (cross-validated)":
             rows += quality_rows("cross-validated", value)

@@ -34,8 +34,14 @@ from extractor.workspace.files import atomic_path
 if TYPE_CHECKING:  # matplotlib is slow to import; only the drawing functions load it
     from matplotlib.figure import Figure
 
-CHART_OUTCOMES = {"like": "liking", "dislike": "disliking", "want": "wanting"}
-"""Summary outcome -> the verb of its chart title."""
+CHART_OUTCOMES = {
+    "like": "praising a variety on",
+    "dislike": "faulting a variety on",
+    "want": "wanting a variety better on",
+}
+"""Summary outcome -> the words of its chart title. A stance judges the variety on the
+trait, so a trait named by a fault reads right: "praising a variety on bitterness" is
+what "bitterness, liked" means (not bitter), where "liking bitterness" read the other way."""
 TOP = 10
 """Traits per chart: the most frequent for the outcome among all individuals."""
 WRAP = 32

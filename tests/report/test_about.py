@@ -5,7 +5,13 @@ All people and trait IDs are invented; counts are made by hand from the study's 
 
 from __future__ import annotations
 
-from extractor.report.about import ExportCounts, RunFacts, about_table, export_counts
+from extractor.report.about import (
+    STANCE_READING,
+    ExportCounts,
+    RunFacts,
+    about_table,
+    export_counts,
+)
 from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.inputs import prepare
 from tests.report.study import Study
@@ -34,7 +40,9 @@ def test_about_table_caution_first_then_facts_then_counts() -> None:
     table = about_table(facts, COUNTS, [("Pseudonymised", "no")])
     items = table["Item"].tolist()
     assert table.iloc[0].tolist()[:2] == ["Caution", REVIEW_CAUTION]
-    assert items[1:3] == ["Model version", "Model trained"]
+    # How to read a stance on a trait named by a fault comes right after the caution.
+    assert table.iloc[1].tolist()[:2] == ["Stances", STANCE_READING]
+    assert items[2:4] == ["Model version", "Model trained"]
     assert items[-10:] == [name for name, _ in COUNTS.items()] + ["Pseudonymised"]
     assert items.count("Caution") == 1
 

@@ -107,7 +107,7 @@ def test_headline_chart_passes_over_a_grouping_left_out(study: Study) -> None:
     assert all(" (n=" in group for group in chosen.data["Group"])
     assert headline_chart(charts, ["role"]).grouping is None
     empty = headline_chart([], ["gender"])
-    assert empty.data.empty and empty.title.endswith("liking each trait")
+    assert empty.data.empty and empty.title.endswith("praising a variety on each trait")
 
 
 def test_a_chart_of_some_traits_only_says_how_many_it_shows(study: Study) -> None:
@@ -115,9 +115,9 @@ def test_a_chart_of_some_traits_only_says_how_many_it_shows(study: Study) -> Non
     summary = trait_summary(m, r, CONCEPTS, ["gender"])
     everything = chart_figures(summary, "dislike", None)
     named = len(everything.data)  # two traits disliked by someone in the study
-    assert named == 2 and everything.title.endswith("disliking each trait")
+    assert named == 2 and everything.title.endswith("faulting a variety on each trait")
     fewer = chart_figures(summary, "dislike", "gender", top=1)
     assert fewer.title == (
-        "Share of individual respondents disliking each trait "
+        "Share of individual respondents faulting a variety on each trait "
         "(the 1 most often disliked, of 2), by gender"
     )
