@@ -80,7 +80,7 @@ def _title(outcome: str, grouping: str | None, shown: int = 0, named: int = 0) -
     verb = CHART_OUTCOMES[outcome]
     base = f"Share of individual respondents {verb} each trait"
     if named > shown:
-        done = {"like": "liked", "dislike": "disliked", "want": "wanted"}[outcome]
+        done = {"like": "praised", "dislike": "faulted", "want": "wanted better"}[outcome]
         base += f" (the {shown} most often {done}, of {named})"
     return f"{base}, by {grouping}" if grouping else base
 

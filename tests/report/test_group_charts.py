@@ -119,5 +119,5 @@ def test_a_chart_of_some_traits_only_says_how_many_it_shows(study: Study) -> Non
     fewer = chart_figures(summary, "dislike", "gender", top=1)
     assert fewer.title == (
         "Share of individual respondents faulting a variety on each trait "
-        "(the 1 most often disliked, of 2), by gender"
+        "(the 1 most often faulted, of 2), by gender"
     )
