@@ -80,6 +80,8 @@ def cmd_review_import(args: argparse.Namespace, console: Console) -> int:
     )
     if result.quality is not None:
         console.print(quality_table(result.quality, result.model_version, args.verbose))
+        if result.quality.caution:
+            console.print(f"[yellow]{result.quality.caution}[/]")
         if not args.verbose:
             console.print("By concept: add -v.")
     if result.stored:

@@ -97,7 +97,18 @@ KEY_COLUMNS = (
     "Stance",
 )
 """The keys sheet's table: one row per review row key."""
-META_ITEMS = ("Format", "Workspace", "Workspace ID", "Model version", "Selection", "Exported")
+META_ITEMS = (
+    "Format",
+    "Workspace",
+    "Workspace ID",
+    "Model version",
+    "Selection",
+    "Respondents drawn",
+    "Exported",
+)
+"""Facts of the export in the keys sheet. ``Respondents drawn`` (how many respondents of a
+random sample the workbook holds) is absent from workbooks written before it was added."""
+DRAWN = "Respondents drawn"
 IMPLIED = "implied"
 """The origin of a row showing a trait a person's label states without words."""
 MODEL_IMPLIED = "model implied"

@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from extractor.errors import InputError
-from extractor.ingest.review import IMPLIED, MODEL_IMPLIED, RowKey, sentence_digest
+from extractor.ingest.review import DRAWN, IMPLIED, MODEL_IMPLIED, RowKey, sentence_digest
 from extractor.jobs.inputs import question_codebook
 from extractor.jobs.tag import ensure_tagged
 from extractor.report.results import concept_frame
@@ -285,9 +285,19 @@ def review_lines(
 
 
 def write_lines(
-    ws: Workspace, lines: Sequence[ReviewLine], out: Path, version: str | None, selection: str
+    ws: Workspace,
+    lines: Sequence[ReviewLine],
+    out: Path,
+    version: str | None,
+    selection: str,
+    *,
+    drawn: int | None = None,
 ) -> Path:
-    """Write review rows as a review workbook of this workspace; return its path."""
+    """Write review rows as a review workbook of this workspace; return its path.
+
+    ``drawn`` is how many respondents of a random sample the rows hold (None: not a
+    sample); the import says how many of them were reviewed.
+    """
     out.parent.mkdir(parents=True, exist_ok=True)
     concepts = concept_frame(ws)
     meta = {
@@ -295,6 +305,7 @@ def write_lines(
         "Workspace ID": workspace_id(ws),
         "Model version": version or "none",
         "Selection": selection,
+        **({DRAWN: str(drawn)} if drawn is not None else {}),
         "Exported": datetime.now(UTC).isoformat(timespec="seconds"),
     }
     write_review_workbook(
@@ -330,13 +341,19 @@ def export_review(
             f"No sentence matches the selection ({selection.describe()}); widen it and export "
             "again."
         )
+    respondents = len({line.respondent for line in lines})
     out = write_lines(
-        ws, lines, out or ws.exports_dir / "review.xlsx", version, selection.describe()
+        ws,
+        lines,
+        out or ws.exports_dir / "review.xlsx",
+        version,
+        selection.describe(),
+        drawn=respondents if selection.sample is not None else None,
     )
     return ReviewExport(
         path=out,
         rows=len(lines),
         sentences=len({line.key.sentence_id for line in lines}),
-        respondents=len({line.respondent for line in lines}),
+        respondents=respondents,
         model_version=version,
     )

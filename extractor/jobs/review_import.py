@@ -24,6 +24,7 @@ from typing import NamedTuple
 
 from extractor.errors import InputError
 from extractor.ingest.review import (
+    DRAWN,
     IMPLIED,
     MODEL_IMPLIED,
     REVIEW_SHEET,
@@ -301,7 +302,13 @@ def _quality(
                     respondents[sid], sorted(found), final.spans, final.implicit, implied
                 )
             )
-    return review_quality(measured) if measured else None
+    return review_quality(measured, _drawn(file)) if measured else None
+
+
+def _drawn(file: ReviewFile) -> int | None:
+    """Return how many respondents the sample drew, or None (a workbook that predates it)."""
+    text = file.meta.get(DRAWN, "")
+    return int(text) if text.isdigit() else None
 
 
 def import_review(

@@ -192,6 +192,7 @@ def quality_rows(where: str, figures: Mapping[str, Any] | None) -> list[tuple[st
 
 REVIEW_MEANINGS = {
     "measured on": "Respondents of a random sample whose sentences a person reviewed",
+    "caution": "Some respondents drawn were not reviewed",
     "model version": "The model whose mentions were reviewed",
     "reviewer": "Who reviewed them",
     "precision (words)": "Share of found mentions whose words the reviewer kept (95% interval)",

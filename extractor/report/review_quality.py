@@ -82,18 +82,42 @@ class ReviewQuality:
     table_precision: Share
     table_recall: Share
     by_concept: tuple[ConceptQuality, ...]
+    drawn: int | None = None
+    """How many respondents the random sample drew (None: not recorded, an older workbook)."""
 
     @property
     def measured_on(self) -> str:
-        """Return what the figures rest on: ``3 reviewed respondents (41 sentences)``."""
+        """Return what the figures rest on: ``3 reviewed respondents of the 4 drawn (9 sentences)``.
+
+        Without ``of the 4 drawn`` when the workbook did not record the draw.
+        """
         people = "respondent" if self.respondents == 1 else "respondents"
         sentences = "sentence" if self.sentences == 1 else "sentences"
-        return f"{self.respondents} reviewed {people} ({self.sentences} {sentences})"
+        drawn = f" of the {self.drawn} drawn" if self.drawn is not None else ""
+        return f"{self.respondents} reviewed {people}{drawn} ({self.sentences} {sentences})"
+
+    @property
+    def caution(self) -> str | None:
+        """Return the caution when the reviewer left some drawn respondents out, else None.
+
+        The respondents reviewed are then a subset the reviewer chose, no longer a random
+        sample, so the figures stand for the study only if the choice had no reason.
+        """
+        if self.drawn is None or self.respondents >= self.drawn:
+            return None
+        left = self.drawn - self.respondents
+        return (
+            f"Only {self.respondents} of the {self.drawn} respondents drawn were reviewed: "
+            f"these figures hold for the whole study only if the {left} left out were not "
+            "chosen for a reason (such as being harder to read)."
+        )
 
     def as_metrics(self, version: str, reviewer: str) -> dict[str, Any]:
         """Return the figures as stored with the model version and shown on the About sheet."""
+        caution = {"caution": self.caution} if self.caution else {}
         return {
             "measured on": self.measured_on,
+            **caution,
             "model version": version,
             "reviewer": reviewer,
             "precision (words)": self.mention_precision.text(),
@@ -147,8 +171,13 @@ def _by_concept(sentences: Sequence[ReviewedSentence]) -> tuple[ConceptQuality, 
     return tuple(out)
 
 
-def review_quality(sentences: Sequence[ReviewedSentence]) -> ReviewQuality:
-    """Return precision and recall of what was found, against the reviewer's answers."""
+def review_quality(
+    sentences: Sequence[ReviewedSentence], drawn: int | None = None
+) -> ReviewQuality:
+    """Return precision and recall of what was found, against the reviewer's answers.
+
+    ``drawn`` is how many respondents the random sample drew, when the workbook says.
+    """
     n_found = sum(len(s.found) for s in sentences)
     n_reviewed = sum(len(s.reviewed) for s in sentences)
     words = sum(_matches(s.found, s.reviewed, 2) for s in sentences)
@@ -166,4 +195,5 @@ def review_quality(sentences: Sequence[ReviewedSentence]) -> ReviewQuality:
         table_precision=Share(both, len(found_table)),
         table_recall=Share(both, len(reviewed_table)),
         by_concept=_by_concept(sentences),
+        drawn=drawn,
     )
