@@ -151,7 +151,8 @@ def _print_run(report: RunReport, console: Console) -> None:
     if report.intake is not None:  # what `traits add` says of new files
         for file_report in report.intake.files:
             print_warnings(console, file_report.warnings)
-        print_languages(console, report.intake.languages)
+        # training's note says which languages have neither stance cues nor labels
+        print_languages(console, report.intake.languages, report.train.stance_gaps)
         print_unlisted(console, report.intake.unlisted)
         print_unknown_questions(console, report.intake.unknown_questions)
     for item in (report.concepts, report.varieties):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
-from collections.abc import Mapping, Sequence
+from collections.abc import Collection, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -188,15 +188,23 @@ _LACKS = {
 }
 
 
-def print_languages(console: Console, languages: Sequence[LanguageFound]) -> None:
-    """Print the languages of the stored sentences and what each of them lacks."""
+def print_languages(
+    console: Console, languages: Sequence[LanguageFound], cues_told: Collection[str] = ()
+) -> None:
+    """Print the languages of the stored sentences and what each of them lacks.
+
+    ``cues_told`` are languages whose lack of stance cues another note of the same
+    command already states (training's, in `traits run`): it is not said twice.
+    """
     if not languages:
         return
     found = ", ".join(f"{lang.tag} {lang.sentences}" for lang in languages)
     console.print(f"Languages of the stored sentences: {found}.", highlight=False)
     for lang in languages:
-        if lang.lacks:
-            lacks = "; ".join(_LACKS[what] for what in lang.lacks)
+        told = ("stance cues",) if lang.tag in cues_told else ()
+        missing = [what for what in lang.lacks if what not in told]
+        if missing:
+            lacks = "; ".join(_LACKS[what] for what in missing)
             console.print(f"note: {lang.tag} has {lacks}.", highlight=False)
 
 

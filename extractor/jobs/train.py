@@ -44,12 +44,17 @@ ORPHAN_AGE_S = 600
 
 @dataclass(frozen=True)
 class TrainReport:
-    """What training a version did: its name, what it learned from, notes and figures."""
+    """What training a version did: its name, what it learned from, notes and figures.
+
+    ``stance_gaps`` are the languages a note says have neither stance cues nor stance
+    labels (see :func:`stance_gaps`), so that nothing else need say it again.
+    """
 
     version: str
     counts: TrainingCounts
     notes: tuple[str, ...]
     metrics: Mapping[str, Any]
+    stance_gaps: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -235,7 +240,8 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
         held_out=held_out,
         implicit=gold_implicit(ws),
     )
-    notes += _stance_note(stance_gaps(corpus, labeled, models.stance_.cues))
+    gaps = stance_gaps(corpus, labeled, models.stance_.cues)
+    notes += _stance_note(gaps)
     figures: dict[str, Any] = {}
     if cross_validate:
         cv, why = cross_validation(ws, gold, corpus, models.clusters_)
@@ -244,7 +250,7 @@ def train(ws: Workspace, *, cross_validate: bool = True) -> TrainedVersion:
         elif len(gold) >= MIN_LABELS_FOR_CV:
             notes.append(why)
     version = _save_version(ws, models, figures)
-    report = TrainReport(version, models.counts_, tuple(notes), figures)
+    report = TrainReport(version, models.counts_, tuple(notes), figures, tuple(gaps))
     return TrainedVersion(report, models)
 
 

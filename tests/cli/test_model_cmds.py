@@ -193,3 +193,33 @@ def test_run_imports_a_list_traits_toml_names_in_interviews_and_reads_no_answers
     assert json.loads(status)["concepts"] == 8  # the list was imported by the run
     assert "interviews/trait_list.csv is the workspace's concept list" in flat
     assert "imports changes only" not in flat  # the run imports this one itself
+
+
+def test_first_run_says_once_that_a_language_has_no_stance_cues(tmp_path: Path) -> None:
+    # A fresh workspace whose answers are in Hausa (ISO 639-1 'ha'), a language the
+    # packaged stance cues do not cover: the run reads the files as `traits add` would
+    # and then trains; the lack of cues is one note, not one from each step.
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    (ws / "interviews" / "round1.csv").write_text(
+        "respondent,question,answer,language\n"
+        "DK-01,Me yasa?,Ina son wannan iri saboda yana girma da sauri.,ha\n"
+        "DK-02,Me yasa?,Bana son shi saboda yana da daci sosai.,ha\n"
+        "DK-03,Me yasa?,Yana girma da sauri kuma yana da dadi.,ha\n",
+        encoding="utf-8",
+    )
+    (ws / "concepts.csv").write_text(
+        "id,label,lang,synonyms,parent,definition\n"
+        "ZQX:01,early maturity,en,grows fast,,\n"
+        "ZQX:01,girma da sauri,ha,yana girma da sauri,,\n"
+        "ZQX:02,bitterness,en,bitter,,\n"
+        "ZQX:02,daci,ha,yana da daci,,\n",
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(ws), "run")
+    flat = " ".join(out.split())
+    assert code == 0, out
+    assert "Languages of the stored sentences: ha 3" in flat
+    assert "note: ha has no spaCy pipeline" in flat  # what else it lacks is still said
+    assert "Answers in ha have neither stance cue words nor stance labels" in flat
+    assert flat.count("stance cue") == 1, out
