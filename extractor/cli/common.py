@@ -9,7 +9,7 @@ from __future__ import annotations
 import argparse
 import dataclasses
 import json
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -131,6 +131,18 @@ def print_said(console: Console, kind: str, style: str, message: str, **options:
     is never rich markup: brackets in it are shown as they are, never read as styles.
     """
     console.print(Text.assemble((f"{kind}:", style), " ", message), **options)
+
+
+def counted(n: int, singular: str, plural: str | None = None) -> str:
+    """Return ``1 answer`` or ``3 answers`` (``plural`` where adding "s" is wrong)."""
+    return f"{n} {singular if n == 1 else plural or singular + 's'}"
+
+
+def spoken_list(items: Sequence[str], conjunction: str = "and") -> str:
+    """Return "a", "a and b", "a, b and c" (or with another conjunction: "2, 3 or 4")."""
+    if len(items) <= 1:
+        return "".join(items)
+    return f"{', '.join(items[:-1])} {conjunction} {items[-1]}"
 
 
 def print_warnings(console: Console, warnings: Iterable[str]) -> None:

@@ -14,6 +14,7 @@ from rich.tree import Tree
 
 from extractor.cli.common import (
     Subcommands,
+    counted,
     open_workspace,
     print_notes,
     print_warnings,
@@ -158,11 +159,11 @@ def _concept_line(listing: ConceptListing, concept: store.StoredConcept) -> str:
     labels = "; ".join(f"{lang}: {text}" for lang, text in concept.labels.items())
     line = f"[bold]{escape(concept.id)}[/] {escape(labels)}"
     aliases = listing.alias_counts.get(concept.id, 0)
-    line += f" [dim]({aliases} alias{'' if aliases == 1 else 'es'})[/]"
+    line += f" [dim]({counted(aliases, 'alias', 'aliases')})[/]"
     if listing.mentions is not None and listing.respondents is not None:
         n = listing.mentions.get(concept.id, 0)
         people = listing.respondents.get(concept.id, 0)
-        counts = f"{n} mention{'s' * (n != 1)}, {people} respondent{'s' * (people != 1)}"
+        counts = f"{counted(n, 'mention')}, {counted(people, 'respondent')}"
         line += f" [cyan]{counts}[/]" if n else " [dim]no mentions[/]"
     return line
 

@@ -11,12 +11,14 @@ from rich.table import Table
 
 from extractor.cli.common import (
     Subcommands,
+    counted,
     metric_summary,
     open_workspace,
     print_json,
     print_notes,
     print_warnings,
     print_written,
+    spoken_list,
 )
 from extractor.cli.concept_cmds import print_changes
 from extractor.cli.workspace_cmds import print_languages, print_unknown_questions, print_unlisted
@@ -132,8 +134,8 @@ def _print_run(report: RunReport, console: Console) -> None:
     if previous is not None:
         learned = report.train.counts.gold_sentences
         console.print(
-            f"Model version {report.train.version} learned from {learned} labeled "
-            f"{'sentence' if learned == 1 else 'sentences'} ({previous.labeled} for "
+            f"Model version {report.train.version} learned from "
+            f"{counted(learned, 'labeled sentence')} ({previous.labeled} for "
             f"{previous.version})."
         )
     for path, kind, named in report.lists_in_interviews:
@@ -188,9 +190,8 @@ def print_ungrouped(console: Console, ungrouped: Sequence[tuple[str, int]]) -> N
     """Name the respondent columns the workbook does not compare groups by, and how to."""
     if not ungrouped:
         return
-    parts = [f"{column} ({n} values)" for column, n in ungrouped]
-    said = parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
-    one = len(parts) == 1
+    said = spoken_list([f"{column} ({n} values)" for column, n in ungrouped])
+    one = len(ungrouped) == 1
     names = ", ".join(f'"{column}"' for column, _ in ungrouped)
     print_notes(
         console,

@@ -8,18 +8,13 @@ from pathlib import Path
 from rich.console import Console
 from rich.table import Table
 
-from extractor.cli.common import Subcommands, open_workspace, print_json, print_written
+from extractor.cli.common import Subcommands, counted, open_workspace, print_json, print_written
 from extractor.jobs.agreement import workspace_agreement
 from extractor.jobs.review import ReviewSelection, export_review, parse_where
 from extractor.jobs.review_import import import_review
 from extractor.models.agreement import AgreementReport, Coefficient
 from extractor.report.caution import REVIEW_CAUTION
 from extractor.report.review_quality import ReviewQuality
-
-
-def _n(count: int, word: str) -> str:
-    """Return ``1 row`` or ``3 rows``."""
-    return f"{count} {word}{'' if count == 1 else 's'}"
 
 
 def cmd_review_export(args: argparse.Namespace, console: Console) -> int:
@@ -37,8 +32,10 @@ def cmd_review_export(args: argparse.Namespace, console: Console) -> int:
         )
     print_written(console, args, result.path)
     console.print(
-        f"Wrote {result.path}: {_n(result.rows, 'row')}, {_n(result.sentences, 'sentence')} of "
-        f"{_n(result.respondents, 'respondent')} ({selection.describe()}). Fill in the coloured "
+        f"Wrote {result.path}: {counted(result.rows, 'row')}, "
+        f"{counted(result.sentences, 'sentence')} of "
+        f"{counted(result.respondents, 'respondent')} ({selection.describe()}). "
+        "Fill in the coloured "
         "columns, then `traits review import FILE --reviewer NAME`."
     )
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
@@ -74,8 +71,8 @@ def cmd_review_import(args: argparse.Namespace, console: Console) -> int:
     for line in result.skipped:
         console.print(f"[yellow]left out:[/] {line}", soft_wrap=True)
     console.print(
-        f"{_n(result.reviewed, 'reviewed sentence')} in {result.path.name}: "
-        f"{_n(result.stored, 'label')} stored for {result.reviewer}, "
+        f"{counted(result.reviewed, 'reviewed sentence')} in {result.path.name}: "
+        f"{counted(result.stored, 'label')} stored for {result.reviewer}, "
         f"{result.unchanged} unchanged since an earlier import."
     )
     if result.quality is not None:

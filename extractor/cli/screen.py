@@ -32,6 +32,7 @@ from rich.console import Console
 from rich.text import Text
 
 from extractor.cli import screen_implicit
+from extractor.cli.common import spoken_list
 from extractor.cli.screen_draw import (
     HELP_TEXT,
     Figures,
@@ -71,8 +72,7 @@ Draft = list[Span | None]
 
 def _either(numbers: Sequence[int]) -> str:
     """Return "2", "2 or 3", "2, 3 or 4"."""
-    words = [str(n) for n in numbers]
-    return words[0] if len(words) == 1 else f"{', '.join(words[:-1])} or {words[-1]}"
+    return spoken_list([str(n) for n in numbers], "or")
 
 
 def _stance_of(key: str) -> str | None:

@@ -15,10 +15,12 @@ from rich.table import Table
 
 from extractor.cli.common import (
     Subcommands,
+    counted,
     open_workspace,
     print_notes,
     print_warnings,
     print_written,
+    spoken_list,
 )
 from extractor.errors import InputError
 from extractor.ingest.language import language_name
@@ -136,12 +138,13 @@ def print_unlisted(console: Console, unlisted: Mapping[str, int]) -> None:
     """Say which languages outside the study's the new answers read as, and what to do."""
     if not unlisted:
         return
-    parts = [f"{n} as {language_name(tag)} ({tag})" for tag, n in unlisted.items()]
-    first = next(iter(unlisted.values()))
-    parts[0] = (
-        f"{first} {'answer reads' if first == 1 else 'answers read'}" + parts[0][len(str(first)) :]
+    # "26 answers read as Swahili (sw) and 24 as Portuguese (pt)": the verb after the first.
+    (tag, first), *rest = unlisted.items()
+    head = f"{counted(first, 'answer')} {'reads' if first == 1 else 'read'} as"
+    said = spoken_list(
+        [f"{head} {language_name(tag)} ({tag})"]
+        + [f"{n} as {language_name(t)} ({t})" for t, n in rest]
     )
-    said = parts[0] if len(parts) == 1 else ", ".join(parts[:-1]) + " and " + parts[-1]
     tags = ", ".join(f'"{tag}"' for tag in unlisted)
     print_notes(
         console,
@@ -159,16 +162,16 @@ def print_unknown_questions(console: Console, unknown: Sequence[StoredQuestion])
     if not unknown:
         return
     shown = ", ".join(
-        f"{q.question} ({q.answers} {'answer' if q.answers == 1 else 'answers'})"
-        for q in unknown[:_SHOWN_QUESTIONS]
+        f"{q.question} ({counted(q.answers, 'answer')})" for q in unknown[:_SHOWN_QUESTIONS]
     )
     more = f" and {len(unknown) - _SHOWN_QUESTIONS} more" if len(unknown) > _SHOWN_QUESTIONS else ""
     # A plain-text note: "[codebook]" read as rich markup would vanish from the sentence.
     print_notes(
         console,
         [
-            f"{len(unknown)} {'question tells' if len(unknown) == 1 else 'questions tell'} "
-            f"stance nothing: {shown}{more}. Give each its direction (likes, dislikes, "
+            f"{counted(len(unknown), 'question')} "
+            f"{'tells' if len(unknown) == 1 else 'tell'} stance nothing: {shown}{more}. "
+            "Give each its direction (likes, dislikes, "
             "wishes or open) in questions.csv (columns question, text, direction) or under "
             "[codebook] in traits.toml; it is evidence for stance, never the answer."
         ],

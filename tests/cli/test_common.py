@@ -8,7 +8,7 @@ import pytest
 from rich.console import Console
 from statsmodels.stats.proportion import proportion_confint
 
-from extractor.cli.common import metric_summary, print_said, print_warnings
+from extractor.cli.common import counted, metric_summary, print_said, print_warnings, spoken_list
 from extractor.models.metrics import score, summary
 from extractor.models.validation import Evaluation
 from extractor.types import Sentence, Span
@@ -46,3 +46,29 @@ def test_warnings_and_errors_show_user_text_as_it_is(text: str) -> None:
         f"warning: File '{text}' has no answers.",
         f"error: File '{text}' is empty.",
     ]
+
+
+@pytest.mark.parametrize(
+    ("n", "expected"),
+    [(0, "0 answers"), (1, "1 answer"), (2, "2 answers")],
+)
+def test_counted_says_one_in_the_singular(n: int, expected: str) -> None:
+    assert counted(n, "answer") == expected
+
+
+def test_counted_takes_an_irregular_plural() -> None:
+    assert counted(3, "alias", "aliases") == "3 aliases"
+    assert counted(1, "alias", "aliases") == "1 alias"
+
+
+@pytest.mark.parametrize(
+    ("items", "conjunction", "expected"),
+    [
+        ([], "and", ""),
+        (["a"], "and", "a"),
+        (["a", "b"], "and", "a and b"),
+        (["2", "3", "4"], "or", "2, 3 or 4"),
+    ],
+)
+def test_spoken_list_joins_the_last_with_the_conjunction(items, conjunction, expected) -> None:
+    assert spoken_list(items, conjunction) == expected
