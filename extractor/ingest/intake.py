@@ -229,12 +229,13 @@ def interview_files(folder: Path) -> list[Path]:
     )
 
 
-def imported_lists(ws: Workspace, files: Sequence[Path]) -> dict[Path, str]:
+def imported_lists(ws: Workspace, files: Sequence[Path]) -> dict[Path, tuple[str, bool]]:
     """Return which of the files are the workspace's concept or variety lists, and which.
 
     A file is one when it is the list a setting names (``concepts``, ``varieties``) or
     the file of an imported list version, by its path or its SHA-256; such a file left
-    in ``interviews/`` is no interview file. Path -> "trait" or "variety".
+    in ``interviews/`` is no interview file. Path -> ("trait" or "variety", whether a
+    setting names it: `traits run` re-imports only those).
     """
     named = {ws.path("concepts").resolve(): "trait", ws.path("varieties").resolve(): "variety"}
     versions = store.concept_versions(ws.conn)
@@ -242,11 +243,14 @@ def imported_lists(ws: Workspace, files: Sequence[Path]) -> dict[Path, str]:
     by_sha = {v.sha256: v.kind for v in versions}
     found = {}
     for path in files:
-        kind = named.get(path.resolve()) or by_path.get(stored_path(ws, path))
+        if path.resolve() in named:
+            found[path] = (named[path.resolve()], True)
+            continue
+        kind = by_path.get(stored_path(ws, path))
         if kind is None and by_sha:
             kind = by_sha.get(file_sha256(path))
         if kind is not None:
-            found[path] = kind
+            found[path] = (kind, False)
     return found
 
 

@@ -151,11 +151,15 @@ def add_interviews(
     files = add_files(ws, paths, sheet=sheet, mapping=mapping) if paths else []
     if metadata:
         store.add_metadata_renames(ws.conn, metadata)
-    has_list = store.current_concept_version(ws.conn, "trait") is not None
+    return intake_report(ws, files)
+
+
+def intake_report(ws: Workspace, files: Sequence[FileReport]) -> AddReport:
+    """Return what `traits add` says of files just stored (also said by `traits run`)."""
     return AddReport(
         files=files,
         languages=stored_languages(ws),
-        concept_list=has_list,
+        concept_list=store.current_concept_version(ws.conn, "trait") is not None,
         unknown_questions=unknown_questions(ws),
         unlisted=unlisted_languages(ws, files),
     )

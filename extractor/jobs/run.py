@@ -19,7 +19,7 @@ from extractor.ingest.intake import (
     interview_files,
     stored_path,
 )
-from extractor.jobs.add import AddReport, stored_languages, unknown_questions, unlisted_languages
+from extractor.jobs.add import AddReport, intake_report
 from extractor.jobs.export import ExportResult, export_workbook
 from extractor.jobs.inputs import stance_params
 from extractor.jobs.status import WorkspaceCounts
@@ -226,17 +226,7 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
     lists = imported_lists(ws, files)
     files = [path for path in files if path not in lists]
     added = add_files(ws, files) if files else []
-    intake = (
-        AddReport(
-            files=added,
-            languages=stored_languages(ws),
-            concept_list=concepts is not None,
-            unknown_questions=unknown_questions(ws),
-            unlisted=unlisted_languages(ws, added),
-        )
-        if any(report.answers for report in added)
-        else None
-    )
+    intake = intake_report(ws, added) if any(report.answers for report in added) else None
     after = store.counts(ws.conn)
     new = NewSince(
         respondents=after["respondents"] - before["respondents"],
@@ -266,12 +256,7 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
         intake=intake,
         silent=silent_languages(ws, done.train.version),
         lists_in_interviews=tuple(
-            (
-                stored_path(ws, p),
-                kind,
-                p.resolve() == ws.path("concepts" if kind == "trait" else "varieties").resolve(),
-            )
-            for p, kind in lists.items()
+            (stored_path(ws, p), kind, named) for p, (kind, named) in lists.items()
         ),
     )
 
