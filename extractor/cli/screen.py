@@ -57,7 +57,6 @@ from extractor.loop.marking import (
 from extractor.loop.predictor import Predictor, Retrain
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
-from extractor.nlp.fold import fold
 from extractor.types import STANCES, Implicit, Span
 
 STANCE_KEYS = {"l": "liked", "d": "disliked", "w": "wanted", "n": "neutral"}
@@ -197,6 +196,10 @@ class LabelScreen:
                     return matches[int(answer) - 1].concept
                 self.console.print(Text(f"There is no match number {answer}."))
                 continue
+            chosen = screen_implicit.clear_concept(answer, self.entries, lang)
+            if chosen is not None:
+                self.console.print(Text(f"Concept: {concept_label(self.entries, chosen, lang)}."))
+                return chosen
             matches = rank_concepts(answer, self.entries, lang=lang)
             if not matches:
                 self.console.print(Text(f"No concept is named like {answer!r}; try others."))
@@ -327,10 +330,8 @@ class LabelScreen:
             return self.choose_concept(words, span.concept, lang)
         if query == "-":
             return None
-        matches = rank_concepts(query, self.entries, lang=lang)
-        exact = [m for m in matches if fold(query) in (fold(m.matched), fold(m.concept))]
-        if len(matches) == 1 or len({m.concept for m in exact}) == 1:
-            chosen = (exact or matches)[0].concept
+        chosen = screen_implicit.clear_concept(query, self.entries, lang)
+        if chosen is not None:
             self.say(f"Concept: {concept_label(self.entries, chosen, lang)}.")
             return chosen
         return self.choose_concept(words, span.concept, lang, query=query)

@@ -411,6 +411,17 @@ def test_concept_letters_on_one_line_that_fit_several_ask_which(
     assert _labels(conn)[19][0] == _span(19, "cooks fast", second, "liked")
 
 
+def test_letters_naming_one_concept_in_the_list_pick_it_without_a_number(
+    conn: sqlite3.Connection,
+) -> None:
+    # "t" fits several names, so the list is shown; "yield" then names one concept, which
+    # is taken at once (no "1" to type for a single match) and said back
+    _, screen = _run(conn, ["c 1 t", "yield", "", "q"], model_provider=_first(19))
+    assert "number to pick" in screen
+    assert "Concept: " in screen
+    assert _labels(conn)[19][0] == _span(19, "cooks fast", "BTX:0015", "liked")
+
+
 def test_new_span_stance_defaults_to_the_model_stance(conn: sqlite3.Connection) -> None:
     # the model says "bitter" is disliked in sentence 19, under a question that leans liked
     _run(conn, ["x 2", "bitter", "", "", "", "q"], model_provider=_first(19))
