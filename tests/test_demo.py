@@ -13,6 +13,7 @@ from pathlib import Path
 import pytest
 
 from extractor.ingest.intake import add_files, import_concepts, interview_files
+from extractor.jobs.add import unknown_questions
 from extractor.workspace import store
 from extractor.workspace.folder import Workspace, init_workspace
 
@@ -58,3 +59,13 @@ def test_demo_gold_matches_stored_sentences(demo: Workspace) -> None:
     for line in (SAMPLE / "gold.jsonl").read_text(encoding="utf-8").splitlines():
         record = json.loads(line)
         assert store.find_sentence(demo.conn, record["sentence"], record["respondent"]) is not None
+
+
+def test_every_demo_question_leans_or_is_coded_open(tmp_path: Path) -> None:
+    # The quick start names no question as telling stance nothing: the demo's codebook
+    # marks its questions without a lean ("How do you cook it or sell it?") as open.
+    (tmp_path / "sample_interviews").symlink_to(SAMPLE)
+    with Workspace.open(init_workspace(tmp_path)) as ws:
+        add_files(ws, interview_files(SAMPLE / "interviews"))
+        assert store.questions(ws.conn)
+        assert unknown_questions(ws) == ()

@@ -62,6 +62,7 @@ def init_workspace(root: Path) -> Path:
                 interviews=f"{DEMO_INPUTS}/{where.interviews}",
                 concepts=f"{DEMO_INPUTS}/{where.concepts}",
                 varieties=f"{DEMO_INPUTS}/{where.varieties}",
+                questions=f"{DEMO_INPUTS}/{where.questions}",
             )
             settings = dataclasses.replace(settings, workspace=demo)
         settings_path.write_text(render_template(settings), encoding="utf-8")

@@ -31,6 +31,7 @@ def test_init_workspace_points_the_demo_at_sample_interviews(tmp_path: Path) -> 
     with Workspace.open(tmp_path) as ws:
         assert ws.settings.workspace.interviews == "sample_interviews/interviews"
         assert ws.path("concepts") == tmp_path / "sample_interviews" / "concepts.csv"
+        assert ws.path("questions") == tmp_path / "sample_interviews" / "questions.csv"
 
 
 def test_workspace_open_reads_settings_and_connects(tmp_path: Path) -> None:
