@@ -198,7 +198,7 @@ class LabelScreen:
                 continue
             chosen = screen_implicit.clear_concept(answer, self.entries, lang)
             if chosen is not None:
-                self.console.print(Text(f"Concept: {concept_label(self.entries, chosen, lang)}."))
+                self.say(f"Concept: {concept_label(self.entries, chosen, lang)}.")
                 return chosen
             matches = rank_concepts(answer, self.entries, lang=lang)
             if not matches:
