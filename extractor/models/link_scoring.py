@@ -37,7 +37,8 @@ from extractor.nlp import pretrained
 from extractor.nlp.derivation import derivation_clash
 from extractor.nlp.dictionary import stem_word, stemmer_language
 from extractor.nlp.fold import fold, fold_words
-from extractor.nlp.nontrait import never_alone, only_function_words
+from extractor.nlp.nontrait import names_stance_only, never_alone, only_function_words
+from extractor.nlp.synonyms import SILVER_WORD_SIMILARITY
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -165,6 +166,8 @@ class Scorer:
         matrix: spmatrix | None,
         starts: np.ndarray,
         space: str = pretrained.NONE,
+        shared: dict[str, np.ndarray] | None = None,
+        shared_surfaces: dict[str, tuple[str, ...]] | None = None,
     ) -> None:
         self.forms = forms
         self.concepts = concepts
@@ -175,6 +178,8 @@ class Scorer:
         self.matrix = matrix
         self.starts = starts
         self.space = space
+        self.shared = shared or {}
+        self.shared_surfaces = shared_surfaces or {}
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
         self._forms_of: dict[str, list[tuple[str, str]]] | None = None
         self._form_vectors: np.ndarray | None = None
@@ -193,6 +198,7 @@ class Scorer:
         exact_own: dict[str, set[str]] = defaultdict(set)
         for concept, text, lang in ordered:
             exact_own[alias_key(text, lang)].add(concept)
+        shared, surfaces = shared_words(ordered)
         texts = [fold_words(t) for _, t, _ in ordered]
         vectorizer = TfidfVectorizer(analyzer="char_wb", ngram_range=(2, 4))
         matrix = vectorizer.fit_transform(texts) if texts else None
@@ -211,6 +217,8 @@ class Scorer:
             matrix=matrix,
             starts=np.array(starts, dtype=np.int64),
             space=space,
+            shared=shared,
+            shared_surfaces=surfaces,
         )
 
     def _exact_index(self, lang: str) -> dict[str, set[str]]:
@@ -271,16 +279,67 @@ class Scorer:
                 return True
         return False
 
-    def fuzzy(self, texts: Sequence[str]) -> np.ndarray:
-        """Return an ``(n, concepts)`` array of the best alias cosine per concept."""
+    def fuzzy(
+        self, texts: Sequence[str], ignore: Sequence[np.ndarray | None] | None = None
+    ) -> np.ndarray:
+        """Return an ``(n, concepts)`` array of the best alias cosine per concept.
+
+        ``ignore`` holds, per text, the forms left out of its maxima (:meth:`ignored`).
+        """
         if self.matrix is None or not texts:
             return np.zeros((len(texts), len(self.concepts)))
         sims = (self.vectorizer.transform([fold_words(t) for t in texts]) @ self.matrix.T).toarray()
+        for i, left_out in enumerate(ignore or ()):
+            if left_out is not None:
+                sims[i, left_out] = 0.0
         result: np.ndarray = np.maximum.reduceat(sims, self.starts, axis=1)
         return result
 
-    def semantic(self, items: Sequence[tuple[Sentence, Span]]) -> np.ndarray:
-        """Return an ``(n, concepts)`` array of the best rescaled cosine per concept (see above)."""
+    def ignored(self, items: Sequence[tuple[Sentence, Span]]) -> list[np.ndarray | None]:
+        """Return, per mention, the forms its fuzzy and semantic scores leave out.
+
+        A one-word mention whose word is a shared word of the forms (:func:`shared_words`:
+        "roots" of "big roots", "root yield" and "root necrosis") is not scored against
+        the forms that hold it: it names what they share (the plant part), and meets each
+        of them as closely as the others, by their letters and in the pretrained space,
+        which reads a phrase by its head noun. Its other forms, and the context
+        classifier, still count.
+        """
+        out: list[np.ndarray | None] = []
+        pending: list[tuple[int, str]] = []
+        for i, (sentence, span) in enumerate(items):
+            text = sentence.text[span.start : span.end]
+            key = alias_key(text, sentence.lang)
+            out.append(self.shared.get(key) if key and " " not in key else None)
+            if key and " " not in key and key not in self.shared:
+                pending.append((i, text))
+        loaded = pretrained.load_space(self.space) if pending and self.shared else None
+        if loaded is None:
+            return out
+        # In another language ("raízes" for "roots"): the word's nearest in the space is
+        # a shared word, at a single word's silver-alias cosine, nearer than any form.
+        keys = [k for k in sorted(self.shared_surfaces) for _ in self.shared_surfaces[k]]
+        words = [w for k in sorted(self.shared_surfaces) for w in self.shared_surfaces[k]]
+        if self._form_vectors is None:
+            self._form_vectors = loaded.words([t for _, t, _ in self.forms])
+        spans = loaded.words([text for _, text in pending])
+        to_shared = spans @ loaded.words(words).T
+        to_forms = (spans @ self._form_vectors.T).max(axis=1)
+        for row, (i, _) in enumerate(pending):
+            j = int(np.argmax(to_shared[row]))
+            if to_shared[row, j] >= SILVER_WORD_SIMILARITY and to_shared[row, j] > to_forms[row]:
+                out[i] = self.shared[keys[j]]
+        return out
+
+    def semantic(
+        self,
+        items: Sequence[tuple[Sentence, Span]],
+        ignore: Sequence[np.ndarray | None] | None = None,
+    ) -> np.ndarray:
+        """Return an ``(n, concepts)`` array of the best rescaled cosine per concept (see above).
+
+        ``ignore`` holds, per mention, the forms left out of its maxima (:meth:`ignored`).
+        """
         out = np.zeros((len(items), len(self.concepts)))
         loaded = pretrained.load_space(self.space) if self.forms else None
         if loaded is None or not items:
@@ -298,7 +357,12 @@ class Scorer:
         if not keep:
             return out
         spans = loaded.words([texts[i] for i in keep])
-        best = np.maximum.reduceat(spans @ self._form_vectors.T, self.starts, axis=1)
+        sims = spans @ self._form_vectors.T
+        for row, i in enumerate(keep):
+            left_out = ignore[i] if ignore else None
+            if left_out is not None:
+                sims[row, left_out] = -1.0
+        best = np.maximum.reduceat(sims, self.starts, axis=1)
         out[keep] = np.clip((best - SEMANTIC_FLOOR) / (1.0 - SEMANTIC_FLOOR), 0.0, 1.0)
         return out
 
@@ -317,16 +381,20 @@ class Scorer:
 
         ``features`` are the mentions' :func:`context_features` when already computed.
         """
-        fuzzy = self.fuzzy([s.text[sp.start : sp.end] for s, sp in items])
-        semantic = self.semantic(items)
+        ignore = self.ignored(items)
+        fuzzy = self.fuzzy([s.text[sp.start : sp.end] for s, sp in items], ignore)
+        semantic = self.semantic(items, ignore)
         ctx = None
         if self.context is not None:
             if features is None:
                 features = [context_features(s, sp) for s, sp in items]
             ctx = self.context_proba(features)
         col = {c: j for j, c in enumerate(self.concepts)}
-        out = []
+        out: list[dict[str, Scores]] = []
         for i, (sentence, span) in enumerate(items):
+            if _stance_only(sentence, span):
+                out.append({})  # "want", "I want": no trait, whatever its letters share
+                continue
             exact = self.exact(sentence, span)
             pool = set(exact)
             if len(self.concepts):
@@ -350,3 +418,44 @@ class Scorer:
                 }
             )
         return out
+
+
+def _stance_only(sentence: Sentence, span: Span) -> bool:
+    """Whether the span holds a verb of liking and function words only (never linked)."""
+    tokens = tokenize(sentence.text, sentence.lang or "xx")
+    inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
+    if not inside:
+        return False
+    words = [sentence.text[s:e] for s, e in tokens]
+    return names_stance_only(words, inside[0], inside[-1] + 1, sentence.lang)
+
+
+def shared_words(
+    forms: Sequence[Alias],
+) -> tuple[dict[str, np.ndarray], dict[str, tuple[str, ...]]]:
+    """Return each shared word's key with the indices of the forms that hold it, and its spellings.
+
+    A shared word is a word (:func:`alias_key`, keyed with its form's language) of the
+    forms of two concepts or more that is no form of one word itself: "root" of "root
+    yield", "big roots" and "root necrosis", "resistance" of "drought resistance" and
+    "disease resistance". See :meth:`Scorer.ignored`.
+    """
+    concepts_of: dict[str, set[str]] = defaultdict(set)
+    forms_of: dict[str, list[int]] = defaultdict(list)
+    spelling: dict[str, set[str]] = defaultdict(set)
+    whole: set[str] = set()
+    for j, (concept, text, lang) in enumerate(forms):
+        words = [text[a:b] for a, b in tokenize(text, lang or "xx")]
+        keys = [stem_word(w, lang or "xx") for w in words if any(c.isalnum() for c in w)]
+        if len(keys) == 1:
+            whole.add(keys[0])
+        for word, key in zip([w for w in words if any(c.isalnum() for c in w)], keys, strict=True):
+            concepts_of[key].add(concept)
+            if j not in forms_of[key]:
+                forms_of[key].append(j)
+            spelling[key].add(fold(word))
+    chosen = [w for w, cs in concepts_of.items() if len(cs) >= 2 and w not in whole]
+    return (
+        {w: np.array(forms_of[w], dtype=np.int64) for w in chosen},
+        {w: tuple(sorted(spelling[w])) for w in chosen},
+    )

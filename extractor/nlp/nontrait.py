@@ -14,7 +14,9 @@ where their endings are listed.
 
 :func:`only_function_words` says when a whole phrase is made of stop words (spaCy's
 lists) and verbs of liking: such a phrase ("gosto da", "c'est") names no trait, so
-neither the pretrained space's similarity nor a candidate synonym may link it.
+neither the pretrained space's similarity nor a candidate synonym may link it;
+:func:`names_stance_only` says when such a phrase holds a verb of liking, which the
+linker then links to nothing at all.
 """
 
 from __future__ import annotations
@@ -131,3 +133,18 @@ def is_function_word(word: str, lang: str) -> bool:
 def only_function_words(words: Sequence[str], lang: str) -> bool:
     """Whether every word is a function word or a verb of liking (see the module docstring)."""
     return all(is_function_word(w, lang) for w in words)
+
+
+def names_stance_only(words: Sequence[str], first: int, last: int, lang: str) -> bool:
+    """Whether ``words[first:last]`` hold a verb of liking and nothing but function words.
+
+    Such a span ("want", "I want", "gosto da") says how the speaker feels, not about what:
+    it is linked to no concept, whatever its letters share with an alias ("want" and
+    "wanga"). A stop word alone is not enough: spaCy's lists hold words that do name
+    traits ("grande", "keep well", "rend plus"), so the verb of liking must be there,
+    and a liking-verb form after a determiner is the noun ("o gosto": the taste).
+    """
+    span = range(first, last)
+    return any(is_liking_verb(words, i, lang) for i in span) and all(
+        is_function_word(words[i], lang) for i in span
+    )

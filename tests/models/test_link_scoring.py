@@ -8,10 +8,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from extractor.models.link_scoring import Scorer
+from extractor.models.link_scoring import Scorer, shared_words
 from extractor.models.linking import DEFAULT_WEIGHTS, ConceptLinker
 from extractor.nlp import pretrained
 from extractor.types import Sentence, Span
+from tests import maize
 
 needs_space = pytest.mark.skipif(
     not pretrained.installed(pretrained.DEFAULT),
@@ -151,3 +152,94 @@ def test_linker_saved_before_the_semantic_score_loads_with_weight_zero(tmp_path:
     assert old.space == pretrained.NONE
     assert old.weights_ == [*DEFAULT_WEIGHTS[:4], 0.0]
     assert old.link(*_item("The price is low.", "price", "en")).concept == "C:price"
+
+
+# ---------------------------------------------------------------- stance-only spans
+
+# An invented list whose alias shares its first letters with an English verb of wanting.
+WANTING = [("C:starch", "wanga", "sw"), ("C:starch", "starch", "en"), ("C:pest", "pests", "en")]
+
+
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        ("I want cuttings to be easier to find.", "want"),
+        ("I want cuttings to be easier to find.", "I want"),
+        ("Quero uma variedade nova.", "Quero"),  # pt "I want", from memory
+    ],
+)
+def test_a_verb_of_wanting_links_to_nothing_whatever_its_letters(text: str, words: str) -> None:
+    lang = "pt" if text.startswith("Quero") else "en"
+    item = _item(text, words, lang)
+    linker = ConceptLinker().fit([], WANTING + [("C:starch", "querosene", "pt")])
+    assert linker.scorer_.candidates([item]) == [{}]
+    assert linker.link(*item).concept is None
+    # the letters alone would link "want" to "wanga" (character 2-4-grams "wa", "wan")
+    assert linker.scorer_.fuzzy([words])[0].max() > 0.2
+
+
+def test_a_noun_after_its_determiner_still_links() -> None:
+    # pt "o gosto" is "the taste" (from memory): a liking-verb form after a determiner
+    linker = ConceptLinker().fit([], [("C:taste", "gosto", "pt"), ("C:pest", "pests", "en")])
+    assert linker.link(*_item("O gosto é bom.", "gosto", "pt")).concept == "C:taste"
+
+
+# ---------------------------------------------------------------- shared words
+
+# An invented list in which "grains" is the plant part three concepts share.
+GRAINS = [
+    ("C:size", "big grains", "en"),
+    ("C:size", "grain size", "en"),
+    ("C:colour", "white grains", "en"),
+    ("C:colour", "grain colour", "en"),
+    ("C:yield", "grain yield", "en"),
+    ("C:yield", "yield", "en"),
+    ("C:drought", "drought tolerance", "en"),
+]
+
+
+def test_shared_words_are_words_of_two_concepts_that_are_no_form_alone() -> None:
+    shared, spelling = shared_words(GRAINS)
+    assert sorted(shared) == ["grain"]  # "yield" is a form alone, "toler" one concept's
+    assert spelling["grain"] == ("grain", "grains")
+    assert len(shared["grain"]) == 5
+
+
+def test_a_shared_word_alone_links_to_none_of_its_forms() -> None:
+    linker = ConceptLinker().fit([], GRAINS)
+    bare = _item("The grains fill the cob.", "grains", "en")
+    assert linker.link(*bare).concept is None
+    without = Scorer.build(GRAINS, None)
+    without.shared = {}
+    assert without.fuzzy(["grains"]).max() > 0.5  # what the rule takes away
+    # the phrase that holds the shared word, and a word of one concept, keep their links
+    assert linker.link(*_item("They have big grains.", "big grains", "en")).concept == "C:size"
+    assert linker.link(*_item("Good in drought years.", "drought", "en")).concept == "C:drought"
+
+
+@needs_space
+def test_a_shared_word_in_another_language_links_to_none_of_its_forms() -> None:
+    # Spanish "granos" is "grains" (from memory; cosine 0.83 in the space)
+    linker = ConceptLinker(space=pretrained.DEFAULT).fit([], GRAINS)
+    assert linker.scorer_.ignored([_item("Los granos llenan.", "granos", "es")])[0] is not None
+    assert linker.link(*_item("Los granos llenan.", "granos", "es")).concept is None
+    assert linker.scorer_.ignored([_item("Mucho rendimiento.", "rendimiento", "es")]) == [None]
+
+
+@pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
+def test_no_labelled_maize_mention_is_a_shared_word_or_a_stance_only_span() -> None:
+    # Real farmer answers (maize concept-testing data, CC BY 4.0) and our labels on 300 of
+    # them (tests/maize.py): none of the 406 labelled trait mentions loses its scores to
+    # either rule, so neither can cost a right link there.
+    loaded = maize.load_workspace()
+    assert loaded is not None
+    _, _, aliases = loaded
+    scorer = Scorer.build(aliases, None, pretrained.DEFAULT)
+    items = [
+        (Sentence(1, record["text"], "en"), Span(m["start"], m["end"]))
+        for record in maize.load_maize_gold() or []
+        for m in record["spans"]
+    ]
+    assert len(items) == 406
+    assert scorer.ignored(items) == [None] * len(items)
+    assert all(scorer.candidates([item]) != [{}] for item in items)
