@@ -183,6 +183,7 @@ class Scorer:
         self._exact_by_lang: dict[str, dict[str, set[str]]] = {}
         self._forms_of: dict[str, list[tuple[str, str]]] | None = None
         self._form_vectors: np.ndarray | None = None
+        self._shared_vectors: np.ndarray | None = None
 
     @classmethod
     def build(
@@ -318,12 +319,14 @@ class Scorer:
             return out
         # In another language ("raízes" for "roots"): the word's nearest in the space is
         # a shared word, at a single word's silver-alias cosine, nearer than any form.
+        if self._shared_vectors is None:
+            words = [w for k in sorted(self.shared_surfaces) for w in self.shared_surfaces[k]]
+            self._shared_vectors = loaded.words(words)
         keys = [k for k in sorted(self.shared_surfaces) for _ in self.shared_surfaces[k]]
-        words = [w for k in sorted(self.shared_surfaces) for w in self.shared_surfaces[k]]
         if self._form_vectors is None:
             self._form_vectors = loaded.words([t for _, t, _ in self.forms])
         spans = loaded.words([text for _, text in pending])
-        to_shared = spans @ loaded.words(words).T
+        to_shared = spans @ self._shared_vectors.T
         to_forms = (spans @ self._form_vectors.T).max(axis=1)
         for row, (i, _) in enumerate(pending):
             j = int(np.argmax(to_shared[row]))
