@@ -32,7 +32,14 @@ two keys of this screen alone (not in the tool):
   the weighted features (``"dense_float"``: true keeps the weighted features too);
 * ``"syntax"``: names or groups of ``tests/bench/syntax_attrs.py``, attributes from the
   tags and dependency parse of a packaged spaCy pipeline appended to every sentence's
-  token attributes (training and val alike).
+  token attributes (training and val alike);
+* ``"prior"``: a dict of :class:`Prior` settings (``{}`` for its defaults): a logistic
+  regression (scikit-learn) on the words' full pretrained vectors predicts "token inside
+  a span" from the labelled sentences; its out-of-fold probabilities (cross-fitted by
+  sentence) are added to the labelled sentences' tokens, the probabilities of a model
+  fitted on all of them to the val tokens, as weighted features (a stacked prior); the
+  tagger is then trained on the labelled sentences alone, with the axes as
+  ``axes_below`` says.
 """
 
 from __future__ import annotations
@@ -52,6 +59,7 @@ sys.path.insert(0, str(ROOT))
 import numpy as np  # noqa: E402
 
 from extractor.models import tagger_training  # noqa: E402
+from extractor.models.crf_items import crf_tokens  # noqa: E402
 from extractor.models.recall_decoding import recall_tags  # noqa: E402
 from extractor.models.tagger import TagPath, TraitTagger, sentence_items  # noqa: E402
 from extractor.models.tagger_training import fit_tagger  # noqa: E402
@@ -121,6 +129,125 @@ class Dense:
         return out
 
 
+class Prior:
+    """A stacked word-level prior: logistic regression on pretrained word vectors (screen only).
+
+    Settings: ``C`` (inverse regularisation, default 1), ``context`` (1: the vectors of
+    the tokens either side are concatenated to the token's own), ``dims`` (0: the full
+    vectors; else the centred vectors projected on that many main axes), ``folds`` (5),
+    ``outputs`` (any of ``"p"``: the probability; ``"logit"``: the logit / 4, clipped to
+    +-2; ``"nbr"``: the probabilities of the tokens at -1 and +1; ``"bins"``: the
+    probability as one of three indicators cut at 0.2 and 0.5), ``scale`` (multiplies
+    the floats, default 1), ``balanced`` (class weights balanced), ``target`` (``"span"``
+    inside vs outside; ``"bio"``: three classes, giving P(B) and P(I) as ``pb``/``pi``).
+    """
+
+    def __init__(self, words: set[str], settings: dict[str, Any]) -> None:
+        space = pretrained.load_space()
+        if space is None:
+            sys.exit("prior needs the pretrained space, which did not load.")
+        vocab = sorted(words)
+        matrix = space.words(vocab).astype(np.float64)
+        dims = int(settings.get("dims", 0))
+        if dims:
+            matrix = pretrained.reduced(matrix - matrix.mean(axis=0), dims).astype(np.float64)
+        self.index = {w: i for i, w in enumerate(vocab)}
+        self.matrix = np.vstack([matrix, np.zeros((1, matrix.shape[1]))])  # last row: padding
+        self.C = float(settings.get("C", 1.0))
+        self.context = int(settings.get("context", 0))
+        self.folds = int(settings.get("folds", 5))
+        self.outputs = list(settings.get("outputs", ["p"]))
+        self.scale = float(settings.get("scale", 1.0))
+        self.balanced = bool(settings.get("balanced", False))
+        self.target = settings.get("target", "span")
+
+    def rows(self, words: list[str]) -> np.ndarray:
+        """Return the LR input rows of one sentence's tokens."""
+        ids = [self.index[w.lower()] for w in words]
+        own = self.matrix[ids]
+        if not self.context:
+            return own
+        pad = len(self.matrix) - 1
+        prev = self.matrix[[pad] + ids[:-1]]
+        nxt = self.matrix[ids[1:] + [pad]]
+        return np.hstack([prev, own, nxt])
+
+    def _model(self, X: np.ndarray, y: np.ndarray) -> Any:
+        from sklearn.linear_model import LogisticRegression  # noqa: PLC0415
+
+        weight = "balanced" if self.balanced else None
+        return LogisticRegression(C=self.C, max_iter=2000, class_weight=weight).fit(X, y)
+
+    def _labels(self, tags: list[str]) -> list[int]:
+        if self.target == "bio":
+            return [{"O": 0, "B-TRAIT": 1, "I-TRAIT": 2}[t] for t in tags]
+        return [int(t != "O") for t in tags]
+
+    def _probs(self, model: Any, X: np.ndarray) -> np.ndarray:
+        """Return P(inside) per row (and P(B), P(I) for ``"bio"``)."""
+        proba = model.predict_proba(X)
+        classes = list(model.classes_)
+        out = np.zeros((len(X), 3))
+        for k, c in enumerate(classes):
+            out[:, c] = proba[:, k]
+        if self.target != "bio":
+            return out[:, 1:2]
+        return np.column_stack([out[:, 1] + out[:, 2], out[:, 1], out[:, 2]])
+
+    def fit_score(
+        self, labeled: list[tuple[list[str], list[str]]], others: list[list[str]]
+    ) -> tuple[list[np.ndarray], list[np.ndarray]]:
+        """Return out-of-fold probabilities of the labelled sentences, full-fit ones of others."""
+        rows = [self.rows(w) for w, _ in labeled]
+        ys = [np.asarray(self._labels(t)) for _, t in labeled]
+        oof: list[np.ndarray] = [np.zeros((len(r), 1)) for r in rows]
+        for fold in range(self.folds):
+            train = [i for i in range(len(rows)) if i % self.folds != fold]
+            held = [i for i in range(len(rows)) if i % self.folds == fold]
+            model = self._model(
+                np.vstack([rows[i] for i in train]), np.concatenate([ys[i] for i in train])
+            )
+            for i in held:
+                oof[i] = self._probs(model, rows[i])
+        model = self._model(np.vstack(rows), np.concatenate(ys))
+        return oof, [self._probs(model, self.rows(w)) for w in others]
+
+    def features(self, probs: np.ndarray) -> list[dict[bytes, float]]:
+        """Return each token's prior features."""
+        p = np.clip(probs[:, 0], 1e-6, 1 - 1e-6)
+        out: list[dict[bytes, float]] = []
+        for i, value in enumerate(p):
+            row: dict[bytes, float] = {}
+            if "p" in self.outputs:
+                row[b"sp"] = self.scale * float(value)
+            if "logit" in self.outputs:
+                row[b"sl"] = self.scale * float(np.clip(np.log(value / (1 - value)) / 4, -2, 2))
+            if "nbr" in self.outputs:
+                if i > 0:
+                    row[b"-1sp"] = self.scale * float(p[i - 1])
+                if i + 1 < len(p):
+                    row[b"+1sp"] = self.scale * float(p[i + 1])
+            if "bins" in self.outputs:
+                row[f"sb:{int(value >= 0.2) + int(value >= 0.5)}".encode()] = 1.0
+            if "bi" in self.outputs and probs.shape[1] == 3:
+                row[b"pb"] = self.scale * float(probs[i, 1])
+                row[b"pi"] = self.scale * float(probs[i, 2])
+            out.append(row)
+        return out
+
+
+def with_prior(feats: Any, extra: list[dict[bytes, float]]) -> list[dict[Any, float]]:
+    """Return a sentence's tokens as ``{name: value}`` dicts with the prior's features added."""
+    out = []
+    for token, add in zip(crf_tokens(feats, {}), extra, strict=True):
+        row: dict[Any, float] = (
+            dict(token) if isinstance(token, dict) else dict.fromkeys(token, 1.0)
+        )
+        row.update(add)
+        out.append(row)
+    return out
+
+
 def with_syntax(names: list[str], parses: dict[str, syntax_attrs.Parse]) -> Any:
     """Return ``sentence_items`` with the syntax attributes of templates ``names`` appended."""
 
@@ -174,10 +301,13 @@ def main() -> None:
         features.AXES_SCALE = params.pop("axes_scale", 1.0)
         features._featurizer_in_use = features._Featurizer(None)  # words made afresh
         names = syntax_attrs.expand(params.pop("syntax", []))
+        prior_settings = params.pop("prior", None)
+        prior = Prior(words, prior_settings) if prior_settings is not None else None
         items = with_syntax(names, parses) if names else sentence_items
         tagger_training.sentence_items = items  # fit_tagger's features
         val_items = [items(s, None, clusters)[:2] for s, _ in val]
         val_axes = [items(s, None, clusters, axes=True)[1] for s, _ in val]
+        val_words = [word_list(s, o) for (s, _), (o, _) in zip(val, val_items, strict=True)]
         dense = Dense(words, dims, scale, bins, keep) if dims else None
         val_X: list[Any] = [f for _, f in val_items]
         if dense is not None:
@@ -195,7 +325,34 @@ def main() -> None:
                 if args.pool:
                     rest = rest[: args.pool]
                 started = time.process_time()
-                if dense is None:
+                axes_on = 0 < size < params["axes_below"]
+                if prior is not None:
+                    lab_items = [items(s, None, clusters, axes=axes_on)[:2] for s, _ in labeled]
+                    lab_words = [
+                        word_list(s, o) for (s, _), (o, _) in zip(labeled, lab_items, strict=True)
+                    ]
+                    y = [
+                        spans_to_iob(o, g)
+                        for (o, _), (_, g) in zip(lab_items, labeled, strict=True)
+                    ]
+                    oof, val_probs = prior.fit_score(
+                        list(zip(lab_words, y, strict=True)), val_words
+                    )
+                    X = [
+                        with_prior(f, prior.features(p))
+                        for (_, f), p in zip(lab_items, oof, strict=True)
+                    ]
+                    own = {k: v for k, v in params.items() if k != "axes_below"}
+                    tagger = TraitTagger(**own).fit(X, y)
+                    seconds.append(time.process_time() - started)
+                    base_val = val_axes if axes_on else [f for _, f in val_items]
+                    paths = tagger.predict(
+                        [
+                            with_prior(f, prior.features(p))
+                            for f, p in zip(base_val, val_probs, strict=True)
+                        ]
+                    )
+                elif dense is None:
                     tagger = fit_tagger(labeled, rest, None, clusters, **params)
                 else:
                     X, y = [], []
@@ -205,8 +362,9 @@ def main() -> None:
                         y.append(spans_to_iob(offsets, spans))
                     own = {k: v for k, v in params.items() if k != "axes_below"}
                     tagger = TraitTagger(**own).fit(X, y)
-                seconds.append(time.process_time() - started)
-                paths = tagger.predict(val_axes if tagger.space_axes else val_X)
+                if prior is None:
+                    seconds.append(time.process_time() - started)
+                    paths = tagger.predict(val_axes if tagger.space_axes else val_X)
                 pred = [
                     iob_to_spans(o, p.tags) if threshold is None else recall_spans(o, p, threshold)
                     for (o, _), p in zip(val_items, paths, strict=True)
