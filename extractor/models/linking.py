@@ -18,21 +18,26 @@ match is right and leaves most new phrasings and other languages unlinked (DEVEL
 "Concept lists in one language"). The best candidate below ``threshold`` leaves the
 mention unlinked; :func:`choose_threshold` measures a threshold on held-out gold links.
 
-A link of a one-word mention must also hold for the phrase the word makes with each
-adjacent content word (:func:`neighbour_phrases`): where the linker gives that phrase
-the same concept with a probability below ``phrase_threshold``, the mention stays
-unlinked. A list alias used in another sense, or met by a surface accident, loses its
-link once its neighbour is read with it ("perder plata", "palo cuesta", "variété
-rapide" taken for a market term), while a trait word keeps it ("haricot grimpant",
-"stakes cost"); a neighbour that is itself a word of the concept list is not read. See
-DEVELOPERS.md, "Alias words in another sense". The phrase is never an alias, so what
-keeps its link is the context classifier (and the pretrained space): a concept the
-classifier has no linked example of (the analyst's or the dictionary's) is not checked.
+A one-word mention is read in the phrases it makes with its neighbours
+(:mod:`extractor.nlp.neighbours`). Its link must hold for the phrase with each adjacent
+content word: where the linker gives that phrase the same concept with a probability below
+``phrase_threshold``, the mention stays unlinked. A list alias used in another sense, or
+met by a surface accident, loses its link once its neighbour is read with it ("perder
+plata", "palo cuesta", "sell plates"), while a trait word keeps it ("haricot grimpant",
+"stakes cost"). And where the noun phrase it stands in (the nearest content word across
+determiners, prepositions and quantifiers) gives another concept a higher probability
+than the mention's, at least ``threshold``, the mention takes that concept: the phrase
+names the trait ("market for green maize", "tarda en la olla"). A neighbour that is itself
+an alias of the list is not read: it brings a trait of its own ("Store Food"). See
+DEVELOPERS.md, "Alias words in another sense" and its ninth round. The phrase is never an
+alias, so what speaks for it is the context classifier (and the pretrained space): a
+concept the classifier has no linked example of (the analyst's or the dictionary's) is
+not checked.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 from pathlib import Path
 from typing import NamedTuple
 
@@ -57,7 +62,8 @@ from extractor.models.link_scoring import (
 from extractor.models.persist import load_trusted_skops, read_meta, write_meta
 from extractor.nlp import pretrained
 from extractor.nlp.dictionary import stem_word
-from extractor.nlp.nontrait import is_function_word
+from extractor.nlp.neighbours import neighbour_phrases
+from extractor.nlp.nontrait import joins_noun_phrase
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
 
@@ -120,6 +126,8 @@ class ConceptLinker(BaseEstimator):
         phrase_threshold: Probability the phrase of a one-word mention and an adjacent
             content word must keep for the mention's concept (module docstring); 0
             turns the check off.
+        read_noun_phrase: Whether a one-word mention takes the concept its noun phrase
+            gives more than its own (module docstring).
     """
 
     def __init__(
@@ -131,6 +139,7 @@ class ConceptLinker(BaseEstimator):
         seed: int = 0,
         space: str = pretrained.NONE,
         phrase_threshold: float = PHRASE_THRESHOLD,
+        read_noun_phrase: bool = True,
     ) -> None:
         self.threshold = threshold
         self.C = C
@@ -138,6 +147,7 @@ class ConceptLinker(BaseEstimator):
         self.seed = seed
         self.space = space
         self.phrase_threshold = phrase_threshold
+        self.read_noun_phrase = read_noun_phrase
 
     def fit(
         self,
@@ -183,7 +193,7 @@ class ConceptLinker(BaseEstimator):
             )
         self.aliases_ = alias_list
         self.example_forms_ = example_forms(own)
-        self._list_words_by_lang: dict[str, frozenset[str]] = {}
+        self._alias_words_by_lang: dict[str, frozenset[str]] = {}
         # Computed once: the combiner's folds reuse them.
         features = [context_features(s, sp) for s, sp, _ in examples]
         concepts = [c for _, _, c in examples]
@@ -280,62 +290,79 @@ class ConceptLinker(BaseEstimator):
             best = scored[0] if scored else (None, 0.0)
             concept = best[0] if best[1] >= self.threshold else None
             results.append(LinkResult(concept, best[1], scored))
-        if self.phrase_threshold > 0 and self.scorer_.context is not None:
-            results = self._hold_in_phrases(items, results, gold)
+        reads = self.phrase_threshold > 0 or self.read_noun_phrase
+        if reads and self.scorer_.context is not None:
+            results = self._read_in_phrases(items, results, gold)
         return results
 
-    def _hold_in_phrases(
+    def _read_in_phrases(
         self,
         items: Sequence[tuple[Sentence, Span]],
         results: list[LinkResult],
         gold: Sequence[str | None] | None,
     ) -> list[LinkResult]:
-        """Unlink one-word mentions whose concept the phrase with a neighbour does not keep.
+        """Relink or unlink one-word mentions by the phrases they make (module docstring).
 
-        Only concepts the context classifier has seen linked are checked: for another,
+        Only concepts the context classifier has seen linked are read: for another,
         nothing but the alias's spelling speaks for it, and no phrase has that spelling.
-        A neighbour that is itself a word of the concept list is not read: it brings a
-        trait of its own ("Store Food"), not another sense of the mention's word.
+        A neighbour that is itself an alias of the list is not read.
 
-        The probability of the unlinked mention becomes the lowest the phrases give its
-        concept; its candidates stay as they were.
+        A mention its noun phrase relinks gets the phrase's probability; one that a
+        phrase with an adjacent word does not keep is unlinked, with the lowest
+        probability the phrases give its concept. The candidates stay as they were.
         """
         known = set(self.scorer_.context_classes)
-        checks: list[tuple[int, Sentence, Span]] = []
+        # (item, phrase, whether it is the noun-phrase reading); the adjacent phrase is
+        # often also the noun phrase's: both readings use its one score.
+        checks: dict[tuple[int, Span], set[bool]] = {}
         for i, ((sentence, span), result) in enumerate(zip(items, results, strict=True)):
             if result.concept not in known or (gold is not None and gold[i] is not None):
                 continue
-            listed = self._list_words(sentence.lang)
-            for wide in neighbour_phrases(sentence, span):
-                start, end = (
-                    (wide.start, span.start) if wide.start < span.start else (span.end, wide.end)
-                )
-                if stem_word(sentence.text[start:end].strip(), sentence.lang) not in listed:
-                    checks.append((i, sentence, wide))
+            aliases = self._alias_words(sentence.lang)
+            readings: list[tuple[bool, Callable[[str, str], bool] | None]] = []
+            readings += [(False, None)] if self.phrase_threshold > 0 else []
+            readings += [(True, joins_noun_phrase)] if self.read_noun_phrase else []
+            for noun_phrase, across in readings:
+                for wide, word in neighbour_phrases(sentence, span, across):
+                    if (
+                        stem_word(sentence.text[word.start : word.end], sentence.lang)
+                        not in aliases
+                    ):
+                        checks.setdefault((i, wide), set()).add(noun_phrase)
         if not checks:
             return results
         lowest: dict[int, float] = {}
-        cands = self.scorer_.candidates([(sentence, wide) for _, sentence, wide in checks])
-        for (i, _, _), scores in zip(checks, cands, strict=True):
+        other: dict[int, tuple[str, float]] = {}
+        cands = self.scorer_.candidates([(items[i][0], wide) for i, wide in checks])
+        for ((i, _), kinds), scores in zip(checks.items(), cands, strict=True):
             concept = results[i].concept
-            held = combine(self.weights_, scores[concept]) if concept in scores else 0.0
-            lowest[i] = min(lowest.get(i, 1.0), held)
+            probs = {c: combine(self.weights_, s) for c, s in scores.items()}
+            held = probs.get(concept or "", 0.0)
+            if False in kinds:
+                lowest[i] = min(lowest.get(i, 1.0), held)
+            best = max(((p, c) for c, p in probs.items() if c != concept), default=None)
+            if True in kinds and best and best[0] > held and best[0] >= self.threshold:
+                if best[0] > other.get(i, ("", 0.0))[1]:
+                    other[i] = (best[1], best[0])
         return [
-            LinkResult(None, lowest[i], r.candidates)
+            LinkResult(other[i][0], other[i][1], r.candidates)
+            if i in other
+            else LinkResult(None, lowest[i], r.candidates)
             if lowest.get(i, 1.0) < self.phrase_threshold
             else r
             for i, r in enumerate(results)
         ]
 
-    def _list_words(self, lang: str) -> frozenset[str]:
-        """Return the keys of every word of the aliases, keyed with ``lang``'s stemmer."""
-        cache = self._list_words_by_lang
+    def _alias_words(self, lang: str) -> frozenset[str]:
+        """Return the keys of the one-word aliases (the list's and silver ones) in ``lang``."""
+        cache = self._alias_words_by_lang
         if lang not in cache:
-            cache[lang] = frozenset(
-                stem_word(text[a:b], lang)
-                for _, text, alias_lang in self.aliases_
-                for a, b in tokenize(text, alias_lang or "xx")
-            )
+            keys = set()
+            for _, text, alias_lang in self.aliases_:
+                words = tokenize(text, alias_lang or "xx")
+                if len(words) == 1:
+                    keys.add(stem_word(text[words[0][0] : words[0][1]], lang))
+            cache[lang] = frozenset(keys)
         return cache[lang]
 
     def link(self, sentence: Sentence, span: Span, gold: str | None = None) -> LinkResult:
@@ -388,37 +415,13 @@ class ConceptLinker(BaseEstimator):
         linker = cls(**meta["params"])
         linker.aliases_ = [tuple(a) for a in meta["aliases"]]
         linker.example_forms_ = [tuple(a) for a in meta["example_forms"]]
-        linker._list_words_by_lang = {}
+        linker._alias_words_by_lang = {}
         linker.scorer_ = Scorer.build(
             linker.aliases_ + linker.example_forms_, context, linker.space
         )
         weights = [float(w) for w in meta["weights"]]
         linker.weights_ = weights + [0.0] * (len(DEFAULT_WEIGHTS) - len(weights))
         return linker
-
-
-def neighbour_phrases(sentence: Sentence, span: Span) -> list[Span]:
-    """Return the span widened by each adjacent content word, when the span is one word.
-
-    A content word is a token with a letter that is no stop word or verb of liking
-    (:func:`extractor.nlp.nontrait.is_function_word`); punctuation between stops the
-    widening, since punctuation is a token of its own. Both sides are read, whatever
-    the language's word order: a modifier comes before its noun in English ("sweet
-    potatoes") and after it in French, Spanish, Portuguese and Swahili ("patate douce").
-    """
-    tokens = tokenize(sentence.text, sentence.lang or "xx")
-    inside = [k for k, (s, e) in enumerate(tokens) if s < span.end and e > span.start]
-    if len(inside) != 1:
-        return []
-    k = inside[0]
-    out = []
-    for j in (k - 1, k + 1):
-        if 0 <= j < len(tokens):
-            start, end = tokens[j]
-            word = sentence.text[start:end]
-            if any(c.isalpha() for c in word) and not is_function_word(word, sentence.lang):
-                out.append(Span(min(span.start, start), max(span.end, end)))
-    return out
 
 
 # ------------------------------------------------------------------ threshold

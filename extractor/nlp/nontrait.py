@@ -60,6 +60,27 @@ DETERMINERS: dict[str, frozenset[str]] = {
 }
 """Determiners before a noun, folded: after one, a liking-verb form is the noun."""
 
+PREPOSITIONS: dict[str, frozenset[str]] = {
+    "en": frozenset("of for in on at to with from by about".split()),
+    "fr": frozenset("de d du des a au aux en dans pour par sur avec sans".split()),
+    "es": frozenset("de del en a al para por con sin sobre".split()),
+    "pt": frozenset("de do da dos das em no na nos nas a ao aos para por com sem".split()),
+    "sw": frozenset("ya wa la za cha vya kwa katika".split()),
+}
+"""Common prepositions, folded, with the contractions of a preposition and an article
+(from memory): they tie a noun to the noun phrase it completes ("market for green maize",
+"tarda en la olla"). Swahili: the "-a of" connectives and "kwa", "katika"; "na" (and,
+with) is left out, since it also joins two items."""
+
+QUANTIFIERS: dict[str, frozenset[str]] = {
+    "en": frozenset("all every each".split()),
+    "fr": frozenset("tout toute tous toutes chaque".split()),
+    "es": frozenset("todo toda todos todas cada".split()),
+    "pt": frozenset("todo toda todos todas cada".split()),
+}
+"""Quantifiers that stand before a determiner or a noun, folded (from memory; French
+grammar counts "tout" among the determiners: "de toutes les couleurs")."""
+
 REFLEXIVE_CLITICS: dict[str, frozenset[str]] = {
     "fr": frozenset("se s me m te t nous vous".split()),
     "es": frozenset("se me te nos os".split()),
@@ -87,6 +108,20 @@ def is_liking_verb(words: Sequence[str], i: int, lang: str) -> bool:
     if fold(words[i]) not in LIKING_VERBS.get(code, frozenset()):
         return False
     return not (i > 0 and fold(words[i - 1]) in DETERMINERS.get(code, frozenset()))
+
+
+def joins_noun_phrase(word: str, lang: str) -> bool:
+    """Whether ``word`` is a determiner, preposition or quantifier of ``lang``.
+
+    Such words may stand between a noun and the words of its noun phrase
+    (:mod:`extractor.nlp.neighbours`); an elided form keeps its apostrophe as a token
+    ("l'", "d'"), which is ignored.
+    """
+    code = _code(lang)
+    key = fold(word).rstrip("'’")
+    return any(
+        key in table.get(code, frozenset()) for table in (DETERMINERS, PREPOSITIONS, QUANTIFIERS)
+    )
 
 
 def is_reflexive_clitic(word: str, lang: str) -> bool:

@@ -20,9 +20,9 @@ from extractor.models.linking import (
     choose_threshold,
     link_scores,
     linking_quality,
-    neighbour_phrases,
 )
 from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.neighbours import neighbour_phrases
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
 from tests import maize
@@ -224,7 +224,9 @@ def test_load_missing_raises(tmp_path: Path) -> None:
 def test_clone_gives_an_unfitted_linker_with_the_same_params(cold: ConceptLinker) -> None:
     # scikit-learn's clone is the outside reference for the estimator contract: it
     # rebuilds an estimator from get_params() alone and checks that __init__ stored them.
-    linker = ConceptLinker(threshold=0.4, C=2.0, folds=3, seed=7, phrase_threshold=0.3)
+    linker = ConceptLinker(
+        threshold=0.4, C=2.0, folds=3, seed=7, phrase_threshold=0.3, read_noun_phrase=False
+    )
     assert clone(linker).get_params() == {
         "C": 2.0,
         "folds": 3,
@@ -232,6 +234,7 @@ def test_clone_gives_an_unfitted_linker_with_the_same_params(cold: ConceptLinker
         "threshold": 0.4,
         "space": "none",
         "phrase_threshold": 0.3,
+        "read_noun_phrase": False,
     }
     assert cold.is_fitted and not clone(cold).is_fitted
 
@@ -306,7 +309,7 @@ def test_neighbour_phrases_take_each_adjacent_content_word(
     text: str, word: str, lang: str, phrases: list[str]
 ) -> None:
     sentence, span = _mention(text, word, lang)
-    assert [text[w.start : w.end] for w in neighbour_phrases(sentence, span)] == phrases
+    assert [text[w.span.start : w.span.end] for w in neighbour_phrases(sentence, span)] == phrases
 
 
 _PLATE = [
