@@ -65,12 +65,11 @@ PREPOSITIONS: dict[str, frozenset[str]] = {
     "fr": frozenset("de d du des a au aux en dans pour par sur avec sans".split()),
     "es": frozenset("de del en a al para por con sin sobre".split()),
     "pt": frozenset("de do da dos das em no na nos nas a ao aos para por com sem".split()),
-    "sw": frozenset("ya wa la za cha vya kwa katika".split()),
 }
 """Common prepositions, folded, with the contractions of a preposition and an article
 (from memory): they tie a noun to the noun phrase it completes ("market for green maize",
-"tarda en la olla"). Swahili: the "-a of" connectives and "kwa", "katika"; "na" (and,
-with) is left out, since it also joins two items."""
+"tarda en la olla"). None for Swahili: spaCy has no Swahili stop words, so its
+connectives ("bei ya mahindi") count as content words and no reading crosses them."""
 
 QUANTIFIERS: dict[str, frozenset[str]] = {
     "en": frozenset("all every each".split()),
