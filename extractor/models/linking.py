@@ -307,9 +307,10 @@ class ConceptLinker(BaseEstimator):
         nothing but the alias's spelling speaks for it, and no phrase has that spelling.
         A neighbour that is itself an alias of the list is not read.
 
-        A mention its noun phrase relinks gets the phrase's probability; one that a
-        phrase with an adjacent word does not keep is unlinked, with the lowest
-        probability the phrases give its concept. The candidates stay as they were.
+        A mention its noun phrase relinks gets the phrase's concept and probability,
+        first among its candidates; one that a phrase with an adjacent word does not
+        keep is unlinked, with the lowest probability the phrases give its concept, and
+        its candidates stay as they were.
         """
         known = set(self.scorer_.context_classes)
         # (item, phrase, whether it is the noun-phrase reading); the adjacent phrase is
@@ -345,7 +346,7 @@ class ConceptLinker(BaseEstimator):
                 if best[0] > other.get(i, ("", 0.0))[1]:
                     other[i] = (best[1], best[0])
         return [
-            LinkResult(other[i][0], other[i][1], r.candidates)
+            LinkResult(*other[i], [other[i], *(c for c in r.candidates if c[0] != other[i][0])])
             if i in other
             else LinkResult(None, lowest[i], r.candidates)
             if lowest.get(i, 1.0) < self.phrase_threshold

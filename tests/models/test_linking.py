@@ -438,3 +438,5 @@ def test_noun_phrase_reading_relinks_maize_answers_as_labelled() -> None:
     assert len(labelled_moves) >= 3
     assert all(b == g for _, b, g in labelled_moves)
     assert {(a, b) for a, b, _ in labelled_moves} == {("MZT:10", "MZT:14")}
+    relinked = [r for r, before in zip(on, off, strict=True) if r.concept != before.concept]
+    assert all(r.candidates[0] == (r.concept, r.probability) for r in relinked)
