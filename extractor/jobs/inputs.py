@@ -132,7 +132,7 @@ def question_codebook(ws: Workspace) -> dict[str, QuestionCode]:
     Raises:
         InputError: The questions file is unreadable or malformed.
     """
-    path = ws.root / ws.settings.workspace.questions
+    path = ws.path("questions")
     found = read_codebook(path) if ws.settings.workspace.questions and path.is_file() else {}
     return found | dict(ws.settings.codebook)
 
