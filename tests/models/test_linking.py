@@ -6,13 +6,14 @@ import os
 import subprocess
 import sys
 from pathlib import Path
+from typing import Any
 
 import pytest
 import snowballstemmer
 from sklearn.base import clone
 
 from extractor.errors import InputError, ModelError, NotFittedError
-from extractor.models.link_scoring import Scorer
+from extractor.models.link_scoring import Alias, Example, Scorer
 from extractor.models.linking import (
     DEFAULT_WEIGHTS,
     PHRASE_THRESHOLD,
@@ -21,7 +22,7 @@ from extractor.models.linking import (
     link_scores,
     linking_quality,
 )
-from extractor.nlp.dictionary import build_dictionary
+from extractor.nlp.dictionary import Dictionary, build_dictionary
 from extractor.nlp.neighbours import neighbour_phrases
 from extractor.nlp.text import tokenize
 from extractor.types import Sentence, Span
@@ -365,6 +366,26 @@ def test_phrase_check_does_not_read_a_neighbour_of_the_concept_list() -> None:
     assert _plate_linker().link(*alone).concept is None
 
 
+def _maize_at_zero_labels() -> tuple[
+    list[Sentence], list[dict[str, Any]], list[Alias], Dictionary, list[Example]
+]:
+    """The maize corpus, our labels, its aliases, the dictionary and its links in all answers.
+
+    The links are what a linker is fitted on at 0 labels (tests/maize.py loads the data).
+    """
+    loaded = maize.load_workspace()
+    assert loaded is not None
+    corpus, labelled, aliases = loaded
+    dictionary = build_dictionary(aliases)
+    links = [(s, m, m.concept) for s in corpus for m in dictionary.match(s.text, s.lang)]
+    return corpus, labelled, aliases, dictionary, links
+
+
+def _word_count(sentence: Sentence, start: int, end: int) -> int:
+    """How many of the sentence's tokens overlap the characters start..end."""
+    return sum(1 for a, b in tokenize(sentence.text, sentence.lang) if a < end and b > start)
+
+
 @pytest.mark.skipif(maize.load_workspace() is None, reason=maize.SKIP_REASON)
 def test_phrase_check_keeps_every_labelled_maize_link() -> None:
     # Real farmer answers (maize concept-testing data, CC BY 4.0; 4,800 English answers)
@@ -372,17 +393,10 @@ def test_phrase_check_keeps_every_labelled_maize_link() -> None:
     # links in all answers, as at 0 labels, links the labelled mentions; the phrase
     # readings (the check and the noun phrase) must not take away a right link (111 of
     # the 406 mentions are one word).
-    loaded = maize.load_workspace()
-    assert loaded is not None
-    corpus, labelled, aliases = loaded
-    dictionary = build_dictionary(aliases)
-    links = [(s, m, m.concept) for s in corpus for m in dictionary.match(s.text, s.lang)]
+    corpus, labelled, aliases, dictionary, links = _maize_at_zero_labels()
     items = [(corpus[g["row"]], Span(**sp)) for g in labelled for sp in g["spans"]]
     gold = [span.concept for _, span in items]
-    one_word = [
-        sum(1 for a, b in tokenize(s.text, s.lang) if a < sp.end and b > sp.start) == 1
-        for s, sp in items
-    ]
+    one_word = [_word_count(s, sp.start, sp.end) == 1 for s, sp in items]
     assert sum(one_word) > 100
     plain = ConceptLinker(phrase_threshold=0.0, read_noun_phrase=False)
     plain.fit(links, aliases, gold_examples=0)
@@ -401,23 +415,12 @@ def test_noun_phrase_reading_relinks_maize_answers_as_labelled() -> None:
     # answers with the noun-phrase reading off and on. Where it changes a link and our
     # labels mark a mention there, the new link is the labelled concept: "market for
     # green maize", "Sell Green Maize" are green maize use, not market demand.
-    loaded = maize.load_workspace()
-    assert loaded is not None
-    corpus, labelled, aliases = loaded
-    dictionary = build_dictionary(aliases)
-    links = [(s, m, m.concept) for s in corpus for m in dictionary.match(s.text, s.lang)]
+    corpus, labelled, aliases, dictionary, links = _maize_at_zero_labels()
     items, gold = [], []
     for g in labelled:
         sentence, spans = corpus[g["row"]], [Span(**sp) for sp in g["spans"]]
         for m in dictionary.match(sentence.text, sentence.lang):
-            if (
-                sum(
-                    1
-                    for a, b in tokenize(sentence.text, sentence.lang)
-                    if a < m.end and b > m.start
-                )
-                == 1
-            ):
+            if _word_count(sentence, m.start, m.end) == 1:
                 items.append((sentence, Span(m.start, m.end)))
                 gold.append(
                     next(
