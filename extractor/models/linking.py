@@ -345,14 +345,15 @@ class ConceptLinker(BaseEstimator):
             if True in kinds and best and best[0] > held and best[0] >= self.threshold:
                 if best[0] > other.get(i, ("", 0.0))[1]:
                     other[i] = (best[1], best[0])
-        return [
-            LinkResult(*other[i], [other[i], *(c for c in r.candidates if c[0] != other[i][0])])
-            if i in other
-            else LinkResult(None, lowest[i], r.candidates)
-            if lowest.get(i, 1.0) < self.phrase_threshold
-            else r
-            for i, r in enumerate(results)
-        ]
+        read = list(results)
+        for i, r in enumerate(results):
+            if i in other:
+                concept, prob = other[i]
+                rest = [c for c in r.candidates if c[0] != concept]
+                read[i] = LinkResult(concept, prob, [(concept, prob), *rest])
+            elif lowest.get(i, 1.0) < self.phrase_threshold:
+                read[i] = LinkResult(None, lowest[i], r.candidates)
+        return read
 
     def _alias_words(self, lang: str) -> frozenset[str]:
         """Return the keys of the one-word aliases (the list's and silver ones) in ``lang``."""
