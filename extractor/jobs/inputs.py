@@ -139,9 +139,8 @@ def question_codebook(ws: Workspace) -> dict[str, QuestionCode]:
 
 def stance_params(ws: Workspace) -> dict[str, Any]:
     """Return the stance model's parameters from the workspace: its cue file and codebook."""
-    cues = ws.settings.workspace.stance_cues
     return {
-        "cues_path": str(ws.root / cues) if cues else None,
+        "cues_path": str(ws.path("stance_cues")) if ws.settings.workspace.stance_cues else None,
         "questions": codebook_params(question_codebook(ws)) or None,
     }
 

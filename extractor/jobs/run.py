@@ -144,7 +144,7 @@ def training_inputs(ws: Workspace) -> str:
         "tagger": asdict(ws.settings.tagger),
         "linking": asdict(ws.settings.linking),
         "stance": stance_params(ws),
-        "stance_cues": _file_digest(ws.root / ws.settings.workspace.stance_cues)
+        "stance_cues": _file_digest(ws.path("stance_cues"))
         if ws.settings.workspace.stance_cues
         else None,
     }

@@ -101,7 +101,9 @@ class Workspace:
         settings = load_settings(root / SETTINGS_FILE)
         return cls(root=root, settings=settings, conn=store.connect(root / STORE_FILE))
 
-    def path(self, setting: Literal["interviews", "concepts", "varieties", "questions"]) -> Path:
+    def path(
+        self, setting: Literal["interviews", "concepts", "varieties", "questions", "stance_cues"]
+    ) -> Path:
         """Return a path setting of ``[workspace]`` as a Path inside the workspace."""
         return self.root / str(getattr(self.settings.workspace, setting))
 

@@ -6,7 +6,7 @@ import re
 import tomllib
 from pathlib import Path
 
-from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings
+from extractor.jobs.inputs import alias_tuples, gold_examples, session_settings, stance_params
 from extractor.workspace.folder import Workspace
 from tests.jobs.study import run
 
@@ -66,3 +66,21 @@ def test_aliases_and_gold_examples_come_from_the_store(study: Path, tmp_path: Pa
     assert [(s.text, [(sp.start, sp.end, sp.concept) for sp in spans]) for s, spans in gold] == [
         ("The grains are too small.", [(4, 10, "BTX:0004")])
     ]
+
+
+def test_stance_params_read_the_cue_file_and_codebook_the_settings_name(study: Path) -> None:
+    with Workspace.open(study) as ws:
+        unset = stance_params(ws)
+    assert unset["cues_path"] is None
+    (study / "cues").mkdir()
+    (study / "cues" / "mine.json").write_text('{"en": {"wanted": ["we pray for"]}}', "utf-8")
+    (study / "codes.csv").write_text("question,direction\nq_bad,dislikes\n", encoding="utf-8")
+    settings = study / "traits.toml"
+    text = _set(settings.read_text(encoding="utf-8"), "stance_cues", '"cues/mine.json"')
+    settings.write_text(_set(text, "questions", '"codes.csv"'), encoding="utf-8")
+    # the standard library's TOML reader is the reference for what the file says
+    named = tomllib.loads(settings.read_text(encoding="utf-8"))["workspace"]
+    with Workspace.open(study) as ws:
+        found = stance_params(ws)
+    assert found["cues_path"] == str(study / named["stance_cues"])
+    assert found["questions"] == {"q_bad": {"direction": "dislikes"}}
