@@ -211,18 +211,28 @@ class LabelScreen:
                 line.append(f"  ({m.matched}, {m.lang})", style="dim")
             self.console.print(line)
 
-    def choose_stance(self, current: str | None) -> str:
-        """One key per stance; Enter keeps the current one (the offered one for a new span)."""
+    def choose_stance(self, current: str | None, subject: str = "") -> str:
+        """One key per stance; Enter keeps the current one (the offered one for a new span).
+
+        ``subject`` names what the stance is for (the span's words and concept, or the
+        concept of a trait without a quote span); the prompt says it, so that a concept
+        just taken by its letters is named before its stance is asked.
+        """
         default = current or "neutral"
         keys = " · ".join(f"{k} {v}" for k, v in STANCE_KEYS.items())
+        about = f" of {subject}" if subject else ""
         while True:
-            answer = self.ask(f"stance — {keys} (Enter: {default}): ")
+            answer = self.ask(f"stance{about} — {keys} (Enter: {default}): ")
             if answer == "":
                 return default
             stance = _stance_of(answer)
             if stance is not None:
                 return stance
             self.console.print("Press l, d, w or n.")
+
+    def _subject(self, words: str, concept: str | None, lang: str) -> str:
+        """Name a span for a prompt: its words and its concept's ID and label."""
+        return f"{words!r} ({concept_label(self.entries, concept, lang)})"
 
     # ----------------------------------------------------------------- editing
 
@@ -264,7 +274,8 @@ class LabelScreen:
         stance = (replaced and replaced.stance) or default_stance(
             item.sentence, item.prediction, start, end
         )
-        span = Span(start, end, concept, self.choose_stance(stance))
+        subject = self._subject(text[start:end], concept, lang)
+        span = Span(start, end, concept, self.choose_stance(stance, subject))
         if not overlapped:
             draft.append(span)
             return
@@ -312,7 +323,9 @@ class LabelScreen:
         if command == "c":
             draft[k] = span._replace(concept=self._concept_for(item, span, rest))
         elif command == "t":
-            stance = _stance_of(rest) if rest else self.choose_stance(span.stance)
+            words = item.sentence.text[span.start : span.end]
+            subject = self._subject(words, span.concept, item.sentence.lang)
+            stance = _stance_of(rest) if rest else self.choose_stance(span.stance, subject)
             if stance is None:
                 self.say(f"Give the stance as l, d, w or n, like t {k + 1} d.")
             else:

@@ -11,6 +11,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Protocol
 
+from extractor.cli.screen_draw import concept_label
 from extractor.loop.items import Item
 from extractor.loop.marking import ConceptEntry, rank_concepts
 from extractor.nlp.fold import fold
@@ -25,7 +26,7 @@ class _Screen(Protocol):
     entries: list[ConceptEntry]
 
     def say(self, message: str) -> None: ...
-    def choose_stance(self, current: str | None) -> str: ...
+    def choose_stance(self, current: str | None, subject: str = "") -> str: ...
     def choose_concept(
         self, words: str, current: str | None, lang: str, query: str | None = None
     ) -> str | None: ...
@@ -52,7 +53,7 @@ def command(screen: _Screen, lang: str, line: str) -> bool:
     if concept is None:
         screen.say("A trait without a quote span needs a concept; nothing was added.")
         return True
-    stance = stance or screen.choose_stance(None)
+    stance = stance or screen.choose_stance(None, concept_label(screen.entries, concept, lang))
     screen.implicit[:] = [t for t in screen.implicit if t.concept != concept]
     screen.implicit.append(Implicit(concept, stance))
     return True

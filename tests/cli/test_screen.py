@@ -422,6 +422,28 @@ def test_letters_naming_one_concept_in_the_list_pick_it_without_a_number(
     assert _labels(conn)[19][0] == _span(19, "cooks fast", "BTX:0015", "liked")
 
 
+def test_stance_prompt_names_the_words_and_a_concept_taken_by_its_letters(
+    conn: sqlite3.Connection,
+) -> None:
+    # "yield" names one concept, which is taken at once inside the marking step; the
+    # stance asked next names the marked words and that concept, and so does "t 1"
+    _, screen = _run(
+        conn, ["x 2", "bitter", "yield", "d", "t 1", "", "", "q"], model_provider=_first(19)
+    )
+    assert "stance of 'bitter' (BTX:0015 yield)" in screen
+    assert "stance of 'cooks fast' (BTX:0002 cooking time)" in screen
+    assert _labels(conn)[19][1] == _span(19, "bitter", "BTX:0015", "disliked")
+
+
+def test_stance_prompt_of_a_trait_without_quote_span_names_its_concept(
+    conn: sqlite3.Connection,
+) -> None:
+    _, screen = _run(conn, ["", "+ yield", "w", "", "q"])
+    assert "stance of BTX:0015 yield" in screen
+    rows = conn.execute("SELECT implicit FROM labels WHERE sentence_id = 2").fetchall()
+    assert [json.loads(r[0]) for r in rows] == [[{"concept": "BTX:0015", "stance": "wanted"}]]
+
+
 def test_new_span_stance_defaults_to_the_model_stance(conn: sqlite3.Connection) -> None:
     # the model says "bitter" is disliked in sentence 19, under a question that leans liked
     _run(conn, ["x 2", "bitter", "", "", "", "q"], model_provider=_first(19))
