@@ -173,10 +173,13 @@ def cmd_concepts_suggest(args: argparse.Namespace, console: Console) -> int:
     with open_workspace(args) as ws:
         found = suggest_terms(ws, min_count=args.min_count)
     if not found.terms:
-        console.print(
-            f"No unlinked term occurs often enough (at least {found.min_count} times); "
-            "nothing to suggest."
+        often = counted(found.min_count, "time")
+        rest = (
+            "candidate synonyms from the pretrained space follow."
+            if found.synonyms
+            else "nothing to suggest."
         )
+        console.print(f"No unlinked term occurs at least {often}; {rest}")
     else:
         table = Table(title="Unlinked terms (accept one with `traits concepts accept TERM ID`)")
         for column in ("term", "count", "nearest concepts (linker probability)", "example"):

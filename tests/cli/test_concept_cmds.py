@@ -6,6 +6,9 @@ from pathlib import Path
 
 import pytest
 
+from extractor.cli import concept_cmds
+from extractor.jobs.curate import TermSuggestions
+from extractor.nlp.synonyms import Candidate
 from extractor.workspace.folder import init_workspace
 from tests.cli.trial import run
 from tests.ingest.test_obo import TO_FILE, YIELD, needs_to
@@ -64,3 +67,29 @@ def test_unrecognised_table_is_one_sentence_with_the_options(ws: Path, tmp_path:
     code, out = run("-w", str(ws), "concepts", "import", str(table))
     assert code == 1 and "--id-column 'Trait ID' --label-column 'Trait name'" in out
     assert "Traceback" not in out
+
+
+@pytest.mark.parametrize(
+    ("synonyms", "says"),
+    [
+        ((), "No unlinked term occurs at least 2 times; nothing to suggest."),
+        (
+            (Candidate("BTX:1", "temps de cuisson", "fr", 0.91, "cooking time", 4),),
+            "No unlinked term occurs at least 2 times; candidate synonyms from the "
+            "pretrained space follow.",
+        ),
+    ],
+    ids=["nothing", "synonyms-only"],
+)
+def test_concepts_suggest_says_nothing_to_suggest_only_when_there_is_nothing(
+    ws: Path, monkeypatch: pytest.MonkeyPatch, synonyms: tuple[Candidate, ...], says: str
+) -> None:
+    # a user saw "nothing to suggest" printed above a table of candidate synonyms
+    found = TermSuggestions(
+        terms=[], names={"BTX:1": "cooking time"}, min_count=2, synonyms=synonyms
+    )
+    monkeypatch.setattr(concept_cmds, "suggest_terms", lambda ws, min_count: found)
+    code, out = run("-w", str(ws), "concepts", "suggest")
+    assert code == 0, out
+    assert says in " ".join(out.split())
+    assert ("temps de cuisson" in out) == bool(synonyms)
