@@ -13,7 +13,7 @@ from typing import Protocol
 
 from extractor.cli.screen_draw import concept_label
 from extractor.loop.items import Item
-from extractor.loop.marking import ConceptEntry, rank_concepts
+from extractor.loop.marking import ConceptEntry, concepts_started, rank_concepts
 from extractor.nlp.fold import fold
 from extractor.types import Implicit, Span
 
@@ -68,13 +68,21 @@ def split_command(rest: str) -> tuple[str, str | None]:
 
 
 def clear_concept(query: str, entries: Sequence[ConceptEntry], lang: str) -> str | None:
-    """Return the one concept the letters name (one match, or one exact name), else None."""
+    """Return the one concept the letters name, else None.
+
+    The letters name one concept when they match one concept only, are one concept's
+    whole name, or (two letters or more) begin a name or a word of a name of one concept
+    only: "tast" is taste even when its letters also occur, in order, in "striga resistance".
+    """
     if not query:
         return None
     matches = rank_concepts(query, entries, lang=lang)
     exact = [m for m in matches if fold(query) in (fold(m.matched), fold(m.concept))]
     if len(matches) == 1 or len({m.concept for m in exact}) == 1:
         return (exact or matches)[0].concept
+    started = concepts_started(query, entries) if len(fold(query.strip())) > 1 else set()
+    if not exact and len(started) == 1:
+        return started.pop()
     return None
 
 

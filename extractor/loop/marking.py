@@ -152,6 +152,23 @@ def _match_rank(query: str, name: str) -> int | None:
     return None
 
 
+def concepts_started(query: str, entries: Sequence[ConceptEntry]) -> set[str]:
+    """Return the concepts with a name, or a word of a name, that the letters begin.
+
+    "tast" begins "taste" and "yie" the word "yield" of "grain yield"; letters found only
+    inside a name or scattered along it ("tast" in "drought tolerance") do not count.
+    """
+    wanted = fold(query.strip())
+    if not wanted:
+        return set()
+    return {
+        e.concept
+        for e in entries
+        for name in (fold(e.text), fold(e.concept))
+        if (rank := _match_rank(wanted, name)) is not None and rank <= 2
+    }
+
+
 MIN_SHARED = 4
 """Shortest word that counts when an alias shares words with the marked ones; shorter words
 are mostly articles and prepositions ("de", "en", "the") in the languages of the demo."""

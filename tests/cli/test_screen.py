@@ -17,11 +17,12 @@ from typing import TextIO
 import pytest
 from rich.console import Console
 
+from extractor.cli import screen_implicit
 from extractor.cli.screen import LabelScreen, run_console
 from extractor.cli.screen_draw import status_line
 from extractor.errors import InputError
 from extractor.loop.items import SessionSummary
-from extractor.loop.marking import concept_entries, rank_concepts
+from extractor.loop.marking import ConceptEntry, concept_entries, rank_concepts
 from extractor.loop.samples import SessionSettings
 from extractor.loop.session import Session
 from extractor.types import Span
@@ -622,3 +623,23 @@ def test_trait_without_quote_span_is_shown_under_the_sentence_and_stored(
     assert [(json.loads(r[0]), json.loads(r[1])) for r in rows] == [
         ([], [{"concept": "BTX:0015", "stance": "disliked"}])
     ]
+
+
+def test_letters_beginning_one_concepts_name_take_it_though_they_occur_in_others() -> None:
+    # the README's own example, "+ tast l": in a study whose list also held "striga
+    # resistance" (s-t-r-i-g-a ... s-t: the letters t, a, s, t in order) the screen listed
+    # both instead of taking taste
+    entries = [
+        ConceptEntry("MLX:001", "taste", "en", True),
+        ConceptEntry("MLX:002", "striga resistance", "en", True),
+        ConceptEntry("MLX:003", "grain yield", "en", True),
+        ConceptEntry("MLX:004", "yield stability", "en", True),
+    ]
+    assert len(rank_concepts("tast", entries)) == 2
+    assert screen_implicit.clear_concept("tast", entries, "en") == "MLX:001"
+    assert screen_implicit.clear_concept("gra", entries, "en") == "MLX:003"  # a word's start
+    assert screen_implicit.clear_concept("yie", entries, "en") is None  # begins two names
+    assert screen_implicit.clear_concept("sta", entries, "en") == "MLX:004"  # "stability"
+    assert screen_implicit.clear_concept("ta", entries, "en") == "MLX:001"
+    # one letter names nothing by its start: "t" begins only "taste" here, but is in others
+    assert screen_implicit.clear_concept("t", entries, "en") is None
