@@ -6,8 +6,9 @@ mention is attributed to, in order:
 
 1. a variety right after it joined by "of"/"de"/"del"... ("the taste of Kivuli");
 2. the nearest variety mentioned before it in the same answer (earlier in its
-   sentence, else the last one in an earlier sentence), skipping varieties that were
-   only the reference of a comparison;
+   sentence, else inside the mention itself, as in an implicit trait's whole sentence,
+   else the last one in an earlier sentence), skipping varieties that were only the
+   reference of a comparison;
 3. the answer's variety column;
 4. the first variety named in the question.
 
@@ -187,14 +188,19 @@ def _preceding(
     ref_mentions: Sequence[set[VarietyMention]],
     banned: set[str],
 ) -> str | None:
-    """Return the nearest variety before the span, skipping mere comparison references."""
-    same = [
-        v
-        for v in per_sentence[index]
-        if v[1] <= span.start and v not in ref_mentions[index] and v[2] not in banned
-    ]
+    """Return the nearest variety before the span, skipping mere comparison references.
+
+    Before it in its sentence, else inside it (a span over the whole sentence, as an
+    implicit trait has, holds the sentence's own variety: "Tosca Red is bitter, my
+    children refuse it"), else the last one of an earlier sentence.
+    """
+    own = [v for v in per_sentence[index] if v not in ref_mentions[index] and v[2] not in banned]
+    same = [v for v in own if v[1] <= span.start]
     if same:
         return same[-1][2]
+    inside = [v for v in own if span.start <= v[0] and v[1] <= span.end]
+    if inside:
+        return inside[0][2]
     for k in range(index - 1, -1, -1):
         earlier = [v for v in per_sentence[k] if v not in ref_mentions[k] and v[2] not in banned]
         if earlier:

@@ -381,6 +381,17 @@ def test_a_mention_holding_the_comparison_owns_it_and_an_implicit_one_does_not()
     assert _attribute_corpus(texts, "fr", [(0, texts[0])], "Alvorina") == [("VAR:A", None)]
 
 
+def test_an_implicit_trait_takes_the_variety_its_sentence_names() -> None:
+    # A new user's check: "+ tast d" on this sentence left the trait with no variety (the
+    # whole-sentence span starts where the name does, so no variety stood before it),
+    # and an earlier sentence's variety must not win over the sentence's own.
+    texts = ["We grow Zimbo too.", "Alvorina is bitter, my children refuse it."]
+    assert _attribute_corpus(texts, "en", [(1, texts[1])], "") == [("VAR:A", None)]
+    # a comparison's reference inside the sentence is still no subject
+    texts = ["Elle est précoce, c'est plus rapide que Zimbo."]
+    assert _attribute_corpus(texts, "fr", [(0, texts[0])], "") == [(None, None)]
+
+
 @pytest.mark.parametrize(
     ("text", "lang", "where", "expected"),
     [
