@@ -27,6 +27,11 @@ from extractor.jobs.run import RunReport, run_in, train_and_tag
 from extractor.jobs.status import model_versions
 from extractor.report.caution import REVIEW_CAUTION
 
+_LABELS_WIN = (
+    "In sentences you labeled, the workbook shows your labels instead of the model's mentions, "
+    "so its counts can differ."
+)
+
 
 def cmd_train(args: argparse.Namespace, console: Console) -> int:
     """Train a new model version."""
@@ -39,6 +44,7 @@ def cmd_train(args: argparse.Namespace, console: Console) -> int:
         f"labeled and {report.counts.silver_sentences} dictionary-labeled sentences; "
         f"{metric_summary(report.metrics)}; it found {tagged.mentions} trait mentions "
         f"({tagged.unlinked} not linked to a concept)."
+        + (f" {_LABELS_WIN}" if report.counts.gold_sentences else "")
     )
     return 0
 
@@ -219,8 +225,8 @@ def _run_table(report: RunReport) -> Table:
     previous = report.previous_version
     if previous is not None:
         table.add_row("previous version", f"{previous.version}: {metric_summary(previous.metrics)}")
-    table.add_row("trait mentions found", str(report.tag.mentions))
-    table.add_row("mentions not linked to a concept", str(report.tag.unlinked))
+    table.add_row("trait mentions the model found", str(report.tag.mentions))
+    table.add_row("of them not linked to a concept", str(report.tag.unlinked))
     table.add_row("workbook", str(report.export.path))
     return table
 

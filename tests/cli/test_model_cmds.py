@@ -10,7 +10,7 @@ import pytest
 
 from extractor.jobs import run as run_job
 from extractor.workspace import store
-from tests.jobs.study import run
+from tests.jobs.study import labeled, run
 from tests.report.study import VERSION, build_workspace
 
 
@@ -223,3 +223,22 @@ def test_first_run_says_once_that_a_language_has_no_stance_cues(tmp_path: Path) 
     assert "note: ha has no spaCy pipeline" in flat  # what else it lacks is still said
     assert "Answers in ha have neither stance cue words nor stance labels" in flat
     assert flat.count("stance cue") == 1, out
+
+
+def test_train_says_labels_replace_its_mentions_in_the_workbook_only_once_there_are_labels(
+    study: Path,
+) -> None:
+    # A new user saw "0 not linked to a concept" from train and "Mentions not linked: 1"
+    # in the workbook: their own label without a concept counts there, not in train's
+    # count of the model's mentions.
+    assert run("-w", str(study), "add", str(study / "interviews" / "survey.csv"))[0] == 0
+    assert run("-w", str(study), "concepts", "import", str(study / "concepts.csv"))[0] == 0
+    code, out = run("-w", str(study), "train", "--no-cv")
+    assert code == 0, out
+    assert "instead of the model's mentions" not in " ".join(out.split())
+    labels = study / "labels.jsonl"
+    labels.write_text(labeled("KA-01", "It cooks fast.") + "\n", encoding="utf-8")
+    assert run("-w", str(study), "import-labels", str(labels))[0] == 0
+    code, out = run("-w", str(study), "train", "--no-cv")
+    assert code == 0, out
+    assert "the workbook shows your labels instead of the model's mentions" in " ".join(out.split())
