@@ -8,10 +8,13 @@ One screening, used twice:
   cluster or vocabulary is learned (:func:`mask_identifiers`), so that model files
   never hold them. Such words never generalise to other people anyway.
 
-Phone numbers are found twice over: a pattern for international (``+`` or ``00``) and
-zero-prefixed national numbers, and Google's libphonenumber (the ``phonenumbers``
-package) for the national plans of the regions a workspace names (ISO 3166-1 alpha-2,
-e.g. ``KE``): a number such as ``712 345 678`` is valid only by its region's plan.
+Phone numbers are found three ways: a pattern for international (``+`` or ``00``) and
+zero-prefixed national numbers; Google's libphonenumber (the ``phonenumbers`` package)
+for the national plans of the regions a workspace names (ISO 3166-1 alpha-2, e.g.
+``KE``), by which a number such as ``712 345 678`` is valid; and, whatever the regions,
+8 to 15 digits written in two or more groups (``84 123 4567``, ``(11) 96123-4567``),
+since people type national numbers without their country's trunk 0 or code
+(:func:`grouped_phones`).
 """
 
 from __future__ import annotations
@@ -35,6 +38,12 @@ _PHONE = re.compile(
     r"(?<![\w+])(?:\+|00)\d{1,3}(?:[ .\-]?\(?\d{1,4}\)?){2,5}(?!\w)"
     r"|(?<![\w+])\(?0\d{1,4}\)?(?:[ .\-]?\d{2,4}){2,4}(?!\w)"
 )
+# Digit groups: a first group of 1-4 digits (or bracketed, as area codes are written)
+# then 1-5 more groups of 2-8 digits, each after one space, dot or dash. Not inside a
+# word, a decimal, a date or a longer run of groups ("1,5", "12/03", "12-345678-9").
+_GROUPED = re.compile(
+    r"(?<![\w+.,/\-])(?<!\d[ .\-])(?:\(\d{1,4}\)|\d{1,4})(?:[ .\-]\d{2,8}){1,5}(?!\w|[ .,/\-]\d)"
+)
 # Letters+digits (A1234567, KE12345678) or digit groups with separators, e.g. 12-345678-9.
 _ID_NUMBER = re.compile(
     r"(?<!\w)(?:[A-Za-z]{1,3}\d{6,}|\d{6,}[A-Za-z]{1,2}|\d+(?:[/\-]\d+)+|\d{6,})(?!\w)"
@@ -44,6 +53,11 @@ _YEARS = re.compile(r"(?:1[89]|20)\d\d\s*[-–/]\s*(?:(?:1[89]|20)\d\d|\d\d)")
 COORDINATES = re.compile(r"\s*[-+]?\d{1,2}\.\d{3,}\s*[,; ]\s*[-+]?\d{1,3}\.\d{3,}\s*")
 """A decimal-degree latitude and longitude pair, as GPS apps write it."""
 MIN_PHONE_DIGITS = 8
+"""Fewest digits of a phone number outside a region's plan: national significant numbers
+of mobile phones are commonly 8 to 10 digits (from memory); amounts of 7 digits or fewer,
+such as ``1 200 000``, stay."""
+MAX_PHONE_DIGITS = 15
+"""Most digits of a phone number: ITU-T E.164 numbers hold at most 15 digits."""
 MIN_ID_CHARS = 3
 """Shorter respondent IDs ("R1", "12") are not screened: they are ordinary words and numbers."""
 
@@ -128,6 +142,54 @@ def national_phones(text: str, regions: Iterable[str]) -> list[tuple[int, int]]:
     return found
 
 
+def _grouped_phone(s: str) -> bool:
+    """Whether digit groups are a phone number rather than an amount, a date or years."""
+    digits = re.sub(r"\D", "", s)
+    if not MIN_PHONE_DIGITS <= len(digits) <= MAX_PHONE_DIGITS:
+        return False
+    if _DATE.fullmatch(s) or _YEARS.fullmatch(s):
+        return False
+    groups = re.findall(r"\d+", s)
+    if all(len(g) == 4 and g[:2] in ("19", "20") for g in groups):
+        return False  # years listed: "2019 2020"
+    # Round figures are amounts, whatever their grouping: "12 500 000", "1000-1500".
+    # Of libphonenumber's example numbers for every region, 4 in 489 end in 00.
+    return not digits.endswith("00")
+
+
+def _not_an_id(s: str) -> bool:
+    """Whether digits joined by dashes or slashes are a date, years or a round range."""
+    if _DATE.fullmatch(s) or _YEARS.fullmatch(s):
+        return True
+    groups = re.split(r"[/\-]", s)
+    return len(groups) == 2 and all(g.endswith("00") for g in groups)
+
+
+def grouped_phones(text: str) -> list[tuple[int, int]]:
+    """Return stretches of 8 to 15 digits in groups that are not amounts, dates or years.
+
+    This needs no region: ``ligue 84 123 4567`` is a number however the workspace is
+    set up. Prices and counts stay: they have fewer digits (``1 200 000``) or end in
+    ``00`` (``12 500 000``); dates and year ranges stay too.
+    """
+    return [(m.start(), m.end()) for m in _GROUPED.finditer(text) if _grouped_phone(m.group())]
+
+
+def phone_formats(regions: Iterable[str]) -> str:
+    """Return, in one sentence, which phone formats a screening with ``regions`` finds."""
+    named = sorted({r.upper() for r in regions})
+    plans = (
+        f"the national numbering plans of {', '.join(named)}"
+        if named
+        else "no national numbering plan (no phone region known)"
+    )
+    return (
+        "international (+ or 00), national with a leading 0, "
+        f"{MIN_PHONE_DIGITS} to {MAX_PHONE_DIGITS} digits written in groups "
+        f"(not amounts ending in 00, dates or years), and {plans}"
+    )
+
+
 def find_identifiers(text: str, screening: Screening = Screening()) -> list[Stretch]:
     """Return the non-overlapping stretches of ``text`` that identify someone, in order.
 
@@ -144,13 +206,14 @@ def find_identifiers(text: str, screening: Screening = Screening()) -> list[Stre
     for m in _PHONE.finditer(text):
         if _digits(m.group()) >= MIN_PHONE_DIGITS and free(m.start(), m.end()):
             found.append((m.start(), m.end(), "[phone]"))
-    for a, b in national_phones(text, screening.regions):
+    for a, b in national_phones(text, screening.regions) + grouped_phones(text):
         if free(a, b):
             found.append((a, b, "[phone]"))
     for m in _ID_NUMBER.finditer(text):
         s = m.group()
-        # Dates and short codes ("2-3 bags", "12/05/2023") are not identifiers.
-        if _digits(s) >= 6 and not _DATE.fullmatch(s) and free(m.start(), m.end()):
+        # Dates, short codes and ranges ("2-3 bags", "12/05/2023", "1000-1500", "2003/2004")
+        # are not identifiers.
+        if _digits(s) >= 6 and not _not_an_id(s) and free(m.start(), m.end()):
             found.append((m.start(), m.end(), "[id-number]"))
     for words, tag in ((_screened_ids(screening.ids), "[respondent]"), (screening.names, "[name]")):
         pattern = word_pattern(words)
