@@ -155,3 +155,17 @@ def print_notes(console: Console, notes: Iterable[str]) -> None:
     """Print each note on its own line."""
     for note in notes:
         print_said(console, "note", "yellow", note)
+
+
+NO_PHONE_REGION = (
+    "No phone region is known (none in the language tags, such as sw-KE, nor in "
+    "phone_regions), so no country's national phone format was screened; name your "
+    'countries under [export] in traits.toml, e.g. phone_regions = ["KE"].'
+)
+"""What a pseudonymised export says when it screened no country's phone format."""
+
+
+def print_phone_regions(console: Console, regions: Sequence[str] | None) -> None:
+    """Say once when a pseudonymised export knew no phone region (``None``: not pseudonymised)."""
+    if regions is not None and not regions:
+        print_said(console, "warning", "yellow", NO_PHONE_REGION)

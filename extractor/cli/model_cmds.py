@@ -16,6 +16,7 @@ from extractor.cli.common import (
     open_workspace,
     print_json,
     print_notes,
+    print_phone_regions,
     print_warnings,
     print_written,
     spoken_list,
@@ -258,6 +259,7 @@ def cmd_export(args: argparse.Namespace, console: Console) -> int:
     if report.charts:
         console.print(f"Charts (PNG and SVG): {report.charts}", markup=False)
     print_ungrouped(console, report.ungrouped)
+    print_phone_regions(console, report.phone_regions)
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
     return 0
 

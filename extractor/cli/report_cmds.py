@@ -7,7 +7,13 @@ from pathlib import Path
 
 from rich.console import Console
 
-from extractor.cli.common import Subcommands, open_workspace, print_json, print_written
+from extractor.cli.common import (
+    Subcommands,
+    open_workspace,
+    print_json,
+    print_phone_regions,
+    print_written,
+)
 from extractor.jobs.report import report
 from extractor.report.caution import REVIEW_CAUTION
 
@@ -30,6 +36,7 @@ def cmd_report(args: argparse.Namespace, console: Console) -> int:
     print_written(console, args, result.path)
     kind = "with respondent IDs and quotes as recorded" if args.identified else "pseudonymised"
     console.print(f"Wrote {result.path} ({result.mentions} mentions, {kind}).", markup=False)
+    print_phone_regions(console, result.phone_regions)
     console.print(f"[italic]{REVIEW_CAUTION}[/]")
     return 0
 

@@ -61,7 +61,9 @@ class ExportResult:
 
     ``charts`` is the folder of the workbook's charts as PNG and SVG, when written;
     ``ungrouped`` the respondent columns the workbook could compare groups by but does
-    not (see :func:`ungrouped_columns`).
+    not (see :func:`ungrouped_columns`); ``phone_regions`` the regions whose national
+    phone plans a pseudonymised export screened (empty when the workspace knows none;
+    None when the export is not pseudonymised).
     """
 
     path: Path
@@ -69,6 +71,7 @@ class ExportResult:
     chart: Path | None = None
     charts: Path | None = None
     ungrouped: tuple[tuple[str, int], ...] = ()
+    phone_regions: tuple[str, ...] | None = None
 
 
 def workspace_secret(ws: Workspace) -> bytes:
@@ -172,6 +175,7 @@ def export_workbook(
     png = out.with_name(out.stem + "_chart.png")
     charts = out.with_name(out.stem + "_charts")
     grouped = group_columns(ws, respondents, group_by)
+    privacy = privacy_options(ws, names_file) if pseudonymise else None
     written = write_workbook(
         out,
         mentions,
@@ -180,7 +184,7 @@ def export_workbook(
         run_facts(ws, version),
         group_by=grouped,
         min_confidence=min_confidence_floor(ws, min_confidence),
-        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+        pseudonymise=privacy,
         chart_png=png,
         chart_dir=charts,
     )
@@ -190,6 +194,7 @@ def export_workbook(
         png if png.exists() else None,
         charts if charts.is_dir() else None,
         ungrouped_columns(ws, respondents, grouped),
+        privacy.phone_regions if privacy else None,
     )
 
 
@@ -234,22 +239,24 @@ def export_other(
     out.parent.mkdir(parents=True, exist_ok=True)
     if fmt in LABEL_FORMATS:
         return _export_labeled(out, ws, fmt, pseudonymise)
+    privacy = privacy_options(ws, names_file) if pseudonymise else None
     mentions, respondents = prepare(
         mention_frame(ws, version),
         respondent_frame(ws),
         min_confidence=min_confidence_floor(ws, min_confidence),
-        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+        pseudonymise=privacy,
     )
+    regions = privacy.phone_regions if privacy else None
     if fmt == "indicators":
         table = indicator_table(mentions, respondents, concept_frame(ws))
         out = write_indicators(out.with_suffix(".csv"), table)["csv"]
-        return ExportResult(out, len(table.frame))
+        return ExportResult(out, len(table.frame), phone_regions=regions)
     writer = {
         "csv": formats.write_mentions_csv,
         "jsonl": formats.write_mentions_jsonl,
         "jsonld": formats.write_web_annotations,
     }[fmt]
-    return ExportResult(out, writer(out, mentions))
+    return ExportResult(out, writer(out, mentions), phone_regions=regions)
 
 
 def export(

@@ -58,6 +58,7 @@ def report(
     out = out or ws.exports_dir / ("report.html" if pseudonymise else "report_identified.html")
     out.parent.mkdir(parents=True, exist_ok=True)
     respondents = respondent_frame(ws)
+    privacy = privacy_options(ws, names_file) if pseudonymise else None
     written = write_report(
         out,
         mention_frame(ws, version),
@@ -66,6 +67,6 @@ def report(
         run_facts(ws, version),
         group_by=group_columns(ws, respondents, group_by),
         min_confidence=min_confidence_floor(ws, min_confidence),
-        pseudonymise=privacy_options(ws, names_file) if pseudonymise else None,
+        pseudonymise=privacy,
     )
-    return ExportResult(out, written)
+    return ExportResult(out, written, phone_regions=privacy.phone_regions if privacy else None)

@@ -130,6 +130,7 @@ FACT_MEANINGS = {
     "Minimum tagger confidence": "Predicted mentions below this were left out",
     "Pseudonymised": "Whether respondent IDs are pseudonyms and quotes screened",
     "Columns dropped as identifying": "Respondent columns left out of this export, and why",
+    "Phone formats screened": "The phone numbers quotes were screened for; others may remain",
     "Written": "When the file was written (local time)",
 }
 """About item -> its one-line meaning."""

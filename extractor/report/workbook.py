@@ -16,6 +16,7 @@ import pandas as pd
 from openpyxl import Workbook
 
 from extractor.errors import InputError
+from extractor.nlp.identifiers import phone_formats
 from extractor.report.about import RunFacts, about_table, export_counts
 from extractor.report.cells import HEADER_FONT, write_table
 from extractor.report.drawing import Call, Drawing
@@ -92,15 +93,21 @@ def _write_about_sheet(wb: Workbook, frame: pd.DataFrame) -> None:
     ws.cell(row=2, column=2).font = HEADER_FONT
 
 
-def _dropped_rows(
+def _privacy_rows(
     respondents: pd.DataFrame, pseudonymise: PrivacyOptions | None
 ) -> list[tuple[str, str]]:
-    """Return the About row that lists the columns a pseudonymised export left out."""
+    """Return the About rows of a pseudonymised export: columns left out, phones screened."""
     if pseudonymise is None:
         return []
     dropped = dropped_columns(respondents, pseudonymise)
     listed = "; ".join(f"{c} ({why})" for c, why in dropped) or "none"
-    return [("Columns dropped as identifying", listed)]
+    formats = phone_formats(pseudonymise.phone_regions)
+    if not pseudonymise.phone_regions:
+        formats += "; set phone_regions under [export] in traits.toml for national formats"
+    return [
+        ("Columns dropped as identifying", listed),
+        ("Phone formats screened", formats[0].upper() + formats[1:]),
+    ]
 
 
 def _save(wb: Workbook, path: Path) -> None:
@@ -204,7 +211,7 @@ def write_workbook(
     about_rows: list[tuple[str, Any]] = [
         ("Minimum tagger confidence", min_confidence if min_confidence is not None else "none"),
         ("Pseudonymised", "yes" if pseudonymise is not None else "no"),
-        *_dropped_rows(respondents, pseudonymise),
+        *_privacy_rows(respondents, pseudonymise),
         ("Written", datetime.now().isoformat(timespec="seconds")),
     ]
     # The chart files are drawn by worker processes while the sheets are written.

@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import openpyxl
 import pandas as pd
 import pytest
 
@@ -242,3 +243,38 @@ def test_train_says_labels_replace_its_mentions_in_the_workbook_only_once_there_
     code, out = run("-w", str(study), "train", "--no-cv")
     assert code == 0, out
     assert "the workbook shows your labels instead of the model's mentions" in " ".join(out.split())
+
+
+def _about(path: Path) -> dict[str, str]:
+    sheet = openpyxl.load_workbook(path, read_only=True)["About"]
+    return {str(row[0]): str(row[1]) for row in sheet.iter_rows(values_only=True) if row[0]}
+
+
+def test_pseudonymised_export_says_once_when_no_phone_region_is_known(tmp_path: Path) -> None:
+    # The hand-built workspace's answers are tagged "en" and traits.toml names no
+    # phone_regions: no country's national phone plan can be screened.
+    root = _tagged_by_hand(tmp_path / "ws")
+    for argv in (["export", "--pseudonymise"], ["report"]):
+        code, out = run("-w", str(root), *argv)
+        flat = " ".join(out.split())
+        assert code == 0, out
+        assert flat.count("No phone region is known") == 1, argv
+        assert 'under [export] in traits.toml, e.g. phone_regions = ["KE"]' in flat
+    about = _about(root / "exports" / "preferred_traits_pseudonymised.xlsx")
+    assert "8 to 15 digits written in groups" in about["Phone formats screened"]
+    assert "no national numbering plan" in about["Phone formats screened"]
+    code, out = run("-w", str(root), "export")
+    assert code == 0 and "phone region" not in out
+
+
+def test_pseudonymised_export_names_the_phone_regions_it_screened(tmp_path: Path) -> None:
+    root = _tagged_by_hand(tmp_path / "ws")
+    settings = root / "traits.toml"
+    text = settings.read_text(encoding="utf-8")
+    settings.write_text(
+        text.replace("phone_regions = []", 'phone_regions = ["MZ"]'), encoding="utf-8"
+    )
+    code, out = run("-w", str(root), "export", "--pseudonymise")
+    assert code == 0 and "phone region" not in out
+    about = _about(root / "exports" / "preferred_traits_pseudonymised.xlsx")
+    assert "national numbering plans of MZ" in about["Phone formats screened"]
