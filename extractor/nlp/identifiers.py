@@ -50,6 +50,7 @@ _ID_NUMBER = re.compile(
 )
 _DATE = re.compile(r"\d{1,2}[/\-.]\d{1,2}[/\-.](?:\d{2}|\d{4})|\d{4}-\d{1,2}-\d{1,2}")
 _YEARS = re.compile(r"(?:1[89]|20)\d\d\s*[-–/]\s*(?:(?:1[89]|20)\d\d|\d\d)")
+_RANGE = re.compile(r"(\d{2,3}[05])-(\d{2,3}[05])")
 COORDINATES = re.compile(r"\s*[-+]?\d{1,2}\.\d{3,}\s*[,; ]\s*[-+]?\d{1,3}\.\d{3,}\s*")
 """A decimal-degree latitude and longitude pair, as GPS apps write it."""
 MIN_PHONE_DIGITS = 8
@@ -142,12 +143,22 @@ def national_phones(text: str, regions: Iterable[str]) -> list[tuple[int, int]]:
     return found
 
 
+def _price_range(s: str) -> bool:
+    """Whether ``s`` is a range of two prices or counts: ``2500-3750``, ``150-200``.
+
+    Both ends have 3 or 4 digits and end in 0 or 5, as prices are quoted (common
+    practice), and the first is the smaller; a phone number written ``2212-3456`` is not.
+    """
+    ends = _RANGE.fullmatch(s)
+    return bool(ends) and int(ends[1]) < int(ends[2])
+
+
 def _grouped_phone(s: str) -> bool:
     """Whether digit groups are a phone number rather than an amount, a date or years."""
     digits = re.sub(r"\D", "", s)
     if not MIN_PHONE_DIGITS <= len(digits) <= MAX_PHONE_DIGITS:
         return False
-    if _DATE.fullmatch(s) or _YEARS.fullmatch(s):
+    if _DATE.fullmatch(s) or _YEARS.fullmatch(s) or _price_range(s):
         return False
     groups = re.findall(r"\d+", s)
     if all(len(g) == 4 and g[:2] in ("19", "20") for g in groups):
@@ -159,7 +170,7 @@ def _grouped_phone(s: str) -> bool:
 
 def _not_an_id(s: str) -> bool:
     """Whether digits joined by dashes or slashes are a date, years or a round range."""
-    if _DATE.fullmatch(s) or _YEARS.fullmatch(s):
+    if _DATE.fullmatch(s) or _YEARS.fullmatch(s) or _price_range(s):
         return True
     groups = re.split(r"[/\-]", s)
     return len(groups) == 2 and all(g.endswith("00") for g in groups)
@@ -170,7 +181,7 @@ def grouped_phones(text: str) -> list[tuple[int, int]]:
 
     This needs no region: ``ligue 84 123 4567`` is a number however the workspace is
     set up. Prices and counts stay: they have fewer digits (``1 200 000``) or end in
-    ``00`` (``12 500 000``); dates and year ranges stay too.
+    ``00`` (``12 500 000``); dates, year ranges and price ranges (``2500-3750``) stay too.
     """
     return [(m.start(), m.end()) for m in _GROUPED.finditer(text) if _grouped_phone(m.group())]
 
