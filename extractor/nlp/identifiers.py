@@ -150,7 +150,7 @@ def _price_range(s: str) -> bool:
     practice), and the first is the smaller; a phone number written ``2212-3456`` is not.
     """
     ends = _RANGE.fullmatch(s)
-    return bool(ends) and int(ends[1]) < int(ends[2])
+    return ends is not None and int(ends[1]) < int(ends[2])
 
 
 def _grouped_phone(s: str) -> bool:
