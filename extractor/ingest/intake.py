@@ -9,7 +9,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import json
-from collections.abc import Sequence
+from collections.abc import Collection, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -129,6 +129,7 @@ def _read(
     sha: str,
     sheet: str | None,
     mapping: dict[str, Any] | None,
+    coded: Collection[str],
 ) -> _Pending:
     """Read and segment one interview file without storing anything."""
     settings = ws.settings.workspace
@@ -138,6 +139,7 @@ def _read(
         mapping=mapping,
         default_lang=settings.default_language,
         languages=detection_languages(ws),
+        coded=coded,
     )
     result.warnings.extend(_stored_conflicts(ws, path, result))
     offsets = [
@@ -192,12 +194,15 @@ def add_files(
     *,
     sheet: str | None = None,
     mapping: dict[str, Any] | None = None,
+    coded: Collection[str] = (),
 ) -> list[FileReport]:
     """Read, segment and store interview files; return one report per file.
 
     A file already added with the same content is skipped; a changed file adds only
     its new answers. Unchanged files are reported first, then the stored ones, each
-    group in the order given.
+    group in the order given. ``coded`` are the question keys of the workspace's
+    question codebook (``question_codebook`` of :mod:`extractor.jobs.inputs`): a wide
+    table's column so headed is a question column, however short its answers.
 
     Raises:
         InputError: a file is missing or cannot be read (nothing is stored then).
@@ -212,7 +217,7 @@ def add_files(
         if store.source_known(ws.conn, where, sha):
             reports.append(FileReport(path=where, status="unchanged"))
         else:
-            pending.append(_read(ws, path, where, sha, sheet, mapping))
+            pending.append(_read(ws, path, where, sha, sheet, mapping, coded))
     with store.transaction(ws.conn):
         reports += [_store(ws, item) for item in pending]
     return reports

@@ -6,7 +6,7 @@ never needs to know which kind of file an answer came from.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Collection, Sequence
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -62,6 +62,7 @@ def read_interviews(
     mapping: dict[str, Any] | None = None,
     default_lang: str = "en",
     languages: Sequence[str] | None = None,
+    coded: Collection[str] = (),
 ) -> ReadResult:
     """Read the answers of one interview file.
 
@@ -75,6 +76,9 @@ def read_interviews(
         default_lang: The language of answers whose language is neither given nor
             detectable.
         languages: The workspace's languages, the candidates of detection.
+        coded: The question keys of the workspace's question codebook: a wide table's
+            column with one of these headers is a question column, however short its
+            answers.
 
     Returns:
         A :class:`ReadResult` of :class:`~extractor.types.AnswerRow`; ``row`` is the
@@ -90,7 +94,7 @@ def read_interviews(
     default = _setting_tag(default_lang, "default language")
     candidates = [_setting_tag(t, "languages") for t in languages] if languages else None
     data = _read_bytes(path)
-    rows, layout, encoding, warnings = _read_rows(path, suffix, data, sheet, mapping)
+    rows, layout, encoding, warnings = _read_rows(path, suffix, data, sheet, mapping, coded)
     warnings += metadata_conflicts(path, rows, {})
     _fill_languages(rows, candidates, default)
     answers = [AnswerRow(**row) for row in rows]
@@ -128,16 +132,21 @@ def _read_bytes(path: Path) -> bytes:
 
 
 def _read_rows(
-    path: Path, suffix: str, data: bytes, sheet: str | None, mapping: dict[str, Any] | None
+    path: Path,
+    suffix: str,
+    data: bytes,
+    sheet: str | None,
+    mapping: dict[str, Any] | None,
+    coded: Collection[str],
 ) -> tuple[list[dict[str, Any]], str, str | None, list[str]]:
     """Read the rows with the reader of the suffix; return rows, layout, encoding, warnings."""
     encoding: str | None = None
     if suffix in (".csv", ".tsv"):
-        rows, layout, encoding, warnings = read_delimited(path, data, mapping)
+        rows, layout, encoding, warnings = read_delimited(path, data, mapping, coded)
         if sheet is not None:
             warnings.append(f"File '{path.name}' has no sheets; the sheet {sheet!r} was ignored.")
     elif suffix in WORKBOOK_SUFFIXES:
-        rows, layout, warnings = read_workbook(path, data, sheet, mapping)
+        rows, layout, warnings = read_workbook(path, data, sheet, mapping, coded)
     else:
         if suffix == ".txt":
             lines, encoding, warnings = text_lines(path, data)

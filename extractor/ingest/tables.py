@@ -11,7 +11,7 @@ from __future__ import annotations
 import csv
 import io
 import re
-from collections.abc import Mapping
+from collections.abc import Collection, Mapping
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -20,6 +20,7 @@ from extractor.ingest.columns import (
     Columns,
     Grid,
     LayoutError,
+    answer_like_metadata,
     is_blank,
     is_yes,
     language_of_cell,
@@ -110,10 +111,46 @@ def _row_answers(table: _Table, number: int, cells: list[str | None]) -> list[di
     ]
 
 
+def _repeated_respondents(rows: list[dict[str, Any]], where: str) -> list[str]:
+    """Warn once when a wide table gives one respondent ID on more than one row.
+
+    A wide table has a row per respondent, so a repeated ID is stored as one respondent
+    with the answers of all its rows: right for a respondent continued on a second row,
+    wrong for a row entered twice or an ID typed twice, which only the user can tell.
+    (Rows whose metadata differ are named besides, by ``metadata_conflicts``.)
+    """
+    numbers: dict[str, list[int]] = {}
+    for row in rows:
+        found = numbers.setdefault(row["respondent"], [])
+        if row["row"] not in found:
+            found.append(row["row"])
+    repeated = [(rid, found) for rid, found in numbers.items() if len(found) > 1]
+    if not repeated:
+        return []
+    shown = "; ".join(
+        f"{rid!r} on rows {', '.join(map(str, found[:-1]))} and {found[-1]}"
+        for rid, found in repeated[:3]
+    )
+    more = f" (and {len(repeated) - 3} more IDs)" if len(repeated) > 3 else ""
+    return [
+        f"{where}: a respondent ID is repeated ({shown}{more}), so those rows were stored as "
+        "one respondent with the answers of every row; if a row was entered twice or two "
+        "people share an ID, correct the file and add it to a new workspace (this one keeps "
+        "what it stored)."
+    ]
+
+
 def table_rows(
-    grid: Grid, mapping: Mapping[str, Any] | None, where: str, sheet: str | None
+    grid: Grid,
+    mapping: Mapping[str, Any] | None,
+    where: str,
+    sheet: str | None,
+    coded: Collection[str] = (),
 ) -> tuple[list[dict[str, Any]], str, list[str]]:
     """Turn one table (header row first) into answer rows; return rows, layout and warnings.
+
+    ``coded`` are the question codebook's keys: a wide table's columns so headed are
+    questions (see :func:`~extractor.ingest.columns.resolve_columns`).
 
     Raises:
         InputError: For unusable columns, a bad language cell or an answer without a
@@ -121,22 +158,30 @@ def table_rows(
     """
     (_, header_cells), body = grid[0], grid[1:]
     headers = unique_headers(header_cells)
-    table = _Table(headers, resolve_columns(headers, body, mapping, where), where, sheet)
+    cols = resolve_columns(headers, body, mapping, where, coded)
+    table = _Table(headers, cols, where, sheet)
     warnings = _overflow_warnings(body, len(headers), where)
     rows = [row for number, cells in body for row in _row_answers(table, number, cells)]
+    if table.layout == "wide":
+        if not (mapping or {}).get("questions"):  # columns named by the user are not guessed
+            warnings += answer_like_metadata(headers, body, cols, where)
+        warnings += _repeated_respondents(rows, where)
     return rows, table.layout, warnings
 
 
 def read_delimited(
-    path: Path, data: bytes, mapping: Mapping[str, Any] | None
+    path: Path, data: bytes, mapping: Mapping[str, Any] | None, coded: Collection[str] = ()
 ) -> tuple[list[dict[str, Any]], str, str, list[str]]:
-    """Read a .csv or .tsv file; return ``(rows, layout, encoding, warnings)``."""
+    """Read a .csv or .tsv file; return ``(rows, layout, encoding, warnings)``.
+
+    ``coded`` are the question codebook's keys (see :func:`table_rows`).
+    """
     text, encoding, warnings = decode_text(data, path)
     delimiter = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(text)
     grid = drop_empty(_records(path, text, delimiter))
     if not grid:
         raise InputError(f"File '{path.name}' has no rows; export the interviews into it again.")
-    rows, layout, table_warnings = table_rows(grid, mapping, f"File '{path.name}'", None)
+    rows, layout, table_warnings = table_rows(grid, mapping, f"File '{path.name}'", None, coded)
     warnings += table_warnings
     if not rows:
         warnings.append(f"File '{path.name}' has a header but no answers.")
@@ -219,7 +264,11 @@ class _Sheets(NamedTuple):
 
 
 def _read_sheets(
-    sheets: list[Sheet], path: Path, sheet: str | None, mapping: Mapping[str, Any] | None
+    sheets: list[Sheet],
+    path: Path,
+    sheet: str | None,
+    mapping: Mapping[str, Any] | None,
+    coded: Collection[str],
 ) -> _Sheets:
     """Read the named sheet, or every visible one (skipping those without usable columns)."""
     read = _Sheets([], set(), [], [])
@@ -239,7 +288,7 @@ def _read_sheets(
                 "a spreadsheet programme, save it, and try again."
             )
         try:
-            sheet_rows, layout, sheet_warnings = table_rows(found.grid, mapping, where, name)
+            sheet_rows, layout, sheet_warnings = table_rows(found.grid, mapping, where, name, coded)
         except LayoutError as err:
             if sheet is not None:
                 raise
@@ -252,15 +301,20 @@ def _read_sheets(
 
 
 def read_workbook(
-    path: Path, data: bytes, sheet: str | None, mapping: Mapping[str, Any] | None
+    path: Path,
+    data: bytes,
+    sheet: str | None,
+    mapping: Mapping[str, Any] | None,
+    coded: Collection[str] = (),
 ) -> tuple[list[dict[str, Any]], str, list[str]]:
     """Read every visible sheet of a workbook (or the one named); return rows, layout, warnings.
 
     The workbook is an .xlsx, .xls or .ods file (:mod:`extractor.ingest.sheets`). When
     reading all sheets, a sheet whose columns cannot be recognised (a codebook, a notes
-    sheet) is skipped with a warning, unless no sheet can be read at all.
+    sheet) is skipped with a warning, unless no sheet can be read at all. ``coded`` are
+    the question codebook's keys (see :func:`table_rows`).
     """
-    read = _read_sheets(read_sheets(path, data, sheet), path, sheet, mapping)
+    read = _read_sheets(read_sheets(path, data, sheet), path, sheet, mapping, coded)
     if not read.layouts:
         if read.skipped:
             raise read.skipped[0]

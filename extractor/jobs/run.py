@@ -21,7 +21,7 @@ from extractor.ingest.intake import (
 )
 from extractor.jobs.add import AddReport, intake_report
 from extractor.jobs.export import ExportResult, export_workbook
-from extractor.jobs.inputs import stance_params
+from extractor.jobs.inputs import question_codebook, stance_params
 from extractor.jobs.status import WorkspaceCounts
 from extractor.jobs.tag import TagReport, ensure_tagged, tag
 from extractor.jobs.train import TrainReport, train
@@ -225,7 +225,7 @@ def run(ws: Workspace, *, retrain: bool = False) -> RunReport:
     files = interview_files(ws.path("interviews"))
     lists = imported_lists(ws, files)
     files = [path for path in files if path not in lists]
-    added = add_files(ws, files) if files else []
+    added = add_files(ws, files, coded=question_codebook(ws)) if files else []
     intake = intake_report(ws, added) if any(report.answers for report in added) else None
     after = store.counts(ws.conn)
     new = NewSince(

@@ -207,3 +207,47 @@ def test_status_shows_the_language_tags_row_only_when_it_says_more(tmp_path: Pat
     code, out = run("-w", str(ws), "status")
     row = next(line for line in out.splitlines() if "language tags" in line)
     assert code == 0 and "es-419 1" in row
+
+
+_SHORT_WIDE = (
+    "respondent_id,gender,district,why_grow,dislike_q\n"
+    'VK-01,female,Lindaro,"It grows fast, and we like the taste.",The grain is small.\n'
+    'VK-02,male,Lindaro,"It sells well at the Tessaly market.",Low price.\n'
+)
+
+
+@pytest.mark.parametrize(
+    "codebook",
+    [
+        ("questions.csv", "question,text,direction\ndislike_q,,dislikes\n"),
+        ("traits.toml", '[codebook]\ndislike_q = "dislikes"\n'),
+    ],
+    ids=["questions file", "codebook in traits.toml"],
+)
+def test_add_reads_a_wide_column_the_codebook_names_as_a_question(
+    tmp_path: Path, codebook: tuple[str, str]
+) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    name, text = codebook
+    path = ws / name
+    if path.exists():  # the template's [codebook] section, filled in
+        text = path.read_text(encoding="utf-8").replace("[codebook]\n", text)
+    path.write_text(text, encoding="utf-8")
+    answers = tmp_path / "short.csv"
+    answers.write_text(_SHORT_WIDE, encoding="utf-8")
+    code, out = run("-w", str(ws), "add", str(answers))
+    assert code == 0 and "read like answers" not in out
+    _, status = run("-w", str(ws), "status", "--json")
+    assert json.loads(status)["answers"] == 4
+
+
+def test_add_warns_when_short_answers_are_kept_as_metadata(tmp_path: Path) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    answers = tmp_path / "short.csv"
+    answers.write_text(_SHORT_WIDE, encoding="utf-8")
+    code, out = run("-w", str(ws), "add", str(answers))
+    assert code == 0
+    said = " ".join(out.split())
+    assert "warning: File 'short.csv', column 'dislike_q': its values read like answers" in said

@@ -6,11 +6,13 @@ English, French and Spanish.
 
 from __future__ import annotations
 
+import csv
 from pathlib import Path
 
 import pytest
 
 from extractor.errors import InputError
+from extractor.ingest.columns import is_blank
 from extractor.types import AnswerRow
 from tests.ingest.interview_files import (
     EN_1,
@@ -19,6 +21,7 @@ from tests.ingest.interview_files import (
     read,
     write_xlsx,
 )
+from tests.maize import CODEBOOK, SKIP_REASON, load_answers
 
 
 def test_read_wide_layout_turns_free_text_columns_into_questions(tmp_path: Path) -> None:
@@ -107,3 +110,114 @@ def test_read_unknown_language_tag_names_row_and_column(tmp_path: Path) -> None:
     with pytest.raises(InputError, match=r"'survey\.xlsx', sheet 'Kibali', row 3, column "
                                          r"'Idioma': the language 'zz-top'"):  # fmt: skip
         read(path)
+
+
+# --- short answers in a wide table: the codebook's questions, a warning otherwise ---------
+
+SHORT_WIDE = (
+    "respondent_id,gender,role,district,why_grow,dislike_q\n"
+    'VK-01,female,farmer,Lindaro,"It grows fast, and we like the taste.",The grain is small.\n'
+    'VK-02,male,trader,Lindaro,"It sells well at the Tessaly market, they ask for it.",Low price.\n'
+    'VK-03,female,farmer,Morvane,"It matures early, before the hungry months.",It rots.\n'
+)
+
+
+def test_read_wide_layout_takes_a_codebook_question_however_short_its_answers(
+    tmp_path: Path,
+) -> None:
+    path = tmp_path / "short.csv"
+    path.write_text(SHORT_WIDE, encoding="utf-8")
+    result = read(path, coded={"dislike_q"})
+    assert [(r.respondent, r.question) for r in result.rows if r.question == "dislike_q"] == [
+        ("VK-01", "dislike_q"), ("VK-02", "dislike_q"), ("VK-03", "dislike_q"),
+    ]  # fmt: skip
+    assert len(result.rows) == 6
+    assert result.rows[0].metadata == {"gender": "female", "role": "farmer", "district": "Lindaro"}
+    assert not any("read like answers" in w for w in result.warnings)
+
+
+def test_read_wide_layout_warns_about_metadata_that_reads_like_answers(tmp_path: Path) -> None:
+    path = tmp_path / "short.csv"
+    path.write_text(SHORT_WIDE, encoding="utf-8")
+    result = read(path)
+    assert len(result.rows) == 3  # nothing else changes: the column stays metadata
+    assert result.rows[0].metadata["dislike_q"] == "The grain is small."
+    (warning,) = [w for w in result.warnings if "read like answers" in w]
+    assert warning.startswith("File 'short.csv', column 'dislike_q': ")
+    assert "'The grain is small.'" in warning
+    assert "questions.csv" in warning and "[codebook]" in warning
+    assert 'questions = ["dislike_q", ...] under [columns] in traits.toml' in warning
+
+
+@pytest.mark.parametrize(
+    "values",
+    [
+        ["Lindaro", "Upper Morvane", "Tessaly", "Lindaro East"],
+        ["farmer and trader", "farmer", "trader", "farmer and trader", "processor"],
+        ["18-29", "30-45", "45 and over", "30-45"],
+        ["12 March 2025", "2025-03-14", "14/03/2025", "3 Apr. 2025"],
+        ["Maria da Silva", "Amina Kessy", "Jean de la Croix", "Tomas Ruvaro"],
+        ["primary school completed", "no formal education", "university degree", "none"],
+    ],
+    ids=["villages", "roles", "age groups", "dates", "names", "education"],
+)
+def test_read_wide_layout_does_not_warn_about_ordinary_metadata(
+    tmp_path: Path, values: list[str]
+) -> None:
+    path = tmp_path / "wide.csv"
+    lines = ["Respondent,Info,Why do you grow it?"] + [
+        f'R{i},{v},"{EN_1}"' for i, v in enumerate(values)
+    ]
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    result = read(path)
+    assert result.rows[0].metadata == {"info": values[0]}
+    assert result.warnings == []
+
+
+def test_read_demo_files_warn_of_no_metadata_column() -> None:
+    # The invented demo's wide CSV and long workbook (smoke check: categorical metadata).
+    folder = Path(__file__).resolve().parents[2] / "sample_interviews" / "interviews"
+    for path in sorted(folder.glob("*.csv")) + sorted(folder.glob("*.xlsx")):
+        assert not any("read like answers" in w for w in read(path).warnings), path.name
+
+
+def test_read_maize_survey_as_a_wide_table_warns_of_no_metadata_column(tmp_path: Path) -> None:
+    # Real answers (tests/maize.py): one row per farmer, metadata then the two questions.
+    answers = load_answers()
+    if answers is None:
+        pytest.skip(SKIP_REASON)
+    people: dict[str, dict[str, str]] = {}
+    for row in answers:
+        person = people.setdefault(row["respondent"], {
+            k: row[k] for k in ("respondent", "country", "gender", "age_group", "language")
+        })  # fmt: skip
+        person[row["question"]] = row["answer"]
+    path = tmp_path / "maize_wide.csv"
+    columns = ["respondent", "country", "gender", "age_group", "language", *CODEBOOK]
+    with path.open("w", encoding="utf-8", newline="") as handle:
+        writer = csv.DictWriter(handle, columns)
+        writer.writeheader()
+        writer.writerows(people.values())
+    result = read(path, coded=set(CODEBOOK))
+    assert not any("read like answers" in w for w in result.warnings)
+    assert len(result.rows) == sum(1 for row in answers if not is_blank(row["answer"]))
+    assert set(result.rows[0].metadata) == {"country", "gender", "age_group"}
+
+
+# --- which missing column is named first --------------------------------------------------
+
+
+def test_read_short_answers_without_ids_names_the_missing_id_column(tmp_path: Path) -> None:
+    path = tmp_path / "noid.csv"
+    path.write_text(
+        "gender,district,dislike_q\nfemale,Lindaro,The grain is small.\nmale,Lindaro,Low price.\n",
+        encoding="utf-8",
+    )
+    both = (r"'noid\.csv': no respondent ID column was recognised, nor any answer column "
+            r".*--respondent-column.*--answer-column.*question codebook")  # fmt: skip
+    with pytest.raises(InputError, match=both):
+        read(path)
+    # With the column in the codebook only the IDs are missing, and only they are named.
+    with pytest.raises(InputError, match=r"no respondent ID column was recognised \(") as err:
+        read(path, coded={"dislike_q"})
+    assert "answer column" not in str(err.value)

@@ -169,3 +169,32 @@ def test_read_csv_multiline_answer_with_commas_is_kept(tmp_path: Path) -> None:
     path.write_text('respondent,answer\nKA-01,"It cooks fast.\nAlso, the taste, is good."\n')
     result = read(path)
     assert [r.answer for r in result.rows] == ["It cooks fast.\nAlso, the taste, is good."]
+
+
+def test_read_wide_layout_warns_once_naming_repeated_respondent_ids(tmp_path: Path) -> None:
+    path = tmp_path / "dup.csv"
+    path.write_text(
+        "respondent_id,gender,Why do you grow it?\n"
+        f'VK-01,female,"{EN_1}"\nVK-02,male,"{EN_2}"\nVK-01,female,"{FR_1}"\n'
+        f'VK-02,male,"{EN_1}"\nVK-03,male,"{EN_2}"\n',
+        encoding="utf-8",
+    )
+    result = read(path)
+    # Every row's answer is kept, under the one respondent.
+    assert [(r.respondent, r.row) for r in result.rows] == [
+        ("VK-01", 2), ("VK-02", 3), ("VK-01", 4), ("VK-02", 5), ("VK-03", 6),
+    ]  # fmt: skip
+    (warning,) = [w for w in result.warnings if "repeated" in w]
+    assert warning.startswith("File 'dup.csv': a respondent ID is repeated ")
+    assert "('VK-01' on rows 2 and 4; 'VK-02' on rows 3 and 5)" in warning
+    assert "one respondent" in warning
+
+
+def test_read_long_layout_does_not_warn_about_a_respondent_on_several_rows(
+    tmp_path: Path,
+) -> None:
+    path = tmp_path / "long.csv"
+    path.write_text(
+        f'Respondent,Question,Answer\nR1,Why?,"{EN_1}"\nR1,Why not?,"{EN_2}"\n', encoding="utf-8"
+    )
+    assert read(path).warnings == []

@@ -264,3 +264,30 @@ def test_silent_languages_are_those_where_neither_model_nor_person_found_a_trait
         first_sw = next(s for s in sentences if s.lang == "sw")
         store.add_label(ws.conn, first_sw.id, [Span(0, 6, "CSV:01", "disliked")], "ana")
         assert run_job.silent_languages(ws, "v1") == ()
+
+
+def test_run_reads_a_wide_column_the_codebook_names_as_a_question(tmp_path: Path) -> None:
+    # `traits run` reads new interview files as `traits add` does: with the codebook.
+    ws_root = tmp_path / "ws"
+    assert run("init", str(ws_root))[0] == 0
+    (ws_root / "questions.csv").write_text(
+        "question,text,direction\ndislike_q,What do you dislike about it?,dislikes\n",
+        encoding="utf-8",
+    )
+    (ws_root / "concepts.csv").write_text(
+        "id,label,lang,synonyms,parent,definition\nZQX:01,grain size,en,grain|small grain,,\n",
+        encoding="utf-8",
+    )
+    (ws_root / "interviews" / "short.csv").write_text(
+        "respondent_id,gender,why_grow,dislike_q\n"
+        'VK-01,female,"It grows fast, and we like the small grain.",The grain is small.\n'
+        'VK-02,male,"The small grain sells well at the Tessaly market.",Low price.\n',
+        encoding="utf-8",
+    )
+    code, out = run("-w", str(ws_root), "run")
+    assert code == 0, out
+    with Workspace.open(ws_root) as ws:
+        assert store.counts(ws.conn)["answers"] == 4
+        assert {key for person in store.respondents(ws.conn) for key in person} == {
+            "respondent", "is_group", "gender",
+        }  # fmt: skip
