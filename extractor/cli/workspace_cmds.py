@@ -123,13 +123,6 @@ def cmd_add(args: argparse.Namespace, console: Console) -> int:
         print_warnings(console, report.warnings)
     print_languages(console, added.languages)
     print_unlisted(console, added.unlisted)
-    if added.languages and not added.concept_list:
-        console.print(
-            "note: no concept list is imported yet, so languages were told apart among the "
-            "settings' languages only; after `traits concepts import FILE`, run "
-            "`traits language detect --all` if some are wrong.",
-            highlight=False,
-        )
     print_unknown_questions(console, added.unknown_questions)
     return 0
 
@@ -197,12 +190,21 @@ def print_languages(
     """Print the languages of the stored sentences and what each of them lacks.
 
     ``cues_told`` are languages whose lack of stance cues another note of the same
-    command already states (training's, in `traits run`): it is not said twice.
+    command already states (training's, in `traits run`): it is not said twice. Before
+    any concept list is stored, that is said once, not as each language's lack of synonyms.
     """
     if not languages:
         return
     found = ", ".join(f"{lang.tag} {lang.sentences}" for lang in languages)
     console.print(f"Languages of the stored sentences: {found}.", highlight=False)
+    if not languages[0].concept_list:
+        console.print(
+            "note: no concept list is imported yet (until it is, no language has synonyms "
+            "and languages are told apart among the settings' languages only); import it "
+            "with `traits concepts import FILE`, then run `traits language detect --all` if "
+            "some answers' languages are wrong.",
+            highlight=False,
+        )
     for lang in languages:
         told = ("stance cues",) if lang.tag in cues_told else ()
         missing = [what for what in lang.lacks if what not in told]

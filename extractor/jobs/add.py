@@ -28,18 +28,21 @@ class LanguageFound:
         sentences: Stored sentences in this language.
         synonyms: Aliases of the current concept list in this language.
         support: What the installed libraries give this language.
+        concept_list: Whether a concept list is stored at all: before one is imported,
+            no language lacks synonyms of its own (the list is what is missing).
     """
 
     tag: str
     sentences: int
     synonyms: int
     support: LanguageSupport
+    concept_list: bool = True
 
     @property
     def lacks(self) -> tuple[str, ...]:
-        """What the language has none of: synonyms, stance cues, a spaCy pipeline."""
+        """What the language has none of: synonyms (of a stored list), stance cues, spaCy."""
         missing = []
-        if not self.synonyms:
+        if self.concept_list and not self.synonyms:
             missing.append("synonyms")
         if not self.support.stance_cues:
             missing.append("stance cues")
@@ -105,7 +108,8 @@ def stored_languages(ws: Workspace) -> tuple[LanguageFound, ...]:
     """Return the languages of the stored sentences, most sentences first.
 
     A language counts as having stance cues when the packaged lexicon or the
-    workspace's own cue file has stance words for it.
+    workspace's own cue file has stance words for it; it lacks synonyms only once a
+    concept list is stored.
     """
     cues = load_cues(stance_params(ws)["cues_path"])
     synonyms: dict[str, int] = {}
@@ -113,8 +117,9 @@ def stored_languages(ws: Workspace) -> tuple[LanguageFound, ...]:
         code = primary_subtag(alias.lang)
         synonyms[code] = synonyms.get(code, 0) + 1
     counts = store.counts(ws.conn)["languages"]
+    listed = store.current_concept_version(ws.conn, "trait") is not None
     return tuple(
-        LanguageFound(tag, n, synonyms.get(tag, 0), _support(tag, cues))
+        LanguageFound(tag, n, synonyms.get(tag, 0), _support(tag, cues), listed)
         for tag, n in sorted(counts.items(), key=lambda kv: (-kv[1], kv[0]))
     )
 

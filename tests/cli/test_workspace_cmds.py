@@ -209,6 +209,19 @@ def test_status_shows_the_language_tags_row_only_when_it_says_more(tmp_path: Pat
     assert code == 0 and "es-419 1" in row
 
 
+def test_first_add_says_no_concept_list_is_imported_not_that_a_language_lacks_synonyms(
+    tmp_path: Path,
+) -> None:
+    ws = tmp_path / "ws"
+    assert run("init", str(ws))[0] == 0
+    code, out = run("-w", str(ws), "add", str(_answers(tmp_path / "answers.csv")))
+    assert code == 0
+    said = " ".join(out.split())
+    assert "no synonyms in the concept list" not in said
+    assert said.count("no concept list is imported yet") == 1
+    assert "import it with `traits concepts import FILE`" in said
+
+
 _SHORT_WIDE = (
     "respondent_id,gender,district,why_grow,dislike_q\n"
     'VK-01,female,Lindaro,"It grows fast, and we like the taste.",The grain is small.\n'
