@@ -18,6 +18,7 @@ import pandas as pd
 
 from extractor.models.variety import Attribution, attribute_corpus
 from extractor.report.about import RunFacts
+from extractor.report.inputs import OPTIONAL_MENTION_COLUMNS, REQUIRED_MENTION_COLUMNS
 from extractor.report.metadata import FIXED_KEYS, Harmonised, harmonise
 from extractor.types import Sentence, Span
 from extractor.workspace import store
@@ -185,6 +186,8 @@ def mention_frame(ws: Workspace, version: str | None) -> pd.DataFrame:
                 m | {"annotator": None, "model_version": version} for m in predicted[sid].mentions
             ]
         rows.extend(_mention_row(sentence, m, concept_names, variety) for m in found)
+    if not rows:  # no trait anywhere yet: the empty table still has its columns
+        return pd.DataFrame(columns=[*REQUIRED_MENTION_COLUMNS, *OPTIONAL_MENTION_COLUMNS])
     return pd.DataFrame(rows)
 
 

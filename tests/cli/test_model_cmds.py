@@ -11,7 +11,7 @@ import pytest
 
 from extractor.jobs import run as run_job
 from extractor.workspace import store
-from tests.jobs.study import labeled, run
+from tests.jobs.study import label_line, labeled, run
 from tests.report.study import VERSION, build_workspace
 
 
@@ -278,3 +278,35 @@ def test_pseudonymised_export_names_the_phone_regions_it_screened(tmp_path: Path
     assert code == 0 and "phone region" not in out
     about = _about(root / "exports" / "preferred_traits_pseudonymised.xlsx")
     assert "national numbering plans of MZ" in about["Phone formats screened"]
+
+
+def test_run_with_no_trait_anywhere_writes_an_empty_workbook(tmp_path: Path) -> None:
+    # Every sentence labelled "no trait here", and the model finds none: the run used to
+    # stop at "The mentions table lacks the column(s) respondent, ...; it has none."
+    root = tmp_path / "ws"
+    assert run("init", str(root))[0] == 0
+    answers = root / "interviews" / "a.csv"
+    answers.write_text(
+        "respondent,gender,question,answer\n"
+        "R-01,female,Why?,We plant it near the river.\n"
+        "R-02,male,Why?,My uncle gave it to me.\n",
+        encoding="utf-8",
+    )
+    (root / "list.csv").write_text("id,label\nXQ:1,striga resistance\n", encoding="utf-8")
+    labels = root / "labels.jsonl"
+    labels.write_text(
+        "".join(
+            label_line(r, text, []) + "\n"
+            for r, text in (
+                ("R-01", "We plant it near the river."),
+                ("R-02", "My uncle gave it to me."),
+            )
+        ),
+        encoding="utf-8",
+    )
+    assert run("-w", str(root), "concepts", "import", str(root / "list.csv"))[0] == 0
+    assert run("-w", str(root), "import-labels", str(labels))[0] == 0
+    code, out = run("-w", str(root), "run")
+    assert code == 0, out
+    sheet = pd.read_excel(root / "exports" / "preferred_traits.xlsx", sheet_name="Mentions")
+    assert len(sheet) == 0 and "Respondent" in sheet.columns
