@@ -40,7 +40,8 @@ import snowballstemmer
 from extractor.errors import InputError
 from extractor.nlp.derivation import derivation_clash
 from extractor.nlp.fold import fold
-from extractor.nlp.nontrait import never_alone
+from extractor.nlp.lemmas import lemma
+from extractor.nlp.nontrait import is_function_word, never_alone
 from extractor.nlp.text import primary_subtag, tokenize
 from extractor.types import Sentence, Span
 
@@ -89,6 +90,19 @@ def stem_word(word: str, lang: str) -> str:
     return fold(stemmer.stemWord(folded) if stemmer else folded)
 
 
+def lemma_key(word: str, lang: str, stem_lang: str, known: frozenset[str]) -> str | None:
+    """Return the key of the word's lemma when an alias holds it, else None.
+
+    Only content words: a function word, or a word whose lemma is one, keeps its own
+    key (simplemma reads Spanish "lo" as "él" and "muy" as "mucho").
+    """
+    base = lemma(word, lang)
+    if base is None or is_function_word(word, lang) or is_function_word(base, lang):
+        return None
+    key = stem_word(base, stem_lang)
+    return key if key in known else None
+
+
 class _Candidate(NamedTuple):
     first: int  # token index of the first token
     stop: int  # token index after the last token
@@ -111,13 +125,14 @@ class _Matcher(NamedTuple):
 class _WordKeys(dict[str, tuple[str | None, ...] | None]):
     """Word -> its keys under the matchers of one sentence language (``Dictionary._keys_of``)."""
 
-    def __init__(self, dictionary: Dictionary, plan: list[tuple[str, bool]]) -> None:
+    def __init__(self, dictionary: Dictionary, plan: list[tuple[str, bool]], code: str) -> None:
         super().__init__()
         self.dictionary = dictionary
         self.plan = plan
+        self.code = code  # the sentences' primary language subtag, for lemmas
 
     def __missing__(self, word: str) -> tuple[str | None, ...] | None:
-        keys = self[word] = self.dictionary._keys_of(word, self.plan)
+        keys = self[word] = self.dictionary._keys_of(word, self.plan, self.code)
         return keys
 
 
@@ -139,7 +154,7 @@ class Dictionary:
         self._alias_langs = alias_langs
         self._matchers: dict[tuple[str, bool], _Matcher] = {}
         self._plans: dict[str, list[tuple[str, bool]]] = {}
-        self._word_keys: dict[str, _WordKeys] = {}
+        self._word_keys: dict[tuple[str, str], _WordKeys] = {}
         self._gap_index: dict[
             tuple[str, str], dict[str, list[tuple[tuple[str, ...], list[_Entry]]]]
         ] = {}
@@ -203,14 +218,14 @@ class Dictionary:
         words = [text[s:e] for s, e in token_offsets]
         sent_stem = stemmer_language(lang)
         plan = self._plan(sent_stem)
-        table = self._word_keys.get(sent_stem)
+        sent_code = _code(lang)
+        table = self._word_keys.get((sent_stem, sent_code))
         if table is None or len(table) >= _WORD_CACHE_LIMIT:
-            table = self._word_keys[sent_stem] = _WordKeys(self, plan)
+            table = self._word_keys[sent_stem, sent_code] = _WordKeys(self, plan, sent_code)
         rows = [table[w] for w in words]
         if not any(rows):
             return []  # no word of the sentence is part of any alias (most sentences)
         forms = [fold(w) for w in words]
-        sent_code = _code(lang)
         candidates: list[_Candidate] = []
         for m, (stem_lang, only_own) in enumerate(plan):
             keys = [row[m] if row else None for row in rows]
@@ -291,16 +306,25 @@ class Dictionary:
             self._plans[sent_stem] = [(sent_stem, False), *others]
         return self._plans[sent_stem]
 
-    def _keys_of(self, word: str, plan: list[tuple[str, bool]]) -> tuple[str | None, ...] | None:
+    def _keys_of(
+        self, word: str, plan: list[tuple[str, bool]], code: str
+    ) -> tuple[str | None, ...] | None:
         """Return a word's key under each matcher of ``plan``, ``None`` where no alias uses it.
 
+        A word whose own key no alias holds takes its lemma's key when an alias holds
+        that (:func:`lemma_key`): "sweeter" meets "sweet", "grown" "grow". ``code`` is
+        the sentence's language, whose lemma table the first matcher reads; the others
+        hold the aliases of one other language each and read that language's table.
         ``None`` instead of the tuple when no matcher knows the word's key: a key that no
         alias holds can be part of no match, so such words are skipped at once.
         """
         keys = []
-        for stem_lang, only_own in plan:
-            key = stem_word(word, stem_lang)
-            keys.append(key if key in self._matcher(stem_lang, only_own).known else None)
+        for k, (stem_lang, only_own) in enumerate(plan):
+            known = self._matcher(stem_lang, only_own).known
+            key: str | None = stem_word(word, stem_lang)
+            if key not in known:
+                key = lemma_key(word, code if k == 0 else stem_lang, stem_lang, known)
+            keys.append(key)
         return tuple(keys) if any(k is not None for k in keys) else None
 
     def match_many(self, sentences: Iterable[Sentence]) -> list[list[Span]]:
