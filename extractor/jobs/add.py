@@ -153,8 +153,11 @@ def add_interviews(
     Raises:
         InputError: a file is missing or cannot be read (nothing is stored then).
     """
-    coded = question_codebook(ws) if paths else {}
-    files = add_files(ws, paths, sheet=sheet, mapping=mapping, coded=coded) if paths else []
+    files = (
+        add_files(ws, paths, sheet=sheet, mapping=mapping, coded=question_codebook(ws))
+        if paths
+        else []
+    )
     if metadata:
         store.add_metadata_renames(ws.conn, metadata)
     return intake_report(ws, files)

@@ -156,7 +156,7 @@ def concepts_started(query: str, entries: Sequence[ConceptEntry]) -> set[str]:
     """Return the concepts with a name, or a word of a name, that the letters begin.
 
     "tast" begins "taste" and "yie" the word "yield" of "grain yield"; letters found only
-    inside a name or scattered along it ("tast" in "drought tolerance") do not count.
+    inside a name or scattered along it ("tast" in "striga resistance") do not count.
     """
     wanted = fold(query.strip())
     if not wanted:

@@ -96,8 +96,10 @@ def lemma_key(word: str, lang: str, stem_lang: str, known: frozenset[str]) -> st
     Only content words: a function word, or a word whose lemma is one, keeps its own
     key (simplemma reads Spanish "lo" as "él" and "muy" as "mucho").
     """
+    if is_function_word(word, lang):
+        return None
     base = lemma(word, lang)
-    if base is None or is_function_word(word, lang) or is_function_word(base, lang):
+    if base is None or is_function_word(base, lang):
         return None
     key = stem_word(base, stem_lang)
     return key if key in known else None

@@ -153,12 +153,15 @@ def _price_range(s: str) -> bool:
     return ends is not None and int(ends[1]) < int(ends[2])
 
 
+def _date_years_or_range(s: str) -> bool:
+    """Whether digits with separators are a date, a year range or a price range."""
+    return bool(_DATE.fullmatch(s) or _YEARS.fullmatch(s) or _price_range(s))
+
+
 def _grouped_phone(s: str) -> bool:
     """Whether digit groups are a phone number rather than an amount, a date or years."""
     digits = re.sub(r"\D", "", s)
-    if not MIN_PHONE_DIGITS <= len(digits) <= MAX_PHONE_DIGITS:
-        return False
-    if _DATE.fullmatch(s) or _YEARS.fullmatch(s) or _price_range(s):
+    if not MIN_PHONE_DIGITS <= len(digits) <= MAX_PHONE_DIGITS or _date_years_or_range(s):
         return False
     groups = re.findall(r"\d+", s)
     if all(len(g) == 4 and g[:2] in ("19", "20") for g in groups):
@@ -170,7 +173,7 @@ def _grouped_phone(s: str) -> bool:
 
 def _not_an_id(s: str) -> bool:
     """Whether digits joined by dashes or slashes are a date, years or a round range."""
-    if _DATE.fullmatch(s) or _YEARS.fullmatch(s) or _price_range(s):
+    if _date_years_or_range(s):
         return True
     groups = re.split(r"[/\-]", s)
     return len(groups) == 2 and all(g.endswith("00") for g in groups)
@@ -187,7 +190,7 @@ def grouped_phones(text: str) -> list[tuple[int, int]]:
 
 
 def phone_formats(regions: Iterable[str]) -> str:
-    """Return, in one sentence, which phone formats a screening with ``regions`` finds."""
+    """Return, as a sentence, which phone formats a screening with ``regions`` finds."""
     named = sorted({r.upper() for r in regions})
     plans = (
         f"the national numbering plans of {', '.join(named)}"
@@ -195,7 +198,7 @@ def phone_formats(regions: Iterable[str]) -> str:
         else "no national numbering plan (no phone region known)"
     )
     return (
-        "international (+ or 00), national with a leading 0, "
+        "International (+ or 00), national with a leading 0, "
         f"{MIN_PHONE_DIGITS} to {MAX_PHONE_DIGITS} digits written in groups "
         f"(not amounts ending in 00, dates or years), and {plans}"
     )

@@ -106,7 +106,7 @@ def _privacy_rows(
         formats += "; set phone_regions under [export] in traits.toml for national formats"
     return [
         ("Columns dropped as identifying", listed),
-        ("Phone formats screened", formats[0].upper() + formats[1:]),
+        ("Phone formats screened", formats),
     ]
 
 
